@@ -1,0 +1,25 @@
+/** Turning a thrown value into a message and an exit code, so no stack trace reaches a user. */
+import { InputError } from '../errors.ts';
+
+/** Print the failure to stderr and return the exit code: 2 for bad input, 1 for an internal fault. */
+export function reportFailure(err: unknown): number {
+  if (err instanceof InputError) {
+    process.stderr.write(`nkledger: ${err.describe()}\n`);
+    return 2;
+  }
+  const message = err instanceof Error ? err.message : String(err);
+  process.stderr.write(`nkledger: internal error: ${message}\n`);
+  if (process.env.NKLEDGER_DEBUG && err instanceof Error && err.stack) process.stderr.write(`${err.stack}\n`);
+  return 1;
+}
+
+/** Wrap a command action so thrown errors become a message and an exit code. */
+export function guarded<A extends unknown[]>(action: (...args: A) => Promise<void> | void): (...args: A) => Promise<void> {
+  return async (...args: A) => {
+    try {
+      await action(...args);
+    } catch (err) {
+      process.exitCode = reportFailure(err);
+    }
+  };
+}

@@ -1,0 +1,67 @@
+/**
+ * Errors that reach a user. Every refusal of input is a value with a place:
+ * the file, the 1-based line and column (as an editor shows them) and the rule broken.
+ * The CLI maps these to exit code 2, the HTTP API to an RFC 9457 problem document.
+ */
+
+export interface InputLocation {
+  /** File name as the user gave it ("-" or "<stdin>" for standard input, "<upload>" for HTTP). */
+  file?: string;
+  /** 1-based line number. */
+  line?: number;
+  /** 1-based column number (the field position in delimited text, or the character column). */
+  column?: number;
+}
+
+/** A refusal of user input: bad file, bad flag, bad reference. Maps to exit code 2 / HTTP 4xx. */
+export class InputError extends Error {
+  readonly rule: string;
+  readonly location: InputLocation;
+  /** HTTP status an API should answer with (400 bad request by default). */
+  readonly status: number;
+
+  constructor(rule: string, message: string, location: InputLocation = {}, status = 400) {
+    super(message);
+    this.name = 'InputError';
+    this.rule = rule;
+    this.location = location;
+    this.status = status;
+  }
+
+  /** "file:line:col: message [rule]", the form compilers use so editors can jump to it. */
+  describe(): string {
+    return `${formatLocation(this.location)}${this.message} [${this.rule}]`;
+  }
+}
+
+/** A thing that was asked for by name and does not exist (unknown material, version). HTTP 404. */
+export class NotFoundError extends InputError {
+  constructor(message: string, rule = 'not-found') {
+    super(rule, message, {}, 404);
+    this.name = 'NotFoundError';
+  }
+}
+
+/** A request that conflicts with the registry's rules (approve your own draft, change an approved version). HTTP 409. */
+export class ConflictError extends InputError {
+  constructor(message: string, rule = 'conflict') {
+    super(rule, message, {}, 409);
+    this.name = 'ConflictError';
+  }
+}
+
+/** A numerical computation that could not produce a trustworthy result (singular matrix, divergence). */
+export class NumericalError extends InputError {
+  constructor(message: string, rule = 'numerical-failure') {
+    super(rule, message, {}, 422);
+    this.name = 'NumericalError';
+  }
+}
+
+export function formatLocation(loc: InputLocation): string {
+  const parts: string[] = [];
+  if (loc.file !== undefined) parts.push(loc.file);
+  if (loc.line !== undefined) parts.push(String(loc.line));
+  if (loc.line !== undefined && loc.column !== undefined) parts.push(String(loc.column));
+  return parts.length ? `${parts.join(':')}: ` : '';
+}
