@@ -1,0 +1,35 @@
+/**
+ * Access tokens and server settings for the HTTP API. Kept apart from the record schema
+ * (schema.ts) so the API's tables have their own migration; drizzle-kit picks both up through
+ * the glob "./src/registry/schema*.ts".
+ */
+import { sqliteTable, text } from 'drizzle-orm/sqlite-core';
+
+/** Roles in increasing power; each role may do everything the roles before it may. */
+export const TOKEN_ROLES = ['reader', 'editor', 'approver', 'admin'] as const;
+export type TokenRole = (typeof TOKEN_ROLES)[number];
+
+/**
+ * One bearer token. Only the SHA-256 of the secret is stored: a copied database hands out no
+ * working tokens. `revokedAt` set means the token is refused; the row stays for the audit trail.
+ */
+export const apiTokens = sqliteTable('api_tokens', {
+  id: text('id').primaryKey(),
+  user: text('user').notNull(),
+  role: text('role', { enum: TOKEN_ROLES }).notNull(),
+  /** Lower-case hex SHA-256 of the full token string. */
+  tokenSha256: text('token_sha256').notNull().unique(),
+  /** ISO 8601 UTC. */
+  createdAt: text('created_at').notNull(),
+  createdBy: text('created_by').notNull(),
+  revokedAt: text('revoked_at'),
+  revokedBy: text('revoked_by'),
+});
+
+/** Server settings as key/value; values are JSON text so booleans and lists round-trip. */
+export const apiSettings = sqliteTable('api_settings', {
+  key: text('key').primaryKey(),
+  valueJson: text('value_json').notNull(),
+  updatedAt: text('updated_at').notNull(),
+  updatedBy: text('updated_by').notNull(),
+});

@@ -1,0 +1,101 @@
+/**
+ * Server settings kept in the registry (table api_settings), so a running `nkledger serve` and the
+ * CLI agree on them. The catalogue below is the only place a setting is defined: its value schema,
+ * default, and meaning; the CLI, the API and the docs iterate it.
+ */
+import { eq } from 'drizzle-orm';
+import { z } from 'zod';
+import { apiSettings } from '../registry/schema-auth.ts';
+import { InputError } from '../errors.ts';
+import type { AuthStore } from './tokens.ts';
+
+interface SettingDefinition<T> {
+  schema: z.ZodType<T>;
+  default: T;
+  meaning: string;
+  /** Parse the text a person types on the command line. */
+  parseText(text: string): unknown;
+}
+
+const origin = z
+  .string()
+  .regex(/^https?:\/\/[A-Za-z0-9.-]+(:\d{1,5})?$/, 'an origin is scheme://host[:port], no path, e.g. https://design.example.org');
+
+export const SETTINGS = {
+  anonymous_reads: {
+    schema: z.enum(['auto', 'on', 'off']),
+    default: 'auto',
+    meaning: 'reads without a token: "auto" allows them only when the server is bound to a loopback address',
+    parseText: (t: string) => t,
+  } satisfies SettingDefinition<'auto' | 'on' | 'off'>,
+  cors_origins: {
+    schema: z.array(origin).max(64),
+    default: [] as string[],
+    meaning: 'browser origins allowed to call the API (CORS allow-list); empty allows none',
+    parseText: (t: string) => t.split(',').map((s) => s.trim()).filter(Boolean),
+  } satisfies SettingDefinition<string[]>,
+  max_body_bytes: {
+    schema: z.number().int().min(1024).max(256 * 1024 * 1024),
+    default: 8 * 1024 * 1024,
+    meaning: 'largest request body accepted, in bytes (uploads beyond it get 413)',
+    parseText: (t: string) => Number(t),
+  } satisfies SettingDefinition<number>,
+  max_nk_points: {
+    schema: z.number().int().min(1).max(1_000_000),
+    default: 10_000,
+    meaning: 'most wavelengths one n,k request may evaluate',
+    parseText: (t: string) => Number(t),
+  } satisfies SettingDefinition<number>,
+};
+
+export type SettingKey = keyof typeof SETTINGS;
+export type Settings = { [K in SettingKey]: z.infer<(typeof SETTINGS)[K]['schema']> };
+export const SETTING_KEYS = Object.keys(SETTINGS) as SettingKey[];
+
+export function parseSettingKey(key: string): SettingKey {
+  if (key in SETTINGS) return key as SettingKey;
+  throw new InputError('setting-unknown', `unknown setting "${key}": known settings are ${SETTING_KEYS.join(', ')}`, {}, 404);
+}
+
+function validate(key: SettingKey, value: unknown): unknown {
+  const result = SETTINGS[key].schema.safeParse(value);
+  if (!result.success) {
+    const why = result.error.issues.map((i) => i.message).join('; ');
+    throw new InputError('setting-value', `bad value for setting ${key}: ${why}`, {}, 422);
+  }
+  return result.data;
+}
+
+/** All settings, stored values over defaults. */
+export function readSettings(store: AuthStore): Settings {
+  const settings = Object.fromEntries(SETTING_KEYS.map((k) => [k, SETTINGS[k].default])) as Record<string, unknown>;
+  const rows = store.db.select().from(apiSettings).all() as (typeof apiSettings.$inferSelect)[];
+  for (const row of rows) if (row.key in SETTINGS) settings[row.key] = JSON.parse(row.valueJson);
+  return settings as Settings;
+}
+
+/** Store a validated value (already typed, as the API receives it). */
+export function writeSetting(store: AuthStore, key: string, value: unknown, updatedBy: string): Settings {
+  const k = parseSettingKey(key);
+  const valueJson = JSON.stringify(validate(k, value));
+  const updatedAt = new Date().toISOString();
+  store.db
+    .insert(apiSettings)
+    .values({ key: k, valueJson, updatedAt, updatedBy })
+    .onConflictDoUpdate({ target: apiSettings.key, set: { valueJson, updatedAt, updatedBy } })
+    .run();
+  return readSettings(store);
+}
+
+/** Store a value typed on the command line ("on", "https://a,https://b", "1048576"). */
+export function writeSettingText(store: AuthStore, key: string, text: string, updatedBy: string): Settings {
+  const k = parseSettingKey(key);
+  return writeSetting(store, k, SETTINGS[k].parseText(text), updatedBy);
+}
+
+/** Forget a stored value so the default applies again. */
+export function resetSetting(store: AuthStore, key: string): Settings {
+  const k = parseSettingKey(key);
+  store.db.delete(apiSettings).where(eq(apiSettings.key, k)).run();
+  return readSettings(store);
+}
