@@ -7,7 +7,8 @@ import { eq } from 'drizzle-orm';
 import { z } from 'zod';
 import { apiSettings } from '../registry/schema-auth.ts';
 import { InputError } from '../errors.ts';
-import type { AuthStore } from './tokens.ts';
+import type { Registry } from '../registry/open.ts';
+import { appendAudit, nowIso, writeTransaction } from '../registry/records.ts';
 
 interface SettingDefinition<T> {
   schema: z.ZodType<T>;
@@ -67,35 +68,41 @@ function validate(key: SettingKey, value: unknown): unknown {
 }
 
 /** All settings, stored values over defaults. */
-export function readSettings(store: AuthStore): Settings {
+export function readSettings(registry: Registry): Settings {
   const settings = Object.fromEntries(SETTING_KEYS.map((k) => [k, SETTINGS[k].default])) as Record<string, unknown>;
-  const rows = store.db.select().from(apiSettings).all() as (typeof apiSettings.$inferSelect)[];
+  const rows = registry.db.select().from(apiSettings).all() as (typeof apiSettings.$inferSelect)[];
   for (const row of rows) if (row.key in SETTINGS) settings[row.key] = JSON.parse(row.valueJson);
   return settings as Settings;
 }
 
 /** Store a validated value (already typed, as the API receives it). */
-export function writeSetting(store: AuthStore, key: string, value: unknown, updatedBy: string): Settings {
+export function writeSetting(registry: Registry, key: string, value: unknown, updatedBy: string): Settings {
   const k = parseSettingKey(key);
   const valueJson = JSON.stringify(validate(k, value));
-  const updatedAt = new Date().toISOString();
-  store.db
-    .insert(apiSettings)
-    .values({ key: k, valueJson, updatedAt, updatedBy })
-    .onConflictDoUpdate({ target: apiSettings.key, set: { valueJson, updatedAt, updatedBy } })
-    .run();
-  return readSettings(store);
+  const updatedAt = nowIso();
+  writeTransaction(registry, () => {
+    registry.db
+      .insert(apiSettings)
+      .values({ key: k, valueJson, updatedAt, updatedBy })
+      .onConflictDoUpdate({ target: apiSettings.key, set: { valueJson, updatedAt, updatedBy } })
+      .run();
+    appendAudit(registry, { actor: updatedBy, action: 'api-setting.set', detail: { key: k, value: JSON.parse(valueJson) } });
+  });
+  return readSettings(registry);
 }
 
 /** Store a value typed on the command line ("on", "https://a,https://b", "1048576"). */
-export function writeSettingText(store: AuthStore, key: string, text: string, updatedBy: string): Settings {
+export function writeSettingText(registry: Registry, key: string, text: string, updatedBy: string): Settings {
   const k = parseSettingKey(key);
-  return writeSetting(store, k, SETTINGS[k].parseText(text), updatedBy);
+  return writeSetting(registry, k, SETTINGS[k].parseText(text), updatedBy);
 }
 
 /** Forget a stored value so the default applies again. */
-export function resetSetting(store: AuthStore, key: string): Settings {
+export function resetSetting(registry: Registry, key: string, updatedBy: string): Settings {
   const k = parseSettingKey(key);
-  store.db.delete(apiSettings).where(eq(apiSettings.key, k)).run();
-  return readSettings(store);
+  writeTransaction(registry, () => {
+    registry.db.delete(apiSettings).where(eq(apiSettings.key, k)).run();
+    appendAudit(registry, { actor: updatedBy, action: 'api-setting.reset', detail: { key: k } });
+  });
+  return readSettings(registry);
 }

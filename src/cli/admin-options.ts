@@ -1,0 +1,27 @@
+/** The --db and --by flags of the admin commands (token, settings, serve), and opening the registry they name. */
+import { userInfo } from 'node:os';
+import type { Command } from 'commander';
+import { openRegistry, type Registry } from '../registry/open.ts';
+
+export function addDbOption(cmd: Command): Command {
+  return cmd.option('--db <path>', 'registry database (default: $NKLEDGER_DB, else ./nkledger.db)');
+}
+
+export function addByOption(cmd: Command): Command {
+  return cmd.option('--by <name>', 'who is acting, for the audit log (default: $NKLEDGER_USER, else the login name)');
+}
+
+/** The acting user: --by, else NKLEDGER_USER, else the operating-system login name. */
+export function actorFrom(opts: { by?: string }): string {
+  return opts.by ?? process.env.NKLEDGER_USER ?? userInfo().username;
+}
+
+/** Open the registry named by --db, run `use`, and close it whatever happens. */
+export async function withRegistry<T>(opts: { db?: string }, use: (registry: Registry) => T | Promise<T>): Promise<T> {
+  const registry = openRegistry(opts.db);
+  try {
+    return await use(registry);
+  } finally {
+    registry.close();
+  }
+}
