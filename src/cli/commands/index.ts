@@ -1,9 +1,11 @@
 /** Every CLI command, in the order `nkledger --help` lists them. Add a command by adding its register function here. */
 import type { Command } from 'commander';
+import * as token from './token.ts';
+import * as settings from './settings.ts';
 
 type Register = (program: Command) => void;
 
-const commands: Register[] = [];
+const commands: Register[] = [token.register, settings.register];
 
 export function registerCommands(program: Command): void {
   for (const register of commands) register(program);
