@@ -1,0 +1,147 @@
+/**
+ * Row ↔ record mapping, the hashed document, and the one write-transaction helper every registry
+ * write goes through (BEGIN IMMEDIATE, audit row inside the same transaction).
+ */
+import { and, eq, sql } from 'drizzle-orm';
+import { NotFoundError } from '../errors.ts';
+import { tableRangeNm } from '../table.ts';
+import { canonicalSha256 } from './canonical.ts';
+import type { Registry } from './open.ts';
+import { formatRef } from './refs.ts';
+import { auditLog, materials, materialVersions } from './schema.ts';
+import type { MaterialRecord, Provenance, VersionContent, VersionRecord } from './types.ts';
+
+export type MaterialRow = typeof materials.$inferSelect;
+export type VersionRow = typeof materialVersions.$inferSelect;
+
+/**
+ * The SHA-256 of a version: of the canonical JSON of `{ "content": {table, fit, kk}, "provenance": {...} }`
+ * (src/registry/canonical.ts; DEVELOPERS.md "Canonical serialization and hashing").
+ */
+export function versionSha256(content: VersionContent, provenance: Provenance): string {
+  return canonicalSha256({ content, provenance });
+}
+
+/** The current time as ISO 8601 UTC with milliseconds. */
+export function nowIso(): string {
+  return new Date().toISOString();
+}
+
+/** Run `write` as one BEGIN IMMEDIATE transaction: it sees and holds the write lock from its first statement. */
+export function writeTransaction<T>(registry: Registry, write: () => T): T {
+  return registry.sqlite.transaction(write).immediate();
+}
+
+export function appendAudit(
+  registry: Registry,
+  entry: { actor: string; action: string; materialId?: number; versionId?: number; detail?: Record<string, unknown> },
+): void {
+  registry.db
+    .insert(auditLog)
+    .values({
+      at: nowIso(),
+      actor: entry.actor,
+      action: entry.action,
+      materialId: entry.materialId ?? null,
+      versionId: entry.versionId ?? null,
+      detail: JSON.stringify(entry.detail ?? {}),
+    })
+    .run();
+}
+
+export function findMaterial(registry: Registry, slug: string): MaterialRow {
+  const row = registry.db.select().from(materials).where(eq(materials.slug, slug)).get();
+  if (!row) throw new NotFoundError(`no material "${slug}" in the registry (see \`nkledger list\`)`, 'material-unknown');
+  return row;
+}
+
+export function findVersion(registry: Registry, material: MaterialRow, number: number): VersionRow {
+  const row = registry.db
+    .select()
+    .from(materialVersions)
+    .where(and(eq(materialVersions.materialId, material.id), eq(materialVersions.number, number)))
+    .get();
+  if (!row) {
+    throw new NotFoundError(
+      `${material.slug} has no version ${number} (versions 1 to ${material.lastVersion} exist)`,
+      'version-unknown',
+    );
+  }
+  return row;
+}
+
+export function provenanceOf(row: VersionRow): Provenance {
+  return {
+    sample: row.sample,
+    substrate: row.substrate,
+    process: row.process,
+    instrument: row.instrument,
+    method: row.method,
+    angles_deg: row.anglesDeg === null ? null : (JSON.parse(row.anglesDeg) as number[]),
+    measured_on: row.measuredOn,
+    operator: row.operator,
+    source_file: row.sourceFile,
+    source_sha256: row.sourceSha256,
+    notes: row.notes,
+  };
+}
+
+export function contentOf(row: VersionRow): VersionContent {
+  return JSON.parse(row.content) as VersionContent;
+}
+
+/** Where a version may be evaluated: the model's validity range, else the measured range (nm). */
+export function usableRangeNm(content: VersionContent): [number, number] {
+  if (content.fit) return [content.fit.range_nm[0], content.fit.range_nm[1]];
+  if (content.table) return tableRangeNm(content.table);
+  throw new Error('a version holds neither a table nor a model');
+}
+
+export function versionRecord(slug: string, row: VersionRow, content: VersionContent = contentOf(row)): VersionRecord {
+  return {
+    ref: formatRef(slug, row.number),
+    slug,
+    version: row.number,
+    status: row.status,
+    sha256: row.sha256,
+    has_table: content.table !== null,
+    model: content.fit?.model ?? null,
+    kk_verdict: content.kk?.verdict ?? null,
+    range_nm: usableRangeNm(content),
+    provenance: provenanceOf(row),
+    created_by: row.createdBy,
+    created_at: row.createdAt,
+    approved_by: row.approvedBy,
+    approved_at: row.approvedAt,
+    self_approved: row.selfApproved === true,
+    retired_by: row.retiredBy,
+    retired_at: row.retiredAt,
+    retire_reason: row.retireReason,
+    withdrawn_by: row.withdrawnBy,
+    withdrawn_at: row.withdrawnAt,
+    withdraw_reason: row.withdrawReason,
+  };
+}
+
+/** Newest approved (not retired) version number of a material, or null. */
+export function latestApprovedNumber(registry: Registry, materialId: number): number | null {
+  const row = registry.db
+    .select({ number: sql<number | null>`max(${materialVersions.number})` })
+    .from(materialVersions)
+    .where(and(eq(materialVersions.materialId, materialId), eq(materialVersions.status, 'approved')))
+    .get();
+  return row?.number ?? null;
+}
+
+export function materialRecord(registry: Registry, row: MaterialRow): MaterialRecord {
+  return {
+    slug: row.slug,
+    name: row.name,
+    description: row.description,
+    tags: JSON.parse(row.tags) as string[],
+    created_by: row.createdBy,
+    created_at: row.createdAt,
+    versions: row.lastVersion,
+    latest_approved: latestApprovedNumber(registry, row.id),
+  };
+}

@@ -1,0 +1,122 @@
+/**
+ * The lifecycle of a version: approve (two-person rule), retire (with a reason), withdraw (a draft).
+ * Each is one BEGIN IMMEDIATE transaction that re-reads the version, changes its status and appends
+ * the audit row; the triggers of drizzle/0001_immutability.sql refuse any other transition.
+ */
+import { and, eq } from 'drizzle-orm';
+import { ConflictError, InputError } from '../errors.ts';
+import type { Registry } from '../registry/open.ts';
+import { appendAudit, nowIso, versionRecord, writeTransaction, type VersionRow } from '../registry/records.ts';
+import { materialVersions, registrySettings } from '../registry/schema.ts';
+import type { VersionRecord, VersionStatus } from '../registry/types.ts';
+import { checkActor } from './actor.ts';
+import { resolveRow } from './versions.ts';
+
+/** Registry rules a lab may change. */
+export interface RegistrySettings {
+  /** Let the creator of a version approve it (a one-person lab); the approval records that it was self-approval. */
+  allow_self_approval: boolean;
+}
+
+const DEFAULT_SETTINGS: RegistrySettings = { allow_self_approval: false };
+
+export function getRegistrySettings(registry: Registry): RegistrySettings {
+  const rows = registry.db.select().from(registrySettings).all();
+  const stored = Object.fromEntries(rows.map((r) => [r.key, JSON.parse(r.value) as unknown]));
+  return { ...DEFAULT_SETTINGS, ...stored } as RegistrySettings;
+}
+
+/** Change a registry setting (audited). */
+export function setRegistrySetting<K extends keyof RegistrySettings>(registry: Registry, key: K, value: RegistrySettings[K], actor: string): RegistrySettings {
+  const who = checkActor(actor);
+  if (!(key in DEFAULT_SETTINGS)) throw new InputError('setting-unknown', `unknown registry setting "${key}": known are ${Object.keys(DEFAULT_SETTINGS).join(', ')}`);
+  if (typeof value !== typeof DEFAULT_SETTINGS[key]) throw new InputError('setting-value', `registry setting "${key}" takes a ${typeof DEFAULT_SETTINGS[key]}`);
+  writeTransaction(registry, () => {
+    const at = nowIso();
+    registry.db
+      .insert(registrySettings)
+      .values({ key, value: JSON.stringify(value), updatedBy: who, updatedAt: at })
+      .onConflictDoUpdate({ target: registrySettings.key, set: { value: JSON.stringify(value), updatedBy: who, updatedAt: at } })
+      .run();
+    appendAudit(registry, { actor: who, action: 'setting.set', detail: { key, value } });
+  });
+  return getRegistrySettings(registry);
+}
+
+/** Re-read a version inside the write transaction and insist on its current status. */
+function lockedVersion(registry: Registry, ref: string, expected: VersionStatus, verb: string) {
+  const { material, row } = resolveRow(registry, ref);
+  if (row.status !== expected) {
+    throw new ConflictError(`cannot ${verb} ${material.slug}@${row.number}: it is ${row.status}, only a ${expected} version can be ${verb === 'retire' ? 'retired' : verb === 'approve' ? 'approved' : 'withdrawn'}`, `version-not-${expected}`);
+  }
+  return { material, row };
+}
+
+function transition(registry: Registry, row: VersionRow, from: VersionStatus, set: Partial<VersionRow>): VersionRow {
+  const updated = registry.db
+    .update(materialVersions)
+    .set(set)
+    .where(and(eq(materialVersions.id, row.id), eq(materialVersions.status, from)))
+    .returning()
+    .get();
+  if (!updated) throw new ConflictError(`version changed status while being updated; try again`, 'version-changed');
+  return updated;
+}
+
+/**
+ * Approve a draft. The approver must not be its creator unless `allow_self_approval` is on;
+ * then the version records `self_approved: true`.
+ */
+export function approve(registry: Registry, ref: string, actor: string): VersionRecord {
+  const who = checkActor(actor);
+  return writeTransaction(registry, () => {
+    const { material, row } = lockedVersion(registry, ref, 'draft', 'approve');
+    const self = row.createdBy === who;
+    if (self && !getRegistrySettings(registry).allow_self_approval) {
+      throw new ConflictError(
+        `${who} created ${material.slug}@${row.number} and cannot also approve it: someone else must (a one-person lab can turn on the allow_self_approval registry setting)`,
+        'two-person-rule',
+      );
+    }
+    const updated = transition(registry, row, 'draft', { status: 'approved', approvedBy: who, approvedAt: nowIso(), selfApproved: self });
+    appendAudit(registry, {
+      actor: who,
+      action: 'version.approve',
+      materialId: material.id,
+      versionId: row.id,
+      detail: { ref: `${material.slug}@${row.number}`, sha256: row.sha256, self_approved: self },
+    });
+    return versionRecord(material.slug, updated);
+  });
+}
+
+function requireReason(reason: string | undefined, verb: string): string {
+  const text = (reason ?? '').trim();
+  if (text === '') throw new InputError('reason-required', `say why you ${verb} it (--reason)`);
+  if (text.length > 2000) throw new InputError('reason-too-long', 'the reason is longer than 2000 characters');
+  return text;
+}
+
+/** Retire an approved version. It still resolves (pins never break) but warns wherever used. */
+export function retire(registry: Registry, ref: string, reason: string, actor: string): VersionRecord {
+  const who = checkActor(actor);
+  const why = requireReason(reason, 'retire');
+  return writeTransaction(registry, () => {
+    const { material, row } = lockedVersion(registry, ref, 'approved', 'retire');
+    const updated = transition(registry, row, 'approved', { status: 'retired', retiredBy: who, retiredAt: nowIso(), retireReason: why });
+    appendAudit(registry, { actor: who, action: 'version.retire', materialId: material.id, versionId: row.id, detail: { ref: `${material.slug}@${row.number}`, reason: why } });
+    return versionRecord(material.slug, updated);
+  });
+}
+
+/** Withdraw a draft nobody should use (it is kept, never deleted). The reason is optional. */
+export function withdraw(registry: Registry, ref: string, actor: string, reason?: string): VersionRecord {
+  const who = checkActor(actor);
+  const why = reason === undefined || reason.trim() === '' ? null : requireReason(reason, 'withdraw');
+  return writeTransaction(registry, () => {
+    const { material, row } = lockedVersion(registry, ref, 'draft', 'withdraw');
+    const updated = transition(registry, row, 'draft', { status: 'withdrawn', withdrawnBy: who, withdrawnAt: nowIso(), withdrawReason: why });
+    appendAudit(registry, { actor: who, action: 'version.withdraw', materialId: material.id, versionId: row.id, detail: { ref: `${material.slug}@${row.number}`, reason: why } });
+    return versionRecord(material.slug, updated);
+  });
+}

@@ -1,0 +1,16 @@
+/**
+ * The registry's service layer in one import, for the CLI and the HTTP API alike:
+ * `import { openRegistry, importVersion, ... } from '../service/registry.ts'`.
+ * Every function takes the open Registry first; writes take the acting user's name last.
+ */
+export { openRegistry, registryPath, type Registry } from '../registry/open.ts';
+export { canonicalJson, canonicalSha256, sha256Hex } from '../registry/canonical.ts';
+export { parseRef, formatRef, checkSlug, MIN_HASH_PREFIX, type ParsedRef } from '../registry/refs.ts';
+export { versionSha256 } from '../registry/records.ts';
+export * from '../registry/types.ts';
+export { MEASUREMENT_METHODS, VERSION_STATUSES } from '../registry/schema.ts';
+export { checkActor } from './actor.ts';
+export { normalizeProvenance, parseMetaPairs, type ProvenanceInput } from './provenance.ts';
+export { createMaterial, listMaterials, getMaterial, history, type NewMaterial } from './materials.ts';
+export { importVersion, resolveRef, showVersion, versionSummary, type NewVersion, type ImportedVersion, type ResolvedRef } from './versions.ts';
+export { approve, retire, withdraw, getRegistrySettings, setRegistrySetting, type RegistrySettings } from './lifecycle.ts';

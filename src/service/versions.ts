@@ -1,0 +1,234 @@
+/**
+ * Versions: import a new draft, resolve a reference, show a version. Content is checked, serialized
+ * canonically and hashed before the write; the version number is assigned inside the write transaction.
+ */
+import { and, desc, eq, like, ne } from 'drizzle-orm';
+import { ConflictError, InputError, NotFoundError } from '../errors.ts';
+import type { NkTable } from '../table.ts';
+import { canonicalJson } from '../registry/canonical.ts';
+import type { Registry } from '../registry/open.ts';
+import {
+  appendAudit,
+  contentOf,
+  findMaterial,
+  findVersion,
+  latestApprovedNumber,
+  nowIso,
+  versionRecord,
+  versionSha256,
+  writeTransaction,
+  type MaterialRow,
+  type VersionRow,
+} from '../registry/records.ts';
+import { formatRef, parseRef } from '../registry/refs.ts';
+import { materials, materialVersions } from '../registry/schema.ts';
+import type { StoredFitReport, StoredKkReport, VersionContent, VersionDetail, VersionRecord, VersionStatus } from '../registry/types.ts';
+import { checkActor } from './actor.ts';
+import { normalizeProvenance, type ProvenanceInput } from './provenance.ts';
+
+export interface NewVersion {
+  slug: string;
+  /** The normalized table (engineer A's parseNkTable result), if any. */
+  table?: NkTable | null;
+  /** A fitted model (engineer B's FitReport), if any. */
+  fit?: StoredFitReport | null;
+  /** A Kramers-Kronig report (engineer C's KkReport), if any. */
+  kk?: StoredKkReport | null;
+  provenance?: ProvenanceInput;
+}
+
+export interface ImportedVersion {
+  ref: string;
+  version: number;
+  sha256: string;
+  status: VersionStatus;
+  warnings: string[];
+}
+
+/** A reference resolved to one version. */
+export interface ResolvedRef {
+  /** The pin `slug@N` it resolved to. */
+  ref: string;
+  slug: string;
+  version: number;
+  status: VersionStatus;
+  sha256: string;
+  /** Information, e.g. that a bare slug is not a pin. */
+  notices: string[];
+  /** Cautions: retired, withdrawn or draft versions. */
+  warnings: string[];
+}
+
+function checkTable(table: NkTable): NkTable {
+  const { wavelengthNm: x, n, k } = table;
+  const fail = (msg: string): never => {
+    throw new InputError('content-table', `the table to store is not a normalized n,k table: ${msg}`);
+  };
+  if (!Array.isArray(x) || x.length < 2) fail('it needs at least two rows');
+  for (const [name, col] of Object.entries({ n, k, sigmaN: table.sigmaN, sigmaK: table.sigmaK })) {
+    if (col === undefined && (name === 'sigmaN' || name === 'sigmaK')) continue;
+    if (!Array.isArray(col) || col.length !== x.length) fail(`column ${name} does not have ${x.length} values`);
+    if (!col!.every(Number.isFinite)) fail(`column ${name} holds a value that is not a finite number`);
+  }
+  for (let i = 0; i < x.length; i++) {
+    if (!Number.isFinite(x[i]) || x[i] <= 0 || (i > 0 && x[i] <= x[i - 1])) fail('wavelengths must be positive and strictly ascending');
+  }
+  const clean: NkTable = { wavelengthNm: [...x], n: [...n], k: [...k] };
+  if (table.sigmaN) clean.sigmaN = [...table.sigmaN];
+  if (table.sigmaK) clean.sigmaK = [...table.sigmaK];
+  return clean;
+}
+
+function checkFit(fit: StoredFitReport): StoredFitReport {
+  const range = fit.range_nm;
+  if (typeof fit.model !== 'string' || !fit.parameters || !Array.isArray(range) || !(range[0] < range[1])) {
+    throw new InputError('content-fit', 'the fit report to store needs model, parameters and range_nm [min, max]');
+  }
+  return fit;
+}
+
+/**
+ * Store a new draft version of `input.slug`. The number is the material's last number + 1, taken
+ * inside a BEGIN IMMEDIATE transaction together with the audit row. Refuses content identical to a
+ * version that is not withdrawn (ConflictError naming it).
+ */
+export function importVersion(registry: Registry, input: NewVersion, actor: string): ImportedVersion {
+  const who = checkActor(actor);
+  const slug = parseRef(input.slug).slug;
+  const content: VersionContent = {
+    table: input.table ? checkTable(input.table) : null,
+    fit: input.fit ? checkFit(input.fit) : null,
+    kk: input.kk ?? null,
+  };
+  if (!content.table && !content.fit) throw new InputError('content-empty', 'a version needs a table or a fitted model');
+  const provenance = normalizeProvenance(input.provenance);
+  const contentJson = canonicalJson(content);
+  const sha256 = versionSha256(content, provenance);
+  const warnings: string[] = [];
+  if (content.kk && content.kk.verdict === 'inconsistent') {
+    warnings.push('the Kramers-Kronig check found n and k inconsistent: approvers should look at the KK report');
+  }
+
+  return writeTransaction(registry, () => {
+    const material = findMaterial(registry, slug);
+    const twin = registry.db
+      .select({ number: materialVersions.number })
+      .from(materialVersions)
+      .where(and(eq(materialVersions.materialId, material.id), eq(materialVersions.sha256, sha256), ne(materialVersions.status, 'withdrawn')))
+      .get();
+    if (twin) throw new ConflictError(`identical content and provenance are already stored as ${formatRef(slug, twin.number)}`, 'version-duplicate');
+    const number = material.lastVersion + 1;
+    registry.db.update(materials).set({ lastVersion: number }).where(eq(materials.id, material.id)).run();
+    const row = registry.db
+      .insert(materialVersions)
+      .values({
+        materialId: material.id,
+        number,
+        status: 'draft',
+        content: contentJson,
+        sha256,
+        sample: provenance.sample,
+        substrate: provenance.substrate,
+        process: provenance.process,
+        instrument: provenance.instrument,
+        method: provenance.method,
+        anglesDeg: provenance.angles_deg === null ? null : JSON.stringify(provenance.angles_deg),
+        measuredOn: provenance.measured_on,
+        operator: provenance.operator,
+        sourceFile: provenance.source_file,
+        sourceSha256: provenance.source_sha256,
+        notes: provenance.notes,
+        createdBy: who,
+        createdAt: nowIso(),
+      })
+      .returning({ id: materialVersions.id })
+      .get();
+    appendAudit(registry, {
+      actor: who,
+      action: 'version.import',
+      materialId: material.id,
+      versionId: row.id,
+      detail: { ref: formatRef(slug, number), sha256, model: content.fit?.model ?? null, source_file: provenance.source_file },
+    });
+    return { ref: formatRef(slug, number), version: number, sha256, status: 'draft' as const, warnings };
+  });
+}
+
+/** Resolve a reference to its material and version rows, with notices and warnings (for service use). */
+export function resolveRow(registry: Registry, ref: string): { material: MaterialRow; row: VersionRow; resolved: ResolvedRef } {
+  const parsed = parseRef(ref);
+  const material = findMaterial(registry, parsed.slug);
+  const notices: string[] = [];
+  let row: VersionRow;
+  if (parsed.kind === 'number') {
+    row = findVersion(registry, material, parsed.version);
+  } else if (parsed.kind === 'hash') {
+    row = byHashPrefix(registry, material, parsed.hashPrefix);
+  } else {
+    const latest = latestApprovedNumber(registry, material.id);
+    if (latest === null) {
+      throw new NotFoundError(`${material.slug} has no approved version; name one explicitly, e.g. ${formatRef(material.slug, Math.max(1, material.lastVersion))}`, 'no-approved-version');
+    }
+    row = findVersion(registry, material, latest);
+    notices.push(
+      `"${material.slug}" means its latest approved version, now ${formatRef(material.slug, latest)}; this is not a pin (pin ${formatRef(material.slug, latest)} or ${material.slug}@sha256:${row.sha256.slice(0, 12)})`,
+    );
+  }
+  const pin = formatRef(material.slug, row.number);
+  return {
+    material,
+    row,
+    resolved: { ref: pin, slug: material.slug, version: row.number, status: row.status, sha256: row.sha256, notices, warnings: statusWarnings(pin, row) },
+  };
+}
+
+function byHashPrefix(registry: Registry, material: MaterialRow, prefix: string): VersionRow {
+  const rows = registry.db
+    .select()
+    .from(materialVersions)
+    .where(and(eq(materialVersions.materialId, material.id), like(materialVersions.sha256, `${prefix}%`)))
+    .orderBy(desc(materialVersions.number))
+    .all();
+  if (rows.length === 0) throw new NotFoundError(`${material.slug} has no version whose SHA-256 starts with ${prefix}`, 'version-unknown');
+  const hashes = new Set(rows.map((r) => r.sha256));
+  if (hashes.size > 1) {
+    throw new ConflictError(
+      `${material.slug}@sha256:${prefix} is ambiguous: it matches ${rows.map((r) => formatRef(material.slug, r.number)).join(', ')}; give more digits`,
+      'ref-ambiguous',
+    );
+  }
+  // The same content may exist twice only when all but one copy was withdrawn: prefer the live one.
+  return rows.find((r) => r.status !== 'withdrawn') ?? rows[0];
+}
+
+/** The cautions a version's status calls for wherever it is used. */
+export function statusWarnings(pin: string, row: VersionRow): string[] {
+  switch (row.status) {
+    case 'retired':
+      return [`${pin} is retired (${row.retiredAt} by ${row.retiredBy}: ${row.retireReason}); it still resolves, but check for a newer approved version`];
+    case 'withdrawn':
+      return [`${pin} was withdrawn (${row.withdrawnAt} by ${row.withdrawnBy}${row.withdrawReason ? `: ${row.withdrawReason}` : ''}); nobody should use it`];
+    case 'draft':
+      return [`${pin} is a draft that nobody has approved yet`];
+    default:
+      return [];
+  }
+}
+
+/** Resolve `slug@N`, `slug@sha256:PREFIX` or a bare slug (latest approved) to one version. */
+export function resolveRef(registry: Registry, ref: string): ResolvedRef {
+  return resolveRow(registry, ref).resolved;
+}
+
+/** A version with its content and provenance. */
+export function showVersion(registry: Registry, ref: string): VersionDetail {
+  const { material, row, resolved } = resolveRow(registry, ref);
+  const content = contentOf(row);
+  return { ...versionRecord(material.slug, row, content), content, notices: resolved.notices, warnings: resolved.warnings };
+}
+
+/** Version record without content (for lists and write results). */
+export function versionSummary(registry: Registry, ref: string): VersionRecord {
+  const { material, row } = resolveRow(registry, ref);
+  return versionRecord(material.slug, row);
+}

@@ -1,0 +1,41 @@
+/** Shared fixtures for registry tests: a registry in a fresh temp directory and a small n,k table. */
+import { mkdtempSync, rmSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { openRegistry, type Registry } from '../../src/service/registry.ts';
+import type { NkTable } from '../../src/table.ts';
+
+export interface TempRegistry {
+  dir: string;
+  path: string;
+  registry: Registry;
+  cleanup(): void;
+}
+
+export function tempRegistry(): TempRegistry {
+  const dir = mkdtempSync(join(tmpdir(), 'nkledger-reg-'));
+  const path = join(dir, 'test.db');
+  const registry = openRegistry(path);
+  return {
+    dir,
+    path,
+    registry,
+    cleanup() {
+      registry.close();
+      rmSync(dir, { recursive: true, force: true });
+    },
+  };
+}
+
+/**
+ * A Cauchy-like table n = a + b/λ² (λ in µm), k = 0 on 400…800 nm every 50 nm: simple invented numbers,
+ * not a measurement.
+ */
+export function cauchyTable(a = 1.45, b = 0.0036, kAt = 0): NkTable {
+  const wavelengthNm = [400, 450, 500, 550, 600, 650, 700, 750, 800];
+  return {
+    wavelengthNm,
+    n: wavelengthNm.map((w) => a + b / (w / 1000) ** 2),
+    k: wavelengthNm.map(() => kAt),
+  };
+}
