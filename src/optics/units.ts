@@ -67,13 +67,15 @@ export function fromWavelengthNm(wavelengthNm: number, unit: SpectralUnit): numb
  * Returns undefined when the text names no known unit.
  */
 export function parseSpectralUnit(text: string): SpectralUnit | undefined {
-  const t = text.trim().replace(/\s+/g, '').replace('μ', 'µ');
+  // NFKC folds the Ångström sign (U+212B) into Å and the micro sign into Greek μ; superscripts into digits
+  // and U+2212 minus, so "cm⁻¹" becomes "cm−1" and then "cm-1".
+  const t = text.normalize('NFKC').trim().replace(/\s+/g, '').replace(/μ/g, 'µ').replace(/\u2212/g, '-');
   const lower = t.toLowerCase();
   if (lower === 'nm' || lower === 'nanometer' || lower === 'nanometers') return 'nm';
   if (lower === 'µm' || lower === 'um' || lower === 'micron' || lower === 'microns' || lower === 'micrometer' || lower === 'micrometers') return 'um';
   if (t === 'Å' || t === 'A' || lower === 'angstrom' || lower === 'angstroms') return 'A';
   if (lower === 'ev') return 'eV';
-  if (['cm-1', 'cm^-1', '1/cm', 'cm⁻¹', 'cm^(-1)'].includes(lower)) return 'cm-1';
+  if (['cm-1', 'cm^-1', '1/cm', 'cm^(-1)', '/cm'].includes(lower)) return 'cm-1';
   return undefined;
 }
 
