@@ -2,10 +2,11 @@
 import type { Command } from 'commander';
 import * as token from './token.ts';
 import * as settings from './settings.ts';
+import * as serve from './serve.ts';
 
 type Register = (program: Command) => void;
 
-const commands: Register[] = [token.register, settings.register];
+const commands: Register[] = [serve.register, token.register, settings.register];
 
 export function registerCommands(program: Command): void {
   for (const register of commands) register(program);

@@ -1,0 +1,78 @@
+/**
+ * The HTTP API as a hono app, built without listening so tests and the benchmark can drive it.
+ * Middleware (scoped to /api/*): problem documents for every error, CORS from the allow-list
+ * setting, a request-size limit, bearer-token authentication. Each route module registers its
+ * routes with the role it needs; src/api/openapi.ts describes the same routes (a test keeps them equal).
+ */
+import { Hono } from 'hono';
+import { cors } from 'hono/cors';
+import { bodyLimit } from 'hono/body-limit';
+import { HTTPException } from 'hono/http-exception';
+import { InputError } from '../errors.ts';
+import { readSettings, type Settings } from '../service/settings.ts';
+import type { Registry } from '../registry/open.ts';
+import { authenticate, requireRole, type ApiEnv } from './auth.ts';
+import { HttpProblem, problemResponse } from './problem.ts';
+import type { RouteContext } from './context.ts';
+import { registerAdminRoutes } from './routes/admin.ts';
+import { registerOpenApiRoute } from './routes/openapi.ts';
+import { registerMaterialRoutes } from './routes/materials.ts';
+
+export interface AppOptions {
+  registry: Registry;
+  /**
+   * True when the server listens on a loopback address only; the `anonymous_reads` setting "auto"
+   * then allows reads without a token. Defaults to false (the safe side).
+   */
+  loopback?: boolean;
+  /** Settings that override the stored ones for this app (tests, the demo). */
+  settings?: Partial<Settings>;
+  /** Where internal faults are logged (default: stderr). */
+  logFault?: (err: unknown) => void;
+}
+
+export function createApp(options: AppOptions): Hono<ApiEnv> {
+  const { registry } = options;
+  let settings: Settings = { ...readSettings(registry), ...options.settings };
+  const anonymousReads = () =>
+    settings.anonymous_reads === 'on' || (settings.anonymous_reads === 'auto' && options.loopback === true);
+  const ctx: RouteContext = {
+    registry,
+    settings: () => settings,
+    reloadSettings: () => (settings = { ...readSettings(registry), ...options.settings }),
+    requireRole: (role) => requireRole(role, anonymousReads),
+  };
+  const logFault = options.logFault ?? ((err: unknown) => console.error('nkledger serve: internal error:', err));
+
+  const app = new Hono<ApiEnv>();
+  app.onError((err) => {
+    if (!(err instanceof InputError) && !(err instanceof HTTPException)) logFault(err);
+    return problemResponse(err);
+  });
+  app.notFound((c) => problemResponse(new HttpProblem(404, 'route-not-found', `no route for ${c.req.method} ${c.req.path}`)));
+
+  app.use(
+    '/api/*',
+    cors({
+      origin: (origin) => (settings.cors_origins.includes(origin) ? origin : null),
+      allowMethods: ['GET', 'POST', 'PUT', 'DELETE', 'OPTIONS'],
+      allowHeaders: ['Authorization', 'Content-Type', 'If-None-Match', 'Accept'],
+      exposeHeaders: ['ETag', 'Location', 'Deprecation'],
+      maxAge: 600,
+    }),
+  );
+  app.use('/api/*', (c, next) =>
+    bodyLimit({
+      maxSize: settings.max_body_bytes,
+      onError: () => {
+        throw new HttpProblem(413, 'body-too-large', `request body exceeds ${settings.max_body_bytes} bytes (setting max_body_bytes)`);
+      },
+    })(c, next),
+  );
+  app.use('/api/*', authenticate(registry));
+
+  registerOpenApiRoute(app);
+  registerMaterialRoutes(app, ctx);
+  registerAdminRoutes(app, ctx);
+  return app;
+}

@@ -1,0 +1,70 @@
+/**
+ * Bearer-token authentication and role checks. `authenticate` resolves the Authorization header to
+ * a principal (or none) before any handler runs; `requireRole` guards one route. Both refuse with
+ * a problem document and run before the handler, so a refused request never reaches a write.
+ */
+import type { MiddlewareHandler } from 'hono';
+import { authenticateToken, roleAllows, type Principal } from '../service/tokens.ts';
+import type { Registry } from '../registry/open.ts';
+import type { TokenRole } from '../registry/schema-auth.ts';
+import { HttpProblem } from './problem.ts';
+
+export interface ApiEnv {
+  Variables: { principal: Principal | null };
+}
+
+const CHALLENGE = 'Bearer realm="nkledger"';
+
+export function authenticate(registry: Registry): MiddlewareHandler<ApiEnv> {
+  return async (c, next) => {
+    const header = c.req.header('authorization');
+    if (header === undefined) {
+      c.set('principal', null);
+      return next();
+    }
+    const match = /^Bearer\s+(\S+)\s*$/i.exec(header);
+    if (!match) {
+      throw new HttpProblem(401, 'auth-malformed', 'the Authorization header must be "Bearer <token>"', {
+        'www-authenticate': `${CHALLENGE}, error="invalid_request"`,
+      });
+    }
+    const principal = authenticateToken(registry, match[1]);
+    if (!principal) {
+      throw new HttpProblem(401, 'auth-invalid-token', 'the bearer token is unknown or has been revoked', {
+        'www-authenticate': `${CHALLENGE}, error="invalid_token"`,
+      });
+    }
+    c.set('principal', principal);
+    return next();
+  };
+}
+
+/**
+ * Allow the route for principals whose role is at least `role` (reader < editor < approver < admin).
+ * Without a token, only reads pass, and only while `anonymousReads()` says so.
+ */
+export function requireRole(role: TokenRole, anonymousReads: () => boolean): MiddlewareHandler<ApiEnv> {
+  return async (c, next) => {
+    const principal = c.get('principal');
+    if (!principal) {
+      if (role === 'reader' && anonymousReads()) return next();
+      throw new HttpProblem(401, 'auth-required', `this request needs a bearer token with role ${role} or above`, {
+        'www-authenticate': CHALLENGE,
+      });
+    }
+    if (!roleAllows(principal.role, role)) {
+      throw new HttpProblem(
+        403,
+        'auth-forbidden',
+        `token ${principal.tokenId} (${principal.user}) has role ${principal.role}; this request needs ${role} or above`,
+      );
+    }
+    return next();
+  };
+}
+
+/** Who is acting, for the audit trail of a write: the token's user. */
+export function actorOf(principal: Principal | null): string {
+  if (!principal) throw new HttpProblem(401, 'auth-required', 'this request needs a bearer token');
+  return principal.user;
+}

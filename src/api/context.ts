@@ -1,0 +1,15 @@
+/** What every route module receives from the app factory: the registry, live settings and the role guard. */
+import type { MiddlewareHandler } from 'hono';
+import type { TokenRole } from '../registry/schema-auth.ts';
+import type { Settings } from '../service/settings.ts';
+import type { Registry } from '../registry/open.ts';
+import type { ApiEnv } from './auth.ts';
+
+export interface RouteContext {
+  registry: Registry;
+  /** The settings in force (stored values over defaults, then the factory's overrides). */
+  settings(): Settings;
+  /** Re-read stored settings after a change through the API. */
+  reloadSettings(): Settings;
+  requireRole(role: TokenRole): MiddlewareHandler<ApiEnv>;
+}

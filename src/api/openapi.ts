@@ -1,0 +1,289 @@
+/**
+ * The OpenAPI 3.1 description of the HTTP API, written by hand as data. test/api/openapi.test.ts
+ * compares its paths and methods with the routes the app registers, so the two cannot drift:
+ * adding a route without describing it here (or the reverse) fails the suite.
+ */
+import { TOKEN_ROLES } from '../registry/schema-auth.ts';
+
+type Schema = Record<string, unknown>;
+const ref = (name: string): Schema => ({ $ref: `#/components/schemas/${name}` });
+const problem = (description: string) => ({
+  description,
+  content: { 'application/problem+json': { schema: ref('Problem') } },
+});
+const json = (description: string, schema: Schema) => ({ description, content: { 'application/json': { schema } } });
+
+const slugParam = { name: 'slug', in: 'path', required: true, schema: { type: 'string', pattern: '^[a-z0-9]+(-[a-z0-9]+)*$' } };
+const versionParam = { name: 'n', in: 'path', required: true, schema: { type: 'integer', minimum: 1 } };
+const versionParams = [slugParam, versionParam];
+
+/** Responses every protected route may give. */
+const authErrors = {
+  '401': problem('no token, a malformed Authorization header, or an unknown or revoked token'),
+  '403': problem("the token's role is below the one this route needs"),
+};
+const readErrors = { ...authErrors, '404': problem('unknown material or version') };
+const writeErrors = { ...readErrors, '409': problem('the change conflicts with the registry rules'), '422': problem('invalid input') };
+
+/** A route's role, as the `x-nkledger-role` extension (reader routes admit anonymous reads when the setting allows). */
+const role = (r: (typeof TOKEN_ROLES)[number]) => ({ 'x-nkledger-role': r });
+
+const tableUpload = {
+  description: 'An n,k table: text/csv (or any delimited text nkledger imports), or multipart/form-data with a `table` file',
+  required: true,
+  content: {
+    'text/csv': { schema: { type: 'string' } },
+    'multipart/form-data': { schema: ref('TableUpload') },
+  },
+};
+
+const lifecycle = (summary: string, withReason: boolean) => ({
+  post: {
+    summary,
+    ...role('approver'),
+    parameters: versionParams,
+    ...(withReason
+      ? { requestBody: { required: true, content: { 'application/json': { schema: ref('Reason') } } } }
+      : { requestBody: { required: false, content: { 'application/json': { schema: ref('OptionalReason') } } } }),
+    responses: { '200': json('the version after the change', ref('Version')), ...writeErrors },
+  },
+});
+
+export const OPENAPI_DOCUMENT = {
+  openapi: '3.1.0',
+  info: {
+    title: 'nkledger HTTP API',
+    version: '1.0.0',
+    description:
+      'Versioned, approved optical constants (n, k) from the lab registry. Approved and retired versions are immutable: ' +
+      'their ETag is the content SHA-256 and they may be cached for a year. Errors are RFC 9457 problem documents.',
+  },
+  servers: [{ url: '/' }],
+  security: [{ bearer: [] }, {}],
+  paths: {
+    '/api/v1/openapi.json': {
+      get: { summary: 'This document', security: [{}], responses: { '200': json('OpenAPI 3.1 document', { type: 'object' }) } },
+    },
+    '/api/v1/materials': {
+      get: {
+        summary: 'List materials, optionally filtered by a search term',
+        ...role('reader'),
+        parameters: [{ name: 'q', in: 'query', required: false, schema: { type: 'string', maxLength: 200 } }],
+        responses: { '200': json('materials', { type: 'object', properties: { materials: { type: 'array', items: ref('Material') } } }), ...authErrors },
+      },
+      post: {
+        summary: 'Create a material',
+        ...role('editor'),
+        requestBody: { required: true, content: { 'application/json': { schema: ref('NewMaterial') } } },
+        responses: { '201': json('the new material (Location header gives its URL)', ref('Material')), ...writeErrors },
+      },
+    },
+    '/api/v1/materials/{slug}': {
+      get: {
+        summary: 'One material with all its versions',
+        ...role('reader'),
+        parameters: [slugParam],
+        responses: { '200': json('the material', ref('Material')), ...readErrors },
+      },
+    },
+    '/api/v1/materials/{slug}/versions': {
+      post: {
+        summary: 'Upload a table as a new draft version (optionally fitted with a model)',
+        ...role('editor'),
+        parameters: [
+          slugParam,
+          { name: 'fit', in: 'query', required: false, schema: { type: 'string' }, description: 'model spec, e.g. "tauc-lorentz" (text/csv uploads)' },
+        ],
+        requestBody: tableUpload,
+        responses: {
+          '201': json('the new draft (Location header gives its URL)', ref('CreatedVersion')),
+          '413': problem('the body exceeds the max_body_bytes setting'),
+          '415': problem('neither text/csv nor multipart/form-data'),
+          ...writeErrors,
+        },
+      },
+    },
+    '/api/v1/materials/{slug}/versions/{n}': {
+      get: {
+        summary: 'One version: content, provenance and reports',
+        description:
+          'Approved and retired versions: ETag = "<sha256>", Cache-Control: public, max-age=31536000, immutable; If-None-Match gives 304. ' +
+          'Drafts: Cache-Control: no-store. Retired versions carry a Warning header and a `warning` field.',
+        ...role('reader'),
+        parameters: [...versionParams, { name: 'If-None-Match', in: 'header', required: false, schema: { type: 'string' } }],
+        responses: { '200': json('the version', ref('Version')), '304': { description: 'not modified' }, ...readErrors },
+      },
+    },
+    '/api/v1/materials/{slug}/versions/{n}/nk': {
+      get: {
+        summary: 'n and k of a version at a list or a range of wavelengths',
+        description: 'Give wavelengths_nm, or from_nm, to_nm and step_nm. JSON by default; text/csv when Accept asks for it.',
+        ...role('reader'),
+        parameters: [
+          ...versionParams,
+          { name: 'wavelengths_nm', in: 'query', required: false, schema: { type: 'string' }, example: '450,650' },
+          { name: 'from_nm', in: 'query', required: false, schema: { type: 'number' } },
+          { name: 'to_nm', in: 'query', required: false, schema: { type: 'number' } },
+          { name: 'step_nm', in: 'query', required: false, schema: { type: 'number', exclusiveMinimum: 0 } },
+          { name: 'method', in: 'query', required: false, schema: { type: 'string', enum: ['model', 'linear', 'monotone-cubic'] } },
+        ],
+        responses: {
+          '200': {
+            description: 'n,k at the asked wavelengths',
+            content: { 'application/json': { schema: ref('NkValues') }, 'text/csv': { schema: { type: 'string' } } },
+          },
+          '304': { description: 'not modified' },
+          '400': problem('bad wavelengths or too many points (setting max_nk_points)'),
+          '406': problem('Accept names neither JSON nor CSV'),
+          ...readErrors,
+        },
+      },
+    },
+    '/api/v1/materials/{slug}/versions/{n}/approve': lifecycle('Approve a draft', false),
+    '/api/v1/materials/{slug}/versions/{n}/retire': lifecycle('Retire an approved version (reason required)', true),
+    '/api/v1/materials/{slug}/versions/{n}/withdraw': lifecycle('Withdraw a draft', false),
+    '/api/v1/locks/verify': {
+      post: {
+        summary: 'Verify a design lockfile against the registry',
+        ...role('reader'),
+        requestBody: { required: true, content: { 'application/json': { schema: { type: 'object' } } } },
+        responses: { '200': json('per-pin verdicts', { type: 'object' }), '400': problem('not a lockfile'), ...authErrors },
+      },
+    },
+    '/api/v1/fit': {
+      post: {
+        summary: 'Fit a dispersion model to an uploaded table; nothing is stored',
+        ...role('reader'),
+        parameters: [
+          { name: 'model', in: 'query', required: false, schema: { type: 'string' }, description: 'model spec for text/csv uploads' },
+          { name: 'terms', in: 'query', required: false, schema: { type: 'integer', minimum: 1 } },
+        ],
+        requestBody: tableUpload,
+        responses: { '200': json('fit report', { type: 'object' }), '400': problem('malformed table'), '422': problem('the fit failed'), ...authErrors },
+      },
+    },
+    '/api/v1/kk': {
+      post: {
+        summary: 'Kramers-Kronig consistency check of an uploaded table; nothing is stored',
+        ...role('reader'),
+        requestBody: tableUpload,
+        responses: { '200': json('KK report', { type: 'object' }), '400': problem('malformed table'), ...authErrors },
+      },
+    },
+    '/api/v1/tokens': {
+      get: { summary: 'List tokens (never secrets)', ...role('admin'), responses: { '200': json('tokens', { type: 'object' }), ...authErrors } },
+      post: {
+        summary: 'Create a token; the secret is in this response only',
+        ...role('admin'),
+        requestBody: {
+          required: true,
+          content: {
+            'application/json': {
+              schema: { type: 'object', required: ['user', 'role'], properties: { user: { type: 'string' }, role: { enum: [...TOKEN_ROLES] } } },
+            },
+          },
+        },
+        responses: { '201': json('the token', { type: 'object', properties: { token: { type: 'string' } } }), ...writeErrors },
+      },
+    },
+    '/api/v1/tokens/{id}/revoke': {
+      post: {
+        summary: 'Revoke a token',
+        ...role('admin'),
+        parameters: [{ name: 'id', in: 'path', required: true, schema: { type: 'string' } }],
+        responses: { '200': json('the revoked token', { type: 'object' }), ...writeErrors },
+      },
+    },
+    '/api/v1/settings': {
+      get: { summary: 'Server settings', ...role('admin'), responses: { '200': json('settings', { type: 'object' }), ...authErrors } },
+    },
+    '/api/v1/settings/{key}': {
+      put: {
+        summary: 'Change a setting',
+        ...role('admin'),
+        parameters: [{ name: 'key', in: 'path', required: true, schema: { type: 'string' } }],
+        requestBody: { required: true, content: { 'application/json': { schema: { type: 'object', required: ['value'], properties: { value: {} } } } } },
+        responses: { '200': json('settings after the change', { type: 'object' }), ...writeErrors },
+      },
+      delete: {
+        summary: 'Reset a setting to its default',
+        ...role('admin'),
+        parameters: [{ name: 'key', in: 'path', required: true, schema: { type: 'string' } }],
+        responses: { '200': json('settings after the change', { type: 'object' }), ...writeErrors },
+      },
+    },
+  },
+  components: {
+    securitySchemes: { bearer: { type: 'http', scheme: 'bearer', description: 'token from `nkledger token create` (prefix nkl_)' } },
+    schemas: {
+      Problem: {
+        type: 'object',
+        required: ['type', 'title', 'status', 'detail'],
+        properties: {
+          type: { type: 'string', format: 'uri' },
+          title: { type: 'string' },
+          status: { type: 'integer' },
+          detail: { type: 'string', description: '"file:line:col: message [rule]" for a refused upload' },
+          rule: { type: 'string' },
+          file: { type: 'string' },
+          line: { type: 'integer' },
+          column: { type: 'integer' },
+        },
+      },
+      NewMaterial: {
+        type: 'object',
+        required: ['slug', 'name'],
+        properties: { slug: { type: 'string' }, name: { type: 'string' }, description: { type: 'string' }, tags: { type: 'array', items: { type: 'string' } } },
+      },
+      Material: { type: 'object', required: ['slug', 'name'], properties: { slug: { type: 'string' }, name: { type: 'string' } } },
+      Version: {
+        type: 'object',
+        required: ['ref', 'sha256', 'status'],
+        properties: { ref: { type: 'string' }, sha256: { type: 'string' }, status: { enum: ['draft', 'approved', 'retired', 'withdrawn'] }, warning: { type: 'string' } },
+      },
+      CreatedVersion: {
+        type: 'object',
+        required: ['ref', 'sha256', 'status'],
+        properties: { ref: { type: 'string', example: 'sin-pecvd-a@3' }, sha256: { type: 'string' }, status: { const: 'draft' } },
+      },
+      TableUpload: {
+        type: 'object',
+        required: ['table'],
+        properties: {
+          table: { type: 'string', format: 'binary' },
+          fit: { type: 'string', description: 'model spec to fit and store with the version' },
+          x_unit: { type: 'string' },
+          sample: { type: 'string' },
+          substrate: { type: 'string' },
+          process: { type: 'string' },
+          instrument: { type: 'string' },
+          method: { type: 'string' },
+          angles_deg: { type: 'string' },
+          measured_on: { type: 'string', format: 'date' },
+          operator: { type: 'string' },
+          notes: { type: 'string' },
+        },
+      },
+      Reason: { type: 'object', required: ['reason'], properties: { reason: { type: 'string', minLength: 1 } } },
+      OptionalReason: { type: 'object', properties: { reason: { type: 'string' } } },
+      NkValues: {
+        type: 'object',
+        required: ['wavelength_nm', 'n', 'k'],
+        properties: {
+          wavelength_nm: { type: 'array', items: { type: 'number' } },
+          n: { type: 'array', items: { type: 'number' } },
+          k: { type: 'array', items: { type: 'number' } },
+        },
+      },
+    },
+  },
+} as const;
+
+/** The "METHOD /path/{param}" pairs the document describes, sorted; the route-sync test compares these. */
+export function documentedOperations(): string[] {
+  const ops: string[] = [];
+  for (const [path, item] of Object.entries(OPENAPI_DOCUMENT.paths)) {
+    for (const method of Object.keys(item)) ops.push(`${method.toUpperCase()} ${path}`);
+  }
+  return ops.sort();
+}

@@ -1,0 +1,90 @@
+/**
+ * RFC 9457 problem documents. Every error the API answers with is one of these, served as
+ * `application/problem+json` with `type`, `title`, `status` and `detail`, plus the extension
+ * members `rule` (nkledger's rule id) and, for a refused upload, `file`, `line` and `column`.
+ */
+import { HTTPException } from 'hono/http-exception';
+import { InputError } from '../errors.ts';
+
+export const PROBLEM_CONTENT_TYPE = 'application/problem+json';
+
+/** Problem type URIs are URNs named after the rule id: stable identifiers, not links (RFC 9457 §3.1.1). */
+export function problemType(rule: string): string {
+  return `urn:nkledger:problem:${rule}`;
+}
+
+export interface ProblemDocument {
+  type: string;
+  title: string;
+  status: number;
+  detail: string;
+  rule: string;
+  file?: string;
+  line?: number;
+  column?: number;
+  [extension: string]: unknown;
+}
+
+const TITLES: Record<number, string> = {
+  400: 'Bad Request',
+  401: 'Unauthorized',
+  403: 'Forbidden',
+  404: 'Not Found',
+  405: 'Method Not Allowed',
+  406: 'Not Acceptable',
+  409: 'Conflict',
+  413: 'Content Too Large',
+  415: 'Unsupported Media Type',
+  422: 'Unprocessable Content',
+  500: 'Internal Server Error',
+};
+
+/** An error the API raises itself (auth, content negotiation); carried to the error handler like InputError. */
+export class HttpProblem extends InputError {
+  readonly headers: Record<string, string>;
+  constructor(status: number, rule: string, message: string, headers: Record<string, string> = {}) {
+    super(rule, message, {}, status);
+    this.name = 'HttpProblem';
+    this.headers = headers;
+  }
+}
+
+export function problemFromError(err: unknown): { problem: ProblemDocument; headers: Record<string, string> } {
+  if (err instanceof InputError) {
+    const status = TITLES[err.status] ? err.status : 400;
+    const problem: ProblemDocument = {
+      type: problemType(err.rule),
+      title: TITLES[status],
+      status,
+      // The same "file:line:col: message [rule]" text the CLI prints, so a person can find the line.
+      detail: err.describe(),
+      rule: err.rule,
+      ...err.location,
+    };
+    return { problem, headers: err instanceof HttpProblem ? err.headers : {} };
+  }
+  if (err instanceof HTTPException && TITLES[err.status]) {
+    // hono's own refusals (e.g. a multipart body it cannot parse).
+    const rule = `http-${err.status}`;
+    const problem = { type: problemType(rule), title: TITLES[err.status], status: err.status, detail: err.message, rule };
+    return { problem, headers: {} };
+  }
+  return {
+    problem: {
+      type: problemType('internal'),
+      title: TITLES[500],
+      status: 500,
+      detail: 'the server failed to answer this request; the fault is logged on the server',
+      rule: 'internal',
+    },
+    headers: {},
+  };
+}
+
+export function problemResponse(err: unknown): Response {
+  const { problem, headers } = problemFromError(err);
+  return new Response(JSON.stringify(problem), {
+    status: problem.status,
+    headers: { 'content-type': PROBLEM_CONTENT_TYPE, 'cache-control': 'no-store', ...headers },
+  });
+}

@@ -1,0 +1,8 @@
+/** GET /api/v1/openapi.json: the hand-written description, served without a token (it describes, it holds no data). */
+import type { Hono } from 'hono';
+import type { ApiEnv } from '../auth.ts';
+import { OPENAPI_DOCUMENT } from '../openapi.ts';
+
+export function registerOpenApiRoute(app: Hono<ApiEnv>): void {
+  app.get('/api/v1/openapi.json', (c) => c.json(OPENAPI_DOCUMENT));
+}

@@ -1,0 +1,60 @@
+/**
+ * Listening: the hono app on @hono/node-server. `startServer` resolves once the socket is bound
+ * (port 0 picks a free port, which tests use) and returns the URL and a graceful `close`.
+ */
+import type { Server } from 'node:http';
+import type { AddressInfo } from 'node:net';
+import { serve } from '@hono/node-server';
+import type { Hono } from 'hono';
+import { createApp, type AppOptions } from './app.ts';
+import type { ApiEnv } from './auth.ts';
+
+export interface ServerOptions extends Omit<AppOptions, 'loopback'> {
+  /** Address to bind; default 127.0.0.1. */
+  host?: string;
+  /** TCP port; 0 picks a free one. Default 8787. */
+  port?: number;
+  /** Add routes to the app before it listens (the benchmark's constant route). */
+  extend?: (app: Hono<ApiEnv>) => void;
+}
+
+export interface RunningServer {
+  /** Base URL, e.g. http://127.0.0.1:8787 */
+  url: string;
+  port: number;
+  /** Stop accepting connections, let in-flight requests finish, then resolve. Does not close the registry. */
+  close(): Promise<void>;
+}
+
+export const DEFAULT_HOST = '127.0.0.1';
+export const DEFAULT_PORT = 8787;
+
+/** Loopback addresses: 127.0.0.0/8, ::1 and the name localhost. */
+export function isLoopbackHost(host: string): boolean {
+  return host === 'localhost' || host === '::1' || host === '[::1]' || /^127(\.\d{1,3}){3}$/.test(host);
+}
+
+export function startServer(options: ServerOptions): Promise<RunningServer> {
+  const host = options.host ?? DEFAULT_HOST;
+  const port = options.port ?? DEFAULT_PORT;
+  const app = createApp({ ...options, loopback: isLoopbackHost(host) });
+  options.extend?.(app);
+  return new Promise((resolve, reject) => {
+    const server = serve({ fetch: app.fetch, hostname: host, port }) as Server;
+    server.once('error', reject);
+    server.once('listening', () => {
+      const bound = (server.address() as AddressInfo).port;
+      const shown = host.includes(':') && !host.startsWith('[') ? `[${host}]` : host;
+      resolve({
+        url: `http://${shown}:${bound}`,
+        port: bound,
+        close: () =>
+          new Promise<void>((done) => {
+            // close() stops accepting and waits for open requests; idle keep-alive sockets are closed now.
+            server.close(() => done());
+            server.closeIdleConnections();
+          }),
+      });
+    });
+  });
+}
