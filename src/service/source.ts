@@ -1,0 +1,48 @@
+/**
+ * Where tables come from: a file path, or "-" for standard input. The size limit is checked before
+ * the content is read in full (stat for files, a running count for stdin).
+ * (Engineer D extends loadTable so a registry reference such as `slug@3` also resolves.)
+ */
+import { readFile, stat } from 'node:fs/promises';
+import { InputError } from '../errors.ts';
+import { checkSize } from '../io/decode.ts';
+import { DEFAULT_MAX_BYTES, parseNkTable, type ImportOptions, type ImportResult } from '../io/parse-table.ts';
+
+export const STDIN_SOURCE = '-';
+
+/** Read and import a table from a file path or "-" (stdin). Errors are InputErrors naming the source. */
+export async function loadTable(source: string, options: ImportOptions = {}): Promise<ImportResult> {
+  const maxBytes = options.maxBytes ?? DEFAULT_MAX_BYTES;
+  const file = options.file ?? (source === STDIN_SOURCE ? '<stdin>' : source);
+  const bytes = source === STDIN_SOURCE ? await readStdin(maxBytes, file) : await readLimitedFile(source, maxBytes, file);
+  return parseNkTable(bytes, { ...options, file, maxBytes });
+}
+
+async function readLimitedFile(path: string, maxBytes: number, file: string): Promise<Uint8Array> {
+  let size: number;
+  try {
+    const info = await stat(path);
+    if (!info.isFile()) throw new InputError('not-a-file', `${path} is not a regular file`, { file });
+    size = info.size;
+  } catch (err) {
+    if (err instanceof InputError) throw err;
+    const code = (err as NodeJS.ErrnoException).code;
+    if (code === 'ENOENT') throw new InputError('file-not-found', `no such file: ${path}`, { file }, 404);
+    throw new InputError('unreadable-file', `cannot read ${path} (${code ?? String(err)})`, { file });
+  }
+  checkSize(size, maxBytes, file);
+  return readFile(path);
+}
+
+/** Read stdin in chunks, refusing as soon as the running total passes maxBytes. */
+async function readStdin(maxBytes: number, file: string): Promise<Uint8Array> {
+  const chunks: Buffer[] = [];
+  let total = 0;
+  for await (const chunk of process.stdin) {
+    const buf = typeof chunk === 'string' ? Buffer.from(chunk) : (chunk as Buffer);
+    total += buf.byteLength;
+    checkSize(total, maxBytes, file);
+    chunks.push(buf);
+  }
+  return Buffer.concat(chunks);
+}
