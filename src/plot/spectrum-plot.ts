@@ -1,0 +1,275 @@
+/**
+ * Spectrum plots as standalone SVG 1.1 documents: stacked panels sharing one x axis (e.g. n, k
+ * and fit residuals against wavelength), each panel with its own y axis and legend.
+ * Built as text, no browser, no I/O. Used by `fit --plot`, `kk --plot`, `diff --plot` and web pages.
+ *
+ * Document structure (class names are stable, for tests and web pages):
+ *   <svg> <title/> <text class="title"/>
+ *     <g class="panel" data-index data-y-label> frame, <g class="grid">, <g class="y-axis"> with
+ *       <g class="y-tick" data-value> and <text class="axis-label">, optional <line class="zero-line">,
+ *       one <g class="series" data-label data-style data-count> per series, <g class="legend">,
+ *       or <text class="no-data"> when the panel has nothing finite to show </g>
+ *     <g class="x-axis"> with <g class="x-tick" data-value> and <text class="axis-label"> </g>
+ */
+
+import { drawSeries, seriesColour } from './marks.ts';
+import { legendSize, placeLegend, renderLegend, type Box } from './legend.ts';
+import { linearScale, niceDomain, paddedExtent, tickFormat, type LinearScale } from './scale.ts';
+import { element, escapeXml, estimateTextWidth, textElement } from './svg.ts';
+
+export type PlotSeriesStyle = 'points' | 'line' | 'dashed';
+
+/** One data series: x and y of equal length; NaN / ±∞ entries are skipped (a gap in a line). */
+export interface PlotSeries {
+  label: string;
+  x: number[];
+  y: number[];
+  style: PlotSeriesStyle;
+}
+
+/** One panel of the stack. relativeHeight (default 1) is its share of the height; zeroLine draws a dashed y = 0. */
+export interface PlotPanel {
+  yLabel: string;
+  series: PlotSeries[];
+  relativeHeight?: number;
+  zeroLine?: boolean;
+}
+
+/** A whole plot. xLabel carries its unit ("Wavelength (nm)"); width and height in px. */
+export interface PlotSpec {
+  title: string;
+  xLabel: string;
+  panels: PlotPanel[];
+  width?: number;
+  height?: number;
+}
+
+const DEFAULT_WIDTH_PX = 800;
+const TITLE_FONT_PX = 16;
+const AXIS_LABEL_FONT_PX = 13;
+const TICK_FONT_PX = 12;
+const TICK_LENGTH_PX = 5;
+const MARGIN_TOP_PX = 44;
+const MARGIN_BOTTOM_PX = 52;
+const MARGIN_RIGHT_PX = 20;
+const PANEL_GAP_PX = 18;
+const MIN_PANEL_HEIGHT_PX = 10;
+/** Target spacing between ticks, which sets the tick count for the available length. */
+const X_TICK_SPACING_PX = 90;
+const Y_TICK_SPACING_PX = 45;
+/** Room kept between the y data and the frame (in px, a marker radius and a bit) before rounding the axis to nice ticks. */
+const Y_PADDING_PX = 4;
+
+/** Default height: enough for legible panels (400 px for one panel, 240 px more per extra panel). */
+function defaultHeight(panelCount: number): number {
+  return Math.max(400, 120 + 240 * panelCount);
+}
+
+function checkSpec(spec: PlotSpec): void {
+  for (const [name, value] of [['width', spec.width], ['height', spec.height]] as const) {
+    if (value !== undefined && !(Number.isFinite(value) && value > 0)) {
+      throw new RangeError(`PlotSpec.${name} must be a positive number of px, got ${value}`);
+    }
+  }
+  for (const panel of spec.panels) {
+    const weight = panel.relativeHeight;
+    if (weight !== undefined && !(Number.isFinite(weight) && weight > 0)) {
+      throw new RangeError(`relativeHeight of panel "${panel.yLabel}" must be a positive number, got ${weight}`);
+    }
+    for (const series of panel.series) {
+      if (series.x.length !== series.y.length) {
+        throw new RangeError(`series "${series.label}" has ${series.x.length} x values but ${series.y.length} y values`);
+      }
+    }
+  }
+}
+
+/** The x and y arrays of a series restricted to entries where both are finite. */
+function finitePairs(series: PlotSeries): { x: number[]; y: number[] } {
+  const x: number[] = [];
+  const y: number[] = [];
+  for (let i = 0; i < series.x.length; i++) {
+    if (Number.isFinite(series.x[i]) && Number.isFinite(series.y[i])) {
+      x.push(series.x[i]);
+      y.push(series.y[i]);
+    }
+  }
+  return { x, y };
+}
+
+/** A nice axis for data values: domain rounded out to ticks, the ticks and their labels; null without data. */
+interface Axis {
+  domain: [number, number];
+  ticks: number[];
+  format: (value: number) => string;
+}
+
+function niceAxis(extent: [number, number] | null, lengthPx: number, spacingPx: number): Axis | null {
+  if (extent === null) return null;
+  const count = Math.max(3, Math.round(lengthPx / spacingPx));
+  const { domain, ticks } = niceDomain(extent[0], extent[1], count);
+  return { domain, ticks, format: tickFormat(ticks) };
+}
+
+interface PanelLayout {
+  panel: PlotPanel;
+  top: number;
+  height: number;
+  yAxis: Axis | null;
+}
+
+/** Splits the vertical space among panels by relativeHeight and builds each panel's y axis. */
+function layoutPanels(panels: PlotPanel[], heightPx: number): PanelLayout[] {
+  const available = heightPx - MARGIN_TOP_PX - MARGIN_BOTTOM_PX - PANEL_GAP_PX * (panels.length - 1);
+  const weights = panels.map((p) => p.relativeHeight ?? 1);
+  const totalWeight = weights.reduce((a, b) => a + b, 0);
+  let top = MARGIN_TOP_PX;
+  return panels.map((panel, i) => {
+    const height = Math.max(MIN_PANEL_HEIGHT_PX, (available * weights[i]) / totalWeight);
+    const ys = panel.series.map((s) => finitePairs(s).y);
+    const padFraction = Y_PADDING_PX / height;
+    let extent = paddedExtent(ys, padFraction);
+    if (extent !== null && panel.zeroLine) extent = paddedExtent([ys.flat(), [0]], padFraction);
+    const layout = { panel, top, height, yAxis: niceAxis(extent, height, Y_TICK_SPACING_PX) };
+    top += height + PANEL_GAP_PX;
+    return layout;
+  });
+}
+
+/** Font size for a rotated y label so it fits the panel height (never below 9 px). */
+function yLabelFontSize(label: string, panelHeightPx: number): number {
+  const natural = estimateTextWidth(label, AXIS_LABEL_FONT_PX);
+  if (natural <= panelHeightPx * 0.95) return AXIS_LABEL_FONT_PX;
+  return Math.max(9, (AXIS_LABEL_FONT_PX * panelHeightPx * 0.95) / natural);
+}
+
+const GRID_STYLE = { stroke: '#e6e6e6', 'stroke-width': 1 };
+const AXIS_STYLE = { stroke: '#444444', 'stroke-width': 1 };
+
+function renderPanel(layout: PanelLayout, index: number, area: Box, x: LinearScale, xAxis: Axis | null): string {
+  const { panel, yAxis } = layout;
+  const right = area.left + area.width;
+  const bottom = area.top + area.height;
+  const parts: string[] = [];
+  const y = yAxis ? linearScale(yAxis.domain, [bottom, area.top]) : null;
+
+  const grid: string[] = [];
+  for (const value of xAxis?.ticks ?? []) {
+    grid.push(element('line', { x1: x(value), y1: area.top, x2: x(value), y2: bottom }));
+  }
+  for (const value of (y && yAxis?.ticks) || []) {
+    grid.push(element('line', { x1: area.left, y1: y!(value), x2: right, y2: y!(value) }));
+  }
+  parts.push(element('g', { class: 'grid', ...GRID_STYLE }, grid));
+
+  const yTicks = (yAxis?.ticks ?? []).map((value) =>
+    element('g', { class: 'y-tick', 'data-value': String(value) }, [
+      element('line', { x1: area.left - TICK_LENGTH_PX, y1: y!(value), x2: area.left, y2: y!(value), ...AXIS_STYLE }),
+      textElement({ x: area.left - TICK_LENGTH_PX - 3, y: y!(value), dy: '0.32em', 'text-anchor': 'end' }, yAxis!.format(value)),
+    ]),
+  );
+  const labelX = 16;
+  const labelY = area.top + area.height / 2;
+  const yLabel = textElement(
+    {
+      class: 'axis-label',
+      x: labelX,
+      y: labelY,
+      transform: `rotate(-90 ${labelX} ${labelY.toFixed(2)})`,
+      'text-anchor': 'middle',
+      'font-size': yLabelFontSize(panel.yLabel, area.height),
+    },
+    panel.yLabel,
+  );
+  parts.push(element('g', { class: 'y-axis' }, [...yTicks, yLabel]));
+
+  if (y && panel.zeroLine) {
+    parts.push(
+      element('line', { class: 'zero-line', x1: area.left, y1: y(0), x2: right, y2: y(0), stroke: '#555555', 'stroke-width': 1, 'stroke-dasharray': '4 3' }),
+    );
+  }
+
+  if (y) {
+    const entries = panel.series.map((s, i) => ({ label: s.label, style: s.style, colour: seriesColour(i) }));
+    const drawn = panel.series.map((s, i) => drawSeries(s, entries[i].colour, x, y));
+    parts.push(...drawn.map((d) => d.svg));
+    const box = placeLegend(area, legendSize(entries), drawn.flatMap((d) => d.runs));
+    parts.push(renderLegend(entries, box));
+  } else {
+    parts.push(
+      textElement({ class: 'no-data', x: area.left + area.width / 2, y: labelY, dy: '0.35em', 'text-anchor': 'middle', fill: '#777777', 'font-size': AXIS_LABEL_FONT_PX }, 'no data'),
+    );
+  }
+
+  parts.push(element('rect', { class: 'frame', x: area.left, y: area.top, width: area.width, height: area.height, fill: 'none', ...AXIS_STYLE }));
+  return element('g', { class: 'panel', 'data-index': String(index), 'data-y-label': panel.yLabel }, parts);
+}
+
+function renderXAxis(xAxis: Axis | null, x: LinearScale, plotBottom: number, xLabel: string, height: number): string {
+  const ticks = (xAxis?.ticks ?? []).map((value) =>
+    element('g', { class: 'x-tick', 'data-value': String(value) }, [
+      element('line', { x1: x(value), y1: plotBottom, x2: x(value), y2: plotBottom + TICK_LENGTH_PX, ...AXIS_STYLE }),
+      textElement({ x: x(value), y: plotBottom + TICK_LENGTH_PX + TICK_FONT_PX + 2, 'text-anchor': 'middle' }, xAxis!.format(value)),
+    ]),
+  );
+  const label = textElement({ class: 'axis-label', x: (x.range[0] + x.range[1]) / 2, y: height - 10, 'text-anchor': 'middle', 'font-size': AXIS_LABEL_FONT_PX }, xLabel);
+  return element('g', { class: 'x-axis' }, [...ticks, label]);
+}
+
+/**
+ * Renders a spectrum plot.
+ * Takes a PlotSpec: title, x-axis label (with its unit), panels stacked top to bottom sharing
+ * the x axis, optional width/height in px (default 800 × max(400, 120 + 240 × panels)).
+ * Returns a complete standalone SVG 1.1 document (XML declaration, xmlns, width, height, viewBox).
+ * Axes get "nice" 1-2-5 ticks covering all finite data; NaN values are skipped (lines break);
+ * a panel without finite data says "no data"; every point is drawn (no decimation), with
+ * coordinates rounded to 0.01 px. All text is XML-escaped.
+ * Throws RangeError for caller bugs: x/y length mismatch, non-positive size or relativeHeight.
+ */
+export function renderSpectrumPlot(spec: PlotSpec): string {
+  checkSpec(spec);
+  const panels: PlotPanel[] = spec.panels.length > 0 ? spec.panels : [{ yLabel: '', series: [] }];
+  const width = spec.width ?? DEFAULT_WIDTH_PX;
+  const height = spec.height ?? defaultHeight(panels.length);
+
+  const layouts = layoutPanels(panels, height);
+  const tickLabelWidth = Math.max(
+    0,
+    ...layouts.flatMap((l) => (l.yAxis ? l.yAxis.ticks.map((t) => estimateTextWidth(l.yAxis!.format(t), TICK_FONT_PX)) : [])),
+  );
+  const left = 6 + AXIS_LABEL_FONT_PX + 10 + tickLabelWidth + TICK_LENGTH_PX + 3;
+  const plotWidth = Math.max(MIN_PANEL_HEIGHT_PX, width - left - MARGIN_RIGHT_PX);
+
+  const xExtent = paddedExtent(panels.flatMap((p) => p.series.map((s) => finitePairs(s).x)), 0);
+  const xAxis = niceAxis(xExtent, plotWidth, X_TICK_SPACING_PX);
+  const x = linearScale(xAxis ? xAxis.domain : [0, 1], [left, left + plotWidth]);
+
+  const panelSvg = layouts.map((layout, i) =>
+    renderPanel(layout, i, { left, top: layout.top, width: plotWidth, height: layout.height }, x, xAxis),
+  );
+  const last = layouts[layouts.length - 1];
+  const plotBottom = last.top + last.height;
+
+  const body = [
+    `<title>${escapeXml(spec.title)}</title>`,
+    element('rect', { class: 'background', x: 0, y: 0, width, height, fill: '#ffffff' }),
+    textElement({ class: 'title', x: width / 2, y: 26, 'text-anchor': 'middle', 'font-size': TITLE_FONT_PX, 'font-weight': 'bold' }, spec.title),
+    ...panelSvg,
+    renderXAxis(xAxis, x, plotBottom, spec.xLabel, height),
+  ];
+  const svg = element(
+    'svg',
+    {
+      xmlns: 'http://www.w3.org/2000/svg',
+      version: '1.1',
+      width: String(width),
+      height: String(height),
+      viewBox: `0 0 ${width} ${height}`,
+      'font-family': 'DejaVu Sans, Arial, Helvetica, sans-serif',
+      'font-size': TICK_FONT_PX,
+      fill: '#222222',
+    },
+    body.map((part) => `\n${part}`).concat('\n'),
+  );
+  return `<?xml version="1.0" encoding="UTF-8"?>\n${svg}\n`;
+}
