@@ -55,7 +55,8 @@ export function parseNkTable(input: string | Uint8Array, options: ImportOptions 
       { file, line: lines[0].line },
     );
   }
-  const names = options.columns ?? rows[0];
+  // A trailing separator on the header line ("wavelength,n,k,") names no column.
+  const names = options.columns ?? (rows[0].length > 1 && rows[0][rows[0].length - 1] === '' ? rows[0].slice(0, -1) : rows[0]);
   const dataStart = header ? 1 : 0;
   if (rows.length - dataStart === 0) throw new InputError('header-only', 'the file has a header but no data rows', { file, line: headerLine });
 
