@@ -17,6 +17,8 @@ import type { RouteContext } from './context.ts';
 import { registerAdminRoutes } from './routes/admin.ts';
 import { registerOpenApiRoute } from './routes/openapi.ts';
 import { registerMaterialRoutes } from './routes/materials.ts';
+import { registerLockRoutes } from './routes/locks.ts';
+import { registerUploadRoutes } from './routes/uploads.ts';
 
 export interface AppOptions {
   registry: Registry;
@@ -73,6 +75,8 @@ export function createApp(options: AppOptions): Hono<ApiEnv> {
 
   registerOpenApiRoute(app);
   registerMaterialRoutes(app, ctx);
+  registerUploadRoutes(app, ctx);
+  registerLockRoutes(app, ctx);
   registerAdminRoutes(app, ctx);
   return app;
 }

@@ -145,7 +145,9 @@ export const OPENAPI_DOCUMENT = {
     '/api/v1/locks/verify': {
       post: {
         summary: 'Verify a design lockfile against the registry',
+        description: 'Answers 200 with `ok` false when an entry is missing or its hash differs; retired, draft and withdrawn pins are warnings, failures with strict=true.',
         ...role('reader'),
+        parameters: [{ name: 'strict', in: 'query', required: false, schema: { type: 'string', enum: ['true', 'false'] } }],
         requestBody: { required: true, content: { 'application/json': { schema: { type: 'object' } } } },
         responses: { '200': json('per-pin verdicts', { type: 'object' }), '400': problem('not a lockfile'), ...authErrors },
       },

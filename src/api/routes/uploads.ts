@@ -1,0 +1,68 @@
+/**
+ * Table uploads: POST /api/v1/materials/{slug}/versions stores a new draft through the import
+ * pipeline (src/service/import-measurement.ts, the one `nkledger import` uses); POST /api/v1/fit and /api/v1/kk
+ * run the fitter or the Kramers-Kronig check on an uploaded table and store nothing.
+ */
+import type { Hono } from 'hono';
+import { z } from 'zod';
+import { checkSlug } from '../../registry/refs.ts';
+import { PROVENANCE_FIELDS } from '../../registry/types.ts';
+import { importMeasurement } from '../../service/import-measurement.ts';
+import type { StoredFitReport } from '../../registry/types.ts';
+import { parseNkTable } from '../../io/parse-table.ts';
+import { fitTable } from '../../fit/fit.ts';
+import { checkKramersKronig } from '../../kk/check.ts';
+import type { NkTable } from '../../table.ts';
+import { actorOf, type ApiEnv } from '../auth.ts';
+import { readTableUpload } from '../upload.ts';
+import { parseInput } from '../validate.ts';
+import type { RouteContext } from '../context.ts';
+import { versionUrl } from './materials.ts';
+
+const positiveInt = z.string().regex(/^[1-9][0-9]{0,2}$/, 'a positive whole number').transform(Number);
+const booleanText = z.enum(['true', 'false']).transform((t) => t === 'true');
+const fitFields = { fit: z.string().min(1).max(100).optional(), terms: positiveInt.optional() };
+
+/** Provenance as form fields (source_file and source_sha256 come from the upload itself). */
+const provenanceFields = Object.fromEntries(
+  PROVENANCE_FIELDS.filter((f) => f !== 'source_file' && f !== 'source_sha256').map((f) => [f, z.string().max(20_000).optional()]),
+);
+const versionFields = z.strictObject({ ...fitFields, ...provenanceFields, kk: booleanText.optional() });
+const fitOnlyFields = z.strictObject({ model: z.string().min(1).max(100), terms: positiveInt.optional() });
+const kkFields = z.strictObject({ tolerance: z.string().regex(/^[0-9.eE+-]+$/).transform(Number).optional() });
+
+export function registerUploadRoutes(app: Hono<ApiEnv>, ctx: RouteContext): void {
+  const reader = ctx.requireRole('reader');
+
+  app.post('/api/v1/materials/:slug/versions', ctx.requireRole('editor'), async (c) => {
+    const slug = checkSlug(c.req.param('slug'));
+    const upload = await readTableUpload(c);
+    const { fit, terms, kk, ...provenance } = parseInput(versionFields, upload.fields, 'body', 400);
+    const actor = actorOf(c.get('principal'));
+    const fitModel = fit ? (table: NkTable) => fitTable(table, { model: fit, terms }) as StoredFitReport : undefined;
+    const result = importMeasurement(
+      ctx.registry,
+      { slug, bytes: upload.bytes, file: upload.file, importOptions: upload.importOptions, kk, provenance },
+      actor,
+      fitModel,
+    );
+    c.header('location', versionUrl(result.ref));
+    return c.json(result, 201);
+  });
+
+  app.post('/api/v1/fit', reader, async (c) => {
+    const upload = await readTableUpload(c);
+    const { model, terms } = parseInput(fitOnlyFields, upload.fields, 'body', 400);
+    const imported = parseNkTable(upload.bytes, upload.importOptions);
+    c.header('cache-control', 'no-store');
+    return c.json({ warnings: imported.warnings, report: fitTable(imported.table, { model, terms }) });
+  });
+
+  app.post('/api/v1/kk', reader, async (c) => {
+    const upload = await readTableUpload(c);
+    const { tolerance } = parseInput(kkFields, upload.fields, 'body', 400);
+    const imported = parseNkTable(upload.bytes, upload.importOptions);
+    c.header('cache-control', 'no-store');
+    return c.json({ warnings: imported.warnings, report: checkKramersKronig(imported.table, { tolerance }) });
+  });
+}

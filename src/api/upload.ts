@@ -1,0 +1,84 @@
+/**
+ * Reading an uploaded n,k table: the raw body (text/csv or any delimited text), or multipart/form-data
+ * with a `table` file part and text fields. The import flags are the CLI's, spelled snake_case
+ * (input_unit, columns, delimiter, decimal_comma, k_tolerance) and mapped by the CLI's own
+ * importOptionsFrom, so both front doors read a table identically.
+ */
+import type { Context } from 'hono';
+import { z } from 'zod';
+import { InputError } from '../errors.ts';
+import type { ImportOptions } from '../io/parse-table.ts';
+import { importOptionsFrom } from '../cli/import-options.ts';
+import { HttpProblem } from './problem.ts';
+import { parseInput } from './validate.ts';
+
+/** The name an upload gets in messages (`<upload>:12:3: ...`) when the client gave no file name. */
+export const UPLOAD_FILE = '<upload>';
+
+export interface TableUpload {
+  bytes: Uint8Array;
+  /** File name for messages and provenance: the multipart file name, else "<upload>". */
+  file: string;
+  /** The client's own file name, when multipart gave one. */
+  clientFileName: string | null;
+  importOptions: ImportOptions;
+  /** Every other text field (multipart) or query parameter (raw body), for the route to validate. */
+  fields: Record<string, string>;
+}
+
+const importFields = z.object({
+  input_unit: z.string().max(40).optional(),
+  columns: z.string().max(500).optional(),
+  delimiter: z.string().max(20).optional(),
+  decimal_comma: z.enum(['true', 'false']).optional(),
+  k_tolerance: z.string().max(40).optional(),
+});
+const IMPORT_FIELD_NAMES = Object.keys(importFields.shape);
+
+/** Read the table and the fields of an upload; refuses other media types with 415. */
+export async function readTableUpload(c: Context): Promise<TableUpload> {
+  const type = (c.req.header('content-type') ?? '').split(';')[0].trim().toLowerCase();
+  let bytes: Uint8Array;
+  let clientFileName: string | null = null;
+  let fields: Record<string, string>;
+  if (type === 'multipart/form-data') {
+    const form = await c.req.formData();
+    const part = form.get('table');
+    if (!(part instanceof File)) throw new InputError('upload-no-table', 'multipart upload needs a file part named "table"', {}, 400);
+    bytes = new Uint8Array(await part.arrayBuffer());
+    clientFileName = part.name && part.name !== 'blob' ? part.name.replace(/^.*[\\/]/, '') : null;
+    fields = {};
+    for (const [key, value] of form.entries()) {
+      if (key === 'table') continue;
+      if (typeof value !== 'string') throw new InputError('upload-field', `multipart field "${key}" must be text, not a file`, {}, 400);
+      fields[key] = value;
+    }
+  } else if (type === 'text/csv' || type === 'text/plain' || type === 'text/tab-separated-values') {
+    bytes = new Uint8Array(await c.req.arrayBuffer());
+    fields = c.req.query();
+  } else {
+    throw new HttpProblem(415, 'upload-media-type', `send the table as text/csv (or text/plain) or as multipart/form-data with a "table" file, not "${type || 'no content type'}"`);
+  }
+  if (bytes.length === 0) throw new InputError('upload-empty', 'the uploaded table is empty', { file: clientFileName ?? UPLOAD_FILE }, 400);
+  const flags = parseInput(importFields, pick(fields, IMPORT_FIELD_NAMES), 'body', 400);
+  const file = clientFileName ?? UPLOAD_FILE;
+  const importOptions: ImportOptions = {
+    ...importOptionsFrom({
+      inputUnit: flags.input_unit,
+      columns: flags.columns,
+      delimiter: flags.delimiter,
+      decimalComma: flags.decimal_comma === undefined ? undefined : flags.decimal_comma === 'true',
+      kTolerance: flags.k_tolerance,
+    }),
+    file,
+  };
+  return { bytes, file, clientFileName, importOptions, fields: omit(fields, IMPORT_FIELD_NAMES) };
+}
+
+function pick(fields: Record<string, string>, names: string[]): Record<string, string> {
+  return Object.fromEntries(Object.entries(fields).filter(([k]) => names.includes(k)));
+}
+
+function omit(fields: Record<string, string>, names: string[]): Record<string, string> {
+  return Object.fromEntries(Object.entries(fields).filter(([k]) => !names.includes(k)));
+}

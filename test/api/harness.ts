@@ -1,0 +1,83 @@
+/**
+ * A real server for API tests: a registry in a fresh temp directory, the app listening on an
+ * ephemeral 127.0.0.1 port, one token per role, and fetch helpers. Nothing here mocks HTTP.
+ */
+import { mkdtempSync, rmSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { openRegistry, type Registry } from '../../src/registry/open.ts';
+import { startServer, type RunningServer, type ServerOptions } from '../../src/api/server.ts';
+import { createToken } from '../../src/service/tokens.ts';
+import { TOKEN_ROLES, type TokenRole } from '../../src/registry/schema-auth.ts';
+
+export interface ApiHarness {
+  registry: Registry;
+  server: RunningServer;
+  url: string;
+  /** A token per role; user names are the role names ("reader", "editor", ...). */
+  tokens: Record<TokenRole, string>;
+  /** fetch against the server; `as` adds "Authorization: Bearer <token of that role>". */
+  request(path: string, init?: RequestInit & { as?: TokenRole; token?: string }): Promise<Response>;
+  /** Row count of a table, to prove a refused request wrote nothing. */
+  count(table: string): number;
+  stop(): Promise<void>;
+}
+
+export async function startHarness(options: Partial<ServerOptions> = {}): Promise<ApiHarness> {
+  const dir = mkdtempSync(join(tmpdir(), 'nkledger-api-'));
+  const registry = openRegistry(join(dir, 'api.db'));
+  const tokens = Object.fromEntries(
+    TOKEN_ROLES.map((role) => [role, createToken(registry, { user: role, role, createdBy: 'test-setup' }).token]),
+  ) as Record<TokenRole, string>;
+  const server = await startServer({ registry, host: '127.0.0.1', port: 0, ...options });
+  return {
+    registry,
+    server,
+    url: server.url,
+    tokens,
+    request(path, init = {}) {
+      const { as, token, ...rest } = init;
+      const headers = new Headers(rest.headers);
+      const bearer = token ?? (as ? tokens[as] : undefined);
+      if (bearer !== undefined) headers.set('authorization', `Bearer ${bearer}`);
+      return fetch(`${server.url}${path}`, { ...rest, headers });
+    },
+    count(table) {
+      return (registry.sqlite.prepare(`SELECT COUNT(*) AS n FROM ${table}`).get() as { n: number }).n;
+    },
+    async stop() {
+      await server.close();
+      registry.close();
+      rmSync(dir, { recursive: true, force: true });
+    },
+  };
+}
+
+/** Counts of every table a write could touch. */
+export function snapshotCounts(h: ApiHarness): Record<string, number> {
+  return Object.fromEntries(
+    ['materials', 'material_versions', 'audit_log', 'api_tokens', 'api_settings'].map((t) => [t, h.count(t)]),
+  );
+}
+
+export const json = (body: unknown): RequestInit => ({
+  method: 'POST',
+  headers: { 'content-type': 'application/json' },
+  body: JSON.stringify(body),
+});
+
+/**
+ * An invented, smooth n,k table as CSV (not a measurement): a Cauchy-like n = a + 0.01/λ²(µm) and a
+ * small absorption tail k = 0.002·(400/λ)⁴, 400…800 nm every 25 nm (17 rows, enough for the KK check).
+ * Different `a` give different content, hence different hashes.
+ */
+export function csvTable(a = 1.9): string {
+  const rows = ['wavelength_nm,n,k'];
+  for (let wl = 400; wl <= 800; wl += 25) {
+    const um = wl / 1000;
+    rows.push(`${wl},${(a + 0.01 / um ** 2).toFixed(6)},${(0.002 * (400 / wl) ** 4).toFixed(6)}`);
+  }
+  return `${rows.join('\n')}\n`;
+}
+
+export const csv = (body: string): RequestInit => ({ method: 'POST', headers: { 'content-type': 'text/csv' }, body });
