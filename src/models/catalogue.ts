@@ -94,7 +94,8 @@ export function buildModel(spec: string, options: ModelOptions = {}): Dispersion
   }
   const termCapable = terms.filter((t) => t.terms);
   if (options.terms !== undefined) {
-    if (termCapable.length === 0) throw new InputError('terms-not-supported', `--terms does not apply to "${spec}"; it applies to ${MODEL_CATALOGUE.filter((t) => t.terms).map((t) => t.name).join(', ')}`);
+    // terms = 1 is every model's natural form, so a report's options rebuild any model
+    if (termCapable.length === 0 && options.terms !== 1) throw new InputError('terms-not-supported', `--terms does not apply to "${spec}"; it applies to ${MODEL_CATALOGUE.filter((t) => t.terms).map((t) => t.name).join(', ')}`);
     for (const t of termCapable) {
       const range = t.terms!;
       if (!Number.isInteger(options.terms) || options.terms < range.min || options.terms > range.max) {

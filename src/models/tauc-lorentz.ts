@@ -169,7 +169,22 @@ function guessGapEv(data: GuessData, peakEnergy: number, eps2Max: number): numbe
   return Number.isFinite(first) ? first - 0.2 : 0.8 * Math.min(...Array.from(data.energyEv));
 }
 
-function guess(data: GuessData, options: TermOptions): number[] {
+/**
+ * The interband part of the data: rows above the energy of minimum ε2 (below it, free-carrier or
+ * other low-energy absorption of a summed term dominates), with that minimum subtracted as a baseline.
+ */
+function interbandPart(data: GuessData): GuessData {
+  let low = 0;
+  for (let i = 1; i < data.eps2.length; i++) if (data.eps2[i] < data.eps2[low]) low = i;
+  const eMin = data.energyEv[low];
+  const keep = Array.from(data.energyEv.keys()).filter((i) => data.energyEv[i] >= eMin);
+  const pick = (a: Float64Array) => Float64Array.from(keep, (i) => a[i]);
+  const eps2 = Float64Array.from(keep, (i) => data.eps2[i] - data.eps2[low]);
+  return { ...data, wavelengthNm: pick(data.wavelengthNm), wavelengthUm: pick(data.wavelengthUm), energyEv: pick(data.energyEv), n: pick(data.n), k: pick(data.k), eps1: pick(data.eps1), eps2 };
+}
+
+function guess(all: GuessData, options: TermOptions): number[] {
+  const data = interbandPart(all);
   const eMax = Math.max(...Array.from(data.energyEv));
   const eps2Max = Math.max(...Array.from(data.eps2));
   const values: number[] = [];
