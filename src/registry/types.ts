@@ -12,15 +12,13 @@ export type { MeasurementMethod, VersionStatus };
  */
 export interface StoredFitReport {
   model: string;
-  parameters: Record<string, { value: number; stderr?: number | null; unit?: string; [key: string]: unknown }>;
+  parameters: Record<string, { value: number; stderr?: number | null; unit?: string }>;
   range_nm: [number, number];
-  [key: string]: unknown;
 }
 
 /** A Kramers-Kronig report as stored: engineer C's KkReport (src/kk/check.ts), plain JSON. */
 export interface StoredKkReport {
   verdict: string;
-  [key: string]: unknown;
 }
 
 /** The immutable content of a version: the normalized table and/or a fitted model, and the KK report. */

@@ -14,3 +14,22 @@ export { normalizeProvenance, parseMetaPairs, type ProvenanceInput } from './pro
 export { createMaterial, listMaterials, getMaterial, history, type NewMaterial } from './materials.ts';
 export { importVersion, resolveRef, showVersion, versionSummary, type NewVersion, type ImportedVersion, type ResolvedRef } from './versions.ts';
 export { approve, retire, withdraw, getRegistrySettings, setRegistrySetting, type RegistrySettings } from './lifecycle.ts';
+export { verifyRegistry, backup, IMMUTABILITY_TRIGGERS, type VerifyReport, type HashMismatch } from './registry-admin.ts';
+export {
+  lockAdd,
+  lockVerify,
+  lockOutdated,
+  parseLockfile,
+  serializeLockfile,
+  readLockfile,
+  writeLockfile,
+  emptyLockfile,
+  LOCK_FORMAT,
+  LOCK_FORMAT_VERSION,
+  type Lockfile,
+  type LockEntry,
+  type LockAddResult,
+  type LockCheck,
+  type LockVerifyReport,
+  type LockOutdatedEntry,
+} from './lock.ts';

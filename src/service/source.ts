@@ -12,10 +12,16 @@ export const STDIN_SOURCE = '-';
 
 /** Read and import a table from a file path or "-" (stdin). Errors are InputErrors naming the source. */
 export async function loadTable(source: string, options: ImportOptions = {}): Promise<ImportResult> {
+  const { bytes, file, maxBytes } = await readSource(source, options);
+  return parseNkTable(bytes, { ...options, file, maxBytes });
+}
+
+/** The raw bytes of a file path or "-" (stdin), within the size limit, and the name errors should give it. */
+export async function readSource(source: string, options: ImportOptions = {}): Promise<{ bytes: Uint8Array; file: string; maxBytes: number }> {
   const maxBytes = options.maxBytes ?? DEFAULT_MAX_BYTES;
   const file = options.file ?? (source === STDIN_SOURCE ? '<stdin>' : source);
   const bytes = source === STDIN_SOURCE ? await readStdin(maxBytes, file) : await readLimitedFile(source, maxBytes, file);
-  return parseNkTable(bytes, { ...options, file, maxBytes });
+  return { bytes, file, maxBytes };
 }
 
 async function readLimitedFile(path: string, maxBytes: number, file: string): Promise<Uint8Array> {

@@ -7,10 +7,25 @@ import * as inspect from './inspect.ts';
 import * as evaluate from './eval.ts';
 import * as convert from './convert.ts';
 import * as demo from './demo.ts';
+import * as kk from './kk.ts';
+import * as material from './material.ts';
+import * as importCmd from './import.ts';
+import * as show from './show.ts';
+import * as list from './list.ts';
+import * as history from './history.ts';
+import * as approve from './approve.ts';
+import * as retire from './retire.ts';
+import * as withdraw from './withdraw.ts';
+import * as selfApproval from './self-approval.ts';
+import * as lock from './lock.ts';
+import * as verify from './verify.ts';
+import * as backup from './backup.ts';
 
 type Register = (program: Command) => void;
 
-const commands: Register[] = [demo.register, inspect.register, evaluate.register, convert.register, serve.register, token.register, settings.register];
+const commands: Register[] = [demo.register, inspect.register, evaluate.register, convert.register, kk.register, serve.register, token.register, settings.register,
+  material.register, importCmd.register, show.register, list.register, history.register, approve.register, retire.register,
+  withdraw.register, selfApproval.register, lock.register, verify.register, backup.register];
 
 export function registerCommands(program: Command): void {
   for (const register of commands) register(program);

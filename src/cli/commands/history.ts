@@ -1,0 +1,30 @@
+/** `nkledger history SLUG`: a material's versions and its audit log (who did what, when). */
+import type { Command } from 'commander';
+import { history } from '../../service/materials.ts';
+import { addDbOption, withRegistry } from '../admin-options.ts';
+import { guarded } from '../failure.ts';
+import { formatTable, printJson, printLines } from '../output.ts';
+import { shortTime } from '../registry-output.ts';
+
+export function register(program: Command): void {
+  addDbOption(program.command('history'))
+    .description("a material's versions and its audit log")
+    .argument('<slug>', 'material slug')
+    .option('--json', 'print {"material", "versions", "audit"} as JSON')
+    .addHelpText('after', '\nExample:\n  nkledger history sin-pecvd-a')
+    .action(
+      guarded(async (slug: string, opts: { db?: string; json?: boolean }) => {
+        const h = await withRegistry(opts, (r) => history(r, slug));
+        if (opts.json) return printJson(h);
+        const versions = h.versions.map((v) => [v.ref, v.status, v.sha256.slice(0, 12), v.model ?? (v.has_table ? 'table' : ''), v.created_by, v.approved_by ?? '']);
+        const audit = h.audit.map((a) => `${shortTime(a.at)}  ${a.actor.padEnd(12)} ${a.action.padEnd(17)} ${a.ref ?? ''}${a.detail.reason ? `  (${a.detail.reason})` : ''}`);
+        printLines([
+          `${h.material.slug}: ${h.material.name}`,
+          ...(versions.length ? formatTable(['version', 'status', 'sha256', 'content', 'created by', 'approved by'], versions) : ['no versions yet']),
+          '',
+          'audit log:',
+          ...audit,
+        ]);
+      }),
+    );
+}

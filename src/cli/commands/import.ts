@@ -1,0 +1,54 @@
+/** `nkledger import FILE --material SLUG`: store a measured table (and optionally a fitted model) as a new draft. */
+import type { Command } from 'commander';
+import { importMeasurement } from '../../service/import-measurement.ts';
+import { parseMetaPairs } from '../../service/provenance.ts';
+import { readSource } from '../../service/source.ts';
+import { actorFrom, addAsOption, addDbOption, withRegistry } from '../admin-options.ts';
+import { guarded } from '../failure.ts';
+import { addImportOptions, importOptionsFrom, type ImportFlags } from '../import-options.ts';
+import { printJson, printLines, printWarnings } from '../output.ts';
+
+interface ImportCliOptions extends ImportFlags {
+  db?: string;
+  as?: string;
+  material: string;
+  note?: string;
+  meta?: string[];
+  kk: boolean;
+  json?: boolean;
+}
+
+export function register(program: Command): void {
+  addImportOptions(
+    addAsOption(addDbOption(program.command('import')))
+      .description('store a measured n,k table as a new draft version of a material, with provenance and a Kramers-Kronig report')
+      .argument('<file>', 'table file, or - for standard input')
+      .requiredOption('--material <slug>', 'the material (create it first with `nkledger material add`)')
+      .option('--note <text>', 'free notes stored with the version')
+      .option(
+        '--meta <key=value...>',
+        'provenance: sample, substrate, process (or recipe), instrument, method (spectroscopic-ellipsometry | spectrophotometry | prism-coupling | other), angles (degrees, e.g. 65,70,75), measured_on (YYYY-MM-DD), operator',
+      )
+      .option('--no-kk', 'do not run the Kramers-Kronig check (it runs by default and its report is stored)')
+      .option('--json', 'print {"ref", "sha256", "status", "warnings"} as JSON'),
+  )
+    .addHelpText(
+      'after',
+      '\nExample:\n  nkledger import data/marrowick/sin-pecvd-a.csv --material sin-pecvd-a \\\n' +
+        '    --meta instrument="SE-2000" method=spectroscopic-ellipsometry angles=65,70,75 measured_on=2024-04-18 --note "wafer 7, centre"',
+    )
+    .action(
+      guarded(async (file: string, opts: ImportCliOptions) => {
+        const importOptions = importOptionsFrom(opts);
+        const provenance = parseMetaPairs(opts.meta ?? []);
+        if (opts.note !== undefined) provenance.notes = opts.note;
+        const { bytes, file: name } = await readSource(file, importOptions);
+        const stored = await withRegistry(opts, (r) =>
+          importMeasurement(r, { slug: opts.material, bytes, file: name, importOptions, kk: opts.kk, provenance }, actorFrom(opts)),
+        );
+        printWarnings([...stored.import_warnings, ...stored.warnings]);
+        if (opts.json) return printJson({ ref: stored.ref, sha256: stored.sha256, status: stored.status, warnings: [...stored.import_warnings, ...stored.warnings] });
+        printLines([`stored ${stored.ref} (${stored.status}) sha256:${stored.sha256}`, `someone other than you approves it with: nkledger approve ${stored.ref}`]);
+      }),
+    );
+}

@@ -1,0 +1,70 @@
+/** `nkledger lock add|verify|outdated --lock FILE`: a design's lockfile of pinned material versions. */
+import type { Command } from 'commander';
+import { lockAdd, lockOutdated, lockVerify, readLockfile, writeLockfile } from '../../service/lock.ts';
+import { addDbOption, withRegistry } from '../admin-options.ts';
+import { guarded } from '../failure.ts';
+import { formatTable, printJson, printLines } from '../output.ts';
+import { printResolution } from '../registry-output.ts';
+
+/** Exit code of a check that ran but did not pass (verify, lock verify): distinct from bad input (2). */
+export const CHECK_FAILED_EXIT = 3;
+
+export function register(program: Command): void {
+  const lock = program.command('lock').description("a design's lockfile: the exact version and content hash of every material it uses");
+
+  addDbOption(lock.command('add'))
+    .description('pin a version in the lockfile (created if missing; replaces another version of the same material)')
+    .argument('<ref>', 'slug@N, slug@sha256:PREFIX or a bare slug (pins its latest approved version)')
+    .requiredOption('--lock <file>', 'lockfile path, e.g. design.nklock.json')
+    .option('--json', 'print {"ref", "sha256", "replaced"} as JSON')
+    .addHelpText('after', '\nExample:\n  nkledger lock add sin-pecvd-a@3 --lock filter.nklock.json')
+    .action(
+      guarded(async (ref: string, opts: { db?: string; lock: string; json?: boolean }) => {
+        const current = readLockfile(opts.lock, { allowMissing: true });
+        const result = await withRegistry(opts, (r) => lockAdd(r, current, ref));
+        writeLockfile(opts.lock, result.lock);
+        printResolution(result);
+        if (opts.json) return printJson({ ref: result.ref, sha256: result.entry.sha256, replaced: result.replaced });
+        printLines([`pinned ${result.ref} sha256:${result.entry.sha256} in ${opts.lock}`]);
+      }),
+    );
+
+  addDbOption(lock.command('verify'))
+    .description(`check every entry resolves to identical content (exit 0), else name each problem (exit ${CHECK_FAILED_EXIT})`)
+    .requiredOption('--lock <file>', 'lockfile path')
+    .option('--strict', 'retired, draft and withdrawn versions fail too (otherwise they are warnings)')
+    .option('--json', 'print {"ok", "entries": [{"ref", "outcome", "message", ...}], ...} as JSON')
+    .addHelpText('after', '\nExample:\n  nkledger lock verify --lock filter.nklock.json --strict')
+    .action(
+      guarded(async (opts: { db?: string; lock: string; strict?: boolean; json?: boolean }) => {
+        const lockfile = readLockfile(opts.lock);
+        const report = await withRegistry(opts, (r) => lockVerify(r, lockfile, { strict: opts.strict }));
+        if (!report.ok) process.exitCode = CHECK_FAILED_EXIT;
+        if (opts.json) return printJson(report);
+        for (const e of report.entries) {
+          const tag = e.failed ? 'FAIL' : e.outcome === 'ok' ? 'ok  ' : 'warn';
+          process[e.failed || e.outcome !== 'ok' ? 'stderr' : 'stdout'].write(`${tag}  ${e.message}\n`);
+        }
+        printLines([
+          report.ok
+            ? `lockfile ok: ${report.entries.length} entries${report.warnings ? `, ${report.warnings} warning(s)` : ''}`
+            : `lockfile FAILED: ${report.failures} of ${report.entries.length} entries`,
+        ]);
+      }),
+    );
+
+  addDbOption(lock.command('outdated'))
+    .description('list locked materials that have newer approved versions')
+    .requiredOption('--lock <file>', 'lockfile path')
+    .option('--json', 'print [{"ref", "locked_version", "newer_approved", "latest_approved"}] as JSON')
+    .addHelpText('after', '\nExample:\n  nkledger lock outdated --lock filter.nklock.json')
+    .action(
+      guarded(async (opts: { db?: string; lock: string; json?: boolean }) => {
+        const lockfile = readLockfile(opts.lock);
+        const outdated = await withRegistry(opts, (r) => lockOutdated(r, lockfile));
+        if (opts.json) return printJson(outdated);
+        if (outdated.length === 0) return printLines(['every locked material is at its latest approved version']);
+        printLines(formatTable(['locked', 'newer approved', 'latest'], outdated.map((o) => [o.ref, o.newer_approved.map((n) => `@${n}`).join(' '), `${o.slug}@${o.latest_approved}`])));
+      }),
+    );
+}

@@ -1,0 +1,27 @@
+/** `nkledger material add SLUG --name ...`: create a material in the registry (versions come from `import`). */
+import type { Command } from 'commander';
+import { createMaterial } from '../../service/materials.ts';
+import { actorFrom, addAsOption, addDbOption, withRegistry } from '../admin-options.ts';
+import { guarded } from '../failure.ts';
+import { printJson, printLines } from '../output.ts';
+
+export function register(program: Command): void {
+  const material = program.command('material').description('materials in the registry (each holds numbered versions)');
+  addAsOption(addDbOption(material.command('add')))
+    .description('create a material; its slug (lowercase letters, digits, hyphens) is how designs name it')
+    .argument('<slug>', 'e.g. sin-pecvd-a')
+    .requiredOption('--name <text>', 'display name, e.g. "PECVD silicon nitride, recipe A"')
+    .option('--description <text>', 'what the material is, how it is made')
+    .option('--tag <tag...>', 'tags for finding it (repeatable)')
+    .option('--json', 'print the material as JSON')
+    .addHelpText('after', '\nExample:\n  nkledger material add sin-pecvd-a --name "PECVD SiNx, recipe A" --tag nitride --tag pecvd')
+    .action(
+      guarded(async (slug: string, opts: { db?: string; as?: string; name: string; description?: string; tag?: string[]; json?: boolean }) => {
+        const created = await withRegistry(opts, (r) =>
+          createMaterial(r, { slug, name: opts.name, description: opts.description, tags: opts.tag }, actorFrom(opts)),
+        );
+        if (opts.json) return printJson(created);
+        printLines([`created material ${created.slug} (${created.name}); add versions with: nkledger import FILE --material ${created.slug}`]);
+      }),
+    );
+}

@@ -1,0 +1,40 @@
+/** `nkledger show REF`: one version with its provenance, lifecycle and reports. */
+import type { Command } from 'commander';
+import { PROVENANCE_FIELDS } from '../../registry/types.ts';
+import { showVersion } from '../../service/versions.ts';
+import { addDbOption, withRegistry } from '../admin-options.ts';
+import { guarded } from '../failure.ts';
+import { printJson, printLines } from '../output.ts';
+import { contentSummary, lifecycleLines, printResolution } from '../registry-output.ts';
+
+export function register(program: Command): void {
+  addDbOption(program.command('show'))
+    .description('show a version: status, content hash, what it holds, provenance, fit parameters and KK verdict')
+    .argument('<ref>', 'slug@N, slug@sha256:PREFIX, or a bare slug (latest approved)')
+    .option('--json', 'print {"ref", "status", "sha256", "provenance", "content", ...} as JSON')
+    .addHelpText('after', '\nExample:\n  nkledger show sin-pecvd-a@2')
+    .action(
+      guarded(async (ref: string, opts: { db?: string; json?: boolean }) => {
+        const v = await withRegistry(opts, (r) => showVersion(r, ref));
+        printResolution(v);
+        if (opts.json) return printJson(v);
+        const lines = [`${v.ref}  ${v.status}`, `  sha256     ${v.sha256}`, `  content    ${contentSummary(v)}`, ...lifecycleLines(v).map((l) => `  ${l}`)];
+        const prov = PROVENANCE_FIELDS.filter((f) => v.provenance[f] !== null).map((f) => {
+          const value = v.provenance[f];
+          return `    ${f.padEnd(13)} ${Array.isArray(value) ? value.join(', ') : value}`;
+        });
+        if (prov.length) lines.push('  provenance', ...prov);
+        const fit = v.content.fit;
+        if (fit) {
+          lines.push(`  model      ${fit.model}, valid ${fit.range_nm[0]}–${fit.range_nm[1]} nm`);
+          for (const [name, p] of Object.entries(fit.parameters)) {
+            const err = typeof p.stderr === 'number' ? ` ± ${p.stderr.toPrecision(2)}` : '';
+            lines.push(`    ${name.padEnd(13)} ${p.value.toPrecision(6)}${err}${p.unit ? ` ${p.unit}` : ''}`);
+          }
+        }
+        const kk = v.content.kk as { verdict: string; summary?: string } | null;
+        if (kk) lines.push(`  KK check   ${kk.verdict}${kk.summary ? `: ${kk.summary}` : ''}`);
+        printLines(lines);
+      }),
+    );
+}

@@ -1,0 +1,62 @@
+/**
+ * The import pipeline behind `nkledger import` and the API's upload: parse the measured table,
+ * optionally fit a model, run the Kramers-Kronig check, and store everything as one new draft.
+ * The fit and the check run before (outside) the write transaction, so writers never wait on them.
+ */
+import { InputError } from '../errors.ts';
+import { checkKramersKronig, type KkOptions } from '../kk/check.ts';
+import { parseNkTable, type ImportOptions } from '../io/parse-table.ts';
+import { sha256Hex } from '../registry/canonical.ts';
+import type { Registry } from '../registry/open.ts';
+import type { NkTable } from '../table.ts';
+import type { StoredFitReport, StoredKkReport } from '../registry/types.ts';
+import { importVersion, type ImportedVersion } from './versions.ts';
+import type { ProvenanceInput } from './provenance.ts';
+
+export interface MeasurementImport {
+  slug: string;
+  /** The file's bytes, exactly as read (their SHA-256 is recorded as source_sha256). */
+  bytes: Uint8Array;
+  /** The file name as given (only its last path component is stored as source_file). */
+  file: string;
+  importOptions?: ImportOptions;
+  /** Run the Kramers-Kronig check and store its report (default true); options pass through. */
+  kk?: boolean | KkOptions;
+  provenance?: ProvenanceInput;
+}
+
+export interface MeasurementImported extends ImportedVersion {
+  /** Warnings of the table import (e.g. small negative k set to 0). */
+  import_warnings: string[];
+}
+
+/** The KK report of a table, or an InputError that says how to import without it. */
+export function kkReportFor(table: NkTable, options: KkOptions = {}): StoredKkReport {
+  try {
+    return checkKramersKronig(table, options);
+  } catch (err) {
+    if (err instanceof InputError) {
+      throw new InputError('kk-not-possible', `the Kramers-Kronig check cannot run on this table (${err.message}); import with --no-kk to store it without a KK report`, err.location);
+    }
+    throw err;
+  }
+}
+
+/** Parse, check and store a measured table as a new draft of `slug`. */
+export function importMeasurement(registry: Registry, input: MeasurementImport, actor: string, fit?: (table: NkTable) => StoredFitReport): MeasurementImported {
+  const imported = parseNkTable(input.bytes, { ...input.importOptions, file: input.file });
+  const table = imported.table;
+  const kk = input.kk === false ? null : kkReportFor(table, input.kk === true || input.kk === undefined ? {} : input.kk);
+  const stored = importVersion(
+    registry,
+    {
+      slug: input.slug,
+      table,
+      fit: fit ? fit(table) : null,
+      kk,
+      provenance: { ...input.provenance, source_file: input.provenance?.source_file ?? input.file, source_sha256: sha256Hex(input.bytes) },
+    },
+    actor,
+  );
+  return { ...stored, import_warnings: imported.warnings };
+}

@@ -1,0 +1,204 @@
+/**
+ * Design lockfiles: which version (number and content hash) of each material a design uses.
+ *
+ * Format (JSON, format_version 1):
+ *   { "format": "nkledger-lock", "format_version": 1,
+ *     "materials": { "<slug>": { "version": 3, "sha256": "<64 hex>", "added_at": "<ISO 8601>" } } }
+ * One entry per material, slugs sorted; written with two-space indentation and a final newline.
+ */
+import { readFileSync, renameSync, writeFileSync } from 'node:fs';
+import { and, asc, eq, gt } from 'drizzle-orm';
+import { z } from 'zod';
+import { ConflictError, InputError, NotFoundError } from '../errors.ts';
+import type { Registry } from '../registry/open.ts';
+import { findMaterial } from '../registry/records.ts';
+import { formatRef, SLUG_PATTERN } from '../registry/refs.ts';
+import { materialVersions } from '../registry/schema.ts';
+import type { VersionStatus } from '../registry/types.ts';
+import { resolveRow } from './versions.ts';
+
+export const LOCK_FORMAT = 'nkledger-lock';
+export const LOCK_FORMAT_VERSION = 1;
+
+const lockEntrySchema = z.strictObject({
+  version: z.number().int().min(1),
+  sha256: z.string().regex(/^[0-9a-f]{64}$/, 'sha256 must be 64 lowercase hex digits'),
+  added_at: z.string().optional(),
+});
+const lockSchema = z.strictObject({
+  format: z.literal(LOCK_FORMAT),
+  format_version: z.literal(LOCK_FORMAT_VERSION),
+  materials: z.record(z.string().regex(SLUG_PATTERN, 'material keys are slugs'), lockEntrySchema),
+});
+
+export type LockEntry = z.infer<typeof lockEntrySchema>;
+export type Lockfile = z.infer<typeof lockSchema>;
+
+export function emptyLockfile(): Lockfile {
+  return { format: LOCK_FORMAT, format_version: LOCK_FORMAT_VERSION, materials: {} };
+}
+
+/** Parse and check lockfile text (or an already-parsed JSON value, as the HTTP API receives it). */
+export function parseLockfile(input: string | unknown, file = '<lockfile>'): Lockfile {
+  let value: unknown = input;
+  if (typeof input === 'string') {
+    try {
+      value = JSON.parse(input);
+    } catch (err) {
+      throw new InputError('lock-json', `not JSON: ${(err as Error).message}`, { file });
+    }
+  }
+  const parsed = lockSchema.safeParse(value);
+  if (!parsed.success) {
+    const issue = parsed.error.issues[0];
+    const where = issue.path.length ? issue.path.join('.') : '(top level)';
+    throw new InputError('lock-format', `not an nkledger lockfile (format_version ${LOCK_FORMAT_VERSION}): ${where}: ${issue.message}`, { file });
+  }
+  return parsed.data;
+}
+
+export function serializeLockfile(lock: Lockfile): string {
+  const materials = Object.fromEntries(Object.keys(lock.materials).sort().map((slug) => [slug, lock.materials[slug]]));
+  return `${JSON.stringify({ format: LOCK_FORMAT, format_version: LOCK_FORMAT_VERSION, materials }, null, 2)}\n`;
+}
+
+/** Read a lockfile; a missing file is an empty lockfile only when `allowMissing`. */
+export function readLockfile(path: string, options: { allowMissing?: boolean } = {}): Lockfile {
+  let text: string;
+  try {
+    text = readFileSync(path, 'utf8');
+  } catch (err) {
+    if ((err as NodeJS.ErrnoException).code === 'ENOENT' && options.allowMissing) return emptyLockfile();
+    throw new InputError('lock-read', `cannot read the lockfile: ${(err as Error).message}`, { file: path });
+  }
+  return parseLockfile(text, path);
+}
+
+/** Write a lockfile atomically (temp file + rename). */
+export function writeLockfile(path: string, lock: Lockfile): void {
+  const temp = `${path}.${process.pid}.tmp`;
+  writeFileSync(temp, serializeLockfile(lock));
+  renameSync(temp, path);
+}
+
+export interface LockAddResult {
+  lock: Lockfile;
+  ref: string;
+  entry: LockEntry;
+  /** The entry this one replaced (another version of the same material), if any. */
+  replaced: LockEntry | null;
+  notices: string[];
+  warnings: string[];
+}
+
+/** Pin `ref` in `lock` (returns a new lockfile; the input is not changed). Withdrawn versions are refused. */
+export function lockAdd(registry: Registry, lock: Lockfile, ref: string): LockAddResult {
+  const { resolved } = resolveRow(registry, ref);
+  if (resolved.status === 'withdrawn') throw new ConflictError(`${resolved.ref} was withdrawn; a design must not pin it`, 'lock-withdrawn');
+  const entry: LockEntry = { version: resolved.version, sha256: resolved.sha256, added_at: new Date().toISOString() };
+  const replaced = lock.materials[resolved.slug] ?? null;
+  const notices = resolved.notices.filter((n) => !n.includes('not a pin'));
+  if (replaced && replaced.version !== entry.version) notices.push(`replaced ${formatRef(resolved.slug, replaced.version)} with ${resolved.ref}`);
+  return {
+    lock: { ...lock, materials: { ...lock.materials, [resolved.slug]: entry } },
+    ref: resolved.ref,
+    entry,
+    replaced,
+    notices,
+    warnings: resolved.warnings,
+  };
+}
+
+export type LockOutcome = 'ok' | 'mismatch' | 'missing' | 'retired' | 'draft' | 'withdrawn';
+
+export interface LockCheck {
+  ref: string;
+  slug: string;
+  version: number;
+  locked_sha256: string;
+  /** The hash the registry holds now, null when the entry is missing. */
+  registry_sha256: string | null;
+  status: VersionStatus | null;
+  outcome: LockOutcome;
+  /** True when this entry makes the verification fail. */
+  failed: boolean;
+  message: string;
+}
+
+export interface LockVerifyReport {
+  ok: boolean;
+  strict: boolean;
+  entries: LockCheck[];
+  failures: number;
+  warnings: number;
+}
+
+/**
+ * Check every entry: missing materials or versions and hash mismatches always fail; retired, draft
+ * and withdrawn versions are warnings, and failures with `strict`.
+ */
+export function lockVerify(registry: Registry, lock: Lockfile, options: { strict?: boolean } = {}): LockVerifyReport {
+  const strict = options.strict ?? false;
+  const entries = Object.keys(lock.materials)
+    .sort()
+    .map((slug): LockCheck => {
+      const locked = lock.materials[slug];
+      const ref = formatRef(slug, locked.version);
+      const base = { ref, slug, version: locked.version, locked_sha256: locked.sha256 };
+      let row;
+      try {
+        row = resolveRow(registry, ref).row;
+      } catch (err) {
+        if (!(err instanceof NotFoundError)) throw err;
+        return { ...base, registry_sha256: null, status: null, outcome: 'missing', failed: true, message: `${ref} is missing: ${err.message}` };
+      }
+      if (row.sha256 !== locked.sha256) {
+        return {
+          ...base,
+          registry_sha256: row.sha256,
+          status: row.status,
+          outcome: 'mismatch',
+          failed: true,
+          message: `${ref} content differs: locked sha256 ${locked.sha256.slice(0, 12)}…, registry has ${row.sha256.slice(0, 12)}…`,
+        };
+      }
+      if (row.status === 'approved') return { ...base, registry_sha256: row.sha256, status: row.status, outcome: 'ok', failed: false, message: `${ref} ok` };
+      const why = row.status === 'retired' ? `retired: ${row.retireReason}` : row.status === 'withdrawn' ? 'withdrawn: nobody should use it' : 'a draft, not approved';
+      return { ...base, registry_sha256: row.sha256, status: row.status, outcome: row.status, failed: strict, message: `${ref} is ${why}` };
+    });
+  const failures = entries.filter((e) => e.failed).length;
+  return { ok: failures === 0, strict, entries, failures, warnings: entries.filter((e) => !e.failed && e.outcome !== 'ok').length };
+}
+
+export interface LockOutdatedEntry {
+  ref: string;
+  slug: string;
+  locked_version: number;
+  /** Approved versions newer than the locked one, oldest first. */
+  newer_approved: number[];
+  latest_approved: number | null;
+}
+
+/** For each entry, the approved versions newer than the one locked (only entries that have some). */
+export function lockOutdated(registry: Registry, lock: Lockfile): LockOutdatedEntry[] {
+  const out: LockOutdatedEntry[] = [];
+  for (const slug of Object.keys(lock.materials).sort()) {
+    const locked = lock.materials[slug];
+    let material;
+    try {
+      material = findMaterial(registry, slug);
+    } catch (err) {
+      if (err instanceof NotFoundError) continue; // lock verify reports missing materials
+      throw err;
+    }
+    const newer = registry.db
+      .select({ number: materialVersions.number })
+      .from(materialVersions)
+      .where(and(eq(materialVersions.materialId, material.id), eq(materialVersions.status, 'approved'), gt(materialVersions.number, locked.version)))
+      .orderBy(asc(materialVersions.number))
+      .all()
+      .map((r) => r.number);
+    if (newer.length) out.push({ ref: formatRef(slug, locked.version), slug, locked_version: locked.version, newer_approved: newer, latest_approved: newer[newer.length - 1] });
+  }
+  return out;
+}
