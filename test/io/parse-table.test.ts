@@ -1,0 +1,163 @@
+import { readFileSync } from 'node:fs';
+import { describe, expect, it } from 'vitest';
+import { InputError } from '../../src/errors.ts';
+import { parseNkTable, type ImportOptions } from '../../src/io/parse-table.ts';
+
+const FIXTURES = new URL('../fixtures/import/', import.meta.url);
+const read = (path: string) => readFileSync(new URL(path, FIXTURES));
+const BASE = { wavelengthNm: [400, 500, 600], n: [1.52, 1.51, 1.5], k: [0.001, 0.0005, 0] };
+
+/** Every good fixture, what it exercises, and the table and detection it must give. */
+const GOOD: { file: string; options?: ImportOptions; table?: object; detected?: object; warnings?: RegExp[] }[] = [
+  { file: 'basic-nm.csv', table: BASE, detected: { delimiter: ',', xUnit: 'nm', header: true, hasK: true } },
+  { file: 'semicolon-decimal-comma-um.csv', table: BASE, detected: { delimiter: ';', decimalComma: true, xUnit: 'um' } },
+  { file: 'tab-angstrom.tsv', table: BASE, detected: { delimiter: '\t', xUnit: 'A' } },
+  {
+    file: 'whitespace-ev-eps.txt',
+    // ε = 9, −3+4i, 3+4i → N = 3, 1+2i, 2+i at 1, 2, 3 eV = 1239.841984, 619.920992, 413.28066… nm.
+    table: { wavelengthNm: [1239.841984 / 3, 1239.841984 / 2, 1239.841984], n: [2, 1, 3], k: [1, 2, 0] },
+    detected: { delimiter: 'whitespace', xUnit: 'eV', quantity: 'eps', columns: ['energy (eV)', 'ε1', 'ε2'] },
+  },
+  {
+    file: 'bom-crlf-wavenumber-descending.csv',
+    table: { ...BASE, wavelengthNm: [400, 500, 625] },
+    detected: { bom: true, lineEnding: 'CRLF', xUnit: 'cm-1' },
+  },
+  {
+    file: 'sigma-columns.csv',
+    table: { ...BASE, sigmaN: [0.002, 0.001, 0.001], sigmaK: [0.0003, 0.0002, 0.0002] },
+    detected: { hasSigma: true, roles: ['x', 'n', 'k', 'sigma_n', 'sigma_k'] },
+  },
+  { file: 'comments-blank-lines.csv', table: BASE, detected: { dataLines: [5, 10], rows: 3 }, warnings: [] },
+  { file: 'headerless.csv', options: { columns: ['wavelength', 'n', 'k'], xUnit: 'nm' }, table: BASE, detected: { header: false } },
+  {
+    file: 'headerless.csv',
+    options: { columns: ['wavelength (Å)', 'n', 'k'], xUnit: 'nm' }, // the explicit unit wins over the one in --columns
+    table: BASE,
+  },
+  { file: 'basic-nm.csv', options: { xUnit: 'A' }, table: { ...BASE, wavelengthNm: [40, 50, 60] } },
+  {
+    file: 'negative-k-within-tolerance.csv',
+    table: { wavelengthNm: [400, 500, 600, 700], n: [1.52, 1.51, 1.5, 1.49], k: [0.001, 0, 0, 0] },
+    warnings: [/^2 point\(s\) with small negative k \(down to -0\.00040, within the tolerance 0\.001\) set to 0$/],
+  },
+  { file: 'identical-repeat.csv', table: BASE, detected: { rows: 4 }, warnings: [/^1 identical repeated row\(s\) merged$/] },
+  {
+    file: 'unsorted.csv',
+    table: { wavelengthNm: [400, 500, 600, 700], n: [1.52, 1.51, 1.5, 1.49], k: [0.001, 0.0005, 0, 0] },
+    warnings: [/not in order \(line 4 goes back\)/],
+  },
+  { file: 'large-gap.csv', warnings: [/^1 large gap\(s\) in x \(over 5× the median spacing of 10 nm\); largest 440–700 nm \(lines 6 and 7\)/] },
+  { file: 'windows-1252-um.csv', table: BASE, detected: { encoding: 'windows-1252', xUnit: 'um' } },
+  { file: 'extra-column.csv', table: BASE, detected: { roles: ['x', 'n', 'k', 'ignore'] }, warnings: [/column 4 "temperature \(C\)" is not a known quantity; ignored/] },
+  { file: 'bare-wavelength.csv', table: BASE, warnings: [/no unit; values 400–600 read as nm/] },
+  { file: 'n-only.csv', table: { ...BASE, k: [0, 0, 0] }, detected: { hasK: false } },
+];
+
+/** Every malformed fixture and the exact refusal: rule, 1-based line and column (undefined where there is none). */
+const BAD: [file: string, rule: string, line?: number, column?: number][] = [
+  ['non-numeric.csv', 'non-numeric', 3, 2],
+  ['decimal-comma-in-csv.csv', 'non-numeric', 2, 2],
+  ['nan.csv', 'non-finite', 3, 3],
+  ['infinity.csv', 'non-finite', 3, 2],
+  ['overflow.csv', 'overflow', 4, 2],
+  ['n-zero.csv', 'n-not-positive', 3, 2],
+  ['n-negative.csv', 'n-not-positive', 3, 2],
+  ['eps-metal.txt', 'n-not-positive', 3, 2],
+  ['k-negative.csv', 'negative-k', 3, 3],
+  ['negative-sigma.csv', 'negative-sigma', 3, 3],
+  ['duplicate-x.csv', 'duplicate-x', 5, 1],
+  ['one-row.csv', 'too-few-rows', 2, undefined],
+  ['no-x-column.csv', 'no-x-column', 1, undefined],
+  ['unknown-unit.csv', 'unknown-unit', 1, 3],
+  ['missing-unit.csv', 'missing-unit', 1, 1],
+  ['mixed-columns.csv', 'mixed-columns', 1, undefined],
+  ['empty.csv', 'empty-file', undefined, undefined],
+  ['comments-only.csv', 'empty-file', undefined, undefined],
+  ['header-only.csv', 'header-only', 2, undefined],
+  ['binary.bin', 'binary-file', undefined, undefined],
+  ['field-count.csv', 'field-count', 3, 3],
+  ['headerless.csv', 'no-header', 1, undefined],
+  ['energy-zero.csv', 'x-not-positive', 2, 1],
+  ['unbalanced-quote.csv', 'unbalanced-quote', 3, undefined],
+];
+
+function refusal(run: () => unknown): InputError {
+  try {
+    run();
+  } catch (err) {
+    expect(err).toBeInstanceOf(InputError);
+    return err as InputError;
+  }
+  throw new Error('expected a refusal');
+}
+
+describe('parseNkTable: good files', () => {
+  for (const c of GOOD) {
+    it(`${c.file}${c.options ? ` with ${JSON.stringify(c.options)}` : ''}`, () => {
+      const result = parseNkTable(read(`good/${c.file}`), { file: c.file, ...c.options });
+      const t = result.table;
+      if (c.table) {
+        const expected = c.table as Record<string, number[]>;
+        expect(Object.keys(t).sort()).toEqual(Object.keys(expected).sort());
+        for (const key of Object.keys(expected)) {
+          const got = (t as unknown as Record<string, number[]>)[key];
+          expect(got.length, key).toBe(expected[key].length);
+          got.forEach((v, i) => expect(v, `${key}[${i}]`).toBeCloseTo(expected[key][i], 12));
+        }
+      }
+      for (let i = 1; i < t.wavelengthNm.length; i++) expect(t.wavelengthNm[i]).toBeGreaterThan(t.wavelengthNm[i - 1]);
+      if (c.detected) expect(result.detected).toMatchObject(c.detected);
+      if (c.warnings) {
+        expect(result.warnings).toHaveLength(c.warnings.length);
+        c.warnings.forEach((re, i) => expect(result.warnings[i]).toMatch(re));
+      }
+    });
+  }
+});
+
+describe('parseNkTable: malformed files are refused with file, line, column and rule', () => {
+  for (const [file, rule, line, column] of BAD) {
+    it(`${file} → ${rule} at ${line ?? '-'}:${column ?? '-'}`, () => {
+      const err = refusal(() => parseNkTable(read(`bad/${file}`), { file }));
+      expect(err.rule).toBe(rule);
+      expect(err.location).toEqual({ file, ...(line !== undefined && { line }), ...(column !== undefined && { column }) });
+      expect(err.describe()).toMatch(new RegExp(`^${file.replace('.', '\\.')}${line ? `:${line}` : ''}${column ? `:${column}` : ''}: .+ \\[${rule}\\]$`));
+    });
+  }
+});
+
+describe('parseNkTable: limits and options', () => {
+  it('refuses input over the size limit and accepts it once the limit is raised', () => {
+    const text = read('good/basic-nm.csv');
+    const err = refusal(() => parseNkTable(text, { file: 'big.csv', maxBytes: 20 }));
+    expect(err.rule).toBe('file-too-large');
+    expect(err.message).toMatch(/--max-size/);
+    expect(parseNkTable(text, { maxBytes: text.byteLength }).table.n).toHaveLength(3);
+  });
+
+  it('k tolerance is the user’s: a looser one accepts k = −0.01, a tighter one refuses k = −0.0004', () => {
+    expect(parseNkTable(read('bad/k-negative.csv'), { kTolerance: 0.02 }).table.k).toEqual([0.001, 0, 0]);
+    const err = refusal(() => parseNkTable(read('good/negative-k-within-tolerance.csv'), { kTolerance: 1e-4 }));
+    expect([err.rule, err.location.line, err.location.column]).toEqual(['negative-k', 3, 3]);
+  });
+
+  it('explicit delimiter and decimal comma override detection; a decimal comma with a comma separator is refused', () => {
+    const text = 'wl_nm|n|k\n400|1,5|0\n500|1,4|0\n';
+    expect(parseNkTable(text, { delimiter: '|' }).table.n).toEqual([1.5, 1.4]);
+    expect(parseNkTable('wavelength (nm);n\n400;1.5\n500;1.4\n', { decimalComma: false }).table.n).toEqual([1.5, 1.4]);
+    expect(refusal(() => parseNkTable('wavelength (nm),n\n400,1.5\n500,1.4\n', { decimalComma: true })).rule).toBe('bad-option');
+  });
+
+  it('ε input with σ(ε) columns gets σ(n), σ(k) by linear propagation through N = √ε', () => {
+    // N = 2 + i (ε = 3 + 4i), σ(ε1) = σ(ε2) = 0.1: σn = σk = 0.1·|N|/(2|N|²) = 0.1/(2√5) (dN = dε/2N).
+    const r = parseNkTable('energy (eV),eps1,eps2,sigma_eps1,sigma_eps2\n2,3,4,0.1,0.1\n3,3,4,0.1,0.1\n');
+    expect(r.table.sigmaN?.[0]).toBeCloseTo(0.1 / (2 * Math.sqrt(5)), 14);
+    expect(r.table.sigmaK?.[0]).toBeCloseTo(0.1 / (2 * Math.sqrt(5)), 14);
+  });
+
+  it('a string and its UTF-8 bytes import the same', () => {
+    const bytes = read('good/semicolon-decimal-comma-um.csv');
+    expect(parseNkTable(bytes.toString('utf8')).table).toEqual(parseNkTable(bytes).table);
+  });
+});
