@@ -8,6 +8,7 @@ import * as evaluate from './eval.ts';
 import * as convert from './convert.ts';
 import * as demo from './demo.ts';
 import * as kk from './kk.ts';
+import * as fit from './fit.ts';
 import * as material from './material.ts';
 import * as importCmd from './import.ts';
 import * as show from './show.ts';
@@ -20,12 +21,14 @@ import * as selfApproval from './self-approval.ts';
 import * as lock from './lock.ts';
 import * as verify from './verify.ts';
 import * as backup from './backup.ts';
+import * as diff from './diff.ts';
+import * as exportCmd from './export.ts';
 
 type Register = (program: Command) => void;
 
-const commands: Register[] = [demo.register, inspect.register, evaluate.register, convert.register, kk.register, serve.register, token.register, settings.register,
+const commands: Register[] = [demo.register, inspect.register, evaluate.register, convert.register, fit.register, kk.register, serve.register, token.register, settings.register,
   material.register, importCmd.register, show.register, list.register, history.register, approve.register, retire.register,
-  withdraw.register, selfApproval.register, lock.register, verify.register, backup.register];
+  withdraw.register, selfApproval.register, lock.register, verify.register, backup.register, diff.register, exportCmd.register];
 
 export function registerCommands(program: Command): void {
   for (const register of commands) register(program);

@@ -1,0 +1,93 @@
+/**
+ * Model comparison by information criteria on one table: every model is fitted to the same rows and
+ * quantities with the same weights, then ranked by AIC (Akaike 1974) and BIC (Schwarz 1978).
+ * The physics caveats travel with the numbers, because a lower AIC does not make a model physical.
+ */
+import { InputError, NumericalError } from '../errors.ts';
+import { buildModel } from '../models/catalogue.ts';
+import type { NkTable } from '../table.ts';
+import { fitTable } from './fit.ts';
+import type { FitOptions, FitReport } from './types.ts';
+
+export interface ComparedModel {
+  model: string;
+  /** The full fit report, or null when the fit failed numerically. */
+  report: FitReport | null;
+  error: string | null;
+  aic: number | null;
+  bic: number | null;
+  /** AIC − min AIC over the compared models (0 for the best). */
+  delta_aic: number | null;
+  delta_bic: number | null;
+  free_parameters: number | null;
+  kk_consistent: boolean;
+  /** Why this model's numbers may mislead (validity, Kramers-Kronig). */
+  caveats: string[];
+}
+
+export interface ComparisonReport {
+  models: ComparedModel[];
+  best_aic: string | null;
+  best_bic: string | null;
+  /** Caveats about comparing by information criteria at all. */
+  caveats: string[];
+}
+
+export const COMPARISON_CAVEATS = [
+  'AIC and BIC rank how well each model explains these points for its number of parameters; they say nothing about whether a model is physical.',
+  'Differences below about 2 are not meaningful; above about 10 the evidence is strong (rule of thumb, K. P. Burnham and D. R. Anderson, Model Selection and Multimodel Inference, Springer 2002; from memory).',
+  'Only models fitted to the same rows, quantities and weights are compared here; never compare numbers from different runs or ranges.',
+  'Prefer a Kramers-Kronig-consistent model when n and k must describe one material; every model is valid only inside the fitted wavelength range.',
+];
+
+/** Fit every spec in `specs` with the shared options (model-specific flags apply where a model accepts them). */
+export function compareModels(table: NkTable, specs: string[], options: Omit<FitOptions, 'model'> = {}): ComparisonReport {
+  if (specs.length < 2) throw new InputError('compare-needs-two', `--compare needs at least two models, got ${specs.join(',') || 'none'}`);
+  if (options.fix || options.init || options.bounds || options.free) {
+    throw new InputError('compare-no-parameter-flags', '--fix, --init, --bounds and --free name parameters of one model; they cannot be used with --compare');
+  }
+  const models: ComparedModel[] = specs.map((spec) => {
+    const probe = buildModel(spec); // refuses unknown names before any fitting
+    const accepts = (o: 'terms' | 'urbach') => {
+      try {
+        buildModel(spec, { [o]: o === 'terms' ? options.terms : true });
+        return true;
+      } catch {
+        return false;
+      }
+    };
+    const fitOptions: FitOptions = {
+      ...options,
+      model: spec,
+      terms: options.terms !== undefined && accepts('terms') ? options.terms : undefined,
+      urbach: options.urbach && accepts('urbach') ? true : undefined,
+    };
+    const caveats = [...probe.notes];
+    try {
+      const report = fitTable(table, fitOptions);
+      return {
+        model: report.model,
+        report,
+        error: null,
+        aic: report.statistics.aic,
+        bic: report.statistics.bic,
+        delta_aic: null,
+        delta_bic: null,
+        free_parameters: report.correlations.parameters.length,
+        kk_consistent: report.kk_consistent,
+        caveats,
+      };
+    } catch (err) {
+      if (!(err instanceof NumericalError)) throw err;
+      return { model: probe.spec, report: null, error: err.message, aic: null, bic: null, delta_aic: null, delta_bic: null, free_parameters: null, kk_consistent: probe.kkConsistent, caveats };
+    }
+  });
+  const best = (key: 'aic' | 'bic') => {
+    const ok = models.filter((m) => m[key] !== null);
+    if (ok.length === 0) return null;
+    const min = Math.min(...ok.map((m) => m[key] as number));
+    for (const m of ok) m[key === 'aic' ? 'delta_aic' : 'delta_bic'] = (m[key] as number) - min;
+    return ok.find((m) => m[key] === min)!.model;
+  };
+  return { models, best_aic: best('aic'), best_bic: best('bic'), caveats: COMPARISON_CAVEATS };
+}
