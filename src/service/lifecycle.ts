@@ -74,7 +74,7 @@ export function approve(registry: Registry, ref: string, actor: string): Version
     const self = row.createdBy === who;
     if (self && !getRegistrySettings(registry).allow_self_approval) {
       throw new ConflictError(
-        `${who} created ${material.slug}@${row.number} and cannot also approve it: someone else must (a one-person lab can allow self-approval with `nkledger self-approval on`, setting allow_self_approval)`,
+        `${who} created ${material.slug}@${row.number} and cannot also approve it: someone else must (a one-person lab can allow self-approval with "nkledger self-approval on", setting allow_self_approval)`,
         'two-person-rule',
       );
     }
