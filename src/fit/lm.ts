@@ -4,8 +4,8 @@
  * (details in DEVELOPERS.md, "Fitter"):
  * - whitened residuals, library weights left at 1 (its weights are applied inconsistently between
  *   the error sum and the normal equations);
- * - parameters in normalized units x_j = p_j/s_j with s_j = 1/‖∂r/∂p_j‖, so JᵀJ has a unit diagonal and
- *   the library's absolute damping (clamped to [1e-7, 1e7]) means the same for every model;
+ * - parameters in normalized units x_j = p_j/s_j with s_j = COLUMN_NORM/‖∂r/∂p_j‖, so JᵀJ has a constant
+ *   diagonal and the library's absolute damping (clamped to [1e-7, 1e7]) means the same for every model;
  * - the analytic Jacobian through `jacobianFunction` (the default finite-difference step is an absolute 0.1);
  * - runs in short chunks and applies its own convergence tests between them (relative χ² decrease,
  *   projected-gradient cosine, χ² ≤ tolerance), because the library stops only on an ABSOLUTE χ²
@@ -24,7 +24,13 @@ export interface LmResult {
 }
 
 /** Library iterations per chunk between our own convergence tests. */
-const CHUNK = 6;
+const CHUNK = 8;
+/**
+ * Norm every Jacobian column is scaled to. The library clamps its damping to [1e-7, 1e7] in absolute
+ * terms; with JᵀJ's diagonal at COLUMN_NORM² = 1e6 that is a relative range of [1e-13, 10], wide enough
+ * for both the Gauss-Newton end (ill-conditioned Sellmeier valleys) and heavy damping far from the minimum.
+ */
+const COLUMN_NORM = 1e3;
 /** Relative χ² decrease over a chunk below which the fit has stalled. */
 const FTOL = 1e-10;
 /** Largest |cos| between the residual vector and a free Jacobian column accepted at a minimum (MINPACK's gtol test). */
@@ -65,11 +71,12 @@ export function minimize(problem: FitProblem, model: DispersionModel, start: Flo
   let { r, jacobian } = residualsAt(problem, model, p, free, true);
   let chi2 = sumSquares(r);
   if (!Number.isFinite(chi2)) throw new NumericalError(nonFiniteMessage(model, p, 'at the start values'));
+  const chi2Start = chi2;
   const tolerance = Math.max(1e-28 * chi2, 1e-300);
   const yWhite = Float64Array.from(problem.y, (y, i) => y * problem.invSigma[i]);
   const index = Array.from(yWhite.keys());
   let iterations = 0;
-  let damping = 1e-2;
+  let damping = 1e-3; // relative to the unit-normalized JᵀJ diagonal
   let lastDecrease = Infinity;
   let stalls = 0;
   let converged = false;
@@ -88,8 +95,13 @@ export function minimize(problem: FitProblem, model: DispersionModel, start: Flo
       converged = true;
       break;
     }
-    if (iterations >= maxIterations || stalls >= 4) break;
-    const scale = free.map((pi, j) => (norms[j] > 0 && Number.isFinite(norms[j]) ? 1 / norms[j] : Math.max(Math.abs(p[pi]), 1e-3)));
+    if (stalls >= 4) {
+      // no decrease over several Gauss-Newton restarts: a minimum if χ² is down at rounding level
+      converged = chi2 <= 1e-16 * chi2Start;
+      break;
+    }
+    if (iterations >= maxIterations) break;
+    const scale = free.map((pi, j) => (norms[j] > 0 && Number.isFinite(norms[j]) ? COLUMN_NORM / norms[j] : Math.max(Math.abs(p[pi]), 1e-3)));
     const full = (x: ArrayLike<number>): Float64Array => {
       const q = Float64Array.from(p);
       free.forEach((pi, j) => (q[pi] = x[j] * scale[j]));
@@ -119,7 +131,7 @@ export function minimize(problem: FitProblem, model: DispersionModel, start: Flo
           initialValues: free.map((pi, j) => p[pi] / scale[j]),
           minValues: free.map((pi, j) => bounds[pi][0] / scale[j]),
           maxValues: free.map((pi, j) => bounds[pi][1] / scale[j]),
-          damping,
+          damping: damping * COLUMN_NORM * COLUMN_NORM,
           maxIterations: CHUNK,
           errorTolerance: tolerance,
           jacobianFunction: (x) => {
@@ -138,14 +150,15 @@ export function minimize(problem: FitProblem, model: DispersionModel, start: Flo
     if (!Number.isFinite(nextChi2) || nextChi2 > chi2) {
       // no better point in this chunk: stay, damp harder
       ({ r, jacobian } = residualsAt(problem, model, p, free, true));
-      damping = Math.min(damping * 100, 1e6);
+      damping = Math.min(damping * 100, 10);
       lastDecrease = 0;
       stalls++;
       continue;
     }
     lastDecrease = (chi2 - nextChi2) / chi2;
     stalls = lastDecrease <= FTOL ? stalls + 1 : 0;
-    damping = lastDecrease > 1e-3 ? 1e-4 : Math.min(damping * 10, 1e6);
+    // progress: restart near Gauss-Newton; the library raises damping itself within a chunk when steps fail
+    damping = 1e-6;
     p.set(next);
     chi2 = nextChi2;
   }

@@ -6,6 +6,7 @@ import { Matrix, SingularValueDecomposition } from 'ml-matrix';
  * minimum-norm answer instead of failing). Non-finite results become 0.
  */
 export function linearLeastSquares(columns: ArrayLike<number>[], y: ArrayLike<number>): number[] {
+  if (columns.length === 0) return [];
   const rows = y.length;
   const design = new Matrix(rows, columns.length);
   for (let j = 0; j < columns.length; j++) for (let i = 0; i < rows; i++) design.set(i, j, columns[j][i]);
