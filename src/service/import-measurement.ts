@@ -4,12 +4,13 @@
  * The fit and the check run before (outside) the write transaction, so writers never wait on them.
  */
 import { InputError } from '../errors.ts';
+import { fitTable, type FitOptions } from '../fit/fit.ts';
 import { checkKramersKronig, type KkOptions } from '../kk/check.ts';
 import { parseNkTable, type ImportOptions } from '../io/parse-table.ts';
 import { sha256Hex } from '../registry/canonical.ts';
 import type { Registry } from '../registry/open.ts';
 import type { NkTable } from '../table.ts';
-import type { StoredFitReport, StoredKkReport } from '../registry/types.ts';
+import type { StoredKkReport } from '../registry/types.ts';
 import { importVersion, type ImportedVersion } from './versions.ts';
 import type { ProvenanceInput } from './provenance.ts';
 
@@ -20,6 +21,8 @@ export interface MeasurementImport {
   /** The file name as given (only its last path component is stored as source_file). */
   file: string;
   importOptions?: ImportOptions;
+  /** Fit this model (engineer B's fitTable) and store its report with the table. */
+  fit?: FitOptions;
   /** Run the Kramers-Kronig check and store its report (default true); options pass through. */
   kk?: boolean | KkOptions;
   provenance?: ProvenanceInput;
@@ -43,7 +46,7 @@ export function kkReportFor(table: NkTable, options: KkOptions = {}): StoredKkRe
 }
 
 /** Parse, check and store a measured table as a new draft of `slug`. */
-export function importMeasurement(registry: Registry, input: MeasurementImport, actor: string, fit?: (table: NkTable) => StoredFitReport): MeasurementImported {
+export function importMeasurement(registry: Registry, input: MeasurementImport, actor: string): MeasurementImported {
   const imported = parseNkTable(input.bytes, { ...input.importOptions, file: input.file });
   const table = imported.table;
   const kk = input.kk === false ? null : kkReportFor(table, input.kk === true || input.kk === undefined ? {} : input.kk);
@@ -52,7 +55,7 @@ export function importMeasurement(registry: Registry, input: MeasurementImport, 
     {
       slug: input.slug,
       table,
-      fit: fit ? fit(table) : null,
+      fit: input.fit ? fitTable(table, input.fit) : null,
       kk,
       provenance: { ...input.provenance, source_file: input.provenance?.source_file ?? input.file, source_sha256: sha256Hex(input.bytes) },
     },

@@ -3,12 +3,28 @@
  * the content is read in full (stat for files, a running count for stdin).
  * (Engineer D extends loadTable so a registry reference such as `slug@3` also resolves.)
  */
+import { existsSync } from 'node:fs';
 import { readFile, stat } from 'node:fs/promises';
 import { InputError } from '../errors.ts';
 import { checkSize } from '../io/decode.ts';
 import { DEFAULT_MAX_BYTES, parseNkTable, type ImportOptions, type ImportResult } from '../io/parse-table.ts';
+import { parseRef } from '../registry/refs.ts';
 
 export const STDIN_SOURCE = '-';
+
+/**
+ * True when SOURCE names a registry version (`slug@N`, `slug@sha256:PREFIX`, a bare slug) rather than a file:
+ * it is not "-", no file of that name exists, and it parses as a reference.
+ */
+export function isRegistrySource(source: string): boolean {
+  if (source === STDIN_SOURCE || existsSync(source)) return false;
+  try {
+    parseRef(source);
+    return true;
+  } catch {
+    return false;
+  }
+}
 
 /** Read and import a table from a file path or "-" (stdin). Errors are InputErrors naming the source. */
 export async function loadTable(source: string, options: ImportOptions = {}): Promise<ImportResult> {
