@@ -19,6 +19,7 @@ import { registerOpenApiRoute } from './routes/openapi.ts';
 import { registerMaterialRoutes } from './routes/materials.ts';
 import { registerLockRoutes } from './routes/locks.ts';
 import { registerUploadRoutes } from './routes/uploads.ts';
+import { registerNkRoute } from './routes/nk.ts';
 
 export interface AppOptions {
   registry: Registry;
@@ -75,6 +76,7 @@ export function createApp(options: AppOptions): Hono<ApiEnv> {
 
   registerOpenApiRoute(app);
   registerMaterialRoutes(app, ctx);
+  registerNkRoute(app, ctx);
   registerUploadRoutes(app, ctx);
   registerLockRoutes(app, ctx);
   registerAdminRoutes(app, ctx);

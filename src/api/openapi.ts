@@ -37,14 +37,12 @@ const tableUpload = {
   },
 };
 
-const lifecycle = (summary: string, withReason: boolean) => ({
+const lifecycle = (summary: string, body: 'Reason' | 'OptionalReason' | 'NoBody') => ({
   post: {
     summary,
     ...role('approver'),
     parameters: versionParams,
-    ...(withReason
-      ? { requestBody: { required: true, content: { 'application/json': { schema: ref('Reason') } } } }
-      : { requestBody: { required: false, content: { 'application/json': { schema: ref('OptionalReason') } } } }),
+    requestBody: { required: body === 'Reason', content: { 'application/json': { schema: ref(body) } } },
     responses: { '200': json('the version after the change', ref('Version')), ...writeErrors },
   },
 });
@@ -108,7 +106,7 @@ export const OPENAPI_DOCUMENT = {
         summary: 'One version: content, provenance and reports',
         description:
           'Approved and retired versions: ETag = "<sha256>", Cache-Control: public, max-age=31536000, immutable; If-None-Match gives 304. ' +
-          'Drafts: Cache-Control: no-store. Retired versions carry a Warning header and a `warning` field.',
+          'Drafts: Cache-Control: no-store. Retired versions carry a Deprecation header (RFC 9745) and a `warnings` entry.',
         ...role('reader'),
         parameters: [...versionParams, { name: 'If-None-Match', in: 'header', required: false, schema: { type: 'string' } }],
         responses: { '200': json('the version', ref('Version')), '304': { description: 'not modified' }, ...readErrors },
@@ -117,7 +115,9 @@ export const OPENAPI_DOCUMENT = {
     '/api/v1/materials/{slug}/versions/{n}/nk': {
       get: {
         summary: 'n and k of a version at a list or a range of wavelengths',
-        description: 'Give wavelengths_nm, or from_nm, to_nm and step_nm. JSON by default; text/csv when Accept asks for it.',
+        description:
+          'Give wavelengths_nm (a list, or start:stop:step items), or from_nm, to_nm and step_nm; at most max_nk_points. ' +
+          'JSON by default; text/csv when Accept prefers it. Model-backed versions evaluate inside the validity range, table-only versions inside the measured range.',
         ...role('reader'),
         parameters: [
           ...versionParams,
@@ -125,7 +125,13 @@ export const OPENAPI_DOCUMENT = {
           { name: 'from_nm', in: 'query', required: false, schema: { type: 'number' } },
           { name: 'to_nm', in: 'query', required: false, schema: { type: 'number' } },
           { name: 'step_nm', in: 'query', required: false, schema: { type: 'number', exclusiveMinimum: 0 } },
-          { name: 'method', in: 'query', required: false, schema: { type: 'string', enum: ['model', 'linear', 'monotone-cubic'] } },
+          {
+            name: 'interpolation',
+            in: 'query',
+            required: false,
+            schema: { type: 'string', enum: ['linear', 'monotone-cubic'] },
+            description: 'for table-only versions; model-backed versions evaluate the model',
+          },
         ],
         responses: {
           '200': {
@@ -139,9 +145,9 @@ export const OPENAPI_DOCUMENT = {
         },
       },
     },
-    '/api/v1/materials/{slug}/versions/{n}/approve': lifecycle('Approve a draft', false),
-    '/api/v1/materials/{slug}/versions/{n}/retire': lifecycle('Retire an approved version (reason required)', true),
-    '/api/v1/materials/{slug}/versions/{n}/withdraw': lifecycle('Withdraw a draft', false),
+    '/api/v1/materials/{slug}/versions/{n}/approve': lifecycle('Approve a draft (not by its creator, unless the registry allows self-approval)', 'NoBody'),
+    '/api/v1/materials/{slug}/versions/{n}/retire': lifecycle('Retire an approved version (reason required)', 'Reason'),
+    '/api/v1/materials/{slug}/versions/{n}/withdraw': lifecycle('Withdraw a draft (reason optional)', 'OptionalReason'),
     '/api/v1/locks/verify': {
       post: {
         summary: 'Verify a design lockfile against the registry',
@@ -266,8 +272,9 @@ export const OPENAPI_DOCUMENT = {
           notes: { type: 'string' },
         },
       },
-      Reason: { type: 'object', required: ['reason'], properties: { reason: { type: 'string', minLength: 1 } } },
-      OptionalReason: { type: 'object', properties: { reason: { type: 'string' } } },
+      Reason: { type: 'object', required: ['reason'], additionalProperties: false, properties: { reason: { type: 'string', minLength: 1 } } },
+      OptionalReason: { type: 'object', additionalProperties: false, properties: { reason: { type: 'string' } } },
+      NoBody: { type: 'object', additionalProperties: false, description: 'empty, or {}' },
       NkValues: {
         type: 'object',
         required: ['wavelength_nm', 'n', 'k'],

@@ -11,7 +11,7 @@ import { showVersion } from '../../service/versions.ts';
 import { approve, retire, withdraw } from '../../service/lifecycle.ts';
 import { checkSlug } from '../../registry/refs.ts';
 import { InputError } from '../../errors.ts';
-import type { VersionDetail } from '../../registry/types.ts';
+import type { VersionRecord } from '../../registry/types.ts';
 import { actorOf, type ApiEnv } from '../auth.ts';
 import { versionCaching } from '../caching.ts';
 import { parseInput, readJson } from '../validate.ts';
@@ -35,7 +35,7 @@ export function versionUrl(ref: string): string {
 }
 
 /** Headers every view of a version carries: a retired one is marked deprecated (RFC 9745) since its retirement. */
-export function markRetired(c: Context, version: Pick<VersionDetail, 'status' | 'retired_at'>): void {
+export function markRetired(c: Context, version: Pick<VersionRecord, 'status' | 'retired_at'>): void {
   if (version.status === 'retired' && version.retired_at) {
     c.header('deprecation', `@${Math.floor(Date.parse(version.retired_at) / 1000)}`);
   }

@@ -8,11 +8,9 @@ import { z } from 'zod';
 import { checkSlug } from '../../registry/refs.ts';
 import { PROVENANCE_FIELDS } from '../../registry/types.ts';
 import { importMeasurement } from '../../service/import-measurement.ts';
-import type { StoredFitReport } from '../../registry/types.ts';
 import { parseNkTable } from '../../io/parse-table.ts';
 import { fitTable } from '../../fit/fit.ts';
 import { checkKramersKronig } from '../../kk/check.ts';
-import type { NkTable } from '../../table.ts';
 import { actorOf, type ApiEnv } from '../auth.ts';
 import { readTableUpload } from '../upload.ts';
 import { parseInput } from '../validate.ts';
@@ -39,12 +37,18 @@ export function registerUploadRoutes(app: Hono<ApiEnv>, ctx: RouteContext): void
     const upload = await readTableUpload(c);
     const { fit, terms, kk, ...provenance } = parseInput(versionFields, upload.fields, 'body', 400);
     const actor = actorOf(c.get('principal'));
-    const fitModel = fit ? (table: NkTable) => fitTable(table, { model: fit, terms }) as StoredFitReport : undefined;
     const result = importMeasurement(
       ctx.registry,
-      { slug, bytes: upload.bytes, file: upload.file, importOptions: upload.importOptions, kk, provenance },
+      {
+        slug,
+        bytes: upload.bytes,
+        file: upload.file,
+        importOptions: upload.importOptions,
+        fit: fit ? { model: fit, terms } : undefined,
+        kk,
+        provenance,
+      },
       actor,
-      fitModel,
     );
     c.header('location', versionUrl(result.ref));
     return c.json(result, 201);

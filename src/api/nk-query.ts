@@ -1,0 +1,82 @@
+/**
+ * The wavelengths of an n,k request — `wavelengths_nm=450,650` or `from_nm`, `to_nm`, `step_nm` —
+ * bounded by the max_nk_points setting before any array is built, and the choice of JSON or CSV by
+ * the Accept header (RFC 9110 §12.5.1, with q-values).
+ */
+import { z } from 'zod';
+import { InputError } from '../errors.ts';
+import { parseWavelengthList } from '../cli/wavelength-list.ts';
+import { INTERPOLATION_METHODS } from '../optics/table-eval.ts';
+import { HttpProblem } from './problem.ts';
+import { parseInput } from './validate.ts';
+
+const finite = (name: string) =>
+  z
+    .string()
+    .regex(/^[+-]?(\d+\.?\d*|\.\d+)([eE][+-]?\d+)?$/, `${name} must be a number`)
+    .transform(Number);
+
+const nkQuery = z.strictObject({
+  wavelengths_nm: z.string().max(100_000).optional(),
+  from_nm: finite('from_nm').optional(),
+  to_nm: finite('to_nm').optional(),
+  step_nm: finite('step_nm').optional(),
+  interpolation: z.enum(INTERPOLATION_METHODS as [string, ...string[]]).optional(),
+});
+
+export interface NkRequest {
+  wavelengthNm: number[];
+  interpolation?: 'linear' | 'monotone-cubic';
+}
+
+export function parseNkQuery(query: Record<string, string>, maxPoints: number): NkRequest {
+  const q = parseInput(nkQuery, query, 'query', 400);
+  const interpolation = q.interpolation as NkRequest['interpolation'];
+  const range = [q.from_nm, q.to_nm, q.step_nm];
+  const hasRange = range.some((v) => v !== undefined);
+  if ((q.wavelengths_nm === undefined) === !hasRange) {
+    throw new InputError('nk-wavelengths', 'give either wavelengths_nm=450,650 or from_nm, to_nm and step_nm');
+  }
+  const tooMany = (count: number) =>
+    new InputError('nk-too-many-points', `${count} wavelengths asked for; at most ${maxPoints} per request (setting max_nk_points)`);
+  if (q.wavelengths_nm !== undefined) {
+    const items = q.wavelengths_nm.split(',').length;
+    if (items > maxPoints) throw tooMany(items);
+    // The CLI's --at parser, so "450,650" (and "400:800:50") mean the same at both front doors.
+    const list = parseWavelengthList(q.wavelengths_nm, 'wavelengths_nm');
+    if (list.length > maxPoints) throw tooMany(list.length);
+    return { wavelengthNm: list, interpolation };
+  }
+  const [from, to, step] = range;
+  if (from === undefined || to === undefined || step === undefined) {
+    throw new InputError('nk-wavelengths', 'a range needs all of from_nm, to_nm and step_nm');
+  }
+  if (!(from > 0) || !(to >= from) || !(step > 0)) {
+    throw new InputError('nk-wavelengths', `range ${from}…${to} nm step ${step} nm: need 0 < from_nm ≤ to_nm and step_nm > 0`);
+  }
+  const count = Math.floor((to - from) / step + 1e-9) + 1;
+  if (count > maxPoints) throw tooMany(count);
+  return { wavelengthNm: parseWavelengthList(`${from}:${to}:${step}`, 'from_nm/to_nm/step_nm'), interpolation };
+}
+
+/** "json" or "csv" from an Accept header; JSON when absent or indifferent; 406 when neither is acceptable. */
+export function negotiateNkFormat(accept: string | undefined): 'json' | 'csv' {
+  if (!accept || accept.trim() === '') return 'json';
+  const ranges = accept.split(',').map((part) => {
+    const [type, ...params] = part.trim().toLowerCase().split(';').map((s) => s.trim());
+    const qParam = params.find((p) => p.startsWith('q='));
+    return { type, q: qParam ? Number(qParam.slice(2)) : 1 };
+  });
+  const quality = (type: string) => {
+    const [major] = type.split('/');
+    const match =
+      ranges.find((r) => r.type === type) ?? ranges.find((r) => r.type === `${major}/*`) ?? ranges.find((r) => r.type === '*/*');
+    return match && Number.isFinite(match.q) ? match.q : 0;
+  };
+  const json = quality('application/json');
+  const csv = quality('text/csv');
+  if (json <= 0 && csv <= 0) {
+    throw new HttpProblem(406, 'not-acceptable', `n,k is available as application/json or text/csv, not "${accept}"`);
+  }
+  return csv > json ? 'csv' : 'json';
+}
