@@ -33,3 +33,8 @@ export {
   type LockVerifyReport,
   type LockOutdatedEntry,
 } from './lock.ts';
+export { importMeasurement, kkReportFor, type MeasurementImport, type MeasurementImported } from './import-measurement.ts';
+export { evaluateVersion, evaluateContent, type VersionEvaluation } from './evaluate-version.ts';
+export { exportVersion, gridNm, VERSION_EXPORT_FORMATS, type VersionExport, type VersionExportFormat } from './export-version.ts';
+export { diffVersions, DIFF_GRID_POINTS, type VersionDiff, type ParameterChange, type LargestDifference } from './diff.ts';
+export { diffPlotSpec, renderDiffPlot } from './diff-plot.ts';

@@ -1,0 +1,97 @@
+import { afterEach, beforeEach, describe, expect, it } from 'vitest';
+import { InputError } from '../../src/errors.ts';
+import {
+  approve,
+  createMaterial,
+  emptyLockfile,
+  importVersion,
+  lockAdd,
+  lockOutdated,
+  lockVerify,
+  parseLockfile,
+  retire,
+  serializeLockfile,
+  withdraw,
+  type Lockfile,
+} from '../../src/service/registry.ts';
+import { cauchyTable, tempRegistry, type TempRegistry } from './helpers.ts';
+
+let t: TempRegistry;
+let lock: Lockfile;
+beforeEach(() => {
+  t = tempRegistry();
+  for (const slug of ['sio2', 'ta2o5']) {
+    createMaterial(t.registry, { slug, name: slug }, 'ada');
+    importVersion(t.registry, { slug, table: cauchyTable(slug === 'sio2' ? 1.45 : 2.1) }, 'ada');
+    approve(t.registry, `${slug}@1`, 'bob');
+  }
+  lock = lockAdd(t.registry, emptyLockfile(), 'sio2').lock;
+  lock = lockAdd(t.registry, lock, 'ta2o5@1').lock;
+});
+afterEach(() => t.cleanup());
+
+describe('lockfiles', () => {
+  it('round-trips through its JSON format and verifies clean', () => {
+    const text = serializeLockfile(lock);
+    expect(JSON.parse(text)).toMatchObject({ format: 'nkledger-lock', format_version: 1, materials: { sio2: { version: 1 }, ta2o5: { version: 1 } } });
+    const report = lockVerify(t.registry, parseLockfile(text));
+    expect(report).toMatchObject({ ok: true, failures: 0, warnings: 0 });
+    expect(report.entries.map((e) => e.outcome)).toEqual(['ok', 'ok']);
+  });
+
+  it('refuses malformed lockfiles with the place named', () => {
+    expect(() => parseLockfile('{', 'x.json')).toThrow(InputError);
+    expect(() => parseLockfile(JSON.stringify({ format: 'nkledger-lock', format_version: 2, materials: {} }))).toThrow(/format_version/);
+    expect(() => parseLockfile(JSON.stringify({ ...lock, materials: { sio2: { version: 1, sha256: 'abc' } } }))).toThrow(/materials\.sio2\.sha256/);
+  });
+
+  it('catches a changed hash, a missing material and a missing version', () => {
+    const bad: Lockfile = {
+      ...lock,
+      materials: {
+        ...lock.materials,
+        sio2: { ...lock.materials.sio2, sha256: lock.materials.ta2o5.sha256 },
+        'ghost-film': { version: 1, sha256: '0'.repeat(64) },
+        'ta2o5': { version: 4, sha256: lock.materials.ta2o5.sha256 },
+      },
+    };
+    const report = lockVerify(t.registry, bad);
+    expect(report.ok).toBe(false);
+    expect(report.failures).toBe(3);
+    const byRef = Object.fromEntries(report.entries.map((e) => [e.ref, e]));
+    expect(byRef['sio2@1']).toMatchObject({ outcome: 'mismatch', failed: true });
+    expect(byRef['ghost-film@1']).toMatchObject({ outcome: 'missing', failed: true });
+    expect(byRef['ghost-film@1'].message).toMatch(/no material "ghost-film"/);
+    expect(byRef['ta2o5@4']).toMatchObject({ outcome: 'missing', failed: true });
+  });
+
+  it('catches content changed in the database behind the lockfile (triggers dropped)', () => {
+    t.registry.sqlite.exec('DROP TRIGGER material_versions_content_immutable');
+    t.registry.sqlite.exec("UPDATE material_versions SET sha256 = '" + 'f'.repeat(64) + "' WHERE id = 1");
+    const report = lockVerify(t.registry, lock);
+    expect(report.entries.find((e) => e.slug === 'sio2')).toMatchObject({ outcome: 'mismatch', registry_sha256: 'f'.repeat(64) });
+  });
+
+  it('warns on a retired version, and fails it with strict', () => {
+    retire(t.registry, 'sio2@1', 'bad substrate model', 'bob');
+    const relaxed = lockVerify(t.registry, lock);
+    expect(relaxed).toMatchObject({ ok: true, warnings: 1, failures: 0 });
+    expect(relaxed.entries[0]).toMatchObject({ ref: 'sio2@1', outcome: 'retired', failed: false });
+    expect(relaxed.entries[0].message).toMatch(/bad substrate model/);
+    expect(lockVerify(t.registry, lock, { strict: true })).toMatchObject({ ok: false, failures: 1 });
+  });
+
+  it('refuses to pin a withdrawn draft, replaces an older pin, and lists newer approved versions', () => {
+    importVersion(t.registry, { slug: 'sio2', table: cauchyTable(1.46) }, 'ada');
+    importVersion(t.registry, { slug: 'sio2', table: cauchyTable(1.47) }, 'ada');
+    approve(t.registry, 'sio2@2', 'bob');
+    withdraw(t.registry, 'sio2@3', 'ada');
+    expect(() => lockAdd(t.registry, lock, 'sio2@3')).toThrow(/withdrawn/);
+    expect(lockOutdated(t.registry, lock)).toEqual([{ ref: 'sio2@1', slug: 'sio2', locked_version: 1, newer_approved: [2], latest_approved: 2 }]);
+    const updated = lockAdd(t.registry, lock, 'sio2');
+    expect(updated.replaced?.version).toBe(1);
+    expect(updated.notices.join()).toMatch(/replaced sio2@1 with sio2@2/);
+    expect(lockOutdated(t.registry, updated.lock)).toEqual([]);
+    expect(lock.materials.sio2.version).toBe(1);
+  });
+});
