@@ -52,7 +52,12 @@ def fit(case, nm, n, k):
     names = list(case["start"])
     f = residuals(case["nk"], names, case["fixed"], nm, n, k, case["sigma_n"], case["sigma_k"])
     res = least_squares(f, [case["start"][q] for q in names], method="lm", x_scale="jac", ftol=1e-15, xtol=1e-15, gtol=1e-15, max_nfev=20000)
-    return {"parameters": dict(zip(names, map(float, res.x))), "chi2": float(np.sum(res.fun**2)), "nfev": int(res.nfev), "status": int(res.status)}
+    chi2 = float(np.sum(res.fun**2))
+    # cov = s^2 (J^T W J)^-1 with s^2 = chi2/(N - p) (Numerical Recipes ch. 15); J from scipy's finite differences
+    jac = res.jac
+    cov = chi2 / (res.fun.size - len(names)) * np.linalg.inv(jac.T @ jac)
+    stderr = dict(zip(names, map(float, np.sqrt(np.diag(cov)))))
+    return {"parameters": dict(zip(names, map(float, res.x))), "stderr": stderr, "chi2": chi2, "nfev": int(res.nfev), "status": int(res.status)}
 
 
 def main():

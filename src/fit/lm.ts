@@ -36,6 +36,9 @@ const FTOL = 1e-10;
 /** Largest |cos| between the residual vector and a free Jacobian column accepted at a minimum (MINPACK's gtol test). */
 const GTOL = 1e-5;
 
+/** Raised inside the library's callbacks when the Jacobian is not finite; ends the chunk. */
+class NonFiniteJacobian extends Error {}
+
 /** Whitened residuals r = (y − model)/σ and Jacobian columns of the model for the free parameters. */
 export function residualsAt(problem: FitProblem, model: DispersionModel, values: Float64Array, free: number[], withJacobian: boolean): { r: Float64Array; jacobian: Float64Array[] } {
   const v = model.evaluate(problem.grid, values, problem.quantity, withJacobian);
@@ -118,6 +121,8 @@ export function minimize(problem: FitProblem, model: DispersionModel, start: Flo
       cachedX = x.slice();
       cachedModel = w.model;
       cachedRows = withJacobian ? index.map((i) => w.jacobian.map((col, j) => col[i] * scale[j])) : null;
+      // a NaN in JᵀJ surfaces in the library as "Matrix is not symmetric" (NaN ≠ NaN): stop the chunk instead
+      if (cachedRows?.some((row) => row.some((v) => !Number.isFinite(v)))) throw new NonFiniteJacobian();
     };
     let result;
     try {
@@ -141,6 +146,12 @@ export function minimize(problem: FitProblem, model: DispersionModel, start: Flo
         },
       );
     } catch (err) {
+      if (err instanceof NonFiniteJacobian) {
+        damping = Math.min(damping * 100, 10);
+        lastDecrease = 0;
+        stalls++;
+        continue;
+      }
       throw new NumericalError(`the Levenberg-Marquardt step failed (${err instanceof Error ? err.message : String(err)}); try --init closer to the data, --fix a parameter or a narrower --range`);
     }
     iterations += result.iterations;

@@ -67,7 +67,13 @@ function scalarsWithDerivatives(e0: number, c: number, eg: number): Float64Array
     minus[q] -= h;
     closedFormScalars(plus[0], plus[1], plus[2], tmp, 0);
     closedFormScalars(minus[0], minus[1], minus[2], tmp, SCALAR_COUNT);
-    for (let s = 0; s < SCALAR_COUNT; s++) out[(q + 1) * SCALAR_COUNT + s] = (tmp[s] - tmp[SCALAR_COUNT + s]) / (2 * h);
+    for (let s = 0; s < SCALAR_COUNT; s++) {
+      // next to the edge C = 2·E0 one side may be undefined: fall back to a one-sided difference
+      const up = Number.isFinite(tmp[s]);
+      const down = Number.isFinite(tmp[SCALAR_COUNT + s]);
+      out[(q + 1) * SCALAR_COUNT + s] =
+        up && down ? (tmp[s] - tmp[SCALAR_COUNT + s]) / (2 * h) : up ? (tmp[s] - out[s]) / h : (out[s] - tmp[SCALAR_COUNT + s]) / h;
+    }
   }
   return out;
 }

@@ -20,7 +20,7 @@ interface Fixture {
   sigma_n: number;
   sigma_k: number;
   noise_free: { n: number[]; k: number[]; optimum: { parameters: Record<string, number>; chi2: number } };
-  noisy: { n: number[]; k: number[]; optimum: { parameters: Record<string, number>; chi2: number } };
+  noisy: { n: number[]; k: number[]; optimum: { parameters: Record<string, number>; stderr: Record<string, number>; chi2: number } };
 }
 
 function table(f: Fixture, data: { n: number[]; k: number[] }): NkTable {
@@ -62,6 +62,13 @@ describe('same optimum as scipy.optimize.least_squares (reference library)', () 
       const chi2 = (report.statistics.reduced_chi2 as number) * (report.statistics.points - free);
       expect(Math.abs(chi2 - f.noisy.optimum.chi2) / f.noisy.optimum.chi2).toBeLessThan(1e-3);
       expect(chi2).toBeLessThanOrEqual(f.noisy.optimum.chi2 * (1 + 1e-9));
+    });
+
+    it(`${name}: noisy data, standard errors s²(JᵀWJ)⁻¹ (Numerical Recipes ch. 15) agree with scipy's Jacobian to 1 %`, () => {
+      const report = fit(f, f.noisy);
+      for (const [p, stderr] of Object.entries(f.noisy.optimum.stderr)) {
+        expect(Math.abs((report.parameters[p].stderr as number) - stderr) / stderr, p).toBeLessThan(0.01);
+      }
     });
   }
 });

@@ -23,10 +23,10 @@ interface FitFlags extends ImportFlags {
   urbach?: boolean;
   target?: string;
   range?: string;
-  fix: string[];
-  init: string[];
-  bounds: string[];
-  free: string[];
+  fix?: string[];
+  init?: string[];
+  bounds?: string[];
+  free?: string[];
   starts?: string;
   seed?: string;
   json?: boolean;
@@ -34,7 +34,7 @@ interface FitFlags extends ImportFlags {
 }
 
 const TARGETS: FitTarget[] = ['nk', 'n', 'k', 'eps'];
-const collect = (value: string, previous: string[]) => [...previous, value];
+const collect = (value: string, previous: string[] = []) => [...previous, value];
 const g = (v: number | null, digits = 6) => (v === null ? '—' : String(+v.toPrecision(digits)));
 
 function number(text: string, what: string): number {
@@ -68,10 +68,10 @@ function fitOptionsFrom(opts: FitFlags): Omit<FitOptions, 'model'> {
     out.target = opts.target as FitTarget;
   }
   if (opts.range !== undefined) out.rangeNm = interval(opts.range, '--range');
-  if (opts.fix.length) out.fix = Object.fromEntries(opts.fix.map((t) => assignment(t, '--fix')).map(([k, v]) => [k, number(v, `--fix ${k}`)]));
-  if (opts.init.length) out.init = Object.fromEntries(opts.init.map((t) => assignment(t, '--init')).map(([k, v]) => [k, number(v, `--init ${k}`)]));
-  if (opts.bounds.length) out.bounds = Object.fromEntries(opts.bounds.map((t) => assignment(t, '--bounds')).map(([k, v]) => [k, interval(v, `--bounds ${k}`)]));
-  if (opts.free.length) out.free = opts.free;
+  if (opts.fix?.length) out.fix = Object.fromEntries(opts.fix.map((t) => assignment(t, '--fix')).map(([k, v]) => [k, number(v, `--fix ${k}`)]));
+  if (opts.init?.length) out.init = Object.fromEntries(opts.init.map((t) => assignment(t, '--init')).map(([k, v]) => [k, number(v, `--init ${k}`)]));
+  if (opts.bounds?.length) out.bounds = Object.fromEntries(opts.bounds.map((t) => assignment(t, '--bounds')).map(([k, v]) => [k, interval(v, `--bounds ${k}`)]));
+  if (opts.free?.length) out.free = opts.free;
   if (opts.starts !== undefined) {
     const s = number(opts.starts, '--starts');
     if (!Number.isInteger(s) || s < 1 || s > 1000) throw new InputError('bad-option', `--starts ${opts.starts}: expected an integer 1–1000`);
@@ -167,10 +167,10 @@ export function register(program: Command): void {
       .option('--urbach', 'Cauchy: add the Urbach absorption tail')
       .addOption(new Option('--target <what>', 'quantities fitted').choices(TARGETS).default('nk'))
       .option('--range <min:max>', 'fit only wavelengths in this window (nm)')
-      .option('--fix <P=V>', 'hold parameter P fixed at V (repeatable)', collect, [])
-      .option('--init <P=V>', 'start parameter P at V instead of the automatic guess (repeatable)', collect, [])
-      .option('--bounds <P=LO:HI>', 'bounds of parameter P (repeatable)', collect, [])
-      .option('--free <P>', 'fit a parameter the model fixes by default (Sellmeier A, Urbach Eb) (repeatable)', collect, [])
+      .option('--fix <P=V>', 'hold parameter P fixed at V (repeatable)', collect)
+      .option('--init <P=V>', 'start parameter P at V instead of the automatic guess (repeatable)', collect)
+      .option('--bounds <P=LO:HI>', 'bounds of parameter P (repeatable)', collect)
+      .option('--free <P>', 'fit a parameter the model fixes by default (Sellmeier A, Urbach Eb) (repeatable)', collect)
       .option('--starts <N>', 'number of starts: the automatic guess plus N − 1 random perturbations of it', '1')
       .option('--seed <N>', 'seed of the multi-start perturbations', '1')
       .option('--json', 'print the report as JSON')
