@@ -1,0 +1,139 @@
+/** The registry commands end to end: real processes of bin/nkledger.js on a temp database. */
+import { execFile, spawnSync } from 'node:child_process';
+import { mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { promisify } from 'node:util';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { openRegistry, verifyRegistry } from '../../src/service/registry.ts';
+
+const BIN = new URL('../../bin/nkledger.js', import.meta.url).pathname;
+const execFileAsync = promisify(execFile);
+let dir: string;
+let db: string;
+
+function run(args: string[], user = 'ada') {
+  const r = spawnSync(process.execPath, [BIN, ...args, '--db', db], { encoding: 'utf8', env: { ...process.env, NKLEDGER_USER: user, NKLEDGER_DB: '' } });
+  return { code: r.status, out: r.stdout, err: r.stderr };
+}
+
+/** A small invented table (n = 1.45 + 0.0036/λ², k = 0) with a per-file offset so each import differs. */
+function writeTable(name: string, offset: number): string {
+  const rows = Array.from({ length: 21 }, (_, i) => 400 + 20 * i).map((w) => `${w},${(1.45 + offset + 0.0036 / (w / 1000) ** 2).toFixed(6)},0`);
+  const path = join(dir, name);
+  writeFileSync(path, `wavelength_nm,n,k\n${rows.join('\n')}\n`);
+  return path;
+}
+
+beforeAll(() => {
+  dir = mkdtempSync(join(tmpdir(), 'nkledger-cli-'));
+  db = join(dir, 'lab.db');
+});
+afterAll(() => rmSync(dir, { recursive: true, force: true }));
+
+describe('registry CLI', { timeout: 240_000 }, () => {
+  it('runs a material through import, two-person approval, lock, retire, verify and backup', () => {
+    expect(run(['material', 'add', 'sio2-thermal', '--name', 'Thermal oxide', '--tag', 'oxide']).code).toBe(0);
+    const imported = run(['import', writeTable('a.csv', 0), '--material', 'sio2-thermal', '--no-kk', '--meta', 'method=se', 'angles=65,70', '--note', 'wafer 3', '--json']);
+    expect(imported.code).toBe(0);
+    const v1 = JSON.parse(imported.out);
+    expect(v1).toMatchObject({ ref: 'sio2-thermal@1', status: 'draft' });
+    expect(v1.sha256).toMatch(/^[0-9a-f]{64}$/);
+
+    const self = run(['approve', 'sio2-thermal@1']);
+    expect(self.code).toBe(2);
+    expect(self.err).toMatch(/cannot also approve it.*\[two-person-rule\]/);
+    expect(self.err).not.toMatch(/at .*\.ts/); // no stack trace
+    expect(run(['approve', 'sio2-thermal@1', '--as', 'bob']).code).toBe(0);
+
+    const shown = run(['show', 'sio2-thermal', '--json']);
+    expect(JSON.parse(shown.out)).toMatchObject({ ref: 'sio2-thermal@1', status: 'approved', sha256: v1.sha256, approved_by: 'bob', provenance: { notes: 'wafer 3', angles_deg: [65, 70] } });
+    expect(shown.err).toMatch(/not a pin/);
+
+    const lock = join(dir, 'design.nklock.json');
+    expect(run(['lock', 'add', 'sio2-thermal@1', '--lock', lock]).code).toBe(0);
+    expect(JSON.parse(readFileSync(lock, 'utf8')).materials['sio2-thermal']).toMatchObject({ version: 1, sha256: v1.sha256 });
+    expect(run(['lock', 'verify', '--lock', lock]).code).toBe(0);
+
+    expect(run(['retire', 'sio2-thermal@1', '--reason', 'wrong substrate model', '--as', 'bob']).code).toBe(0);
+    const relaxed = run(['lock', 'verify', '--lock', lock]);
+    expect(relaxed.code).toBe(0);
+    expect(relaxed.err).toMatch(/warn  sio2-thermal@1 is retired: wrong substrate model/);
+    const strict = run(['lock', 'verify', '--lock', lock, '--strict', '--json']);
+    expect(strict.code).toBe(3);
+    expect(JSON.parse(strict.out).entries[0]).toMatchObject({ outcome: 'retired', failed: true });
+
+    const history = JSON.parse(run(['history', 'sio2-thermal', '--json']).out);
+    expect(history.audit.map((a: { action: string; actor: string }) => `${a.action}:${a.actor}`)).toEqual([
+      'material.create:ada',
+      'version.import:ada',
+      'version.approve:bob',
+      'version.retire:bob',
+    ]);
+    expect(JSON.parse(run(['list', '--json']).out)[0]).toMatchObject({ slug: 'sio2-thermal', versions: 1, latest_approved: null });
+
+    const backupFile = join(dir, 'backup.db');
+    expect(run(['backup', backupFile]).code).toBe(0);
+    expect(run(['backup', backupFile]).code).toBe(2); // never overwrites
+    const verified = spawnSync(process.execPath, [BIN, 'verify', '--db', backupFile, '--json'], { encoding: 'utf8' });
+    expect(verified.status).toBe(0);
+    expect(JSON.parse(verified.stdout)).toMatchObject({ ok: true, checked_versions: 1 });
+  });
+
+  it('refuses to change an approved version through the CLI and catches raw-SQL edits with verify', () => {
+    run(['material', 'add', 'mgf2', '--name', 'MgF2']);
+    run(['import', writeTable('m.csv', -0.07), '--material', 'mgf2', '--no-kk']);
+    expect(run(['approve', 'mgf2@1'], 'bob').code).toBe(0);
+    expect(run(['approve', 'mgf2@1'], 'cy').err).toMatch(/it is approved/);
+    expect(run(['withdraw', 'mgf2@1'], 'cy').err).toMatch(/it is approved/);
+    expect(run(['import', join(dir, 'm.csv'), '--material', 'mgf2', '--no-kk']).err).toMatch(/already stored as mgf2@1/);
+
+    const registry = openRegistry(db);
+    try {
+      expect(() => registry.sqlite.exec("UPDATE material_versions SET content = '{}'")).toThrow(/immutable/);
+      registry.sqlite.exec('DROP TRIGGER material_versions_content_immutable');
+      registry.sqlite.exec("UPDATE material_versions SET notes = 'edited by hand' WHERE number = 1 AND material_id = (SELECT id FROM materials WHERE slug = 'mgf2')");
+      expect(verifyRegistry(registry).ok).toBe(false);
+    } finally {
+      registry.close();
+    }
+    const v = run(['verify']);
+    expect(v.code).toBe(3);
+    expect(v.err).toMatch(/FAIL {2}mgf2@1: content or provenance no longer matches its SHA-256/);
+    expect(v.err).toMatch(/trigger material_versions_content_immutable is missing/);
+  });
+});
+
+describe('several processes importing into one database at once', { timeout: 240_000 }, () => {
+  it('get distinct, hole-free version numbers and lose nothing', async () => {
+    const concurrentDb = join(dir, 'concurrent.db');
+    const env = { ...process.env, NKLEDGER_USER: 'ada', NKLEDGER_DB: concurrentDb };
+    // the first writer creates the database; the importers then race on a fresh material
+    await execFileAsync(process.execPath, [BIN, 'material', 'add', 'race', '--name', 'race'], { env });
+    const count = 6;
+    const files = Array.from({ length: count }, (_, i) => writeTable(`race-${i}.csv`, 0.001 * (i + 1)));
+    const results = await Promise.all(
+      files.map((file) => execFileAsync(process.execPath, [BIN, 'import', file, '--material', 'race', '--no-kk', '--json'], { env })),
+    );
+    const refs = results.map((r) => JSON.parse(r.stdout).ref as string);
+    expect(new Set(refs).size).toBe(count);
+    expect(refs.map((r) => Number(r.split('@')[1])).sort((a, b) => a - b)).toEqual([1, 2, 3, 4, 5, 6]);
+    const registry = openRegistry(concurrentDb);
+    try {
+      const rows = registry.sqlite.prepare('SELECT number, source_file FROM material_versions ORDER BY number').all() as { number: number; source_file: string }[];
+      expect(rows.map((r) => r.source_file).sort()).toEqual(files.map((f) => f.split('/').pop()).sort());
+      const audit = registry.sqlite.prepare("SELECT count(*) AS n FROM audit_log WHERE action = 'version.import'").get() as { n: number };
+      expect(audit.n).toBe(count);
+      expect(verifyRegistry(registry).ok).toBe(true);
+    } finally {
+      registry.close();
+    }
+  });
+
+  it('migrates a brand-new database opened by several processes at once', async () => {
+    const freshDb = join(dir, 'fresh.db');
+    const env = { ...process.env, NKLEDGER_DB: freshDb };
+    const results = await Promise.all(Array.from({ length: 4 }, () => execFileAsync(process.execPath, [BIN, 'list', '--json'], { env })));
+    for (const r of results) expect(JSON.parse(r.stdout)).toEqual([]);
+  });
+});
