@@ -7,9 +7,11 @@
  * - parameters in normalized units x_j = p_j/s_j with s_j = COLUMN_NORM/‖∂r/∂p_j‖, so JᵀJ has a constant
  *   diagonal and the library's absolute damping (clamped to [1e-7, 1e7]) means the same for every model;
  * - the analytic Jacobian through `jacobianFunction` (the default finite-difference step is an absolute 0.1);
- * - runs in short chunks and applies its own convergence tests between them (relative χ² decrease,
- *   projected-gradient cosine, χ² ≤ tolerance), because the library stops only on an ABSOLUTE χ²
- *   tolerance or the iteration cap, and accepts uphill steps (it returns the best point it saw).
+ * - its own convergence tests (relative χ² decrease confirmed by the projected-gradient cosine,
+ *   MINPACK-style), applied inside the library's callbacks, which end the run by throwing a StopChunk;
+ *   the library alone stops only on an ABSOLUTE χ² tolerance or the iteration cap, and accepts uphill
+ *   steps (it returns the best point it saw). Stalled chunks restart from the best point, rescaled,
+ *   with heavier damping.
  */
 import { levenbergMarquardt } from 'ml-levenberg-marquardt';
 import { NumericalError } from '../errors.ts';
@@ -24,7 +26,7 @@ export interface LmResult {
 }
 
 /** Library iterations per chunk between our own convergence tests. */
-const CHUNK = 8;
+const CHUNK = 30;
 /**
  * Norm every Jacobian column is scaled to. The library clamps its damping to [1e-7, 1e7] in absolute
  * terms; with JᵀJ's diagonal at COLUMN_NORM² = 1e6 that is a relative range of [1e-13, 10], wide enough
@@ -35,9 +37,6 @@ const COLUMN_NORM = 1e3;
 const FTOL = 1e-10;
 /** Largest |cos| between the residual vector and a free Jacobian column accepted at a minimum (MINPACK's gtol test). */
 const GTOL = 1e-5;
-
-/** Raised inside the library's callbacks when the Jacobian is not finite; ends the chunk. */
-class NonFiniteJacobian extends Error {}
 
 /** Whitened residuals r = (y − model)/σ and Jacobian columns of the model for the free parameters. */
 export function residualsAt(problem: FitProblem, model: DispersionModel, values: Float64Array, free: number[], withJacobian: boolean): { r: Float64Array; jacobian: Float64Array[] } {
@@ -65,6 +64,28 @@ export function nonFiniteMessage(model: DispersionModel, values: Float64Array, w
   return `the ${model.spec} model is not finite ${where} (${list}); check --init/--fix/--bounds against the parameter meanings in 'nkledger fit --help'`;
 }
 
+/** Raised inside the library's callbacks to end a chunk early: our convergence tests fired or progress stalled. */
+class StopChunk extends Error {
+  constructor(readonly reason: 'converged' | 'stalled') {
+    super(reason);
+  }
+}
+
+/** Largest |cos| between the residual vector and a free Jacobian column, ignoring columns blocked by a bound. */
+function gradientCosine(r: Float64Array, jacobian: Float64Array[], p: Float64Array, free: number[], bounds: [number, number][]): number {
+  const rNorm = Math.sqrt(dot(r, r));
+  let worst = 0;
+  free.forEach((pi, j) => {
+    const norm = Math.sqrt(dot(jacobian[j], jacobian[j]));
+    if (!(norm > 0) || rNorm === 0) return;
+    const descent = dot(jacobian[j], r); // −∂(χ²/2)/∂p_j
+    const [lo, hi] = bounds[pi];
+    if ((p[pi] <= lo && descent < 0) || (p[pi] >= hi && descent > 0)) return;
+    worst = Math.max(worst, Math.abs(descent) / (norm * rNorm));
+  });
+  return worst;
+}
+
 /**
  * Minimize χ² over the free parameters from `start`, within `bounds` (full parameter order).
  * Throws NumericalError when the model is not finite at the start or the library fails.
@@ -78,100 +99,111 @@ export function minimize(problem: FitProblem, model: DispersionModel, start: Flo
   const tolerance = Math.max(1e-28 * chi2, 1e-300);
   const yWhite = Float64Array.from(problem.y, (y, i) => y * problem.invSigma[i]);
   const index = Array.from(yWhite.keys());
+  const rowCount = yWhite.length;
   let iterations = 0;
-  let damping = 1e-3; // relative to the unit-normalized JᵀJ diagonal
-  let lastDecrease = Infinity;
+  let damping = 1e-3; // relative to the normalized JᵀJ diagonal
   let stalls = 0;
-  let converged = false;
-  for (;;) {
+  let converged = chi2 <= tolerance || gradientCosine(r, jacobian, p, free, bounds) <= GTOL;
+  while (!converged && iterations < maxIterations && stalls < 4) {
     const norms = jacobian.map((col) => Math.sqrt(dot(col, col)));
-    const rNorm = Math.sqrt(chi2);
-    const cosines = free.map((pi, j) => {
-      if (!(norms[j] > 0) || rNorm === 0) return 0;
-      const descent = dot(jacobian[j], r); // −∂(χ²/2)/∂p_j
-      const [lo, hi] = bounds[pi];
-      if ((p[pi] <= lo && descent < 0) || (p[pi] >= hi && descent > 0)) return 0; // blocked by a bound
-      return Math.abs(descent) / (norms[j] * rNorm);
-    });
-    const maxCos = Math.max(0, ...cosines);
-    if (chi2 <= tolerance || maxCos <= GTOL * 1e-3 || (lastDecrease <= FTOL && maxCos <= GTOL)) {
-      converged = true;
-      break;
-    }
-    if (stalls >= 4) {
-      // no decrease over several Gauss-Newton restarts: a minimum if χ² is down at rounding level
-      converged = chi2 <= 1e-16 * chi2Start;
-      break;
-    }
-    if (iterations >= maxIterations) break;
     const scale = free.map((pi, j) => (norms[j] > 0 && Number.isFinite(norms[j]) ? COLUMN_NORM / norms[j] : Math.max(Math.abs(p[pi]), 1e-3)));
     const full = (x: ArrayLike<number>): Float64Array => {
       const q = Float64Array.from(p);
-      free.forEach((pi, j) => (q[pi] = x[j] * scale[j]));
+      for (let j = 0; j < free.length; j++) q[free[j]] = x[j] * scale[j];
       return q;
     };
-    let cachedX: number[] = [];
+    // the best point of this chunk, and the model/Jacobian cache keyed by the library's parameter array
+    let bestX = free.map((pi, j) => p[pi] / scale[j]);
+    let bestChi2 = chi2;
+    let failures = 0;
+    let checkGradientAt: number[] | null = null;
+    let cachedX: number[] = bestX.slice();
     let cachedModel: Float64Array = new Float64Array(0);
     let cachedRows: number[][] | null = null;
-    const same = (x: number[]) => x.length === cachedX.length && x.every((v, j) => v === cachedX[j]);
-    const refresh = (x: number[], withJacobian: boolean) => {
-      if (same(x) && (cachedRows || !withJacobian)) return;
-      const v = model.evaluate(problem.grid, full(x), problem.quantity, withJacobian);
-      const w = whitenedModel(problem, v, withJacobian ? free : undefined);
+    const same = (x: number[]) => x.every((v, j) => v === cachedX[j]);
+    const values = (x: number[]) => {
+      if (cachedModel.length > 0 && same(x)) return;
+      cachedModel = whitenedModel(problem, model.evaluate(problem.grid, full(x), problem.quantity, false)).model;
       cachedX = x.slice();
-      cachedModel = w.model;
-      cachedRows = withJacobian ? index.map((i) => w.jacobian.map((col, j) => col[i] * scale[j])) : null;
-      // a NaN in JᵀJ surfaces in the library as "Matrix is not symmetric" (NaN ≠ NaN): stop the chunk instead
-      if (cachedRows?.some((row) => row.some((v) => !Number.isFinite(v)))) throw new NonFiniteJacobian();
+      cachedRows = null;
+      let c = 0;
+      for (let i = 0; i < rowCount; i++) c += (yWhite[i] - cachedModel[i]) ** 2;
+      iterations++;
+      if (c < bestChi2) {
+        const decrease = (bestChi2 - c) / bestChi2;
+        bestChi2 = c;
+        bestX = x.slice();
+        failures = 0;
+        if (decrease <= FTOL) checkGradientAt = bestX; // confirm with the gradient at the next Jacobian
+      } else if (!(c < bestChi2) && ++failures >= 8) throw new StopChunk('stalled');
     };
-    let result;
+    const jacobianRows = (x: number[]) => {
+      if (!(same(x) && cachedRows)) {
+        const v = model.evaluate(problem.grid, full(x), problem.quantity, true);
+        const w = whitenedModel(problem, v, free);
+        // a NaN in JᵀJ surfaces in the library as "Matrix is not symmetric" (NaN ≠ NaN): end the chunk instead
+        for (const col of w.jacobian) for (let i = 0; i < rowCount; i++) if (!Number.isFinite(col[i])) throw new StopChunk('stalled');
+        if (x === bestX || (bestX.every((v, j) => v === x[j]) && bestChi2 < chi2Start)) {
+          const rr = Float64Array.from(yWhite, (y, i) => y - w.model[i]);
+          const cos = gradientCosine(rr, w.jacobian, full(x), free, bounds);
+          if (cos <= GTOL || (checkGradientAt !== null && cos <= 1e-3)) throw new StopChunk('converged');
+        }
+        checkGradientAt = null;
+        cachedRows = index.map((i) => w.jacobian.map((col, j) => col[i] * scale[j]));
+        cachedX = x.slice();
+        cachedModel = w.model;
+      }
+      return cachedRows as number[][];
+    };
+    let reason: 'converged' | 'stalled' | 'ended' = 'ended';
     try {
-      result = levenbergMarquardt(
+      const result = levenbergMarquardt(
         { x: index, y: yWhite },
         (x) => {
-          refresh(x, false);
-          return (i) => cachedModel[i];
+          values(x);
+          const m = cachedModel;
+          return (i) => m[i];
         },
         {
-          initialValues: free.map((pi, j) => p[pi] / scale[j]),
+          initialValues: bestX,
           minValues: free.map((pi, j) => bounds[pi][0] / scale[j]),
           maxValues: free.map((pi, j) => bounds[pi][1] / scale[j]),
           damping: damping * COLUMN_NORM * COLUMN_NORM,
-          maxIterations: CHUNK,
+          maxIterations: Math.max(1, Math.min(CHUNK, maxIterations - iterations)),
           errorTolerance: tolerance,
           jacobianFunction: (x) => {
-            refresh(x, true);
-            return (i) => (cachedRows as number[][])[i];
+            const rows = jacobianRows(x);
+            return (i) => rows[i];
           },
         },
       );
-    } catch (err) {
-      if (err instanceof NonFiniteJacobian) {
-        damping = Math.min(damping * 100, 10);
-        lastDecrease = 0;
-        stalls++;
-        continue;
+      if (result.parameterError < bestChi2) {
+        bestChi2 = result.parameterError;
+        bestX = result.parameterValues;
       }
-      throw new NumericalError(`the Levenberg-Marquardt step failed (${err instanceof Error ? err.message : String(err)}); try --init closer to the data, --fix a parameter or a narrower --range`);
+    } catch (err) {
+      if (!(err instanceof StopChunk)) {
+        throw new NumericalError(`the Levenberg-Marquardt step failed (${err instanceof Error ? err.message : String(err)}); try --init closer to the data, --fix a parameter or a narrower --range`);
+      }
+      reason = err.reason;
     }
-    iterations += result.iterations;
-    const next = full(result.parameterValues);
-    ({ r, jacobian } = residualsAt(problem, model, next, free, true));
-    const nextChi2 = sumSquares(r);
-    if (!Number.isFinite(nextChi2) || nextChi2 > chi2) {
-      // no better point in this chunk: stay, damp harder
-      ({ r, jacobian } = residualsAt(problem, model, p, free, true));
-      damping = Math.min(damping * 100, 10);
-      lastDecrease = 0;
+    const improved = bestChi2 < chi2;
+    if (improved) {
+      p.set(full(bestX));
+      chi2 = bestChi2;
+    }
+    ({ r, jacobian } = residualsAt(problem, model, p, free, true));
+    if (reason === 'converged' || chi2 <= tolerance) converged = true;
+    else if (improved && gradientCosine(r, jacobian, p, free, bounds) <= GTOL) converged = true;
+    else if (improved && reason === 'ended') {
+      stalls = 0;
+      damping = 1e-6; // progress: restart near Gauss-Newton with fresh scaling
+    } else {
       stalls++;
-      continue;
+      damping = Math.min(damping * 100, 10);
     }
-    lastDecrease = (chi2 - nextChi2) / chi2;
-    stalls = lastDecrease <= FTOL ? stalls + 1 : 0;
-    // progress: restart near Gauss-Newton; the library raises damping itself within a chunk when steps fail
-    damping = 1e-6;
-    p.set(next);
-    chi2 = nextChi2;
   }
+  // no decrease over several restarts with χ² down at rounding level (noise-free data): that is the minimum
+  if (!converged && stalls >= 4 && chi2 <= 1e-16 * chi2Start) converged = true;
   return { values: p, chi2, iterations, converged };
 }
