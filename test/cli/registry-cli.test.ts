@@ -104,6 +104,23 @@ describe('registry CLI', { timeout: 240_000 }, () => {
   });
 });
 
+describe('registry versions as sources', { timeout: 240_000 }, () => {
+  it('eval, diff and export take references (runs after the flows above)', () => {
+    const e = run(['eval', 'sio2-thermal@1', '--at', '500', '--json']);
+    expect(e.code).toBe(0);
+    // the written table: n = 1.45 + 0.0036/0.5² at 500 nm (a table point), from writeTable above
+    expect(JSON.parse(e.out)).toMatchObject({ ref: 'sio2-thermal@1', source: 'table', wavelength_nm: [500], n: [1.4644] });
+    expect(e.err).toMatch(/retired/);
+    expect(run(['eval', 'sio2-thermal@1', '--at', '900']).err).toMatch(/extrapolation needs a fitted model/);
+    const d = run(['diff', 'sio2-thermal@1', 'mgf2@1', '--json']);
+    expect(d.code).toBe(0);
+    // mgf2 was written with offset -0.07: Δn = -0.07 everywhere
+    expect(JSON.parse(d.out).dn.max_abs).toBeCloseTo(0.07, 6);
+    const csv = run(['export', 'sio2-thermal@1', '--format', 'csv']);
+    expect(csv.out.split('\r\n').slice(2, 4)).toEqual(['wavelength_nm,n,k', '400,1.4725,0']);
+  });
+});
+
 describe('several processes importing into one database at once', { timeout: 240_000 }, () => {
   it('get distinct, hole-free version numbers and lose nothing', async () => {
     const concurrentDb = join(dir, 'concurrent.db');
