@@ -54,24 +54,28 @@ export function createApp(options: AppOptions): Hono<ApiEnv> {
   });
   app.notFound((c) => problemResponse(new HttpProblem(404, 'route-not-found', `no route for ${c.req.method} ${c.req.path}`)));
 
-  app.use(
-    '/api/*',
-    cors({
-      origin: (origin) => (settings.cors_origins.includes(origin) ? origin : null),
-      allowMethods: ['GET', 'POST', 'PUT', 'DELETE', 'OPTIONS'],
-      allowHeaders: ['Authorization', 'Content-Type', 'If-None-Match', 'Accept'],
-      exposeHeaders: ['ETag', 'Location', 'Deprecation'],
-      maxAge: 600,
-    }),
-  );
-  app.use('/api/*', (c, next) =>
-    bodyLimit({
+  const corsMiddleware = cors({
+    origin: (origin) => (settings.cors_origins.includes(origin) ? origin : null),
+    allowMethods: ['GET', 'POST', 'PUT', 'DELETE', 'OPTIONS'],
+    allowHeaders: ['Authorization', 'Content-Type', 'If-None-Match', 'Accept'],
+    exposeHeaders: ['ETag', 'Location', 'Deprecation'],
+    maxAge: 600,
+  });
+  app.use('/api/*', (c, next) => {
+    // Answers differ by Origin only through the CORS headers; say so to shared caches either way.
+    c.header('vary', 'Origin', { append: true });
+    // Only browsers send Origin; requests without it (design tools, scripts) skip the CORS work.
+    return c.req.header('origin') === undefined ? next() : corsMiddleware(c, next);
+  });
+  app.use('/api/*', (c, next) => {
+    if (c.req.method === 'GET' || c.req.method === 'HEAD') return next();
+    return bodyLimit({
       maxSize: settings.max_body_bytes,
       onError: () => {
         throw new HttpProblem(413, 'body-too-large', `request body exceeds ${settings.max_body_bytes} bytes (setting max_body_bytes)`);
       },
-    })(c, next),
-  );
+    })(c, next);
+  });
   app.use('/api/*', authenticate(registry));
 
   registerOpenApiRoute(app);

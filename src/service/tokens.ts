@@ -4,7 +4,7 @@
  * prefix ("nkl_") so secret scanners and people can tell what a stray string is.
  */
 import { randomBytes } from 'node:crypto';
-import { and, eq, isNull } from 'drizzle-orm';
+import { and, eq, isNull, sql } from 'drizzle-orm';
 import { apiTokens, TOKEN_ROLES, type TokenRole } from '../registry/schema-auth.ts';
 import type { Registry } from '../registry/open.ts';
 import { sha256Hex } from '../registry/canonical.ts';
@@ -108,13 +108,21 @@ export function revokeToken(registry: Registry, id: string, revokedBy: string): 
   return toInfo({ ...row, revokedAt, revokedBy });
 }
 
+function prepareLookup(registry: Registry) {
+  return registry.db
+    .select({ tokenId: apiTokens.id, user: apiTokens.user, role: apiTokens.role })
+    .from(apiTokens)
+    .where(and(eq(apiTokens.tokenSha256, sql.placeholder('hash')), isNull(apiTokens.revokedAt)))
+    .prepare();
+}
+
+/** Every API request authenticates: the lookup is prepared once per registry, not rebuilt per request. */
+const lookups = new WeakMap<Registry, ReturnType<typeof prepareLookup>>();
+
 /** The principal for a presented token, or undefined for an unknown or revoked token. */
 export function authenticateToken(registry: Registry, token: string): Principal | undefined {
   if (!token.startsWith(TOKEN_PREFIX)) return undefined;
-  const row = registry.db
-    .select()
-    .from(apiTokens)
-    .where(and(eq(apiTokens.tokenSha256, sha256Hex(token)), isNull(apiTokens.revokedAt)))
-    .get() as typeof apiTokens.$inferSelect | undefined;
-  return row ? { tokenId: row.id, user: row.user, role: row.role } : undefined;
+  let lookup = lookups.get(registry);
+  if (!lookup) lookups.set(registry, (lookup = prepareLookup(registry)));
+  return lookup.get({ hash: sha256Hex(token) });
 }

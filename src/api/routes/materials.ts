@@ -11,7 +11,7 @@ import { showVersion } from '../../service/versions.ts';
 import { approve, retire, withdraw } from '../../service/lifecycle.ts';
 import { checkSlug } from '../../registry/refs.ts';
 import { InputError } from '../../errors.ts';
-import type { VersionRecord } from '../../registry/types.ts';
+import type { VersionStatus } from '../../registry/types.ts';
 import { actorOf, type ApiEnv } from '../auth.ts';
 import { versionCaching } from '../caching.ts';
 import { parseInput, readJson } from '../validate.ts';
@@ -35,10 +35,8 @@ export function versionUrl(ref: string): string {
 }
 
 /** Headers every view of a version carries: a retired one is marked deprecated (RFC 9745) since its retirement. */
-export function markRetired(c: Context, version: Pick<VersionRecord, 'status' | 'retired_at'>): void {
-  if (version.status === 'retired' && version.retired_at) {
-    c.header('deprecation', `@${Math.floor(Date.parse(version.retired_at) / 1000)}`);
-  }
+export function markRetired(c: Context, status: VersionStatus, retiredAt: string | null): void {
+  if (status === 'retired' && retiredAt) c.header('deprecation', `@${Math.floor(Date.parse(retiredAt) / 1000)}`);
 }
 
 const searchQuery = z.strictObject({ q: z.string().max(200).optional() });
@@ -82,7 +80,7 @@ export function registerMaterialRoutes(app: Hono<ApiEnv>, ctx: RouteContext): vo
 
   app.get(VERSION_PATH, reader, (c) => {
     const version = showVersion(ctx.registry, versionRef(c));
-    markRetired(c, version);
+    markRetired(c, version.status, version.retired_at);
     return versionCaching(c, version) ?? c.json(version);
   });
 

@@ -2,32 +2,56 @@
  * GET /api/v1/materials/{slug}/versions/{n}/nk: n and k of one version at a list or a range of
  * wavelengths, as JSON `{"wavelength_nm", "n", "k", ...}` or CSV (`Accept: text/csv`), evaluated by
  * the service function behind `nkledger eval REF`. Approved and retired versions are immutable, so the
- * answer for a URL never changes: it gets the version's ETag (per format) and a year of caching.
+ * answer for a URL never changes: it gets the version's ETag (per format), a year of caching, and is
+ * kept rendered in memory (RepresentationCache) so repeated requests cost one indexed lookup.
  */
-import type { Hono } from 'hono';
+import type { Context, Hono } from 'hono';
 import { evaluateVersion } from '../../service/evaluate-version.ts';
+import { versionState } from '../../service/version-state.ts';
 import { exportTable } from '../../io/export.ts';
 import type { ApiEnv } from '../auth.ts';
-import { versionCaching } from '../caching.ts';
+import { isImmutable, versionCaching } from '../caching.ts';
 import { negotiateNkFormat, parseNkQuery } from '../nk-query.ts';
+import { RepresentationCache, type CachedRepresentation } from '../representation-cache.ts';
 import type { RouteContext } from '../context.ts';
 import { markRetired, VERSION_PATH, versionRef } from './materials.ts';
-import { versionSummary } from '../../service/versions.ts';
+
+const CSV_TYPE = 'text/csv; charset=utf-8; header=present';
+const JSON_TYPE = 'application/json';
 
 export function registerNkRoute(app: Hono<ApiEnv>, ctx: RouteContext): void {
+  const cache = new RepresentationCache();
+
+  function send(c: Context, answer: CachedRepresentation, format: string, retiredAt: string | null): Response {
+    c.header('vary', 'Accept', { append: true });
+    markRetired(c, answer.status, retiredAt);
+    return versionCaching(c, answer, format) ?? c.body(answer.body, 200, { 'content-type': answer.contentType });
+  }
+
   app.get(`${VERSION_PATH}/nk`, ctx.requireRole('reader'), (c) => {
     const ref = versionRef(c);
     const format = negotiateNkFormat(c.req.header('accept'));
-    const request = parseNkQuery(c.req.query(), ctx.settings().max_nk_points);
-    const result = evaluateVersion(ctx.registry, ref, request.wavelengthNm, { interpolation: request.interpolation });
-    c.header('vary', 'Accept');
-    if (result.status === 'retired') markRetired(c, versionSummary(ctx.registry, ref));
-    const notModified = versionCaching(c, result, format);
-    if (notModified) return notModified;
-    if (format === 'csv') {
-      const csv = exportTable({ wavelengthNm: result.wavelength_nm, n: result.n, k: result.k }, 'csv');
-      return c.body(csv, 200, { 'content-type': 'text/csv; charset=utf-8; header=present' });
+    const maxPoints = ctx.settings().max_nk_points;
+    const url = c.req.url;
+    const key = `${ref} ${format} ${maxPoints} ${url.slice(url.indexOf('?') + 1)}`;
+    const state = versionState(ctx.registry, c.req.param('slug'), Number(c.req.param('n')));
+    if (state && isImmutable(state.status)) {
+      const hit = cache.get(key, state.sha256, state.status);
+      if (hit) return send(c, hit, format, state.retiredAt);
     }
-    return c.json(result);
+
+    const request = parseNkQuery(c.req.query(), maxPoints);
+    const result = evaluateVersion(ctx.registry, ref, request.wavelengthNm, { interpolation: request.interpolation });
+    const answer: CachedRepresentation = {
+      sha256: result.sha256,
+      status: result.status,
+      contentType: format === 'csv' ? CSV_TYPE : JSON_TYPE,
+      body:
+        format === 'csv'
+          ? exportTable({ wavelengthNm: result.wavelength_nm, n: result.n, k: result.k }, 'csv')
+          : JSON.stringify(result),
+    };
+    if (isImmutable(result.status)) cache.set(key, answer);
+    return send(c, answer, format, state?.retiredAt ?? null);
   });
 }
