@@ -11,6 +11,8 @@ import { createToken } from '../../src/service/tokens.ts';
 import { TOKEN_ROLES, type TokenRole } from '../../src/registry/schema-auth.ts';
 
 export interface ApiHarness {
+  /** Temp directory holding the database (removed by stop). */
+  dir: string;
   registry: Registry;
   server: RunningServer;
   url: string;
@@ -31,6 +33,7 @@ export async function startHarness(options: Partial<ServerOptions> = {}): Promis
   ) as Record<TokenRole, string>;
   const server = await startServer({ registry, host: '127.0.0.1', port: 0, ...options });
   return {
+    dir,
     registry,
     server,
     url: server.url,

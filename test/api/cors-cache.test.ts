@@ -1,0 +1,124 @@
+/**
+ * CORS allow-list (Fetch standard CORS protocol: Access-Control-Allow-Origin only for listed origins,
+ * preflight answered), the in-memory cache of rendered n,k answers (a retirement after caching must
+ * show at once), the representation cache's LRU bound, and a graceful close that lets an in-flight
+ * request finish.
+ */
+import { rmSync } from 'node:fs';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { createMaterial } from '../../src/service/materials.ts';
+import { importVersion } from '../../src/service/versions.ts';
+import { approve, retire } from '../../src/service/lifecycle.ts';
+import { RepresentationCache } from '../../src/api/representation-cache.ts';
+import { csvTable, startHarness, type ApiHarness } from './harness.ts';
+import { cauchyTable } from '../registry/helpers.ts';
+
+describe('CORS allow-list', () => {
+  let h: ApiHarness;
+  beforeAll(async () => {
+    h = await startHarness({ settings: { cors_origins: ['https://design.example.org'] } });
+  });
+  afterAll(() => h.stop());
+
+  it('echoes an allowed origin and exposes ETag, Location and Deprecation', async () => {
+    const res = await h.request('/api/v1/materials', { headers: { origin: 'https://design.example.org' } });
+    expect(res.headers.get('access-control-allow-origin')).toBe('https://design.example.org');
+    expect(res.headers.get('access-control-expose-headers')).toMatch(/ETag.*Location.*Deprecation/);
+    expect(res.headers.get('vary')).toMatch(/Origin/);
+  });
+
+  it('gives no Access-Control-Allow-Origin to an origin not on the list', async () => {
+    const res = await h.request('/api/v1/materials', { headers: { origin: 'https://evil.example.com' } });
+    expect(res.status).toBe(200);
+    expect(res.headers.get('access-control-allow-origin')).toBeNull();
+  });
+
+  it('answers a preflight for an allowed origin with the methods and headers a design tool needs', async () => {
+    const res = await h.request('/api/v1/materials/x/versions', {
+      method: 'OPTIONS',
+      headers: { origin: 'https://design.example.org', 'access-control-request-method': 'POST', 'access-control-request-headers': 'authorization,content-type' },
+    });
+    expect(res.status).toBe(204);
+    expect(res.headers.get('access-control-allow-origin')).toBe('https://design.example.org');
+    expect(res.headers.get('access-control-allow-methods')).toMatch(/POST/);
+    expect(res.headers.get('access-control-allow-headers')).toMatch(/Authorization/);
+  });
+});
+
+describe('cached n,k answers', () => {
+  let h: ApiHarness;
+  beforeAll(async () => {
+    h = await startHarness();
+    createMaterial(h.registry, { slug: 'glass', name: 'Glass' }, 'lab-editor');
+    importVersion(h.registry, { slug: 'glass', table: cauchyTable() }, 'lab-editor');
+    approve(h.registry, 'glass@1', 'lab-approver');
+  });
+  afterAll(() => h.stop());
+
+  it('shows a retirement made after the answer was cached (another process could have made it)', async () => {
+    const path = '/api/v1/materials/glass/versions/1/nk?wavelengths_nm=500';
+    const first = await (await h.request(path)).json();
+    const second = await (await h.request(path)).json();
+    expect(second).toEqual(first);
+    expect(first.warnings).toEqual([]);
+    retire(h.registry, 'glass@1', 'reference wafer broken', 'lab-approver'); // directly in the registry, not through the API
+    const after = await h.request(path);
+    expect(after.headers.get('deprecation')).toMatch(/^@\d+$/);
+    const body = await after.json();
+    expect(body.status).toBe('retired');
+    expect(body.warnings.join(' ')).toMatch(/reference wafer broken/);
+    expect(body.n).toEqual(first.n);
+  });
+});
+
+describe('RepresentationCache', () => {
+  it('drops the least recently used entries beyond its bound and refuses stale hashes or statuses', () => {
+    const cache = new RepresentationCache(2);
+    const entry = (body: string) => ({ sha256: 'a', status: 'approved' as const, contentType: 'text/plain', body });
+    cache.set('one', entry('1'));
+    cache.set('two', entry('2'));
+    expect(cache.get('one', 'a', 'approved')?.body).toBe('1'); // "one" is now the most recent
+    cache.set('three', entry('3'));
+    expect(cache.size).toBe(2);
+    expect(cache.get('two', 'a', 'approved')).toBeUndefined();
+    expect(cache.get('one', 'b', 'approved')).toBeUndefined();
+    expect(cache.get('one', 'a', 'retired')).toBeUndefined();
+    expect(cache.get('three', 'a', 'approved')?.body).toBe('3');
+  });
+});
+
+describe('graceful close', () => {
+  it('lets an in-flight upload finish, then refuses new connections', async () => {
+    const h = await startHarness();
+    createMaterial(h.registry, { slug: 'slow', name: 'Slow' }, 'lab-editor');
+    // A request whose body arrives in two parts, so it is in flight when close() starts.
+    const text = csvTable(1.7);
+    let push!: (s: string) => void;
+    let end!: () => void;
+    const body = new ReadableStream<Uint8Array>({
+      start(controller) {
+        push = (s) => controller.enqueue(new TextEncoder().encode(s));
+        end = () => controller.close();
+      },
+    });
+    push(text.slice(0, 100));
+    const pending = h.request('/api/v1/materials/slow/versions', {
+      method: 'POST',
+      headers: { 'content-type': 'text/csv' },
+      body,
+      as: 'editor',
+      // @ts-expect-error Node's fetch needs duplex for a streamed body
+      duplex: 'half',
+    });
+    await new Promise((r) => setTimeout(r, 100));
+    const closed = h.server.close();
+    push(text.slice(100));
+    end();
+    const res = await pending;
+    expect(res.status).toBe(201);
+    await closed;
+    await expect(fetch(`${h.url}/api/v1/materials`)).rejects.toThrow();
+    h.registry.close();
+    rmSync(h.dir, { recursive: true, force: true });
+  });
+});
