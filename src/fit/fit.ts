@@ -85,7 +85,8 @@ export function fitTable(table: NkTable, options: FitOptions): FitReport {
     }
   });
   const free = names.flatMap((_, i) => (fixed.has(i) ? [] : [i]));
-  const start = model.guess(problem.data, given);
+  // the automatic guess only when some parameter still needs one
+  const start = given.size === names.length ? Float64Array.from(names, (_, i) => given.get(i) as number) : model.guess(problem.data, given);
   for (const i of free) start[i] = Math.min(bounds[i][1], Math.max(bounds[i][0], start[i]));
   const maxIterations = options.maxIterations ?? DEFAULT_MAX_ITERATIONS;
   const startCount = Math.max(1, Math.floor(options.starts ?? 1));

@@ -101,7 +101,7 @@ export function minimize(problem: FitProblem, model: DispersionModel, start: Flo
   const index = Array.from(yWhite.keys());
   const rowCount = yWhite.length;
   let iterations = 0;
-  let damping = 1e-3; // relative to the normalized JᵀJ diagonal
+  let damping = 1e-5; // relative to the normalized JᵀJ diagonal
   let stalls = 0;
   let converged = chi2 <= tolerance || gradientCosine(r, jacobian, p, free, bounds) <= GTOL;
   while (!converged && iterations < maxIterations && stalls < 4) {

@@ -43,7 +43,10 @@ export function buildProblem(table: NkTable, target: FitTarget, rangeNm?: [numbe
   const sigma = sigmas(table, rows, quantity, n, k, useRe, useIm, warnings);
   const re = quantity === 'eps' ? data.eps1 : data.n;
   const im = quantity === 'eps' ? data.eps2 : data.k;
-  const y = Float64Array.from([...(useRe ? re : []), ...(useIm ? im : [])]);
+  const rowCount = re.length;
+  const y = new Float64Array((useRe ? rowCount : 0) + (useIm ? rowCount : 0));
+  if (useRe) y.set(re);
+  if (useIm) y.set(im, useRe ? rowCount : 0);
   const invSigma = sigma ? Float64Array.from(sigma, (s) => 1 / s) : relativeWeights(re, im, useRe, useIm);
   return { grid: spectralGrid(data.wavelengthNm), data, quantity, useRe, useIm, y, invSigma, weighted: sigma !== undefined, warnings };
 }
