@@ -119,13 +119,16 @@ export function minimize(problem: FitProblem, model: DispersionModel, start: Flo
     let checkGradientAt: number[] | null = null;
     let cachedX: number[] = bestX.slice();
     let cachedModel: Float64Array = new Float64Array(0);
-    let cachedRows: number[][] | null = null;
+    let haveJacobian = false;
+    let cachedColumns: Float64Array[] = [];
+    // the library copies each row out before asking for the next, so one buffer serves every row
+    const rowBuffer = new Array<number>(free.length).fill(0);
     const same = (x: number[]) => x.every((v, j) => v === cachedX[j]);
     const values = (x: number[]) => {
       if (cachedModel.length > 0 && same(x)) return;
       cachedModel = whitenedModel(problem, model.evaluate(problem.grid, full(x), problem.quantity, false)).model;
       cachedX = x.slice();
-      cachedRows = null;
+      haveJacobian = false;
       let c = 0;
       for (let i = 0; i < rowCount; i++) c += (yWhite[i] - cachedModel[i]) ** 2;
       iterations++;
@@ -138,7 +141,7 @@ export function minimize(problem: FitProblem, model: DispersionModel, start: Flo
       } else if (!(c < bestChi2) && ++failures >= 8) throw new StopChunk('stalled');
     };
     const jacobianRows = (x: number[]) => {
-      if (!(same(x) && cachedRows)) {
+      if (!(same(x) && haveJacobian)) {
         const v = model.evaluate(problem.grid, full(x), problem.quantity, true);
         const w = whitenedModel(problem, v, free);
         // a NaN in JᵀJ surfaces in the library as "Matrix is not symmetric" (NaN ≠ NaN): end the chunk instead
@@ -149,11 +152,16 @@ export function minimize(problem: FitProblem, model: DispersionModel, start: Flo
           if (cos <= GTOL || (checkGradientAt !== null && cos <= 1e-3)) throw new StopChunk('converged');
         }
         checkGradientAt = null;
-        cachedRows = index.map((i) => w.jacobian.map((col, j) => col[i] * scale[j]));
+        cachedColumns = w.jacobian;
+        haveJacobian = true;
         cachedX = x.slice();
         cachedModel = w.model;
       }
-      return cachedRows as number[][];
+      const columns = cachedColumns;
+      return (i: number) => {
+        for (let j = 0; j < columns.length; j++) rowBuffer[j] = columns[j][i] * scale[j];
+        return rowBuffer;
+      };
     };
     let reason: 'converged' | 'stalled' | 'ended' = 'ended';
     try {
@@ -171,10 +179,7 @@ export function minimize(problem: FitProblem, model: DispersionModel, start: Flo
           damping: damping * COLUMN_NORM * COLUMN_NORM,
           maxIterations: Math.max(1, Math.min(CHUNK, maxIterations - iterations)),
           errorTolerance: tolerance,
-          jacobianFunction: (x) => {
-            const rows = jacobianRows(x);
-            return (i) => rows[i];
-          },
+          jacobianFunction: (x) => jacobianRows(x),
         },
       );
       if (result.parameterError < bestChi2) {
