@@ -8,7 +8,7 @@ import { readSettings } from '../../service/settings.ts';
 import { guarded } from '../failure.ts';
 import { addDbOption } from '../admin-options.ts';
 
-function parsePort(text: string): number {
+export function parsePort(text: string): number {
   const port = Number(text);
   if (!Number.isInteger(port) || port < 0 || port > 65535) throw new InputError('serve-port', `--port ${text}: a port is an integer 0-65535`);
   return port;
