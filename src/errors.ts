@@ -58,6 +58,18 @@ export class NumericalError extends InputError {
   }
 }
 
+/**
+ * Stored content that no longer matches its SHA-256: the database was edited outside nkledger. Not the
+ * user's input, but reported the same way (no stack trace; the CLI exits 2), as HTTP 500 since the
+ * fault is the server's data. Raised on read so a tampered version is never served as if it were good.
+ */
+export class IntegrityError extends InputError {
+  constructor(message: string, rule = 'integrity-hash-mismatch') {
+    super(rule, message, {}, 500);
+    this.name = 'IntegrityError';
+  }
+}
+
 export function formatLocation(loc: InputLocation): string {
   const parts: string[] = [];
   if (loc.file !== undefined) parts.push(loc.file);

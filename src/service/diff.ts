@@ -3,7 +3,7 @@
  * largest |Δn| and |Δk| over the wavelength range both cover and where, and provenance fields.
  */
 import type { Registry } from '../registry/open.ts';
-import { contentOf, provenanceOf, usableRangeNm } from '../registry/records.ts';
+import { provenanceOf, usableRangeNm, verifiedContentOf } from '../registry/records.ts';
 import { PROVENANCE_FIELDS, type Provenance, type VersionContent, type VersionStatus } from '../registry/types.ts';
 import { evaluateContent } from './evaluate-version.ts';
 import { resolveRow } from './versions.ts';
@@ -87,8 +87,8 @@ function largest(x: number[], ya: number[], yb: number[]): LargestDifference {
 export function diffVersions(registry: Registry, refA: string, refB: string): VersionDiff {
   const A = resolveRow(registry, refA);
   const B = resolveRow(registry, refB);
-  const ca = contentOf(A.row);
-  const cb = contentOf(B.row);
+  const ca = verifiedContentOf(A.row, A.resolved.ref);
+  const cb = verifiedContentOf(B.row, B.resolved.ref);
   const ra = usableRangeNm(ca);
   const rb = usableRangeNm(cb);
   const lo = Math.max(ra[0], rb[0]);

@@ -8,7 +8,7 @@ import { evaluateFitReport, type FitReport } from '../fit/fit.ts';
 import type { InterpolationMethod } from '../optics/interpolate.ts';
 import { evaluateTable } from '../optics/table-eval.ts';
 import type { Registry } from '../registry/open.ts';
-import { contentOf, usableRangeNm } from '../registry/records.ts';
+import { usableRangeNm, verifiedContentOf } from '../registry/records.ts';
 import type { VersionContent, VersionStatus } from '../registry/types.ts';
 import { resolveRow } from './versions.ts';
 
@@ -56,7 +56,7 @@ export function evaluateVersion(
   options: { interpolation?: InterpolationMethod } = {},
 ): VersionEvaluation {
   const { row, resolved } = resolveRow(registry, ref);
-  const content = contentOf(row);
+  const content = verifiedContentOf(row, resolved.ref);
   const method = options.interpolation ?? 'linear';
   const { n, k, source } = evaluateContent(content, wavelengthsNm, method, resolved.ref);
   return {

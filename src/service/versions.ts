@@ -9,7 +9,7 @@ import { canonicalJson } from '../registry/canonical.ts';
 import type { Registry } from '../registry/open.ts';
 import {
   appendAudit,
-  contentOf,
+  verifiedContentOf,
   findMaterial,
   findVersion,
   latestApprovedNumber,
@@ -223,7 +223,7 @@ export function resolveRef(registry: Registry, ref: string): ResolvedRef {
 /** A version with its content and provenance. */
 export function showVersion(registry: Registry, ref: string): VersionDetail {
   const { material, row, resolved } = resolveRow(registry, ref);
-  const content = contentOf(row);
+  const content = verifiedContentOf(row, resolved.ref);
   return { ...versionRecord(material.slug, row, content), content, notices: resolved.notices, warnings: resolved.warnings };
 }
 

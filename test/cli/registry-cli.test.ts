@@ -112,9 +112,13 @@ describe('registry versions as sources', { timeout: 240_000 }, () => {
     expect(JSON.parse(e.out)).toMatchObject({ ref: 'sio2-thermal@1', source: 'table', wavelength_nm: [500], n: [1.4644] });
     expect(e.err).toMatch(/retired/);
     expect(run(['eval', 'sio2-thermal@1', '--at', '900']).err).toMatch(/extrapolation needs a fitted model/);
-    const d = run(['diff', 'sio2-thermal@1', 'mgf2@1', '--json']);
+    // mgf2@1 was edited by hand above: it is refused on read (re-verified hash), not diffed as if good.
+    expect(run(['diff', 'sio2-thermal@1', 'mgf2@1', '--json']).err).toMatch(/mgf2@1: the stored content .* no longer matches .*\[integrity-hash-mismatch\]/);
+    run(['material', 'add', 'mgf2-b', '--name', 'MgF2 (second sample)']);
+    run(['import', writeTable('m2.csv', -0.07), '--material', 'mgf2-b', '--no-kk']);
+    const d = run(['diff', 'sio2-thermal@1', 'mgf2-b@1', '--json']);
     expect(d.code).toBe(0);
-    // mgf2 was written with offset -0.07: Δn = -0.07 everywhere
+    // mgf2-b was written with offset -0.07: Δn = -0.07 everywhere
     expect(JSON.parse(d.out).dn.max_abs).toBeCloseTo(0.07, 6);
     const csv = run(['export', 'sio2-thermal@1', '--format', 'csv']);
     expect(csv.out.split('\r\n').slice(2, 4)).toEqual(['wavelength_nm,n,k', '400,1.4725,0']);
