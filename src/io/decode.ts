@@ -1,12 +1,13 @@
 /**
- * Bytes to text for delimited tables: size limit, binary refusal, UTF-8 BOM, and a windows-1252 fallback
- * for exports from older Windows software (where µ and Å are single bytes).
+ * Bytes to text for delimited tables: size limit, binary refusal, UTF-8 BOM, UTF-16 with a BOM (what
+ * spreadsheet programs write as "Unicode text"), and a windows-1252 fallback for exports from older
+ * Windows software (where µ and Å are single bytes).
  */
 import { InputError } from '../errors.ts';
 
 export interface DecodedText {
   text: string;
-  encoding: 'utf-8' | 'windows-1252';
+  encoding: 'utf-8' | 'utf-16le' | 'utf-16be' | 'windows-1252';
   bom: boolean;
 }
 
@@ -39,6 +40,13 @@ export function decodeText(input: string | Uint8Array, file: string | undefined,
   let encoding: DecodedText['encoding'] = 'utf-8';
   if (typeof input === 'string') {
     text = input;
+  } else if (utf16Bom(input) !== undefined) {
+    encoding = utf16Bom(input)!;
+    try {
+      text = new TextDecoder(encoding, { fatal: true, ignoreBOM: true }).decode(input);
+    } catch {
+      refuseBinary(file);
+    }
   } else {
     if (input.includes(0)) refuseBinary(file);
     try {
@@ -52,6 +60,14 @@ export function decodeText(input: string | Uint8Array, file: string | undefined,
   if (bom) text = text.slice(1);
   if (looksBinary(text)) refuseBinary(file);
   return { text, encoding, bom };
+}
+
+/** UTF-16 announced by its byte-order mark (FF FE little-endian, FE FF big-endian); without one, NULs mean binary. */
+function utf16Bom(bytes: Uint8Array): 'utf-16le' | 'utf-16be' | undefined {
+  if (bytes.length < 2) return undefined;
+  if (bytes[0] === 0xff && bytes[1] === 0xfe) return 'utf-16le';
+  if (bytes[0] === 0xfe && bytes[1] === 0xff) return 'utf-16be';
+  return undefined;
 }
 
 function looksBinary(text: string): boolean {

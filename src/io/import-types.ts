@@ -37,7 +37,7 @@ export interface ImportOptions {
 
 /** How the input was read: what a person needs to check that detection got it right. */
 export interface DetectedFormat {
-  encoding: 'utf-8' | 'windows-1252';
+  encoding: 'utf-8' | 'utf-16le' | 'utf-16be' | 'windows-1252';
   bom: boolean;
   lineEnding: 'LF' | 'CRLF' | 'CR';
   /** "," ";" "\t" "whitespace" or the explicit single character. */
