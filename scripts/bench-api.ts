@@ -3,8 +3,11 @@
  * hono route that returns a constant from the same server process (the ceiling of hono +
  * @hono/node-server on this machine). Goal: the n,k route reaches at least half of that ceiling.
  *
- *   npx tsx scripts/bench-api.ts [--duration 10] [--connections 32]
+ *   npx tsx scripts/bench-api.ts [--duration 10] [--connections 32] [--rounds 3]
  *
+ * Each case gets `duration` seconds in total, split over `rounds` interleaved rounds (constant, n,k,
+ * n,k with token, constant, ...), and the median round is reported: on a shared machine the load of
+ * other processes then hits every case alike instead of whichever ran during a busy spell.
  * The server runs in a child process (this script with --serve), so autocannon's own CPU use is not
  * charged to the server. The registry is a temp file holding the Marrowick PECVD SiNx recipe A table
  * imported through the real pipeline, fitted with Tauc-Lorentz, KK-checked and approved.
@@ -86,6 +89,7 @@ async function load(name: string, url: string, headers: Record<string, string>, 
 async function main(): Promise<void> {
   const duration = arg('duration', 10);
   const connections = arg('connections', 32);
+  const rounds = arg('rounds', 3);
   const dir = mkdtempSync(join(tmpdir(), 'nkledger-bench-'));
   const dbPath = join(dir, 'bench.db');
   const token = prepareRegistry(dbPath);
@@ -99,13 +103,19 @@ async function main(): Promise<void> {
     if (check.status !== 200) throw new Error(`n,k route answered ${check.status}: ${await check.text()}`);
     // A short warm-up so JIT compilation is not measured.
     await load('warm-up', url + NK_PATH, {}, 2, connections);
-    const rows = [
-      await load(`constant (GET ${CONSTANT_PATH})`, url + CONSTANT_PATH, {}, duration, connections),
-      await load('n,k, 3 wavelengths, anonymous', url + NK_PATH, {}, duration, connections),
-      await load('n,k, 3 wavelengths, bearer token', url + NK_PATH, { authorization: `Bearer ${token}` }, duration, connections),
+    const cases: [string, string, Record<string, string>][] = [
+      [`constant (GET ${CONSTANT_PATH})`, url + CONSTANT_PATH, {}],
+      ['n,k, 3 wavelengths, anonymous', url + NK_PATH, {}],
+      ['n,k, 3 wavelengths, bearer token', url + NK_PATH, { authorization: `Bearer ${token}` }],
     ];
+    const runs: Row[][] = cases.map(() => []);
+    for (let round = 0; round < rounds; round++) {
+      for (const [i, [name, target, headers]] of cases.entries()) runs[i].push(await load(name, target, headers, duration / rounds, connections));
+    }
+    const median = (rs: Row[]) => [...rs].sort((a, b) => a.rps - b.rps)[Math.floor(rs.length / 2)];
+    const rows = runs.map(median);
     const ceiling = rows[0].rps;
-    console.log(`\n${connections} connections, ${duration} s per case, loopback, server in a child process (node ${process.version})\n`);
+    console.log(`\n${connections} connections, ${duration} s per case in ${rounds} interleaved rounds (median round shown), loopback, server in a child process (node ${process.version})\n`);
     console.log('| case | req/s | p50 (ms) | p99 (ms) | errors | ratio to constant |');
     console.log('| --- | ---: | ---: | ---: | ---: | ---: |');
     for (const r of rows) {

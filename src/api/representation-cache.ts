@@ -1,14 +1,16 @@
 /**
  * A bounded in-memory cache of rendered answers about immutable versions (approved or retired). The
- * content of such a version never changes, so an answer computed once stays right as long as the
- * version's hash and status are the same; each hit is checked against both (a retirement changes the
- * status, hence the answer's warnings and headers). Least recently used entries go first.
+ * content of slug@N never changes, so an answer computed once stays right as long as the version's
+ * status is the same; each hit is checked against the current status (a retirement changes the
+ * answer's warnings and headers). Least recently used entries go first.
  */
 import type { VersionStatus } from '../registry/types.ts';
 
 export interface CachedRepresentation {
   sha256: string;
   status: VersionStatus;
+  /** ISO 8601 time of retirement, for the Deprecation header; null unless retired. */
+  retiredAt: string | null;
   contentType: string;
   body: string;
 }
@@ -22,10 +24,10 @@ export class RepresentationCache {
     private readonly maxBytes = 32 * 1024 * 1024,
   ) {}
 
-  /** The entry for `key` if it was rendered from this exact hash and status. */
-  get(key: string, sha256: string, status: VersionStatus): CachedRepresentation | undefined {
+  /** The entry for `key` if it was rendered while the version had this status. */
+  get(key: string, status: VersionStatus): CachedRepresentation | undefined {
     const entry = this.entries.get(key);
-    if (!entry || entry.sha256 !== sha256 || entry.status !== status) return undefined;
+    if (!entry || entry.status !== status) return undefined;
     // Re-insert: a Map iterates in insertion order, so the first key is the least recently used.
     this.entries.delete(key);
     this.entries.set(key, entry);

@@ -72,18 +72,17 @@ describe('cached n,k answers', () => {
 });
 
 describe('RepresentationCache', () => {
-  it('drops the least recently used entries beyond its bound and refuses stale hashes or statuses', () => {
+  it('drops the least recently used entries beyond its bound and refuses entries rendered under another status', () => {
     const cache = new RepresentationCache(2);
-    const entry = (body: string) => ({ sha256: 'a', status: 'approved' as const, contentType: 'text/plain', body });
+    const entry = (body: string) => ({ sha256: 'a', status: 'approved' as const, retiredAt: null, contentType: 'text/plain', body });
     cache.set('one', entry('1'));
     cache.set('two', entry('2'));
-    expect(cache.get('one', 'a', 'approved')?.body).toBe('1'); // "one" is now the most recent
+    expect(cache.get('one', 'approved')?.body).toBe('1'); // "one" is now the most recent
     cache.set('three', entry('3'));
     expect(cache.size).toBe(2);
-    expect(cache.get('two', 'a', 'approved')).toBeUndefined();
-    expect(cache.get('one', 'b', 'approved')).toBeUndefined();
-    expect(cache.get('one', 'a', 'retired')).toBeUndefined();
-    expect(cache.get('three', 'a', 'approved')?.body).toBe('3');
+    expect(cache.get('two', 'approved')).toBeUndefined();
+    expect(cache.get('one', 'retired')).toBeUndefined();
+    expect(cache.get('three', 'approved')?.body).toBe('3');
   });
 });
 

@@ -7,7 +7,8 @@
  */
 import type { Context, Hono } from 'hono';
 import { evaluateVersion } from '../../service/evaluate-version.ts';
-import { versionState } from '../../service/version-state.ts';
+import { versionStatus } from '../../service/version-state.ts';
+import { versionSummary } from '../../service/versions.ts';
 import { exportTable } from '../../io/export.ts';
 import type { ApiEnv } from '../auth.ts';
 import { isImmutable, versionCaching } from '../caching.ts';
@@ -22,9 +23,9 @@ const JSON_TYPE = 'application/json';
 export function registerNkRoute(app: Hono<ApiEnv>, ctx: RouteContext): void {
   const cache = new RepresentationCache();
 
-  function send(c: Context, answer: CachedRepresentation, format: string, retiredAt: string | null): Response {
+  function send(c: Context, answer: CachedRepresentation, format: string): Response {
     c.header('vary', 'Accept', { append: true });
-    markRetired(c, answer.status, retiredAt);
+    markRetired(c, answer.status, answer.retiredAt);
     return versionCaching(c, answer, format) ?? c.body(answer.body, 200, { 'content-type': answer.contentType });
   }
 
@@ -34,10 +35,10 @@ export function registerNkRoute(app: Hono<ApiEnv>, ctx: RouteContext): void {
     const maxPoints = ctx.settings().max_nk_points;
     const url = c.req.url;
     const key = `${ref} ${format} ${maxPoints} ${url.slice(url.indexOf('?') + 1)}`;
-    const state = versionState(ctx.registry, c.req.param('slug'), Number(c.req.param('n')));
-    if (state && isImmutable(state.status)) {
-      const hit = cache.get(key, state.sha256, state.status);
-      if (hit) return send(c, hit, format, state.retiredAt);
+    const status = versionStatus(ctx.registry, c.req.param('slug'), Number(c.req.param('n')));
+    if (status && isImmutable(status)) {
+      const hit = cache.get(key, status);
+      if (hit) return send(c, hit, format);
     }
 
     const request = parseNkQuery(c.req.query(), maxPoints);
@@ -45,6 +46,7 @@ export function registerNkRoute(app: Hono<ApiEnv>, ctx: RouteContext): void {
     const answer: CachedRepresentation = {
       sha256: result.sha256,
       status: result.status,
+      retiredAt: result.status === 'retired' ? versionSummary(ctx.registry, ref).retired_at : null,
       contentType: format === 'csv' ? CSV_TYPE : JSON_TYPE,
       body:
         format === 'csv'
@@ -52,6 +54,6 @@ export function registerNkRoute(app: Hono<ApiEnv>, ctx: RouteContext): void {
           : JSON.stringify(result),
     };
     if (isImmutable(result.status)) cache.set(key, answer);
-    return send(c, answer, format, state?.retiredAt ?? null);
+    return send(c, answer, format);
   });
 }
