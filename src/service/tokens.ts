@@ -4,7 +4,8 @@
  * prefix ("nkl_") so secret scanners and people can tell what a stray string is.
  */
 import { randomBytes } from 'node:crypto';
-import { and, eq, isNull, sql } from 'drizzle-orm';
+import { eq, isNull } from 'drizzle-orm';
+import type { Statement } from 'better-sqlite3';
 import { apiTokens, TOKEN_ROLES, type TokenRole } from '../registry/schema-auth.ts';
 import type { Registry } from '../registry/open.ts';
 import { sha256Hex } from '../registry/canonical.ts';
@@ -108,21 +109,18 @@ export function revokeToken(registry: Registry, id: string, revokedBy: string): 
   return toInfo({ ...row, revokedAt, revokedBy });
 }
 
-function prepareLookup(registry: Registry) {
-  return registry.db
-    .select({ tokenId: apiTokens.id, user: apiTokens.user, role: apiTokens.role })
-    .from(apiTokens)
-    .where(and(eq(apiTokens.tokenSha256, sql.placeholder('hash')), isNull(apiTokens.revokedAt)))
-    .prepare();
-}
+const LOOKUP_SQL = 'SELECT id AS tokenId, user, role FROM api_tokens WHERE token_sha256 = ? AND revoked_at IS NULL';
 
-/** Every API request authenticates: the lookup is prepared once per registry, not rebuilt per request. */
-const lookups = new WeakMap<Registry, ReturnType<typeof prepareLookup>>();
+/**
+ * Every API request authenticates, so the lookup is one plain prepared statement per registry
+ * (drizzle's prepared query with result mapping cost about twice as much on this path).
+ */
+const lookups = new WeakMap<Registry, Statement<[string], Principal>>();
 
 /** The principal for a presented token, or undefined for an unknown or revoked token. */
 export function authenticateToken(registry: Registry, token: string): Principal | undefined {
   if (!token.startsWith(TOKEN_PREFIX)) return undefined;
   let lookup = lookups.get(registry);
-  if (!lookup) lookups.set(registry, (lookup = prepareLookup(registry)));
-  return lookup.get({ hash: sha256Hex(token) });
+  if (!lookup) lookups.set(registry, (lookup = registry.sqlite.prepare(LOOKUP_SQL)));
+  return lookup.get(sha256Hex(token));
 }
