@@ -1,4 +1,4 @@
-/** The --db and --by flags of the admin commands (token, settings, serve), and opening the registry they name. */
+/** The --db and --as flags of the admin commands (token, settings, serve), and opening the registry they name. */
 import { userInfo } from 'node:os';
 import type { Command } from 'commander';
 import { openRegistry, type Registry } from '../registry/open.ts';
@@ -7,13 +7,13 @@ export function addDbOption(cmd: Command): Command {
   return cmd.option('--db <path>', 'registry database (default: $NKLEDGER_DB, else ./nkledger.db)');
 }
 
-export function addByOption(cmd: Command): Command {
-  return cmd.option('--by <name>', 'who is acting, for the audit log (default: $NKLEDGER_USER, else the login name)');
+export function addAsOption(cmd: Command): Command {
+  return cmd.option('--as <name>', 'who is acting, for the audit log (default: $NKLEDGER_USER, else the login name)');
 }
 
-/** The acting user: --by, else NKLEDGER_USER, else the operating-system login name. */
-export function actorFrom(opts: { by?: string }): string {
-  return opts.by ?? process.env.NKLEDGER_USER ?? userInfo().username;
+/** The acting user: --as, else NKLEDGER_USER, else the operating-system login name. */
+export function actorFrom(opts: { as?: string }): string {
+  return opts.as ?? process.env.NKLEDGER_USER ?? userInfo().username;
 }
 
 /** Open the registry named by --db, run `use`, and close it whatever happens. */

@@ -3,7 +3,7 @@ import type { Command } from 'commander';
 import { readSettings, resetSetting, SETTING_KEYS, SETTINGS, writeSettingText, type Settings } from '../../service/settings.ts';
 import { guarded } from '../failure.ts';
 import { formatTable, printJson, printLines } from '../output.ts';
-import { actorFrom, addByOption, addDbOption, withRegistry } from '../admin-options.ts';
+import { actorFrom, addAsOption, addDbOption, withRegistry } from '../admin-options.ts';
 
 function printSettings(settings: Settings, json?: boolean): void {
   if (json) return printJson(settings);
@@ -21,23 +21,23 @@ export function register(program: Command): void {
     .option('--json', 'print JSON')
     .action(guarded(async (opts: { db?: string; json?: boolean }) => printSettings(await withRegistry(opts, readSettings), opts.json)));
 
-  addByOption(addDbOption(settings.command('set')))
+  addAsOption(addDbOption(settings.command('set')))
     .description(`set a setting: ${SETTING_KEYS.join(', ')} (lists comma-separated)`)
     .argument('<key>', 'setting name')
     .argument('<value>', 'e.g. off | https://design.example.org,https://tools.example.org | 1048576')
     .option('--json', 'print JSON')
     .action(
-      guarded(async (key: string, value: string, opts: { db?: string; by?: string; json?: boolean }) =>
+      guarded(async (key: string, value: string, opts: { db?: string; as?: string; json?: boolean }) =>
         printSettings(await withRegistry(opts, (r) => writeSettingText(r, key, value, actorFrom(opts))), opts.json),
       ),
     );
 
-  addByOption(addDbOption(settings.command('reset')))
+  addAsOption(addDbOption(settings.command('reset')))
     .description('forget a stored value so the default applies again')
     .argument('<key>', 'setting name')
     .option('--json', 'print JSON')
     .action(
-      guarded(async (key: string, opts: { db?: string; by?: string; json?: boolean }) =>
+      guarded(async (key: string, opts: { db?: string; as?: string; json?: boolean }) =>
         printSettings(await withRegistry(opts, (r) => resetSetting(r, key, actorFrom(opts))), opts.json),
       ),
     );

@@ -4,18 +4,18 @@ import { createToken, listTokens, revokeToken } from '../../service/tokens.ts';
 import { TOKEN_ROLES } from '../../registry/schema-auth.ts';
 import { guarded } from '../failure.ts';
 import { formatTable, printJson, printLines } from '../output.ts';
-import { actorFrom, addByOption, addDbOption, withRegistry } from '../admin-options.ts';
+import { actorFrom, addAsOption, addDbOption, withRegistry } from '../admin-options.ts';
 
 export function register(program: Command): void {
   const token = program.command('token').description('manage bearer tokens for the HTTP API (`nkledger serve`)');
 
-  addByOption(addDbOption(token.command('create')))
+  addAsOption(addDbOption(token.command('create')))
     .description(`create a token for a user with a role (${TOKEN_ROLES.join(' < ')}); prints the token once`)
     .requiredOption('--user <name>', 'the person or tool the token is for')
     .requiredOption('--role <role>', `one of ${TOKEN_ROLES.join(', ')}`)
     .option('--json', 'print {"token", "id", "user", "role", ...} as JSON')
     .action(
-      guarded(async (opts: { db?: string; by?: string; user: string; role: string; json?: boolean }) => {
+      guarded(async (opts: { db?: string; as?: string; user: string; role: string; json?: boolean }) => {
         const created = await withRegistry(opts, (r) => createToken(r, { user: opts.user, role: opts.role, createdBy: actorFrom(opts) }));
         if (opts.json) return printJson(created);
         printLines([
@@ -41,12 +41,12 @@ export function register(program: Command): void {
       }),
     );
 
-  addByOption(addDbOption(token.command('revoke')))
+  addAsOption(addDbOption(token.command('revoke')))
     .description('revoke a token by id (see `token list`); it is refused from then on')
     .argument('<id>', 'token id, e.g. tok_1a2b3c4d5e6f')
     .option('--json', 'print JSON')
     .action(
-      guarded(async (id: string, opts: { db?: string; by?: string; json?: boolean }) => {
+      guarded(async (id: string, opts: { db?: string; as?: string; json?: boolean }) => {
         const revoked = await withRegistry(opts, (r) => revokeToken(r, id, actorFrom(opts)));
         if (opts.json) return printJson(revoked);
         printLines([`revoked ${revoked.id} (${revoked.user}, ${revoked.role}) at ${revoked.revoked_at}`]);
