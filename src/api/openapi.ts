@@ -29,7 +29,9 @@ const writeErrors = { ...readErrors, '409': problem('the change conflicts with t
 const role = (r: (typeof TOKEN_ROLES)[number]) => ({ 'x-nkledger-role': r });
 
 const tableUpload = {
-  description: 'An n,k table: text/csv (or any delimited text nkledger imports), or multipart/form-data with a `table` file',
+  description:
+    'An n,k table: a text/csv (text/plain, text/tab-separated-values) body with the TableUpload fields as query parameters, ' +
+    'or multipart/form-data with a `table` file part and the fields as form fields. Unknown fields are refused.',
   required: true,
   content: {
     'text/csv': { schema: { type: 'string' } },
@@ -260,7 +262,11 @@ export const OPENAPI_DOCUMENT = {
         properties: {
           table: { type: 'string', format: 'binary' },
           fit: { type: 'string', description: 'model spec to fit and store with the version' },
-          x_unit: { type: 'string' },
+          input_unit: { type: 'string', description: "unit of the table's x column: nm, um, A, eV, cm-1 (overrides the header)" },
+          columns: { type: 'string', description: 'comma-separated column names, e.g. wavelength,n,k' },
+          delimiter: { type: 'string' },
+          decimal_comma: { type: 'string', enum: ['true', 'false'] },
+          k_tolerance: { type: 'string' },
           sample: { type: 'string' },
           substrate: { type: 'string' },
           process: { type: 'string' },
@@ -270,6 +276,9 @@ export const OPENAPI_DOCUMENT = {
           measured_on: { type: 'string', format: 'date' },
           operator: { type: 'string' },
           notes: { type: 'string' },
+          source_file: { type: 'string', description: 'default: the file part name' },
+          kk: { type: 'string', enum: ['true', 'false'] },
+          terms: { type: 'string' },
         },
       },
       Reason: { type: 'object', required: ['reason'], additionalProperties: false, properties: { reason: { type: 'string', minLength: 1 } } },

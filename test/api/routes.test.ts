@@ -202,7 +202,10 @@ describe('HTTP API routes', () => {
 
   describe('lifecycle writes', () => {
     it('uploads CSV as a new draft: 201, Location, {ref, sha256, status}', async () => {
-      const res = await h.request('/api/v1/materials/sio2-thermal/versions?sample=W-12&method=se&notes=first+run', { ...csv(csvTable(1.45)), as: 'editor' });
+      const res = await h.request('/api/v1/materials/sio2-thermal/versions?sample=W-12&method=se&notes=first+run&source_file=ox-w12.csv', {
+        ...csv(csvTable(1.45)),
+        as: 'editor',
+      });
       expect(res.status, await res.clone().text()).toBe(201);
       const body = await res.json();
       expect(body).toMatchObject({ ref: 'sio2-thermal@1', status: 'draft' });
@@ -210,7 +213,8 @@ describe('HTTP API routes', () => {
       expect(res.headers.get('location')).toBe('/api/v1/materials/sio2-thermal/versions/1');
       const shown = await (await h.request(res.headers.get('location')!)).json();
       expect(shown.sha256).toBe(body.sha256);
-      expect(shown.provenance).toMatchObject({ sample: 'W-12', method: 'spectroscopic-ellipsometry', notes: 'first run' });
+      expect(shown.provenance).toMatchObject({ sample: 'W-12', method: 'spectroscopic-ellipsometry', notes: 'first run', source_file: 'ox-w12.csv' });
+      expect(shown.provenance.source_sha256).toMatch(/^[0-9a-f]{64}$/);
       expect(shown.content.kk.verdict).toBeTypeOf('string');
       expect(shown.created_by).toBe('editor');
     });

@@ -21,9 +21,12 @@ const positiveInt = z.string().regex(/^[1-9][0-9]{0,2}$/, 'a positive whole numb
 const booleanText = z.enum(['true', 'false']).transform((t) => t === 'true');
 const fitFields = { fit: z.string().min(1).max(100).optional(), terms: positiveInt.optional() };
 
-/** Provenance as form fields (source_file and source_sha256 come from the upload itself). */
+/**
+ * Provenance as form fields. source_sha256 is always computed from the uploaded bytes; source_file
+ * defaults to the multipart file name (a raw text/csv body has none: give source_file=NAME).
+ */
 const provenanceFields = Object.fromEntries(
-  PROVENANCE_FIELDS.filter((f) => f !== 'source_file' && f !== 'source_sha256').map((f) => [f, z.string().max(20_000).optional()]),
+  PROVENANCE_FIELDS.filter((f) => f !== 'source_sha256').map((f) => [f, z.string().max(20_000).optional()]),
 );
 const versionFields = z.strictObject({ ...fitFields, ...provenanceFields, kk: booleanText.optional() });
 const fitOnlyFields = z.strictObject({ model: z.string().min(1).max(100), terms: positiveInt.optional() });
