@@ -117,10 +117,11 @@ export function minimize(problem: FitProblem, model: DispersionModel, start: Flo
     let bestChi2 = chi2;
     let failures = 0;
     let checkGradientAt: number[] | null = null;
+    // the cache starts filled with the start point, so the library's first calls cost nothing
     let cachedX: number[] = bestX.slice();
-    let cachedModel: Float64Array = new Float64Array(0);
-    let haveJacobian = false;
-    let cachedColumns: Float64Array[] = [];
+    let cachedModel: Float64Array = Float64Array.from(yWhite, (y, i) => y - r[i]);
+    let haveJacobian = true;
+    let cachedColumns: Float64Array[] = jacobian;
     // the library copies each row out before asking for the next, so one buffer serves every row
     const rowBuffer = new Array<number>(free.length).fill(0);
     const same = (x: number[]) => x.every((v, j) => v === cachedX[j]);
