@@ -41,7 +41,7 @@ function makeCase(name: string, kind: Case['kind'], points: number, seed: number
   const tl = kind === 'tauc-lorentz';
   const [lo, hi] = tl ? [250, 1600] : [210, 3710];
   const wavelengthNm = Array.from({ length: points }, (_, i) => lo + ((hi - lo) * i) / (points - 1));
-  const truth = tl
+  const truth: Record<string, number> = tl
     ? { A: 122, E0: 3.45, C: 2.54, Eg: 1.2, eps_inf: 1.15 }
     : { A: 1, B1: 0.6961663, C1: 0.0684043 ** 2, B2: 0.4079426, C2: 0.1162414 ** 2, B3: 0.8974794, C3: 9.896161 ** 2 };
   const model = buildModel(tl ? 'tauc-lorentz' : 'sellmeier', { terms: tl ? 1 : 3 });
@@ -55,10 +55,10 @@ function makeCase(name: string, kind: Case['kind'], points: number, seed: number
     sigmaN: wavelengthNm.map(() => sn),
     sigmaK: wavelengthNm.map(() => sk),
   };
-  const start = tl
+  const start: Record<string, number> = tl
     ? { A: 100, E0: 3.6, C: 2.2, Eg: 1.3, eps_inf: 1.4 }
     : { B1: 0.6, C1: 0.004, B2: 0.5, C2: 0.015, B3: 0.8, C3: 90 };
-  const fixed = tl ? {} : { A: 1 };
+  const fixed: Record<string, number> = tl ? {} : { A: 1 };
   const options: FitOptions = { model: tl ? 'tauc-lorentz' : 'sellmeier', terms: tl ? 1 : 3, init: start, fix: fixed, target: tl ? 'nk' : 'n' };
   return { name, kind, options, table, start, fixed, fitK: tl };
 }
