@@ -3,8 +3,8 @@ import { userInfo } from 'node:os';
 import type { Command } from 'commander';
 import { openRegistry, type Registry } from '../registry/open.ts';
 
-export function addDbOption(cmd: Command): Command {
-  return cmd.option('--db <path>', 'registry database (default: $NKLEDGER_DB, else ./nkledger.db)');
+export function addDbOption(cmd: Command, what = 'registry database'): Command {
+  return cmd.option('--db <path>', `${what} (default: $NKLEDGER_DB, else ./nkledger.db)`);
 }
 
 export function addAsOption(cmd: Command): Command {

@@ -56,7 +56,16 @@ export function evaluateVersion(
   options: { interpolation?: InterpolationMethod } = {},
 ): VersionEvaluation {
   const { row, resolved } = resolveRow(registry, ref);
-  const content = verifiedContentOf(row, resolved.ref);
+  return evaluateResolved(resolved, verifiedContentOf(row, resolved.ref), wavelengthsNm, options);
+}
+
+/** Evaluate the verified content of a version already resolved (e.g. by loadTableOrVersion). */
+export function evaluateResolved(
+  resolved: { ref: string; sha256: string; status: VersionStatus; notices?: string[]; warnings?: string[] },
+  content: VersionContent,
+  wavelengthsNm: number[],
+  options: { interpolation?: InterpolationMethod } = {},
+): VersionEvaluation {
   const method = options.interpolation ?? 'linear';
   const { n, k, source } = evaluateContent(content, wavelengthsNm, method, resolved.ref);
   return {
@@ -70,7 +79,7 @@ export function evaluateVersion(
     wavelength_nm: wavelengthsNm,
     n,
     k,
-    notices: resolved.notices,
-    warnings: resolved.warnings,
+    notices: resolved.notices ?? [],
+    warnings: resolved.warnings ?? [],
   };
 }

@@ -1,8 +1,13 @@
-/** What `inspect` reports about an imported table: plain JSON, shared by the CLI and (later) the HTTP API. */
+/** What `inspect` reports about an imported table or a stored version's table: plain JSON, shared by the CLI and the HTTP API. */
 import type { ImportResult } from '../io/parse-table.ts';
-import { tableRangeNm } from '../table.ts';
+import { tableRangeNm, type NkTable } from '../table.ts';
+import type { TableOrigin } from './table-source.ts';
 
 export interface InspectReport {
+  /** "file" (a file or standard input) or "registry" (a stored version). */
+  source: 'file' | 'registry';
+  /** The stored version a registry reference resolved to (absent for files). */
+  version?: { ref: string; sha256: string; status: string; model: string | null };
   points: number;
   range_nm: [number, number];
   /** Unit of the x column in the file. */
@@ -17,8 +22,10 @@ export interface InspectReport {
   quantity: string;
   n_range: [number, number];
   k_range: [number, number];
-  dialect: { delimiter: string; decimal_comma: boolean; header: boolean; encoding: string; bom: boolean; line_ending: string };
-  data_lines: [number, number];
+  /** How the file was written; null for a stored version (stored tables are normalized). */
+  dialect: { delimiter: string; decimal_comma: boolean; header: boolean; encoding: string; bom: boolean; line_ending: string } | null;
+  /** 1-based lines of the first and last data row of the file; null for a stored version. */
+  data_lines: [number, number] | null;
   warnings: string[];
 }
 
@@ -32,21 +39,28 @@ function minMax(values: number[]): [number, number] {
   return [lo, hi];
 }
 
-export function inspectReport(result: ImportResult): InspectReport {
+/** The report of a table and where it came from (a file's import detection, or a stored version). */
+export function inspectReport(result: { table: NkTable; detected: TableOrigin | ImportResult['detected']; warnings: string[] }): InspectReport {
   const { table, detected: d } = result;
+  const stored = 'source' in d && d.source === 'registry' ? d : null;
+  const f = d as ImportResult['detected'];
+  const columns = stored ? ['wavelength_nm', 'n', 'k', ...(table.sigmaN ? ['sigma_n'] : []), ...(table.sigmaK ? ['sigma_k'] : [])] : f.columns;
   return {
+    source: stored ? 'registry' : 'file',
+    ...(stored ? { version: { ref: stored.ref, sha256: stored.sha256, status: stored.status, model: stored.model } } : {}),
     points: table.wavelengthNm.length,
     range_nm: tableRangeNm(table),
-    x_unit: d.xUnit,
-    columns: d.columns,
-    roles: d.roles,
-    has_k: d.hasK,
-    has_sigma: d.hasSigma,
-    quantity: d.quantity,
+    // A stored table is normalized: wavelength in nm, n, k and the sigmas it was imported with.
+    x_unit: stored ? 'nm' : f.xUnit,
+    columns,
+    roles: stored ? ['x', ...columns.slice(1)] : f.roles,
+    has_k: stored ? true : f.hasK,
+    has_sigma: stored ? table.sigmaN !== undefined || table.sigmaK !== undefined : f.hasSigma,
+    quantity: stored ? 'nk' : f.quantity,
     n_range: minMax(table.n),
     k_range: minMax(table.k),
-    dialect: { delimiter: d.delimiter, decimal_comma: d.decimalComma, header: d.header, encoding: d.encoding, bom: d.bom, line_ending: d.lineEnding },
-    data_lines: d.dataLines,
+    dialect: stored ? null : { delimiter: f.delimiter, decimal_comma: f.decimalComma, header: f.header, encoding: f.encoding, bom: f.bom, line_ending: f.lineEnding },
+    data_lines: stored ? null : f.dataLines,
     warnings: result.warnings,
   };
 }

@@ -34,7 +34,8 @@ export {
   type LockOutdatedEntry,
 } from './lock.ts';
 export { importMeasurement, kkReportFor, type MeasurementImport, type MeasurementImported } from './import-measurement.ts';
-export { evaluateVersion, evaluateContent, type VersionEvaluation } from './evaluate-version.ts';
+export { evaluateVersion, evaluateResolved, evaluateContent, type VersionEvaluation } from './evaluate-version.ts';
+export { loadTableOrVersion, requireTable, type LoadedSource, type TableOrigin, type StoredVersionOrigin, type SourceOptions } from './table-source.ts';
 export { exportVersion, gridNm, VERSION_EXPORT_FORMATS, type VersionExport, type VersionExportFormat } from './export-version.ts';
 export { diffVersions, DIFF_GRID_POINTS, type VersionDiff, type ParameterChange, type LargestDifference } from './diff.ts';
 export { diffPlotSpec, renderDiffPlot } from './diff-plot.ts';

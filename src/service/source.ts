@@ -1,7 +1,7 @@
 /**
  * Where tables come from: a file path, or "-" for standard input. The size limit is checked before
  * the content is read in full (stat for files, a running count for stdin).
- * (Engineer D extends loadTable so a registry reference such as `slug@3` also resolves.)
+ * Commands that also take a registry reference (`slug@3`) resolve SOURCE with table-source.ts `loadTableOrVersion`.
  */
 import { existsSync } from 'node:fs';
 import { readFile, stat } from 'node:fs/promises';

@@ -11,12 +11,12 @@ import { fitPlotSpec } from '../../fit/fit-plot.ts';
 import type { FitOptions, FitReport, FitTarget } from '../../fit/types.ts';
 import { buildModel, MODEL_CATALOGUE } from '../../models/catalogue.ts';
 import { renderSpectrumPlot } from '../../plot/spectrum-plot.ts';
-import { loadTable } from '../../service/source.ts';
+import { requireTable } from '../../service/table-source.ts';
 import { guarded } from '../failure.ts';
-import { addImportOptions, importOptionsFrom, type ImportFlags } from '../import-options.ts';
 import { formatTable, printJson, printLines, printWarnings } from '../output.ts';
+import { addSourceOptions, loadSource, SOURCE_ARGUMENT_HELP, sourceLabel, type SourceFlags } from '../source-options.ts';
 
-interface FitFlags extends ImportFlags {
+interface FitFlags extends SourceFlags {
   model?: string;
   compare?: string;
   terms?: string;
@@ -156,11 +156,11 @@ export function catalogueHelp(): string {
 }
 
 export function register(program: Command): void {
-  addImportOptions(
+  addSourceOptions(
     program
       .command('fit')
       .description('fit a dispersion model to a measured n,k table (or compare several by AIC/BIC)')
-      .argument('<source>', 'table file, or - for standard input')
+      .argument('<source>', SOURCE_ARGUMENT_HELP)
       .option('--model <spec>', 'model name, or a sum such as tauc-lorentz+drude')
       .option('--compare <specs>', 'comma-separated models to fit and rank by AIC and BIC')
       .option('--terms <N>', 'number of Sellmeier terms / oscillators for models that accept it')
@@ -182,21 +182,22 @@ export function register(program: Command): void {
         if ((opts.model === undefined) === (opts.compare === undefined)) {
           throw new InputError('bad-option', `give exactly one of --model NAME or --compare A,B,...; models: ${MODEL_CATALOGUE.map((t) => t.name).join(', ')}`);
         }
-        const imported = await loadTable(source, importOptionsFrom(opts));
-        printWarnings(imported.warnings);
         const options = fitOptionsFrom(opts);
+        const loaded = await loadSource(source, opts);
+        const table = requireTable(loaded, 'fit');
+        const label = sourceLabel(source, loaded);
         if (opts.compare !== undefined) {
           if (opts.plot) throw new InputError('bad-option', '--plot draws one fit; use it with --model');
-          const comparison = compareModels(imported.table, opts.compare.split(',').map((s) => s.trim()).filter(Boolean), options);
+          const comparison = compareModels(table, opts.compare.split(',').map((s) => s.trim()).filter(Boolean), options);
           if (opts.json) printJson(comparison);
-          else printLines(compareLines(source, comparison));
+          else printLines(compareLines(label, comparison));
           return;
         }
-        const report = fitTable(imported.table, { ...options, model: opts.model as string });
-        if (opts.plot) await writeFile(opts.plot, renderSpectrumPlot(fitPlotSpec(imported.table, report, `${report.model} fit of ${source}`)));
+        const report = fitTable(table, { ...options, model: opts.model as string });
+        if (opts.plot) await writeFile(opts.plot, renderSpectrumPlot(fitPlotSpec(table, report, `${report.model} fit of ${label}`)));
         if (opts.json) printJson(report);
         else {
-          printLines(fitLines(source, report));
+          printLines(fitLines(label, report));
           printWarnings(report.warnings);
           for (const note of buildModel(report.model, report.options).notes) process.stderr.write(`note: ${note}\n`);
         }

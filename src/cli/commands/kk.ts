@@ -9,10 +9,10 @@ import { InputError } from '../../errors.ts';
 import { checkKramersKronig, KK_DEFAULTS, type KkReport } from '../../kk/check.ts';
 import { kkPlotSpec } from '../../kk/plot-spec.ts';
 import { renderSpectrumPlot } from '../../plot/spectrum-plot.ts';
-import { loadTable } from '../../service/source.ts';
+import { requireTable } from '../../service/table-source.ts';
 import { guarded } from '../failure.ts';
-import { addImportOptions, importOptionsFrom, type ImportFlags } from '../import-options.ts';
-import { formatTable, printJson, printLines, printWarnings } from '../output.ts';
+import { formatTable, printJson, printLines } from '../output.ts';
+import { addSourceOptions, loadSource, SOURCE_ARGUMENT_HELP, sourceLabel, type SourceFlags } from '../source-options.ts';
 
 /** Exit code for an `inconsistent` verdict: distinct from 1 (internal fault) and 2 (bad input). */
 export const KK_INCONSISTENT_EXIT_CODE = 3;
@@ -50,25 +50,25 @@ function parseTolerance(text: string): number {
 }
 
 export function register(program: Command): void {
-  addImportOptions(
+  addSourceOptions(
     program
       .command('kk')
       .description('Kramers-Kronig consistency of a measured n,k table: is n what k implies? (exit 0 consistent/uninformative, 3 inconsistent)')
-      .argument('<source>', 'table file, or - for standard input')
+      .argument('<source>', SOURCE_ARGUMENT_HELP)
       .option('--tolerance <dn>', `largest acceptable systematic misfit in n (default ${KK_DEFAULTS.tolerance})`)
       .option('--json', 'print the full report as JSON ({"verdict", "rms_dn", "max_dn", "worst_nm", "tolerance", ...})')
       .option('--plot <file.svg>', 'write an SVG: measured vs KK-reconstructed n, and Δn'),
   )
-    .addHelpText('after', '\nExamples:\n  nkledger kk data/marrowick/ito-sputtered.tsv\n  nkledger kk film.csv --tolerance 0.002 --json --plot film-kk.svg')
+    .addHelpText('after', '\nExamples:\n  nkledger kk data/marrowick/ito-sputtered.tsv\n  nkledger kk film.csv --tolerance 0.002 --json --plot film-kk.svg\n  nkledger kk sin-pecvd-a@3')
     .action(
-      guarded(async (source: string, opts: ImportFlags & { tolerance?: string; json?: boolean; plot?: string }) => {
+      guarded(async (source: string, opts: SourceFlags & { tolerance?: string; json?: boolean; plot?: string }) => {
         const tolerance = opts.tolerance === undefined ? undefined : parseTolerance(opts.tolerance);
-        const imported = await loadTable(source, importOptionsFrom(opts));
-        printWarnings(imported.warnings);
-        const report = checkKramersKronig(imported.table, { tolerance });
-        if (opts.plot) await writeFile(opts.plot, renderSpectrumPlot(kkPlotSpec(report, `Kramers-Kronig check of ${source}`)));
+        const loaded = await loadSource(source, opts);
+        const label = sourceLabel(source, loaded);
+        const report = checkKramersKronig(requireTable(loaded, 'check'), { tolerance });
+        if (opts.plot) await writeFile(opts.plot, renderSpectrumPlot(kkPlotSpec(report, `Kramers-Kronig check of ${label}`)));
         if (opts.json) printJson(report);
-        else printLines(kkLines(source, report));
+        else printLines(kkLines(label, report));
         if (report.verdict === 'inconsistent') process.exitCode = KK_INCONSISTENT_EXIT_CODE;
       }),
     );
