@@ -1,5 +1,5 @@
 /** Whole-registry checks and copies: `verify` (recompute every hash) and `backup` (SQLite online backup). */
-import { existsSync } from 'node:fs';
+import { existsSync, linkSync, rmSync } from 'node:fs';
 import { asc, eq } from 'drizzle-orm';
 import { ConflictError, InputError } from '../errors.ts';
 import type { Registry } from '../registry/open.ts';
@@ -84,16 +84,31 @@ export function verifyRegistry(registry: Registry): VerifyReport {
 }
 
 /**
+ * Pages copied per step of the online backup: all of them. SQLite restarts a backup whose source another
+ * connection modifies between steps (sqlite.org/c3ref/backup_finish.html), so with writers active a
+ * many-step backup may never finish; one step copies a single consistent snapshot (in WAL mode writers
+ * go on meanwhile).
+ */
+const BACKUP_PAGES_PER_STEP = 0x7fffffff;
+
+/**
  * Copy the live database to `destination` with SQLite's online backup (readers and writers may
- * continue meanwhile). Refuses to overwrite an existing file.
+ * continue meanwhile). The copy is written beside it first and linked into place only when complete,
+ * so a failed or interrupted backup never leaves a partial file under the destination name. Refuses to
+ * overwrite an existing file.
  */
 export async function backup(registry: Registry, destination: string): Promise<{ path: string; pages: number }> {
   if (destination.trim() === '') throw new InputError('backup-path', 'give the file to write the backup to');
   if (existsSync(destination)) throw new ConflictError(`${destination} already exists; choose a new file (backups never overwrite)`, 'backup-exists');
+  const partial = `${destination}.partial-${process.pid}`;
   try {
-    const result = await registry.sqlite.backup(destination);
+    const result = await registry.sqlite.backup(partial, { progress: () => BACKUP_PAGES_PER_STEP });
+    linkSync(partial, destination); // fails with EEXIST rather than overwrite a file that appeared meanwhile
     return { path: destination, pages: result.totalPages };
   } catch (err) {
+    if ((err as NodeJS.ErrnoException).code === 'EEXIST') throw new ConflictError(`${destination} already exists; choose a new file (backups never overwrite)`, 'backup-exists');
     throw new InputError('backup-failed', `cannot write the backup: ${(err as Error).message}`, { file: destination });
+  } finally {
+    rmSync(partial, { force: true });
   }
 }

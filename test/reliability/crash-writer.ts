@@ -1,5 +1,5 @@
 /**
- * A writer for the crash test (run with `node --import tsx crash-writer.ts DB SEED`): loads its modules,
+ * A writer for the crash and backup tests (`node --import tsx crash-writer.ts DB SEED [PAUSE_MS]`): loads its modules,
  * prints "loaded", waits for "go" on stdin (so the parent can start the next writer while the previous one
  * still runs), opens the registry, then writes forever — imports of 200-row tables, approvals, retirements
  * and withdrawals on two materials — printing one line per write only after it committed:
@@ -12,7 +12,9 @@ import { createMaterial } from '../../src/service/materials.ts';
 import { importVersion } from '../../src/service/versions.ts';
 import { approve, retire, withdraw } from '../../src/service/lifecycle.ts';
 
-const [db, seedText] = process.argv.slice(2);
+const [db, seedText, pauseText] = process.argv.slice(2);
+/** Optional pause between writes, ms (the backup test throttles its writers; the crash test does not). */
+const pauseMs = Number(pauseText ?? 0);
 let seed = Number(seedText) >>> 0;
 /** mulberry32: a small seeded PRNG, so each writer's content is distinct and reproducible. */
 function random(): number {
@@ -62,7 +64,8 @@ async function main(): Promise<void> {
   const approved: string[] = [];
   for (let i = 0; ; i++) {
     // Yield to the event loop now and then so the stdin 'end' above can be noticed.
-    if (i % 20 === 19) await new Promise((r) => setImmediate(r));
+    if (pauseMs > 0) await new Promise((r) => setTimeout(r, pauseMs));
+    else if (i % 20 === 19) await new Promise((r) => setImmediate(r));
     const slug = SLUGS[Math.floor(random() * SLUGS.length)];
     const v = importVersion(
       registry,

@@ -137,7 +137,7 @@ describe('fuzzed upload through HTTP (POST /api/v1/materials/{slug}/versions)', 
       const res = await h.request('/api/v1/materials/fuzz-http/versions', {
         method: 'POST',
         headers: { 'content-type': 'text/csv' },
-        body: bytes,
+        body: Buffer.from(bytes),
         as: 'editor',
       });
       statuses[res.status] = (statuses[res.status] ?? 0) + 1;
