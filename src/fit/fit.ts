@@ -6,7 +6,7 @@
 import { InputError } from '../errors.ts';
 import { buildModel, type DispersionModel } from '../models/catalogue.ts';
 import type { NkTable } from '../table.ts';
-import { minimize, residualsAt, type LmResult } from './lm.ts';
+import { minimize, type LmResult } from './lm.ts';
 import { buildProblem, type FitProblem } from './problem.ts';
 import { CORRELATION_THRESHOLD, informationCriteria, rms, uncertainty } from './statistics.ts';
 import type { FitOptions, FitReport, ParameterReport } from './types.ts';
@@ -111,9 +111,8 @@ interface ReportContext {
 function buildReport(model: DispersionModel, problem: FitProblem, best: LmResult, ctx: ReportContext): FitReport {
   const names = model.parameters.map((p) => p.name);
   const points = problem.y.length;
-  const { jacobian } = residualsAt(problem, model, best.values, ctx.free, true);
   const freeNames = ctx.free.map((i) => names[i]);
-  const { stderr, correlation } = uncertainty(jacobian, freeNames, best.chi2, points);
+  const { stderr, correlation } = uncertainty(best.jacobian, freeNames, best.chi2, points);
   const nk = model.evaluate(problem.grid, best.values, 'nk', false);
   const warnings = [...problem.warnings];
   if (!model.kkConsistent) warnings.push(`${model.spec} is not Kramers-Kronig consistent: its n and k are independent formulas, so they need not describe one physical material`);
