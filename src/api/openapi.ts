@@ -4,6 +4,7 @@
  * adding a route without describing it here (or the reverse) fails the suite.
  */
 import { TOKEN_ROLES } from '../registry/schema-auth.ts';
+import { SETTING_KEYS } from '../service/settings.ts';
 
 type Schema = Record<string, unknown>;
 const ref = (name: string): Schema => ({ $ref: `#/components/schemas/${name}` });
@@ -205,20 +206,20 @@ export const OPENAPI_DOCUMENT = {
       },
     },
     '/api/v1/settings': {
-      get: { summary: 'Server settings', ...role('admin'), responses: { '200': json('settings', { type: 'object' }), ...authErrors } },
+      get: { summary: 'Every setting of the registry and the API (the registry rule allow_self_approval included)', ...role('admin'), responses: { '200': json('settings', { type: 'object' }), ...authErrors } },
     },
     '/api/v1/settings/{key}': {
       put: {
         summary: 'Change a setting',
         ...role('admin'),
-        parameters: [{ name: 'key', in: 'path', required: true, schema: { type: 'string' } }],
+        parameters: [{ name: 'key', in: 'path', required: true, schema: { type: 'string', enum: SETTING_KEYS } }],
         requestBody: { required: true, content: { 'application/json': { schema: { type: 'object', required: ['value'], properties: { value: {} } } } } },
         responses: { '200': json('settings after the change', { type: 'object' }), ...writeErrors },
       },
       delete: {
         summary: 'Reset a setting to its default',
         ...role('admin'),
-        parameters: [{ name: 'key', in: 'path', required: true, schema: { type: 'string' } }],
+        parameters: [{ name: 'key', in: 'path', required: true, schema: { type: 'string', enum: SETTING_KEYS } }],
         responses: { '200': json('settings after the change', { type: 'object' }), ...writeErrors },
       },
     },

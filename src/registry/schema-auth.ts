@@ -1,7 +1,7 @@
 /**
- * Access tokens and server settings for the HTTP API. Kept apart from the record schema
- * (schema.ts) so the API's tables have their own migration; drizzle-kit picks both up through
- * the glob "./src/registry/schema*.ts".
+ * Access tokens for the HTTP API. Kept apart from the record schema (schema.ts) so the API's tables have
+ * their own migration; drizzle-kit picks both up through the glob "./src/registry/schema*.ts". Settings,
+ * the API's included, live in one table: `registry_settings` in schema.ts.
  */
 import { sqliteTable, text } from 'drizzle-orm/sqlite-core';
 
@@ -24,12 +24,4 @@ export const apiTokens = sqliteTable('api_tokens', {
   createdBy: text('created_by').notNull(),
   revokedAt: text('revoked_at'),
   revokedBy: text('revoked_by'),
-});
-
-/** Server settings as key/value; values are JSON text so booleans and lists round-trip. */
-export const apiSettings = sqliteTable('api_settings', {
-  key: text('key').primaryKey(),
-  valueJson: text('value_json').notNull(),
-  updatedAt: text('updated_at').notNull(),
-  updatedBy: text('updated_by').notNull(),
 });

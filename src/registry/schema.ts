@@ -101,8 +101,9 @@ export const auditLog = sqliteTable(
 );
 
 /**
- * Registry rules a lab can change (key → JSON value), e.g. `allow_self_approval`.
- * Kept apart from the HTTP API's settings (schema-auth.ts) so the registry works without the API.
+ * Every setting a lab can change (key → JSON value): registry rules such as `allow_self_approval` and the HTTP
+ * API's (`anonymous_reads`, `cors_origins`, …). The catalogue of keys, defaults and meanings is SETTINGS in
+ * src/service/settings.ts; a key without a row has its default.
  */
 export const registrySettings = sqliteTable('registry_settings', {
   key: text('key').primaryKey(),

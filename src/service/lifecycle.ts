@@ -7,41 +7,11 @@ import { and, eq } from 'drizzle-orm';
 import { ConflictError, InputError } from '../errors.ts';
 import type { Registry } from '../registry/open.ts';
 import { appendAudit, nowIso, versionRecord, writeTransaction, type VersionRow } from '../registry/records.ts';
-import { materialVersions, registrySettings } from '../registry/schema.ts';
+import { materialVersions } from '../registry/schema.ts';
 import type { VersionRecord, VersionStatus } from '../registry/types.ts';
 import { checkActor } from './actor.ts';
+import { readSettings } from './settings.ts';
 import { resolveRow } from './versions.ts';
-
-/** Registry rules a lab may change. */
-export interface RegistrySettings {
-  /** Let the creator of a version approve it (a one-person lab); the approval records that it was self-approval. */
-  allow_self_approval: boolean;
-}
-
-const DEFAULT_SETTINGS: RegistrySettings = { allow_self_approval: false };
-
-export function getRegistrySettings(registry: Registry): RegistrySettings {
-  const rows = registry.db.select().from(registrySettings).all();
-  const stored = Object.fromEntries(rows.map((r) => [r.key, JSON.parse(r.value) as unknown]));
-  return { ...DEFAULT_SETTINGS, ...stored } as RegistrySettings;
-}
-
-/** Change a registry setting (audited). */
-export function setRegistrySetting<K extends keyof RegistrySettings>(registry: Registry, key: K, value: RegistrySettings[K], actor: string): RegistrySettings {
-  const who = checkActor(actor);
-  if (!(key in DEFAULT_SETTINGS)) throw new InputError('setting-unknown', `unknown registry setting "${key}": known are ${Object.keys(DEFAULT_SETTINGS).join(', ')}`);
-  if (typeof value !== typeof DEFAULT_SETTINGS[key]) throw new InputError('setting-value', `registry setting "${key}" takes a ${typeof DEFAULT_SETTINGS[key]}`);
-  writeTransaction(registry, () => {
-    const at = nowIso();
-    registry.db
-      .insert(registrySettings)
-      .values({ key, value: JSON.stringify(value), updatedBy: who, updatedAt: at })
-      .onConflictDoUpdate({ target: registrySettings.key, set: { value: JSON.stringify(value), updatedBy: who, updatedAt: at } })
-      .run();
-    appendAudit(registry, { actor: who, action: 'setting.set', detail: { key, value } });
-  });
-  return getRegistrySettings(registry);
-}
 
 /** Re-read a version inside the write transaction and insist on its current status. */
 function lockedVersion(registry: Registry, ref: string, expected: VersionStatus, verb: string) {
@@ -72,9 +42,9 @@ export function approve(registry: Registry, ref: string, actor: string): Version
   return writeTransaction(registry, () => {
     const { material, row } = lockedVersion(registry, ref, 'draft', 'approve');
     const self = row.createdBy === who;
-    if (self && !getRegistrySettings(registry).allow_self_approval) {
+    if (self && !readSettings(registry).allow_self_approval) {
       throw new ConflictError(
-        `${who} created ${material.slug}@${row.number} and cannot also approve it: someone else must (a one-person lab can allow self-approval with "nkledger self-approval on", setting allow_self_approval)`,
+        `${who} created ${material.slug}@${row.number} and cannot also approve it: someone else must (a one-person lab can allow self-approval with "nkledger settings set allow_self_approval on")`,
         'two-person-rule',
       );
     }

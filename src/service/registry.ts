@@ -13,7 +13,8 @@ export { checkActor } from './actor.ts';
 export { normalizeProvenance, parseMetaPairs, type ProvenanceInput } from './provenance.ts';
 export { createMaterial, listMaterials, getMaterial, history, type NewMaterial } from './materials.ts';
 export { importVersion, resolveRef, showVersion, versionSummary, type NewVersion, type ImportedVersion, type ResolvedRef } from './versions.ts';
-export { approve, retire, withdraw, getRegistrySettings, setRegistrySetting, type RegistrySettings } from './lifecycle.ts';
+export { approve, retire, withdraw } from './lifecycle.ts';
+export { readSettings, writeSetting, writeSettingText, resetSetting, parseSettingKey, SETTINGS, SETTING_KEYS, type Settings, type SettingKey } from './settings.ts';
 export { verifyRegistry, backup, IMMUTABILITY_TRIGGERS, type VerifyReport, type HashMismatch } from './registry-admin.ts';
 export {
   lockAdd,

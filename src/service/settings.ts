@@ -1,14 +1,16 @@
 /**
- * Server settings kept in the registry (table api_settings), so a running `nkledger serve` and the
- * CLI agree on them. The catalogue below is the only place a setting is defined: its value schema,
- * default, and meaning; the CLI, the API and the docs iterate it.
+ * Every setting a lab can change — the registry's rules and the HTTP API's — kept in the registry (table
+ * registry_settings), so the CLI, the approval rule and a running `nkledger serve` agree on them. The catalogue
+ * below is the only place a setting is defined: its value schema, default, and meaning; `nkledger settings`,
+ * the API's /settings routes and the docs iterate it. Every change appends an audit-log row.
  */
 import { eq } from 'drizzle-orm';
 import { z } from 'zod';
-import { apiSettings } from '../registry/schema-auth.ts';
+import { registrySettings } from '../registry/schema.ts';
 import { InputError } from '../errors.ts';
 import type { Registry } from '../registry/open.ts';
 import { appendAudit, nowIso, writeTransaction } from '../registry/records.ts';
+import { checkActor } from './actor.ts';
 
 interface SettingDefinition<T> {
   schema: z.ZodType<T>;
@@ -22,7 +24,21 @@ const origin = z
   .string()
   .regex(/^https?:\/\/[A-Za-z0-9.-]+(:\d{1,5})?$/, 'an origin is scheme://host[:port], no path, e.g. https://design.example.org');
 
+/** "on"/"off" (also true/false, yes/no) as a person types them; anything else is left for the schema to refuse. */
+function onOff(text: string): unknown {
+  const t = text.trim().toLowerCase();
+  if (['on', 'true', 'yes'].includes(t)) return true;
+  if (['off', 'false', 'no'].includes(t)) return false;
+  return text;
+}
+
 export const SETTINGS = {
+  allow_self_approval: {
+    schema: z.boolean({ error: 'say on or off' }),
+    default: false,
+    meaning: 'let the creator of a version approve it (a one-person lab); such approvals are recorded as self-approval',
+    parseText: onOff,
+  } satisfies SettingDefinition<boolean>,
   anonymous_reads: {
     schema: z.enum(['auto', 'on', 'off']),
     default: 'auto',
@@ -70,23 +86,23 @@ function validate(key: SettingKey, value: unknown): unknown {
 /** All settings, stored values over defaults. */
 export function readSettings(registry: Registry): Settings {
   const settings = Object.fromEntries(SETTING_KEYS.map((k) => [k, SETTINGS[k].default])) as Record<string, unknown>;
-  const rows = registry.db.select().from(apiSettings).all() as (typeof apiSettings.$inferSelect)[];
-  for (const row of rows) if (row.key in SETTINGS) settings[row.key] = JSON.parse(row.valueJson);
+  for (const row of registry.db.select().from(registrySettings).all()) if (row.key in SETTINGS) settings[row.key] = JSON.parse(row.value);
   return settings as Settings;
 }
 
 /** Store a validated value (already typed, as the API receives it). */
-export function writeSetting(registry: Registry, key: string, value: unknown, updatedBy: string): Settings {
+export function writeSetting(registry: Registry, key: string, value: unknown, actor: string): Settings {
+  const updatedBy = checkActor(actor);
   const k = parseSettingKey(key);
-  const valueJson = JSON.stringify(validate(k, value));
+  const json = JSON.stringify(validate(k, value));
   const updatedAt = nowIso();
   writeTransaction(registry, () => {
     registry.db
-      .insert(apiSettings)
-      .values({ key: k, valueJson, updatedAt, updatedBy })
-      .onConflictDoUpdate({ target: apiSettings.key, set: { valueJson, updatedAt, updatedBy } })
+      .insert(registrySettings)
+      .values({ key: k, value: json, updatedAt, updatedBy })
+      .onConflictDoUpdate({ target: registrySettings.key, set: { value: json, updatedAt, updatedBy } })
       .run();
-    appendAudit(registry, { actor: updatedBy, action: 'api-setting.set', detail: { key: k, value: JSON.parse(valueJson) } });
+    appendAudit(registry, { actor: updatedBy, action: 'setting.set', detail: { key: k, value: JSON.parse(json) } });
   });
   return readSettings(registry);
 }
@@ -98,11 +114,12 @@ export function writeSettingText(registry: Registry, key: string, text: string, 
 }
 
 /** Forget a stored value so the default applies again. */
-export function resetSetting(registry: Registry, key: string, updatedBy: string): Settings {
+export function resetSetting(registry: Registry, key: string, actor: string): Settings {
+  const updatedBy = checkActor(actor);
   const k = parseSettingKey(key);
   writeTransaction(registry, () => {
-    registry.db.delete(apiSettings).where(eq(apiSettings.key, k)).run();
-    appendAudit(registry, { actor: updatedBy, action: 'api-setting.reset', detail: { key: k } });
+    registry.db.delete(registrySettings).where(eq(registrySettings.key, k)).run();
+    appendAudit(registry, { actor: updatedBy, action: 'setting.reset', detail: { key: k } });
   });
   return readSettings(registry);
 }

@@ -59,7 +59,7 @@ export async function startHarness(options: Partial<ServerOptions> = {}): Promis
 /** Counts of every table a write could touch. */
 export function snapshotCounts(h: ApiHarness): Record<string, number> {
   return Object.fromEntries(
-    ['materials', 'material_versions', 'audit_log', 'api_tokens', 'api_settings'].map((t) => [t, h.count(t)]),
+    ['materials', 'material_versions', 'audit_log', 'api_tokens', 'registry_settings'].map((t) => [t, h.count(t)]),
   );
 }
 

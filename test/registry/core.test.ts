@@ -3,17 +3,17 @@ import { ConflictError, InputError, NotFoundError } from '../../src/errors.ts';
 import {
   approve,
   createMaterial,
-  getRegistrySettings,
   history,
   importVersion,
   listMaterials,
   openRegistry,
+  readSettings,
   resolveRef,
   retire,
-  setRegistrySetting,
   showVersion,
   versionSha256,
   withdraw,
+  writeSettingText,
 } from '../../src/service/registry.ts';
 import { cauchyTable, tempRegistry, type TempRegistry } from './helpers.ts';
 
@@ -121,8 +121,8 @@ describe('lifecycle and the two-person rule', () => {
     importVersion(t.registry, { slug: 'sio2-thermal', table: cauchyTable() }, 'ada');
     expect(() => approve(t.registry, 'sio2-thermal@1', 'ada')).toThrow(ConflictError);
     expect(() => approve(t.registry, 'sio2-thermal@1', ' ada ')).toThrow(/cannot also approve/);
-    expect(getRegistrySettings(t.registry).allow_self_approval).toBe(false);
-    setRegistrySetting(t.registry, 'allow_self_approval', true, 'ada');
+    expect(readSettings(t.registry).allow_self_approval).toBe(false);
+    writeSettingText(t.registry, 'allow_self_approval', 'on', 'ada');
     const v = approve(t.registry, 'sio2-thermal@1', 'ada');
     expect(v).toMatchObject({ status: 'approved', approved_by: 'ada', self_approved: true });
     const h = history(t.registry, 'sio2-thermal');

@@ -7,7 +7,7 @@ export function register(program: Command): void {
   lifecycleCommand(
     program,
     'approve',
-    'approve a draft version; the approver must not be its creator (see `nkledger self-approval`)',
+    'approve a draft version; the approver must not be its creator (a one-person lab: `nkledger settings set allow_self_approval on`)',
     'NKLEDGER_USER=bob nkledger approve sin-pecvd-a@3',
     (registry, ref, actor) => approve(registry, ref, actor),
   );

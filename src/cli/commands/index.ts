@@ -17,7 +17,6 @@ import * as history from './history.ts';
 import * as approve from './approve.ts';
 import * as retire from './retire.ts';
 import * as withdraw from './withdraw.ts';
-import * as selfApproval from './self-approval.ts';
 import * as lock from './lock.ts';
 import * as verify from './verify.ts';
 import * as backup from './backup.ts';
@@ -28,7 +27,7 @@ type Register = (program: Command) => void;
 
 const commands: Register[] = [demo.register, inspect.register, evaluate.register, convert.register, fit.register, kk.register, serve.register, token.register, settings.register,
   material.register, importCmd.register, show.register, list.register, history.register, approve.register, retire.register,
-  withdraw.register, selfApproval.register, lock.register, verify.register, backup.register, diff.register, exportCmd.register];
+  withdraw.register, lock.register, verify.register, backup.register, diff.register, exportCmd.register];
 
 export function registerCommands(program: Command): void {
   for (const register of commands) register(program);

@@ -1,4 +1,4 @@
-/** `nkledger settings show|set|reset`: HTTP API settings stored in the registry (anonymous reads, CORS, limits). */
+/** `nkledger settings show|set|reset`: every setting of the registry and its HTTP API (self-approval, anonymous reads, CORS, limits). */
 import type { Command } from 'commander';
 import { readSettings, resetSetting, SETTING_KEYS, SETTINGS, writeSettingText, type Settings } from '../../service/settings.ts';
 import { guarded } from '../failure.ts';
@@ -14,7 +14,13 @@ function printSettings(settings: Settings, json?: boolean): void {
 export function register(program: Command): void {
   const settings = program
     .command('settings')
-    .description('HTTP API settings kept in the registry; a running `nkledger serve` reads them at start');
+    .description('settings of the registry and its HTTP API (self-approval, anonymous reads, CORS, limits); every change is in the audit log')
+    .addHelpText(
+      'after',
+      `\nSettings:\n${SETTING_KEYS.map((k) => `  ${k.padEnd(20)} ${SETTINGS[k].meaning} (default ${JSON.stringify(SETTINGS[k].default)})`).join('\n')}\n\n` +
+        'A running `nkledger serve` reads them at start (changes through its API apply at once).\n\nExamples:\n' +
+        '  nkledger settings show\n  nkledger settings set allow_self_approval on\n  nkledger settings set cors_origins https://design.example.org\n  nkledger settings reset cors_origins',
+    );
 
   addDbOption(settings.command('show'))
     .description('print every setting with its value and meaning')
@@ -24,7 +30,7 @@ export function register(program: Command): void {
   addAsOption(addDbOption(settings.command('set')))
     .description(`set a setting: ${SETTING_KEYS.join(', ')} (lists comma-separated)`)
     .argument('<key>', 'setting name')
-    .argument('<value>', 'e.g. off | https://design.example.org,https://tools.example.org | 1048576')
+    .argument('<value>', 'e.g. on | off | https://design.example.org,https://tools.example.org | 1048576')
     .option('--json', 'print JSON')
     .action(
       guarded(async (key: string, value: string, opts: { db?: string; as?: string; json?: boolean }) =>

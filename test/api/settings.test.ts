@@ -1,0 +1,51 @@
+/** The one settings catalogue through the API and the CLI: allow_self_approval sits beside the server settings. */
+import { spawnSync } from 'node:child_process';
+import { join } from 'node:path';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { readSettings } from '../../src/service/settings.ts';
+import { csv, csvTable, json, startHarness, type ApiHarness } from './harness.ts';
+
+const BIN = new URL('../../bin/nkledger.js', import.meta.url).pathname;
+let h: ApiHarness;
+beforeAll(async () => {
+  h = await startHarness();
+});
+afterAll(() => h.stop());
+
+describe('settings routes and command', { timeout: 120_000 }, () => {
+  it('GET /settings lists allow_self_approval; PUT turns it on and an approver may then approve their own upload', async () => {
+    const listed = await (await h.request('/api/v1/settings', { as: 'admin' })).json();
+    expect(listed.settings).toMatchObject({ allow_self_approval: false, anonymous_reads: 'auto' });
+    expect((await h.request('/api/v1/materials', { ...json({ slug: 'mgf2-evap', name: 'MgF2' }), as: 'approver' })).status).toBe(201);
+    expect((await h.request('/api/v1/materials/mgf2-evap/versions?kk=false', { ...csv(csvTable()), as: 'approver' })).status).toBe(201);
+    const refused = await h.request('/api/v1/materials/mgf2-evap/versions/1/approve', { method: 'POST', as: 'approver' });
+    expect(refused.status).toBe(409);
+    expect((await refused.json()).detail).toMatch(/nkledger settings set allow_self_approval on/);
+    const bad = await h.request('/api/v1/settings/allow_self_approval', { ...json({ value: 'on' }), method: 'PUT', as: 'admin' });
+    expect(bad.status).toBe(422); // JSON takes a boolean
+    const set = await h.request('/api/v1/settings/allow_self_approval', { ...json({ value: true }), method: 'PUT', as: 'admin' });
+    expect((await set.json()).settings.allow_self_approval).toBe(true);
+    const approved = await h.request('/api/v1/materials/mgf2-evap/versions/1/approve', { method: 'POST', as: 'approver' });
+    expect(approved.status).toBe(200);
+    expect(await approved.json()).toMatchObject({ status: 'approved', self_approved: true });
+    expect((await h.request('/api/v1/settings/allow_self_approval', { method: 'DELETE', as: 'admin' })).status).toBe(200);
+    expect(readSettings(h.registry).allow_self_approval).toBe(false);
+  });
+
+  it('`nkledger settings` shows, sets and resets allow_self_approval; the old self-approval command is gone', () => {
+    const db = join(h.dir, 'cli.db');
+    const run = (...args: string[]) => spawnSync(process.execPath, [BIN, ...args], { encoding: 'utf8', env: { ...process.env, NKLEDGER_USER: 'ada', NKLEDGER_DB: db } });
+    const shown = run('settings', 'show');
+    expect(shown.status).toBe(0);
+    expect(shown.stdout).toMatch(/^allow_self_approval +false +let the creator of a version approve it/m);
+    const set = run('settings', 'set', 'allow_self_approval', 'on', '--json');
+    expect(set.status).toBe(0);
+    expect(JSON.parse(set.stdout).allow_self_approval).toBe(true);
+    const bad = run('settings', 'set', 'allow_self_approval', 'maybe');
+    expect(bad.status).toBe(2);
+    expect(bad.stderr).toMatch(/bad value for setting allow_self_approval: say on or off \[setting-value\]/);
+    expect(JSON.parse(run('settings', 'reset', 'allow_self_approval', '--json').stdout).allow_self_approval).toBe(false);
+    expect(run('self-approval', 'on').status).not.toBe(0);
+    expect(run('--help').stdout).not.toMatch(/^  self-approval /m);
+  });
+});

@@ -1,0 +1,93 @@
+/**
+ * One settings catalogue and one table (registry_settings) for the registry's rules and the HTTP API's settings;
+ * every change is audited; a registry made before the merge keeps its values (migrations 0003 and 0004).
+ */
+import Database from 'better-sqlite3';
+import { drizzle } from 'drizzle-orm/better-sqlite3';
+import { migrate } from 'drizzle-orm/better-sqlite3/migrator';
+import { cpSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { afterEach, beforeEach, describe, expect, it } from 'vitest';
+import { MIGRATIONS_FOLDER } from '../../src/registry/open.ts';
+import { approve, createMaterial, importVersion, openRegistry, readSettings, resetSetting, SETTING_KEYS, writeSetting, writeSettingText } from '../../src/service/registry.ts';
+import { cauchyTable, tempRegistry, type TempRegistry } from './helpers.ts';
+
+let t: TempRegistry;
+beforeEach(() => {
+  t = tempRegistry();
+});
+afterEach(() => t.cleanup());
+
+const auditRows = (t: TempRegistry) =>
+  t.registry.sqlite.prepare("SELECT actor, action, detail FROM audit_log WHERE action LIKE 'setting.%' ORDER BY id").all() as { actor: string; action: string; detail: string }[];
+
+describe('settings', () => {
+  it('one catalogue holds the registry rule and the API settings, with defaults', () => {
+    expect(SETTING_KEYS).toEqual(['allow_self_approval', 'anonymous_reads', 'cors_origins', 'max_body_bytes', 'max_nk_points']);
+    expect(readSettings(t.registry)).toEqual({ allow_self_approval: false, anonymous_reads: 'auto', cors_origins: [], max_body_bytes: 8 * 1024 * 1024, max_nk_points: 10_000 });
+  });
+
+  it('allow_self_approval set through the catalogue governs approval; set and reset are audited', () => {
+    createMaterial(t.registry, { slug: 'sio2-thermal', name: 'Thermal oxide' }, 'ada');
+    importVersion(t.registry, { slug: 'sio2-thermal', table: cauchyTable() }, 'ada');
+    expect(() => approve(t.registry, 'sio2-thermal@1', 'ada')).toThrow(/nkledger settings set allow_self_approval on/);
+    expect(writeSettingText(t.registry, 'allow_self_approval', 'on', 'ada').allow_self_approval).toBe(true);
+    expect(approve(t.registry, 'sio2-thermal@1', 'ada')).toMatchObject({ self_approved: true });
+    expect(resetSetting(t.registry, 'allow_self_approval', 'ada').allow_self_approval).toBe(false);
+    writeSetting(t.registry, 'max_nk_points', 500, 'root');
+    expect(auditRows(t)).toEqual([
+      { actor: 'ada', action: 'setting.set', detail: JSON.stringify({ key: 'allow_self_approval', value: true }) },
+      { actor: 'ada', action: 'setting.reset', detail: JSON.stringify({ key: 'allow_self_approval' }) },
+      { actor: 'root', action: 'setting.set', detail: JSON.stringify({ key: 'max_nk_points', value: 500 }) },
+    ]);
+    // Stored once: one table, one row per key that is set.
+    expect(t.registry.sqlite.prepare('SELECT key FROM registry_settings ORDER BY key').all()).toEqual([{ key: 'max_nk_points' }]);
+    expect(t.registry.sqlite.prepare("SELECT name FROM sqlite_master WHERE name = 'api_settings'").all()).toEqual([]);
+  });
+
+  it('refuses values that do not fit, names the setting, and writes nothing', () => {
+    expect(() => writeSettingText(t.registry, 'allow_self_approval', 'maybe', 'ada')).toThrow(/bad value for setting allow_self_approval: say on or off/);
+    expect(() => writeSetting(t.registry, 'allow_self_approval', 'on', 'ada')).toThrow(/allow_self_approval/); // JSON API: a boolean
+    expect(() => writeSettingText(t.registry, 'self_approval', 'on', 'ada')).toThrow(/unknown setting "self_approval": known settings are allow_self_approval, /);
+    expect(auditRows(t)).toEqual([]);
+  });
+});
+
+describe('migration of a registry made before the settings were merged', () => {
+  let dir: string;
+  beforeEach(() => {
+    dir = mkdtempSync(join(tmpdir(), 'nkledger-settings-mig-'));
+  });
+  afterEach(() => rmSync(dir, { recursive: true, force: true }));
+
+  it('carries the values of both old tables into registry_settings', () => {
+    // Apply only the migrations up to 0002 (the two-table layout), from a copy of the migrations folder.
+    const old = join(dir, 'drizzle-0002');
+    cpSync(MIGRATIONS_FOLDER, old, { recursive: true });
+    const journalPath = join(old, 'meta', '_journal.json');
+    const journal = JSON.parse(readFileSync(journalPath, 'utf8'));
+    journal.entries = journal.entries.filter((e: { idx: number }) => e.idx <= 2);
+    writeFileSync(journalPath, JSON.stringify(journal));
+    const path = join(dir, 'old.db');
+    const sqlite = new Database(path);
+    migrate(drizzle(sqlite), { migrationsFolder: old });
+    sqlite.prepare("INSERT INTO registry_settings (key, value, updated_by, updated_at) VALUES ('allow_self_approval', 'true', 'ada', '2025-01-01T00:00:00.000Z')").run();
+    sqlite.prepare("INSERT INTO api_settings (key, value_json, updated_at, updated_by) VALUES ('cors_origins', '[\"https://design.example.org\"]', '2025-01-02T00:00:00.000Z', 'root')").run();
+    sqlite.prepare("INSERT INTO api_settings (key, value_json, updated_at, updated_by) VALUES ('anonymous_reads', '\"off\"', '2025-01-02T00:00:00.000Z', 'root')").run();
+    sqlite.close();
+
+    const registry = openRegistry(path);
+    try {
+      expect(readSettings(registry)).toMatchObject({ allow_self_approval: true, cors_origins: ['https://design.example.org'], anonymous_reads: 'off', max_nk_points: 10_000 });
+      expect(registry.sqlite.prepare('SELECT key, updated_by FROM registry_settings ORDER BY key').all()).toEqual([
+        { key: 'allow_self_approval', updated_by: 'ada' },
+        { key: 'anonymous_reads', updated_by: 'root' },
+        { key: 'cors_origins', updated_by: 'root' },
+      ]);
+      expect(registry.sqlite.prepare("SELECT name FROM sqlite_master WHERE name = 'api_settings'").all()).toEqual([]);
+    } finally {
+      registry.close();
+    }
+  });
+});
