@@ -2,16 +2,22 @@
  * Fit benchmark: nkledger's fitter against scipy.optimize.least_squares(method='lm') on the same data and
  * the same start, in one run. Run: npx tsx scripts/bench-fit.ts   (needs python3 with numpy and scipy).
  * Cases: Tauc-Lorentz on 2×200 and 2×2000 points (n and k), 3-term Sellmeier on 2000 points (n only).
- * Prints the median time per fit, the final χ² of each side and the time ratio.
+ * The two sides are timed in alternating rounds (python runs as a child process answering one request per
+ * line), so load from other jobs hits both alike. Prints what each timing includes, the median time per fit,
+ * the final χ² of each side, the time ratio and the evaluation counts.
  */
-import { spawnSync } from 'node:child_process';
+import { spawn } from 'node:child_process';
+import { createInterface } from 'node:readline';
 import { fileURLToPath } from 'node:url';
 import { fitTable } from '../src/fit/fit.ts';
 import type { FitOptions } from '../src/fit/types.ts';
 import { buildModel } from '../src/models/catalogue.ts';
 import type { NkTable } from '../src/table.ts';
 
-const REPEATS = 30;
+/** Rounds alternate between the two sides (a round = REPEATS_PER_ROUND fits of one case), so load from other jobs on a shared machine hits both alike. */
+const ROUNDS = 10;
+const REPEATS_PER_ROUND = 5;
+/** Untimed fits per side and case before the first round (JIT / import warm-up). */
 const WARMUP = 5;
 
 /** Gaussian deviates from a seeded generator (mulberry32 + Box-Muller), so both sides see identical data. */
@@ -71,21 +77,9 @@ const cases = [
 
 function median(values: number[]): number {
   const s = [...values].sort((a, b) => a - b);
-  return s[s.length >> 1];
+  const m = s.length >> 1;
+  return s.length % 2 === 1 ? s[m] : (s[m - 1] + s[m]) / 2;
 }
-
-const ours = cases.map((c) => {
-  for (let i = 0; i < WARMUP; i++) fitTable(c.table, c.options);
-  const times: number[] = [];
-  let report = fitTable(c.table, c.options);
-  for (let i = 0; i < REPEATS; i++) {
-    const t0 = performance.now();
-    report = fitTable(c.table, c.options);
-    times.push(performance.now() - t0);
-  }
-  const free = report.correlations.parameters.length;
-  return { ms: median(times), chi2: (report.statistics.reduced_chi2 as number) * (report.statistics.points - free), iterations: report.statistics.iterations };
-});
 
 const input = cases.map((c) => ({
   name: c.name,
@@ -98,27 +92,61 @@ const input = cases.map((c) => ({
   fit_k: c.fitK,
   start: c.start,
   fixed: c.fixed,
-  repeats: REPEATS,
 }));
+
+/** The scipy side as a line-oriented child process (scripts/bench_fit_scipy.py). */
 const script = fileURLToPath(new URL('./bench_fit_scipy.py', import.meta.url));
-const py = spawnSync('python3', [script], { input: JSON.stringify(input), encoding: 'utf8', maxBuffer: 1 << 26 });
-if (py.status !== 0) {
-  process.stderr.write(`python side failed: ${py.stderr}\n`);
-  process.exit(1);
+const py = spawn('python3', [script], { stdio: ['pipe', 'pipe', 'inherit'] });
+const lines = createInterface({ input: py.stdout })[Symbol.asyncIterator]();
+async function ask(message: unknown): Promise<any> {
+  py.stdin.write(`${JSON.stringify(message)}\n`);
+  const next = await lines.next();
+  if (next.done) throw new Error('the python side (scripts/bench_fit_scipy.py) ended early');
+  return JSON.parse(next.value);
 }
-const theirs = JSON.parse(py.stdout) as { scipy: string; numpy: string; results: { name: string; ms: number; chi2: number; nfev: number }[] };
+
+const theirs = (await ask(input)) as { scipy: string; numpy: string; results: { chi2: number; nfev: number; calls: number }[] };
+for (let c = 0; c < cases.length; c++) await ask({ case: c, repeats: WARMUP });
+const ourTimes: number[][] = cases.map(() => []);
+const theirTimes: number[][] = cases.map(() => []);
+const reports = cases.map((c) => {
+  for (let i = 0; i < WARMUP; i++) fitTable(c.table, c.options);
+  return fitTable(c.table, c.options);
+});
+for (let round = 0; round < ROUNDS; round++) {
+  for (let c = 0; c < cases.length; c++) {
+    for (let i = 0; i < REPEATS_PER_ROUND; i++) {
+      const t0 = performance.now();
+      fitTable(cases[c].table, cases[c].options);
+      ourTimes[c].push(performance.now() - t0);
+    }
+    theirTimes[c].push(...((await ask({ case: c, repeats: REPEATS_PER_ROUND })) as { ms: number[] }).ms);
+  }
+}
+py.stdin.end();
 
 const rows = cases.map((c, i) => {
   const s = theirs.results[i];
-  const o = ours[i];
-  return `| ${c.name} | ${o.ms.toFixed(2)} | ${s.ms.toFixed(2)} | ${(o.ms / s.ms).toFixed(2)} | ${o.chi2.toPrecision(8)} | ${s.chi2.toPrecision(8)} | ${o.iterations} / ${s.nfev} |`;
+  const report = reports[i];
+  const free = report.correlations.parameters.length;
+  const chi2 = (report.statistics.reduced_chi2 as number) * (report.statistics.points - free);
+  const ours = median(ourTimes[i]);
+  const scipyMs = median(theirTimes[i]);
+  return `| ${c.name} | ${ours.toFixed(2)} | ${scipyMs.toFixed(2)} | ${(ours / scipyMs).toFixed(2)} | ${chi2.toPrecision(8)} | ${s.chi2.toPrecision(8)} | ${report.statistics.iterations} | ${s.nfev} / ${s.calls} |`;
 });
+const fits = ROUNDS * REPEATS_PER_ROUND;
 process.stdout.write(
   [
-    `nkledger fitter vs scipy ${theirs.scipy} least_squares(method='lm'), numpy ${theirs.numpy}; median of ${REPEATS} fits, Node ${process.version}`,
+    `nkledger fitter vs scipy ${theirs.scipy} least_squares(method='lm'), numpy ${theirs.numpy}; Node ${process.version}`,
+    `median time per fit over ${fits} fits per side and case, in ${ROUNDS} alternating rounds, after ${WARMUP} untimed warm-up fits per side and case.`,
+    "nkledger ms: one fitTable() call from the given start: problem set-up (weights, grid), the fit, and the whole report",
+    "  (standard errors, correlation matrix, RMS, AIC/BIC). scipy ms: one least_squares(f, x0, method='lm') call only.",
+    'Same data, same start, same fixed values on both sides; χ² is the final weighted sum of squares.',
+    'nkledger evaluations: trial points (one model pass each, values and analytic Jacobian together);',
+    "scipy: nfev (its count; excludes the finite-difference Jacobian) / all residual-function calls.",
     '',
-    '| case | nkledger ms | scipy ms | ratio | nkledger χ² | scipy χ² | LM iterations / scipy evaluations |',
-    '| --- | ---: | ---: | ---: | ---: | ---: | ---: |',
+    '| case | nkledger ms | scipy ms | ratio | nkledger χ² | scipy χ² | nkledger evaluations | scipy nfev / calls |',
+    '| --- | ---: | ---: | ---: | ---: | ---: | ---: | ---: |',
     ...rows,
     '',
   ].join('\n'),

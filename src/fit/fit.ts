@@ -100,6 +100,12 @@ export function fitTable(table: NkTable, options: FitOptions): FitReport {
   return buildReport(model, problem, best, { runs, free, fixed, bounds, target });
 }
 
+function difference(a: Float64Array, b: Float64Array): Float64Array {
+  const out = new Float64Array(a.length);
+  for (let i = 0; i < a.length; i++) out[i] = a[i] - b[i];
+  return out;
+}
+
 interface ReportContext {
   runs: LmResult[];
   free: number[];
@@ -141,8 +147,8 @@ function buildReport(model: DispersionModel, problem: FitProblem, best: LmResult
     parameters,
     statistics: {
       points,
-      rms_n: rms(Array.from(problem.data.n, (n, i) => n - nk.re[i])),
-      rms_k: rms(Array.from(problem.data.k, (k, i) => k - nk.im[i])),
+      rms_n: rms(difference(problem.data.n, nk.re)),
+      rms_k: rms(difference(problem.data.k, nk.im)),
       reduced_chi2: problem.weighted ? best.chi2 / dof : null,
       aic,
       bic,

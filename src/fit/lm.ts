@@ -58,8 +58,9 @@ const DAMPING_UP = 11;
 const DAMPING_DOWN = 9;
 /** Steps in a row without a new best point after which a chunk has stalled. */
 const MAX_FAILURES = 8;
-/** Relative χ² decrease of one step below which the gradient test is relaxed to 1e-3. */
+/** Relative χ² decrease of one step below which the gradient test is relaxed to LOOSE_GTOL. */
 const FTOL = 1e-10;
+const LOOSE_GTOL = 1e-3;
 /** Largest cosine between the residual vector and the span of the free Jacobian columns accepted at a minimum (projectedCosine). */
 const GTOL = 1e-5;
 
@@ -107,28 +108,41 @@ class StopChunk extends Error {
 function projectedCosine(r: Float64Array, jacobian: Float64Array[], p: Float64Array, free: number[], bounds: [number, number][]): number {
   const rNorm2 = dot(r, r);
   if (!(rNorm2 > 0)) return 0;
-  const basis: Float64Array[] = [];
-  let projected2 = 0;
-  free.forEach((pi, j) => {
+  const rows = r.length;
+  // the columns that may move, and the largest cosine with a single one of them: a lower bound of the
+  // cosine with their span, and all the tests need when it is already above LOOSE_GTOL (far from a minimum)
+  const active: { col: Float64Array; norm: number }[] = [];
+  let single = 0;
+  for (let j = 0; j < free.length; j++) {
     const col = jacobian[j];
     const norm = Math.sqrt(dot(col, col));
-    if (!(norm > 0)) return;
+    if (!(norm > 0)) continue;
     const descent = dot(col, r); // −∂(χ²/2)/∂p_j
-    const [lo, hi] = bounds[pi];
-    if ((p[pi] <= lo && descent < 0) || (p[pi] >= hi && descent > 0)) return;
-    const v = Float64Array.from(col, (c) => c / norm);
+    const [lo, hi] = bounds[free[j]];
+    const value = p[free[j]];
+    if ((value <= lo && descent < 0) || (value >= hi && descent > 0)) continue;
+    active.push({ col, norm });
+    single = Math.max(single, Math.abs(descent) / (norm * Math.sqrt(rNorm2)));
+  }
+  if (single > LOOSE_GTOL) return single;
+  const basis: Float64Array[] = [];
+  let projected2 = 0;
+  for (const { col, norm } of active) {
+    const v = new Float64Array(rows);
+    for (let i = 0; i < rows; i++) v[i] = col[i] / norm;
     for (let pass = 0; pass < 2; pass++) {
-      for (const q of basis) {
+      for (let b = 0; b < basis.length; b++) {
+        const q = basis[b];
         const c = dot(q, v);
-        for (let i = 0; i < v.length; i++) v[i] -= c * q[i];
+        for (let i = 0; i < rows; i++) v[i] -= c * q[i];
       }
     }
     const left = Math.sqrt(dot(v, v));
-    if (!(left > 1e-12)) return; // numerically in the span already
-    for (let i = 0; i < v.length; i++) v[i] /= left;
+    if (!(left > 1e-12)) continue; // numerically in the span already
+    for (let i = 0; i < rows; i++) v[i] /= left;
     basis.push(v);
     projected2 += dot(v, r) ** 2;
-  });
+  }
   return Math.sqrt(projected2 / rNorm2);
 }
 
@@ -143,7 +157,8 @@ export function minimize(problem: FitProblem, model: DispersionModel, start: Flo
   if (!Number.isFinite(chi2)) throw new NumericalError(nonFiniteMessage(model, p, 'at the start values'));
   const chi2Start = chi2;
   const tolerance = Math.max(1e-28 * chi2, 1e-300);
-  const yWhite = Float64Array.from(problem.y, (y, i) => y * problem.invSigma[i]);
+  const yWhite = new Float64Array(problem.y.length);
+  for (let i = 0; i < yWhite.length; i++) yWhite[i] = problem.y[i] * problem.invSigma[i];
   const index = Array.from(yWhite.keys());
   let iterations = 0;
   let damping = INITIAL_DAMPING; // relative to the normalized JᵀJ diagonal
@@ -169,7 +184,9 @@ export function minimize(problem: FitProblem, model: DispersionModel, start: Flo
       return { x: x.slice(), q, model: w.model, r: rr, jacobian: w.jacobian, chi2: c };
     };
     // the start of the chunk: model values and Jacobian already known, so the library's first calls cost nothing
-    let best: Point = { x: free.map((pi, j) => p[pi] / scale[j]), q: Float64Array.from(p), model: Float64Array.from(yWhite, (y, i) => y - r[i]), r, jacobian, chi2 };
+    const startModel = new Float64Array(yWhite.length);
+    for (let i = 0; i < startModel.length; i++) startModel[i] = yWhite[i] - r[i];
+    let best: Point = { x: free.map((pi, j) => p[pi] / scale[j]), q: Float64Array.from(p), model: startModel, r, jacobian, chi2 };
     let current = best; // the point the library stands on
     let failures = 0;
     const at = (x: number[], point: Point) => x.every((v, j) => v === point.x[j]);
@@ -196,7 +213,7 @@ export function minimize(problem: FitProblem, model: DispersionModel, start: Flo
         best = trial;
         failures = 0;
         const cos = projectedCosine(trial.r, trial.jacobian, trial.q, free, bounds);
-        if (cos <= GTOL || (decrease <= FTOL && cos <= 1e-3) || trial.chi2 <= tolerance) throw new StopChunk('converged');
+        if (cos <= GTOL || (decrease <= FTOL && cos <= LOOSE_GTOL) || trial.chi2 <= tolerance) throw new StopChunk('converged');
       } else if (++failures >= MAX_FAILURES) throw new StopChunk('stalled');
       return current.model;
     };
