@@ -28,7 +28,8 @@ export interface FitProblem {
 
 export function buildProblem(table: NkTable, target: FitTarget, rangeNm?: [number, number]): FitProblem {
   const [lo, hi] = rangeNm ?? [-Infinity, Infinity];
-  const rows = table.wavelengthNm.flatMap((nm, i) => (nm >= lo && nm <= hi ? [i] : []));
+  const rows: number[] = [];
+  for (let i = 0; i < table.wavelengthNm.length; i++) if (table.wavelengthNm[i] >= lo && table.wavelengthNm[i] <= hi) rows.push(i);
   if (rows.length < 3) {
     throw new InputError('range-too-narrow', `--range ${lo}:${hi} nm keeps ${rows.length} rows of the table (${table.wavelengthNm[0]}–${table.wavelengthNm[table.wavelengthNm.length - 1]} nm); at least 3 are needed`);
   }
