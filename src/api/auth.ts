@@ -48,7 +48,7 @@ export function requireRole(role: TokenRole, anonymousReads: () => boolean): Mid
     const principal = c.get('principal');
     if (!principal) {
       if (role === 'reader' && anonymousReads()) return next();
-      throw new HttpProblem(401, 'auth-required', `this request needs a bearer token with role ${role} or above`, {
+      throw new HttpProblem(401, 'auth-required', `this request needs a bearer token with role ${role} or above (an admin makes one with \`nkledger token create --user NAME --role ${role}\`)`, {
         'www-authenticate': CHALLENGE,
       });
     }

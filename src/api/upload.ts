@@ -24,6 +24,8 @@ export interface TableUpload {
   importOptions: ImportOptions;
   /** Every other text field (multipart) or query parameter (raw body), for the route to validate. */
   fields: Record<string, string>;
+  /** Where the fields came from, for messages: the query string of a raw body, or the multipart body. */
+  fieldsIn: 'query' | 'body';
 }
 
 const importFields = z.object({
@@ -60,7 +62,8 @@ export async function readTableUpload(c: Context): Promise<TableUpload> {
     throw new HttpProblem(415, 'upload-media-type', `send the table as text/csv (or text/plain) or as multipart/form-data with a "table" file, not "${type || 'no content type'}"`);
   }
   if (bytes.length === 0) throw new InputError('upload-empty', 'the uploaded table is empty', { file: clientFileName ?? UPLOAD_FILE }, 400);
-  const flags = parseInput(importFields, pick(fields, IMPORT_FIELD_NAMES), 'body', 400);
+  const fieldsIn = type === 'multipart/form-data' ? 'body' : 'query';
+  const flags = parseInput(importFields, pick(fields, IMPORT_FIELD_NAMES), fieldsIn, 400);
   const file = clientFileName ?? UPLOAD_FILE;
   const importOptions: ImportOptions = {
     ...importOptionsFrom({
@@ -72,7 +75,7 @@ export async function readTableUpload(c: Context): Promise<TableUpload> {
     }),
     file,
   };
-  return { bytes, file, clientFileName, importOptions, fields: omit(fields, IMPORT_FIELD_NAMES) };
+  return { bytes, file, clientFileName, importOptions, fields: omit(fields, IMPORT_FIELD_NAMES), fieldsIn };
 }
 
 function pick(fields: Record<string, string>, names: string[]): Record<string, string> {

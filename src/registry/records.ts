@@ -51,7 +51,7 @@ export function appendAudit(
 
 export function findMaterial(registry: Registry, slug: string): MaterialRow {
   const row = registry.db.select().from(materials).where(eq(materials.slug, slug)).get();
-  if (!row) throw new NotFoundError(`no material "${slug}" in the registry (see \`nkledger list\`)`, 'material-unknown');
+  if (!row) throw new NotFoundError(`no material "${slug}" in the registry (\`nkledger list\` lists them; \`nkledger material add ${slug} --name NAME\` creates it)`, 'material-unknown');
   return row;
 }
 
@@ -61,13 +61,15 @@ export function findVersion(registry: Registry, material: MaterialRow, number: n
     .from(materialVersions)
     .where(and(eq(materialVersions.materialId, material.id), eq(materialVersions.number, number)))
     .get();
-  if (!row) {
-    throw new NotFoundError(
-      `${material.slug} has no version ${number} (versions 1 to ${material.lastVersion} exist)`,
-      'version-unknown',
-    );
-  }
+  if (!row) throw new NotFoundError(`${material.slug} has no version ${number}: ${existingVersions(material)}`, 'version-unknown');
   return row;
+}
+
+/** Which version numbers a material has, for not-found messages: "it has no versions yet (add one: ...)". */
+export function existingVersions(material: MaterialRow): string {
+  const last = material.lastVersion;
+  if (last === 0) return `it has no versions yet (add one with \`nkledger import FILE --material ${material.slug}\`)`;
+  return last === 1 ? 'only version 1 exists' : `versions 1 to ${last} exist`;
 }
 
 export function provenanceOf(row: VersionRow): Provenance {

@@ -14,10 +14,11 @@ import { readSettings } from './settings.ts';
 import { resolveRow } from './versions.ts';
 
 /** Re-read a version inside the write transaction and insist on its current status. */
-function lockedVersion(registry: Registry, ref: string, expected: VersionStatus, verb: string) {
+function lockedVersion(registry: Registry, ref: string, expected: VersionStatus, verb: 'approve' | 'retire' | 'withdraw') {
   const { material, row } = resolveRow(registry, ref);
   if (row.status !== expected) {
-    throw new ConflictError(`cannot ${verb} ${material.slug}@${row.number}: it is ${row.status}, only a ${expected} version can be ${verb === 'retire' ? 'retired' : verb === 'approve' ? 'approved' : 'withdrawn'}`, `version-not-${expected}`);
+    const done = { approve: 'approved', retire: 'retired', withdraw: 'withdrawn' }[verb];
+    throw new ConflictError(`cannot ${verb} ${material.slug}@${row.number}: it is ${row.status}, and only ${expected === 'approved' ? 'an' : 'a'} ${expected} version can be ${done}`, `version-not-${expected}`);
   }
   return { material, row };
 }

@@ -9,6 +9,7 @@ import { canonicalJson } from '../registry/canonical.ts';
 import type { Registry } from '../registry/open.ts';
 import {
   appendAudit,
+  existingVersions,
   verifiedContentOf,
   findMaterial,
   findVersion,
@@ -166,9 +167,7 @@ export function resolveRow(registry: Registry, ref: string): { material: Materia
     row = byHashPrefix(registry, material, parsed.hashPrefix);
   } else {
     const latest = latestApprovedNumber(registry, material.id);
-    if (latest === null) {
-      throw new NotFoundError(`${material.slug} has no approved version; name one explicitly, e.g. ${formatRef(material.slug, Math.max(1, material.lastVersion))}`, 'no-approved-version');
-    }
+    if (latest === null) throw new NotFoundError(noApprovedVersion(registry, material), 'no-approved-version');
     row = findVersion(registry, material, latest);
     notices.push(
       `"${material.slug}" means its latest approved version, now ${formatRef(material.slug, latest)}; this is not a pin (pin ${formatRef(material.slug, latest)} or ${material.slug}@sha256:${row.sha256.slice(0, 12)})`,
@@ -180,6 +179,15 @@ export function resolveRow(registry: Registry, ref: string): { material: Materia
     row,
     resolved: { ref: pin, slug: material.slug, version: row.number, status: row.status, sha256: row.sha256, notices, warnings: statusWarnings(pin, row) },
   };
+}
+
+/** Why a bare slug resolves to nothing: no versions at all, or none approved (and what the newest one is). */
+function noApprovedVersion(registry: Registry, material: MaterialRow): string {
+  if (material.lastVersion === 0) return `${material.slug} has no approved version: ${existingVersions(material)}`;
+  const newest = findVersion(registry, material, material.lastVersion);
+  const pin = formatRef(material.slug, newest.number);
+  const next = newest.status === 'draft' ? `, waiting for approval (\`nkledger approve ${pin}\` by someone other than its creator)` : '';
+  return `${material.slug} has no approved version (its newest is ${pin}, ${newest.status}${next}); a bare slug means the latest approved version, so name one explicitly, e.g. ${pin}`;
 }
 
 function byHashPrefix(registry: Registry, material: MaterialRow, prefix: string): VersionRow {

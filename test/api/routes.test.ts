@@ -182,7 +182,7 @@ describe('HTTP API routes', () => {
     it('an unsupported media type is 415; an unknown field is 400; an oversized body is 413', async () => {
       const before = snapshotCounts(h);
       await expectProblem(await h.request('/api/v1/materials/sin-a/versions', { ...json({ table: [] }), as: 'editor' }), 415, 'upload-media-type');
-      await expectProblem(await h.request('/api/v1/materials/sin-a/versions?colour=red', { ...csv(csvTable()), as: 'editor' }), 400, 'invalid-body');
+      await expectProblem(await h.request('/api/v1/materials/sin-a/versions?colour=red', { ...csv(csvTable()), as: 'editor' }), 400, 'invalid-query');
       const small = await startHarness({ settings: { max_body_bytes: 2048 } });
       try {
         createMaterial(small.registry, { slug: 'x', name: 'x' }, 'e');

@@ -38,7 +38,7 @@ export function registerUploadRoutes(app: Hono<ApiEnv>, ctx: RouteContext): void
   app.post('/api/v1/materials/:slug/versions', ctx.requireRole('editor'), async (c) => {
     const slug = checkSlug(c.req.param('slug'));
     const upload = await readTableUpload(c);
-    const { fit, terms, kk, ...provenance } = parseInput(versionFields, upload.fields, 'body', 400);
+    const { fit, terms, kk, ...provenance } = parseInput(versionFields, upload.fields, upload.fieldsIn, 400);
     const actor = actorOf(c.get('principal'));
     const result = importMeasurement(
       ctx.registry,
@@ -59,7 +59,7 @@ export function registerUploadRoutes(app: Hono<ApiEnv>, ctx: RouteContext): void
 
   app.post('/api/v1/fit', reader, async (c) => {
     const upload = await readTableUpload(c);
-    const { model, terms } = parseInput(fitOnlyFields, upload.fields, 'body', 400);
+    const { model, terms } = parseInput(fitOnlyFields, upload.fields, upload.fieldsIn, 400);
     const imported = parseNkTable(upload.bytes, upload.importOptions);
     c.header('cache-control', 'no-store');
     return c.json({ warnings: imported.warnings, report: fitTable(imported.table, { model, terms }) });
@@ -67,7 +67,7 @@ export function registerUploadRoutes(app: Hono<ApiEnv>, ctx: RouteContext): void
 
   app.post('/api/v1/kk', reader, async (c) => {
     const upload = await readTableUpload(c);
-    const { tolerance } = parseInput(kkFields, upload.fields, 'body', 400);
+    const { tolerance } = parseInput(kkFields, upload.fields, upload.fieldsIn, 400);
     const imported = parseNkTable(upload.bytes, upload.importOptions);
     c.header('cache-control', 'no-store');
     return c.json({ warnings: imported.warnings, report: checkKramersKronig(imported.table, { tolerance }) });
