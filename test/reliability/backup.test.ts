@@ -17,15 +17,17 @@ import { checkRegistryFile } from './invariants.ts';
 import { cli } from './processes.ts';
 
 export const BACKUPS = { cli: 2, service: 3 } as const;
-/** Writers pause this long between writes, so the live file stays a few thousand versions at most. */
-const WRITER_PAUSE_MS = 100;
+/** Writers pause this long between writes: still many commits per backup, but the file stays small enough to verify quickly. */
+const WRITER_PAUSE_MS = 5;
+/** Backups start once the file holds this many versions (≈ 2 MB, many more pages than one 100-page backup step). */
+const MIN_VERSIONS = 150;
 const WRITER = new URL('./crash-writer.ts', import.meta.url).pathname;
 const dir = mkdtempSync(join(tmpdir(), 'nkledger-backup-'));
 const db = join(dir, 'live.db');
 afterAll(() => rmSync(dir, { recursive: true, force: true }));
 
 function startWriter(seed: number) {
-  const child = spawn(process.execPath, ['--import', 'tsx', WRITER, db, String(seed)], { stdio: 'pipe' });
+  const child = spawn(process.execPath, ['--import', 'tsx', WRITER, db, String(seed), String(WRITER_PAUSE_MS)], { stdio: 'pipe' });
   let imports = 0;
   let err = '';
   child.stderr.on('data', (d) => (err += d));
@@ -67,6 +69,7 @@ describe('backup while two processes keep writing', { timeout: 120_000 }, () => 
     const second = startWriter(202);
     await second.ready;
     const sizes: number[] = [];
+    while (committedVersions().size < MIN_VERSIONS) await new Promise((r) => setTimeout(r, 100));
     try {
       for (let i = 0; i < BACKUPS.service; i++) {
         await new Promise((r) => setTimeout(r, 150));
@@ -99,6 +102,38 @@ describe('backup while two processes keep writing', { timeout: 120_000 }, () => 
     }
     expect(first.stderr() + second.stderr()).toBe('');
     console.log(`backup: ${sizes.length} backups under 2 writers (${sizes.join(', ')} versions each), live file ${committedVersions().size} versions after`);
+  });
+
+  it('finishes even when another connection commits between every step of the copy', async () => {
+    // SQLite restarts an online backup whose source another connection changed between steps; copied in
+    // 100-page steps (better-sqlite3's default), a registry written to steadily was never backed up.
+    const file = join(dir, 'steady.db');
+    const source = openRegistry(file);
+    const writer = openRegistry(file);
+    try {
+      createMaterial(writer, { slug: 'steady', name: 'Steady writes' }, 'ada');
+      const big = (i: number) => ({ wavelengthNm: Array.from({ length: 400 }, (_, j) => 300 + j), n: Array.from({ length: 400 }, (_, j) => 1.5 + i * 1e-6 + j * 1e-5), k: Array.from({ length: 400 }, () => 0) });
+      for (let i = 0; i < 60; i++) importVersion(writer, { slug: 'steady', table: big(i) }, 'ada');
+      let writes = 60;
+      let copying = true;
+      const writeBetweenSteps = () => {
+        if (!copying) return;
+        importVersion(writer, { slug: 'steady', table: big(++writes) }, 'ada');
+        setImmediate(writeBetweenSteps);
+      };
+      setImmediate(writeBetweenSteps);
+      const target = join(dir, 'steady-backup.db');
+      const outcome = await Promise.race([
+        backup(source, target).then(() => 'done'),
+        new Promise((r) => setTimeout(() => r('still copying after 10 s'), 10_000)),
+      ]);
+      copying = false;
+      expect(outcome).toBe('done');
+      expect(expectHolds(target, new Map())).toBeGreaterThanOrEqual(60);
+    } finally {
+      source.close();
+      writer.close();
+    }
   });
 
   it('restore = copy the backup file to the database path; the restored registry verifies and takes new versions', () => {
