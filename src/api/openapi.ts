@@ -5,6 +5,7 @@
  */
 import { TOKEN_ROLES } from '../registry/schema-auth.ts';
 import { SETTING_KEYS } from '../service/settings.ts';
+import { FIT_OPTION_FIELD_DOCS } from './fit-fields.ts';
 
 type Schema = Record<string, unknown>;
 const ref = (name: string): Schema => ({ $ref: `#/components/schemas/${name}` });
@@ -28,6 +29,10 @@ const writeErrors = { ...readErrors, '409': problem('the change conflicts with t
 
 /** A route's role, as the `x-nkledger-role` extension (reader routes admit anonymous reads when the setting allows). */
 const role = (r: (typeof TOKEN_ROLES)[number]) => ({ 'x-nkledger-role': r });
+
+/** The fit fields, as form fields of TableUpload and as query parameters of text/csv uploads. */
+const fitOptionProperties = Object.fromEntries(Object.entries(FIT_OPTION_FIELD_DOCS).map(([name, description]) => [name, { type: 'string', description }]));
+const fitOptionQuery = Object.entries(FIT_OPTION_FIELD_DOCS).map(([name, description]) => ({ name, in: 'query', required: false, schema: { type: 'string' }, description }));
 
 const tableUpload = {
   description:
@@ -93,7 +98,8 @@ export const OPENAPI_DOCUMENT = {
         ...role('editor'),
         parameters: [
           slugParam,
-          { name: 'fit', in: 'query', required: false, schema: { type: 'string' }, description: 'model spec, e.g. "tauc-lorentz" (text/csv uploads)' },
+          { name: 'fit', in: 'query', required: false, schema: { type: 'string' }, description: 'model spec to fit and store, e.g. "tauc-lorentz" (text/csv uploads); the other fit fields need it' },
+          ...fitOptionQuery,
         ],
         requestBody: tableUpload,
         responses: {
@@ -166,8 +172,8 @@ export const OPENAPI_DOCUMENT = {
         summary: 'Fit a dispersion model to an uploaded table; nothing is stored',
         ...role('reader'),
         parameters: [
-          { name: 'model', in: 'query', required: false, schema: { type: 'string' }, description: 'model spec for text/csv uploads' },
-          { name: 'terms', in: 'query', required: false, schema: { type: 'integer', minimum: 1 } },
+          { name: 'model', in: 'query', required: false, schema: { type: 'string' }, description: 'model spec for text/csv uploads (multipart: a form field)' },
+          ...fitOptionQuery,
         ],
         requestBody: tableUpload,
         responses: { '200': json('fit report', { type: 'object' }), '400': problem('malformed table'), '422': problem('the fit failed'), ...authErrors },
@@ -262,7 +268,9 @@ export const OPENAPI_DOCUMENT = {
         required: ['table'],
         properties: {
           table: { type: 'string', format: 'binary' },
-          fit: { type: 'string', description: 'model spec to fit and store with the version' },
+          fit: { type: 'string', description: 'model spec to fit and store with the version (a version upload); POST /fit names it model' },
+          model: { type: 'string', description: 'model spec (POST /fit only)' },
+          ...fitOptionProperties,
           input_unit: { type: 'string', description: "unit of the table's x column: nm, um, A, eV, cm-1 (overrides the header)" },
           columns: { type: 'string', description: 'comma-separated column names, e.g. wavelength,n,k' },
           delimiter: { type: 'string' },
@@ -278,8 +286,7 @@ export const OPENAPI_DOCUMENT = {
           operator: { type: 'string' },
           notes: { type: 'string' },
           source_file: { type: 'string', description: 'default: the file part name' },
-          kk: { type: 'string', enum: ['true', 'false'] },
-          terms: { type: 'string' },
+          kk: { type: 'string', enum: ['true', 'false'], description: 'false: skip the Kramers-Kronig check (a version upload)' },
         },
       },
       Reason: { type: 'object', required: ['reason'], additionalProperties: false, properties: { reason: { type: 'string', minLength: 1 } } },

@@ -5,6 +5,7 @@
  */
 import type { Hono } from 'hono';
 import { z } from 'zod';
+import { InputError } from '../../errors.ts';
 import { checkSlug } from '../../registry/refs.ts';
 import { PROVENANCE_FIELDS } from '../../registry/types.ts';
 import { importMeasurement } from '../../service/import-measurement.ts';
@@ -12,14 +13,14 @@ import { parseNkTable } from '../../io/parse-table.ts';
 import { fitTable } from '../../fit/fit.ts';
 import { checkKramersKronig } from '../../kk/check.ts';
 import { actorOf, type ApiEnv } from '../auth.ts';
+import { FIT_OPTION_FIELDS, fitOptionsFromFields, givenFitFields } from '../fit-fields.ts';
 import { readTableUpload } from '../upload.ts';
 import { parseInput } from '../validate.ts';
 import type { RouteContext } from '../context.ts';
 import { versionUrl } from './materials.ts';
 
-const positiveInt = z.string().regex(/^[1-9][0-9]{0,2}$/, 'a positive whole number').transform(Number);
 const booleanText = z.enum(['true', 'false']).transform((t) => t === 'true');
-const fitFields = { fit: z.string().min(1).max(100).optional(), terms: positiveInt.optional() };
+const modelSpec = z.string().min(1).max(100);
 
 /**
  * Provenance as form fields. source_sha256 is always computed from the uploaded bytes; source_file
@@ -28,8 +29,8 @@ const fitFields = { fit: z.string().min(1).max(100).optional(), terms: positiveI
 const provenanceFields = Object.fromEntries(
   PROVENANCE_FIELDS.filter((f) => f !== 'source_sha256').map((f) => [f, z.string().max(20_000).optional()]),
 );
-const versionFields = z.strictObject({ ...fitFields, ...provenanceFields, kk: booleanText.optional() });
-const fitOnlyFields = z.strictObject({ model: z.string().min(1).max(100), terms: positiveInt.optional() });
+const versionFields = z.strictObject({ fit: modelSpec.optional(), ...FIT_OPTION_FIELDS, ...provenanceFields, kk: booleanText.optional() });
+const fitOnlyFields = z.strictObject({ model: modelSpec, ...FIT_OPTION_FIELDS });
 const kkFields = z.strictObject({ tolerance: z.string().regex(/^[0-9.eE+-]+$/).transform(Number).optional() });
 
 export function registerUploadRoutes(app: Hono<ApiEnv>, ctx: RouteContext): void {
@@ -38,7 +39,11 @@ export function registerUploadRoutes(app: Hono<ApiEnv>, ctx: RouteContext): void
   app.post('/api/v1/materials/:slug/versions', ctx.requireRole('editor'), async (c) => {
     const slug = checkSlug(c.req.param('slug'));
     const upload = await readTableUpload(c);
-    const { fit, terms, kk, ...provenance } = parseInput(versionFields, upload.fields, upload.fieldsIn, 400);
+    const { fit, kk, ...fields } = parseInput(versionFields, upload.fields, upload.fieldsIn, 400);
+    const fitFields = Object.fromEntries(Object.entries(fields).filter(([k]) => k in FIT_OPTION_FIELDS));
+    const provenance = Object.fromEntries(Object.entries(fields).filter(([k]) => !(k in FIT_OPTION_FIELDS))) as Record<string, string | undefined>;
+    const unused = fit === undefined ? givenFitFields(fitFields) : [];
+    if (unused.length) throw new InputError('bad-option', `${unused.join(', ')} configure a fit: add fit=MODEL`);
     const actor = actorOf(c.get('principal'));
     const result = importMeasurement(
       ctx.registry,
@@ -47,7 +52,7 @@ export function registerUploadRoutes(app: Hono<ApiEnv>, ctx: RouteContext): void
         bytes: upload.bytes,
         file: upload.file,
         importOptions: upload.importOptions,
-        fit: fit ? { model: fit, terms } : undefined,
+        fit: fit ? { ...fitOptionsFromFields(fitFields), model: fit } : undefined,
         kk,
         provenance,
       },
@@ -59,10 +64,11 @@ export function registerUploadRoutes(app: Hono<ApiEnv>, ctx: RouteContext): void
 
   app.post('/api/v1/fit', reader, async (c) => {
     const upload = await readTableUpload(c);
-    const { model, terms } = parseInput(fitOnlyFields, upload.fields, upload.fieldsIn, 400);
+    const { model, ...fitFields } = parseInput(fitOnlyFields, upload.fields, upload.fieldsIn, 400);
+    const options = { ...fitOptionsFromFields(fitFields), model };
     const imported = parseNkTable(upload.bytes, upload.importOptions);
     c.header('cache-control', 'no-store');
-    return c.json({ warnings: imported.warnings, report: fitTable(imported.table, { model, terms }) });
+    return c.json({ warnings: imported.warnings, report: fitTable(imported.table, options) });
   });
 
   app.post('/api/v1/kk', reader, async (c) => {

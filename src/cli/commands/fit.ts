@@ -3,83 +3,29 @@
  * models to a measured table and print parameters with standard errors, goodness of fit and warnings.
  */
 import { writeFile } from 'node:fs/promises';
-import { Option, type Command } from 'commander';
+import type { Command } from 'commander';
 import { InputError } from '../../errors.ts';
 import { compareModels, type ComparisonReport } from '../../fit/compare.ts';
 import { fitTable } from '../../fit/fit.ts';
 import { fitPlotSpec } from '../../fit/fit-plot.ts';
-import type { FitOptions, FitReport, FitTarget } from '../../fit/types.ts';
+import type { FitReport, FitTarget } from '../../fit/types.ts';
 import { buildModel, MODEL_CATALOGUE } from '../../models/catalogue.ts';
 import { renderSpectrumPlot } from '../../plot/spectrum-plot.ts';
+import { parseFitOptions, type FitOptionText } from '../../service/fit-options.ts';
 import { requireTable } from '../../service/table-source.ts';
+import { addFitOptions } from '../fit-options.ts';
 import { guarded } from '../failure.ts';
 import { formatTable, printJson, printLines, printWarnings } from '../output.ts';
 import { addSourceOptions, loadSource, SOURCE_ARGUMENT_HELP, sourceLabel, type SourceFlags } from '../source-options.ts';
 
-interface FitFlags extends SourceFlags {
+interface FitFlags extends SourceFlags, FitOptionText {
   model?: string;
   compare?: string;
-  terms?: string;
-  urbach?: boolean;
-  target?: string;
-  range?: string;
-  fix?: string[];
-  init?: string[];
-  bounds?: string[];
-  free?: string[];
-  starts?: string;
-  seed?: string;
   json?: boolean;
   plot?: string;
 }
 
-const TARGETS: FitTarget[] = ['nk', 'n', 'k', 'eps'];
-const collect = (value: string, previous: string[] = []) => [...previous, value];
 const g = (v: number | null, digits = 6) => (v === null ? '—' : String(+v.toPrecision(digits)));
-
-function number(text: string, what: string): number {
-  const v = Number(text);
-  if (text.trim() === '' || !Number.isFinite(v)) throw new InputError('bad-option', `${what}: "${text}" is not a number`);
-  return v;
-}
-
-/** "P=V" → [P, V] */
-function assignment(text: string, flag: string): [string, string] {
-  const at = text.indexOf('=');
-  if (at <= 0) throw new InputError('bad-option', `${flag} ${text}: expected NAME=VALUE`);
-  return [text.slice(0, at).trim(), text.slice(at + 1).trim()];
-}
-
-/** "LO:HI" → [lo, hi] */
-function interval(text: string, flag: string): [number, number] {
-  const parts = text.split(':');
-  if (parts.length !== 2) throw new InputError('bad-option', `${flag} ${text}: expected MIN:MAX`);
-  const [lo, hi] = parts.map((p) => number(p, flag));
-  if (!(lo < hi)) throw new InputError('bad-option', `${flag} ${text}: MIN must be below MAX`);
-  return [lo, hi];
-}
-
-function fitOptionsFrom(opts: FitFlags): Omit<FitOptions, 'model'> {
-  const out: Omit<FitOptions, 'model'> = {};
-  if (opts.terms !== undefined) out.terms = number(opts.terms, '--terms');
-  if (opts.urbach) out.urbach = true;
-  if (opts.target !== undefined) {
-    if (!TARGETS.includes(opts.target as FitTarget)) throw new InputError('bad-option', `--target ${opts.target}: expected one of ${TARGETS.join(', ')}`);
-    out.target = opts.target as FitTarget;
-  }
-  if (opts.range !== undefined) out.rangeNm = interval(opts.range, '--range');
-  if (opts.fix?.length) out.fix = Object.fromEntries(opts.fix.map((t) => assignment(t, '--fix')).map(([k, v]) => [k, number(v, `--fix ${k}`)]));
-  if (opts.init?.length) out.init = Object.fromEntries(opts.init.map((t) => assignment(t, '--init')).map(([k, v]) => [k, number(v, `--init ${k}`)]));
-  if (opts.bounds?.length) out.bounds = Object.fromEntries(opts.bounds.map((t) => assignment(t, '--bounds')).map(([k, v]) => [k, interval(v, `--bounds ${k}`)]));
-  if (opts.free?.length) out.free = opts.free;
-  if (opts.starts !== undefined) {
-    const s = number(opts.starts, '--starts');
-    if (!Number.isInteger(s) || s < 1 || s > 1000) throw new InputError('bad-option', `--starts ${opts.starts}: expected an integer 1–1000`);
-    out.starts = s;
-  }
-  if (opts.seed !== undefined) out.seed = number(opts.seed, '--seed');
-  return out;
-}
 
 const TARGET_TEXT: Record<FitTarget, string> = { nk: 'n and k', n: 'n only', k: 'k only', eps: 'ε1 and ε2' };
 
@@ -157,22 +103,14 @@ export function catalogueHelp(): string {
 
 export function register(program: Command): void {
   addSourceOptions(
-    program
-      .command('fit')
-      .description('fit a dispersion model to a measured n,k table (or compare several by AIC/BIC)')
-      .argument('<source>', SOURCE_ARGUMENT_HELP)
-      .option('--model <spec>', 'model name, or a sum such as tauc-lorentz+drude')
-      .option('--compare <specs>', 'comma-separated models to fit and rank by AIC and BIC')
-      .option('--terms <N>', 'number of Sellmeier terms / oscillators for models that accept it')
-      .option('--urbach', 'Cauchy: add the Urbach absorption tail')
-      .addOption(new Option('--target <what>', 'quantities fitted').choices(TARGETS).default('nk'))
-      .option('--range <min:max>', 'fit only wavelengths in this window (nm)')
-      .option('--fix <P=V>', 'hold parameter P fixed at V (repeatable)', collect)
-      .option('--init <P=V>', 'start parameter P at V instead of the automatic guess (repeatable)', collect)
-      .option('--bounds <P=LO:HI>', 'bounds of parameter P (repeatable)', collect)
-      .option('--free <P>', 'fit a parameter the model fixes by default (Sellmeier A, Urbach Eb) (repeatable)', collect)
-      .option('--starts <N>', 'number of starts: the automatic guess plus N − 1 random perturbations of it', '1')
-      .option('--seed <N>', 'seed of the multi-start perturbations', '1')
+    addFitOptions(
+      program
+        .command('fit')
+        .description('fit a dispersion model to a measured n,k table (or compare several by AIC/BIC)')
+        .argument('<source>', SOURCE_ARGUMENT_HELP)
+        .option('--model <spec>', 'model name, or a sum such as tauc-lorentz+drude')
+        .option('--compare <specs>', 'comma-separated models to fit and rank by AIC and BIC'),
+    )
       .option('--json', 'print the report as JSON')
       .option('--plot <file.svg>', 'write an SVG of measured and fitted n, k and the residuals'),
   )
@@ -182,7 +120,7 @@ export function register(program: Command): void {
         if ((opts.model === undefined) === (opts.compare === undefined)) {
           throw new InputError('bad-option', `give exactly one of --model NAME or --compare A,B,...; models: ${MODEL_CATALOGUE.map((t) => t.name).join(', ')}`);
         }
-        const options = fitOptionsFrom(opts);
+        const options = parseFitOptions(opts);
         const loaded = await loadSource(source, opts);
         const table = requireTable(loaded, 'fit');
         const label = sourceLabel(source, loaded);

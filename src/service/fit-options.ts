@@ -1,0 +1,89 @@
+/**
+ * Fit options as people type them — `nkledger fit` and `nkledger import --fit` flags, and the HTTP API's fit fields —
+ * turned into the fitter's FitOptions. One parser, so every front door accepts and refuses the same things.
+ */
+import { InputError } from '../errors.ts';
+import type { FitOptions, FitTarget } from '../fit/types.ts';
+
+export const FIT_TARGETS: readonly FitTarget[] = ['nk', 'n', 'k', 'eps'];
+
+/** The fit options as text: single values, and lists for the repeatable ones (P=V, P=LO:HI, P). */
+export interface FitOptionText {
+  terms?: string;
+  urbach?: boolean;
+  target?: string;
+  /** "MIN:MAX" in nm. */
+  range?: string;
+  fix?: string[];
+  init?: string[];
+  bounds?: string[];
+  free?: string[];
+  starts?: string;
+  seed?: string;
+}
+
+export type FitOptionName = keyof FitOptionText;
+export const FIT_OPTION_NAMES: readonly FitOptionName[] = ['terms', 'urbach', 'target', 'range', 'fix', 'init', 'bounds', 'free', 'starts', 'seed'];
+
+/** How a front door names an option in messages: `--fix` on the command line, `fix` or `range_nm` in the API. */
+export type OptionLabel = (name: FitOptionName) => string;
+const cliLabel: OptionLabel = (name) => `--${name}`;
+
+function number(text: string, what: string): number {
+  const v = Number(text);
+  if (text.trim() === '' || !Number.isFinite(v)) throw new InputError('bad-option', `${what}: "${text}" is not a number`);
+  return v;
+}
+
+function integer(text: string, what: string, lo: number, hi: number): number {
+  const v = number(text, what);
+  if (!Number.isInteger(v) || v < lo || v > hi) throw new InputError('bad-option', `${what} ${text}: expected a whole number ${lo}–${hi}`);
+  return v;
+}
+
+/** "P=V" → [P, V] */
+function assignment(text: string, what: string): [string, string] {
+  const at = text.indexOf('=');
+  if (at <= 0) throw new InputError('bad-option', `${what} ${text}: expected NAME=VALUE`);
+  return [text.slice(0, at).trim(), text.slice(at + 1).trim()];
+}
+
+/** "LO:HI" → [lo, hi] */
+function interval(text: string, what: string): [number, number] {
+  const parts = text.split(':');
+  if (parts.length !== 2) throw new InputError('bad-option', `${what} ${text}: expected MIN:MAX`);
+  const [lo, hi] = parts.map((p) => number(p, what));
+  if (!(lo < hi)) throw new InputError('bad-option', `${what} ${text}: MIN must be below MAX`);
+  return [lo, hi];
+}
+
+function numberMap<T>(items: string[], what: string, value: (text: string, what: string) => T): Record<string, T> {
+  return Object.fromEntries(items.map((t) => assignment(t, what)).map(([k, v]) => [k, value(v, `${what} ${k}`)]));
+}
+
+/** Turn the text of the fit options into FitOptions (without the model); refusals name the option as `label` spells it. */
+export function parseFitOptions(text: FitOptionText, label: OptionLabel = cliLabel): Omit<FitOptions, 'model'> {
+  const out: Omit<FitOptions, 'model'> = {};
+  if (text.terms !== undefined) out.terms = integer(text.terms, label('terms'), 1, 100);
+  if (text.urbach) out.urbach = true;
+  if (text.target !== undefined) {
+    if (!FIT_TARGETS.includes(text.target as FitTarget)) throw new InputError('bad-option', `${label('target')} ${text.target}: expected one of ${FIT_TARGETS.join(', ')}`);
+    out.target = text.target as FitTarget;
+  }
+  if (text.range !== undefined) out.rangeNm = interval(text.range, label('range'));
+  if (text.fix?.length) out.fix = numberMap(text.fix, label('fix'), number);
+  if (text.init?.length) out.init = numberMap(text.init, label('init'), number);
+  if (text.bounds?.length) out.bounds = numberMap(text.bounds, label('bounds'), interval);
+  if (text.free?.length) out.free = text.free.map((p) => p.trim());
+  if (text.starts !== undefined) out.starts = integer(text.starts, label('starts'), 1, 1000);
+  if (text.seed !== undefined) out.seed = number(text.seed, label('seed'));
+  return out;
+}
+
+/** The options of FitOptionText that were given (for refusing them when no model is asked for). */
+export function givenFitOptions(text: FitOptionText): FitOptionName[] {
+  return FIT_OPTION_NAMES.filter((k) => {
+    const v = text[k];
+    return Array.isArray(v) ? v.length > 0 : v !== undefined && v !== false;
+  });
+}
