@@ -6,6 +6,14 @@ import { Command, CommanderError } from 'commander';
 import { registerCommands } from './commands/index.ts';
 import { reportFailure } from './failure.ts';
 
+// `nkledger ... | head` closes the pipe early: stop quietly, as other command-line tools do, not with a stack trace.
+for (const stream of [process.stdout, process.stderr]) {
+  stream.on('error', (err: NodeJS.ErrnoException) => {
+    if (err.code === 'EPIPE') process.exit(0);
+    throw err;
+  });
+}
+
 const program = new Command();
 program
   .name('nkledger')
