@@ -13,7 +13,10 @@
  *   stops only on an ABSOLUTE χ² tolerance or the iteration cap, and accepts uphill steps (it returns the
  *   best point it saw). Stalled chunks restart from the best point, rescaled, with heavier damping;
  * - one model pass (values and Jacobian) per trial point, remembered, so the library's per-point
- *   callbacks are array lookups and the report reuses the Jacobian at the optimum.
+ *   callbacks are array lookups and the report reuses the Jacobian at the optimum;
+ * - the library is handed the least-squares problem in its QR-reduced form (reduce()): p + 1 rows with the
+ *   same JᵀJ, Jᵀr and ‖r‖² as the N whitened rows, so its per-element ml-matrix work costs O(p²) instead of
+ *   O(N·p) while every step, damping decision and best point stays what it would be on the full rows.
  */
 import { levenbergMarquardt } from 'ml-levenberg-marquardt';
 import { NumericalError } from '../errors.ts';
@@ -33,10 +36,27 @@ export interface LmResult {
 interface Point {
   x: number[];
   q: Float64Array;
-  model: Float64Array;
   r: Float64Array;
   jacobian: Float64Array[];
   chi2: number;
+  /** The QR-reduced problem at this point (reduce()): what the library sees. */
+  reduced: Reduced;
+}
+
+/**
+ * The least-squares problem at one point in QR-reduced form. With the Householder factorization
+ * J = Q·[R; 0] of the N×p whitened Jacobian and c = Qᵀr, the p + 1 rows (R, c₁…c_p) and (0, ‖c_{p+1…N}‖)
+ * have exactly the JᵀJ = RᵀR, Jᵀr = Rᵀc₁…p and ‖r‖² of the N rows (Q is orthogonal; G. H. Golub and
+ * C. F. Van Loan, Matrix Computations, §5.3, published). Levenberg-Marquardt only ever uses those three
+ * quantities, so the library takes the same steps on these rows as on the full ones.
+ */
+interface Reduced {
+  /** Rows of R (p×p, upper triangular), unscaled parameter units. */
+  rows: Float64Array[];
+  /** The library's model values for its data y = 0: −c₁…−c_p, −‖c_{p+1…N}‖ (residual = y − model = c). */
+  model: Float64Array;
+  /** ‖c₁…c_p‖ / ‖r‖: the cosine between r and the span of all Jacobian columns (NaN when rank-deficient). */
+  spanCosine: number;
 }
 
 /** Library iterations per chunk between our own convergence tests. */
@@ -66,7 +86,7 @@ const GTOL = 1e-5;
 
 /** Whitened residuals r = (y − model)/σ and Jacobian columns of the model for the free parameters. */
 export function residualsAt(problem: FitProblem, model: DispersionModel, values: Float64Array, free: number[], withJacobian: boolean): { r: Float64Array; jacobian: Float64Array[] } {
-  const v = model.evaluate(problem.grid, values, problem.quantity, withJacobian);
+  const v = model.evaluate(problem.grid, values, problem.quantity, withJacobian && { columns: free, re: problem.useRe, im: problem.useIm });
   const { model: m, jacobian } = whitenedModel(problem, v, withJacobian ? free : undefined);
   const r = new Float64Array(m.length);
   for (let i = 0; i < m.length; i++) r[i] = problem.y[i] * problem.invSigma[i] - m[i];
@@ -83,6 +103,56 @@ function dot(a: Float64Array, b: Float64Array): number {
   let s = 0;
   for (let i = 0; i < a.length; i++) s += a[i] * b[i];
   return s;
+}
+
+/**
+ * Householder QR of the Jacobian columns applied to r (see Reduced); the inputs are not modified.
+ * `work` is scratch space of at least (columns + 1)·rows numbers, reused between calls.
+ */
+function reduce(jacobian: Float64Array[], r: Float64Array, work: Float64Array): Reduced {
+  const cols = jacobian.length;
+  const rows = r.length;
+  // column-major copy [J | r] in one flat buffer: column j at j·rows
+  const a = work;
+  for (let j = 0; j < cols; j++) a.set(jacobian[j], j * rows);
+  a.set(r, cols * rows);
+  const rFactor: Float64Array[] = [];
+  for (let k = 0; k < cols; k++) rFactor.push(new Float64Array(cols));
+  let fullRank = cols < rows;
+  for (let k = 0; k < cols && k < rows; k++) {
+    const base = k * rows;
+    let norm2 = 0;
+    for (let i = k; i < rows; i++) norm2 += a[base + i] * a[base + i];
+    const column2 = dot(jacobian[k], jacobian[k]);
+    if (!(norm2 > 1e-24 * column2)) fullRank = false; // numerically in the span of the earlier columns
+    if (!(norm2 > 0)) continue;
+    const norm = Math.sqrt(norm2);
+    const xk = a[base + k];
+    const alpha = xk >= 0 ? -norm : norm;
+    a[base + k] = xk - alpha; // v = x − α·e_k, the Householder vector, with vᵀv = 2(‖x‖² − α·x_k)
+    const twoOverVv = 1 / (norm2 - alpha * xk);
+    for (let j = k + 1; j <= cols; j++) {
+      const other = j * rows;
+      let sum = 0;
+      for (let i = k; i < rows; i++) sum += a[base + i] * a[other + i];
+      const f = sum * twoOverVv;
+      for (let i = k; i < rows; i++) a[other + i] -= f * a[base + i];
+      if (j < cols) rFactor[k][j] = a[other + k];
+    }
+    rFactor[k][k] = alpha;
+  }
+  const c = cols * rows;
+  const model = new Float64Array(cols + 1);
+  let inSpan2 = 0;
+  for (let k = 0; k < cols && k < rows; k++) {
+    model[k] = -a[c + k];
+    inSpan2 += a[c + k] * a[c + k];
+  }
+  let rest2 = 0;
+  for (let i = cols; i < rows; i++) rest2 += a[c + i] * a[c + i];
+  model[cols] = -Math.sqrt(rest2);
+  const total2 = inSpan2 + rest2;
+  return { rows: rFactor, model, spanCosine: fullRank && total2 > 0 ? Math.sqrt(inSpan2 / total2) : NaN };
 }
 
 export function nonFiniteMessage(model: DispersionModel, values: Float64Array, where: string): string {
@@ -105,7 +175,7 @@ class StopChunk extends Error {
  * ANL-80-74 (1980)) in a form that does not depend on the damping. Unlike the largest cosine with a single
  * column, it sees the χ² still to be gained along a narrow valley of nearly collinear columns.
  */
-function projectedCosine(r: Float64Array, jacobian: Float64Array[], p: Float64Array, free: number[], bounds: [number, number][]): number {
+function projectedCosine(r: Float64Array, jacobian: Float64Array[], p: Float64Array, free: number[], bounds: [number, number][], spanCosine = NaN): number {
   const rNorm2 = dot(r, r);
   if (!(rNorm2 > 0)) return 0;
   const rows = r.length;
@@ -125,6 +195,8 @@ function projectedCosine(r: Float64Array, jacobian: Float64Array[], p: Float64Ar
     single = Math.max(single, Math.abs(descent) / (norm * Math.sqrt(rNorm2)));
   }
   if (single > LOOSE_GTOL) return single;
+  // no column blocked by a bound and full rank: the QR reduction already holds the answer
+  if (active.length === free.length && Number.isFinite(spanCosine)) return spanCosine;
   const basis: Float64Array[] = [];
   let projected2 = 0;
   for (const { col, norm } of active) {
@@ -152,6 +224,8 @@ function projectedCosine(r: Float64Array, jacobian: Float64Array[], p: Float64Ar
  */
 export function minimize(problem: FitProblem, model: DispersionModel, start: Float64Array, free: number[], bounds: [number, number][], maxIterations: number): LmResult {
   const p = Float64Array.from(start);
+  // derivatives of the free parameters and the fitted parts only
+  const request = { columns: free, re: problem.useRe, im: problem.useIm };
   let { r, jacobian } = residualsAt(problem, model, p, free, true);
   let chi2 = sumSquares(r);
   if (!Number.isFinite(chi2)) throw new NumericalError(nonFiniteMessage(model, p, 'at the start values'));
@@ -159,11 +233,15 @@ export function minimize(problem: FitProblem, model: DispersionModel, start: Flo
   const tolerance = Math.max(1e-28 * chi2, 1e-300);
   const yWhite = new Float64Array(problem.y.length);
   for (let i = 0; i < yWhite.length; i++) yWhite[i] = problem.y[i] * problem.invSigma[i];
-  const index = Array.from(yWhite.keys());
+  // the library's data: the p + 1 rows of the QR-reduced problem (reduce()), y = 0 so its residual is c
+  const reducedIndex = Array.from({ length: free.length + 1 }, (_, i) => i);
+  const reducedY = new Array<number>(free.length + 1).fill(0);
   let iterations = 0;
   let damping = INITIAL_DAMPING; // relative to the normalized JᵀJ diagonal
   let stalls = 0;
-  let converged = chi2 <= tolerance || projectedCosine(r, jacobian, p, free, bounds) <= GTOL;
+  const work = new Float64Array((free.length + 1) * r.length);
+  let reduced = reduce(jacobian, r, work);
+  let converged = chi2 <= tolerance || projectedCosine(r, jacobian, p, free, bounds, reduced.spanCosine) <= GTOL;
   while (!converged && iterations < maxIterations && stalls < 4) {
     const norms = jacobian.map((col) => Math.sqrt(dot(col, col)));
     const scale = free.map((pi, j) => (norms[j] > 0 && Number.isFinite(norms[j]) ? COLUMN_NORM / norms[j] : Math.max(Math.abs(p[pi]), 1e-3)));
@@ -175,18 +253,16 @@ export function minimize(problem: FitProblem, model: DispersionModel, start: Flo
     /** Model, residuals and Jacobian at a library point, in one model pass; χ² is NaN when anything is not finite. */
     const evaluateAt = (x: number[]): Point => {
       const q = full(x);
-      const w = whitenedModel(problem, model.evaluate(problem.grid, q, problem.quantity, true), free);
+      const w = whitenedModel(problem, model.evaluate(problem.grid, q, problem.quantity, request), free);
       const rr = new Float64Array(yWhite.length);
       for (let i = 0; i < rr.length; i++) rr[i] = yWhite[i] - w.model[i];
       let c = sumSquares(rr);
       // a NaN in JᵀJ surfaces in the library as "Matrix is not symmetric" (NaN ≠ NaN): never move there
       for (const col of w.jacobian) if (!Number.isFinite(sumSquares(col))) c = NaN;
-      return { x: x.slice(), q, model: w.model, r: rr, jacobian: w.jacobian, chi2: c };
+      return { x: x.slice(), q, r: rr, jacobian: w.jacobian, chi2: c, reduced: reduce(w.jacobian, rr, work) };
     };
-    // the start of the chunk: model values and Jacobian already known, so the library's first calls cost nothing
-    const startModel = new Float64Array(yWhite.length);
-    for (let i = 0; i < startModel.length; i++) startModel[i] = yWhite[i] - r[i];
-    let best: Point = { x: free.map((pi, j) => p[pi] / scale[j]), q: Float64Array.from(p), model: startModel, r, jacobian, chi2 };
+    // the start of the chunk: residuals and Jacobian already known, so the library's first calls cost nothing
+    let best: Point = { x: free.map((pi, j) => p[pi] / scale[j]), q: Float64Array.from(p), r, jacobian, chi2, reduced };
     let current = best; // the point the library stands on
     let failures = 0;
     const at = (x: number[], point: Point) => x.every((v, j) => v === point.x[j]);
@@ -201,7 +277,7 @@ export function minimize(problem: FitProblem, model: DispersionModel, start: Flo
      * is reset to the best point, so the library sees no change, raises its damping and solves again.
      */
     const values = (x: number[]): Float64Array => {
-      if (at(x, current)) return current.model;
+      if (at(x, current)) return current.reduced.model;
       iterations++;
       const trial = evaluateAt(x);
       if (!Number.isFinite(trial.chi2)) {
@@ -212,26 +288,29 @@ export function minimize(problem: FitProblem, model: DispersionModel, start: Flo
         const decrease = (best.chi2 - trial.chi2) / best.chi2;
         best = trial;
         failures = 0;
-        const cos = projectedCosine(trial.r, trial.jacobian, trial.q, free, bounds);
+        const cos = projectedCosine(trial.r, trial.jacobian, trial.q, free, bounds, trial.reduced.spanCosine);
         if (cos <= GTOL || (decrease <= FTOL && cos <= LOOSE_GTOL) || trial.chi2 <= tolerance) throw new StopChunk('converged');
       } else if (++failures >= MAX_FAILURES) throw new StopChunk('stalled');
-      return current.model;
+      return current.reduced.model;
     };
     // the library copies each row out before asking for the next, so one buffer serves every row
     const rowBuffer = new Array<number>(free.length).fill(0);
     const jacobianRows = (x: number[]) => {
       if (!at(x, current)) current = evaluateAt(x); // not reached with 5.1, which asks at the point it stands on
       if (!Number.isFinite(current.chi2)) throw new StopChunk('stalled');
-      const columns = current.jacobian;
+      // R of the scaled columns J·diag(scale) is R·diag(scale)
+      const rowsOfR = current.reduced.rows;
       return (i: number) => {
-        for (let j = 0; j < columns.length; j++) rowBuffer[j] = columns[j][i] * scale[j];
+        const row = rowsOfR[i];
+        if (row === undefined) rowBuffer.fill(0); // the last reduced row: ‖c_{p+1…N}‖ with a zero Jacobian row
+        else for (let j = 0; j < row.length; j++) rowBuffer[j] = row[j] * scale[j];
         return rowBuffer;
       };
     };
     let reason: 'converged' | 'stalled' | 'ended' = 'ended';
     try {
       levenbergMarquardt(
-        { x: index, y: yWhite },
+        { x: reducedIndex, y: reducedY },
         (x) => {
           const m = values(x);
           return (i) => m[i];
@@ -258,7 +337,7 @@ export function minimize(problem: FitProblem, model: DispersionModel, start: Flo
     if (improved) {
       p.set(best.q);
       chi2 = best.chi2;
-      ({ r, jacobian } = best);
+      ({ r, jacobian, reduced } = best);
     }
     if (reason === 'converged' || chi2 <= tolerance) converged = true;
     else if (improved && reason === 'ended') {

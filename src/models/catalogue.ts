@@ -36,6 +36,17 @@ export interface ModelValues {
   dIm?: Float64Array[];
 }
 
+/**
+ * Derivatives evaluate() computes: all (true), none (false), or only the listed parameter columns of the
+ * listed parts (the fitter asks for its free parameters and the fitted quantities only). Entries of
+ * dRe/dIm outside the request are unspecified (a shared scratch array).
+ */
+export interface DerivativeRequest {
+  columns: number[];
+  re: boolean;
+  im: boolean;
+}
+
 export interface DispersionModel {
   /** Normalized spec, e.g. "tauc-lorentz+drude". */
   spec: string;
@@ -48,7 +59,7 @@ export interface DispersionModel {
   eps(energyEv: number[], p: Record<string, number>): { eps1: number[]; eps2: number[] };
   nk(wavelengthNm: number[], p: Record<string, number>): { n: number[]; k: number[] };
   /** Fitter entry point: values in parameter order on a precomputed grid, with derivatives on request. */
-  evaluate(grid: SpectralGrid, values: Float64Array, quantity: ModelQuantity, withDerivatives: boolean): ModelValues;
+  evaluate(grid: SpectralGrid, values: Float64Array, quantity: ModelQuantity, derivatives: boolean | DerivativeRequest): ModelValues;
   /** Automatic initial guess from the data; `given` holds user-set values (fixed or --init) by parameter index. */
   guess(data: GuessData, given?: Map<number, number>): Float64Array;
 }
@@ -120,11 +131,23 @@ export function buildModel(spec: string, options: ModelOptions = {}): Dispersion
   const kkConsistent = terms.every((t) => t.kkConsistent);
   const notes = terms.flatMap((t) => t.validity);
 
-  function raw(grid: SpectralGrid, values: Float64Array, withDerivatives: boolean): ModelValues {
+  const all = parameters.map((_, i) => i);
+
+  /** The terms' own output; derivative arrays only for `columns` (the others share one scratch array the terms write into). */
+  function raw(grid: SpectralGrid, values: Float64Array, columns: number[] | undefined): ModelValues {
     const count = grid.wavelengthNm.length;
     const out: TermOutput = { re: new Float64Array(count), im: new Float64Array(count) };
-    const dRe = withDerivatives ? parameters.map(() => new Float64Array(count)) : undefined;
-    const dIm = withDerivatives ? parameters.map(() => new Float64Array(count)) : undefined;
+    let dRe: Float64Array[] | undefined;
+    let dIm: Float64Array[] | undefined;
+    if (columns) {
+      const scratch = columns.length < parameters.length ? new Float64Array(count) : undefined;
+      dRe = parameters.map(() => scratch as Float64Array);
+      dIm = parameters.map(() => scratch as Float64Array);
+      for (const j of columns) {
+        dRe[j] = new Float64Array(count);
+        dIm[j] = new Float64Array(count);
+      }
+    }
     if (epsInfIndex >= 0) {
       out.re.fill(values[epsInfIndex]);
       if (dRe) dRe[epsInfIndex].fill(1);
@@ -139,9 +162,10 @@ export function buildModel(spec: string, options: ModelOptions = {}): Dispersion
     return { re: out.re, im: out.im, dRe, dIm };
   }
 
-  function evaluate(grid: SpectralGrid, values: Float64Array, want: ModelQuantity, withDerivatives: boolean): ModelValues {
-    const v = raw(grid, values, withDerivatives);
-    return want === quantity ? v : convert(v, want);
+  function evaluate(grid: SpectralGrid, values: Float64Array, want: ModelQuantity, derivatives: boolean | DerivativeRequest): ModelValues {
+    const request = derivatives === true ? { columns: all, re: true, im: true } : derivatives === false ? undefined : derivatives;
+    const v = raw(grid, values, request?.columns);
+    return want === quantity ? v : convert(v, want, request);
   }
 
   function valuesFrom(p: Record<string, number>): Float64Array {
@@ -180,11 +204,11 @@ export function buildModel(spec: string, options: ModelOptions = {}): Dispersion
       const fixedPart = Float64Array.from(values);
       for (const a of free) fixedPart[a.index] = 0;
       if (solveInf) fixedPart[epsInfIndex] = 0;
-      const base = raw(grid, fixedPart, false);
+      const base = raw(grid, fixedPart, undefined);
       const columns = free.map((a) => {
         const unit = Float64Array.from(fixedPart);
         unit[a.index] = 1;
-        const v = raw(grid, unit, false);
+        const v = raw(grid, unit, undefined);
         return [...v.re.map((x, i) => x - base.re[i]), ...v.im.map((x, i) => x - base.im[i])];
       });
       if (solveInf) columns.push([...data.eps1.map(() => 1), ...data.eps2.map(() => 0)]);
@@ -225,12 +249,18 @@ export function buildModel(spec: string, options: ModelOptions = {}): Dispersion
  * ε ↔ N = n + ik with derivatives. ε → N: N = √ε (stable principal root), ∂N = ∂ε/(2N);
  * N → ε: ε = N², ∂ε = 2N·∂N (complex arithmetic, common practice).
  */
-function convert(v: ModelValues, to: ModelQuantity): ModelValues {
+function convert(v: ModelValues, to: ModelQuantity, request: DerivativeRequest | undefined): ModelValues {
   const count = v.re.length;
   const re = new Float64Array(count);
   const im = new Float64Array(count);
-  const dRe = v.dRe?.map(() => new Float64Array(count));
-  const dIm = v.dIm?.map(() => new Float64Array(count));
+  const columns = request && v.dRe && v.dIm ? request.columns : [];
+  const scratch = columns.length > 0 && (columns.length < v.dRe!.length || !request?.re || !request.im) ? new Float64Array(count) : undefined;
+  const dRe = request && v.dRe ? v.dRe.map(() => scratch as Float64Array) : undefined;
+  const dIm = request && v.dIm ? v.dIm.map(() => scratch as Float64Array) : undefined;
+  for (const j of columns) {
+    if (request?.re && dRe) dRe[j] = new Float64Array(count);
+    if (request?.im && dIm) dIm[j] = new Float64Array(count);
+  }
   for (let i = 0; i < count; i++) {
     let fr: number; // complex factor f with ∂out = f·∂in
     let fi: number;
@@ -257,10 +287,11 @@ function convert(v: ModelValues, to: ModelQuantity): ModelValues {
       fi = 2 * k;
     }
     if (dRe && dIm && v.dRe && v.dIm) {
-      for (let j = 0; j < dRe.length; j++) {
+      for (let c = 0; c < columns.length; c++) {
+        const j = columns[c];
         const a = v.dRe[j][i];
         const b = v.dIm[j][i];
-        dRe[j][i] = fr * a - fi * b;
+        dRe[j][i] = fr * a - fi * b; // the scratch array for a part not requested
         dIm[j][i] = fr * b + fi * a;
       }
     }
