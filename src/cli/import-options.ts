@@ -5,6 +5,7 @@
  */
 import { Option, type Command } from 'commander';
 import { InputError } from '../errors.ts';
+import { parseOptionNumber } from '../io/numbers.ts';
 import { DEFAULT_K_TOLERANCE, DEFAULT_MAX_BYTES, type ImportOptions } from '../io/parse-table.ts';
 import { parseSpectralUnit, SPECTRAL_UNITS } from '../optics/units.ts';
 
@@ -30,14 +31,6 @@ export function addImportOptions(cmd: Command): Command {
     .addOption(new Option('--max-size <MiB>', `refuse inputs larger than this many MiB (default ${DEFAULT_MAX_BYTES / 1024 / 1024})`));
 }
 
-function positiveNumber(text: string, flag: string, allowZero: boolean): number {
-  const value = Number(text);
-  if (text.trim() === '' || !Number.isFinite(value) || value < 0 || (!allowZero && value === 0)) {
-    throw new InputError('bad-option', `${flag} ${text}: expected a ${allowZero ? 'non-negative' : 'positive'} number`);
-  }
-  return value;
-}
-
 export function importOptionsFrom(opts: ImportFlags): ImportOptions {
   const out: ImportOptions = {};
   if (opts.inputUnit !== undefined) {
@@ -48,7 +41,7 @@ export function importOptionsFrom(opts: ImportFlags): ImportOptions {
   if (opts.columns !== undefined) out.columns = opts.columns.split(',').map((c) => c.trim());
   if (opts.delimiter !== undefined) out.delimiter = opts.delimiter;
   if (opts.decimalComma !== undefined) out.decimalComma = opts.decimalComma;
-  if (opts.kTolerance !== undefined) out.kTolerance = positiveNumber(opts.kTolerance, '--k-tolerance', true);
-  if (opts.maxSize !== undefined) out.maxBytes = Math.round(positiveNumber(opts.maxSize, '--max-size', false) * 1024 * 1024);
+  if (opts.kTolerance !== undefined) out.kTolerance = parseOptionNumber(opts.kTolerance, '--k-tolerance', { min: 0 });
+  if (opts.maxSize !== undefined) out.maxBytes = Math.round(parseOptionNumber(opts.maxSize, '--max-size', { above: 0 }) * 1024 * 1024);
   return out;
 }

@@ -22,3 +22,39 @@ export function parseNumberCell(cell: string, decimalComma: boolean, where: Inpu
   if (!Number.isFinite(value)) throw new InputError('overflow', `"${cell}" overflows a double-precision number`, where);
   return value;
 }
+
+/** What an option's number must be: a whole number, within [min, max], above a bound (0 for "positive"). */
+export interface NumberRule {
+  integer?: boolean;
+  min?: number;
+  max?: number;
+  above?: number;
+  /** Added to the refusal in brackets, e.g. "a misfit in n, e.g. 0.005". */
+  hint?: string;
+}
+
+function expectation(rule: NumberRule): string {
+  const kind = rule.integer ? 'whole number' : 'number';
+  if (rule.min !== undefined && rule.max !== undefined) return `a ${kind} ${rule.min}–${rule.max}`;
+  if (rule.above === 0) return `a positive ${kind}`;
+  if (rule.min === 0) return `a non-negative ${kind}`;
+  if (rule.above !== undefined) return `a ${kind} above ${rule.above}`;
+  if (rule.min !== undefined) return `a ${kind} ≥ ${rule.min}`;
+  return rule.max !== undefined ? `a ${kind} ≤ ${rule.max}` : `a ${kind}`;
+}
+
+/**
+ * A number typed as the value of an option (a CLI flag or an API field), refused as `bad-option` naming the option
+ * as the user spelled it: `--tolerance: "x" is not a number`, `--starts 0: expected a whole number 1–1000`.
+ */
+export function parseOptionNumber(text: string, what: string, rule: NumberRule = {}): number {
+  const value = Number(text);
+  if (text.trim() === '' || !Number.isFinite(value)) throw new InputError('bad-option', `${what}: "${text}" is not a number`);
+  const ok =
+    (!rule.integer || Number.isInteger(value)) &&
+    (rule.min === undefined || value >= rule.min) &&
+    (rule.max === undefined || value <= rule.max) &&
+    (rule.above === undefined || value > rule.above);
+  if (!ok) throw new InputError('bad-option', `${what} ${text}: expected ${expectation(rule)}${rule.hint ? ` (${rule.hint})` : ''}`);
+  return value;
+}

@@ -3,6 +3,7 @@
  * turned into the fitter's FitOptions. One parser, so every front door accepts and refuses the same things.
  */
 import { InputError } from '../errors.ts';
+import { parseOptionNumber } from '../io/numbers.ts';
 import type { FitOptions, FitTarget } from '../fit/types.ts';
 
 export const FIT_TARGETS: readonly FitTarget[] = ['nk', 'n', 'k', 'eps'];
@@ -29,17 +30,8 @@ export const FIT_OPTION_NAMES: readonly FitOptionName[] = ['terms', 'urbach', 't
 export type OptionLabel = (name: FitOptionName) => string;
 const cliLabel: OptionLabel = (name) => `--${name}`;
 
-function number(text: string, what: string): number {
-  const v = Number(text);
-  if (text.trim() === '' || !Number.isFinite(v)) throw new InputError('bad-option', `${what}: "${text}" is not a number`);
-  return v;
-}
-
-function integer(text: string, what: string, lo: number, hi: number): number {
-  const v = number(text, what);
-  if (!Number.isInteger(v) || v < lo || v > hi) throw new InputError('bad-option', `${what} ${text}: expected a whole number ${lo}–${hi}`);
-  return v;
-}
+const number = (text: string, what: string) => parseOptionNumber(text, what);
+const integer = (text: string, what: string, min: number, max: number) => parseOptionNumber(text, what, { integer: true, min, max });
 
 /** "P=V" → [P, V] */
 function assignment(text: string, what: string): [string, string] {

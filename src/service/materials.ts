@@ -51,31 +51,22 @@ export function listMaterials(registry: Registry, filter: { tag?: string } = {})
     .filter((m) => filter.tag === undefined || m.tags.includes(filter.tag));
 }
 
+/** The version rows of a material, oldest first. */
+function versionRows(registry: Registry, materialId: number) {
+  return registry.db.select().from(materialVersions).where(eq(materialVersions.materialId, materialId)).orderBy(asc(materialVersions.number)).all();
+}
+
 /** One material with all its versions (oldest first). */
 export function getMaterial(registry: Registry, slug: string): { material: MaterialRecord; versions: VersionRecord[] } {
   const row = findMaterial(registry, checkSlug(slug));
-  const versions = registry.db
-    .select()
-    .from(materialVersions)
-    .where(eq(materialVersions.materialId, row.id))
-    .orderBy(asc(materialVersions.number))
-    .all()
-    .map((v) => versionRecord(row.slug, v));
-  return { material: materialRecord(registry, row), versions };
+  return { material: materialRecord(registry, row), versions: versionRows(registry, row.id).map((v) => versionRecord(row.slug, v)) };
 }
 
 /** A material's versions and its audit log, oldest first. */
 export function history(registry: Registry, slug: string): { material: MaterialRecord; versions: VersionRecord[]; audit: AuditEntry[] } {
-  const { material, versions } = getMaterial(registry, slug);
-  const row = findMaterial(registry, material.slug);
-  const numberById = new Map(
-    registry.db
-      .select({ id: materialVersions.id, number: materialVersions.number })
-      .from(materialVersions)
-      .where(eq(materialVersions.materialId, row.id))
-      .all()
-      .map((v) => [v.id, v.number]),
-  );
+  const row = findMaterial(registry, checkSlug(slug));
+  const rows = versionRows(registry, row.id);
+  const numberById = new Map(rows.map((v) => [v.id, v.number]));
   const audit = registry.db
     .select()
     .from(auditLog)
@@ -90,5 +81,5 @@ export function history(registry: Registry, slug: string): { material: MaterialR
       ref: a.versionId === null ? null : formatRef(row.slug, numberById.get(a.versionId)!),
       detail: JSON.parse(a.detail) as Record<string, unknown>,
     }));
-  return { material, versions, audit };
+  return { material: materialRecord(registry, row), versions: rows.map((v) => versionRecord(row.slug, v)), audit };
 }

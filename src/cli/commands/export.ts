@@ -3,6 +3,7 @@ import { writeFile } from 'node:fs/promises';
 import type { Command } from 'commander';
 import { Option } from 'commander';
 import { SPECTRAL_UNITS, type SpectralUnit } from '../../optics/units.ts';
+import { parseOptionNumber } from '../../io/numbers.ts';
 import { DEFAULT_MODEL_STEP_NM, exportVersion, VERSION_EXPORT_FORMATS, type VersionExportFormat } from '../../service/export-version.ts';
 import { addDbOption, withRegistry } from '../admin-options.ts';
 import { guarded } from '../failure.ts';
@@ -19,7 +20,7 @@ export function register(program: Command): void {
     .addHelpText('after', '\nThe CSV starts with # lines naming the pin and its SHA-256; it imports back unchanged.\n\nExample:\n  nkledger export sin-pecvd-a@3 --format csv -o sin-a-3.csv')
     .action(
       guarded(async (ref: string, opts: { db?: string; format: VersionExportFormat; xUnit: SpectralUnit; step?: string; output?: string }) => {
-        const stepNm = opts.step === undefined ? undefined : Number(opts.step);
+        const stepNm = opts.step === undefined ? undefined : parseOptionNumber(opts.step, '--step', { above: 0 });
         const out = await withRegistry(opts, (r) => exportVersion(r, ref, opts.format, { xUnit: opts.xUnit, stepNm }));
         printResolution(out);
         if (opts.output) await writeFile(opts.output, out.text);

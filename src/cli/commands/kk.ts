@@ -5,7 +5,7 @@
  */
 import { writeFile } from 'node:fs/promises';
 import type { Command } from 'commander';
-import { InputError } from '../../errors.ts';
+import { parseOptionNumber } from '../../io/numbers.ts';
 import { checkKramersKronig, KK_DEFAULTS, type KkReport } from '../../kk/check.ts';
 import { kkPlotSpec } from '../../kk/plot-spec.ts';
 import { renderSpectrumPlot } from '../../plot/spectrum-plot.ts';
@@ -41,14 +41,6 @@ export function kkLines(source: string, r: KkReport): string[] {
   return lines;
 }
 
-function parseTolerance(text: string): number {
-  const value = Number(text);
-  if (text.trim() === '' || !Number.isFinite(value) || value <= 0) {
-    throw new InputError('bad-option', `--tolerance ${text}: expected a positive number (a misfit in n, e.g. 0.005)`);
-  }
-  return value;
-}
-
 export function register(program: Command): void {
   addSourceOptions(
     program
@@ -62,7 +54,7 @@ export function register(program: Command): void {
     .addHelpText('after', '\nExamples:\n  nkledger kk data/marrowick/ito-sputtered.tsv\n  nkledger kk film.csv --tolerance 0.002 --json --plot film-kk.svg\n  nkledger kk sin-pecvd-a@3')
     .action(
       guarded(async (source: string, opts: SourceFlags & { tolerance?: string; json?: boolean; plot?: string }) => {
-        const tolerance = opts.tolerance === undefined ? undefined : parseTolerance(opts.tolerance);
+        const tolerance = opts.tolerance === undefined ? undefined : parseOptionNumber(opts.tolerance, '--tolerance', { above: 0, hint: 'a misfit in n, e.g. 0.005' });
         const loaded = await loadSource(source, opts);
         const label = sourceLabel(source, loaded);
         const report = checkKramersKronig(requireTable(loaded, 'check'), { tolerance });

@@ -1,6 +1,7 @@
 /** `nkledger serve`: the HTTP API over the registry until SIGINT/SIGTERM, then a clean shutdown. */
 import type { Command } from 'commander';
 import { InputError } from '../../errors.ts';
+import { parseOptionNumber } from '../../io/numbers.ts';
 import { openRegistry, type Registry } from '../../registry/open.ts';
 import { DEFAULT_HOST, DEFAULT_PORT, isLoopbackHost, startServer, type RunningServer } from '../../api/server.ts';
 import type { Settings } from '../../service/settings.ts';
@@ -9,9 +10,7 @@ import { guarded } from '../failure.ts';
 import { addDbOption } from '../admin-options.ts';
 
 export function parsePort(text: string): number {
-  const port = Number(text);
-  if (!Number.isInteger(port) || port < 0 || port > 65535) throw new InputError('serve-port', `--port ${text}: a port is an integer 0-65535`);
-  return port;
+  return parseOptionNumber(text, '--port', { integer: true, min: 0, max: 65535, hint: '0 picks a free port' });
 }
 
 /**
