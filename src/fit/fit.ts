@@ -59,7 +59,36 @@ function perturbedStart(start: Float64Array, free: number[], bounds: [number, nu
   return p;
 }
 
+/** A fit ready to run: model, problem (rows, weights), bounds, start values and the free parameters. */
+export interface PreparedFit {
+  model: DispersionModel;
+  problem: FitProblem;
+  bounds: [number, number][];
+  start: Float64Array;
+  free: number[];
+  fixed: Set<number>;
+  target: FitOptions['target'] & string;
+  maxIterations: number;
+  startCount: number;
+  seed: number;
+}
+
+/** A finished fit: every start's result and the best one. */
+export interface FitSolution extends PreparedFit {
+  runs: LmResult[];
+  best: LmResult;
+}
+
+/**
+ * fitTable in its three stages, exported so the benchmark (scripts/bench-fit.ts) can time the fit alone
+ * like scipy's least_squares call: prepareFit (checks, rows, weights, start) → solveFit (the
+ * minimizations) → reportFit (standard errors, correlations, statistics, warnings).
+ */
 export function fitTable(table: NkTable, options: FitOptions): FitReport {
+  return reportFit(solveFit(prepareFit(table, options)));
+}
+
+export function prepareFit(table: NkTable, options: FitOptions): PreparedFit {
   const model = buildModel(options.model, { terms: options.terms, urbach: options.urbach });
   refuseUnknown(model, Object.keys(options.fix ?? {}), '--fix');
   refuseUnknown(model, Object.keys(options.init ?? {}), '--init');
@@ -90,14 +119,19 @@ export function fitTable(table: NkTable, options: FitOptions): FitReport {
   for (const i of free) start[i] = Math.min(bounds[i][1], Math.max(bounds[i][0], start[i]));
   const maxIterations = options.maxIterations ?? DEFAULT_MAX_ITERATIONS;
   const startCount = Math.max(1, Math.floor(options.starts ?? 1));
-  const random = seededRandom(options.seed ?? 1);
+  return { model, problem, bounds, start, free, fixed, target, maxIterations, startCount, seed: options.seed ?? 1 };
+}
+
+export function solveFit(prepared: PreparedFit): FitSolution {
+  const { model, problem, start, free, bounds, maxIterations } = prepared;
+  const random = seededRandom(prepared.seed);
   const runs: LmResult[] = [];
-  for (let s = 0; s < startCount; s++) {
+  for (let s = 0; s < prepared.startCount; s++) {
     const from = s === 0 ? start : perturbedStart(start, free, bounds, random);
     runs.push(minimize(problem, model, from, free, bounds, maxIterations));
   }
   const best = runs.reduce((a, b) => (b.chi2 < a.chi2 ? b : a));
-  return buildReport(model, problem, best, { runs, free, fixed, bounds, target });
+  return { ...prepared, runs, best };
 }
 
 function difference(a: Float64Array, b: Float64Array): Float64Array {
@@ -106,15 +140,9 @@ function difference(a: Float64Array, b: Float64Array): Float64Array {
   return out;
 }
 
-interface ReportContext {
-  runs: LmResult[];
-  free: number[];
-  fixed: Set<number>;
-  bounds: [number, number][];
-  target: FitOptions['target'] & string;
-}
-
-function buildReport(model: DispersionModel, problem: FitProblem, best: LmResult, ctx: ReportContext): FitReport {
+export function reportFit(solution: FitSolution): FitReport {
+  const { model, problem, best } = solution;
+  const ctx = solution;
   const names = model.parameters.map((p) => p.name);
   const points = problem.y.length;
   const freeNames = ctx.free.map((i) => names[i]);

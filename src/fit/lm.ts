@@ -160,11 +160,12 @@ export function nonFiniteMessage(model: DispersionModel, values: Float64Array, w
   return `the ${model.spec} model is not finite ${where} (${list}); check --init/--fix/--bounds against the parameter meanings in 'nkledger fit --help'`;
 }
 
-/** Raised inside the library's callbacks to end a chunk early: our convergence tests fired or progress stalled. */
-class StopChunk extends Error {
-  constructor(readonly reason: 'converged' | 'stalled') {
-    super(reason);
-  }
+/**
+ * Thrown inside the library's callbacks to end a chunk early: our convergence tests fired or progress
+ * stalled. Caught in minimize() only, so it is not an Error: no stack trace is captured on every stop.
+ */
+class StopChunk {
+  constructor(readonly reason: 'converged' | 'stalled') {}
 }
 
 /**

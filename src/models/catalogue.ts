@@ -253,17 +253,13 @@ function convert(v: ModelValues, to: ModelQuantity, request: DerivativeRequest |
   const count = v.re.length;
   const re = new Float64Array(count);
   const im = new Float64Array(count);
-  const columns = request && v.dRe && v.dIm ? request.columns : [];
-  const scratch = columns.length > 0 && (columns.length < v.dRe!.length || !request?.re || !request.im) ? new Float64Array(count) : undefined;
-  const dRe = request && v.dRe ? v.dRe.map(() => scratch as Float64Array) : undefined;
-  const dIm = request && v.dIm ? v.dIm.map(() => scratch as Float64Array) : undefined;
-  for (const j of columns) {
-    if (request?.re && dRe) dRe[j] = new Float64Array(count);
-    if (request?.im && dIm) dIm[j] = new Float64Array(count);
-  }
+  const withDerivatives = request !== undefined && v.dRe !== undefined && v.dIm !== undefined;
+  // complex factor f with ∂out = f·∂in, per point
+  const fr = withDerivatives ? new Float64Array(count) : undefined;
+  const fi = withDerivatives ? new Float64Array(count) : undefined;
   for (let i = 0; i < count; i++) {
-    let fr: number; // complex factor f with ∂out = f·∂in
-    let fi: number;
+    let a: number;
+    let b: number;
     if (to === 'nk') {
       const mod = Math.sqrt(v.re[i] * v.re[i] + v.im[i] * v.im[i]); // |ε|; Math.hypot is several times slower in V8
       let n = Math.sqrt((mod + v.re[i]) / 2);
@@ -277,23 +273,36 @@ function convert(v: ModelValues, to: ModelQuantity, request: DerivativeRequest |
       im[i] = k;
       // 1/(2N) = (n − ik)/(2|N|²)
       const m2 = 2 * (n * n + k * k);
-      fr = n / m2;
-      fi = -k / m2;
+      a = n / m2;
+      b = -k / m2;
     } else {
-      const [n, k] = [v.re[i], v.im[i]];
+      const n = v.re[i];
+      const k = v.im[i];
       re[i] = n * n - k * k;
       im[i] = 2 * n * k;
-      fr = 2 * n;
-      fi = 2 * k;
+      a = 2 * n;
+      b = 2 * k;
     }
-    if (dRe && dIm && v.dRe && v.dIm) {
-      for (let c = 0; c < columns.length; c++) {
-        const j = columns[c];
-        const a = v.dRe[j][i];
-        const b = v.dIm[j][i];
-        dRe[j][i] = fr * a - fi * b; // the scratch array for a part not requested
-        dIm[j][i] = fr * b + fi * a;
-      }
+    if (fr && fi) {
+      fr[i] = a;
+      fi[i] = b;
+    }
+  }
+  if (!(withDerivatives && fr && fi && v.dRe && v.dIm && request)) return { re, im };
+  // derivatives column by column (contiguous), only the requested columns and parts; the others share a scratch array
+  const scratch = request.columns.length < v.dRe.length || !request.re || !request.im ? new Float64Array(count) : undefined;
+  const dRe = v.dRe.map(() => scratch as Float64Array);
+  const dIm = v.dIm.map(() => scratch as Float64Array);
+  for (const j of request.columns) {
+    const inRe = v.dRe[j];
+    const inIm = v.dIm[j];
+    if (request.re) {
+      const out = (dRe[j] = new Float64Array(count));
+      for (let i = 0; i < count; i++) out[i] = fr[i] * inRe[i] - fi[i] * inIm[i];
+    }
+    if (request.im) {
+      const out = (dIm[j] = new Float64Array(count));
+      for (let i = 0; i < count; i++) out[i] = fr[i] * inIm[i] + fi[i] * inRe[i];
     }
   }
   return { re, im, dRe, dIm };
