@@ -97,5 +97,5 @@ describe('nkledger inspect / eval / convert end to end', () => {
       expect(r.code, cmd).toBe(0);
       expect(r.stdout).toMatch(new RegExp(`Usage: nkledger ${cmd}`));
     }
-  });
+  }, 300_000);
 });
