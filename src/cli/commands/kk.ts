@@ -28,7 +28,7 @@ export function kkLines(source: string, r: KkReport): string[] {
     `  Δn (measured − KK-reconstructed): rms ${e(r.rms_dn)}, max ${e(r.max_dn)} at ${nm(r.worst_nm)}; ` +
       `systematic max ${e(r.systematic_max_dn)} at ${nm(r.systematic_worst_nm)}; point-to-point noise ${e(r.noise_dn)}`,
     `  ε2 moved: rms ${e(r.rms_deps2)}, max ${e(r.max_deps2)} at ${nm(r.max_deps2_nm)} (k by up to ${e(r.max_dk)})`,
-    `  tolerance ${r.tolerance} in n; ${r.points} points, ${r.range_nm[0]}–${r.range_nm[1]} nm`,
+    `  tolerance ${r.tolerance} in n; ${r.points} points, ${nm(r.range_nm[0]).replace(/ nm$/, '')}–${nm(r.range_nm[1])}`,
     '',
     ...formatTable(
       ['band', 'range (nm)', 'points', 'rms Δn', 'max |Δn|', 'at (nm)', 'systematic'],
