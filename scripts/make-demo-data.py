@@ -21,6 +21,8 @@ import os
 
 import numpy as np
 
+from scipy_models import tauc_lorentz_eps
+
 HC_EV_NM = 1239.841984  # CODATA 2018 exact h, c, e
 ROOT = os.path.join(os.path.dirname(os.path.abspath(__file__)), '..')
 OUT = os.path.join(ROOT, 'data', 'marrowick')
@@ -30,28 +32,12 @@ INVENTED = 'INVENTED demo data of the fictional Marrowick Optics lab - not a rea
 
 # ---------------------------------------------------------------- models (eps as functions of E in eV)
 def tauc_lorentz_eps2(E, A, E0, C, Eg):
-    E = np.asarray(E, dtype=float)
-    out = A * E0 * C * (E - Eg) ** 2 / (((E**2 - E0**2) ** 2 + C**2 * E**2) * E)
-    return np.where(E > Eg, out, 0.0)
+    return np.asarray(tauc_lorentz_eps(E, A, E0, C, Eg)).imag
 
 
 def tauc_lorentz_eps1(E, A, E0, C, Eg, eps_inf):
-    """Closed form of Jellison & Modine 1996 (with the erratum), as written in references.md."""
-    E = np.asarray(E, dtype=float)
-    alpha = np.sqrt(4 * E0**2 - C**2)
-    gamma2 = E0**2 - C**2 / 2
-    zeta4 = (E**2 - gamma2) ** 2 + alpha**2 * C**2 / 4
-    a_ln = (Eg**2 - E0**2) * E**2 + Eg**2 * C**2 - E0**2 * (E0**2 + 3 * Eg**2)
-    a_atan = (E**2 - E0**2) * (E0**2 + Eg**2) + Eg**2 * C**2
-    pi = np.pi
-    t1 = A * C * a_ln / (2 * pi * zeta4 * alpha * E0) * np.log(
-        (E0**2 + Eg**2 + alpha * Eg) / (E0**2 + Eg**2 - alpha * Eg))
-    t2 = -A * a_atan / (pi * zeta4 * E0) * (pi - np.arctan((2 * Eg + alpha) / C) + np.arctan((alpha - 2 * Eg) / C))
-    t3 = 2 * A * E0 * Eg / (pi * zeta4 * alpha) * (E**2 - gamma2) * (pi + 2 * np.arctan(2 * (gamma2 - Eg**2) / (alpha * C)))
-    t4 = -A * E0 * C * (E**2 + Eg**2) / (pi * zeta4 * E) * np.log(np.abs(E - Eg) / (E + Eg))
-    t5 = 2 * A * E0 * C * Eg / (pi * zeta4) * np.log(
-        np.abs(E - Eg) * (E + Eg) / np.sqrt((E0**2 - Eg**2) ** 2 + Eg**2 * C**2))
-    return eps_inf + t1 + t2 + t3 + t4 + t5
+    """Closed form of Jellison & Modine 1996 (with the erratum), shared with the scipy fit references."""
+    return eps_inf + np.asarray(tauc_lorentz_eps(E, A, E0, C, Eg)).real
 
 
 def tauc_lorentz(E, A, E0, C, Eg, eps_inf):
