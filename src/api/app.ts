@@ -20,6 +20,7 @@ import { registerMaterialRoutes } from './routes/materials.ts';
 import { registerLockRoutes } from './routes/locks.ts';
 import { registerUploadRoutes } from './routes/uploads.ts';
 import { registerNkRoute } from './routes/nk.ts';
+import { RegistryChanges } from './registry-changes.ts';
 
 export interface AppOptions {
   registry: Registry;
@@ -39,8 +40,10 @@ export function createApp(options: AppOptions): Hono<ApiEnv> {
   let settings: Settings = { ...readSettings(registry), ...options.settings };
   const anonymousReads = () =>
     settings.anonymous_reads === 'on' || (settings.anonymous_reads === 'auto' && options.loopback === true);
+  const changes = new RegistryChanges(registry);
   const ctx: RouteContext = {
     registry,
+    changes,
     settings: () => settings,
     reloadSettings: () => (settings = { ...readSettings(registry), ...options.settings }),
     requireRole: (role) => requireRole(role, anonymousReads),
@@ -76,7 +79,7 @@ export function createApp(options: AppOptions): Hono<ApiEnv> {
       },
     })(c, next);
   });
-  app.use('/api/*', authenticate(registry));
+  app.use('/api/*', authenticate(registry, changes));
 
   registerOpenApiRoute(app);
   registerMaterialRoutes(app, ctx);

@@ -8,6 +8,7 @@ import { authenticateToken, roleAllows, type Principal } from '../service/tokens
 import type { Registry } from '../registry/open.ts';
 import type { TokenRole } from '../registry/schema-auth.ts';
 import { HttpProblem } from './problem.ts';
+import { ChangeMemo, type RegistryChanges } from './registry-changes.ts';
 
 export interface ApiEnv {
   Variables: { principal: Principal | null };
@@ -15,7 +16,13 @@ export interface ApiEnv {
 
 const CHALLENGE = 'Bearer realm="nkledger"';
 
-export function authenticate(registry: Registry): MiddlewareHandler<ApiEnv> {
+/**
+ * Who each presented token stands for is remembered until the registry changes (a revocation is a
+ * change), so a design tool polling n,k does not pay a hash and an SQLite lookup per request. The
+ * memo is keyed by the token as presented; it lives only in this process's memory, like the request.
+ */
+export function authenticate(registry: Registry, changes: RegistryChanges): MiddlewareHandler<ApiEnv> {
+  const principals = new ChangeMemo<Principal | undefined>(changes);
   return async (c, next) => {
     const header = c.req.header('authorization');
     if (header === undefined) {
@@ -28,7 +35,8 @@ export function authenticate(registry: Registry): MiddlewareHandler<ApiEnv> {
         'www-authenticate': `${CHALLENGE}, error="invalid_request"`,
       });
     }
-    const principal = authenticateToken(registry, match[1]);
+    const token = match[1];
+    const principal = principals.get(token, () => authenticateToken(registry, token));
     if (!principal) {
       throw new HttpProblem(401, 'auth-invalid-token', 'the bearer token is unknown or has been revoked', {
         'www-authenticate': `${CHALLENGE}, error="invalid_token"`,

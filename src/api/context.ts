@@ -4,9 +4,12 @@ import type { TokenRole } from '../registry/schema-auth.ts';
 import type { Settings } from '../service/settings.ts';
 import type { Registry } from '../registry/open.ts';
 import type { ApiEnv } from './auth.ts';
+import type { RegistryChanges } from './registry-changes.ts';
 
 export interface RouteContext {
   registry: Registry;
+  /** Tells when the registry may have changed, for memos of small answers (registry-changes.ts). */
+  changes: RegistryChanges;
   /** The settings in force (stored values over defaults, then the factory's overrides). */
   settings(): Settings;
   /** Re-read stored settings after a change through the API. */

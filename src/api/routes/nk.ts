@@ -14,6 +14,7 @@ import type { ApiEnv } from '../auth.ts';
 import { isImmutable, versionCaching } from '../caching.ts';
 import { negotiateNkFormat, parseNkQuery } from '../nk-query.ts';
 import { RepresentationCache, type CachedRepresentation } from '../representation-cache.ts';
+import { ChangeMemo } from '../registry-changes.ts';
 import type { RouteContext } from '../context.ts';
 import { markRetired, VERSION_PATH, versionRef } from './materials.ts';
 
@@ -22,6 +23,7 @@ const JSON_TYPE = 'application/json';
 
 export function registerNkRoute(app: Hono<ApiEnv>, ctx: RouteContext): void {
   const cache = new RepresentationCache();
+  const statuses = new ChangeMemo<ReturnType<typeof versionStatus>>(ctx.changes);
 
   function send(c: Context, answer: CachedRepresentation, format: string): Response {
     c.header('vary', 'Accept', { append: true });
@@ -35,7 +37,7 @@ export function registerNkRoute(app: Hono<ApiEnv>, ctx: RouteContext): void {
     const maxPoints = ctx.settings().max_nk_points;
     const url = c.req.url;
     const key = `${ref} ${format} ${maxPoints} ${url.slice(url.indexOf('?') + 1)}`;
-    const status = versionStatus(ctx.registry, c.req.param('slug'), Number(c.req.param('n')));
+    const status = statuses.get(ref, () => versionStatus(ctx.registry, c.req.param('slug'), Number(c.req.param('n'))));
     if (status && isImmutable(status)) {
       const hit = cache.get(key, status);
       if (hit) return send(c, hit, format);

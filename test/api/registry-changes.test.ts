@@ -1,0 +1,105 @@
+/**
+ * The server remembers token principals and version statuses until the registry changes
+ * (src/api/registry-changes.ts). These tests pin when a change shows: a write through the server's own
+ * connection at once, a commit by another connection from the next turn of the event loop, and a
+ * revocation or retirement by another process (the CLI) at the very next request.
+ */
+import { spawnSync } from 'node:child_process';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { openRegistry } from '../../src/registry/open.ts';
+import { createMaterial } from '../../src/service/materials.ts';
+import { importVersion } from '../../src/service/versions.ts';
+import { approve } from '../../src/service/lifecycle.ts';
+import { createToken, revokeToken } from '../../src/service/tokens.ts';
+import { ChangeMemo, RegistryChanges } from '../../src/api/registry-changes.ts';
+import { cauchyTable } from '../registry/helpers.ts';
+import { startHarness, type ApiHarness } from './harness.ts';
+
+const BIN = new URL('../../bin/nkledger.js', import.meta.url).pathname;
+const nextTurn = () => new Promise((resolve) => setImmediate(resolve));
+
+let h: ApiHarness;
+beforeAll(async () => {
+  h = await startHarness();
+  createMaterial(h.registry, { slug: 'glass', name: 'Glass' }, 'lab-editor');
+  importVersion(h.registry, { slug: 'glass', table: cauchyTable() }, 'lab-editor');
+  approve(h.registry, 'glass@1', 'lab-approver');
+});
+afterAll(() => h.stop());
+
+describe('RegistryChanges and ChangeMemo', () => {
+  it('keep a value while nothing changes and drop it at once after a write on the same connection', () => {
+    const changes = new RegistryChanges(h.registry);
+    const memo = new ChangeMemo<number>(changes);
+    let computed = 0;
+    const value = () => memo.get('key', () => ++computed);
+    expect([value(), value(), value()]).toEqual([1, 1, 1]);
+    createMaterial(h.registry, { slug: 'same-connection', name: 'Written in this turn' }, 'lab-editor');
+    expect(value()).toBe(2);
+    expect(value()).toBe(2);
+  });
+
+  it('see a commit by another connection from the next turn of the event loop', async () => {
+    const changes = new RegistryChanges(h.registry);
+    const memo = new ChangeMemo<number>(changes);
+    let computed = 0;
+    const value = () => memo.get('key', () => ++computed);
+    expect(value()).toBe(1);
+    await nextTurn();
+    expect(value()).toBe(1);
+    const other = openRegistry(h.registry.path);
+    try {
+      createMaterial(other, { slug: 'other-connection', name: 'Written elsewhere' }, 'lab-editor');
+    } finally {
+      other.close();
+    }
+    await nextTurn();
+    expect(value()).toBe(2);
+  });
+
+  it('hold at most maxEntries values, so client-chosen keys cannot grow it', () => {
+    const memo = new ChangeMemo<string>(new RegistryChanges(h.registry), 3);
+    for (let i = 0; i < 100; i++) memo.get(`token-${i}`, () => 'unknown');
+    let recomputed = false;
+    memo.get('token-0', () => ((recomputed = true), 'unknown'));
+    expect(recomputed).toBe(true);
+    expect(memo.size).toBeLessThanOrEqual(3);
+  });
+});
+
+describe('changes by another process show at the next request', () => {
+  const cli = (...args: string[]) =>
+    spawnSync(process.execPath, [BIN, ...args, '--db', h.registry.path, '--as', 'lab-admin'], { encoding: 'utf8' });
+
+  it('a token revoked with `nkledger token revoke` is refused right after', async () => {
+    const t = createToken(h.registry, { user: 'design-tool', role: 'reader', createdBy: 'setup' });
+    const path = '/api/v1/materials/glass/versions/1/nk?wavelengths_nm=550';
+    for (let i = 0; i < 3; i++) expect((await h.request(path, { token: t.token })).status).toBe(200);
+    const revoked = cli('token', 'revoke', t.id);
+    expect(revoked.status, revoked.stderr).toBe(0);
+    const res = await h.request(path, { token: t.token });
+    expect(res.status).toBe(401);
+    expect(res.headers.get('content-type')).toBe('application/problem+json');
+  });
+
+  it('a token revoked through the server\'s own registry handle is refused right after', async () => {
+    const t = createToken(h.registry, { user: 'design-tool-2', role: 'reader', createdBy: 'setup' });
+    expect((await h.request('/api/v1/materials', { token: t.token })).status).toBe(200);
+    revokeToken(h.registry, t.id, 'lab-admin');
+    expect((await h.request('/api/v1/materials', { token: t.token })).status).toBe(401);
+  });
+
+  it('a version retired with `nkledger retire` is answered as retired right after, from the cached n,k answer', async () => {
+    const path = '/api/v1/materials/glass/versions/1/nk?wavelengths_nm=450,650';
+    const before = await h.request(path);
+    expect(before.headers.get('deprecation')).toBeNull();
+    expect((await before.json()).status).toBe('approved');
+    const retired = cli('retire', 'glass@1', '--reason', 'reference wafer cracked');
+    expect(retired.status, retired.stderr).toBe(0);
+    const after = await h.request(path);
+    expect(after.headers.get('deprecation')).toMatch(/^@\d+$/);
+    const body = await after.json();
+    expect(body.status).toBe('retired');
+    expect(body.warnings.join(' ')).toMatch(/reference wafer cracked/);
+  });
+});
