@@ -1,10 +1,12 @@
 /**
  * The HTTP API as a hono app, built without listening so tests and the benchmark can drive it.
  * Middleware (scoped to /api/*): problem documents for every error, CORS from the allow-list
- * setting, a request-size limit, bearer-token authentication. Each route module registers its
+ * setting, a request-size limit, bearer-token authentication. `Vary: Origin` goes on the answers
+ * caches may store (caching.ts) and, from the CORS middleware, on every answer to a browser. Each route module registers its
  * routes with the role it needs; src/api/openapi.ts describes the same routes (a test keeps them equal).
  */
-import { Hono } from 'hono';
+import { Hono, type MiddlewareHandler } from 'hono';
+import { every } from 'hono/combine';
 import { cors } from 'hono/cors';
 import { bodyLimit } from 'hono/body-limit';
 import { HTTPException } from 'hono/http-exception';
@@ -64,22 +66,30 @@ export function createApp(options: AppOptions): Hono<ApiEnv> {
     exposeHeaders: ['ETag', 'Location', 'Deprecation'],
     maxAge: 600,
   });
-  app.use('/api/*', (c, next) => {
-    // Answers differ by Origin only through the CORS headers; say so to shared caches either way.
-    c.header('vary', 'Origin', { append: true });
-    // Only browsers send Origin; requests without it (design tools, scripts) skip the CORS work.
-    return c.req.header('origin') === undefined ? next() : corsMiddleware(c, next);
-  });
-  app.use('/api/*', (c, next) => {
-    if (c.req.method === 'GET' || c.req.method === 'HEAD') return next();
-    return bodyLimit({
+  const bodyLimited: MiddlewareHandler<ApiEnv> = (c, next) =>
+    bodyLimit({
       maxSize: settings.max_body_bytes,
       onError: () => {
         throw new HttpProblem(413, 'body-too-large', `request body exceeds ${settings.max_body_bytes} bytes (setting max_body_bytes)`);
       },
     })(c, next);
+  const authenticated = authenticate(registry, changes);
+  // The front door of every /api route: CORS first (a preflight is answered, refusals carry CORS
+  // headers), then the body limit, then the bearer token — each only where it applies. Only browsers
+  // send Origin, and only writes have a body, so a GET from a design tool or script (the n,k path)
+  // goes straight to authentication.
+  const frontDoor: Record<string, MiddlewareHandler<ApiEnv>> = {
+    read: authenticated,
+    browserRead: every(corsMiddleware, authenticated),
+    write: every(bodyLimited, authenticated),
+    browserWrite: every(corsMiddleware, bodyLimited, authenticated),
+  };
+  app.use('/api/*', (c, next) => {
+    const read = c.req.method === 'GET' || c.req.method === 'HEAD';
+    const browser = c.req.header('origin') !== undefined;
+    const door = browser ? (read ? frontDoor.browserRead : frontDoor.browserWrite) : read ? frontDoor.read : frontDoor.write;
+    return door(c, next);
   });
-  app.use('/api/*', authenticate(registry, changes));
 
   registerOpenApiRoute(app);
   registerMaterialRoutes(app, ctx);

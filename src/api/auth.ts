@@ -23,7 +23,7 @@ const CHALLENGE = 'Bearer realm="nkledger"';
  */
 export function authenticate(registry: Registry, changes: RegistryChanges): MiddlewareHandler<ApiEnv> {
   const principals = new ChangeMemo<Principal | undefined>(changes);
-  return async (c, next) => {
+  return (c, next) => {
     const header = c.req.header('authorization');
     if (header === undefined) {
       c.set('principal', null);
@@ -52,7 +52,7 @@ export function authenticate(registry: Registry, changes: RegistryChanges): Midd
  * Without a token, only reads pass, and only while `anonymousReads()` says so.
  */
 export function requireRole(role: TokenRole, anonymousReads: () => boolean): MiddlewareHandler<ApiEnv> {
-  return async (c, next) => {
+  return (c, next) => {
     const principal = c.get('principal');
     if (!principal) {
       if (role === 'reader' && anonymousReads()) return next();

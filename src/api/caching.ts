@@ -22,18 +22,37 @@ export function ifNoneMatchHits(header: string | undefined, etag: string): boole
 }
 
 /**
- * Set the caching headers for a representation of a version and answer 304 when the client
- * already holds it. `variant` distinguishes representations of the same content (e.g. "csv").
- * Returns the 304 response, or undefined when the handler should send the body.
+ * The response headers that say how a representation of a version may be cached, as a plain record
+ * (@hono/node-server writes a plain record straight to the socket; a Headers object costs more):
+ * - approved or retired: `ETag` = the content hash (plus `variant`, e.g. "csv", for one of several
+ *   formats of the same content), a year of `Cache-Control … immutable`, and `Vary: Origin`, because
+ *   a browser's answer carries CORS headers that an answer to a script does not (the CORS middleware
+ *   adds Origin again on answers to browsers; a repeated Vary member means the same);
+ * - retired also: `Deprecation` with the retirement time (RFC 9745, `@` + Unix seconds);
+ * - draft or withdrawn: `Cache-Control: no-store`.
  */
-export function versionCaching(c: Context, version: { status: VersionStatus; sha256: string }, variant?: string): Response | undefined {
-  if (!isImmutable(version.status)) {
-    c.header('cache-control', 'no-store');
-    return undefined;
+export function versionHeaders(
+  version: { status: VersionStatus; sha256: string; retiredAt: string | null },
+  variant?: string,
+): Record<string, string> {
+  if (!isImmutable(version.status)) return { 'cache-control': 'no-store' };
+  const headers: Record<string, string> = {
+    etag: `"${version.sha256}${variant ? `.${variant}` : ''}"`,
+    'cache-control': IMMUTABLE_CACHE_CONTROL,
+    vary: 'Origin',
+  };
+  if (version.status === 'retired' && version.retiredAt) {
+    headers.deprecation = `@${Math.floor(Date.parse(version.retiredAt) / 1000)}`;
   }
-  const etag = `"${version.sha256}${variant ? `.${variant}` : ''}"`;
-  c.header('etag', etag);
-  c.header('cache-control', IMMUTABLE_CACHE_CONTROL);
-  if (ifNoneMatchHits(c.req.header('if-none-match'), etag)) return c.body(null, 304);
-  return undefined;
+  return headers;
+}
+
+/**
+ * 304 Not Modified when the request's If-None-Match names the ETag in `headers`, carrying the same
+ * caching headers without the content type (RFC 9110 §15.4.5); undefined when the body must be sent.
+ */
+export function notModified(c: Context, headers: Record<string, string>): Response | undefined {
+  if (headers.etag === undefined || !ifNoneMatchHits(c.req.header('if-none-match'), headers.etag)) return undefined;
+  const { 'content-type': _contentType, ...validators } = headers;
+  return new Response(null, { status: 304, headers: validators });
 }

@@ -7,11 +7,10 @@
 import type { VersionStatus } from '../registry/types.ts';
 
 export interface CachedRepresentation {
-  sha256: string;
+  /** The version's status when the answer was rendered. */
   status: VersionStatus;
-  /** ISO 8601 time of retirement, for the Deprecation header; null unless retired. */
-  retiredAt: string | null;
-  contentType: string;
+  /** Every response header of the answer (content type, ETag, caching, Vary, Deprecation). */
+  headers: Record<string, string>;
   body: string;
 }
 

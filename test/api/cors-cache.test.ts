@@ -27,6 +27,25 @@ describe('CORS allow-list', () => {
     expect(res.headers.get('vary')).toMatch(/Origin/);
   });
 
+  it('gives n,k answers to an allowed origin its CORS headers, rendered afresh and from the cache alike', async () => {
+    createMaterial(h.registry, { slug: 'cors-glass', name: 'Glass' }, 'lab-editor');
+    importVersion(h.registry, { slug: 'cors-glass', table: cauchyTable() }, 'lab-editor');
+    approve(h.registry, 'cors-glass@1', 'lab-approver');
+    const path = '/api/v1/materials/cors-glass/versions/1/nk?wavelengths_nm=550';
+    for (const pass of ['rendered', 'cached']) {
+      const res = await h.request(path, { headers: { origin: 'https://design.example.org' } });
+      expect(res.status, pass).toBe(200);
+      expect(res.headers.get('access-control-allow-origin'), pass).toBe('https://design.example.org');
+      expect(res.headers.get('access-control-expose-headers'), pass).toMatch(/ETag/);
+      expect(res.headers.get('vary'), pass).toMatch(/Origin/);
+      expect(res.headers.get('vary'), pass).toMatch(/Accept/);
+      expect(res.headers.get('etag'), pass).toMatch(/^"[0-9a-f]{64}\.json"$/);
+    }
+    const script = await h.request(path);
+    expect(script.headers.get('access-control-allow-origin')).toBeNull();
+    expect(script.headers.get('vary')).toBe('Origin, Accept');
+  });
+
   it('gives no Access-Control-Allow-Origin to an origin not on the list', async () => {
     const res = await h.request('/api/v1/materials', { headers: { origin: 'https://evil.example.com' } });
     expect(res.status).toBe(200);
@@ -74,7 +93,7 @@ describe('cached n,k answers', () => {
 describe('RepresentationCache', () => {
   it('drops the least recently used entries beyond its bound and refuses entries rendered under another status', () => {
     const cache = new RepresentationCache(2);
-    const entry = (body: string) => ({ sha256: 'a', status: 'approved' as const, retiredAt: null, contentType: 'text/plain', body });
+    const entry = (body: string) => ({ status: 'approved' as const, headers: { 'content-type': 'text/plain' }, body });
     cache.set('one', entry('1'));
     cache.set('two', entry('2'));
     expect(cache.get('one', 'approved')?.body).toBe('1'); // "one" is now the most recent

@@ -90,8 +90,14 @@ describe('GET .../versions/{n}/nk', () => {
     expect(etag).toMatch(/^"[0-9a-f]{64}\.json"$/);
     expect(csvRes.headers.get('etag')).toMatch(/^"[0-9a-f]{64}\.csv"$/);
     expect(json.headers.get('cache-control')).toBe('public, max-age=31536000, immutable');
+    expect(json.headers.get('vary')).toBe('Origin, Accept');
     const again = await h.request(path, { headers: { 'if-none-match': etag! } });
     expect(again.status).toBe(304);
+    // RFC 9110 §15.4.5: a 304 carries the validators and caching headers a 200 would have had.
+    expect(again.headers.get('etag')).toBe(etag);
+    expect(again.headers.get('cache-control')).toBe('public, max-age=31536000, immutable');
+    expect(again.headers.get('vary')).toBe('Origin, Accept');
+    expect(await again.text()).toBe('');
   });
 
   it('marks a retired version deprecated and warns; a draft is no-store', async () => {

@@ -11,9 +11,8 @@ import { showVersion } from '../../service/versions.ts';
 import { approve, retire, withdraw } from '../../service/lifecycle.ts';
 import { checkSlug } from '../../registry/refs.ts';
 import { InputError } from '../../errors.ts';
-import type { VersionStatus } from '../../registry/types.ts';
 import { actorOf, type ApiEnv } from '../auth.ts';
-import { versionCaching } from '../caching.ts';
+import { notModified, versionHeaders } from '../caching.ts';
 import { parseInput, readJson } from '../validate.ts';
 import type { RouteContext } from '../context.ts';
 
@@ -32,11 +31,6 @@ export function versionRef(c: Context): string {
 export function versionUrl(ref: string): string {
   const [slug, n] = ref.split('@');
   return `/api/v1/materials/${slug}/versions/${n}`;
-}
-
-/** Headers every view of a version carries: a retired one is marked deprecated (RFC 9745) since its retirement. */
-export function markRetired(c: Context, status: VersionStatus, retiredAt: string | null): void {
-  if (status === 'retired' && retiredAt) c.header('deprecation', `@${Math.floor(Date.parse(retiredAt) / 1000)}`);
 }
 
 const searchQuery = z.strictObject({ q: z.string().max(200).optional() });
@@ -80,8 +74,8 @@ export function registerMaterialRoutes(app: Hono<ApiEnv>, ctx: RouteContext): vo
 
   app.get(VERSION_PATH, reader, (c) => {
     const version = showVersion(ctx.registry, versionRef(c));
-    markRetired(c, version.status, version.retired_at);
-    return versionCaching(c, version) ?? c.json(version);
+    const headers = versionHeaders({ status: version.status, sha256: version.sha256, retiredAt: version.retired_at });
+    return notModified(c, headers) ?? c.json(version, 200, headers);
   });
 
   app.post(`${VERSION_PATH}/approve`, approver, async (c) => {
