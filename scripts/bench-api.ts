@@ -3,16 +3,19 @@
  * hono route that returns a constant from the same server process (the ceiling of hono +
  * @hono/node-server on this machine). Goal: the n,k route reaches at least half of that ceiling.
  *
- *   npx tsx scripts/bench-api.ts [--duration 10] [--connections 32] [--rounds 3]
+ *   npx tsx scripts/bench-api.ts [--duration 10] [--connections 32] [--rounds 5]
  *
  * Each case gets `duration` seconds in total, split over `rounds` interleaved rounds (constant, n,k,
- * n,k with token, constant, ...), and the median round is reported: on a shared machine the load of
- * other processes then hits every case alike instead of whichever ran during a busy spell.
+ * n,k with token, constant, ...); medians over the rounds are reported, and each ratio is taken
+ * within a round: on a shared machine the load of other processes then hits both sides of a ratio
+ * alike instead of whichever case ran during a busy spell.
  * The server runs in a child process (this script with --serve), so autocannon's own CPU use is not
- * charged to the server. The registry is a temp file holding the Marrowick PECVD SiNx recipe A table
+ * charged to the server. The child reports its own CPU time (process.cpuUsage) around every round, so
+ * the table also gives the server's CPU per request: on two cores shared by client and server,
+ * req/s moves with whatever else runs, while CPU per request is the steadier figure. The registry is a temp file holding the Marrowick PECVD SiNx recipe A table
  * imported through the real pipeline, fitted with Tauc-Lorentz, KK-checked and approved.
  */
-import { spawn } from 'node:child_process';
+import { spawn, type ChildProcess } from 'node:child_process';
 import { mkdtempSync, readFileSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
@@ -27,7 +30,7 @@ import { createToken } from '../src/service/tokens.ts';
 
 /** The part of autocannon's result used here (autocannon ships no type declarations). */
 interface LoadResult {
-  requests: { average: number };
+  requests: { average: number; total: number };
   latency: { p50: number; p99: number };
   errors: number;
   non2xx: number;
@@ -56,6 +59,7 @@ async function serveChild(dbPath: string): Promise<void> {
     extend: (app) => app.get(CONSTANT_PATH, (c) => c.json({ ok: true })),
   });
   process.stdout.write(`${server.url}\n`);
+  process.on('message', () => process.send?.(process.cpuUsage()));
   process.on('SIGTERM', () => server.close().then(() => (registry.close(), process.exit(0))));
 }
 
@@ -78,31 +82,43 @@ interface Row {
   p50: number;
   p99: number;
   errors: number;
+  /** Server CPU time (user + system) per request, in µs. */
+  cpuUs: number;
 }
 
-async function load(name: string, url: string, headers: Record<string, string>, duration: number, connections: number): Promise<Row> {
+/** The server child's CPU time so far, in µs (user + system), asked over the IPC channel. */
+function serverCpuUs(child: ChildProcess): Promise<number> {
+  return new Promise((resolve) => {
+    child.once('message', (usage) => resolve((usage as NodeJS.CpuUsage).user + (usage as NodeJS.CpuUsage).system));
+    child.send('cpu');
+  });
+}
+
+async function load(child: ChildProcess, name: string, url: string, headers: Record<string, string>, duration: number, connections: number): Promise<Row> {
+  const before = await serverCpuUs(child);
   const result = await autocannon({ url, headers, duration, connections, pipelining: 1 });
+  const cpuUs = ((await serverCpuUs(child)) - before) / Math.max(1, result.requests.total);
   const errors = result.errors + result.non2xx + result.timeouts;
-  return { name, rps: result.requests.average, p50: result.latency.p50, p99: result.latency.p99, errors };
+  return { name, rps: result.requests.average, p50: result.latency.p50, p99: result.latency.p99, errors, cpuUs };
 }
 
 async function main(): Promise<void> {
   const duration = arg('duration', 10);
   const connections = arg('connections', 32);
-  const rounds = arg('rounds', 3);
+  const rounds = arg('rounds', 5);
   const dir = mkdtempSync(join(tmpdir(), 'nkledger-bench-'));
   const dbPath = join(dir, 'bench.db');
   const token = prepareRegistry(dbPath);
-  const child = spawn(process.execPath, ['--import', 'tsx', SCRIPT, '--serve', dbPath], { stdio: ['ignore', 'pipe', 'inherit'] });
+  const child = spawn(process.execPath, ['--import', 'tsx', SCRIPT, '--serve', dbPath], { stdio: ['ignore', 'pipe', 'inherit', 'ipc'] });
   try {
     const url = await new Promise<string>((resolve, reject) => {
-      child.stdout.once('data', (d: Buffer) => resolve(d.toString().trim()));
+      child.stdout?.once('data', (d: Buffer) => resolve(d.toString().trim()));
       child.once('exit', (code) => reject(new Error(`server exited with ${code}`)));
     });
     const check = await fetch(url + NK_PATH);
     if (check.status !== 200) throw new Error(`n,k route answered ${check.status}: ${await check.text()}`);
     // A short warm-up so JIT compilation is not measured.
-    await load('warm-up', url + NK_PATH, {}, 2, connections);
+    await load(child, 'warm-up', url + NK_PATH, {}, 2, connections);
     const cases: [string, string, Record<string, string>][] = [
       [`constant (GET ${CONSTANT_PATH})`, url + CONSTANT_PATH, {}],
       ['n,k, 3 wavelengths, anonymous', url + NK_PATH, {}],
@@ -110,16 +126,24 @@ async function main(): Promise<void> {
     ];
     const runs: Row[][] = cases.map(() => []);
     for (let round = 0; round < rounds; round++) {
-      for (const [i, [name, target, headers]] of cases.entries()) runs[i].push(await load(name, target, headers, duration / rounds, connections));
+      for (const [i, [name, target, headers]] of cases.entries()) runs[i].push(await load(child, name, target, headers, duration / rounds, connections));
     }
-    const median = (rs: Row[]) => [...rs].sort((a, b) => a.rps - b.rps)[Math.floor(rs.length / 2)];
-    const rows = runs.map(median);
-    const ceiling = rows[0].rps;
-    console.log(`\n${connections} connections, ${duration} s per case in ${rounds} interleaved rounds (median round shown), loopback, server in a child process (node ${process.version})\n`);
-    console.log('| case | req/s | p50 (ms) | p99 (ms) | errors | ratio to constant |');
-    console.log('| --- | ---: | ---: | ---: | ---: | ---: |');
-    for (const r of rows) {
-      console.log(`| ${r.name} | ${Math.round(r.rps)} | ${r.p50} | ${r.p99} | ${r.errors} | ${(r.rps / ceiling).toFixed(2)} |`);
+    const median = (xs: number[]) => [...xs].sort((a, b) => a - b)[Math.floor(xs.length / 2)];
+    const constant = runs[0];
+    // Ratios are taken round by round (each case against the constant round just before it), so a
+    // busy spell on the machine that slows one round slows both sides of its ratio.
+    const rpsRatios = runs.map((rs) => rs.map((r, round) => r.rps / constant[round].rps));
+    const cpuRatios = runs.map((rs) => rs.map((r, round) => constant[round].cpuUs / r.cpuUs));
+    const range = (xs: number[]) => `${median(xs).toFixed(2)} (${Math.min(...xs).toFixed(2)}–${Math.max(...xs).toFixed(2)})`;
+    console.log(`\n${connections} connections, ${duration} s per case in ${rounds} interleaved rounds, loopback, server in a child process (node ${process.version})`);
+    console.log('Medians over the rounds; ratios are per round, median (lowest–highest).\n');
+    console.log('| case | req/s | p50 (ms) | p99 (ms) | errors | req/s ratio to constant | server CPU µs/request | CPU ratio (constant ÷ case) |');
+    console.log('| --- | ---: | ---: | ---: | ---: | ---: | ---: | ---: |');
+    for (const [i, rs] of runs.entries()) {
+      const errors = rs.reduce((sum, r) => sum + r.errors, 0);
+      const cells = [rs[0].name, Math.round(median(rs.map((r) => r.rps))), median(rs.map((r) => r.p50)), median(rs.map((r) => r.p99)), errors];
+      cells.push(range(rpsRatios[i]), median(rs.map((r) => r.cpuUs)).toFixed(1), range(cpuRatios[i]));
+      console.log(`| ${cells.join(' | ')} |`);
     }
   } finally {
     child.kill('SIGTERM');
