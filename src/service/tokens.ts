@@ -113,7 +113,8 @@ const LOOKUP_SQL = 'SELECT id AS tokenId, user, role FROM api_tokens WHERE token
 
 /**
  * Every API request authenticates, so the lookup is one plain prepared statement per registry
- * (drizzle's prepared query with result mapping cost about twice as much on this path).
+ * (drizzle's prepared query with result mapping cost about twice as much on this path); the server
+ * also remembers the answer until the registry changes (src/api/auth.ts).
  */
 const lookups = new WeakMap<Registry, Statement<[string], Principal>>();
 

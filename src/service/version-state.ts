@@ -6,8 +6,9 @@
  * needs no re-check: content and numbers are immutable (drizzle/0001_immutability.sql).
  * Full resolution with messages stays in resolveRow (versions.ts).
  *
- * Plain SQL on the better-sqlite3 handle rather than a drizzle prepared query: this runs on every
- * cached n,k request and drizzle's result mapping doubled its cost (9 µs → 22 µs measured).
+ * Plain SQL on the better-sqlite3 handle rather than a drizzle prepared query: the API asks it for
+ * cached n,k answers (remembered until the registry changes, src/api/registry-changes.ts) and
+ * drizzle's result mapping doubled its cost (9 µs → 22 µs measured).
  */
 import type { Statement } from 'better-sqlite3';
 import type { Registry } from '../registry/open.ts';
