@@ -7,11 +7,9 @@
 import { rmSync } from 'node:fs';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { createMaterial } from '../../src/service/materials.ts';
-import { importVersion } from '../../src/service/versions.ts';
-import { approve, retire } from '../../src/service/lifecycle.ts';
+import { retire } from '../../src/service/lifecycle.ts';
 import { RepresentationCache } from '../../src/api/representation-cache.ts';
-import { csvTable, startHarness, type ApiHarness } from './harness.ts';
-import { cauchyTable } from '../registry/helpers.ts';
+import { approvedGlass, csvTable, startHarness, type ApiHarness } from './harness.ts';
 
 describe('CORS allow-list', () => {
   let h: ApiHarness;
@@ -28,9 +26,7 @@ describe('CORS allow-list', () => {
   });
 
   it('gives n,k answers to an allowed origin its CORS headers, rendered afresh and from the cache alike', async () => {
-    createMaterial(h.registry, { slug: 'cors-glass', name: 'Glass' }, 'lab-editor');
-    importVersion(h.registry, { slug: 'cors-glass', table: cauchyTable() }, 'lab-editor');
-    approve(h.registry, 'cors-glass@1', 'lab-approver');
+    approvedGlass(h, 'cors-glass');
     const path = '/api/v1/materials/cors-glass/versions/1/nk?wavelengths_nm=550';
     for (const pass of ['rendered', 'cached']) {
       const res = await h.request(path, { headers: { origin: 'https://design.example.org' } });
@@ -68,9 +64,7 @@ describe('cached n,k answers', () => {
   let h: ApiHarness;
   beforeAll(async () => {
     h = await startHarness();
-    createMaterial(h.registry, { slug: 'glass', name: 'Glass' }, 'lab-editor');
-    importVersion(h.registry, { slug: 'glass', table: cauchyTable() }, 'lab-editor');
-    approve(h.registry, 'glass@1', 'lab-approver');
+    approvedGlass(h);
   });
   afterAll(() => h.stop());
 

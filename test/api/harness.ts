@@ -9,6 +9,10 @@ import { openRegistry, type Registry } from '../../src/registry/open.ts';
 import { startServer, type RunningServer, type ServerOptions } from '../../src/api/server.ts';
 import { createToken } from '../../src/service/tokens.ts';
 import { TOKEN_ROLES, type TokenRole } from '../../src/registry/schema-auth.ts';
+import { createMaterial } from '../../src/service/materials.ts';
+import { importVersion } from '../../src/service/versions.ts';
+import { approve } from '../../src/service/lifecycle.ts';
+import { cauchyTable } from '../registry/helpers.ts';
 
 export interface ApiHarness {
   /** Temp directory holding the database (removed by stop). */
@@ -54,6 +58,14 @@ export async function startHarness(options: Partial<ServerOptions> = {}): Promis
       rmSync(dir, { recursive: true, force: true });
     },
   };
+}
+
+/** A material `slug` whose version 1 is an approved table-only Cauchy glass (cauchyTable()); returns "slug@1". */
+export function approvedGlass(h: ApiHarness, slug = 'glass'): string {
+  createMaterial(h.registry, { slug, name: 'Glass' }, 'lab-editor');
+  importVersion(h.registry, { slug, table: cauchyTable() }, 'lab-editor');
+  approve(h.registry, `${slug}@1`, 'lab-approver');
+  return `${slug}@1`;
 }
 
 /** Counts of every table a write could touch. */

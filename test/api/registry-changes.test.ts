@@ -8,12 +8,9 @@ import { spawnSync } from 'node:child_process';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { openRegistry } from '../../src/registry/open.ts';
 import { createMaterial } from '../../src/service/materials.ts';
-import { importVersion } from '../../src/service/versions.ts';
-import { approve } from '../../src/service/lifecycle.ts';
 import { createToken, revokeToken } from '../../src/service/tokens.ts';
 import { ChangeMemo, RegistryChanges } from '../../src/api/registry-changes.ts';
-import { cauchyTable } from '../registry/helpers.ts';
-import { startHarness, type ApiHarness } from './harness.ts';
+import { approvedGlass, startHarness, type ApiHarness } from './harness.ts';
 
 const BIN = new URL('../../bin/nkledger.js', import.meta.url).pathname;
 const nextTurn = () => new Promise((resolve) => setImmediate(resolve));
@@ -21,9 +18,7 @@ const nextTurn = () => new Promise((resolve) => setImmediate(resolve));
 let h: ApiHarness;
 beforeAll(async () => {
   h = await startHarness();
-  createMaterial(h.registry, { slug: 'glass', name: 'Glass' }, 'lab-editor');
-  importVersion(h.registry, { slug: 'glass', table: cauchyTable() }, 'lab-editor');
-  approve(h.registry, 'glass@1', 'lab-approver');
+  approvedGlass(h);
 });
 afterAll(() => h.stop());
 
