@@ -2,7 +2,8 @@
  * The HTTP API as a hono app, built without listening so tests and the benchmark can drive it.
  * Middleware (scoped to /api/*): problem documents for every error, CORS from the allow-list
  * setting, a request-size limit, bearer-token authentication. `Vary: Origin` goes on the answers
- * caches may store (caching.ts) and, from the CORS middleware, on every answer to a browser. Each route module registers its
+ * caches may store (caching.ts, the OpenAPI document) and, from the CORS middleware, on answers to
+ * browsers that reach a route (refusals by the front door are problem documents, never cached). Each route module registers its
  * routes with the role it needs; src/api/openapi.ts describes the same routes (a test keeps them equal).
  */
 import { Hono, type MiddlewareHandler } from 'hono';

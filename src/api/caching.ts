@@ -7,25 +7,36 @@
 import type { Context } from 'hono';
 import type { VersionStatus } from '../registry/types.ts';
 
+/**
+ * A year, immutable. `public` for answers to requests without a token; `private` for answers to
+ * requests with one: RFC 9111 §3.5 lets a shared cache store and reuse an answer to an
+ * Authorization-bearing request when it says `public`, which would hand token-gated data to anyone
+ * behind the same proxy. `private` keeps it in the client's own cache.
+ */
 export const IMMUTABLE_CACHE_CONTROL = 'public, max-age=31536000, immutable';
+export const IMMUTABLE_PRIVATE_CACHE_CONTROL = 'private, max-age=31536000, immutable';
 
 export function isImmutable(status: VersionStatus): boolean {
   return status === 'approved' || status === 'retired';
 }
 
-/** True when an If-None-Match header value matches `etag` (weak comparison, RFC 9110 §13.1.2). */
-export function ifNoneMatchHits(header: string | undefined, etag: string): boolean {
+/**
+ * True when an If-None-Match header value matches `etag` (weak comparison, RFC 9110 §13.1.2); `*`
+ * matches any current representation, also one without an ETag.
+ */
+export function ifNoneMatchHits(header: string | undefined, etag: string | undefined): boolean {
   if (!header) return false;
   if (header.trim() === '*') return true;
   const opaque = (tag: string) => tag.trim().replace(/^W\//, '');
-  return header.split(',').some((tag) => opaque(tag) === opaque(etag));
+  return etag !== undefined && header.split(',').some((tag) => opaque(tag) === opaque(etag));
 }
 
 /**
  * The response headers that say how a representation of a version may be cached, as a plain record
  * (@hono/node-server writes a plain record straight to the socket; a Headers object costs more):
  * - approved or retired: `ETag` = the content hash (plus `variant`, e.g. "csv", for one of several
- *   formats of the same content), a year of `Cache-Control … immutable`, and `Vary: Origin`, because
+ *   formats of the same content), a year of `Cache-Control … immutable` (`private` when the request
+ *   carried a token, see above), and `Vary: Origin`, because
  *   a browser's answer carries CORS headers that an answer to a script does not (the CORS middleware
  *   adds Origin again on answers to browsers; a repeated Vary member means the same);
  * - retired also: `Deprecation` with the retirement time (RFC 9745, `@` + Unix seconds);
@@ -33,12 +44,13 @@ export function ifNoneMatchHits(header: string | undefined, etag: string): boole
  */
 export function versionHeaders(
   version: { status: VersionStatus; sha256: string; retiredAt: string | null },
-  variant?: string,
+  request: { withToken: boolean; variant?: string },
 ): Record<string, string> {
   if (!isImmutable(version.status)) return { 'cache-control': 'no-store' };
+  const { withToken, variant } = request;
   const headers: Record<string, string> = {
     etag: `"${version.sha256}${variant ? `.${variant}` : ''}"`,
-    'cache-control': IMMUTABLE_CACHE_CONTROL,
+    'cache-control': withToken ? IMMUTABLE_PRIVATE_CACHE_CONTROL : IMMUTABLE_CACHE_CONTROL,
     vary: 'Origin',
   };
   if (version.status === 'retired' && version.retiredAt) {
@@ -48,11 +60,12 @@ export function versionHeaders(
 }
 
 /**
- * 304 Not Modified when the request's If-None-Match names the ETag in `headers`, carrying the same
- * caching headers without the content type (RFC 9110 §15.4.5); undefined when the body must be sent.
+ * 304 Not Modified when the request's If-None-Match names the ETag in `headers` (or is `*`), carrying
+ * the same caching headers without the content type (RFC 9110 §15.4.5); undefined when the body
+ * must be sent.
  */
 export function notModified(c: Context, headers: Record<string, string>): Response | undefined {
-  if (headers.etag === undefined || !ifNoneMatchHits(c.req.header('if-none-match'), headers.etag)) return undefined;
+  if (!ifNoneMatchHits(c.req.header('if-none-match'), headers.etag)) return undefined;
   const { 'content-type': _contentType, ...validators } = headers;
   return new Response(null, { status: 304, headers: validators });
 }

@@ -114,7 +114,7 @@ export const OPENAPI_DOCUMENT = {
       get: {
         summary: 'One version: content, provenance and reports',
         description:
-          'Approved and retired versions: ETag = "<sha256>", Cache-Control: public, max-age=31536000, immutable; If-None-Match gives 304. ' +
+          'Approved and retired versions: ETag = "<sha256>", Cache-Control: public, max-age=31536000, immutable (private instead of public when the request carries a token); If-None-Match gives 304. ' +
           'Drafts: Cache-Control: no-store. Retired versions carry a Deprecation header (RFC 9745) and a `warnings` entry.',
         ...role('reader'),
         parameters: [...versionParams, { name: 'If-None-Match', in: 'header', required: false, schema: { type: 'string' } }],

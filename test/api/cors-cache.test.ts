@@ -68,13 +68,13 @@ describe('cached n,k answers', () => {
   });
   afterAll(() => h.stop());
 
-  it('shows a retirement made after the answer was cached (another process could have made it)', async () => {
+  it('shows a retirement made after the answer was cached, through the server\'s own registry handle (other processes: registry-changes.test.ts)', async () => {
     const path = '/api/v1/materials/glass/versions/1/nk?wavelengths_nm=500';
     const first = await (await h.request(path)).json();
     const second = await (await h.request(path)).json();
     expect(second).toEqual(first);
     expect(first.warnings).toEqual([]);
-    retire(h.registry, 'glass@1', 'reference wafer broken', 'lab-approver'); // directly in the registry, not through the API
+    retire(h.registry, 'glass@1', 'reference wafer broken', 'lab-approver'); // in the registry, not through the API
     const after = await h.request(path);
     expect(after.headers.get('deprecation')).toMatch(/^@\d+$/);
     const body = await after.json();

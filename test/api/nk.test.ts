@@ -98,6 +98,13 @@ describe('GET .../versions/{n}/nk', () => {
     expect(again.headers.get('cache-control')).toBe('public, max-age=31536000, immutable');
     expect(again.headers.get('vary')).toBe('Origin, Accept');
     expect(await again.text()).toBe('');
+    // With a token the same answer is private (RFC 9111 §3.5), rendered and cached apart from the anonymous one.
+    for (let i = 0; i < 2; i++) {
+      const withToken = await h.request(path, { as: 'reader' });
+      expect(withToken.headers.get('cache-control')).toBe('private, max-age=31536000, immutable');
+      expect(withToken.headers.get('etag')).toBe(etag);
+    }
+    expect((await h.request(path)).headers.get('cache-control')).toBe('public, max-age=31536000, immutable');
   });
 
   it('marks a retired version deprecated and warns; a draft is no-store', async () => {

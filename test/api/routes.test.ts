@@ -97,6 +97,15 @@ describe('HTTP API routes', () => {
       expect(other.status).toBe(200);
     });
 
+    it('an answer to a request with a token is private: RFC 9111 §3.5 would let a shared cache reuse a "public" one without the token', async () => {
+      const res = await h.request('/api/v1/materials/sin-a/versions/2', { as: 'reader' });
+      expect(res.status).toBe(200);
+      expect(res.headers.get('cache-control')).toBe('private, max-age=31536000, immutable');
+      const anonymous = await h.request('/api/v1/materials/sin-a/versions/2');
+      expect(anonymous.headers.get('cache-control')).toBe(IMMUTABLE);
+      expect(res.headers.get('etag')).toBe(anonymous.headers.get('etag'));
+    });
+
     it('a retired version is cacheable too, and carries a Deprecation header (RFC 9745) and a warning', async () => {
       const res = await h.request('/api/v1/materials/sin-a/versions/1');
       expect(res.status).toBe(200);
@@ -116,6 +125,10 @@ describe('HTTP API routes', () => {
       const body = await res.json();
       const conditional = await h.request('/api/v1/materials/sin-a/versions/3', { headers: { 'if-none-match': `"${body.sha256}"` } });
       expect(conditional.status).toBe(200);
+      // RFC 9110 §13.1.2: "*" matches any current representation, with or without an ETag.
+      const any = await h.request('/api/v1/materials/sin-a/versions/3', { headers: { 'if-none-match': '*' } });
+      expect(any.status).toBe(304);
+      expect(any.headers.get('cache-control')).toBe('no-store');
     });
   });
 

@@ -74,7 +74,10 @@ export function registerMaterialRoutes(app: Hono<ApiEnv>, ctx: RouteContext): vo
 
   app.get(VERSION_PATH, reader, (c) => {
     const version = showVersion(ctx.registry, versionRef(c));
-    const headers = versionHeaders({ status: version.status, sha256: version.sha256, retiredAt: version.retired_at });
+    const headers = versionHeaders(
+      { status: version.status, sha256: version.sha256, retiredAt: version.retired_at },
+      { withToken: c.get('principal') !== null },
+    );
     return notModified(c, headers) ?? c.json(version, 200, headers);
   });
 

@@ -30,14 +30,15 @@ export function registerNkRoute(app: Hono<ApiEnv>, ctx: RouteContext): void {
     const format = negotiateNkFormat(c.req.header('accept'));
     const maxPoints = ctx.settings().max_nk_points;
     const url = c.req.url;
-    const key = `${ref} ${format} ${maxPoints} ${url.slice(url.indexOf('?') + 1)}`;
+    const withToken = c.get('principal') !== null;
+    const key = `${ref} ${format} ${withToken ? 'private' : 'public'} ${maxPoints} ${url.slice(url.indexOf('?') + 1)}`;
     const status = statuses.get(ref, () => versionStatus(ctx.registry, c.req.param('slug'), Number(c.req.param('n'))));
     let answer = status && isImmutable(status) ? cache.get(key, status) : undefined;
     if (!answer) {
       const request = parseNkQuery(c.req.query(), maxPoints);
       const result = evaluateVersion(ctx.registry, ref, request.wavelengthNm, { interpolation: request.interpolation });
       const retiredAt = result.status === 'retired' ? versionSummary(ctx.registry, ref).retired_at : null;
-      const caching = versionHeaders({ status: result.status, sha256: result.sha256, retiredAt }, format);
+      const caching = versionHeaders({ status: result.status, sha256: result.sha256, retiredAt }, { withToken, variant: format });
       answer = {
         status: result.status,
         headers: { ...caching, 'content-type': CONTENT_TYPES[format], vary: caching.vary ? `${caching.vary}, Accept` : 'Accept' },

@@ -4,5 +4,7 @@ import type { ApiEnv } from '../auth.ts';
 import { OPENAPI_DOCUMENT } from '../openapi.ts';
 
 export function registerOpenApiRoute(app: Hono<ApiEnv>): void {
-  app.get('/api/v1/openapi.json', (c) => c.json(OPENAPI_DOCUMENT));
+  // No token and no Cache-Control, so a shared cache may keep it heuristically: say it varies by Origin
+  // (an answer to a browser carries CORS headers, one to a script does not).
+  app.get('/api/v1/openapi.json', (c) => c.json(OPENAPI_DOCUMENT, 200, { vary: 'Origin' }));
 }
