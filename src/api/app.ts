@@ -3,8 +3,9 @@
  * Middleware (scoped to /api/*): problem documents for every error, CORS from the allow-list
  * setting, a request-size limit, bearer-token authentication. `Vary: Origin` goes on the answers
  * caches may store (caching.ts, the OpenAPI document) and, from the CORS middleware, on answers to
- * browsers that reach a route (refusals by the front door are problem documents, never cached). Each route module registers its
- * routes with the role it needs; src/api/openapi.ts describes the same routes (a test keeps them equal).
+ * browsers that reach a route (refusals by the front door are problem documents, never cached).
+ * Each route module registers its routes with the role it needs; src/api/openapi.ts describes the
+ * same routes (a test keeps them equal).
  */
 import { Hono, type MiddlewareHandler } from 'hono';
 import { every } from 'hono/combine';

@@ -36,9 +36,9 @@ export function ifNoneMatchHits(header: string | undefined, etag: string | undef
  * (@hono/node-server writes a plain record straight to the socket; a Headers object costs more):
  * - approved or retired: `ETag` = the content hash (plus `variant`, e.g. "csv", for one of several
  *   formats of the same content), a year of `Cache-Control … immutable` (`private` when the request
- *   carried a token, see above), and `Vary: Origin`, because
- *   a browser's answer carries CORS headers that an answer to a script does not (the CORS middleware
- *   adds Origin again on answers to browsers; a repeated Vary member means the same);
+ *   carried a token, see above), and `Vary: Origin`, because a browser's answer carries CORS headers
+ *   that an answer to a script does not (the CORS middleware adds Origin again on answers to
+ *   browsers; a repeated Vary member means the same);
  * - retired also: `Deprecation` with the retirement time (RFC 9745, `@` + Unix seconds);
  * - draft or withdrawn: `Cache-Control: no-store`.
  */
