@@ -12,8 +12,9 @@
  * The server runs in a child process (this script with --serve), so autocannon's own CPU use is not
  * charged to the server. The child reports its own CPU time (process.cpuUsage) around every round, so
  * the table also gives the server's CPU per request: on two cores shared by client and server,
- * req/s moves with whatever else runs, while CPU per request is the steadier figure. The registry is a temp file holding the Marrowick PECVD SiNx recipe A table
- * imported through the real pipeline, fitted with Tauc-Lorentz, KK-checked and approved.
+ * req/s moves with whatever else runs, while CPU per request is the steadier figure.
+ * The registry is a temp file holding the Marrowick PECVD SiNx recipe A table imported through the
+ * real pipeline, fitted with Tauc-Lorentz, KK-checked and approved.
  */
 import { spawn, type ChildProcess } from 'node:child_process';
 import { mkdtempSync, readFileSync, rmSync } from 'node:fs';

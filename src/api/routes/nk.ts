@@ -14,7 +14,7 @@ import { exportTable } from '../../io/export.ts';
 import type { ApiEnv } from '../auth.ts';
 import { isImmutable, notModified, versionHeaders } from '../caching.ts';
 import { negotiateNkFormat, parseNkQuery } from '../nk-query.ts';
-import { RepresentationCache, type CachedRepresentation } from '../representation-cache.ts';
+import { RepresentationCache } from '../representation-cache.ts';
 import { ChangeMemo } from '../registry-changes.ts';
 import type { RouteContext } from '../context.ts';
 import { VERSION_PATH, versionRef } from './materials.ts';
