@@ -2,6 +2,7 @@
 import { userInfo } from 'node:os';
 import type { Command } from 'commander';
 import { openRegistry, type Registry } from '../registry/open.ts';
+import { cliIo } from './io.ts';
 
 export function addDbOption(cmd: Command, what = 'registry database'): Command {
   return cmd.option('--db <path>', `${what} (default: $NKLEDGER_DB, else ./nkledger.db)`);
@@ -13,7 +14,7 @@ export function addAsOption(cmd: Command): Command {
 
 /** The acting user: --as, else NKLEDGER_USER, else the operating-system login name. */
 export function actorFrom(opts: { as?: string }): string {
-  return opts.as ?? process.env.NKLEDGER_USER ?? userInfo().username;
+  return opts.as ?? cliIo().env.NKLEDGER_USER ?? userInfo().username;
 }
 
 /** Open the registry named by --db, run `use`, and close it whatever happens. */

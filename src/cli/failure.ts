@@ -1,15 +1,17 @@
 /** Turning a thrown value into a message and an exit code, so no stack trace reaches a user. */
 import { InputError } from '../errors.ts';
+import { cliIo, setExitCode } from './io.ts';
 
 /** Print the failure to stderr and return the exit code: 2 for bad input, 1 for an internal fault. */
 export function reportFailure(err: unknown): number {
+  const { stderr, env } = cliIo();
   if (err instanceof InputError) {
-    process.stderr.write(`nkledger: ${err.describe()}\n`);
+    stderr.write(`nkledger: ${err.describe()}\n`);
     return 2;
   }
   const message = err instanceof Error ? err.message : String(err);
-  process.stderr.write(`nkledger: internal error: ${message}\n`);
-  if (process.env.NKLEDGER_DEBUG && err instanceof Error && err.stack) process.stderr.write(`${err.stack}\n`);
+  stderr.write(`nkledger: internal error: ${message}\n`);
+  if (env.NKLEDGER_DEBUG && err instanceof Error && err.stack) stderr.write(`${err.stack}\n`);
   return 1;
 }
 
@@ -19,7 +21,7 @@ export function guarded<A extends unknown[]>(action: (...args: A) => Promise<voi
     try {
       await action(...args);
     } catch (err) {
-      process.exitCode = reportFailure(err);
+      setExitCode(reportFailure(err));
     }
   };
 }

@@ -1,15 +1,16 @@
-/** Rendering helpers shared by CLI commands. */
+/** Rendering helpers shared by CLI commands; they write through the current run's io (io.ts). */
+import { cliIo } from './io.ts';
 
 export function printJson(value: unknown): void {
-  process.stdout.write(`${JSON.stringify(value, null, 2)}\n`);
+  cliIo().stdout.write(`${JSON.stringify(value, null, 2)}\n`);
 }
 
 export function printLines(lines: string[]): void {
-  process.stdout.write(`${lines.join('\n')}\n`);
+  cliIo().stdout.write(`${lines.join('\n')}\n`);
 }
 
 export function printWarnings(warnings: string[]): void {
-  for (const w of warnings) process.stderr.write(`warning: ${w}\n`);
+  for (const w of warnings) cliIo().stderr.write(`warning: ${w}\n`);
 }
 
 /** A plain-text table with aligned columns (first column left-aligned, the rest right-aligned). */

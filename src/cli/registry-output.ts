@@ -1,11 +1,12 @@
 /** Text rendering shared by the registry commands (show, list, history, import, approve, …). */
 import type { VersionRecord } from '../registry/types.ts';
+import { cliIo } from './io.ts';
 import { printLines } from './output.ts';
 
 /** Notices (e.g. "a bare slug is not a pin") and warnings (retired, draft) go to stderr, so stdout stays data. */
 export function printResolution(resolution: { notices?: string[]; warnings?: string[] }): void {
-  for (const n of resolution.notices ?? []) process.stderr.write(`note: ${n}\n`);
-  for (const w of resolution.warnings ?? []) process.stderr.write(`warning: ${w}\n`);
+  for (const n of resolution.notices ?? []) cliIo().stderr.write(`note: ${n}\n`);
+  for (const w of resolution.warnings ?? []) cliIo().stderr.write(`warning: ${w}\n`);
 }
 
 /** "2024-05-01 09:30 UTC" from an ISO timestamp. */

@@ -12,6 +12,9 @@ import { parseRef } from '../registry/refs.ts';
 
 export const STDIN_SOURCE = '-';
 
+/** What "-" reads: the process's stdin, or another stream (the CLI run in-process). */
+export type StdinStream = AsyncIterable<Buffer | string>;
+
 /**
  * True when SOURCE names a registry version (`slug@N`, `slug@sha256:PREFIX`, a bare slug) rather than a file:
  * it is not "-", no file of that name exists, and it parses as a reference.
@@ -27,16 +30,16 @@ export function isRegistrySource(source: string): boolean {
 }
 
 /** Read and import a table from a file path or "-" (stdin). Errors are InputErrors naming the source. */
-export async function loadTable(source: string, options: ImportOptions = {}): Promise<ImportResult> {
-  const { bytes, file, maxBytes } = await readSource(source, options);
+export async function loadTable(source: string, options: ImportOptions = {}, stdin?: StdinStream): Promise<ImportResult> {
+  const { bytes, file, maxBytes } = await readSource(source, options, stdin);
   return parseNkTable(bytes, { ...options, file, maxBytes });
 }
 
-/** The raw bytes of a file path or "-" (stdin), within the size limit, and the name errors should give it. */
-export async function readSource(source: string, options: ImportOptions = {}): Promise<{ bytes: Uint8Array; file: string; maxBytes: number }> {
+/** The raw bytes of a file path or "-" (`stdin`, default the process's), within the size limit, and the name errors should give it. */
+export async function readSource(source: string, options: ImportOptions = {}, stdin?: StdinStream): Promise<{ bytes: Uint8Array; file: string; maxBytes: number }> {
   const maxBytes = options.maxBytes ?? DEFAULT_MAX_BYTES;
   const file = options.file ?? (source === STDIN_SOURCE ? '<stdin>' : source);
-  const bytes = source === STDIN_SOURCE ? await readStdin(maxBytes, file) : await readLimitedFile(source, maxBytes, file);
+  const bytes = source === STDIN_SOURCE ? await readStdin(stdin ?? process.stdin, maxBytes, file) : await readLimitedFile(source, maxBytes, file);
   return { bytes, file, maxBytes };
 }
 
@@ -57,10 +60,10 @@ async function readLimitedFile(path: string, maxBytes: number, file: string): Pr
 }
 
 /** Read stdin in chunks, refusing as soon as the running total passes maxBytes. */
-async function readStdin(maxBytes: number, file: string): Promise<Uint8Array> {
+async function readStdin(stdin: StdinStream, maxBytes: number, file: string): Promise<Uint8Array> {
   const chunks: Buffer[] = [];
   let total = 0;
-  for await (const chunk of process.stdin) {
+  for await (const chunk of stdin) {
     const buf = typeof chunk === 'string' ? Buffer.from(chunk) : (chunk as Buffer);
     total += buf.byteLength;
     checkSize(total, maxBytes, file);

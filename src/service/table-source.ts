@@ -11,7 +11,7 @@ import { verifiedContentOf } from '../registry/records.ts';
 import { parseRef } from '../registry/refs.ts';
 import type { VersionContent, VersionStatus } from '../registry/types.ts';
 import type { NkTable } from '../table.ts';
-import { isRegistrySource, loadTable } from './source.ts';
+import { isRegistrySource, loadTable, type StdinStream } from './source.ts';
 import { resolveRow } from './versions.ts';
 
 /** Where a stored version came from: the pin it resolved to, its content hash and status. */
@@ -48,13 +48,15 @@ export interface SourceOptions {
   registry?: Registry;
   /** Input flags for a file; they do not apply to a stored version. */
   importOptions?: ImportOptions;
+  /** What "-" reads (default: the process's stdin). */
+  stdin?: StdinStream;
 }
 
 /** Read SOURCE as a file, stdin or a registry version (see the file comment). */
 export async function loadTableOrVersion(source: string, options: SourceOptions = {}): Promise<LoadedSource> {
   const importOptions = options.importOptions ?? {};
   if (!isRegistrySource(source)) {
-    const imported = await loadTable(source, importOptions);
+    const imported = await loadTable(source, importOptions, options.stdin);
     return { table: imported.table, content: null, detected: { source: 'file', ...imported.detected }, warnings: imported.warnings, notices: [] };
   }
   const loaded = options.registry ? loadVersion(options.registry, source) : withExistingRegistry(source, options.db, (r) => loadVersion(r, source));

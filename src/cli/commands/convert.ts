@@ -6,6 +6,7 @@ import { EXPORT_FORMATS, exportTable, type ExportFormat } from '../../io/export.
 import { SPECTRAL_UNITS, type SpectralUnit } from '../../optics/units.ts';
 import { loadTable } from '../../service/source.ts';
 import { guarded } from '../failure.ts';
+import { cliIo } from '../io.ts';
 import { addImportOptions, importOptionsFrom, type ImportFlags } from '../import-options.ts';
 import { printWarnings } from '../output.ts';
 
@@ -26,11 +27,11 @@ export function register(program: Command): void {
     )
     .action(
       guarded(async (file: string, opts: ImportFlags & { to: ExportFormat; xUnit: SpectralUnit; output?: string }) => {
-        const imported = await loadTable(file, importOptionsFrom(opts));
+        const imported = await loadTable(file, importOptionsFrom(opts), cliIo().stdin);
         printWarnings(imported.warnings);
         const text = exportTable(imported.table, opts.to, opts.xUnit);
         if (opts.output) await writeFile(opts.output, text);
-        else process.stdout.write(text);
+        else cliIo().stdout.write(text);
       }),
     );
 }

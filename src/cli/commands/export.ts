@@ -7,6 +7,7 @@ import { parseOptionNumber } from '../../io/numbers.ts';
 import { DEFAULT_MODEL_STEP_NM, exportVersion, VERSION_EXPORT_FORMATS, type VersionExportFormat } from '../../service/export-version.ts';
 import { addDbOption, withRegistry } from '../admin-options.ts';
 import { guarded } from '../failure.ts';
+import { cliIo } from '../io.ts';
 import { printResolution } from '../registry-output.ts';
 
 export function register(program: Command): void {
@@ -24,7 +25,7 @@ export function register(program: Command): void {
         const out = await withRegistry(opts, (r) => exportVersion(r, ref, opts.format, { xUnit: opts.xUnit, stepNm }));
         printResolution(out);
         if (opts.output) await writeFile(opts.output, out.text);
-        else process.stdout.write(out.text);
+        else cliIo().stdout.write(out.text);
       }),
     );
 }

@@ -15,6 +15,7 @@ import { parseFitOptions, type FitOptionText } from '../../service/fit-options.t
 import { requireTable } from '../../service/table-source.ts';
 import { addFitOptions } from '../fit-options.ts';
 import { guarded } from '../failure.ts';
+import { cliIo } from '../io.ts';
 import { formatTable, printJson, printLines, printWarnings } from '../output.ts';
 import { addSourceOptions, loadSource, SOURCE_ARGUMENT_HELP, sourceLabel, type SourceFlags } from '../source-options.ts';
 
@@ -137,7 +138,7 @@ export function register(program: Command): void {
         else {
           printLines(fitLines(label, report));
           printWarnings(report.warnings);
-          for (const note of buildModel(report.model, report.options).notes) process.stderr.write(`note: ${note}\n`);
+          for (const note of buildModel(report.model, report.options).notes) cliIo().stderr.write(`note: ${note}\n`);
         }
       }),
     );

@@ -7,6 +7,7 @@ import { actorFrom, addAsOption, addDbOption, withRegistry } from '../admin-opti
 import { InputError } from '../../errors.ts';
 import { givenFitOptions, parseFitOptions, type FitOptionText } from '../../service/fit-options.ts';
 import { guarded } from '../failure.ts';
+import { cliIo } from '../io.ts';
 import { addFitOptions } from '../fit-options.ts';
 import { addImportOptions, importOptionsFrom, type ImportFlags } from '../import-options.ts';
 import { printJson, printLines, printWarnings } from '../output.ts';
@@ -52,7 +53,7 @@ export function register(program: Command): void {
         const fitFlags = givenFitOptions(opts);
         if (opts.fit === undefined && fitFlags.length) throw new InputError('bad-option', `${fitFlags.map((f) => `--${f}`).join(', ')} configure a fit: add --fit MODEL`);
         const fit = opts.fit === undefined ? undefined : { ...parseFitOptions(opts), model: opts.fit };
-        const { bytes, file: name } = await readSource(file, importOptions);
+        const { bytes, file: name } = await readSource(file, importOptions, cliIo().stdin);
         const stored = await withRegistry(opts, (r) =>
           importMeasurement(r, { slug: opts.material, bytes, file: name, importOptions, fit, kk: opts.kk, provenance }, actorFrom(opts)),
         );

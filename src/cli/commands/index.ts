@@ -1,34 +1,47 @@
-/** Every CLI command, in the order `nkledger --help` lists them. Add a command by adding its register function here. */
+/**
+ * Every CLI command, in the order `nkledger --help` lists them: its name, the one line that list shows, and
+ * how to load its module. run.ts imports a command's module only when that command runs (or shows its own help),
+ * so `nkledger --help` and each command start without loading the others' dependencies. Add a command by adding
+ * an entry here; test/cli/commands-manifest.test.ts checks every entry registers the command it names.
+ */
 import type { Command } from 'commander';
-import * as token from './token.ts';
-import * as settings from './settings.ts';
-import * as serve from './serve.ts';
-import * as inspect from './inspect.ts';
-import * as evaluate from './eval.ts';
-import * as convert from './convert.ts';
-import * as demo from './demo.ts';
-import * as kk from './kk.ts';
-import * as fit from './fit.ts';
-import * as material from './material.ts';
-import * as importCmd from './import.ts';
-import * as show from './show.ts';
-import * as list from './list.ts';
-import * as history from './history.ts';
-import * as approve from './approve.ts';
-import * as retire from './retire.ts';
-import * as withdraw from './withdraw.ts';
-import * as lock from './lock.ts';
-import * as verify from './verify.ts';
-import * as backup from './backup.ts';
-import * as diff from './diff.ts';
-import * as exportCmd from './export.ts';
 
-type Register = (program: Command) => void;
+export interface CommandModule {
+  register(program: Command): void;
+}
 
-const commands: Register[] = [demo.register, inspect.register, evaluate.register, convert.register, fit.register, kk.register, serve.register, token.register, settings.register,
-  material.register, importCmd.register, show.register, list.register, history.register, approve.register, retire.register,
-  withdraw.register, lock.register, verify.register, backup.register, diff.register, exportCmd.register];
+export interface CommandEntry {
+  name: string;
+  /** One line for the top-level help; the command's own --help gives the full description. */
+  summary: string;
+  load: () => Promise<CommandModule>;
+}
 
-export function registerCommands(program: Command): void {
-  for (const register of commands) register(program);
+export const COMMANDS: CommandEntry[] = [
+  { name: 'demo', summary: 'build and serve a demo registry of invented Marrowick Optics data (npm start)', load: () => import('./demo.ts') },
+  { name: 'inspect', summary: 'import an n,k (or ε1,ε2) table and report what was read', load: () => import('./inspect.ts') },
+  { name: 'eval', summary: 'n and k at given wavelengths, from a table or a registry version', load: () => import('./eval.ts') },
+  { name: 'convert', summary: 'rewrite a table in any accepted dialect as clean CSV or JSON', load: () => import('./convert.ts') },
+  { name: 'fit', summary: 'fit a dispersion model to an n,k table (or compare several by AIC/BIC)', load: () => import('./fit.ts') },
+  { name: 'kk', summary: 'Kramers-Kronig consistency of an n,k table (exit 3 if inconsistent)', load: () => import('./kk.ts') },
+  { name: 'serve', summary: 'serve the registry over HTTP (API under /api/v1)', load: () => import('./serve.ts') },
+  { name: 'token', summary: 'create, list and revoke bearer tokens for the HTTP API', load: () => import('./token.ts') },
+  { name: 'settings', summary: 'show and change the registry and API settings', load: () => import('./settings.ts') },
+  { name: 'material', summary: 'create materials in the registry', load: () => import('./material.ts') },
+  { name: 'import', summary: 'store a measured table as a new draft version of a material', load: () => import('./import.ts') },
+  { name: 'show', summary: 'show a version: status, hash, content, provenance, fit, KK verdict', load: () => import('./show.ts') },
+  { name: 'list', summary: 'list the materials in the registry', load: () => import('./list.ts') },
+  { name: 'history', summary: "a material's versions and its audit log", load: () => import('./history.ts') },
+  { name: 'approve', summary: 'approve a draft version (someone other than its creator, unless self-approval is on)', load: () => import('./approve.ts') },
+  { name: 'retire', summary: 'retire an approved version: pins keep resolving, with a warning', load: () => import('./retire.ts') },
+  { name: 'withdraw', summary: 'withdraw a draft nobody should use (its number is never reused)', load: () => import('./withdraw.ts') },
+  { name: 'lock', summary: "a design's lockfile: pin, verify and check for newer versions", load: () => import('./lock.ts') },
+  { name: 'verify', summary: 'recompute every hash and check the registry (exit 3 on any problem)', load: () => import('./verify.ts') },
+  { name: 'backup', summary: 'copy the registry to a new file while it stays in use', load: () => import('./backup.ts') },
+  { name: 'diff', summary: 'compare two versions: parameters, largest |Δn| and |Δk|, provenance', load: () => import('./diff.ts') },
+  { name: 'export', summary: 'export a version as CSV or JSON', load: () => import('./export.ts') },
+];
+
+export function findCommand(name: string | undefined): CommandEntry | undefined {
+  return COMMANDS.find((c) => c.name === name);
 }

@@ -11,6 +11,7 @@ import { kkPlotSpec } from '../../kk/plot-spec.ts';
 import { renderSpectrumPlot } from '../../plot/spectrum-plot.ts';
 import { requireTable } from '../../service/table-source.ts';
 import { guarded } from '../failure.ts';
+import { setExitCode } from '../io.ts';
 import { formatTable, printJson, printLines } from '../output.ts';
 import { addSourceOptions, loadSource, SOURCE_ARGUMENT_HELP, sourceLabel, type SourceFlags } from '../source-options.ts';
 
@@ -61,7 +62,7 @@ export function register(program: Command): void {
         if (opts.plot) await writeFile(opts.plot, renderSpectrumPlot(kkPlotSpec(report, `Kramers-Kronig check of ${label}`)));
         if (opts.json) printJson(report);
         else printLines(kkLines(label, report));
-        if (report.verdict === 'inconsistent') process.exitCode = KK_INCONSISTENT_EXIT_CODE;
+        if (report.verdict === 'inconsistent') setExitCode(KK_INCONSISTENT_EXIT_CODE);
       }),
     );
 }

@@ -3,6 +3,7 @@ import type { Command } from 'commander';
 import { lockAdd, lockOutdated, lockVerify, readLockfile, writeLockfile } from '../../service/lock.ts';
 import { addDbOption, withRegistry } from '../admin-options.ts';
 import { guarded } from '../failure.ts';
+import { setExitCode } from '../io.ts';
 import { formatTable, printJson, printLines } from '../output.ts';
 import { printResolution } from '../registry-output.ts';
 
@@ -39,7 +40,7 @@ export function register(program: Command): void {
       guarded(async (opts: { db?: string; lock: string; strict?: boolean; json?: boolean }) => {
         const lockfile = readLockfile(opts.lock);
         const report = await withRegistry(opts, (r) => lockVerify(r, lockfile, { strict: opts.strict }));
-        if (!report.ok) process.exitCode = CHECK_FAILED_EXIT;
+        if (!report.ok) setExitCode(CHECK_FAILED_EXIT);
         if (opts.json) return printJson(report);
         for (const e of report.entries) {
           const tag = e.failed ? 'FAIL' : e.outcome === 'ok' ? 'ok  ' : 'warn';

@@ -7,6 +7,7 @@ import { DEFAULT_HOST, DEFAULT_PORT, isLoopbackHost, startServer, type RunningSe
 import type { Settings } from '../../service/settings.ts';
 import { readSettings } from '../../service/settings.ts';
 import { guarded } from '../failure.ts';
+import { cliIo } from '../io.ts';
 import { addDbOption } from '../admin-options.ts';
 
 export function parsePort(text: string): number {
@@ -36,7 +37,7 @@ export async function serveUntilSignal(
   announce(server);
   await new Promise<void>((resolve) => {
     const stop = (signal: string) => {
-      process.stderr.write(`nkledger serve: ${signal}: finishing open requests, then closing the registry\n`);
+      cliIo().stderr.write(`nkledger serve: ${signal}: finishing open requests, then closing the registry\n`);
       process.off('SIGINT', stop);
       process.off('SIGTERM', stop);
       server.close().then(() => {
@@ -61,10 +62,10 @@ export function register(program: Command): void {
         const anonymous = readSettings(registry).anonymous_reads;
         await serveUntilSignal(registry, { host: opts.host, port }, (server) => {
           const open = anonymous === 'on' || (anonymous === 'auto' && isLoopbackHost(opts.host));
-          process.stdout.write(`nkledger serving ${registry.path} at ${server.url}/api/v1/materials\n`);
-          process.stdout.write(`  OpenAPI: ${server.url}/api/v1/openapi.json\n`);
-          process.stdout.write(`  reads without a token: ${open ? 'allowed' : 'refused'} (setting anonymous_reads = ${anonymous})\n`);
-          process.stdout.write('  Ctrl-C stops the server after open requests finish\n');
+          cliIo().stdout.write(`nkledger serving ${registry.path} at ${server.url}/api/v1/materials\n`);
+          cliIo().stdout.write(`  OpenAPI: ${server.url}/api/v1/openapi.json\n`);
+          cliIo().stdout.write(`  reads without a token: ${open ? 'allowed' : 'refused'} (setting anonymous_reads = ${anonymous})\n`);
+          cliIo().stdout.write('  Ctrl-C stops the server after open requests finish\n');
         });
       }),
     );

@@ -1,0 +1,11 @@
+import { defineConfig } from 'vitest/config';
+
+/** `npm run test:reliability`: fuzzing, SIGKILL crash safety, concurrency, backup under load, tampering (2–3 min). */
+export default defineConfig({
+  test: {
+    include: ['test/reliability/**/*.test.ts'],
+    globalSetup: ['test/build-before-tests.ts'],
+    testTimeout: 60_000,
+    hookTimeout: 60_000,
+  },
+});
