@@ -20,6 +20,7 @@ const ROOT = fileURLToPath(new URL('..', import.meta.url));
 const SRC = join(ROOT, 'src');
 const OUT = join(ROOT, 'dist');
 const MAIN = join(SRC, 'cli', 'main.ts');
+const RUN = join(SRC, 'cli', 'run.ts');
 const URL_REF = /new URL\((['"])(\.\.?\/[^'"]*)\1,\s*import\.meta\.url\)/g;
 
 function sources(dir) {
@@ -64,7 +65,8 @@ export async function build({ quiet = false } = {}) {
     throw new Error('esbuild is not installed: run `npm install` (it is a devDependency of nkledger)');
   }
   const temp = join(ROOT, `dist.building-${process.pid}`);
-  const entryPoints = Object.fromEntries([MAIN, ...urlEntries()].map((f) => [f === MAIN ? 'nkledger' : entryName(f), f]));
+  // nkledger.js: the process (bin/nkledger.js imports it); run.js: run(argv, io) for a program that drives the CLI in-process.
+  const entryPoints = { nkledger: MAIN, run: RUN, ...Object.fromEntries(urlEntries().map((f) => [entryName(f), f])) };
   try {
     await esbuild.build({
       entryPoints,

@@ -1,11 +1,10 @@
 /** The one settings catalogue through the API and the CLI: allow_self_approval sits beside the server settings. */
-import { spawnSync } from 'node:child_process';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { readSettings } from '../../src/service/settings.ts';
+import { runCli } from '../cli/run-cli.ts';
 import { csv, csvTable, json, startHarness, type ApiHarness } from './harness.ts';
 
-const BIN = new URL('../../bin/nkledger.js', import.meta.url).pathname;
 let h: ApiHarness;
 beforeAll(async () => {
   h = await startHarness();
@@ -32,20 +31,20 @@ describe('settings routes and command', { timeout: 120_000 }, () => {
     expect(readSettings(h.registry).allow_self_approval).toBe(false);
   });
 
-  it('`nkledger settings` shows, sets and resets allow_self_approval; the old self-approval command is gone', () => {
+  it('`nkledger settings` shows, sets and resets allow_self_approval; the old self-approval command is gone', async () => {
     const db = join(h.dir, 'cli.db');
-    const run = (...args: string[]) => spawnSync(process.execPath, [BIN, ...args], { encoding: 'utf8', env: { ...process.env, NKLEDGER_USER: 'ada', NKLEDGER_DB: db } });
-    const shown = run('settings', 'show');
-    expect(shown.status).toBe(0);
+    const run = (...args: string[]) => runCli(args, { env: { NKLEDGER_USER: 'ada', NKLEDGER_DB: db } });
+    const shown = await run('settings', 'show');
+    expect(shown.code).toBe(0);
     expect(shown.stdout).toMatch(/^allow_self_approval +false +let the creator of a version approve it/m);
-    const set = run('settings', 'set', 'allow_self_approval', 'on', '--json');
-    expect(set.status).toBe(0);
+    const set = await run('settings', 'set', 'allow_self_approval', 'on', '--json');
+    expect(set.code).toBe(0);
     expect(JSON.parse(set.stdout).allow_self_approval).toBe(true);
-    const bad = run('settings', 'set', 'allow_self_approval', 'maybe');
-    expect(bad.status).toBe(2);
+    const bad = await run('settings', 'set', 'allow_self_approval', 'maybe');
+    expect(bad.code).toBe(2);
     expect(bad.stderr).toMatch(/bad value for setting allow_self_approval: say on or off \[setting-value\]/);
-    expect(JSON.parse(run('settings', 'reset', 'allow_self_approval', '--json').stdout).allow_self_approval).toBe(false);
-    expect(run('self-approval', 'on').status).not.toBe(0);
-    expect(run('--help').stdout).not.toMatch(/^  self-approval /m);
+    expect(JSON.parse((await run('settings', 'reset', 'allow_self_approval', '--json')).stdout).allow_self_approval).toBe(false);
+    expect((await run('self-approval', 'on')).code).not.toBe(0);
+    expect((await run('--help')).stdout).not.toMatch(/^  self-approval /m);
   });
 });

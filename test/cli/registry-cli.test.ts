@@ -1,20 +1,24 @@
-/** The registry commands end to end: real processes of bin/nkledger.js on a temp database. */
-import { execFile, spawnSync } from 'node:child_process';
+/**
+ * The registry commands end to end on a temp database: in-process (test/cli/run-cli.ts), and as real processes of
+ * bin/nkledger.js where several processes share one database.
+ */
+import { execFile } from 'node:child_process';
 import { mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { promisify } from 'node:util';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { openRegistry, verifyRegistry } from '../../src/service/registry.ts';
+import { runCli } from './run-cli.ts';
 
 const BIN = new URL('../../bin/nkledger.js', import.meta.url).pathname;
 const execFileAsync = promisify(execFile);
 let dir: string;
 let db: string;
 
-function run(args: string[], user = 'ada') {
-  const r = spawnSync(process.execPath, [BIN, ...args, '--db', db], { encoding: 'utf8', env: { ...process.env, NKLEDGER_USER: user, NKLEDGER_DB: '' } });
-  return { code: r.status, out: r.stdout, err: r.stderr };
+async function run(args: string[], user = 'ada') {
+  const r = await runCli([...args, '--db', db], { env: { NKLEDGER_USER: user, NKLEDGER_DB: '' } });
+  return { code: r.code, out: r.stdout, err: r.stderr };
 }
 
 /** A small invented table (n = 1.45 + 0.0036/λ², k = 0) with a per-file offset so each import differs. */
@@ -32,61 +36,61 @@ beforeAll(() => {
 afterAll(() => rmSync(dir, { recursive: true, force: true }));
 
 describe('registry CLI', { timeout: 240_000 }, () => {
-  it('runs a material through import, two-person approval, lock, retire, verify and backup', () => {
-    expect(run(['material', 'add', 'sio2-thermal', '--name', 'Thermal oxide', '--tag', 'oxide']).code).toBe(0);
-    const imported = run(['import', writeTable('a.csv', 0), '--material', 'sio2-thermal', '--no-kk', '--meta', 'method=se', 'angles=65,70', '--note', 'wafer 3', '--json']);
+  it('runs a material through import, two-person approval, lock, retire, verify and backup', async () => {
+    expect((await run(['material', 'add', 'sio2-thermal', '--name', 'Thermal oxide', '--tag', 'oxide'])).code).toBe(0);
+    const imported = await run(['import', writeTable('a.csv', 0), '--material', 'sio2-thermal', '--no-kk', '--meta', 'method=se', 'angles=65,70', '--note', 'wafer 3', '--json']);
     expect(imported.code).toBe(0);
     const v1 = JSON.parse(imported.out);
     expect(v1).toMatchObject({ ref: 'sio2-thermal@1', status: 'draft' });
     expect(v1.sha256).toMatch(/^[0-9a-f]{64}$/);
 
-    const self = run(['approve', 'sio2-thermal@1']);
+    const self = await run(['approve', 'sio2-thermal@1']);
     expect(self.code).toBe(2);
     expect(self.err).toMatch(/cannot also approve it.*\[two-person-rule\]/);
     expect(self.err).not.toMatch(/at .*\.ts/); // no stack trace
-    expect(run(['approve', 'sio2-thermal@1', '--as', 'bob']).code).toBe(0);
+    expect((await run(['approve', 'sio2-thermal@1', '--as', 'bob'])).code).toBe(0);
 
-    const shown = run(['show', 'sio2-thermal', '--json']);
+    const shown = await run(['show', 'sio2-thermal', '--json']);
     expect(JSON.parse(shown.out)).toMatchObject({ ref: 'sio2-thermal@1', status: 'approved', sha256: v1.sha256, approved_by: 'bob', provenance: { notes: 'wafer 3', angles_deg: [65, 70] } });
     expect(shown.err).toMatch(/not a pin/);
 
     const lock = join(dir, 'design.nklock.json');
-    expect(run(['lock', 'add', 'sio2-thermal@1', '--lock', lock]).code).toBe(0);
+    expect((await run(['lock', 'add', 'sio2-thermal@1', '--lock', lock])).code).toBe(0);
     expect(JSON.parse(readFileSync(lock, 'utf8')).materials['sio2-thermal']).toMatchObject({ version: 1, sha256: v1.sha256 });
-    expect(run(['lock', 'verify', '--lock', lock]).code).toBe(0);
+    expect((await run(['lock', 'verify', '--lock', lock])).code).toBe(0);
 
-    expect(run(['retire', 'sio2-thermal@1', '--reason', 'wrong substrate model', '--as', 'bob']).code).toBe(0);
-    const relaxed = run(['lock', 'verify', '--lock', lock]);
+    expect((await run(['retire', 'sio2-thermal@1', '--reason', 'wrong substrate model', '--as', 'bob'])).code).toBe(0);
+    const relaxed = await run(['lock', 'verify', '--lock', lock]);
     expect(relaxed.code).toBe(0);
     expect(relaxed.err).toMatch(/warn  sio2-thermal@1 is retired: wrong substrate model/);
-    const strict = run(['lock', 'verify', '--lock', lock, '--strict', '--json']);
+    const strict = await run(['lock', 'verify', '--lock', lock, '--strict', '--json']);
     expect(strict.code).toBe(3);
     expect(JSON.parse(strict.out).entries[0]).toMatchObject({ outcome: 'retired', failed: true });
 
-    const history = JSON.parse(run(['history', 'sio2-thermal', '--json']).out);
+    const history = JSON.parse((await run(['history', 'sio2-thermal', '--json'])).out);
     expect(history.audit.map((a: { action: string; actor: string }) => `${a.action}:${a.actor}`)).toEqual([
       'material.create:ada',
       'version.import:ada',
       'version.approve:bob',
       'version.retire:bob',
     ]);
-    expect(JSON.parse(run(['list', '--json']).out)[0]).toMatchObject({ slug: 'sio2-thermal', versions: 1, latest_approved: null });
+    expect(JSON.parse((await run(['list', '--json'])).out)[0]).toMatchObject({ slug: 'sio2-thermal', versions: 1, latest_approved: null });
 
     const backupFile = join(dir, 'backup.db');
-    expect(run(['backup', backupFile]).code).toBe(0);
-    expect(run(['backup', backupFile]).code).toBe(2); // never overwrites
-    const verified = spawnSync(process.execPath, [BIN, 'verify', '--db', backupFile, '--json'], { encoding: 'utf8' });
-    expect(verified.status).toBe(0);
+    expect((await run(['backup', backupFile])).code).toBe(0);
+    expect((await run(['backup', backupFile])).code).toBe(2); // never overwrites
+    const verified = await runCli(['verify', '--db', backupFile, '--json']);
+    expect(verified.code).toBe(0);
     expect(JSON.parse(verified.stdout)).toMatchObject({ ok: true, checked_versions: 1 });
   });
 
-  it('refuses to change an approved version through the CLI and catches raw-SQL edits with verify', () => {
-    run(['material', 'add', 'mgf2', '--name', 'MgF2']);
-    run(['import', writeTable('m.csv', -0.07), '--material', 'mgf2', '--no-kk']);
-    expect(run(['approve', 'mgf2@1'], 'bob').code).toBe(0);
-    expect(run(['approve', 'mgf2@1'], 'cy').err).toMatch(/it is approved/);
-    expect(run(['withdraw', 'mgf2@1'], 'cy').err).toMatch(/it is approved/);
-    expect(run(['import', join(dir, 'm.csv'), '--material', 'mgf2', '--no-kk']).err).toMatch(/already stored as mgf2@1/);
+  it('refuses to change an approved version through the CLI and catches raw-SQL edits with verify', async () => {
+    await run(['material', 'add', 'mgf2', '--name', 'MgF2']);
+    await run(['import', writeTable('m.csv', -0.07), '--material', 'mgf2', '--no-kk']);
+    expect((await run(['approve', 'mgf2@1'], 'bob')).code).toBe(0);
+    expect((await run(['approve', 'mgf2@1'], 'cy')).err).toMatch(/it is approved/);
+    expect((await run(['withdraw', 'mgf2@1'], 'cy')).err).toMatch(/it is approved/);
+    expect((await run(['import', join(dir, 'm.csv'), '--material', 'mgf2', '--no-kk'])).err).toMatch(/already stored as mgf2@1/);
 
     const registry = openRegistry(db);
     try {
@@ -97,7 +101,7 @@ describe('registry CLI', { timeout: 240_000 }, () => {
     } finally {
       registry.close();
     }
-    const v = run(['verify']);
+    const v = await run(['verify']);
     expect(v.code).toBe(3);
     expect(v.err).toMatch(/FAIL {2}mgf2@1: content or provenance no longer matches its SHA-256/);
     expect(v.err).toMatch(/trigger material_versions_content_immutable is missing/);
@@ -105,22 +109,22 @@ describe('registry CLI', { timeout: 240_000 }, () => {
 });
 
 describe('registry versions as sources', { timeout: 240_000 }, () => {
-  it('eval, diff and export take references (runs after the flows above)', () => {
-    const e = run(['eval', 'sio2-thermal@1', '--at', '500', '--json']);
+  it('eval, diff and export take references (runs after the flows above)', async () => {
+    const e = await run(['eval', 'sio2-thermal@1', '--at', '500', '--json']);
     expect(e.code).toBe(0);
     // the written table: n = 1.45 + 0.0036/0.5² at 500 nm (a table point), from writeTable above
     expect(JSON.parse(e.out)).toMatchObject({ ref: 'sio2-thermal@1', source: 'table', wavelength_nm: [500], n: [1.4644] });
     expect(e.err).toMatch(/retired/);
-    expect(run(['eval', 'sio2-thermal@1', '--at', '900']).err).toMatch(/extrapolation needs a fitted model/);
+    expect((await run(['eval', 'sio2-thermal@1', '--at', '900'])).err).toMatch(/extrapolation needs a fitted model/);
     // mgf2@1 was edited by hand above: it is refused on read (re-verified hash), not diffed as if good.
-    expect(run(['diff', 'sio2-thermal@1', 'mgf2@1', '--json']).err).toMatch(/mgf2@1: the stored content .* no longer matches .*\[integrity-hash-mismatch\]/);
-    run(['material', 'add', 'mgf2-b', '--name', 'MgF2 (second sample)']);
-    run(['import', writeTable('m2.csv', -0.07), '--material', 'mgf2-b', '--no-kk']);
-    const d = run(['diff', 'sio2-thermal@1', 'mgf2-b@1', '--json']);
+    expect((await run(['diff', 'sio2-thermal@1', 'mgf2@1', '--json'])).err).toMatch(/mgf2@1: the stored content .* no longer matches .*\[integrity-hash-mismatch\]/);
+    await run(['material', 'add', 'mgf2-b', '--name', 'MgF2 (second sample)']);
+    await run(['import', writeTable('m2.csv', -0.07), '--material', 'mgf2-b', '--no-kk']);
+    const d = await run(['diff', 'sio2-thermal@1', 'mgf2-b@1', '--json']);
     expect(d.code).toBe(0);
     // mgf2-b was written with offset -0.07: Δn = -0.07 everywhere
     expect(JSON.parse(d.out).dn.max_abs).toBeCloseTo(0.07, 6);
-    const csv = run(['export', 'sio2-thermal@1', '--format', 'csv']);
+    const csv = await run(['export', 'sio2-thermal@1', '--format', 'csv']);
     expect(csv.out.split('\r\n').slice(2, 4)).toEqual(['wavelength_nm,n,k', '400,1.4725,0']);
   });
 });

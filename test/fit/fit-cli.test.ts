@@ -1,27 +1,21 @@
-import { spawnSync } from 'node:child_process';
 import { mkdtempSync, readFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
-import { fileURLToPath } from 'node:url';
 import { XMLParser } from 'fast-xml-parser';
 import { describe, expect, it } from 'vitest';
 import { fitTable } from '../../src/fit/fit.ts';
 import { fitPlotSpec } from '../../src/fit/fit-plot.ts';
 import { renderSpectrumPlot } from '../../src/plot/spectrum-plot.ts';
 import { loadTable } from '../../src/service/source.ts';
+import { runCli } from '../cli/run-cli.ts';
 
-const ROOT = fileURLToPath(new URL('../../', import.meta.url));
-
-function nkledger(args: string[]) {
-  const r = spawnSync('node', ['bin/nkledger.js', ...args], { cwd: ROOT, encoding: 'utf8', timeout: 60_000 });
-  return { code: r.status, stdout: r.stdout, stderr: r.stderr };
-}
+const nkledger = (args: string[]) => runCli(args);
 
 const noStackTrace = (stderr: string) => expect(stderr).not.toMatch(/\n\s+at |node:internal/);
 
 describe('nkledger fit end to end', () => {
-  it('--json has exactly the issue-3 shape plus range_nm and options', () => {
-    const r = nkledger(['fit', 'data/marrowick/sinx-pecvd-recipe-a.csv', '--model', 'tauc-lorentz', '--json']);
+  it('--json has exactly the issue-3 shape plus range_nm and options', async () => {
+    const r = await nkledger(['fit', 'data/marrowick/sinx-pecvd-recipe-a.csv', '--model', 'tauc-lorentz', '--json']);
     expect(r.code).toBe(0);
     const report = JSON.parse(r.stdout);
     expect(Object.keys(report)).toEqual(['model', 'parameters', 'statistics', 'correlations', 'warnings', 'kk_consistent', 'range_nm', 'options']);
@@ -32,8 +26,8 @@ describe('nkledger fit end to end', () => {
     expect(report.statistics.reduced_chi2).toBeGreaterThan(0.3); // the file has sigma columns
   });
 
-  it('text output is a table with parameters, ± 1σ and units', () => {
-    const r = nkledger(['fit', 'data/marrowick/al2o3-ald.csv', '--model', 'cauchy', '--urbach', '--fix', 'Eb=4']);
+  it('text output is a table with parameters, ± 1σ and units', async () => {
+    const r = await nkledger(['fit', 'data/marrowick/al2o3-ald.csv', '--model', 'cauchy', '--urbach', '--fix', 'Eb=4']);
     expect(r.code).toBe(0);
     expect(r.stdout).toMatch(/parameter\s+value\s+± 1σ\s+unit/);
     expect(r.stdout).toMatch(/^Eb\s+4\s+eV\s+fixed$/m);
@@ -41,34 +35,34 @@ describe('nkledger fit end to end', () => {
     expect(r.stderr).toMatch(/not Kramers-Kronig consistent/);
   });
 
-  it('--compare prints AIC/BIC with the caveats beside them', () => {
-    const r = nkledger(['fit', 'data/marrowick/sinx-pecvd-recipe-b.csv', '--compare', 'cauchy,sellmeier,tauc-lorentz']);
+  it('--compare prints AIC/BIC with the caveats beside them', async () => {
+    const r = await nkledger(['fit', 'data/marrowick/sinx-pecvd-recipe-b.csv', '--compare', 'cauchy,sellmeier,tauc-lorentz']);
     expect(r.code).toBe(0);
     expect(r.stdout).toMatch(/best by AIC: tauc-lorentz/);
     expect(r.stdout).toMatch(/caveats beside these numbers/);
   });
 
-  it('refuses an unknown model or parameter with the valid list, exit code 2, no stack trace', () => {
-    const m = nkledger(['fit', 'data/marrowick/sio2-thermal.csv', '--model', 'forouhi-bloomer']);
+  it('refuses an unknown model or parameter with the valid list, exit code 2, no stack trace', async () => {
+    const m = await nkledger(['fit', 'data/marrowick/sio2-thermal.csv', '--model', 'forouhi-bloomer']);
     expect(m.code).toBe(2);
     expect(m.stderr).toMatch(/valid models: cauchy, sellmeier, tauc-lorentz, lorentz, drude/);
     noStackTrace(m.stderr);
-    const p = nkledger(['fit', 'data/marrowick/sio2-thermal.csv', '--model', 'sellmeier', '--init', 'B9=1']);
+    const p = await nkledger(['fit', 'data/marrowick/sio2-thermal.csv', '--model', 'sellmeier', '--init', 'B9=1']);
     expect(p.code).toBe(2);
     expect(p.stderr).toMatch(/its parameters: A, B1, C1/);
     noStackTrace(p.stderr);
   });
 
-  it('--help lists the catalogue with parameters and units', () => {
-    const r = nkledger(['fit', '--help']);
+  it('--help lists the catalogue with parameters and units', async () => {
+    const r = await nkledger(['fit', '--help']);
     expect(r.code).toBe(0);
     for (const name of ['cauchy', 'sellmeier', 'tauc-lorentz', 'lorentz', 'drude']) expect(r.stdout).toContain(`  ${name}  `);
     expect(r.stdout).toMatch(/Eg\s+\[eV\]/);
   });
 
-  it('--plot writes an SVG', () => {
+  it('--plot writes an SVG', async () => {
     const file = join(mkdtempSync(join(tmpdir(), 'nkledger-fit-')), 'fit.svg');
-    const r = nkledger(['fit', 'data/marrowick/ito-sputtered.tsv', '--model', 'tauc-lorentz+drude', '--plot', file]);
+    const r = await nkledger(['fit', 'data/marrowick/ito-sputtered.tsv', '--model', 'tauc-lorentz+drude', '--plot', file]);
     expect(r.code).toBe(0);
     expect(readFileSync(file, 'utf8')).toMatch(/^<\?xml[\s\S]*<\/svg>\s*$/);
   });

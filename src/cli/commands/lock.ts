@@ -3,7 +3,7 @@ import type { Command } from 'commander';
 import { lockAdd, lockOutdated, lockVerify, readLockfile, writeLockfile } from '../../service/lock.ts';
 import { addDbOption, withRegistry } from '../admin-options.ts';
 import { guarded } from '../failure.ts';
-import { setExitCode } from '../io.ts';
+import { cliIo, setExitCode } from '../io.ts';
 import { formatTable, printJson, printLines } from '../output.ts';
 import { printResolution } from '../registry-output.ts';
 
@@ -44,7 +44,7 @@ export function register(program: Command): void {
         if (opts.json) return printJson(report);
         for (const e of report.entries) {
           const tag = e.failed ? 'FAIL' : e.outcome === 'ok' ? 'ok  ' : 'warn';
-          process[e.failed || e.outcome !== 'ok' ? 'stderr' : 'stdout'].write(`${tag}  ${e.message}\n`);
+          cliIo()[e.failed || e.outcome !== 'ok' ? 'stderr' : 'stdout'].write(`${tag}  ${e.message}\n`);
         }
         printLines([
           report.ok
