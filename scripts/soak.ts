@@ -3,7 +3,7 @@
  * for a bounded time; reports requests served, errors (goal: zero), the server's RSS growth and latency
  * percentiles, then stops the server and runs `nkledger verify` on the file.
  *
- *   npx tsx scripts/soak.ts [--seconds 180] [--clients 8]
+ *   npm run build && npx tsx scripts/soak.ts [--seconds 180] [--clients 8]   (bin/nkledger.js runs the build)
  *
  * The mix, per request: 8 % table uploads (the full import pipeline with the Kramers-Kronig check),
  * 6 % approvals of drafts, 46 % n,k reads (two to five wavelengths of an approved version), 30 % version
