@@ -1,7 +1,8 @@
 #!/usr/bin/env python3
 """Reference optima of scipy.optimize.least_squares for nkledger's fitter checks.
 
-For a Sellmeier, a Tauc-Lorentz and a Lorentz+Drude case: synthetic n,k data (noise-free and noisy,
+For a Sellmeier, a Tauc-Lorentz and a Lorentz+Drude case (and a Tauc-Lorentz case on only 8 wavelengths,
+where N − p and N differ by tens of percent): synthetic n,k data (noise-free and noisy,
 fixed seeds), a start point, and scipy's optimum from that start (method='lm', tight tolerances).
 Writes test/reference/fit-<case>.json. Run: python3 scripts/make-fit-reference.py
 """
@@ -44,6 +45,17 @@ CASES = [
         "start": {"lorentz.A": 20.0, "lorentz.E0": 5.3, "lorentz.Gamma": 0.8, "drude.Ep": 1.5, "drude.Gamma": 0.2, "eps_inf": 2.0},
         "fixed": {},
         "range_nm": [300, 2500], "points": 200, "sigma_n": 1e-3, "sigma_k": 1e-3,
+    },
+    {
+        # Few points on purpose: 16 residuals for 5 parameters, so s^2 = chi2/(N - p) and chi2/N differ by
+        # 45 % (standard errors by 21 %); with 400 residuals the two differ by under 1 %.
+        "name": "tauc-lorentz-8-points",
+        "model": "tauc-lorentz", "terms": 1,
+        "nk": tauc_lorentz_nk,
+        "truth": {"A": 122.0, "E0": 3.45, "C": 2.54, "Eg": 1.2, "eps_inf": 1.15},
+        "start": {"A": 100.0, "E0": 3.6, "C": 2.2, "Eg": 1.3, "eps_inf": 1.4},
+        "fixed": {},
+        "range_nm": [250, 1600], "points": 8, "sigma_n": 1e-3, "sigma_k": 5e-4,
     },
 ]
 
