@@ -15,7 +15,15 @@ export type MaterialRow = typeof materials.$inferSelect;
 export type VersionRow = typeof materialVersions.$inferSelect;
 
 /**
- * The SHA-256 of a version: of the canonical JSON of `{ "content": {table, fit, kk}, "provenance": {...} }`
+ * The layout of what a version's SHA-256 covers (the document below). Changing what is hashed makes a new
+ * layout: bump this, keep verifying stored versions by the layout they were hashed with, and add a pin for
+ * the new layout with scripts/make-version-hash-pins.py (test/registry/version-hash-pin.test.ts); old pins
+ * are never edited.
+ */
+export const VERSION_HASH_LAYOUT = 1;
+
+/**
+ * The SHA-256 of a version (layout VERSION_HASH_LAYOUT): of the canonical JSON of `{ "content": {table, fit, kk}, "provenance": {...} }`
  * (src/registry/canonical.ts; DEVELOPERS.md "Canonical serialization and hashing").
  */
 export function versionSha256(content: VersionContent, provenance: Provenance): string {
