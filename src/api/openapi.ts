@@ -1,7 +1,8 @@
 /**
  * The OpenAPI 3.1 description of the HTTP API, written by hand as data. test/api/openapi.test.ts
- * compares its paths and methods with the routes the app registers, so the two cannot drift:
- * adding a route without describing it here (or the reverse) fails the suite.
+ * compares its paths and methods with the routes the app registers and validates live answers (status,
+ * media type, body schema) against it, so the two cannot drift: adding a route without describing it
+ * here, or answering a status or shape this document does not list, fails the suite.
  */
 import { TOKEN_ROLES } from '../registry/schema-auth.ts';
 import { SETTING_KEYS } from '../service/settings.ts';
@@ -24,7 +25,11 @@ const authErrors = {
   '401': problem('no token, a malformed Authorization header, or an unknown or revoked token'),
   '403': problem("the token's role is below the one this route needs"),
 };
-const readErrors = { ...authErrors, '404': problem('unknown material or version') };
+const readErrors = {
+  ...authErrors,
+  '400': problem('malformed request: a path segment that is not a slug or version number, a bad query parameter, or (uploads) a table that cannot be read'),
+  '404': problem('unknown material or version'),
+};
 const writeErrors = { ...readErrors, '409': problem('the change conflicts with the registry rules'), '422': problem('invalid input') };
 
 /** A route's role, as the `x-nkledger-role` extension (reader routes admit anonymous reads when the setting allows). */
@@ -44,6 +49,13 @@ const tableUpload = {
     'multipart/form-data': { schema: ref('TableUpload') },
   },
 };
+
+/** The answer of POST /fit and POST /kk: the report and the import warnings of the uploaded table. */
+const reportWith = (report: Schema) => ({
+  type: 'object',
+  required: ['report', 'warnings'],
+  properties: { report, warnings: { type: 'array', items: { type: 'string' } } },
+});
 
 const lifecycle = (summary: string, body: 'Reason' | 'OptionalReason' | 'NoBody') => ({
   post: {
@@ -89,7 +101,14 @@ export const OPENAPI_DOCUMENT = {
         summary: 'One material with all its versions',
         ...role('reader'),
         parameters: [slugParam],
-        responses: { '200': json('the material', ref('Material')), ...readErrors },
+        responses: {
+          '200': json('the material and its versions, oldest first', {
+            type: 'object',
+            required: ['material', 'versions'],
+            properties: { material: ref('Material'), versions: { type: 'array', items: ref('Version') } },
+          }),
+          ...readErrors,
+        },
       },
     },
     '/api/v1/materials/{slug}/versions': {
@@ -148,9 +167,9 @@ export const OPENAPI_DOCUMENT = {
             content: { 'application/json': { schema: ref('NkValues') }, 'text/csv': { schema: { type: 'string' } } },
           },
           '304': { description: 'not modified' },
-          '400': problem('bad wavelengths or too many points (setting max_nk_points)'),
-          '406': problem('Accept names neither JSON nor CSV'),
           ...readErrors,
+          '400': problem('bad wavelengths or too many points (setting max_nk_points), or a malformed slug or version number'),
+          '406': problem('Accept names neither JSON nor CSV'),
         },
       },
     },
@@ -164,7 +183,7 @@ export const OPENAPI_DOCUMENT = {
         ...role('reader'),
         parameters: [{ name: 'strict', in: 'query', required: false, schema: { type: 'string', enum: ['true', 'false'] } }],
         requestBody: { required: true, content: { 'application/json': { schema: { type: 'object' } } } },
-        responses: { '200': json('per-pin verdicts', { type: 'object' }), '400': problem('not a lockfile'), ...authErrors },
+        responses: { '200': json('per-pin verdicts', ref('LockVerification')), '400': problem('not a lockfile'), ...authErrors },
       },
     },
     '/api/v1/fit': {
@@ -176,7 +195,7 @@ export const OPENAPI_DOCUMENT = {
           ...fitOptionQuery,
         ],
         requestBody: tableUpload,
-        responses: { '200': json('fit report', { type: 'object' }), '400': problem('malformed table'), '422': problem('the fit failed'), ...authErrors },
+        responses: { '200': json('fit report', reportWith(ref('FitReport'))), '400': problem('malformed table'), '422': problem('the fit failed'), ...authErrors },
       },
     },
     '/api/v1/kk': {
@@ -184,11 +203,15 @@ export const OPENAPI_DOCUMENT = {
         summary: 'Kramers-Kronig consistency check of an uploaded table; nothing is stored',
         ...role('reader'),
         requestBody: tableUpload,
-        responses: { '200': json('KK report', { type: 'object' }), '400': problem('malformed table'), ...authErrors },
+        responses: { '200': json('KK report', reportWith(ref('KkReport'))), '400': problem('malformed table'), ...authErrors },
       },
     },
     '/api/v1/tokens': {
-      get: { summary: 'List tokens (never secrets)', ...role('admin'), responses: { '200': json('tokens', { type: 'object' }), ...authErrors } },
+      get: {
+        summary: 'List tokens (never secrets)',
+        ...role('admin'),
+        responses: { '200': json('tokens', { type: 'object', required: ['tokens'], properties: { tokens: { type: 'array', items: ref('Token') } } }), ...authErrors },
+      },
       post: {
         summary: 'Create a token; the secret is in this response only',
         ...role('admin'),
@@ -200,7 +223,10 @@ export const OPENAPI_DOCUMENT = {
             },
           },
         },
-        responses: { '201': json('the token', { type: 'object', properties: { token: { type: 'string' } } }), ...writeErrors },
+        responses: {
+          '201': json('the token with its secret', { allOf: [ref('Token'), { type: 'object', required: ['token'], properties: { token: { type: 'string', pattern: '^nkl_' } } }] }),
+          ...writeErrors,
+        },
       },
     },
     '/api/v1/tokens/{id}/revoke': {
@@ -208,11 +234,11 @@ export const OPENAPI_DOCUMENT = {
         summary: 'Revoke a token',
         ...role('admin'),
         parameters: [{ name: 'id', in: 'path', required: true, schema: { type: 'string' } }],
-        responses: { '200': json('the revoked token', { type: 'object' }), ...writeErrors },
+        responses: { '200': json('the revoked token', ref('Token')), ...writeErrors },
       },
     },
     '/api/v1/settings': {
-      get: { summary: 'Every setting of the registry and the API (the registry rule allow_self_approval included)', ...role('admin'), responses: { '200': json('settings', { type: 'object' }), ...authErrors } },
+      get: { summary: 'Every setting of the registry and the API (the registry rule allow_self_approval included)', ...role('admin'), responses: { '200': json('settings', ref('Settings')), ...authErrors } },
     },
     '/api/v1/settings/{key}': {
       put: {
@@ -220,13 +246,13 @@ export const OPENAPI_DOCUMENT = {
         ...role('admin'),
         parameters: [{ name: 'key', in: 'path', required: true, schema: { type: 'string', enum: SETTING_KEYS } }],
         requestBody: { required: true, content: { 'application/json': { schema: { type: 'object', required: ['value'], properties: { value: {} } } } } },
-        responses: { '200': json('settings after the change', { type: 'object' }), ...writeErrors },
+        responses: { '200': json('settings after the change', ref('Settings')), ...writeErrors },
       },
       delete: {
         summary: 'Reset a setting to its default',
         ...role('admin'),
         parameters: [{ name: 'key', in: 'path', required: true, schema: { type: 'string', enum: SETTING_KEYS } }],
-        responses: { '200': json('settings after the change', { type: 'object' }), ...writeErrors },
+        responses: { '200': json('settings after the change', ref('Settings')), ...writeErrors },
       },
     },
   },
@@ -292,6 +318,70 @@ export const OPENAPI_DOCUMENT = {
       Reason: { type: 'object', required: ['reason'], additionalProperties: false, properties: { reason: { type: 'string', minLength: 1 } } },
       OptionalReason: { type: 'object', additionalProperties: false, properties: { reason: { type: 'string' } } },
       NoBody: { type: 'object', additionalProperties: false, description: 'empty, or {}' },
+      FitReport: {
+        type: 'object',
+        required: ['model', 'parameters', 'statistics', 'range_nm'],
+        properties: {
+          model: { type: 'string' },
+          parameters: {
+            type: 'object',
+            additionalProperties: { type: 'object', required: ['value', 'unit'], properties: { value: { type: 'number' }, stderr: { type: ['number', 'null'] }, unit: { type: 'string' } } },
+          },
+          statistics: { type: 'object', required: ['points'], properties: { points: { type: 'integer' } } },
+          range_nm: { type: 'array', items: { type: 'number' }, minItems: 2, maxItems: 2 },
+        },
+      },
+      KkReport: {
+        type: 'object',
+        required: ['verdict', 'summary', 'tolerance', 'rms_dn', 'max_dn', 'worst_nm', 'bands'],
+        properties: {
+          verdict: { enum: ['consistent', 'inconsistent', 'uninformative'] },
+          summary: { type: 'string' },
+          tolerance: { type: 'number' },
+          rms_dn: { type: 'number' },
+          max_dn: { type: 'number' },
+          worst_nm: { type: 'number' },
+          bands: { type: 'array', items: { type: 'object', required: ['band', 'points'] } },
+        },
+      },
+      LockVerification: {
+        type: 'object',
+        required: ['ok', 'strict', 'entries', 'failures', 'warnings'],
+        properties: {
+          ok: { type: 'boolean' },
+          strict: { type: 'boolean' },
+          failures: { type: 'integer', minimum: 0 },
+          warnings: { type: 'integer', minimum: 0 },
+          entries: {
+            type: 'array',
+            items: {
+              type: 'object',
+              required: ['ref', 'outcome', 'failed', 'message'],
+              properties: { ref: { type: 'string' }, outcome: { type: 'string' }, failed: { type: 'boolean' }, message: { type: 'string' } },
+            },
+          },
+        },
+      },
+      Token: {
+        type: 'object',
+        required: ['id', 'user', 'role', 'created_at', 'revoked_at'],
+        properties: {
+          id: { type: 'string' },
+          user: { type: 'string' },
+          role: { enum: [...TOKEN_ROLES] },
+          created_at: { type: 'string', format: 'date-time' },
+          created_by: { type: 'string' },
+          revoked_at: { type: ['string', 'null'] },
+          revoked_by: { type: ['string', 'null'] },
+        },
+      },
+      Settings: {
+        type: 'object',
+        required: ['settings'],
+        properties: {
+          settings: { type: 'object', required: [...SETTING_KEYS], properties: Object.fromEntries(SETTING_KEYS.map((key) => [key, {}])), additionalProperties: false },
+        },
+      },
       NkValues: {
         type: 'object',
         required: ['wavelength_nm', 'n', 'k'],
