@@ -39,7 +39,7 @@ export function fitPlotSpec(table: NkTable, report: FitReport, title?: string): 
         ],
       },
       {
-        yLabel: 'Residual (measured − model)',
+        yLabel: 'measured − model',
         relativeHeight: 0.6,
         zeroLine: true,
         series: [

@@ -21,12 +21,17 @@ export function kkPlotSpec(report: KkReport, title = 'Kramers-Kronig check'): Pl
         ],
       },
       {
-        yLabel: 'Δn = measured − reconstructed',
+        yLabel: 'Δn = measured − KK',
         zeroLine: true,
         series: [
           { label: 'Δn', x, y: r.dn, style: 'line' },
-          { label: `±tolerance ${report.tolerance}`, x: [x[0], x[x.length - 1]], y: [report.tolerance, report.tolerance], style: 'dashed' },
-          { label: '−tolerance', x: [x[0], x[x.length - 1]], y: [-report.tolerance, -report.tolerance], style: 'dashed' },
+          // One band, one series: its two edges are one dashed line broken by a NaN, so one colour and one legend entry.
+          {
+            label: `±tolerance ${report.tolerance}`,
+            x: [x[0], x[x.length - 1], Number.NaN, x[0], x[x.length - 1]],
+            y: [report.tolerance, report.tolerance, Number.NaN, -report.tolerance, -report.tolerance],
+            style: 'dashed',
+          },
         ],
       },
     ],

@@ -1,5 +1,5 @@
 /**
- * Panel legends: size estimate, placement in the panel corner that hides the least data, and
+ * Panel legends: size estimate, placement where it covers no data, and
  * rendering (one entry per series: swatch in the series' style + escaped label).
  */
 
@@ -28,7 +28,7 @@ const SWATCH_GAP_PX = 6;
 /** Distance between the legend and the panel frame. */
 const INSET_PX = 6;
 /** Spacing of the samples taken along a line segment when counting what a legend would hide. */
-const SEGMENT_SAMPLE_PX = 4;
+const SEGMENT_SAMPLE_PX = 2;
 
 /** Legend width and height in px for the given entries. */
 export function legendSize(entries: LegendEntry[]): { width: number; height: number } {
@@ -44,14 +44,32 @@ function inside(box: Box, [px, py]: [number, number]): boolean {
 }
 
 /**
- * Chooses where a legend goes inside a panel: the corner (top-right, top-left, bottom-right,
- * bottom-left, in that order of preference) whose box covers the fewest data marks. Line
- * segments are sampled every few px between vertices, so a sparse line also counts.
- * Takes the panel's plot area, the legend size and the pixel runs of its series; returns the box.
+ * Clearance kept between a legend box and any data mark, in px: a point's radius (2.5 px) or half a line's
+ * width, and a little air.
  */
-export function placeLegend(area: Box, size: { width: number; height: number }, runs: Array<Array<[number, number]>>): Box {
+export const LEGEND_CLEARANCE_PX = 3;
+
+/** Room a legend takes from the top of a panel when it is given headroom there (box, inset above and below, clearance). */
+export function legendBandHeight(size: { width: number; height: number }): number {
+  return size.height + 2 * INSET_PX + LEGEND_CLEARANCE_PX;
+}
+
+/** Where a legend sits in a panel given headroom: top right, inside the band legendBandHeight reserves. */
+export function headroomLegendBox(area: Box, size: { width: number; height: number }): Box {
+  return { left: area.left + area.width - INSET_PX - size.width, top: area.top + INSET_PX, ...size };
+}
+
+/**
+ * Chooses where a legend goes inside a panel without covering data: the first free position of top-right,
+ * top-left, bottom-right, bottom-left, top-centre, bottom-centre, where free means no data mark within
+ * LEGEND_CLEARANCE_PX of the box. Line segments are sampled every few px between vertices, so a sparse line
+ * also counts. Takes the panel's plot area, the legend size and the pixel runs of its series; returns the
+ * box, or null when every position covers data (the caller then gives the panel headroom for it).
+ */
+export function placeLegend(area: Box, size: { width: number; height: number }, runs: Array<Array<[number, number]>>): Box | null {
   const left = area.left + INSET_PX;
   const right = area.left + area.width - INSET_PX - size.width;
+  const centre = area.left + (area.width - size.width) / 2;
   const top = area.top + INSET_PX;
   const bottom = area.top + area.height - INSET_PX - size.height;
   const candidates: Box[] = [
@@ -59,6 +77,8 @@ export function placeLegend(area: Box, size: { width: number; height: number }, 
     { left, top, ...size },
     { left: right, top: bottom, ...size },
     { left, top: bottom, ...size },
+    { left: centre, top, ...size },
+    { left: centre, top: bottom, ...size },
   ];
   const samples: Array<[number, number]> = [];
   for (const run of runs) {
@@ -71,16 +91,8 @@ export function placeLegend(area: Box, size: { width: number; height: number }, 
       for (let j = 1; j < steps; j++) samples.push([x0 + (j / steps) * (x1 - x0), y0 + (j / steps) * (y1 - y0)]);
     }
   }
-  let best = candidates[0];
-  let bestCovered = Infinity;
-  for (const box of candidates) {
-    const covered = samples.reduce((n, p) => n + (inside(box, p) ? 1 : 0), 0);
-    if (covered < bestCovered) {
-      best = box;
-      bestCovered = covered;
-    }
-  }
-  return best;
+  const c = LEGEND_CLEARANCE_PX;
+  return candidates.find((box) => !samples.some((p) => inside({ left: box.left - c, top: box.top - c, width: box.width + 2 * c, height: box.height + 2 * c }, p))) ?? null;
 }
 
 /**

@@ -4,7 +4,7 @@
  * Built as text, no browser, no I/O. Used by `fit --plot`, `kk --plot`, `diff --plot` and web pages.
  *
  * Document structure (class names are stable, for tests and web pages):
- *   <svg> <title/> <text class="title"/>
+ *   <svg> <title/> <text class="title"> (a <tspan class="title-line"> per line when the title wraps)
  *     <g class="panel" data-index data-y-label> frame, <g class="grid">, <g class="y-axis"> with
  *       <g class="y-tick" data-value> and <text class="axis-label">, optional <line class="zero-line">,
  *       one <g class="series" data-label data-style data-count> per series, <g class="legend">,
@@ -12,10 +12,10 @@
  *     <g class="x-axis"> with <g class="x-tick" data-value> and <text class="axis-label"> </g>
  */
 
-import { drawSeries, seriesColour } from './marks.ts';
-import { legendSize, placeLegend, renderLegend, type Box } from './legend.ts';
+import { drawSeries, pixelRuns, seriesColour } from './marks.ts';
+import { headroomLegendBox, legendBandHeight, legendSize, placeLegend, renderLegend, type Box, type LegendEntry } from './legend.ts';
 import { linearScale, niceDomain, paddedExtent, tickFormat, type LinearScale } from './scale.ts';
-import { element, escapeXml, estimateTextWidth, textElement } from './svg.ts';
+import { element, escapeXml, estimateTextWidth, textElement, wrapText } from './svg.ts';
 
 export type PlotSeriesStyle = 'points' | 'line' | 'dashed';
 
@@ -50,6 +50,11 @@ const AXIS_LABEL_FONT_PX = 13;
 const TICK_FONT_PX = 12;
 const TICK_LENGTH_PX = 5;
 const MARGIN_TOP_PX = 44;
+/** The title: baseline of its first line, line spacing, side margins it keeps inside the plot width, most lines. */
+const TITLE_BASELINE_PX = 26;
+const TITLE_LINE_HEIGHT_PX = 20;
+const TITLE_SIDE_MARGIN_PX = 10;
+const TITLE_MAX_LINES = 2;
 const MARGIN_BOTTOM_PX = 52;
 const MARGIN_RIGHT_PX = 20;
 const PANEL_GAP_PX = 18;
@@ -116,21 +121,38 @@ interface PanelLayout {
   top: number;
   height: number;
   yAxis: Axis | null;
+  legend: LegendEntry[];
+  legendSize: { width: number; height: number };
+  /** True when the y axis was stretched upward so the legend has a band above all data. */
+  headroom: boolean;
 }
 
-/** Splits the vertical space among panels by relativeHeight and builds each panel's y axis. */
-function layoutPanels(panels: PlotPanel[], heightPx: number): PanelLayout[] {
-  const available = heightPx - MARGIN_TOP_PX - MARGIN_BOTTOM_PX - PANEL_GAP_PX * (panels.length - 1);
+/**
+ * Splits the vertical space among panels by relativeHeight and builds each panel's y axis. A panel in
+ * `headroom` gets its axis stretched above the data by the legend's band: with the nice domain [lo, hi]
+ * covering the data, hi' = hi + (hi − lo)·B/(H − B) leaves the top B px of the H px panel free of data.
+ */
+function layoutPanels(panels: PlotPanel[], heightPx: number, topPx: number, headroom: Set<number>): PanelLayout[] {
+  const available = heightPx - topPx - MARGIN_BOTTOM_PX - PANEL_GAP_PX * (panels.length - 1);
   const weights = panels.map((p) => p.relativeHeight ?? 1);
   const totalWeight = weights.reduce((a, b) => a + b, 0);
-  let top = MARGIN_TOP_PX;
+  let top = topPx;
   return panels.map((panel, i) => {
     const height = Math.max(MIN_PANEL_HEIGHT_PX, (available * weights[i]) / totalWeight);
     const ys = panel.series.map((s) => finitePairs(s).y);
     const padFraction = Y_PADDING_PX / height;
     let extent = paddedExtent(ys, padFraction);
     if (extent !== null && panel.zeroLine) extent = paddedExtent([ys.flat(), [0]], padFraction);
-    const layout = { panel, top, height, yAxis: niceAxis(extent, height, Y_TICK_SPACING_PX) };
+    const legend = panel.series.map((s, j) => ({ label: s.label, style: s.style, colour: seriesColour(j) }));
+    const size = legendSize(legend);
+    const yAxis = niceAxis(extent, height, Y_TICK_SPACING_PX);
+    const stretched = headroom.has(i) && yAxis !== null;
+    if (stretched) {
+      const band = Math.min(legendBandHeight(size), height / 2);
+      const [lo, hi] = yAxis.domain;
+      yAxis.domain = [lo, hi + ((hi - lo) * band) / (height - band)];
+    }
+    const layout = { panel, top, height, yAxis, legend, legendSize: size, headroom: stretched };
     top += height + PANEL_GAP_PX;
     return layout;
   });
@@ -146,12 +168,25 @@ function yLabelFontSize(label: string, panelHeightPx: number): number {
 const GRID_STYLE = { stroke: '#e6e6e6', 'stroke-width': 1 };
 const AXIS_STYLE = { stroke: '#444444', 'stroke-width': 1 };
 
-function renderPanel(layout: PanelLayout, index: number, area: Box, x: LinearScale, xAxis: Axis | null): string {
+/** The y scale of a panel (null when it has no data). */
+function yScaleOf(layout: PanelLayout, area: Box): LinearScale | null {
+  return layout.yAxis ? linearScale(layout.yAxis.domain, [area.top + area.height, area.top]) : null;
+}
+
+/** Where the panel's legend goes: a free position, the headroom band, or null (no free position yet). */
+function legendBoxOf(layout: PanelLayout, area: Box, x: LinearScale): Box | null {
+  const y = yScaleOf(layout, area);
+  if (!y) return null;
+  if (layout.headroom) return headroomLegendBox(area, layout.legendSize);
+  return placeLegend(area, layout.legendSize, layout.panel.series.flatMap((s) => pixelRuns(s, x, y)));
+}
+
+function renderPanel(layout: PanelLayout, index: number, area: Box, x: LinearScale, xAxis: Axis | null, legendBox: Box | null): string {
   const { panel, yAxis } = layout;
   const right = area.left + area.width;
   const bottom = area.top + area.height;
   const parts: string[] = [];
-  const y = yAxis ? linearScale(yAxis.domain, [bottom, area.top]) : null;
+  const y = yScaleOf(layout, area);
 
   const grid: string[] = [];
   for (const value of xAxis?.ticks ?? []) {
@@ -190,11 +225,8 @@ function renderPanel(layout: PanelLayout, index: number, area: Box, x: LinearSca
   }
 
   if (y) {
-    const entries = panel.series.map((s, i) => ({ label: s.label, style: s.style, colour: seriesColour(i) }));
-    const drawn = panel.series.map((s, i) => drawSeries(s, entries[i].colour, x, y));
-    parts.push(...drawn.map((d) => d.svg));
-    const box = placeLegend(area, legendSize(entries), drawn.flatMap((d) => d.runs));
-    parts.push(renderLegend(entries, box));
+    parts.push(...panel.series.map((s, i) => drawSeries(s, layout.legend[i].colour, x, y).svg));
+    if (legendBox) parts.push(renderLegend(layout.legend, legendBox));
   } else {
     parts.push(
       textElement({ class: 'no-data', x: area.left + area.width / 2, y: labelY, dy: '0.35em', 'text-anchor': 'middle', fill: '#777777', 'font-size': AXIS_LABEL_FONT_PX }, 'no data'),
@@ -217,6 +249,17 @@ function renderXAxis(xAxis: Axis | null, x: LinearScale, plotBottom: number, xLa
 }
 
 /**
+ * The title as <text class="title">: one line as plain text, several as one <tspan class="title-line"> each.
+ * Its full text is also in <title>.
+ */
+function renderTitle(lines: string[], width: number): string {
+  const attributes = { class: 'title', x: width / 2, y: TITLE_BASELINE_PX, 'text-anchor': 'middle', 'font-size': TITLE_FONT_PX, 'font-weight': 'bold' };
+  if (lines.length === 1) return textElement(attributes, lines[0]);
+  const spans = lines.map((line, i) => element('tspan', { class: 'title-line', x: width / 2, dy: i === 0 ? 0 : TITLE_LINE_HEIGHT_PX }, [escapeXml(line)]));
+  return element('text', attributes, spans);
+}
+
+/**
  * Renders a spectrum plot.
  * Takes a PlotSpec: title, x-axis label (with its unit), panels stacked top to bottom sharing
  * the x axis, optional width/height in px (default 800 × max(400, 120 + 240 × panels)).
@@ -232,28 +275,41 @@ export function renderSpectrumPlot(spec: PlotSpec): string {
   const width = spec.width ?? DEFAULT_WIDTH_PX;
   const height = spec.height ?? defaultHeight(panels.length);
 
-  const layouts = layoutPanels(panels, height);
-  const tickLabelWidth = Math.max(
-    0,
-    ...layouts.flatMap((l) => (l.yAxis ? l.yAxis.ticks.map((t) => estimateTextWidth(l.yAxis!.format(t), TICK_FONT_PX)) : [])),
-  );
-  const left = 6 + AXIS_LABEL_FONT_PX + 10 + tickLabelWidth + TICK_LENGTH_PX + 3;
-  const plotWidth = Math.max(MIN_PANEL_HEIGHT_PX, width - left - MARGIN_RIGHT_PX);
+  const titleLines = wrapText(spec.title, width - 2 * TITLE_SIDE_MARGIN_PX, TITLE_FONT_PX, TITLE_MAX_LINES, 'bold');
+  const top = MARGIN_TOP_PX + (titleLines.length - 1) * TITLE_LINE_HEIGHT_PX;
 
-  const xExtent = paddedExtent(panels.flatMap((p) => p.series.map((s) => finitePairs(s).x)), 0);
-  const xAxis = niceAxis(xExtent, plotWidth, X_TICK_SPACING_PX);
-  const x = linearScale(xAxis ? xAxis.domain : [0, 1], [left, left + plotWidth]);
-
-  const panelSvg = layouts.map((layout, i) =>
-    renderPanel(layout, i, { left, top: layout.top, width: plotWidth, height: layout.height }, x, xAxis),
-  );
+  // Legends never cover data: a panel whose legend finds no free position gets headroom and the layout is
+  // redone (the left margin, hence the x scale, may move with the new y ticks). A panel with headroom always
+  // has its place, so this ends after at most one pass per panel.
+  const headroom = new Set<number>();
+  let frame: { layouts: PanelLayout[]; areas: Box[]; boxes: (Box | null)[]; x: LinearScale; xAxis: Axis | null };
+  for (;;) {
+    const layouts = layoutPanels(panels, height, top, headroom);
+    const tickLabelWidth = Math.max(
+      0,
+      ...layouts.flatMap((l) => (l.yAxis ? l.yAxis.ticks.map((t) => estimateTextWidth(l.yAxis!.format(t), TICK_FONT_PX)) : [])),
+    );
+    const left = 6 + AXIS_LABEL_FONT_PX + 10 + tickLabelWidth + TICK_LENGTH_PX + 3;
+    const plotWidth = Math.max(MIN_PANEL_HEIGHT_PX, width - left - MARGIN_RIGHT_PX);
+    const xExtent = paddedExtent(panels.flatMap((p) => p.series.map((s) => finitePairs(s).x)), 0);
+    const xAxis = niceAxis(xExtent, plotWidth, X_TICK_SPACING_PX);
+    const x = linearScale(xAxis ? xAxis.domain : [0, 1], [left, left + plotWidth]);
+    const areas = layouts.map((l) => ({ left, top: l.top, width: plotWidth, height: l.height }));
+    const boxes = layouts.map((l, i) => legendBoxOf(l, areas[i], x));
+    frame = { layouts, areas, boxes, x, xAxis };
+    const crowded = layouts.flatMap((l, i) => (l.yAxis && boxes[i] === null ? [i] : []));
+    if (crowded.length === 0) break;
+    for (const i of crowded) headroom.add(i);
+  }
+  const { layouts, areas, boxes, x, xAxis } = frame;
+  const panelSvg = layouts.map((layout, i) => renderPanel(layout, i, areas[i], x, xAxis, boxes[i]));
   const last = layouts[layouts.length - 1];
   const plotBottom = last.top + last.height;
 
   const body = [
     `<title>${escapeXml(spec.title)}</title>`,
     element('rect', { class: 'background', x: 0, y: 0, width, height, fill: '#ffffff' }),
-    textElement({ class: 'title', x: width / 2, y: 26, 'text-anchor': 'middle', 'font-size': TITLE_FONT_PX, 'font-weight': 'bold' }, spec.title),
+    renderTitle(titleLines, width),
     ...panelSvg,
     renderXAxis(xAxis, x, plotBottom, spec.xLabel, height),
   ];

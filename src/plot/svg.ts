@@ -70,13 +70,74 @@ export function pointsAttribute(points: Array<[number, number]>): string {
   return points.map(([x, y]) => `${num(x)},${num(y)}`).join(' ');
 }
 
-/** Average advance of a sans-serif glyph in em (digits are 0.556 em in Helvetica/Arial; 0.6 leaves a margin). */
-const AVERAGE_GLYPH_EM = 0.6;
+/**
+ * Width per character in em, for the plots' font (DejaVu Sans first, then Arial/Helvetica). Measured with
+ * rsvg-convert and DejaVu Sans on titles, file names, refs and numbers (`python3 scripts/measure-text-width.py`):
+ * 0.50–0.59 em regular, 0.56–0.65 em bold (digits advance 0.636 em regular, 0.696 em bold; Arial's digits 0.556 em).
+ * 0.6 and 0.68 hold for such text; runs of capitals, m or W (up to 1 em) are the exception.
+ */
+export const GLYPH_EM = { regular: 0.6, bold: 0.68 } as const;
 
 /**
- * A conservative estimate of the rendered width of text, for layout without a font engine.
- * Takes the text and the font size in px; returns the width in px.
+ * An estimate of the rendered width of text, for layout without a font engine.
+ * Takes the text, the font size in px and the weight; returns the width in px (code points × GLYPH_EM × size).
  */
-export function estimateTextWidth(text: string, fontSizePx: number): number {
-  return [...text].length * AVERAGE_GLYPH_EM * fontSizePx;
+export function estimateTextWidth(text: string, fontSizePx: number, weight: keyof typeof GLYPH_EM = 'regular'): number {
+  return [...text].length * GLYPH_EM[weight] * fontSizePx;
+}
+
+/**
+ * Shortens text to fit maxWidthPx by cutting out its middle ("data/marrowick/ito-sp…ed.tsv"): the start and
+ * the end of a file name or ref are the parts that tell them apart. Returns the text unchanged when it fits.
+ */
+export function shortenMiddle(text: string, maxWidthPx: number, fontSizePx: number, weight: keyof typeof GLYPH_EM = 'regular'): string {
+  const chars = [...text];
+  const fits = Math.floor(maxWidthPx / (GLYPH_EM[weight] * fontSizePx));
+  if (chars.length <= fits) return text;
+  if (fits <= 1) return '…';
+  const keep = fits - 1;
+  const head = Math.ceil(keep / 2);
+  return `${chars.slice(0, head).join('')}…${chars.slice(chars.length - (keep - head)).join('')}`;
+}
+
+/**
+ * Breaks text into at most maxLines lines that each fit maxWidthPx by the estimate above: after a colon when
+ * that works ("check of FILE:" / "consistent (…)"), else greedily at spaces; a word too long for a line is
+ * shortened in its middle, and the last line too when the text needs more lines. Returns at least one line.
+ */
+export function wrapText(text: string, maxWidthPx: number, fontSizePx: number, maxLines: number, weight: keyof typeof GLYPH_EM = 'regular'): string[] {
+  const greedy = wrapGreedy(text, maxWidthPx, fontSizePx, maxLines, weight);
+  if (greedy.length === 1 || maxLines < 2) return greedy;
+  const words = text.split(' ').filter((w) => w !== '');
+  for (let i = words.length - 1; i > 0; i--) {
+    if (!words[i - 1].endsWith(':')) continue;
+    const head = words.slice(0, i).join(' ');
+    const tail = wrapGreedy(words.slice(i).join(' '), maxWidthPx, fontSizePx, maxLines - 1, weight);
+    const whole = (line: string) => !line.includes('…');
+    if (estimateTextWidth(head, fontSizePx, weight) <= maxWidthPx && tail.every(whole) && greedy.every(whole)) return [head, ...tail];
+  }
+  return greedy;
+}
+
+function wrapGreedy(text: string, maxWidthPx: number, fontSizePx: number, maxLines: number, weight: keyof typeof GLYPH_EM = 'regular'): string[] {
+  const fits = (line: string) => estimateTextWidth(line, fontSizePx, weight) <= maxWidthPx;
+  const lines: string[] = [];
+  let current = '';
+  const words = text.split(' ').filter((w) => w !== '');
+  for (let i = 0; i < words.length; i++) {
+    const candidate = current === '' ? words[i] : `${current} ${words[i]}`;
+    if (fits(candidate)) {
+      current = candidate;
+      continue;
+    }
+    if (lines.length === maxLines - 1) {
+      // the last line allowed: the rest of the text, shortened in the middle below
+      current = [current, ...words.slice(i)].filter((w) => w !== '').join(' ');
+      break;
+    }
+    if (current !== '') lines.push(current);
+    current = fits(words[i]) ? words[i] : shortenMiddle(words[i], maxWidthPx, fontSizePx, weight);
+  }
+  lines.push(shortenMiddle(current, maxWidthPx, fontSizePx, weight));
+  return lines;
 }

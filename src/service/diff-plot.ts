@@ -1,4 +1,4 @@
-/** The plot of a version diff: n of both, k of both, and Δn, Δk, over the common range (engineer P's renderSpectrumPlot). */
+/** The plot of a version diff: n of both, k of both, and Δn, Δk, over the common range. */
 import { renderSpectrumPlot, type PlotSpec } from '../plot/spectrum-plot.ts';
 import { InputError } from '../errors.ts';
 import type { VersionDiff } from './diff.ts';
@@ -8,7 +8,7 @@ export function diffPlotSpec(diff: VersionDiff): PlotSpec {
   const { wavelength_nm: x, n_a, n_b, k_a, k_b } = diff.curves;
   return {
     title: `${diff.a.ref} vs ${diff.b.ref}`,
-    xLabel: 'wavelength (nm)',
+    xLabel: 'Wavelength (nm)',
     panels: [
       { yLabel: 'n', series: [{ label: diff.a.ref, x, y: n_a, style: 'line' }, { label: diff.b.ref, x, y: n_b, style: 'dashed' }] },
       { yLabel: 'k', series: [{ label: diff.a.ref, x, y: k_a, style: 'line' }, { label: diff.b.ref, x, y: k_b, style: 'dashed' }] },

@@ -76,7 +76,7 @@ describe('fit plot (SVG parsed with fast-xml-parser)', () => {
     const doc = new XMLParser({ ignoreAttributes: false, attributeNamePrefix: '' }).parse(svg).svg;
     expect(doc.title).toBe('SiNx recipe A');
     const panels = [doc.g].flat().filter((g: { class: string }) => g.class === 'panel');
-    expect(panels.map((p: Record<string, string>) => p['data-y-label'])).toEqual(['n', 'k', 'Residual (measured − model)']);
+    expect(panels.map((p: Record<string, string>) => p['data-y-label'])).toEqual(['n', 'k', 'measured − model']);
     const xAxis = [doc.g].flat().find((g: { class: string }) => g.class === 'x-axis');
     expect(JSON.stringify(xAxis)).toContain('Wavelength (nm)');
     const series = panels.flatMap((p: { g: unknown }) => [p.g].flat().filter((g) => (g as { class: string }).class === 'series')) as Record<string, string>[];

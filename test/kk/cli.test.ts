@@ -2,11 +2,11 @@
 import { mkdtempSync, readFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
-import { XMLParser } from 'fast-xml-parser';
 import { describe, expect, it } from 'vitest';
 import { checkKramersKronig } from '../../src/kk/check.ts';
 import { kkPlotSpec } from '../../src/kk/plot-spec.ts';
 import { runCli } from '../cli/run-cli.ts';
+import { findAll, parseSvg } from '../plot/svg-tree.ts';
 
 const run = (...args: string[]) => runCli(['kk', ...args]);
 const csv = (name: string) => `test/fixtures/kk/${name}.csv`;
@@ -46,13 +46,23 @@ describe('nkledger kk', () => {
     expect((await run('test/fixtures/kk/no-such-file.csv')).code).toBe(2);
   });
 
-  it('--plot writes an SVG with the measured n, the reconstructed n and Δn', async () => {
+  it('--plot writes a well-formed SVG: every row as a measured point, the reconstruction, Δn and the band', async () => {
     const file = join(mkdtempSync(join(tmpdir(), 'nkledger-kk-')), 'kk.svg');
     expect((await run(csv('tauc-lorentz'), '--plot', file)).code).toBe(0);
-    const svg = readFileSync(file, 'utf8');
-    const doc = new XMLParser({ ignoreAttributes: false }).parse(svg);
-    expect(doc.svg).toBeDefined();
-    for (const label of ['n measured', 'n KK-reconstructed', 'Δn']) expect(svg).toContain(`data-label="${label}"`);
+    const root = parseSvg(readFileSync(file, 'utf8')); // throws when malformed
+    const rows = readFileSync(new URL(`../fixtures/kk/tauc-lorentz.csv`, import.meta.url), 'utf8').trim().split('\n').length - 1;
+    expect(findAll(root, 'title')[0].text).toMatch(/^Kramers-Kronig check of test\/fixtures\/kk\/tauc-lorentz\.csv: consistent \(max \|Δn\| /);
+    const [nPanel, dnPanel] = findAll(root, 'g', 'panel');
+    const series = (panel: typeof root) => findAll(panel, 'g', 'series').map((s) => [s.attrs['data-label'], s.attrs['data-style'], Number(s.attrs['data-count'])]);
+    expect(series(nPanel)).toEqual([
+      ['n measured', 'points', rows],
+      ['n KK-reconstructed', 'line', rows],
+    ]);
+    expect(findAll(findAll(nPanel, 'g', 'series')[0], 'circle')).toHaveLength(rows);
+    expect(series(dnPanel)).toEqual([
+      ['Δn', 'line', rows],
+      ['±tolerance 0.005', 'dashed', 4],
+    ]);
   });
 });
 
@@ -66,6 +76,8 @@ describe('kkPlotSpec', () => {
     expect(spec.panels[0].series[0].y).toEqual(doc.n);
     expect(spec.panels[1].zeroLine).toBe(true);
     expect(spec.panels[1].series[0].y).toEqual(report.reconstructed.dn);
-    expect(spec.panels[1].series[1].y).toEqual([report.tolerance, report.tolerance]);
+    // one band, one series: both edges, broken by a NaN so they are drawn as two lines in one style
+    expect(spec.panels[1].series).toHaveLength(2);
+    expect(spec.panels[1].series[1].y).toEqual([report.tolerance, report.tolerance, NaN, -report.tolerance, -report.tolerance]);
   });
 });

@@ -276,8 +276,8 @@ describe('renderSpectrumPlot: degenerate data', () => {
 describe('legend placement', () => {
   const area = { left: 100, top: 50, width: 600, height: 300 };
   const size = { width: 120, height: 44 };
-  const corner = (box: { left: number; top: number }) =>
-    `${box.top < area.top + area.height / 2 ? 'top' : 'bottom'}-${box.left < area.left + area.width / 2 ? 'left' : 'right'}`;
+  const corner = (box: { left: number; top: number } | null) =>
+    box === null ? 'none' : `${box.top < area.top + area.height / 2 ? 'top' : 'bottom'}-${box.left < area.left + area.width / 2 ? 'left' : 'right'}`;
 
   it('prefers top-right when it is free', () => {
     expect(corner(placeLegend(area, size, [[[150, 300], [650, 300]]]))).toBe('top-right');

@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { element, escapeXml, estimateTextWidth, num, pointsAttribute, textElement } from '../../src/plot/svg.ts';
+import { element, escapeXml, estimateTextWidth, num, pointsAttribute, shortenMiddle, textElement, wrapText } from '../../src/plot/svg.ts';
 import { parseSvg } from './svg-tree.ts';
 
 describe('escapeXml (XML 1.0 predefined entities: published, W3C XML 1.0 §4.6)', () => {
@@ -50,5 +50,24 @@ describe('element', () => {
   it('estimates text width from the character count', () => {
     expect(estimateTextWidth('1.90', 12)).toBeCloseTo(4 * 0.6 * 12);
     expect(estimateTextWidth('😀', 10)).toBeCloseTo(6); // one code point, not two UTF-16 units
+  });
+});
+
+describe('wrapText and shortenMiddle (12 px regular: 7.2 px per character)', () => {
+  it('keeps text that fits on one line', () => {
+    expect(wrapText('n of MgF2', 100, 12, 2)).toEqual(['n of MgF2']);
+  });
+
+  it('breaks after a colon when both parts fit, else greedily at spaces', () => {
+    expect(wrapText('check of a.csv: consistent (max 1e-3)', 200, 12, 2)).toEqual(['check of a.csv:', 'consistent (max 1e-3)']);
+    expect(wrapText('one two three four five six', 100, 12, 2)).toEqual(['one two three', 'four five six']);
+  });
+
+  it('shortens a word longer than a line, and the last line when more lines would be needed', () => {
+    expect(shortenMiddle('abcdefghijklmnopqrstuvwxyz', 72, 12)).toBe('abcde…wxyz');
+    expect(wrapText('abcdefghijklmnopqrstuvwxyz', 72, 12, 2)).toEqual(['abcde…wxyz']);
+    const lines = wrapText('aaa bbb ccc ddd eee fff ggg hhh', 60, 12, 2);
+    expect(lines).toEqual(['aaa bbb', 'ccc …hhh']);
+    for (const line of lines) expect(estimateTextWidth(line, 12)).toBeLessThanOrEqual(60);
   });
 });

@@ -1,5 +1,4 @@
 import { afterEach, beforeEach, describe, expect, it } from 'vitest';
-import { XMLParser } from 'fast-xml-parser';
 import { fitTable } from '../../src/fit/fit.ts';
 import { parseNkTable } from '../../src/io/parse-table.ts';
 import type { NkTable } from '../../src/table.ts';
@@ -14,6 +13,7 @@ import {
   versionSha256,
 } from '../../src/service/registry.ts';
 import { tempRegistry, type TempRegistry } from './helpers.ts';
+import { findAll, parseSvg } from '../plot/svg-tree.ts';
 
 /** Cauchy n = A + B/λ² (λ in µm) on 400…800 nm every 5 nm, k = 0, plus an optional Gaussian bump in n. */
 function table(A: number, B: number, bump?: { amplitude: number; centreNm: number; widthNm: number }): NkTable {
@@ -63,9 +63,18 @@ describe('diff', () => {
     // Δn = 0.01 + 0.0004/λ², largest at the shortest common wavelength, 400 nm: 0.01 + 0.0004/0.16 = 0.0125
     expect(d.dn!.at_nm).toBe(400);
     expect(d.dn!.max_abs).toBeCloseTo(0.0125, 7);
-    const svg = new XMLParser({ ignoreAttributes: false }).parse(renderDiffPlot(d));
-    expect(svg.svg).toBeDefined();
-    expect(renderDiffPlot(d)).toContain('sio2@1 vs sio2@2');
+    const root = parseSvg(renderDiffPlot(d)); // throws when malformed
+    expect(findAll(root, 'title')[0].text).toBe('sio2@1 vs sio2@2');
+    const points = d.curves!.wavelength_nm.length;
+    const panels = findAll(root, 'g', 'panel').map((p) => [
+      p.attrs['data-y-label'],
+      findAll(p, 'g', 'series').map((s) => `${s.attrs['data-label']} ${s.attrs['data-style']} ${s.attrs['data-count']}`),
+    ]);
+    expect(panels).toEqual([
+      ['n', [`sio2@1 line ${points}`, `sio2@2 dashed ${points}`]],
+      ['k', [`sio2@1 line ${points}`, `sio2@2 dashed ${points}`]],
+      ['difference (b − a)', [`Δn line ${points}`, `Δk dashed ${points}`]],
+    ]);
   });
 });
 
