@@ -8,19 +8,9 @@ import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
-import { InputError } from '../../src/errors.ts';
 import { DEFAULT_K_TOLERANCE, LARGE_GAP_FACTOR, parseNkTable } from '../../src/io/parse-table.ts';
 import { loadTable } from '../../src/service/source.ts';
-
-function refusal(run: () => unknown): InputError {
-  try {
-    run();
-  } catch (err) {
-    expect(err).toBeInstanceOf(InputError);
-    return err as InputError;
-  }
-  throw new Error('expected a refusal');
-}
+import { refusal } from './refusal.ts';
 
 const csv = (rows: string[]) => `wavelength (nm),n,k\n${rows.join('\n')}\n`;
 

@@ -1,7 +1,7 @@
 import { readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
-import { InputError } from '../../src/errors.ts';
 import { parseNkTable, type ImportOptions } from '../../src/io/parse-table.ts';
+import { refusal } from './refusal.ts';
 
 const FIXTURES = new URL('../fixtures/import/', import.meta.url);
 const read = (path: string) => readFileSync(new URL(path, FIXTURES));
@@ -81,16 +81,6 @@ const BAD: [file: string, rule: string, line?: number, column?: number][] = [
   ['energy-zero.csv', 'x-not-positive', 2, 1],
   ['unbalanced-quote.csv', 'unbalanced-quote', 3, undefined],
 ];
-
-function refusal(run: () => unknown): InputError {
-  try {
-    run();
-  } catch (err) {
-    expect(err).toBeInstanceOf(InputError);
-    return err as InputError;
-  }
-  throw new Error('expected a refusal');
-}
 
 describe('parseNkTable: good files', () => {
   for (const c of GOOD) {
