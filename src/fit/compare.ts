@@ -8,6 +8,7 @@ import { buildModel } from '../models/catalogue.ts';
 import type { NkTable } from '../table.ts';
 import { fitTable } from './fit.ts';
 import type { FitOptions, FitReport } from './types.ts';
+import { minOf } from '../optics/extremes.ts';
 
 export interface ComparedModel {
   model: string;
@@ -85,7 +86,7 @@ export function compareModels(table: NkTable, specs: string[], options: Omit<Fit
   const best = (key: 'aic' | 'bic') => {
     const ok = models.filter((m) => m[key] !== null);
     if (ok.length === 0) return null;
-    const min = Math.min(...ok.map((m) => m[key] as number));
+    const min = minOf(ok.map((m) => m[key] as number));
     for (const m of ok) m[key === 'aic' ? 'delta_aic' : 'delta_bic'] = (m[key] as number) - min;
     return ok.find((m) => m[key] === min)!.model;
   };

@@ -9,6 +9,7 @@
  */
 import { EigenvalueDecomposition, Matrix, inverse } from 'ml-matrix';
 import { InputError, NumericalError } from '../errors.ts';
+import { maxOf, minOf } from '../optics/extremes.ts';
 
 /** |r| above which a pair of parameters is flagged as highly correlated. */
 export const CORRELATION_THRESHOLD = 0.95;
@@ -46,8 +47,8 @@ export function uncertainty(jacobian: Float64Array[], names: string[], chi2: num
   for (let a = 0; a < count; a++) for (let b = 0; b < count; b++) scaled.set(a, b, alpha.get(a, b) / (d[a] * d[b]));
   const eig = new EigenvalueDecomposition(scaled, { assumeSymmetric: true });
   const values = eig.realEigenvalues;
-  const smallest = values.indexOf(Math.min(...values));
-  if (!(values[smallest] > 1e-13 * Math.max(...values))) {
+  const smallest = values.indexOf(minOf(values));
+  if (!(values[smallest] > 1e-13 * maxOf(values))) {
     const v = eig.eigenvectorMatrix.getColumn(smallest);
     const involved = names.filter((_, a) => Math.abs(v[a]) > 0.3);
     throw new NumericalError(`JᵀWJ is singular: ${involved.join(' and ')} cannot be determined separately by these data; fix one of them with --fix or use fewer --terms`);

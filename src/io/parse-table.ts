@@ -73,7 +73,7 @@ export function parseNkTable(input: string | Uint8Array, options: ImportOptions 
   const xUnit = options.xUnit ?? resolveXUnit(layout.x, parsedRows, { file, line: headerLine, column: layout.columnOf.x }, warnings);
   const quantity = layout.columnOf.eps1 !== undefined ? 'eps' : 'nk';
   const normalized = normalizeRows(parsedRows, { file, xUnit, quantity, columnOf: layout.columnOf, kTolerance });
-  warnings.push(...normalized.warnings);
+  for (const w of normalized.warnings) warnings.push(w);
 
   const detected: DetectedFormat = {
     encoding: decoded.encoding,

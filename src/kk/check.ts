@@ -9,6 +9,7 @@ import { photonEnergyEvFromWavelengthNm } from '../optics/units.ts';
 import type { NkTable } from '../table.ts';
 import { fitKkRepresentation } from './represent.ts';
 import { SPECTRAL_BANDS, argMaxAbs, differenceNoise, movingAverage, rms } from './residuals.ts';
+import { maxOf } from '../optics/extremes.ts';
 
 export type KkVerdict = 'consistent' | 'inconsistent' | 'uninformative';
 
@@ -143,7 +144,7 @@ export function checkKramersKronig(table: NkTable, options: KkOptions = {}): KkR
   const flagged = beyondNoise.some((excess) => excess > tolerance);
   const worst = argMaxAbs(dn);
   const sysWorst = argMaxAbs(smoothed.mean);
-  const maxK = Math.max(...table.k);
+  const maxK = maxOf(table.k);
   const verdict: KkVerdict = flagged ? 'inconsistent' : maxK < kNegligible ? 'uninformative' : 'consistent';
 
   const wl = table.wavelengthNm;
@@ -160,7 +161,7 @@ export function checkKramersKronig(table: NkTable, options: KkOptions = {}): KkR
       rms_dn: rms(bandDn),
       max_dn: Math.abs(dn[w]),
       worst_nm: wl[w],
-      systematic_max_dn: Math.max(...idx.map((i) => Math.abs(smoothed.mean[i]))),
+      systematic_max_dn: maxOf(idx.map((i) => Math.abs(smoothed.mean[i]))),
     });
   }
 

@@ -10,6 +10,7 @@
  */
 import { makeKkBasis, fillBasisRows, type KkBasis } from './basis.ts';
 import { nnlsNormal } from './nnls.ts';
+import { maxOf, minOf } from '../optics/extremes.ts';
 
 export interface KkFitInput {
   energyEv: number[];
@@ -40,39 +41,44 @@ export interface KkFit {
 /** Scale-free ridge keeping every passive-set subsystem positive definite. */
 const RIDGE = 1e-11;
 
+/** Points per block of the normal-equation accumulation (size × BLOCK doubles stay in cache). */
+const BLOCK = 1024;
+
 export function fitKkRepresentation(input: KkFitInput, options: KkFitOptions): KkFit {
   const count = input.energyEv.length;
-  const minEv = Math.min(...input.energyEv);
-  const maxEv = Math.max(...input.energyEv);
+  const minEv = minOf(input.energyEv);
+  const maxEv = maxOf(input.energyEv);
   const basis = makeKkBasis(minEv, maxEv, options.intervals);
   const size = basis.columnCount;
-  // ε1 design columns, weighted, column-major so each Gram entry is one contiguous dot product.
-  const columns = new Float64Array(size * count);
-  const eps2Rows = new Float64Array(count * size);
   const row1 = new Float64Array(size);
+  const row2 = new Float64Array(size);
   const scratch = new Float64Array(basis.knotsEv.length);
   const gram = new Float64Array(size * size);
   const rhs = new Float64Array(size);
-  for (let i = 0; i < count; i++) {
-    const r2 = eps2Rows.subarray(i * size, (i + 1) * size);
-    fillBasisRows(basis, input.energyEv[i], row1, r2, scratch);
-    const w1 = input.weight1[i];
-    for (let p = 0; p < size; p++) columns[p * count + i] = w1 * row1[p];
-    // ε2 rows are sparse: only the two triangles around Eᵢ are non-zero.
-    const w2 = input.weight2[i] * input.weight2[i];
-    for (let p = 0; p < basis.triangleCount; p++) {
-      const a = w2 * r2[p];
-      if (a === 0) continue;
-      rhs[p] += a * input.eps2[i];
-      for (let q = p; q < basis.triangleCount; q++) gram[p * size + q] += a * r2[q];
+  // Points go in blocks: the weighted ε1 design rows of one block, column-major so each Gram entry
+  // is one contiguous dot product, are added to the normal equations and dropped. Memory stays
+  // size × BLOCK whatever the table's length (the whole design matrix of a million-row table
+  // would take about 1 GB).
+  const block = new Float64Array(size * BLOCK);
+  const yBlock = new Float64Array(BLOCK);
+  for (let start = 0; start < count; start += BLOCK) {
+    const length = Math.min(BLOCK, count - start);
+    for (let b = 0; b < length; b++) {
+      const i = start + b;
+      fillBasisRows(basis, input.energyEv[i], row1, row2, scratch);
+      const w1 = input.weight1[i];
+      for (let p = 0; p < size; p++) block[p * BLOCK + b] = w1 * row1[p];
+      // ε2 rows are sparse: only the two triangles around Eᵢ are non-zero.
+      const w2 = input.weight2[i] * input.weight2[i];
+      for (let p = 0; p < basis.triangleCount; p++) {
+        const a = w2 * row2[p];
+        if (a === 0) continue;
+        rhs[p] += a * input.eps2[i];
+        for (let q = p; q < basis.triangleCount; q++) gram[p * size + q] += a * row2[q];
+      }
     }
-  }
-  for (let p = 0; p < size; p++) {
-    const cp = columns.subarray(p * count, (p + 1) * count);
-    let sumY = 0;
-    for (let i = 0; i < count; i++) sumY += cp[i] * input.weight1[i] * input.eps1[i];
-    rhs[p] += sumY;
-    for (let q = p; q < size; q++) gram[p * size + q] += dot(cp, columns.subarray(q * count, (q + 1) * count));
+    for (let b = 0; b < length; b++) yBlock[b] = input.weight1[start + b] * input.eps1[start + b];
+    addGramBlock(block, yBlock, length, size, gram, rhs);
   }
   for (let p = 0; p < size; p++) for (let q = 0; q < p; q++) gram[p * size + q] = gram[q * size + p];
   addSmoothingPenalty(gram, size, basis.triangleCount, options.smoothing);
@@ -87,22 +93,66 @@ export function fitKkRepresentation(input: KkFitInput, options: KkFitOptions): K
   const solution = nnlsNormal(gram, rhs, new Set([size - 1]));
   const coefficients = Array.from(solution.x, (v, p) => v / scale[p]);
 
-  const eps1: number[] = new Array(count).fill(0);
-  const eps2: number[] = new Array(count).fill(0);
-  for (let p = 0; p < size; p++) {
-    if (coefficients[p] === 0) continue;
-    for (let i = 0; i < count; i++) {
-      eps1[i] += (columns[p * count + i] / input.weight1[i]) * coefficients[p];
-      eps2[i] += eps2Rows[i * size + p] * coefficients[p];
+  // The reconstruction recomputes each point's basis row rather than keeping the design matrix.
+  const eps1: number[] = new Array(count);
+  const eps2: number[] = new Array(count);
+  for (let i = 0; i < count; i++) {
+    fillBasisRows(basis, input.energyEv[i], row1, row2, scratch);
+    let e1 = 0;
+    let e2 = 0;
+    for (let p = 0; p < size; p++) {
+      const c = coefficients[p];
+      if (c === 0) continue;
+      e1 += row1[p] * c;
+      e2 += row2[p] * c;
     }
+    eps1[i] = e1;
+    eps2[i] = e2;
   }
   return { eps1, eps2, epsInf: coefficients[size - 1], basis, coefficients, iterations: solution.iterations };
 }
 
-function dot(a: Float64Array, b: Float64Array): number {
-  let sum = 0;
-  for (let i = 0; i < a.length; i++) sum += a[i] * b[i];
-  return sum;
+/**
+ * gram[p][q] += Σ_b block[p][b]·block[q][b] (q ≥ p) and rhs[p] += Σ_b block[p][b]·y[b], rows of length
+ * BLOCK. Four columns q at a time share each load of column p: this is most of the check's time on
+ * long tables (basis² × points multiply-adds).
+ */
+function addGramBlock(block: Float64Array, y: Float64Array, length: number, size: number, gram: Float64Array, rhs: Float64Array): void {
+  for (let p = 0; p < size; p++) {
+    const op = p * BLOCK;
+    let sumY = 0;
+    for (let b = 0; b < length; b++) sumY += block[op + b] * y[b];
+    rhs[p] += sumY;
+    let q = p;
+    for (; q + 3 < size; q += 4) {
+      const o0 = q * BLOCK;
+      const o1 = o0 + BLOCK;
+      const o2 = o1 + BLOCK;
+      const o3 = o2 + BLOCK;
+      let s0 = 0;
+      let s1 = 0;
+      let s2 = 0;
+      let s3 = 0;
+      for (let b = 0; b < length; b++) {
+        const v = block[op + b];
+        s0 += v * block[o0 + b];
+        s1 += v * block[o1 + b];
+        s2 += v * block[o2 + b];
+        s3 += v * block[o3 + b];
+      }
+      const g = p * size + q;
+      gram[g] += s0;
+      gram[g + 1] += s1;
+      gram[g + 2] += s2;
+      gram[g + 3] += s3;
+    }
+    for (; q < size; q++) {
+      const oq = q * BLOCK;
+      let sum = 0;
+      for (let b = 0; b < length; b++) sum += block[op + b] * block[oq + b];
+      gram[p * size + q] += sum;
+    }
+  }
 }
 
 /** Add λ·DᵀD (D: second differences of the triangle heights), λ relative to the mean triangle diagonal. */

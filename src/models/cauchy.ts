@@ -7,6 +7,7 @@
 import { clamp } from './grid.ts';
 import { linearLeastSquares } from './least-squares.ts';
 import type { GuessData, ModelTerm, ParameterSpec, SpectralGrid, TermOptions, TermOutput } from './types.ts';
+import { maxOf } from '../optics/extremes.ts';
 
 const INDEX_PARAMETERS: ParameterSpec[] = [
   { name: 'A', unit: '1', meaning: 'index at long wavelength', bounds: [1, 5], guessRule: 'linear least squares of n on 1, λ⁻², λ⁻⁴' },
@@ -61,7 +62,7 @@ function guess(data: GuessData, options: TermOptions): number[] {
   const [a, b, c] = linearLeastSquares([ones, inv2, inv2.map((v) => v * v)], data.n);
   const index = [clamp(a, INDEX_PARAMETERS[0].bounds), clamp(b, INDEX_PARAMETERS[1].bounds), clamp(c, INDEX_PARAMETERS[2].bounds)];
   if (!options.urbach) return index;
-  const eb = Math.max(...Array.from(data.energyEv));
+  const eb = maxOf(data.energyEv);
   const absorbing = Array.from(data.k.keys()).filter((i) => data.k[i] > 0);
   let k0 = 1e-3;
   let eu = 0.1;

@@ -5,6 +5,7 @@
  */
 import { clamp } from './grid.ts';
 import type { GuessData, ModelTerm, ParameterSpec, SpectralGrid, TermOptions, TermOutput } from './types.ts';
+import { maxOf } from '../optics/extremes.ts';
 
 const PARAMETERS: ParameterSpec[] = [
   { name: 'Ep', unit: 'eV', meaning: 'unscreened plasma energy', bounds: [0, 40], guessRule: 'linear least squares of ε on Ep² and the other amplitudes' },
@@ -20,7 +21,7 @@ const PARAMETERS: ParameterSpec[] = [
 function guess(data: GuessData): number[] {
   let low = 0;
   for (let i = 1; i < data.energyEv.length; i++) if (data.energyEv[i] < data.energyEv[low]) low = i;
-  const background = Math.max(...Array.from(data.eps1));
+  const background = maxOf(data.eps1);
   const drop = background - data.eps1[low];
   // ε2/(ε∞ − ε1) = Γ/E for a pure Drude response
   const gamma = drop > 0.5 ? (data.energyEv[low] * data.eps2[low]) / drop : 0.1;

@@ -1,6 +1,7 @@
 /** Building the spectral grid and the guess data a model works on (pure). */
 import { HC_EV_NM } from '../optics/units.ts';
 import type { GuessData, SpectralGrid } from './types.ts';
+import { maxOf } from '../optics/extremes.ts';
 
 /** Grid with wavelength in nm and µm and photon energy E[eV] = hc/λ (CODATA 2018). */
 export function spectralGrid(wavelengthNm: ArrayLike<number>): SpectralGrid {
@@ -43,7 +44,7 @@ export function peakIndices(y: ArrayLike<number>): number[] {
   for (let i = 1; i < count - 1; i++) {
     if (smooth[i] > smooth[i - 1] && smooth[i] >= smooth[i + 1]) peaks.push(i);
   }
-  const max = Math.max(...Array.from(smooth));
+  const max = maxOf(smooth);
   return peaks.filter((i) => smooth[i] > 0.1 * max).sort((a, b) => smooth[b] - smooth[a]);
 }
 

@@ -5,6 +5,7 @@
  */
 import { clamp, halfWidth, oscillatorName, peakIndices } from './grid.ts';
 import type { Amplitude, GuessData, ModelTerm, ParameterSpec, SpectralGrid, TermOptions, TermOutput } from './types.ts';
+import { maxOf } from '../optics/extremes.ts';
 
 const A_BOUNDS: [number, number] = [0, 1e4];
 const E0_BOUNDS: [number, number] = [0.01, 40];
@@ -29,7 +30,7 @@ function parameters(options: TermOptions): ParameterSpec[] {
  */
 export function oscillatorGuesses(data: GuessData, count: number): { e0: number; width: number; height: number }[] {
   const peaks = peakIndices(data.eps2);
-  const eMax = Math.max(...Array.from(data.energyEv));
+  const eMax = maxOf(data.energyEv);
   const interior = peaks.filter((i) => i > 0 && i < data.energyEv.length - 1);
   const list = interior.slice(0, count).map((i) => ({
     e0: data.energyEv[i],

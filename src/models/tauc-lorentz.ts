@@ -13,6 +13,7 @@
 import { clamp, halfWidth, oscillatorName, peakIndices } from './grid.ts';
 import { linearLeastSquares } from './least-squares.ts';
 import type { Amplitude, GuessData, ModelTerm, ParameterSpec, SpectralGrid, TermOptions, TermOutput } from './types.ts';
+import { maxOf, minOf } from '../optics/extremes.ts';
 
 const A_BOUNDS: [number, number] = [0, 2000];
 const E0_BOUNDS: [number, number] = [0.5, 20];
@@ -172,7 +173,7 @@ function guessGapEv(data: GuessData, peakEnergy: number, eps2Max: number): numbe
   const first = Array.from(data.energyEv.keys())
     .filter((i) => data.eps2[i] > 0.05 * eps2Max)
     .reduce((lo, i) => Math.min(lo, data.energyEv[i]), Infinity);
-  return Number.isFinite(first) ? first - 0.2 : 0.8 * Math.min(...Array.from(data.energyEv));
+  return Number.isFinite(first) ? first - 0.2 : 0.8 * minOf(data.energyEv);
 }
 
 /**
@@ -191,8 +192,8 @@ function interbandPart(data: GuessData): GuessData {
 
 function guess(all: GuessData, options: TermOptions): number[] {
   const data = interbandPart(all);
-  const eMax = Math.max(...Array.from(data.energyEv));
-  const eps2Max = Math.max(...Array.from(data.eps2));
+  const eMax = maxOf(data.energyEv);
+  const eps2Max = maxOf(data.eps2);
   const values: number[] = [];
   let eg: number;
   if (!(eps2Max > 1e-3)) {

@@ -225,7 +225,7 @@ function renderPanel(layout: PanelLayout, index: number, area: Box, x: LinearSca
   }
 
   if (y) {
-    parts.push(...panel.series.map((s, i) => drawSeries(s, layout.legend[i].colour, x, y).svg));
+    panel.series.forEach((s, i) => parts.push(drawSeries(s, layout.legend[i].colour, x, y).svg));
     if (legendBox) parts.push(renderLegend(layout.legend, legendBox));
   } else {
     parts.push(
