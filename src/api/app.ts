@@ -24,7 +24,7 @@ import { registerMaterialRoutes } from './routes/materials.ts';
 import { registerLockRoutes } from './routes/locks.ts';
 import { registerUploadRoutes } from './routes/uploads.ts';
 import { registerNkRoute } from './routes/nk.ts';
-import { RegistryChanges } from './registry-changes.ts';
+import { ChangeMemo, RegistryChanges } from './registry-changes.ts';
 
 export interface AppOptions {
   registry: Registry;
@@ -41,15 +41,19 @@ export interface AppOptions {
 
 export function createApp(options: AppOptions): Hono<ApiEnv> {
   const { registry } = options;
-  let settings: Settings = { ...readSettings(registry), ...options.settings };
-  const anonymousReads = () =>
-    settings.anonymous_reads === 'on' || (settings.anonymous_reads === 'auto' && options.loopback === true);
   const changes = new RegistryChanges(registry);
+  // Settings are re-read when the registry changes, so `nkledger settings set` in another process
+  // (or another server on the same file) takes effect from this server's next turn of the event loop.
+  const settingsMemo = new ChangeMemo<Settings>(changes, 1);
+  const currentSettings = (): Settings => settingsMemo.get('settings', () => ({ ...readSettings(registry), ...options.settings }));
+  const anonymousReads = () => {
+    const mode = currentSettings().anonymous_reads;
+    return mode === 'on' || (mode === 'auto' && options.loopback === true);
+  };
   const ctx: RouteContext = {
     registry,
     changes,
-    settings: () => settings,
-    reloadSettings: () => (settings = { ...readSettings(registry), ...options.settings }),
+    settings: currentSettings,
     requireRole: (role) => requireRole(role, anonymousReads),
   };
   const logFault = options.logFault ?? ((err: unknown) => console.error('nkledger serve: internal error:', err));
@@ -62,19 +66,21 @@ export function createApp(options: AppOptions): Hono<ApiEnv> {
   app.notFound((c) => problemResponse(new HttpProblem(404, 'route-not-found', `no route for ${c.req.method} ${c.req.path}`)));
 
   const corsMiddleware = cors({
-    origin: (origin) => (settings.cors_origins.includes(origin) ? origin : null),
+    origin: (origin) => (currentSettings().cors_origins.includes(origin) ? origin : null),
     allowMethods: ['GET', 'POST', 'PUT', 'DELETE', 'OPTIONS'],
     allowHeaders: ['Authorization', 'Content-Type', 'If-None-Match', 'Accept'],
     exposeHeaders: ['ETag', 'Location', 'Deprecation'],
     maxAge: 600,
   });
-  const bodyLimited: MiddlewareHandler<ApiEnv> = (c, next) =>
-    bodyLimit({
-      maxSize: settings.max_body_bytes,
+  const bodyLimited: MiddlewareHandler<ApiEnv> = (c, next) => {
+    const maxSize = currentSettings().max_body_bytes;
+    return bodyLimit({
+      maxSize,
       onError: () => {
-        throw new HttpProblem(413, 'body-too-large', `request body exceeds ${settings.max_body_bytes} bytes (setting max_body_bytes)`);
+        throw new HttpProblem(413, 'body-too-large', `request body exceeds ${maxSize} bytes (setting max_body_bytes)`);
       },
     })(c, next);
+  };
   const authenticated = authenticate(registry, changes);
   // The front door of every /api route: CORS first (a preflight is answered, refusals carry CORS
   // headers), then the body limit, then the bearer token — each only where it applies. Only browsers

@@ -10,9 +10,10 @@ export interface RouteContext {
   registry: Registry;
   /** Tells when the registry may have changed, for memos of small answers (registry-changes.ts). */
   changes: RegistryChanges;
-  /** The settings in force (stored values over defaults, then the factory's overrides). */
+  /**
+   * The settings in force (stored values over defaults, then the factory's overrides), re-read
+   * whenever the registry has changed (a change by this server, the CLI or another server).
+   */
   settings(): Settings;
-  /** Re-read stored settings after a change through the API. */
-  reloadSettings(): Settings;
   requireRole(role: TokenRole): MiddlewareHandler<ApiEnv>;
 }

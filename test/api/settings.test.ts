@@ -4,6 +4,7 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { readSettings } from '../../src/service/settings.ts';
 import { runCli } from '../cli/run-cli.ts';
 import { csv, csvTable, json, startHarness, type ApiHarness } from './harness.ts';
+import { cli } from '../reliability/processes.ts';
 
 let h: ApiHarness;
 beforeAll(async () => {
@@ -46,5 +47,26 @@ describe('settings routes and command', { timeout: 120_000 }, () => {
     expect(JSON.parse((await run('settings', 'reset', 'allow_self_approval', '--json')).stdout).allow_self_approval).toBe(false);
     expect((await run('self-approval', 'on')).code).not.toBe(0);
     expect((await run('--help')).stdout).not.toMatch(/^  self-approval /m);
+  });
+});
+
+describe('settings changed outside the server', { timeout: 120_000 }, () => {
+  // A server of its own: the tests above block this process (spawnSync), leaving stale keep-alive sockets.
+  let h: ApiHarness;
+  beforeAll(async () => {
+    h = await startHarness();
+  });
+  afterAll(() => h.stop());
+
+  it('`nkledger settings set anonymous_reads off` in another process reaches the running server', async () => {
+    expect((await h.request('/api/v1/materials')).status).toBe(200);
+    // The CLI runs asynchronously (the server lives in this process and must keep answering).
+    const set = await cli(['settings', 'set', 'anonymous_reads', 'off', '--db', h.registry.path], 'lab-admin');
+    expect(set.code, set.err).toBe(0);
+    expect((await h.request('/api/v1/materials')).status).toBe(401);
+    expect((await h.request('/api/v1/materials', { as: 'reader' })).status).toBe(200);
+    const reset = await cli(['settings', 'reset', 'anonymous_reads', '--db', h.registry.path], 'lab-admin');
+    expect(reset.code, reset.err).toBe(0);
+    expect((await h.request('/api/v1/materials')).status).toBe(200);
   });
 });

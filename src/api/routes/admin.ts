@@ -32,11 +32,11 @@ export function registerAdminRoutes(app: Hono<ApiEnv>, ctx: RouteContext): void 
   app.put('/api/v1/settings/:key', admin, async (c) => {
     const body = parseInput(settingRequest, await readJson(c.req), 'body');
     writeSetting(ctx.registry, c.req.param('key'), body.value, actorOf(c.get('principal')));
-    return c.json({ settings: ctx.reloadSettings() });
+    return c.json({ settings: ctx.settings() });
   });
 
   app.delete('/api/v1/settings/:key', admin, (c) => {
     resetSetting(ctx.registry, c.req.param('key'), actorOf(c.get('principal')));
-    return c.json({ settings: ctx.reloadSettings() });
+    return c.json({ settings: ctx.settings() });
   });
 }
