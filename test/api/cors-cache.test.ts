@@ -35,7 +35,7 @@ describe('CORS allow-list', () => {
       expect(res.headers.get('access-control-expose-headers'), pass).toMatch(/ETag/);
       expect(res.headers.get('vary'), pass).toMatch(/Origin/);
       expect(res.headers.get('vary'), pass).toMatch(/Accept/);
-      expect(res.headers.get('etag'), pass).toMatch(/^"[0-9a-f]{64}\.json"$/);
+      expect(res.headers.get('etag'), pass).toMatch(/^"[0-9a-f]{64}\.approved\.json"$/);
     }
     const script = await h.request(path);
     expect(script.headers.get('access-control-allow-origin')).toBeNull();

@@ -82,29 +82,51 @@ describe('GET .../versions/{n}/nk', () => {
     expect(neither.headers.get('content-type')).toBe('application/problem+json');
   });
 
-  it('caches approved answers per format (ETag + immutable), 304 on If-None-Match', async () => {
+  it('caches approved answers per format (ETag of content and status, a minute), 304 on If-None-Match', async () => {
     const path = '/api/v1/materials/glass/versions/1/nk?wavelengths_nm=500';
     const json = await h.request(path);
     const csvRes = await h.request(path, { headers: { accept: 'text/csv' } });
     const etag = json.headers.get('etag');
-    expect(etag).toMatch(/^"[0-9a-f]{64}\.json"$/);
-    expect(csvRes.headers.get('etag')).toMatch(/^"[0-9a-f]{64}\.csv"$/);
-    expect(json.headers.get('cache-control')).toBe('public, max-age=31536000, immutable');
+    expect(etag).toMatch(/^"[0-9a-f]{64}\.approved\.json"$/);
+    expect(csvRes.headers.get('etag')).toMatch(/^"[0-9a-f]{64}\.approved\.csv"$/);
+    expect(json.headers.get('cache-control')).toBe('public, max-age=60');
     expect(json.headers.get('vary')).toBe('Origin, Accept');
     const again = await h.request(path, { headers: { 'if-none-match': etag! } });
     expect(again.status).toBe(304);
     // RFC 9110 §15.4.5: a 304 carries the validators and caching headers a 200 would have had.
     expect(again.headers.get('etag')).toBe(etag);
-    expect(again.headers.get('cache-control')).toBe('public, max-age=31536000, immutable');
+    expect(again.headers.get('cache-control')).toBe('public, max-age=60');
     expect(again.headers.get('vary')).toBe('Origin, Accept');
     expect(await again.text()).toBe('');
     // With a token the same answer is private (RFC 9111 §3.5), rendered and cached apart from the anonymous one.
     for (let i = 0; i < 2; i++) {
       const withToken = await h.request(path, { as: 'reader' });
-      expect(withToken.headers.get('cache-control')).toBe('private, max-age=31536000, immutable');
+      expect(withToken.headers.get('cache-control')).toBe('private, max-age=60');
       expect(withToken.headers.get('etag')).toBe(etag);
     }
-    expect((await h.request(path)).headers.get('cache-control')).toBe('public, max-age=31536000, immutable');
+    expect((await h.request(path)).headers.get('cache-control')).toBe('public, max-age=60');
+  });
+
+  it('a retirement changes the ETag: a client revalidating the approved answer gets the retired one, cacheable for good', async () => {
+    createMaterial(h.registry, { slug: 'etag-glass', name: 'Glass' }, 'lab-editor');
+    importVersion(h.registry, { slug: 'etag-glass', table: cauchyTable(1.49, 0.0041) }, 'lab-editor');
+    approve(h.registry, 'etag-glass@1', 'lab-approver');
+    const paths = ['/api/v1/materials/etag-glass/versions/1/nk?wavelengths_nm=500', '/api/v1/materials/etag-glass/versions/1'];
+    const etags: string[] = [];
+    for (const path of paths) {
+      const approved = await h.request(path);
+      etags.push(approved.headers.get('etag')!);
+      expect((await h.request(path, { headers: { 'if-none-match': etags.at(-1)! } })).status).toBe(304);
+    }
+    retire(h.registry, 'etag-glass@1', 'superseded', 'lab-approver');
+    for (const [i, path] of paths.entries()) {
+      const after = await h.request(path, { headers: { 'if-none-match': etags[i] } });
+      expect(after.status, path).toBe(200);
+      expect(after.headers.get('etag')).not.toBe(etags[i]);
+      expect(after.headers.get('etag')).toMatch(/\.retired/);
+      expect(after.headers.get('deprecation')).toMatch(/^@\d+$/);
+      expect(after.headers.get('cache-control')).toBe('public, max-age=31536000, immutable');
+    }
   });
 
   it('marks a retired version deprecated and warns; a draft is no-store', async () => {

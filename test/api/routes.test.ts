@@ -12,6 +12,7 @@ import { csv, csvTable, json, snapshotCounts, startHarness, type ApiHarness } fr
 import { cauchyTable } from '../registry/helpers.ts';
 
 const IMMUTABLE = 'public, max-age=31536000, immutable';
+const APPROVED = 'public, max-age=60';
 
 describe('HTTP API routes', () => {
   let h: ApiHarness;
@@ -75,7 +76,7 @@ describe('HTTP API routes', () => {
   });
 
   describe('versions and caching', () => {
-    it('an approved version carries ETag = content hash, an immutable Cache-Control, and answers 304 to If-None-Match', async () => {
+    it('an approved version carries ETag = content hash + status, a minute of caching, and answers 304 to If-None-Match', async () => {
       const res = await h.request('/api/v1/materials/sin-a/versions/2');
       expect(res.status).toBe(200);
       const body = await res.json();
@@ -83,15 +84,15 @@ describe('HTTP API routes', () => {
       expect(body.sha256).toMatch(/^[0-9a-f]{64}$/);
       expect(body.content.table.wavelengthNm.length).toBe(9);
       expect(body.provenance).toBeTypeOf('object');
-      expect(res.headers.get('etag')).toBe(`"${body.sha256}"`);
-      expect(res.headers.get('cache-control')).toBe(IMMUTABLE);
+      expect(res.headers.get('etag')).toBe(`"${body.sha256}.approved"`);
+      expect(res.headers.get('cache-control')).toBe(APPROVED);
       expect(res.headers.get('deprecation')).toBeNull();
 
-      const again = await h.request('/api/v1/materials/sin-a/versions/2', { headers: { 'if-none-match': `"${body.sha256}"` } });
+      const again = await h.request('/api/v1/materials/sin-a/versions/2', { headers: { 'if-none-match': `"${body.sha256}.approved"` } });
       expect(again.status).toBe(304);
-      expect(again.headers.get('etag')).toBe(`"${body.sha256}"`);
+      expect(again.headers.get('etag')).toBe(`"${body.sha256}.approved"`);
       expect(await again.text()).toBe('');
-      const weak = await h.request('/api/v1/materials/sin-a/versions/2', { headers: { 'if-none-match': `"nope", W/"${body.sha256}"` } });
+      const weak = await h.request('/api/v1/materials/sin-a/versions/2', { headers: { 'if-none-match': `"nope", W/"${body.sha256}.approved"` } });
       expect(weak.status).toBe(304);
       const other = await h.request('/api/v1/materials/sin-a/versions/2', { headers: { 'if-none-match': '"0000"' } });
       expect(other.status).toBe(200);
@@ -100,9 +101,9 @@ describe('HTTP API routes', () => {
     it('an answer to a request with a token is private: RFC 9111 §3.5 would let a shared cache reuse a "public" one without the token', async () => {
       const res = await h.request('/api/v1/materials/sin-a/versions/2', { as: 'reader' });
       expect(res.status).toBe(200);
-      expect(res.headers.get('cache-control')).toBe('private, max-age=31536000, immutable');
+      expect(res.headers.get('cache-control')).toBe('private, max-age=60');
       const anonymous = await h.request('/api/v1/materials/sin-a/versions/2');
-      expect(anonymous.headers.get('cache-control')).toBe(IMMUTABLE);
+      expect(anonymous.headers.get('cache-control')).toBe(APPROVED);
       expect(res.headers.get('etag')).toBe(anonymous.headers.get('etag'));
     });
 
@@ -112,7 +113,7 @@ describe('HTTP API routes', () => {
       const body = await res.json();
       expect(body.status).toBe('retired');
       expect(res.headers.get('cache-control')).toBe(IMMUTABLE);
-      expect(res.headers.get('etag')).toBe(`"${body.sha256}"`);
+      expect(res.headers.get('etag')).toBe(`"${body.sha256}.retired"`);
       expect(res.headers.get('deprecation')).toBe(`@${Math.floor(Date.parse(body.retired_at) / 1000)}`);
       expect(body.warnings.join(' ')).toMatch(/retired.*recipe changed/);
     });
