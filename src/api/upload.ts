@@ -44,7 +44,7 @@ export async function readTableUpload(c: Context): Promise<TableUpload> {
   let clientFileName: string | null = null;
   let fields: Record<string, string>;
   if (type === 'multipart/form-data') {
-    const form = await c.req.formData();
+    const form = await readForm(c);
     const part = form.get('table');
     if (!(part instanceof File)) throw new InputError('upload-no-table', 'multipart upload needs a file part named "table"', {}, 400);
     bytes = new Uint8Array(await part.arrayBuffer());
@@ -76,6 +76,17 @@ export async function readTableUpload(c: Context): Promise<TableUpload> {
     file,
   };
   return { bytes, file, clientFileName, importOptions, fields: omit(fields, IMPORT_FIELD_NAMES), fieldsIn };
+}
+
+/** The multipart form, or a 400 when the body is not multipart as its Content-Type says (bad boundary, truncated, garbage). */
+async function readForm(c: Context): Promise<FormData> {
+  try {
+    return await c.req.formData();
+  } catch (err) {
+    // Only a body the parser refused is the client's fault; anything else is ours.
+    if (!(err instanceof TypeError) && !(err instanceof RangeError)) throw err;
+    throw new InputError('upload-multipart', `the multipart/form-data body cannot be read (${err.message}); check the boundary in Content-Type and the body's part delimiters`, { file: UPLOAD_FILE }, 400);
+  }
 }
 
 function pick(fields: Record<string, string>, names: string[]): Record<string, string> {
