@@ -70,6 +70,19 @@ export class IntegrityError extends InputError {
   }
 }
 
+/**
+ * The service cannot take more work now (every compute thread busy, queue full). Nothing was done; the
+ * same request may succeed after `retryAfterSeconds`. HTTP 503 with Retry-After.
+ */
+export class BusyError extends InputError {
+  readonly retryAfterSeconds: number;
+  constructor(message: string, retryAfterSeconds: number, rule = 'server-busy') {
+    super(rule, message, {}, 503);
+    this.name = 'BusyError';
+    this.retryAfterSeconds = retryAfterSeconds;
+  }
+}
+
 export function formatLocation(loc: InputLocation): string {
   const parts: string[] = [];
   if (loc.file !== undefined) parts.push(loc.file);

@@ -25,6 +25,7 @@ import { registerLockRoutes } from './routes/locks.ts';
 import { registerUploadRoutes } from './routes/uploads.ts';
 import { registerNkRoute } from './routes/nk.ts';
 import { ChangeMemo, RegistryChanges } from './registry-changes.ts';
+import { ComputePool } from '../service/compute-pool.ts';
 
 export interface AppOptions {
   registry: Registry;
@@ -37,6 +38,11 @@ export interface AppOptions {
   settings?: Partial<Settings>;
   /** Where internal faults are logged (default: stderr). */
   logFault?: (err: unknown) => void;
+  /**
+   * The worker threads fits and KK checks run on (src/service/compute-pool.ts). Default: a pool of
+   * the default size, made here; threads start only when a task comes (the caller closes it).
+   */
+  compute?: ComputePool;
 }
 
 export function createApp(options: AppOptions): Hono<ApiEnv> {
@@ -53,6 +59,7 @@ export function createApp(options: AppOptions): Hono<ApiEnv> {
   const ctx: RouteContext = {
     registry,
     changes,
+    compute: options.compute ?? new ComputePool(),
     settings: currentSettings,
     requireRole: (role) => requireRole(role, anonymousReads),
   };

@@ -5,9 +5,12 @@ import type { Settings } from '../service/settings.ts';
 import type { Registry } from '../registry/open.ts';
 import type { ApiEnv } from './auth.ts';
 import type { RegistryChanges } from './registry-changes.ts';
+import type { ComputePool } from '../service/compute-pool.ts';
 
 export interface RouteContext {
   registry: Registry;
+  /** The worker threads for CPU-heavy work (fits, KK checks): nothing heavy runs on the event loop. */
+  compute: ComputePool;
   /** Tells when the registry may have changed, for memos of small answers (registry-changes.ts). */
   changes: RegistryChanges;
   /**

@@ -4,7 +4,7 @@
  * members `rule` (nkledger's rule id) and, for a refused upload, `file`, `line` and `column`.
  */
 import { HTTPException } from 'hono/http-exception';
-import { InputError } from '../errors.ts';
+import { BusyError, InputError } from '../errors.ts';
 
 export const PROBLEM_CONTENT_TYPE = 'application/problem+json';
 
@@ -37,6 +37,7 @@ const TITLES: Record<number, string> = {
   415: 'Unsupported Media Type',
   422: 'Unprocessable Content',
   500: 'Internal Server Error',
+  503: 'Service Unavailable',
 };
 
 /** An error the API raises itself (auth, content negotiation); carried to the error handler like InputError. */
@@ -61,7 +62,8 @@ export function problemFromError(err: unknown): { problem: ProblemDocument; head
       rule: err.rule,
       ...err.location,
     };
-    return { problem, headers: err instanceof HttpProblem ? err.headers : {} };
+    const headers = err instanceof HttpProblem ? err.headers : err instanceof BusyError ? { 'retry-after': String(err.retryAfterSeconds) } : {};
+    return { problem, headers };
   }
   if (err instanceof HTTPException && TITLES[err.status]) {
     // hono's own refusals (e.g. a multipart body it cannot parse).

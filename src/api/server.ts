@@ -8,8 +8,11 @@ import { serve } from '@hono/node-server';
 import type { Hono } from 'hono';
 import { createApp, type AppOptions } from './app.ts';
 import type { ApiEnv } from './auth.ts';
+import { ComputePool, type ComputePoolOptions } from '../service/compute-pool.ts';
 
-export interface ServerOptions extends Omit<AppOptions, 'loopback'> {
+export interface ServerOptions extends Omit<AppOptions, 'loopback' | 'compute'> {
+  /** Size of the compute pool (worker threads for fits and KK checks) and of its queue. */
+  compute?: ComputePoolOptions;
   /** Address to bind; default 127.0.0.1. */
   host?: string;
   /** TCP port; 0 picks a free one. Default 8787. */
@@ -37,11 +40,15 @@ export function isLoopbackHost(host: string): boolean {
 export function startServer(options: ServerOptions): Promise<RunningServer> {
   const host = options.host ?? DEFAULT_HOST;
   const port = options.port ?? DEFAULT_PORT;
-  const app = createApp({ ...options, loopback: isLoopbackHost(host) });
+  const compute = new ComputePool(options.compute);
+  const app = createApp({ ...options, compute, loopback: isLoopbackHost(host) });
   options.extend?.(app);
   return new Promise((resolve, reject) => {
     const server = serve({ fetch: app.fetch, hostname: host, port }) as Server;
-    server.once('error', reject);
+    server.once('error', (err) => {
+      void compute.close();
+      reject(err);
+    });
     server.once('listening', () => {
       const bound = (server.address() as AddressInfo).port;
       const shown = host.includes(':') && !host.startsWith('[') ? `[${host}]` : host;
@@ -51,7 +58,7 @@ export function startServer(options: ServerOptions): Promise<RunningServer> {
         close: () =>
           new Promise<void>((done) => {
             // close() stops accepting and waits for open requests; idle keep-alive sockets are closed now.
-            server.close(() => done());
+            server.close(() => compute.close().then(done, done));
             server.closeIdleConnections();
           }),
       });

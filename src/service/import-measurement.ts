@@ -1,10 +1,14 @@
 /**
  * The import pipeline behind `nkledger import` and the API's upload: parse the measured table,
  * optionally fit a model, run the Kramers-Kronig check, and store everything as one new draft.
- * The fit and the check run before (outside) the write transaction, so writers never wait on them.
+ * Two stages: `prepareMeasurement` is the CPU-heavy part (parse, fit, KK: no registry, plain data in
+ * and out, so the server runs it on a worker thread, src/service/compute-pool.ts) and
+ * `storeMeasurement` the one write transaction. The fit and the check run before (outside) the
+ * transaction, so writers never wait on them.
  */
 import { InputError } from '../errors.ts';
 import { fitTable, type FitOptions } from '../fit/fit.ts';
+import type { FitReport } from '../fit/types.ts';
 import { checkKramersKronig, type KkOptions } from '../kk/check.ts';
 import { parseNkTable, type ImportOptions } from '../io/parse-table.ts';
 import { sha256Hex } from '../registry/canonical.ts';
@@ -33,6 +37,15 @@ export interface MeasurementImported extends ImportedVersion {
   import_warnings: string[];
 }
 
+/** What the heavy stage computed: plain data, so it crosses a worker-thread boundary unchanged. */
+export interface PreparedMeasurement {
+  table: NkTable;
+  fit: FitReport | null;
+  kk: StoredKkReport | null;
+  warnings: string[];
+  sourceSha256: string;
+}
+
 /** The KK report of a table, or an InputError that says how to import without it. */
 export function kkReportFor(table: NkTable, options: KkOptions = {}): StoredKkReport {
   try {
@@ -45,21 +58,36 @@ export function kkReportFor(table: NkTable, options: KkOptions = {}): StoredKkRe
   }
 }
 
-/** Parse, check and store a measured table as a new draft of `slug`. */
-export function importMeasurement(registry: Registry, input: MeasurementImport, actor: string): MeasurementImported {
+/** Parse, fit and check (no registry): the CPU-heavy stage of an import. */
+export function prepareMeasurement(input: Omit<MeasurementImport, 'slug' | 'provenance'>): PreparedMeasurement {
   const imported = parseNkTable(input.bytes, { ...input.importOptions, file: input.file });
   const table = imported.table;
   const kk = input.kk === false ? null : kkReportFor(table, input.kk === true || input.kk === undefined ? {} : input.kk);
+  return { table, fit: input.fit ? fitTable(table, input.fit) : null, kk, warnings: imported.warnings, sourceSha256: sha256Hex(input.bytes) };
+}
+
+/** Store a prepared measurement as a new draft of `slug` (one write transaction). */
+export function storeMeasurement(
+  registry: Registry,
+  input: Pick<MeasurementImport, 'slug' | 'file' | 'provenance'>,
+  prepared: PreparedMeasurement,
+  actor: string,
+): MeasurementImported {
   const stored = importVersion(
     registry,
     {
       slug: input.slug,
-      table,
-      fit: input.fit ? fitTable(table, input.fit) : null,
-      kk,
-      provenance: { ...input.provenance, source_file: input.provenance?.source_file ?? input.file, source_sha256: sha256Hex(input.bytes) },
+      table: prepared.table,
+      fit: prepared.fit,
+      kk: prepared.kk,
+      provenance: { ...input.provenance, source_file: input.provenance?.source_file ?? input.file, source_sha256: prepared.sourceSha256 },
     },
     actor,
   );
-  return { ...stored, import_warnings: imported.warnings };
+  return { ...stored, import_warnings: prepared.warnings };
+}
+
+/** Parse, check and store a measured table as a new draft of `slug`. */
+export function importMeasurement(registry: Registry, input: MeasurementImport, actor: string): MeasurementImported {
+  return storeMeasurement(registry, input, prepareMeasurement(input), actor);
 }

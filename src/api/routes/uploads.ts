@@ -1,17 +1,15 @@
 /**
  * Table uploads: POST /api/v1/materials/{slug}/versions stores a new draft through the import
  * pipeline (src/service/import-measurement.ts, the one `nkledger import` uses); POST /api/v1/fit and /api/v1/kk
- * run the fitter or the Kramers-Kronig check on an uploaded table and store nothing.
+ * run the fitter or the Kramers-Kronig check on an uploaded table and store nothing. Parsing, fits and
+ * checks run on the compute pool's worker threads (src/service/compute-pool.ts); a full pool is 503.
  */
 import type { Hono } from 'hono';
 import { z } from 'zod';
 import { InputError } from '../../errors.ts';
 import { checkSlug } from '../../registry/refs.ts';
 import { PROVENANCE_FIELDS } from '../../registry/types.ts';
-import { importMeasurement } from '../../service/import-measurement.ts';
-import { parseNkTable } from '../../io/parse-table.ts';
-import { fitTable } from '../../fit/fit.ts';
-import { checkKramersKronig } from '../../kk/check.ts';
+import { storeMeasurement } from '../../service/import-measurement.ts';
 import { actorOf, type ApiEnv } from '../auth.ts';
 import { FIT_OPTION_FIELDS, fitOptionsFromFields, givenFitFields } from '../fit-fields.ts';
 import { readTableUpload } from '../upload.ts';
@@ -45,19 +43,16 @@ export function registerUploadRoutes(app: Hono<ApiEnv>, ctx: RouteContext): void
     const unused = fit === undefined ? givenFitFields(fitFields) : [];
     if (unused.length) throw new InputError('bad-option', `${unused.join(', ')} configure a fit: add fit=MODEL`);
     const actor = actorOf(c.get('principal'));
-    const result = importMeasurement(
-      ctx.registry,
-      {
-        slug,
-        bytes: upload.bytes,
-        file: upload.file,
-        importOptions: upload.importOptions,
-        fit: fit ? { ...fitOptionsFromFields(fitFields), model: fit } : undefined,
-        kk,
-        provenance,
-      },
-      actor,
-    );
+    const input = {
+      bytes: upload.bytes,
+      file: upload.file,
+      importOptions: upload.importOptions,
+      fit: fit ? { ...fitOptionsFromFields(fitFields), model: fit } : undefined,
+      kk,
+    };
+    // Parse, fit and KK on a worker thread; only the write transaction runs here.
+    const prepared = await ctx.compute.run({ kind: 'measurement', input });
+    const result = storeMeasurement(ctx.registry, { slug, file: upload.file, provenance }, prepared, actor);
     c.header('location', versionUrl(result.ref));
     return c.json(result, 201);
   });
@@ -65,17 +60,17 @@ export function registerUploadRoutes(app: Hono<ApiEnv>, ctx: RouteContext): void
   app.post('/api/v1/fit', reader, async (c) => {
     const upload = await readTableUpload(c);
     const { model, ...fitFields } = parseInput(fitOnlyFields, upload.fields, upload.fieldsIn, 400);
-    const options = { ...fitOptionsFromFields(fitFields), model };
-    const imported = parseNkTable(upload.bytes, upload.importOptions);
+    const fitOptions = { ...fitOptionsFromFields(fitFields), model };
+    const result = await ctx.compute.run({ kind: 'fit', bytes: upload.bytes, importOptions: upload.importOptions, fit: fitOptions });
     c.header('cache-control', 'no-store');
-    return c.json({ warnings: imported.warnings, report: fitTable(imported.table, options) });
+    return c.json(result);
   });
 
   app.post('/api/v1/kk', reader, async (c) => {
     const upload = await readTableUpload(c);
     const { tolerance } = parseInput(kkFields, upload.fields, upload.fieldsIn, 400);
-    const imported = parseNkTable(upload.bytes, upload.importOptions);
+    const result = await ctx.compute.run({ kind: 'kk', bytes: upload.bytes, importOptions: upload.importOptions, kk: { tolerance } });
     c.header('cache-control', 'no-store');
-    return c.json({ warnings: imported.warnings, report: checkKramersKronig(imported.table, { tolerance }) });
+    return c.json(result);
   });
 }

@@ -1,0 +1,82 @@
+/**
+ * The server's one pool of compute worker threads (piscina): fits, Kramers-Kronig checks and the heavy
+ * stage of uploads run there, never on the event loop, so reads keep being answered while a large
+ * table is fitted. The queue is bounded: when every thread is busy and `maxQueue` tasks wait, a new
+ * task is refused at once with a BusyError (HTTP 503 + Retry-After) rather than queued without end.
+ */
+import { availableParallelism } from 'node:os';
+import { Piscina } from 'piscina';
+import { BusyError } from '../errors.ts';
+import { unwrapOutcome, type ComputeOutcome, type ComputeResult, type ComputeTask } from './compute.ts';
+
+export interface ComputePoolOptions {
+  /** Worker threads; default one per spare core (cores − 1), at least one. */
+  threads?: number;
+  /** Tasks that may wait for a thread; default DEFAULT_COMPUTE_QUEUE. 0: refuse whenever all threads are busy. */
+  maxQueue?: number;
+}
+
+/** Enough for a burst of uploads from a lab's instruments at once; a small table waits milliseconds. */
+export const DEFAULT_COMPUTE_QUEUE = 32;
+
+/** One thread per core the event loop does not need, at least one. */
+export function defaultComputeThreads(): number {
+  return Math.max(1, availableParallelism() - 1);
+}
+
+/**
+ * Where the worker's code is. From the TypeScript sources (tsx, tests) the .mjs bootstrap registers tsx
+ * in the thread first; from a build (compiled .js beside this file) the compiled worker loads as it is.
+ * Kept in this one function so a build step only has to make it see .js.
+ */
+export function computeWorkerEntry(here: string = import.meta.url): string {
+  return here.endsWith('.ts') ? new URL('./compute-worker-tsx.mjs', here).href : new URL('./compute-worker.js', here).href;
+}
+
+export class ComputePool {
+  readonly threads: number;
+  readonly maxQueue: number;
+  private readonly pool: Piscina;
+  private inFlight = 0;
+
+  constructor(options: ComputePoolOptions = {}) {
+    this.threads = options.threads ?? defaultComputeThreads();
+    this.maxQueue = options.maxQueue ?? DEFAULT_COMPUTE_QUEUE;
+    this.pool = new Piscina({
+      filename: computeWorkerEntry(),
+      // Threads start on the first task (loading the sources takes a moment) and stay a while.
+      minThreads: 0,
+      maxThreads: this.threads,
+      idleTimeout: 5 * 60_000,
+      // Our own bound (inFlight) refuses first; piscina's is the same number, as a backstop.
+      maxQueue: this.maxQueue,
+      concurrentTasksPerWorker: 1,
+    });
+  }
+
+  /** Tasks running or waiting. */
+  get pending(): number {
+    return this.inFlight;
+  }
+
+  /** Run a task on a worker thread; BusyError when all threads are busy and the queue is full. */
+  async run<T extends ComputeTask>(task: T): Promise<ComputeResult<T>> {
+    if (this.inFlight >= this.threads + this.maxQueue) {
+      throw new BusyError(
+        `the server is busy with ${this.inFlight} fits and checks (${this.threads} compute threads, ${this.maxQueue} waiting at most); try again shortly`,
+        1,
+      );
+    }
+    this.inFlight++;
+    try {
+      return unwrapOutcome<ComputeResult<T>>((await this.pool.run(task)) as ComputeOutcome);
+    } finally {
+      this.inFlight--;
+    }
+  }
+
+  /** Stop the threads (running tasks are abandoned). */
+  close(): Promise<void> {
+    return this.pool.destroy();
+  }
+}

@@ -1,0 +1,70 @@
+/**
+ * The CPU-heavy work of the HTTP API as plain tasks: a fit, a Kramers-Kronig check, or the heavy stage of
+ * an upload, each from the uploaded bytes (parsing a large table is heavy too). Tasks and outcomes are
+ * plain data (structured-clone safe), so `runComputeTask` runs the same on the server's worker threads
+ * (compute-worker.ts, through compute-pool.ts) and in-process. Refusals travel as data and are rebuilt as
+ * the same error classes on the other side (`rethrow`), so the front doors word them as before.
+ */
+import { InputError, NumericalError, type InputLocation } from '../errors.ts';
+import { fitTable, type FitOptions } from '../fit/fit.ts';
+import type { FitReport } from '../fit/types.ts';
+import { checkKramersKronig, type KkOptions, type KkReport } from '../kk/check.ts';
+import { parseNkTable, type ImportOptions } from '../io/parse-table.ts';
+import { prepareMeasurement, type MeasurementImport, type PreparedMeasurement } from './import-measurement.ts';
+
+export type ComputeTask =
+  | { kind: 'fit'; bytes: Uint8Array; importOptions: ImportOptions; fit: FitOptions }
+  | { kind: 'kk'; bytes: Uint8Array; importOptions: ImportOptions; kk: KkOptions }
+  | { kind: 'measurement'; input: Omit<MeasurementImport, 'slug' | 'provenance'> };
+
+export interface ComputeResults {
+  fit: { warnings: string[]; report: FitReport };
+  kk: { warnings: string[]; report: KkReport };
+  measurement: PreparedMeasurement;
+}
+
+export type ComputeResult<T extends ComputeTask> = ComputeResults[T['kind']];
+
+/** A refusal as data: the fields InputError and its subclasses are rebuilt from. */
+interface RefusalData {
+  name: string;
+  rule: string;
+  message: string;
+  location: InputLocation;
+  status: number;
+}
+
+export type ComputeOutcome = { ok: true; value: unknown } | { ok: false; refusal: RefusalData };
+
+function compute(task: ComputeTask): unknown {
+  switch (task.kind) {
+    case 'fit': {
+      const imported = parseNkTable(task.bytes, task.importOptions);
+      return { warnings: imported.warnings, report: fitTable(imported.table, task.fit) };
+    }
+    case 'kk': {
+      const imported = parseNkTable(task.bytes, task.importOptions);
+      return { warnings: imported.warnings, report: checkKramersKronig(imported.table, task.kk) };
+    }
+    case 'measurement':
+      return prepareMeasurement(task.input);
+  }
+}
+
+/** Run a task; refusals of input come back as data, anything else (a bug) is thrown. */
+export function runComputeTask(task: ComputeTask): ComputeOutcome {
+  try {
+    return { ok: true, value: compute(task) };
+  } catch (err) {
+    if (!(err instanceof InputError)) throw err;
+    return { ok: false, refusal: { name: err.name, rule: err.rule, message: err.message, location: err.location, status: err.status } };
+  }
+}
+
+/** The value of an outcome, or its refusal thrown again as the error class it was. */
+export function unwrapOutcome<T>(outcome: ComputeOutcome): T {
+  if (outcome.ok) return outcome.value as T;
+  const r = outcome.refusal;
+  if (r.name === 'NumericalError') throw new NumericalError(r.message, r.rule);
+  throw new InputError(r.rule, r.message, r.location, r.status);
+}
