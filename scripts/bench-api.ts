@@ -15,6 +15,10 @@
  * req/s moves with whatever else runs, while CPU per request is the steadier figure.
  * The registry is a temp file holding the Marrowick PECVD SiNx recipe A table imported through the
  * real pipeline, fitted with Tauc-Lorentz, KK-checked and approved.
+ * The last case reads n,k while one client uploads the same table continuously (one upload after
+ * the other, each with a Tauc-Lorentz fit and the KK check): fits and checks run on the server's
+ * compute threads, so reads should keep at least half of their idle throughput (the ratio printed
+ * below the table, per round against the anonymous n,k round).
  */
 import { spawn, type ChildProcess } from 'node:child_process';
 import { mkdtempSync, readFileSync, rmSync } from 'node:fs';
@@ -28,6 +32,7 @@ import { createMaterial } from '../src/service/materials.ts';
 import { importMeasurement } from '../src/service/import-measurement.ts';
 import { approve } from '../src/service/lifecycle.ts';
 import { createToken } from '../src/service/tokens.ts';
+import { maxOf, minOf } from '../src/optics/extremes.ts';
 
 /** The part of autocannon's result used here (autocannon ships no type declarations). */
 interface LoadResult {
@@ -64,14 +69,17 @@ async function serveChild(dbPath: string): Promise<void> {
   process.on('SIGTERM', () => server.close().then(() => (registry.close(), process.exit(0))));
 }
 
-function prepareRegistry(dbPath: string): string {
+function prepareRegistry(dbPath: string): { token: string; editorToken: string } {
   const registry = openRegistry(dbPath);
   try {
     createMaterial(registry, { slug: 'sinx-pecvd-a', name: 'PECVD SiNx, recipe A (invented demo data)' }, 'bench-editor');
     const bytes = new Uint8Array(readFileSync(DATA));
     importMeasurement(registry, { slug: 'sinx-pecvd-a', bytes, file: 'sinx-pecvd-recipe-a.csv', fit: { model: 'tauc-lorentz' } }, 'bench-editor');
     approve(registry, 'sinx-pecvd-a@1', 'bench-approver');
-    return createToken(registry, { user: 'bench', role: 'reader', createdBy: 'bench' }).token;
+    return {
+      token: createToken(registry, { user: 'bench', role: 'reader', createdBy: 'bench' }).token,
+      editorToken: createToken(registry, { user: 'bench-uploader', role: 'editor', createdBy: 'bench' }).token,
+    };
   } finally {
     registry.close();
   }
@@ -103,13 +111,45 @@ async function load(child: ChildProcess, name: string, url: string, headers: Rec
   return { name, rps: result.requests.average, p50: result.latency.p50, p99: result.latency.p99, errors, cpuUs };
 }
 
+/**
+ * One client uploading continuously (fit + KK per upload) until `stop()`; each upload differs by its
+ * notes, so none is refused as a duplicate. Returns the count of uploads that got 201.
+ */
+function uploadContinuously(url: string, editorToken: string): { stop(): Promise<{ ok: number; failed: number }> } {
+  const table = readFileSync(DATA);
+  let running = true;
+  let ok = 0;
+  let failed = 0;
+  let serial = 0;
+  const loop = (async () => {
+    while (running) {
+      const notes = `bench upload ${++serial} ${process.pid}`;
+      const res = await fetch(`${url}/api/v1/materials/sinx-pecvd-a/versions?fit=tauc-lorentz&notes=${encodeURIComponent(notes)}`, {
+        method: 'POST',
+        headers: { 'content-type': 'text/csv', authorization: `Bearer ${editorToken}` },
+        body: table,
+      });
+      if (res.status === 201) await res.arrayBuffer();
+      if (res.status === 201) ok++;
+      else if (failed++ === 0) console.error(`upload refused: ${res.status} ${await res.text()}`);
+    }
+  })();
+  return {
+    async stop() {
+      running = false;
+      await loop;
+      return { ok, failed };
+    },
+  };
+}
+
 async function main(): Promise<void> {
   const duration = arg('duration', 10);
   const connections = arg('connections', 32);
   const rounds = arg('rounds', 5);
   const dir = mkdtempSync(join(tmpdir(), 'nkledger-bench-'));
   const dbPath = join(dir, 'bench.db');
-  const token = prepareRegistry(dbPath);
+  const { token, editorToken } = prepareRegistry(dbPath);
   const child = spawn(process.execPath, ['--import', 'tsx', SCRIPT, '--serve', dbPath], { stdio: ['ignore', 'pipe', 'inherit', 'ipc'] });
   try {
     const url = await new Promise<string>((resolve, reject) => {
@@ -125,9 +165,15 @@ async function main(): Promise<void> {
       ['n,k, 3 wavelengths, anonymous', url + NK_PATH, {}],
       ['n,k, 3 wavelengths, bearer token', url + NK_PATH, { authorization: `Bearer ${token}` }],
     ];
-    const runs: Row[][] = cases.map(() => []);
+    const UPLOADING = 'n,k, 3 wavelengths, anonymous, one client uploading (fit + KK) continuously';
+    const runs: Row[][] = [...cases.map(() => []), []] as Row[][];
+    let uploads = { ok: 0, failed: 0 };
     for (let round = 0; round < rounds; round++) {
       for (const [i, [name, target, headers]] of cases.entries()) runs[i].push(await load(child, name, target, headers, duration / rounds, connections));
+      const uploader = uploadContinuously(url, editorToken);
+      runs[cases.length].push(await load(child, UPLOADING, url + NK_PATH, {}, duration / rounds, connections));
+      const done = await uploader.stop();
+      uploads = { ok: uploads.ok + done.ok, failed: uploads.failed + done.failed };
     }
     const median = (xs: number[]) => [...xs].sort((a, b) => a - b)[Math.floor(xs.length / 2)];
     const constant = runs[0];
@@ -135,7 +181,7 @@ async function main(): Promise<void> {
     // busy spell on the machine that slows one round slows both sides of its ratio.
     const rpsRatios = runs.map((rs) => rs.map((r, round) => r.rps / constant[round].rps));
     const cpuRatios = runs.map((rs) => rs.map((r, round) => constant[round].cpuUs / r.cpuUs));
-    const range = (xs: number[]) => `${median(xs).toFixed(2)} (${Math.min(...xs).toFixed(2)}–${Math.max(...xs).toFixed(2)})`;
+    const range = (xs: number[]) => `${median(xs).toFixed(2)} (${minOf(xs).toFixed(2)}–${maxOf(xs).toFixed(2)})`;
     console.log(`\n${connections} connections, ${duration} s per case in ${rounds} interleaved rounds, loopback, server in a child process (node ${process.version})`);
     console.log('Medians over the rounds; ratios are per round, median (lowest–highest).\n');
     console.log('| case | req/s | p50 (ms) | p99 (ms) | errors | req/s ratio to constant | server CPU µs/request | CPU ratio (constant ÷ case) |');
@@ -146,6 +192,9 @@ async function main(): Promise<void> {
       cells.push(range(rpsRatios[i]), median(rs.map((r) => r.cpuUs)).toFixed(1), range(cpuRatios[i]));
       console.log(`| ${cells.join(' | ')} |`);
     }
+    const underUpload = runs[cases.length].map((r, round) => r.rps / runs[1][round].rps);
+    console.log(`\nReads while one client uploads ÷ idle reads (anonymous n,k, per round): ${range(underUpload)}; goal ≥ 0.50.`);
+    console.log(`Uploads during the measured rounds: ${uploads.ok} stored (201), ${uploads.failed} refused.`);
   } finally {
     child.kill('SIGTERM');
     await new Promise((r) => child.once('exit', r));
