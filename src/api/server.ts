@@ -25,8 +25,11 @@ export interface RunningServer {
   /** Base URL, e.g. http://127.0.0.1:8787 */
   url: string;
   port: number;
-  /** Stop accepting connections, let in-flight requests finish, then resolve. Does not close the registry. */
-  close(): Promise<void>;
+  /**
+   * Stop accepting connections, let in-flight requests finish for at most `graceMs` (default: no
+   * bound), then close the connections still open and resolve. Does not close the registry.
+   */
+  close(graceMs?: number): Promise<void>;
 }
 
 export const DEFAULT_HOST = '127.0.0.1';
@@ -55,11 +58,18 @@ export function startServer(options: ServerOptions): Promise<RunningServer> {
       resolve({
         url: `http://${shown}:${bound}`,
         port: bound,
-        close: () =>
+        close: (graceMs?: number) =>
           new Promise<void>((done) => {
             // close() stops accepting and waits for open requests; idle keep-alive sockets are closed now.
-            server.close(() => compute.close().then(done, done));
+            let timer: NodeJS.Timeout | undefined;
+            server.close(() => {
+              clearTimeout(timer);
+              compute.close().then(done, done);
+            });
             server.closeIdleConnections();
+            // A client that never finishes its request (a half-sent upload) must not hold the
+            // shutdown: after the grace its connection is cut, which ends server.close().
+            if (graceMs !== undefined) timer = setTimeout(() => server.closeAllConnections(), graceMs);
           }),
       });
     });

@@ -33,8 +33,8 @@ export interface ServeProcess {
   stop(): Promise<number | null>;
 }
 
-export function serve(db: string): Promise<ServeProcess> {
-  const child = spawn(process.execPath, [BIN, 'serve', '--db', db, '--host', '127.0.0.1', '--port', '0'], { stdio: ['ignore', 'pipe', 'pipe'] });
+export function serve(db: string, extraArgs: string[] = []): Promise<ServeProcess> {
+  const child = spawn(process.execPath, [BIN, 'serve', '--db', db, '--host', '127.0.0.1', '--port', '0', ...extraArgs], { stdio: ['ignore', 'pipe', 'pipe'] });
   let err = '';
   child.stderr!.on('data', (d) => (err += d));
   const exited = new Promise<number | null>((resolve) => child.on('exit', (code) => resolve(code)));

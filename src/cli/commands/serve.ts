@@ -9,6 +9,10 @@ import { readSettings } from '../../service/settings.ts';
 import { guarded } from '../failure.ts';
 import { cliIo } from '../io.ts';
 import { addDbOption } from '../admin-options.ts';
+import { DEFAULT_COMPUTE_QUEUE, defaultComputeThreads, type ComputePoolOptions } from '../../service/compute-pool.ts';
+
+/** Seconds open requests may take to finish after SIGTERM/SIGINT before their connections are closed. */
+export const DEFAULT_GRACE_SECONDS = 10;
 
 export function parsePort(text: string): number {
   return parseOptionNumber(text, '--port', { integer: true, min: 0, max: 65535, hint: '0 picks a free port' });
@@ -20,7 +24,7 @@ export function parsePort(text: string): number {
  */
 export async function serveUntilSignal(
   registry: Registry,
-  options: { host: string; port: number; settings?: Partial<Settings> },
+  options: { host: string; port: number; settings?: Partial<Settings>; graceSeconds?: number; compute?: ComputePoolOptions },
   announce: (server: RunningServer) => void,
 ): Promise<void> {
   let server: RunningServer;
@@ -37,10 +41,11 @@ export async function serveUntilSignal(
   announce(server);
   await new Promise<void>((resolve) => {
     const stop = (signal: string) => {
-      cliIo().stderr.write(`nkledger serve: ${signal}: finishing open requests, then closing the registry\n`);
+      const grace = options.graceSeconds ?? DEFAULT_GRACE_SECONDS;
+      cliIo().stderr.write(`nkledger serve: ${signal}: no new connections; open requests get ${grace} s to finish, then the registry closes\n`);
       process.off('SIGINT', stop);
       process.off('SIGTERM', stop);
-      server.close().then(() => {
+      server.close(grace * 1000).then(() => {
         registry.close();
         resolve();
       });
@@ -55,12 +60,20 @@ export function register(program: Command): void {
     .description('serve the registry over HTTP (the API under /api/v1; description at /api/v1/openapi.json)')
     .option('--host <address>', 'address to listen on (use 0.0.0.0 only behind TLS)', DEFAULT_HOST)
     .option('--port <port>', 'TCP port (0 picks a free one)', String(DEFAULT_PORT))
+    .option('--grace <seconds>', 'on SIGTERM/SIGINT, how long open requests may take to finish before their connections are closed', String(DEFAULT_GRACE_SECONDS))
+    .option('--compute-threads <n>', `worker threads for fits and KK checks (default: one per spare core, at least one; here ${defaultComputeThreads()})`)
+    .option('--compute-queue <n>', `fits and checks that may wait for a thread before more are refused with 503 (default ${DEFAULT_COMPUTE_QUEUE})`)
     .action(
-      guarded(async (opts: { db?: string; host: string; port: string }) => {
+      guarded(async (opts: { db?: string; host: string; port: string; grace: string; computeThreads?: string; computeQueue?: string }) => {
         const port = parsePort(opts.port);
+        const graceSeconds = parseOptionNumber(opts.grace, '--grace', { min: 0, max: 3600 });
+        const compute = {
+          threads: opts.computeThreads === undefined ? undefined : parseOptionNumber(opts.computeThreads, '--compute-threads', { integer: true, min: 1, max: 256 }),
+          maxQueue: opts.computeQueue === undefined ? undefined : parseOptionNumber(opts.computeQueue, '--compute-queue', { integer: true, min: 0, max: 100_000 }),
+        };
         const registry = openRegistry(opts.db);
         const anonymous = readSettings(registry).anonymous_reads;
-        await serveUntilSignal(registry, { host: opts.host, port }, (server) => {
+        await serveUntilSignal(registry, { host: opts.host, port, graceSeconds, compute }, (server) => {
           const open = anonymous === 'on' || (anonymous === 'auto' && isLoopbackHost(opts.host));
           cliIo().stdout.write(`nkledger serving ${registry.path} at ${server.url}/api/v1/materials\n`);
           cliIo().stdout.write(`  OpenAPI: ${server.url}/api/v1/openapi.json\n`);
