@@ -29,8 +29,8 @@ export interface NkRequest {
   interpolation?: 'linear' | 'monotone-cubic';
 }
 
-export function parseNkQuery(query: Record<string, string>, maxPoints: number): NkRequest {
-  const q = parseInput(nkQuery, query, 'query', 400);
+export function parseNkQuery(query: Record<string, string>, maxPoints: number, limits: { maxListChars?: number } = {}): NkRequest {
+  const q = parseInput(limits.maxListChars === Infinity ? nkQuery.extend({ wavelengths_nm: z.string().optional() }) : nkQuery, query, 'query', 400);
   const interpolation = q.interpolation as NkRequest['interpolation'];
   const range = [q.from_nm, q.to_nm, q.step_nm];
   const hasRange = range.some((v) => v !== undefined);
@@ -57,6 +57,33 @@ export function parseNkQuery(query: Record<string, string>, maxPoints: number): 
   const count = Math.floor((to - from) / step + 1e-9) + 1;
   if (count > maxPoints) throw tooMany(count);
   return { wavelengthNm: parseWavelengthList(`${from}:${to}:${step}`, 'from_nm/to_nm/step_nm'), interpolation };
+}
+
+const nkBody = z.strictObject({
+  wavelengths_nm: z.union([z.array(z.number().finite().positive()).min(1), z.string().max(10_000_000)]).optional(),
+  from_nm: z.number().finite().optional(),
+  to_nm: z.number().finite().optional(),
+  step_nm: z.number().finite().optional(),
+  interpolation: z.enum(INTERPOLATION_METHODS as [string, ...string[]]).optional(),
+});
+
+/**
+ * The JSON body of `POST …/nk`: the same fields as the query, for wavelength lists too long for a URL;
+ * `wavelengths_nm` may also be an array of numbers. The same max_nk_points bound.
+ */
+export function parseNkBody(body: unknown, maxPoints: number): NkRequest {
+  const b = parseInput(nkBody, body, 'body');
+  if (Array.isArray(b.wavelengths_nm)) {
+    if (b.from_nm !== undefined || b.to_nm !== undefined || b.step_nm !== undefined) {
+      throw new InputError('nk-wavelengths', 'give either wavelengths_nm or from_nm, to_nm and step_nm', {}, 422);
+    }
+    if (b.wavelengths_nm.length > maxPoints) {
+      throw new InputError('nk-too-many-points', `${b.wavelengths_nm.length} wavelengths asked for; at most ${maxPoints} per request (setting max_nk_points)`);
+    }
+    return { wavelengthNm: b.wavelengths_nm, interpolation: b.interpolation as NkRequest['interpolation'] };
+  }
+  const asQuery = Object.fromEntries(Object.entries(b).filter(([, v]) => v !== undefined).map(([k, v]) => [k, String(v)]));
+  return parseNkQuery(asQuery, maxPoints, { maxListChars: Infinity });
 }
 
 /** "json" or "csv" from an Accept header; JSON when absent or indifferent; 406 when neither is acceptable. */

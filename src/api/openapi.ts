@@ -30,7 +30,20 @@ const readErrors = {
   '400': problem('malformed request: a path segment that is not a slug or version number, a bad query parameter, or (uploads) a table that cannot be read'),
   '404': problem('unknown material or version'),
 };
-const writeErrors = { ...readErrors, '409': problem('the change conflicts with the registry rules'), '422': problem('invalid input') };
+const writeErrors = {
+  ...readErrors,
+  '409': problem('the change conflicts with the registry rules'),
+  '415': problem('the body is not application/json'),
+  '422': problem('invalid input'),
+};
+/** Routes whose compute runs on the worker pool. */
+const busy = {
+  '503': {
+    description: 'every compute thread is busy and the queue is full; try again after Retry-After seconds',
+    headers: { 'Retry-After': { schema: { type: 'integer' } } },
+    content: { 'application/problem+json': { schema: ref('Problem') } },
+  },
+};
 
 /** A route's role, as the `x-nkledger-role` extension (reader routes admit anonymous reads when the setting allows). */
 const role = (r: (typeof TOKEN_ROLES)[number]) => ({ 'x-nkledger-role': r });
@@ -73,8 +86,11 @@ export const OPENAPI_DOCUMENT = {
     title: 'nkledger HTTP API',
     version: '1.0.0',
     description:
-      'Versioned, approved optical constants (n, k) from the lab registry. Approved and retired versions are immutable: ' +
-      'their ETag is the content SHA-256 and they may be cached for a year. Errors are RFC 9457 problem documents.',
+      'Versioned, approved optical constants (n, k) from the lab registry. The content of approved and retired versions never changes; ' +
+      'their ETag names the content SHA-256 and the status, so a retirement changes it. Approved answers may be cached for 60 s, retired ones (final) for a year. ' +
+      'Errors are RFC 9457 problem documents. Everywhere: a query parameter given twice, malformed or non-UTF-8 percent-encoding (%ff) and control characters (%00) are 400; ' +
+      'numbers are decimal (no 0x1F4); JSON bodies need Content-Type application/json (else 415); a request line and headers over 16 KiB are a 431 problem document. ' +
+      'Fits and KK checks run on a bounded pool of worker threads: when it is full, 503 with Retry-After.',
   },
   servers: [{ url: '/' }],
   security: [{ bearer: [] }, {}],
@@ -124,8 +140,9 @@ export const OPENAPI_DOCUMENT = {
         responses: {
           '201': json('the new draft (Location header gives its URL)', ref('CreatedVersion')),
           '413': problem('the body exceeds the max_body_bytes setting'),
-          '415': problem('neither text/csv nor multipart/form-data'),
           ...writeErrors,
+          '415': problem('neither text/csv nor multipart/form-data'),
+          ...busy,
         },
       },
     },
@@ -133,7 +150,7 @@ export const OPENAPI_DOCUMENT = {
       get: {
         summary: 'One version: content, provenance and reports',
         description:
-          'Approved and retired versions: ETag = "<sha256>", Cache-Control: public, max-age=31536000, immutable (private instead of public when the request carries a token); If-None-Match gives 304. ' +
+          'Approved and retired versions: ETag = "<sha256>.<status>"; Cache-Control: public, max-age=60 when approved (it may still be retired), public, max-age=31536000, immutable when retired (private instead of public when the request carries a token); If-None-Match gives 304. ' +
           'Drafts: Cache-Control: no-store. Retired versions carry a Deprecation header (RFC 9745) and a `warnings` entry.',
         ...role('reader'),
         parameters: [...versionParams, { name: 'If-None-Match', in: 'header', required: false, schema: { type: 'string' } }],
@@ -170,6 +187,45 @@ export const OPENAPI_DOCUMENT = {
           ...readErrors,
           '400': problem('bad wavelengths or too many points (setting max_nk_points), or a malformed slug or version number'),
           '406': problem('Accept names neither JSON nor CSV'),
+          '431': problem('the URL is too long: use POST with a JSON body'),
+        },
+      },
+      post: {
+        summary: 'n and k of a version at wavelengths given in a JSON body (lists too long for a URL)',
+        description:
+          'The fields of the GET query as JSON; wavelengths_nm may be an array of numbers or the same text as in the query. At most max_nk_points. ' +
+          'The answer is the GET answer with Cache-Control: no-store.',
+        ...role('reader'),
+        parameters: versionParams,
+        requestBody: {
+          required: true,
+          content: {
+            'application/json': {
+              schema: {
+                type: 'object',
+                additionalProperties: false,
+                properties: {
+                  wavelengths_nm: { oneOf: [{ type: 'array', items: { type: 'number', exclusiveMinimum: 0 } }, { type: 'string' }] },
+                  from_nm: { type: 'number' },
+                  to_nm: { type: 'number' },
+                  step_nm: { type: 'number', exclusiveMinimum: 0 },
+                  interpolation: { type: 'string', enum: ['linear', 'monotone-cubic'] },
+                },
+              },
+              example: { wavelengths_nm: [450, 550, 650] },
+            },
+          },
+        },
+        responses: {
+          '200': {
+            description: 'n,k at the asked wavelengths',
+            content: { 'application/json': { schema: ref('NkValues') }, 'text/csv': { schema: { type: 'string' } } },
+          },
+          ...readErrors,
+          '400': problem('too many points (setting max_nk_points), or a malformed slug or version number'),
+          '406': problem('Accept names neither JSON nor CSV'),
+          '415': problem('the body is not application/json'),
+          '422': problem('bad wavelengths'),
         },
       },
     },
@@ -183,7 +239,7 @@ export const OPENAPI_DOCUMENT = {
         ...role('reader'),
         parameters: [{ name: 'strict', in: 'query', required: false, schema: { type: 'string', enum: ['true', 'false'] } }],
         requestBody: { required: true, content: { 'application/json': { schema: { type: 'object' } } } },
-        responses: { '200': json('per-pin verdicts', ref('LockVerification')), '400': problem('not a lockfile'), ...authErrors },
+        responses: { '200': json('per-pin verdicts', ref('LockVerification')), '400': problem('not a lockfile'), '415': problem('the body is not application/json'), ...authErrors },
       },
     },
     '/api/v1/fit': {
@@ -195,7 +251,7 @@ export const OPENAPI_DOCUMENT = {
           ...fitOptionQuery,
         ],
         requestBody: tableUpload,
-        responses: { '200': json('fit report', reportWith(ref('FitReport'))), '400': problem('malformed table'), '422': problem('the fit failed'), ...authErrors },
+        responses: { '200': json('fit report', reportWith(ref('FitReport'))), '400': problem('malformed table'), '422': problem('the fit failed'), ...authErrors, ...busy },
       },
     },
     '/api/v1/kk': {
@@ -203,7 +259,7 @@ export const OPENAPI_DOCUMENT = {
         summary: 'Kramers-Kronig consistency check of an uploaded table; nothing is stored',
         ...role('reader'),
         requestBody: tableUpload,
-        responses: { '200': json('KK report', reportWith(ref('KkReport'))), '400': problem('malformed table'), ...authErrors },
+        responses: { '200': json('KK report', reportWith(ref('KkReport'))), '400': problem('malformed table'), ...authErrors, ...busy },
       },
     },
     '/api/v1/tokens': {

@@ -36,6 +36,7 @@ const TITLES: Record<number, string> = {
   413: 'Content Too Large',
   415: 'Unsupported Media Type',
   422: 'Unprocessable Content',
+  431: 'Request Header Fields Too Large',
   500: 'Internal Server Error',
   503: 'Service Unavailable',
 };

@@ -4,6 +4,9 @@
  */
 import type { Server } from 'node:http';
 import type { AddressInfo } from 'node:net';
+import type { Duplex } from 'node:stream';
+import { InputError } from '../errors.ts';
+import { PROBLEM_CONTENT_TYPE, problemFromError } from './problem.ts';
 import { serve } from '@hono/node-server';
 import type { Hono } from 'hono';
 import { createApp, type AppOptions } from './app.ts';
@@ -40,6 +43,28 @@ export function isLoopbackHost(host: string): boolean {
   return host === 'localhost' || host === '::1' || host === '[::1]' || /^127(\.\d{1,3}){3}$/.test(host);
 }
 
+/**
+ * Requests Node refuses before any route sees them (the request line and headers over Node's 16 KiB
+ * limit, a malformed request line) get a problem document too, instead of Node's bare status line.
+ * The usual cause is a long wavelength list in the URL, so the 431 says how to send it instead.
+ */
+function answerClientError(err: NodeJS.ErrnoException, socket: Duplex): void {
+  if (err.code === 'ECONNRESET' || !socket.writable) {
+    socket.destroy();
+    return;
+  }
+  const problem =
+    err.code === 'HPE_HEADER_OVERFLOW'
+      ? new InputError('request-too-long', 'the request line and headers exceed the server\'s 16 KiB limit; send long wavelength lists as POST /api/v1/materials/{slug}/versions/{n}/nk with a JSON body', {}, 431)
+      : new InputError('http-malformed', `the request is not valid HTTP/1.1 (${err.code ?? 'parse error'})`, {}, 400);
+  const { problem: doc } = problemFromError(problem);
+  const body = JSON.stringify(doc);
+  socket.end(
+    `HTTP/1.1 ${doc.status} ${doc.title}\r\ncontent-type: ${PROBLEM_CONTENT_TYPE}\r\ncache-control: no-store\r\n` +
+      `content-length: ${Buffer.byteLength(body)}\r\nconnection: close\r\n\r\n${body}`,
+  );
+}
+
 export function startServer(options: ServerOptions): Promise<RunningServer> {
   const host = options.host ?? DEFAULT_HOST;
   const port = options.port ?? DEFAULT_PORT;
@@ -48,6 +73,7 @@ export function startServer(options: ServerOptions): Promise<RunningServer> {
   options.extend?.(app);
   return new Promise((resolve, reject) => {
     const server = serve({ fetch: app.fetch, hostname: host, port }) as Server;
+    server.on('clientError', answerClientError);
     server.once('error', (err) => {
       void compute.close();
       reject(err);

@@ -10,7 +10,7 @@ import { InputError } from '../errors.ts';
 import type { ImportOptions } from '../io/parse-table.ts';
 import { importOptionsFrom } from '../cli/import-options.ts';
 import { HttpProblem } from './problem.ts';
-import { parseInput } from './validate.ts';
+import { parseInput, readQuery } from './validate.ts';
 
 /** The name an upload gets in messages (`<upload>:12:3: ...`) when the client gave no file name. */
 export const UPLOAD_FILE = '<upload>';
@@ -57,7 +57,7 @@ export async function readTableUpload(c: Context): Promise<TableUpload> {
     }
   } else if (type === 'text/csv' || type === 'text/plain' || type === 'text/tab-separated-values') {
     bytes = new Uint8Array(await c.req.arrayBuffer());
-    fields = c.req.query();
+    fields = readQuery(c.req.url);
   } else {
     throw new HttpProblem(415, 'upload-media-type', `send the table as text/csv (or text/plain) or as multipart/form-data with a "table" file, not "${type || 'no content type'}"`);
   }

@@ -1,6 +1,7 @@
 /** zod validation of request input, refusing with the same InputError every other front door uses. */
 import type { z } from 'zod';
 import { InputError } from '../errors.ts';
+import { HttpProblem } from './problem.ts';
 
 /** The value at `path` inside `value`, or undefined. */
 function at(value: unknown, path: PropertyKey[]): unknown {
@@ -27,12 +28,70 @@ export function parseInput<T>(schema: z.ZodType<T>, value: unknown, where: 'body
   throw new InputError(`invalid-${where}`, issues.join('; '), {}, status);
 }
 
-/** The request body as JSON, refusing a body that is not JSON with a 400 naming the JSON error. */
-export async function readJson(req: { text(): Promise<string> }): Promise<unknown> {
-  const text = await req.text();
+interface BodyRequest {
+  text(): Promise<string>;
+  header(name: string): string | undefined;
+}
+
+/** application/json or any +json type (RFC 6839); anything else is 415 before the body is read. */
+function requireJsonType(req: BodyRequest): void {
+  const type = (req.header('content-type') ?? '').split(';')[0].trim().toLowerCase();
+  if (type === 'application/json' || /^application\/[a-z0-9.+-]+\+json$/.test(type)) return;
+  throw new HttpProblem(415, 'body-media-type', `send the request body as application/json, not "${type || 'no content type'}"`, { accept: 'application/json' });
+}
+
+function parseJsonText(text: string): unknown {
   try {
     return JSON.parse(text);
   } catch (err) {
     throw new InputError('invalid-json', `request body is not JSON: ${(err as Error).message}`, { file: '<request body>' }, 400);
   }
+}
+
+/** The request body as JSON: 415 for another media type, 400 naming the JSON error for a body that is not JSON. */
+export async function readJson(req: BodyRequest): Promise<unknown> {
+  requireJsonType(req);
+  return parseJsonText(await req.text());
+}
+
+/** An optional JSON body: empty (with any or no content type) means `{}`; otherwise as readJson. */
+export async function readOptionalJson(req: BodyRequest): Promise<unknown> {
+  const text = await req.text();
+  if (text.trim() === '') return {};
+  requireJsonType(req);
+  return parseJsonText(text);
+}
+
+const CONTROL = /[\u0000-\u001f\u007f-\u009f]/;
+
+/**
+ * The query string as one value per name, read strictly: a name given twice is refused (which one
+ * was meant?), as are malformed or non-UTF-8 percent escapes (%ff) and control characters (%00).
+ * hono's own c.req.query() keeps the first of two values and passes undecodable escapes through.
+ */
+export function readQuery(url: string): Record<string, string> {
+  const at = url.indexOf('?');
+  const out: Record<string, string> = {};
+  if (at < 0) return out;
+  const hash = url.indexOf('#', at);
+  const raw = url.slice(at + 1, hash < 0 ? undefined : hash);
+  for (const pair of raw.split('&')) {
+    if (pair === '') continue;
+    const eq = pair.indexOf('=');
+    const decode = (part: string) => {
+      try {
+        return decodeURIComponent(part.replace(/\+/g, ' '));
+      } catch {
+        throw new InputError('query-encoding', `query parameter "${pair.slice(0, 60)}": malformed percent-encoding or bytes that are not UTF-8`, {}, 400);
+      }
+    };
+    const name = decode(eq < 0 ? pair : pair.slice(0, eq));
+    const value = decode(eq < 0 ? '' : pair.slice(eq + 1));
+    if (CONTROL.test(name) || CONTROL.test(value)) {
+      throw new InputError('query-control', `query parameter "${name.replace(CONTROL, '?')}": control characters (such as %00) are refused`, {}, 400);
+    }
+    if (Object.hasOwn(out, name)) throw new InputError('query-duplicate', `query parameter "${name}" is given more than once; give it once`, {}, 400);
+    out[name] = value;
+  }
+  return out;
 }

@@ -48,8 +48,10 @@ function expectation(rule: NumberRule): string {
  * as the user spelled it: `--tolerance: "x" is not a number`, `--starts 0: expected a whole number 1–1000`.
  */
 export function parseOptionNumber(text: string, what: string, rule: NumberRule = {}): number {
-  const value = Number(text);
-  if (text.trim() === '' || !Number.isFinite(value)) throw new InputError('bad-option', `${what}: "${text}" is not a number`);
+  // The cells' decimal grammar, not Number(): that would read "0x1F4" as 500, "0b11" as 3, "" as 0.
+  const trimmed = text.trim();
+  const value = NUMBER.test(trimmed) ? Number(trimmed) : NaN;
+  if (!Number.isFinite(value)) throw new InputError('bad-option', `${what}: "${text}" is not a number (decimal digits, e.g. 500 or 1.5e3)`);
   const ok =
     (!rule.integer || Number.isInteger(value)) &&
     (rule.min === undefined || value >= rule.min) &&

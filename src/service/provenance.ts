@@ -28,9 +28,18 @@ function fail(field: string, message: string): never {
   throw new InputError('provenance-invalid', `provenance field "${field}": ${message}`);
 }
 
+/** C0/C1 control characters; notes may keep tabs and line breaks. */
+const CONTROL = /[\u0000-\u001f\u007f-\u009f]/;
+const CONTROL_IN_NOTES = /[\u0000-\u0008\u000b\u000c\u000e-\u001f\u007f-\u009f]/;
+
 function text(field: string, value: unknown, max = MAX_FIELD_CHARS): string | null {
   if (value === undefined || value === null) return null;
   if (typeof value !== 'string') fail(field, 'must be text');
+  // A stored record is read by people and other programs: no NUL or other control bytes, and no
+  // U+FFFD, which stands for bytes that were not UTF-8 (e.g. %ff in a query string).
+  const control = (field === 'notes' ? CONTROL_IN_NOTES : CONTROL).exec(value);
+  if (control) fail(field, `contains the control character U+${control[0].charCodeAt(0).toString(16).toUpperCase().padStart(4, '0')}`);
+  if (value.includes('\uFFFD')) fail(field, 'contains U+FFFD: bytes that are not UTF-8 text (e.g. %ff in a URL)');
   const trimmed = value.trim();
   if (trimmed === '') return null;
   if (trimmed.length > max) fail(field, `longer than ${max} characters`);

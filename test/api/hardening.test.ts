@@ -44,3 +44,60 @@ describe('malformed multipart bodies', () => {
     expect(snapshotCounts(h)).toEqual(before);
   });
 });
+
+describe('lax input refused', () => {
+  const nk = '/api/v1/materials/glass/versions/1/nk';
+
+  it('a query parameter given twice is 400, on reads and uploads', async () => {
+    await expectProblem(await h.request(`${nk}?wavelengths_nm=500&wavelengths_nm=600`), 400, 'query-duplicate');
+    const before = snapshotCounts(h);
+    await expectProblem(await h.request('/api/v1/materials/film/versions?sample=a&sample=b', { ...csv(csvTable()), as: 'editor' }), 400, 'query-duplicate');
+    expect(snapshotCounts(h)).toEqual(before);
+  });
+
+  it('hexadecimal and other non-decimal numbers are refused (one number grammar)', async () => {
+    for (const q of ['wavelengths_nm=0x1F4', 'wavelengths_nm=0b111110100', 'wavelengths_nm=500,0o764', 'from_nm=0x190&to_nm=600&step_nm=10']) {
+      const res = await h.request(`${nk}?${q}`);
+      expect(res.status, q).toBe(400);
+      expect(res.headers.get('content-type')).toBe('application/problem+json');
+    }
+    expect(faults).toEqual([]);
+  });
+
+  it('%ff, NUL and other control bytes in provenance are refused, nothing stored', async () => {
+    const before = snapshotCounts(h);
+    await expectProblem(await h.request('/api/v1/materials/film/versions?sample=%ff', { ...csv(csvTable()), as: 'editor' }), 400, 'query-encoding');
+    await expectProblem(await h.request('/api/v1/materials/film/versions?sample=a%00b', { ...csv(csvTable()), as: 'editor' }), 400, 'query-control');
+    const form = new FormData();
+    form.set('table', new Blob([csvTable()], { type: 'text/csv' }), 'run.csv');
+    form.set('sample', 'wafer\u00007');
+    await expectProblem(await h.request('/api/v1/materials/film/versions', { method: 'POST', body: form, as: 'editor' }), 400, 'provenance-invalid');
+    expect(snapshotCounts(h)).toEqual(before);
+  });
+
+  it('JSON routes refuse other content types with 415', async () => {
+    const before = snapshotCounts(h);
+    const body = JSON.stringify({ slug: 'plain', name: 'Plain' });
+    for (const type of ['text/plain', 'application/x-www-form-urlencoded']) {
+      await expectProblem(await h.request('/api/v1/materials', { method: 'POST', headers: { 'content-type': type }, body, as: 'editor' }), 415, 'body-media-type');
+    }
+    await expectProblem(await h.request('/api/v1/locks/verify', { method: 'POST', headers: { 'content-type': 'text/plain' }, body: '{}' }), 415, 'body-media-type');
+    expect(snapshotCounts(h)).toEqual(before);
+  });
+
+  it('a URL over the header limit is a 431 problem document; the same list goes as POST …/nk with a JSON body', async () => {
+    const list = Array.from({ length: 4000 }, (_, i) => (400 + i * 0.1).toFixed(1));
+    const long = await h.request(`${nk}?wavelengths_nm=${list.join(',')}`);
+    const p = await expectProblem(long, 431, 'request-too-long');
+    expect(p.detail).toMatch(/POST .*\/nk/);
+    const posted = await h.request(nk, { method: 'POST', headers: { 'content-type': 'application/json' }, body: JSON.stringify({ wavelengths_nm: list.map(Number) }) });
+    expect(posted.status).toBe(200);
+    const answer = await posted.json();
+    expect(answer.n.length).toBe(4000);
+    const viaGet = await (await h.request(`${nk}?wavelengths_nm=450,550`)).json();
+    const viaPost = await (await h.request(nk, { method: 'POST', headers: { 'content-type': 'application/json' }, body: JSON.stringify({ wavelengths_nm: '450,550' }) })).json();
+    expect(viaPost.n).toEqual(viaGet.n);
+    const tooMany = await h.request(nk, { method: 'POST', headers: { 'content-type': 'application/json' }, body: JSON.stringify({ wavelengths_nm: Array(20_000).fill(500) }) });
+    await expectProblem(tooMany, 400, 'nk-too-many-points');
+  });
+});

@@ -4,7 +4,7 @@
  * connection at once, a commit by another connection from the next turn of the event loop, and a
  * revocation or retirement by another process (the CLI) at the very next request.
  */
-import { spawnSync } from 'node:child_process';
+import { cli as runCli } from '../reliability/processes.ts';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { openRegistry } from '../../src/registry/open.ts';
 import { createMaterial } from '../../src/service/materials.ts';
@@ -12,7 +12,6 @@ import { createToken, revokeToken } from '../../src/service/tokens.ts';
 import { ChangeMemo, RegistryChanges } from '../../src/api/registry-changes.ts';
 import { approvedGlass, startHarness, type ApiHarness } from './harness.ts';
 
-const BIN = new URL('../../bin/nkledger.js', import.meta.url).pathname;
 const nextTurn = () => new Promise((resolve) => setImmediate(resolve));
 
 let h: ApiHarness;
@@ -63,14 +62,18 @@ describe('RegistryChanges and ChangeMemo', () => {
 });
 
 describe('changes by another process show at the next request', () => {
-  const cli = (...args: string[]) =>
-    spawnSync(process.execPath, [BIN, ...args, '--db', h.registry.path, '--as', 'lab-admin'], { encoding: 'utf8' });
+  // Asynchronously: the server lives in this process, and a synchronous child would stall it past
+  // its keep-alive timeout on a loaded machine (the next fetch then meets a closed socket).
+  const cli = async (...args: string[]) => {
+    const r = await runCli([...args, '--db', h.registry.path, '--as', 'lab-admin'], 'lab-admin');
+    return { status: r.code, stderr: r.err, stdout: r.out };
+  };
 
   it('a token revoked with `nkledger token revoke` is refused right after', async () => {
     const t = createToken(h.registry, { user: 'design-tool', role: 'reader', createdBy: 'setup' });
     const path = '/api/v1/materials/glass/versions/1/nk?wavelengths_nm=550';
     for (let i = 0; i < 3; i++) expect((await h.request(path, { token: t.token })).status).toBe(200);
-    const revoked = cli('token', 'revoke', t.id);
+    const revoked = await cli('token', 'revoke', t.id);
     expect(revoked.status, revoked.stderr).toBe(0);
     const res = await h.request(path, { token: t.token });
     expect(res.status).toBe(401);
@@ -89,7 +92,7 @@ describe('changes by another process show at the next request', () => {
     const before = await h.request(path);
     expect(before.headers.get('deprecation')).toBeNull();
     expect((await before.json()).status).toBe('approved');
-    const retired = cli('retire', 'glass@1', '--reason', 'reference wafer cracked');
+    const retired = await cli('retire', 'glass@1', '--reason', 'reference wafer cracked');
     expect(retired.status, retired.stderr).toBe(0);
     const after = await h.request(path);
     expect(after.headers.get('deprecation')).toMatch(/^@\d+$/);

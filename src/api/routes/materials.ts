@@ -13,7 +13,7 @@ import { checkSlug } from '../../registry/refs.ts';
 import { InputError } from '../../errors.ts';
 import { actorOf, type ApiEnv } from '../auth.ts';
 import { notModified, versionHeaders } from '../caching.ts';
-import { parseInput, readJson } from '../validate.ts';
+import { parseInput, readJson, readOptionalJson, readQuery } from '../validate.ts';
 import type { RouteContext } from '../context.ts';
 
 export const VERSION_PATH = '/api/v1/materials/:slug/versions/:n';
@@ -43,19 +43,13 @@ const newMaterial = z.strictObject({
 const reasonBody = z.strictObject({ reason: z.string().max(2000) });
 const optionalReasonBody = z.strictObject({ reason: z.string().max(2000).optional() });
 
-/** An optional JSON body: empty means `{}`. */
-async function optionalJson(c: Context): Promise<unknown> {
-  const text = await c.req.text();
-  return text.trim() === '' ? {} : readJson({ text: async () => text });
-}
-
 export function registerMaterialRoutes(app: Hono<ApiEnv>, ctx: RouteContext): void {
   const reader = ctx.requireRole('reader');
   const editor = ctx.requireRole('editor');
   const approver = ctx.requireRole('approver');
 
   app.get('/api/v1/materials', reader, (c) => {
-    const { q } = parseInput(searchQuery, c.req.query(), 'query', 400);
+    const { q } = parseInput(searchQuery, readQuery(c.req.url), 'query', 400);
     c.header('cache-control', 'no-cache');
     return c.json({ materials: searchMaterials(ctx.registry, q ?? '') });
   });
@@ -83,19 +77,19 @@ export function registerMaterialRoutes(app: Hono<ApiEnv>, ctx: RouteContext): vo
 
   app.post(`${VERSION_PATH}/approve`, approver, async (c) => {
     const ref = versionRef(c);
-    parseInput(z.strictObject({}), await optionalJson(c), 'body');
+    parseInput(z.strictObject({}), await readOptionalJson(c.req), 'body');
     return c.json(approve(ctx.registry, ref, actorOf(c.get('principal'))));
   });
 
   app.post(`${VERSION_PATH}/retire`, approver, async (c) => {
     const ref = versionRef(c);
-    const { reason } = parseInput(reasonBody, await optionalJson(c), 'body');
+    const { reason } = parseInput(reasonBody, await readOptionalJson(c.req), 'body');
     return c.json(retire(ctx.registry, ref, reason, actorOf(c.get('principal'))));
   });
 
   app.post(`${VERSION_PATH}/withdraw`, approver, async (c) => {
     const ref = versionRef(c);
-    const { reason } = parseInput(optionalReasonBody, await optionalJson(c), 'body');
+    const { reason } = parseInput(optionalReasonBody, await readOptionalJson(c.req), 'body');
     return c.json(withdraw(ctx.registry, ref, actorOf(c.get('principal')), reason));
   });
 }

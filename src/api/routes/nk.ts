@@ -13,16 +13,30 @@ import { versionSummary } from '../../service/versions.ts';
 import { exportTable } from '../../io/export.ts';
 import type { ApiEnv } from '../auth.ts';
 import { isImmutable, notModified, versionHeaders } from '../caching.ts';
-import { negotiateNkFormat, parseNkQuery } from '../nk-query.ts';
+import { negotiateNkFormat, parseNkBody, parseNkQuery, type NkRequest } from '../nk-query.ts';
 import { RepresentationCache } from '../representation-cache.ts';
 import { ChangeMemo } from '../registry-changes.ts';
 import type { RouteContext } from '../context.ts';
+import { readJson, readQuery } from '../validate.ts';
 import { VERSION_PATH, versionRef } from './materials.ts';
 
 const CONTENT_TYPES = { csv: 'text/csv; charset=utf-8; header=present', json: 'application/json' };
 
 export function registerNkRoute(app: Hono<ApiEnv>, ctx: RouteContext): void {
   const cache = new RepresentationCache();
+  const render = (ref: string, request: NkRequest, format: 'json' | 'csv', withToken: boolean) => {
+    const result = evaluateVersion(ctx.registry, ref, request.wavelengthNm, { interpolation: request.interpolation });
+    const retiredAt = result.status === 'retired' ? versionSummary(ctx.registry, ref).retired_at : null;
+    const caching = versionHeaders({ status: result.status, sha256: result.sha256, retiredAt }, { withToken, variant: format });
+    return {
+      status: result.status,
+      headers: { ...caching, 'content-type': CONTENT_TYPES[format], vary: caching.vary ? `${caching.vary}, Accept` : 'Accept' } as Record<string, string>,
+      body:
+        format === 'csv'
+          ? exportTable({ wavelengthNm: result.wavelength_nm, n: result.n, k: result.k }, 'csv')
+          : JSON.stringify(result),
+    };
+  };
   const statuses = new ChangeMemo<ReturnType<typeof versionStatus>>(ctx.changes);
 
   app.get(`${VERSION_PATH}/nk`, ctx.requireRole('reader'), (c) => {
@@ -35,23 +49,23 @@ export function registerNkRoute(app: Hono<ApiEnv>, ctx: RouteContext): void {
     const status = statuses.get(ref, () => versionStatus(ctx.registry, c.req.param('slug'), Number(c.req.param('n'))));
     let answer = status && isImmutable(status) ? cache.get(key, status) : undefined;
     if (!answer) {
-      const request = parseNkQuery(c.req.query(), maxPoints);
-      const result = evaluateVersion(ctx.registry, ref, request.wavelengthNm, { interpolation: request.interpolation });
-      const retiredAt = result.status === 'retired' ? versionSummary(ctx.registry, ref).retired_at : null;
-      const caching = versionHeaders({ status: result.status, sha256: result.sha256, retiredAt }, { withToken, variant: format });
-      answer = {
-        status: result.status,
-        headers: { ...caching, 'content-type': CONTENT_TYPES[format], vary: caching.vary ? `${caching.vary}, Accept` : 'Accept' },
-        body:
-          format === 'csv'
-            ? exportTable({ wavelengthNm: result.wavelength_nm, n: result.n, k: result.k }, 'csv')
-            : JSON.stringify(result),
-      };
-      if (isImmutable(result.status)) cache.set(key, answer);
+      answer = render(ref, parseNkQuery(readQuery(c.req.url), maxPoints), format, withToken);
+      if (isImmutable(answer.status)) cache.set(key, answer);
     }
     // A plain Response with a plain header record, not c.body(): hono would copy the record into a
     // Headers object, which costs more than the rest of a cached answer. Nothing before this handler
     // sets headers through c.header(); the CORS middleware's headers are merged in by hono (c.res).
     return notModified(c, answer.headers) ?? new Response(answer.body, { status: 200, headers: answer.headers });
+  });
+
+  // The same answer for wavelength lists too long for a URL, asked in a JSON body. A POST answer is
+  // not stored by caches (RFC 9110 §9.3.3 needs explicit freshness and Content-Location), so it says
+  // no-store; the ETag still names the version's content and status.
+  app.post(`${VERSION_PATH}/nk`, ctx.requireRole('reader'), async (c) => {
+    const ref = versionRef(c);
+    const format = negotiateNkFormat(c.req.header('accept'));
+    const request = parseNkBody(await readJson(c.req), ctx.settings().max_nk_points);
+    const answer = render(ref, request, format, c.get('principal') !== null);
+    return new Response(answer.body, { status: 200, headers: { ...answer.headers, 'cache-control': 'no-store' } });
   });
 }
