@@ -78,7 +78,7 @@ export function register(program: Command): void {
           cliIo().stdout.write(`nkledger serving ${registry.path} at ${server.url}/api/v1/materials\n`);
           cliIo().stdout.write(`  OpenAPI: ${server.url}/api/v1/openapi.json\n`);
           cliIo().stdout.write(`  reads without a token: ${open ? 'allowed' : 'refused'} (setting anonymous_reads = ${anonymous})\n`);
-          cliIo().stdout.write('  Ctrl-C stops the server after open requests finish\n');
+          cliIo().stdout.write('  Ctrl-C stops the server after open requests finish (at most --grace seconds)\n');
         });
       }),
     );
