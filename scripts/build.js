@@ -3,7 +3,7 @@
  * Build: bundle the CLI (src/cli/main.ts) with esbuild into dist/, one flat folder. Each command module that
  * src/cli/commands/index.ts loads with import() becomes its own chunk, so a command loads only its code and the
  * parts of its dependencies it uses (tree-shaken; loading drizzle-orm's ~400 files one by one cost more than the
- * whole start-up budget). better-sqlite3 stays an import (native addon); the other packages are bundled.
+ * whole start-up budget). better-sqlite3 (native addon) and piscina (it finds its own worker file by __dirname) stay imports; the other packages are bundled.
  *
  * Paths found relative to a module's own file: every `new URL('<relative>', import.meta.url)` in src/ is
  * rebased to dist/ (all output files sit directly in dist/), so `../../drizzle` in src/registry/open.ts reads
@@ -74,7 +74,7 @@ export async function build({ quiet = false } = {}) {
       bundle: true,
       splitting: true,
       chunkNames: '[name]-[hash]',
-      external: ['better-sqlite3'],
+      external: ['better-sqlite3', 'piscina'],
       platform: 'node',
       format: 'esm',
       target: 'node20',

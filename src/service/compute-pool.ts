@@ -25,12 +25,14 @@ export function defaultComputeThreads(): number {
 }
 
 /**
- * Where the worker's code is. From the TypeScript sources (tsx, tests) the .mjs bootstrap registers tsx
- * in the thread first; from a build (compiled .js beside this file) the compiled worker loads as it is.
- * Kept in this one function so a build step only has to make it see .js.
+ * Where the worker's code is: the one place a build has to see. scripts/build.js makes every .ts file
+ * named by a URL relative to import.meta.url an entry point of its own and points the URL at its .js
+ * output, so in dist/ this is the bundled worker. From the TypeScript sources (tsx, tests) a worker thread does
+ * not inherit the tsx loader, so the .mjs bootstrap beside it registers tsx first.
  */
-export function computeWorkerEntry(here: string = import.meta.url): string {
-  return here.endsWith('.ts') ? new URL('./compute-worker-tsx.mjs', here).href : new URL('./compute-worker.js', here).href;
+export function computeWorkerEntry(): string {
+  const worker = new URL('./compute-worker.ts', import.meta.url).href;
+  return worker.endsWith('.ts') ? new URL('./compute-worker-tsx.mjs', import.meta.url).href : worker;
 }
 
 export class ComputePool {
