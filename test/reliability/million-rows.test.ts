@@ -65,7 +65,7 @@ describe('a 1,000,000-row table', () => {
     const report = checkKramersKronig(table);
     expect(['consistent', 'inconsistent', 'uninformative']).toContain(report.verdict);
     expect(report.points).toBe(ROWS);
-  }, 300_000);
+  }, 600_000);
 
   it('goes through the CLI: import --max-size 64 --fit cauchy, then eval', async () => {
     const db = join(dir, 'million.db');
@@ -77,5 +77,5 @@ describe('a 1,000,000-row table', () => {
     const evaluated = await cli(['eval', path, '--max-size', '64', '--at', '550'], 'lab-editor');
     expect(evaluated.code, evaluated.err).toBe(0);
     expect(evaluated.out).toMatch(/550/);
-  }, 300_000);
+  }, 600_000);
 });
