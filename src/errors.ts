@@ -13,24 +13,68 @@ export interface InputLocation {
   column?: number;
 }
 
+/**
+ * An option the user can set to get past a refusal, named neutrally (snake_case, as the API's fields):
+ * `{ option: 'input_unit', value: 'um' }`. Each front door words it: the CLI as `--input-unit um`, the API
+ * as `input_unit=um`. The core never writes a flag into a message.
+ */
+export interface Remedy {
+  option: string;
+  /** The value to give; absent for a switch (`allow_any_range`). `false` for a switch to turn off (`kk`). */
+  value?: string | false;
+}
+
+/** How a front door spells a remedy. */
+export type RemedyWording = (remedy: Remedy) => string;
+
+/** The API's (and the default) wording: `input_unit=um`, `allow_any_range=true`, `kk=false`. */
+export const FIELD_WORDING: RemedyWording = (r) => `${r.option}=${r.value === undefined ? 'true' : r.value === false ? 'false' : r.value}`;
+
+/** The command line's wording: `--input-unit um`, `--allow-any-range`, `--no-kk`. */
+export const FLAG_WORDING: RemedyWording = (r) => {
+  const flag = r.option.replace(/_/g, '-');
+  if (r.value === false) return `--no-${flag}`;
+  return r.value === undefined ? `--${flag}` : `--${flag} ${/\s/.test(r.value) ? JSON.stringify(r.value) : r.value}`;
+};
+
+/** Structured fields of a refusal besides its place: the option or field at fault, its value, the remedies. */
+export interface InputErrorFields {
+  /** The option or field whose value is refused (neutral snake_case name), e.g. `header_line`. */
+  option?: string;
+  /** The refused value, as given. */
+  value?: string;
+  /** Options that get past the refusal, in order of likelihood. */
+  remedies?: Remedy[];
+}
+
 /** A refusal of user input: bad file, bad flag, bad reference. Maps to exit code 2 / HTTP 4xx. */
 export class InputError extends Error {
   readonly rule: string;
   readonly location: InputLocation;
   /** HTTP status an API should answer with (400 bad request by default). */
   readonly status: number;
+  readonly option?: string;
+  readonly value?: string;
+  readonly remedies: Remedy[];
 
-  constructor(rule: string, message: string, location: InputLocation = {}, status = 400) {
+  constructor(rule: string, message: string, location: InputLocation = {}, status = 400, fields: InputErrorFields = {}) {
     super(message);
     this.name = 'InputError';
     this.rule = rule;
     this.location = location;
     this.status = status;
+    if (fields.option !== undefined) this.option = fields.option;
+    if (fields.value !== undefined) this.value = fields.value;
+    this.remedies = fields.remedies ?? [];
   }
 
-  /** "file:line:col: message [rule]", the form compilers use so editors can jump to it. */
-  describe(): string {
-    return `${formatLocation(this.location)}${this.message} [${this.rule}]`;
+  /**
+   * "file:line:col: message: use R1 or R2 [rule]", the form compilers use so editors can jump to it; the
+   * remedies are worded by the front door (flags by default for the CLI, `FIELD_WORDING` for the API).
+   */
+  describe(wording: RemedyWording = FLAG_WORDING): string {
+    const remedies = this.remedies.length ? `: use ${this.remedies.map(wording).join(' or ')}` : '';
+    return `${formatLocation(this.location)}${this.message}${remedies} [${this.rule}]`;
   }
 }
 

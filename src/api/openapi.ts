@@ -358,6 +358,8 @@ export const OPENAPI_DOCUMENT = {
           delimiter: { type: 'string' },
           decimal_comma: { type: 'string', enum: ['true', 'false'] },
           k_tolerance: { type: 'string' },
+          header_line: { type: 'string', description: 'the header is this physical line (from 1); lines above it are the preamble (default: detected)' },
+          allow_any_range: { type: 'string', enum: ['true', 'false'], description: 'true: accept x values outside 10 nm – 1 mm (genuine EUV or THz data)' },
           sample: { type: 'string' },
           substrate: { type: 'string' },
           process: { type: 'string' },

@@ -1,10 +1,11 @@
 /**
  * RFC 9457 problem documents. Every error the API answers with is one of these, served as
  * `application/problem+json` with `type`, `title`, `status` and `detail`, plus the extension
- * members `rule` (nkledger's rule id) and, for a refused upload, `file`, `line` and `column`.
+ * members `rule` (nkledger's rule id), for a refused upload `file`, `line` and `column`, and where the
+ * refusal names them `option`, `value` and `remedies` ([{option, value}], the fields that get past it).
  */
 import { HTTPException } from 'hono/http-exception';
-import { BusyError, InputError } from '../errors.ts';
+import { BusyError, FIELD_WORDING, InputError } from '../errors.ts';
 
 export const PROBLEM_CONTENT_TYPE = 'application/problem+json';
 
@@ -59,9 +60,13 @@ export function problemFromError(err: unknown): { problem: ProblemDocument; head
       title: TITLES[status],
       status,
       // The same "file:line:col: message [rule]" text the CLI prints, so a person can find the line.
-      detail: err.describe(),
+      // Remedies worded as API fields (input_unit=um), not as CLI flags.
+      detail: err.describe(FIELD_WORDING),
       rule: err.rule,
       ...err.location,
+      ...(err.option !== undefined && { option: err.option }),
+      ...(err.value !== undefined && { value: err.value }),
+      ...(err.remedies.length > 0 && { remedies: err.remedies }),
     };
     const headers = err instanceof HttpProblem ? err.headers : err instanceof BusyError ? { 'retry-after': String(err.retryAfterSeconds) } : {};
     return { problem, headers };

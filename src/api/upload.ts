@@ -1,7 +1,7 @@
 /**
  * Reading an uploaded n,k table: the raw body (text/csv or any delimited text), or multipart/form-data
  * with a `table` file part and text fields. The import flags are the CLI's, spelled snake_case
- * (input_unit, columns, delimiter, decimal_comma, k_tolerance) and mapped by the CLI's own
+ * (input_unit, columns, delimiter, decimal_comma, k_tolerance, header_line, allow_any_range) and mapped by the CLI's own
  * importOptionsFrom, so both front doors read a table identically.
  */
 import type { Context } from 'hono';
@@ -34,6 +34,8 @@ const importFields = z.object({
   delimiter: z.string().max(20).optional(),
   decimal_comma: z.enum(['true', 'false']).optional(),
   k_tolerance: z.string().max(40).optional(),
+  header_line: z.string().max(20).optional(),
+  allow_any_range: z.enum(['true', 'false']).optional(),
 });
 const IMPORT_FIELD_NAMES = Object.keys(importFields.shape);
 
@@ -72,6 +74,8 @@ export async function readTableUpload(c: Context): Promise<TableUpload> {
       delimiter: flags.delimiter,
       decimalComma: flags.decimal_comma === undefined ? undefined : flags.decimal_comma === 'true',
       kTolerance: flags.k_tolerance,
+      headerLine: flags.header_line,
+      allowAnyRange: flags.allow_any_range === 'true',
     }),
     file,
   };

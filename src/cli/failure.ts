@@ -1,12 +1,13 @@
 /** Turning a thrown value into a message and an exit code, so no stack trace reaches a user. */
-import { InputError } from '../errors.ts';
+import { FLAG_WORDING, InputError } from '../errors.ts';
 import { cliIo, setExitCode } from './io.ts';
 
 /** Print the failure to stderr and return the exit code: 2 for bad input, 1 for an internal fault. */
 export function reportFailure(err: unknown): number {
   const { stderr, env } = cliIo();
   if (err instanceof InputError) {
-    stderr.write(`nkledger: ${err.describe()}\n`);
+    stderr.write(`nkledger: ${err.describe(FLAG_WORDING)}
+`);
     return 2;
   }
   const message = err instanceof Error ? err.message : String(err);

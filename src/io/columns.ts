@@ -25,6 +25,8 @@ const X_NAMES: Record<string, XKind> = {
   lambda: 'wavelength',
   λ: 'wavelength',
   wl: 'wavelength',
+  wvl: 'wavelength',
+  wavelen: 'wavelength',
   energy: 'energy',
   photonenergy: 'energy',
   e: 'energy',
@@ -37,6 +39,9 @@ const X_NAMES: Record<string, XKind> = {
   ν̃: 'wavenumber',
 };
 
+/** A column named by its unit alone ("eV", "nm", "cm-1") is that kind of x column in that unit. */
+const UNIT_KIND: Record<SpectralUnit, XKind> = { nm: 'wavelength', um: 'wavelength', A: 'wavelength', eV: 'energy', 'cm-1': 'wavenumber' };
+
 /** Unit a coordinate kind implies when the header gives none (a photon energy is in eV, a wavenumber in cm⁻¹). */
 export const IMPLIED_UNIT: Partial<Record<XKind, SpectralUnit>> = { energy: 'eV', wavenumber: 'cm-1' };
 
@@ -45,16 +50,34 @@ const VALUE_NAMES: Record<string, ColumnRole> = {
   k: 'k',
   kappa: 'k',
   κ: 'k',
+  refractiveindex: 'n',
+  refractiveindexn: 'n',
+  nreal: 'n',
+  extinctioncoefficient: 'k',
+  extinctioncoefficientk: 'k',
+  extinctioncoeff: 'k',
+  extinction: 'k',
+  kimag: 'k',
   eps1: 'eps1',
   e1: 'eps1',
   ε1: 'eps1',
   epsilon1: 'eps1',
   "ε'": 'eps1',
+  "eps'": 'eps1',
+  reeps: 'eps1',
+  reε: 'eps1',
+  reepsilon: 'eps1',
+  epsr: 'eps1',
   eps2: 'eps2',
   e2: 'eps2',
   ε2: 'eps2',
   epsilon2: 'eps2',
   'ε"': 'eps2',
+  'eps"': 'eps2',
+  imeps: 'eps2',
+  imε: 'eps2',
+  imepsilon: 'eps2',
+  epsi: 'eps2',
   sigman: 'sigma_n',
   σn: 'sigma_n',
   dn: 'sigma_n',
@@ -95,6 +118,9 @@ function key(base: string): string {
 
 export function recognizeColumn(raw: string): RecognizedColumn {
   const { base, unitText } = splitNameAndUnit(raw);
+  const asUnit = unitText === undefined ? parseSpectralUnit(base) : undefined;
+  // A bare "A" is an ångström only as a unit; as a column name it is too likely something else.
+  if (asUnit !== undefined && base.trim() !== 'A') return { role: 'x', xKind: UNIT_KIND[asUnit], unitText: base.trim(), unit: asUnit };
   const k = key(base);
   const xKind = X_NAMES[k];
   // A bare "e" is only an energy when it carries a unit ("E (eV)"); "e1"/"e2" are ε.
@@ -104,3 +130,12 @@ export function recognizeColumn(raw: string): RecognizedColumn {
   const value = VALUE_NAMES[k] ?? VALUE_NAMES[key(raw.replace(/[()[\]]/g, ''))];
   return { role: value };
 }
+
+/**
+ * The header names accepted, for messages and docs/import.md (which lists them in full): names are
+ * compared in lower case without spaces, underscores, dots and hyphens, with the unit in brackets,
+ * parentheses or after a space, underscore or slash.
+ */
+export const ACCEPTED_NAMES_SUMMARY =
+  'x: wavelength, lambda, λ, wl, wvl, energy, photon energy, E (eV), hv, wavenumber, wn, ν, or the unit alone (nm, µm, eV, cm-1); ' +
+  'values: n, refractive index, k, kappa, extinction coefficient, eps1/eps2, e1/e2, ε1/ε2, Re(eps)/Im(eps), sigma_n, sigma_k, sigma_eps1, sigma_eps2; "-" skips a column';

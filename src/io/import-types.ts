@@ -33,6 +33,10 @@ export interface ImportOptions {
   kTolerance?: number;
   /** Refuse inputs larger than this many bytes. */
   maxBytes?: number;
+  /** 1-based physical line of the header, when detection is not wanted; the lines above it are the preamble. */
+  headerLine?: number;
+  /** Accept x values outside the plausible range (PLAUSIBLE_RANGE_NM), for genuine EUV or THz data. */
+  allowAnyRange?: boolean;
 }
 
 /** How the input was read: what a person needs to check that detection got it right. */
@@ -43,8 +47,17 @@ export interface DetectedFormat {
   /** "," ";" "\t" "whitespace" or the explicit single character. */
   delimiter: string;
   decimalComma: boolean;
-  /** True when the first content line named the columns. */
+  /** True when a header line named the columns. */
   header: boolean;
+  /** 1-based line of the header, when there is one. */
+  headerLine?: number;
+  /**
+   * Lines above the header that are neither blank nor `#` comments (sample, operator, angles … as the
+   * instrument wrote them), trimmed, in file order; empty when the header is the first such line.
+   */
+  preamble: string[];
+  /** The units row under the header, one entry per cell ("nm", "-", "" …), when there is one. */
+  unitsRow?: string[];
   /** Column names as in the header (or as given by the columns option). */
   columns: string[];
   /** Role of each column, in file order. */
@@ -53,6 +66,7 @@ export interface DetectedFormat {
   xUnit: SpectralUnit;
   /** "nk" when the file holds n,k; "eps" when it holds ε1, ε2 (converted to n,k). */
   quantity: 'nk' | 'eps';
+  /** False when the file has no k (nor ε2) column: k is then stored as 0 but was not measured. */
   hasK: boolean;
   hasSigma: boolean;
   /** 1-based line of the first and last data row. */
@@ -66,6 +80,13 @@ export interface ImportResult {
   detected: DetectedFormat;
   warnings: string[];
 }
+
+/**
+ * The x range an optical-constants table can plausibly cover, in nm: 10 nm (extreme UV) to 1 mm (far
+ * infrared / THz edge). Values outside it are almost always a wrong unit (common practice; a lab with
+ * genuine EUV or THz data says so with the allow_any_range option).
+ */
+export const PLAUSIBLE_RANGE_NM: [number, number] = [10, 1e6];
 
 /** Default tolerance for negative k: noise in a transparent region rarely exceeds 1e-3 (common practice). */
 export const DEFAULT_K_TOLERANCE = 1e-3;

@@ -106,8 +106,10 @@ function toPoint(row: ParsedRow, ctx: NormalizeContext): Point {
   if (k < -ctx.kTolerance) {
     throw new InputError(
       'negative-k',
-      `k = ${k}${via} is below −${ctx.kTolerance}, the tolerance for noise (raise it with --k-tolerance if the instrument is that noisy)`,
+      `k = ${k}${via} is below −${ctx.kTolerance}, the tolerance for noise (raise it if the instrument is that noisy)`,
       at(kRole),
+      400,
+      { remedies: [{ option: 'k_tolerance', value: String(+(-k * 1.5).toPrecision(1)) }] },
     );
   }
   return { line: row.line, x, wavelengthNm, n, k, sigmaN, sigmaK, raw: v };

@@ -8,9 +8,11 @@
  */
 import { InputError } from '../errors.ts';
 import { parseSpectralUnit, type SpectralUnit } from '../optics/units.ts';
-import { IMPLIED_UNIT, recognizeColumn, type RecognizedColumn } from './columns.ts';
+import { ACCEPTED_NAMES_SUMMARY, IMPLIED_UNIT, recognizeColumn, type RecognizedColumn } from './columns.ts';
 import { decodeText } from './decode.ts';
 import { contentLines, detectDecimalComma, detectDelimiter, glueUnits, normalizeDelimiter, splitFields, WHITESPACE } from './dialect.ts';
+import { locateHeader, unitCell } from './header.ts';
+import { checkPlausibleRange, unitGuess } from './plausible.ts';
 import {
   DEFAULT_K_TOLERANCE,
   DEFAULT_MAX_BYTES,
@@ -33,32 +35,34 @@ const BARE_WAVELENGTH_NM_RANGE: [number, number] = [100, 100_000];
 export function parseNkTable(input: string | Uint8Array, options: ImportOptions = {}): ImportResult {
   const file = options.file;
   const kTolerance = options.kTolerance ?? DEFAULT_K_TOLERANCE;
-  if (!(kTolerance >= 0)) throw new InputError('bad-option', `k tolerance ${kTolerance} must be a number ≥ 0`);
+  if (!(kTolerance >= 0)) throw new InputError('bad-option', `k tolerance ${kTolerance} must be a number ≥ 0`, {}, 400, { option: 'k_tolerance', value: String(kTolerance) });
   const decoded = decodeText(input, file, options.maxBytes ?? DEFAULT_MAX_BYTES);
-  const { lines, lineEnding } = contentLines(decoded.text);
-  if (lines.length === 0) throw new InputError('empty-file', 'the file holds no table (only blank or comment lines)', { file });
+  const { lines: allLines, lineEnding } = contentLines(decoded.text);
+  if (allLines.length === 0) throw new InputError('empty-file', 'the file holds no table (only blank or comment lines)', { file });
 
+  const located = locateHeader(allLines, options.headerLine, file);
+  const header = located.header !== undefined;
+  // The table proper: header (if any) and data rows; the units row is read on its own.
+  const lines = header ? [allLines[located.header!], ...allLines.slice(located.dataStart)] : allLines;
+  const unitsLine = located.units === undefined ? undefined : allLines[located.units];
   const delimiter = options.delimiter !== undefined ? normalizeDelimiter(options.delimiter) : detectDelimiter(lines.slice(0, DIALECT_SAMPLE_LINES).map((l) => l.text));
   if (options.decimalComma && delimiter === ',') {
-    throw new InputError('bad-option', 'decimal commas need a separator other than a comma', { file });
+    throw new InputError('bad-option', 'decimal commas need a separator other than a comma', { file }, 400, { option: 'decimal_comma', value: 'true' });
   }
   const rows = splitFields(lines, delimiter, file);
-  const decimalComma = options.decimalComma ?? detectDecimalComma(rows.slice(1), delimiter);
-  const header = rows[0].some((cell) => !isNumberCell(cell, decimalComma));
-  if (header && delimiter === WHITESPACE) rows[0] = glueUnits(rows[0]);
+  const decimalComma = options.decimalComma ?? detectDecimalComma(rows.slice(header ? 1 : 0), delimiter);
   const headerLine = header ? lines[0].line : undefined;
+  if (header && delimiter === WHITESPACE) rows[0] = splitWhitespaceHeader(lines[0].text, rows[0], rows[1]);
 
   if (!header && options.columns === undefined) {
-    throw new InputError(
-      'no-header',
-      'the first line is data, not a header: name the columns with --columns (e.g. wavelength,n,k) and the unit with --input-unit',
-      { file, line: lines[0].line },
-    );
+    throw new InputError('no-header', 'the first line is data, not a header: name the columns (and the unit of x)', { file, line: lines[0].line }, 400, {
+      remedies: [{ option: 'columns', value: 'wavelength (nm),n,k' }, { option: 'header_line', value: 'N' }],
+    });
   }
   // A trailing separator on the header line ("wavelength,n,k,") names no column.
   const names = options.columns ?? (rows[0].length > 1 && rows[0][rows[0].length - 1] === '' ? rows[0].slice(0, -1) : rows[0]);
   const dataStart = header ? 1 : 0;
-  if (rows.length - dataStart === 0) throw new InputError('header-only', 'the file has a header but no data rows', { file, line: headerLine });
+  if (rows.length - dataStart === 0) throw new InputError('header-only', 'the file has a header but no data rows', { file, line: unitsLine?.line ?? headerLine });
 
   const layout = columnLayout(names, { file, line: options.columns ? undefined : headerLine });
   const warnings = [...layout.warnings];
@@ -70,10 +74,15 @@ export function parseNkTable(input: string | Uint8Array, options: ImportOptions 
     throw new InputError('too-few-rows', 'only one data row; a table needs at least two', { file, line: parsedRows[0].line });
   }
 
-  const xUnit = options.xUnit ?? resolveXUnit(layout.x, parsedRows, { file, line: headerLine, column: layout.columnOf.x }, warnings);
+  const unitsRow = unitsLine === undefined ? undefined : splitFields([unitsLine], delimiter, file)[0];
+  const x = withUnitsRow(layout.x, unitsRow?.[layout.columnOf.x! - 1], { file, line: unitsLine?.line, column: layout.columnOf.x });
+  const xUnit = options.xUnit ?? resolveXUnit(x, parsedRows, { file, line: unitsLine?.line ?? headerLine, column: layout.columnOf.x }, warnings);
   const quantity = layout.columnOf.eps1 !== undefined ? 'eps' : 'nk';
+  if (!options.allowAnyRange) checkPlausibleRange(parsedRows, { file, xUnit, xKind: x.xKind, column: layout.columnOf.x });
   const normalized = normalizeRows(parsedRows, { file, xUnit, quantity, columnOf: layout.columnOf, kTolerance });
   for (const w of normalized.warnings) warnings.push(w);
+  const hasK = layout.columnOf.k !== undefined || layout.columnOf.eps2 !== undefined;
+  if (!hasK) warnings.push('no k column: k was not measured; it is stored as 0, and the KK check and fits treat it as absent');
 
   const detected: DetectedFormat = {
     encoding: decoded.encoding,
@@ -82,16 +91,61 @@ export function parseNkTable(input: string | Uint8Array, options: ImportOptions 
     delimiter: delimiter === WHITESPACE ? WHITESPACE : delimiter,
     decimalComma,
     header,
+    ...(headerLine !== undefined && { headerLine }),
+    preamble: located.preamble.map((l) => l.text),
+    ...(unitsRow !== undefined && { unitsRow }),
     columns: names,
     roles: layout.roles,
     xUnit,
     quantity,
-    hasK: layout.columnOf.k !== undefined || layout.columnOf.eps2 !== undefined,
+    hasK,
     hasSigma: normalized.table.sigmaN !== undefined || normalized.table.sigmaK !== undefined,
     dataLines: [parsedRows[0].line, parsedRows[parsedRows.length - 1].line],
     rows: parsedRows.length,
   };
   return { table: normalized.table, detected, warnings };
+}
+
+/**
+ * A whitespace-separated header whose names hold spaces ("Photon energy (eV)   n   k"): when splitting at
+ * every space gives more names than the first data row has fields, split at runs of two or more spaces (or
+ * tabs), else group the words into known column names from the left.
+ */
+function splitWhitespaceHeader(text: string, words: string[], firstRow: string[] | undefined): string[] {
+  const glued = glueUnits(words);
+  const width = firstRow?.filter((c, i) => c !== '' || i < firstRow.length - 1).length;
+  if (width === undefined || glued.length <= width) return glued;
+  const wide = glueUnits(text.trim().split(/\t|\s{2,}/).map((c) => c.trim()));
+  if (wide.length === width) return wide;
+  return groupKnownNames(glued, width) ?? glued;
+}
+
+/** Split words into `count` consecutive groups that are each a known column name, if there is such a split. */
+function groupKnownNames(words: string[], count: number): string[] | undefined {
+  if (count === 1) {
+    const name = words.join(' ');
+    return recognizeColumn(name).role !== undefined ? [name] : undefined;
+  }
+  for (let take = 1; take <= words.length - count + 1; take++) {
+    const name = words.slice(0, take).join(' ');
+    if (recognizeColumn(name).role === undefined) continue;
+    const rest = groupKnownNames(words.slice(take), count - 1);
+    if (rest) return [name, ...rest];
+  }
+  return undefined;
+}
+
+/** The x column's unit from the units row when the header gives none; a contradiction is refused. */
+function withUnitsRow(x: RecognizedColumn, cell: string | undefined, where: { file?: string; line?: number; column?: number }): RecognizedColumn {
+  const text = cell === undefined ? undefined : unitCell(cell);
+  if (text === undefined || text === '' || parseSpectralUnit(text) === undefined) return x;
+  if (x.unitText !== undefined && x.unitText !== '') {
+    if (parseSpectralUnit(x.unitText) !== parseSpectralUnit(text)) {
+      throw new InputError('unit-conflict', `the units row says "${text}" for the x column, whose header says "${x.unitText}"`, where);
+    }
+    return x;
+  }
+  return { ...x, unitText: text, unit: parseSpectralUnit(text) };
 }
 
 interface ColumnLayout {
@@ -127,8 +181,11 @@ function columnLayout(names: string[], where: { file?: string; line?: number }):
   if (x === undefined) {
     throw new InputError(
       'no-x-column',
-      `no wavelength, energy or wavenumber column among ${names.map((n) => `"${n}"`).join(', ')}`,
+      `no wavelength, energy or wavenumber column among ${names.map((n) => `"${n}"`).join(', ')}. Accepted names (any case) are ${ACCEPTED_NAMES_SUMMARY}. ` +
+        'Name the columns in order yourself, or say which line is the header',
       where,
+      400,
+      { remedies: [{ option: 'columns', value: 'wavelength (nm),n,k' }, { option: 'header_line', value: 'N' }] },
     );
   }
   const hasNk = columnOf.n !== undefined || columnOf.k !== undefined;
@@ -178,8 +235,15 @@ function resolveXUnit(
   const lo = xs.reduce((a, b) => Math.min(a, b));
   const hi = xs.reduce((a, b) => Math.max(a, b));
   if (lo >= BARE_WAVELENGTH_NM_RANGE[0] && hi <= BARE_WAVELENGTH_NM_RANGE[1]) {
-    warnings.push(`the wavelength column has no unit; values ${lo}–${hi} read as nm (give --input-unit to say otherwise)`);
+    warnings.push(`the wavelength column has no unit; values ${lo}–${hi} read as nm (set the input unit to say otherwise)`);
     return 'nm';
   }
-  throw new InputError('missing-unit', `the wavelength column has no unit and values ${lo}–${hi} are not plausibly nm: give --input-unit`, where);
+  const guess = unitGuess(lo, hi, x.xKind, undefined);
+  throw new InputError(
+    'missing-unit',
+    `the wavelength column has no unit and values ${lo}–${hi} are not plausibly nm${guess ? `; they look like ${guess.label}` : ''}`,
+    where,
+    400,
+    { remedies: [{ option: 'input_unit', value: guess?.unit ?? 'um' }] },
+  );
 }

@@ -1,5 +1,6 @@
 import { readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
+import { FIELD_WORDING } from '../../src/errors.ts';
 import { parseNkTable, type ImportOptions } from '../../src/io/parse-table.ts';
 import { refusal } from './refusal.ts';
 
@@ -51,7 +52,55 @@ const GOOD: { file: string; options?: ImportOptions; table?: object; detected?: 
   { file: 'windows-1252-um.csv', table: BASE, detected: { encoding: 'windows-1252', xUnit: 'um' } },
   { file: 'extra-column.csv', table: BASE, detected: { roles: ['x', 'n', 'k', 'ignore'] }, warnings: [/column 4 "temperature \(C\)" is not a known quantity; ignored/] },
   { file: 'bare-wavelength.csv', table: BASE, warnings: [/no unit; values 400–600 read as nm/] },
-  { file: 'n-only.csv', table: { ...BASE, k: [0, 0, 0] }, detected: { hasK: false } },
+  { file: 'n-only.csv', table: { ...BASE, k: [0, 0, 0] }, detected: { hasK: false }, warnings: [/^no k column: k was not measured/] },
+  // Instrument exports as they come (INVENTED numbers, Marrowick Optics demo lab; each file says so).
+  {
+    file: 'export-preamble.csv',
+    table: BASE,
+    detected: {
+      header: true,
+      headerLine: 6,
+      preamble: [
+        'Marrowick Optics MO-SE 640 spectroscopic ellipsometer - n,k export',
+        'Comment: INVENTED test data of the Marrowick Optics demo lab, not a measurement',
+        'Sample: TA-0412',
+        'Operator: R. Okafor',
+        'Angles: 65 70 75',
+      ],
+      dataLines: [7, 9],
+    },
+    warnings: [],
+  },
+  {
+    file: 'export-units-row-trade-names.csv',
+    table: BASE,
+    detected: { headerLine: 2, unitsRow: ['nm', '', ''], roles: ['x', 'n', 'k'], xUnit: 'nm', dataLines: [4, 6] },
+    warnings: [],
+  },
+  {
+    file: 'export-wvl-brackets-um.txt',
+    table: BASE,
+    detected: { delimiter: 'whitespace', headerLine: 3, unitsRow: ['[um]', '[-]', '[-]'], columns: ['Wvl', 'N', 'K'], xUnit: 'um', preamble: [expect.stringMatching(/INVENTED/), 'Sample: MW-2291'] },
+    warnings: [],
+  },
+  {
+    file: 'export-ev-re-im-eps.csv',
+    // ε = 9, −3+4i, 3+4i → N = 3, 1+2i, 2+i at 1, 2, 3 eV (as whitespace-ev-eps.txt).
+    table: { wavelengthNm: [1239.841984 / 3, 1239.841984 / 2, 1239.841984], n: [2, 1, 3], k: [1, 2, 0] },
+    detected: { delimiter: ';', decimalComma: true, xUnit: 'eV', quantity: 'eps', roles: ['x', 'eps1', 'eps2'] },
+  },
+  {
+    file: 'export-photon-energy-spaces.txt',
+    table: { wavelengthNm: [1239.841984 / 3, 1239.841984 / 2.5, 1239.841984 / 2], n: [1.5, 1.51, 1.52], k: [0, 0.0005, 0.001] },
+    detected: { delimiter: 'whitespace', columns: ['Photon energy (eV)', 'n', 'k'], unitsRow: ['(eV)', '(-)', '(-)'], xUnit: 'eV' },
+    warnings: [],
+  },
+  {
+    file: 'export-no-k-column.tsv',
+    table: { ...BASE, k: [0, 0, 0] },
+    detected: { hasK: false, roles: ['x', 'n'], headerLine: 4 },
+    warnings: [/^no k column: k was not measured; it is stored as 0/],
+  },
 ];
 
 /** Every malformed fixture and the exact refusal: rule, 1-based line and column (undefined where there is none). */
@@ -80,6 +129,11 @@ const BAD: [file: string, rule: string, line?: number, column?: number][] = [
   ['headerless.csv', 'no-header', 1, undefined],
   ['energy-zero.csv', 'x-not-positive', 2, 1],
   ['unbalanced-quote.csv', 'unbalanced-quote', 3, undefined],
+  // Instrument exports (INVENTED numbers): values that contradict their unit, contradicting units, unknown names.
+  ['um-under-nm-header.csv', 'implausible-range', 4, 1],
+  ['far-beyond-1mm.csv', 'implausible-range', 5, 1],
+  ['unit-conflict.csv', 'unit-conflict', 3, 1],
+  ['unknown-header-names.txt', 'no-x-column', 4, undefined],
 ];
 
 describe('parseNkTable: good files', () => {
@@ -117,12 +171,78 @@ describe('parseNkTable: malformed files are refused with file, line, column and 
   }
 });
 
+describe('parseNkTable: instrument exports', () => {
+  const nmFile = 'Wavelength (nm),n,k\n245,2.31,0.21\n500,2.05,0.01\n1700,1.98,0\n';
+
+  it('µm values under a nm header are refused and named as µm, with the options that get past it', () => {
+    const err = refusal(() => parseNkTable(read('bad/um-under-nm-header.csv'), { file: 'x.csv' }));
+    expect(err.message).toBe(
+      'x values 0.245–1.7 read as nm are 0.245 nm – 1.7 nm, outside the range an optical-constants table plausibly covers (10 nm – 1 mm); 0.245–1.7 looks like µm',
+    );
+    expect(err.remedies).toEqual([{ option: 'input_unit', value: 'um' }, { option: 'allow_any_range' }]);
+    expect(err.describe()).toMatch(/looks like µm: use --input-unit um or --allow-any-range \[implausible-range\]$/);
+    expect(err.describe(FIELD_WORDING)).toMatch(/use input_unit=um or allow_any_range=true/);
+    expect(parseNkTable(read('bad/um-under-nm-header.csv'), { xUnit: 'um' }).table.wavelengthNm).toEqual([245, 500, 1700]);
+  });
+
+  it('a wrong input unit is refused: eV on nm numbers (0.73–5.1 nm), µm on nm numbers (up to 1.7 mm); both look like nm', () => {
+    for (const xUnit of ['eV', 'um'] as const) {
+      const err = refusal(() => parseNkTable(nmFile, { file: 'f.csv', xUnit }));
+      expect([err.rule, err.location.line, err.location.column]).toEqual(['implausible-range', xUnit === 'eV' ? 2 : 4, 1]);
+      expect(err.message).toMatch(/245–1700 looks like nm$/);
+      expect(err.remedies[0]).toEqual({ option: 'input_unit', value: 'nm' });
+    }
+  });
+
+  it('the plausible range is 10 nm – 1 mm inclusive; allowAnyRange accepts genuine EUV or THz data', () => {
+    expect(parseNkTable('wavelength (nm),n\n10,0.9\n1000000,3\n').table.wavelengthNm).toEqual([10, 1e6]);
+    expect(refusal(() => parseNkTable('wavelength (nm),n\n9.99,0.9\n20,0.95\n')).rule).toBe('implausible-range');
+    // 13.5 nm EUV and 0.5 THz (16.7 cm⁻¹ = 600 µm) are inside; 5 nm is not, unless allowed.
+    const euv = 'wavelength (nm),n,k\n5,0.99,0.001\n13.5,0.92,0.007\n';
+    expect(refusal(() => parseNkTable(euv)).remedies).toEqual([{ option: 'input_unit', value: 'um' }, { option: 'allow_any_range' }]);
+    expect(parseNkTable(euv, { allowAnyRange: true }).table.wavelengthNm).toEqual([5, 13.5]);
+  });
+
+  it('headerLine says where the header is; the lines above are the preamble', () => {
+    const text = 'Run 7\nWavelength (nm),n,k\n400,1.52,0\n500,1.51,0\n';
+    const r = parseNkTable(text, { headerLine: 2 });
+    expect(r.detected.preamble).toEqual(['Run 7']);
+    expect(r.detected.headerLine).toBe(2);
+    const err = refusal(() => parseNkTable(text, { headerLine: 9, file: 'f.csv' }));
+    expect([err.rule, err.option, err.value]).toEqual(['bad-header-line', 'header_line', '9']);
+    expect(err.describe()).toMatch(/^f\.csv: line 9 is not a content line/);
+    // Said explicitly, a header with a number in it ("Run 7 n k") is a header; detection would call it preamble.
+    expect(parseNkTable('# c\nwavelength (nm) n k\n400 1.5 0\n500 1.4 0\n', { headerLine: 2 }).table.n).toEqual([1.5, 1.4]);
+  });
+
+  it('a lone numeric line in the preamble ("65 70 75") is not the table', () => {
+    const r = parseNkTable('Angles (deg)\n65 70 75\nWavelength (nm) n k\n400 1.52 0.001\n500 1.51 0\n');
+    expect(r.detected.preamble).toEqual(['Angles (deg)', '65 70 75']);
+    expect(r.table.n).toEqual([1.52, 1.51]);
+  });
+
+  it('the trade names are accepted (N/K, Wvl, a column named by its unit, Re/Im(eps), refractive index, extinction coefficient)', () => {
+    for (const header of ['Wvl (nm),N,K', 'nm,Refractive Index,Extinction Coefficient', 'Wavelength (nm),Re(eps),Im(eps)', 'Wvl,n,k\nnm,-,-']) {
+      const r = parseNkTable(`${header}\n400,2.25,0\n500,2.25,0\n`);
+      expect(r.detected.xUnit, header).toBe('nm');
+      expect(r.detected.roles.slice(1), header).toEqual(header.includes('eps') ? ['eps1', 'eps2'] : ['n', 'k']);
+    }
+  });
+
+  it('an unknown header lists the accepted names and says how to name the columns', () => {
+    const err = refusal(() => parseNkTable(read('bad/unknown-header-names.txt'), { file: 'u.txt' }));
+    expect(err.message).toMatch(/among "Pos_X", "Index_N", "Index_K"\. Accepted names \(any case\) are x: wavelength.*refractive index/);
+    expect(err.describe()).toMatch(/use --columns "wavelength \(nm\),n,k" or --header-line N \[no-x-column\]$/);
+  });
+});
+
 describe('parseNkTable: limits and options', () => {
   it('refuses input over the size limit and accepts it once the limit is raised', () => {
     const text = read('good/basic-nm.csv');
     const err = refusal(() => parseNkTable(text, { file: 'big.csv', maxBytes: 20 }));
     expect(err.rule).toBe('file-too-large');
-    expect(err.message).toMatch(/--max-size/);
+    expect(err.remedies).toEqual([{ option: 'max_size', value: '1' }]);
+    expect(err.describe()).toMatch(/: use --max-size 1 \[file-too-large\]$/);
     expect(parseNkTable(text, { maxBytes: text.byteLength }).table.n).toHaveLength(3);
   });
 

@@ -59,7 +59,7 @@ describe('fuzzed import, in process (parseNkTable)', () => {
     expect(FUZZ_CASES.parse - counts.accepted).toBeGreaterThan(FUZZ_CASES.parse / 10);
   });
 
-  it(`${FUZZ_CASES.reencode} re-encodings (BOM, CRLF, CR, UTF-16 LE/BE, Windows-1252, blank and comment lines) read the same numbers`, () => {
+  it(`${FUZZ_CASES.reencode} re-encodings (BOM, CRLF, CR, UTF-16 LE/BE, Windows-1252, blank and comment lines, an export preamble) read the same numbers`, () => {
     const original = CORPUS.map((f) => parseNkTable(f.bytes, { file: FILE }).table);
     fc.assert(
       fc.property(fc.nat(CORPUS.length - 1), fc.array(reencodingArb, { minLength: 1, maxLength: 3 }), (base, hows) => {

@@ -1,5 +1,6 @@
 /**
- * The fuzz corpus and its mutations: every valid table of data/marrowick and test/fixtures/import/good,
+ * The fuzz corpus and its mutations: every valid table of data/marrowick and test/fixtures/import/good
+ * (instrument exports with a preamble, a units row and trade header names among them),
  * as bytes, and fast-check arbitraries that damage them the way files get damaged (cut lines, swapped
  * separators, injected bytes, huge and tiny numbers, odd encodings) or re-encode them without changing
  * what they say (BOMs, line endings, UTF-16, Windows-1252).
@@ -149,8 +150,11 @@ export function mutate(bytes: Uint8Array, m: Mutation): Uint8Array {
 }
 
 /** Re-encodings that must not change the table read: line endings, BOMs, UTF-16, Windows-1252 where it can say it. */
-export type Reencoding = 'crlf' | 'cr' | 'utf8-bom' | 'utf-16le' | 'utf-16be' | 'windows-1252' | 'trailing-blank-lines' | 'comment-lines';
-export const reencodingArb = fc.constantFrom<Reencoding>('crlf', 'cr', 'utf8-bom', 'utf-16le', 'utf-16be', 'windows-1252', 'trailing-blank-lines', 'comment-lines');
+export type Reencoding = 'crlf' | 'cr' | 'utf8-bom' | 'utf-16le' | 'utf-16be' | 'windows-1252' | 'trailing-blank-lines' | 'comment-lines' | 'preamble';
+export const reencodingArb = fc.constantFrom<Reencoding>('crlf', 'cr', 'utf8-bom', 'utf-16le', 'utf-16be', 'windows-1252', 'trailing-blank-lines', 'comment-lines', 'preamble');
+
+/** Metadata lines an instrument writes above the header, without `#` (INVENTED: Marrowick Optics demo lab). */
+export const EXPORT_PREAMBLE = ['Marrowick Optics MO-SE 640 export', 'Sample: TA-0412', 'Operator: R. Okafor', 'Angles: 65 70 75', 'Points: 3'];
 
 /** Unicode → Windows-1252 bytes (undefined when a character has no single-byte form). */
 function toWindows1252(text: string): Uint8Array | undefined {
@@ -192,6 +196,8 @@ export function reencode(bytes: Uint8Array, how: Reencoding): Uint8Array {
       return toWindows1252(body) ?? enc.encode(body);
     case 'trailing-blank-lines':
       return enc.encode(`${body}\n\n  \n\t\n`);
+    case 'preamble':
+      return enc.encode((bom ? '\ufeff' : '') + [...EXPORT_PREAMBLE, ...lines].join('\n'));
     case 'comment-lines':
       return enc.encode(`# re-exported\n${lines.map((l, i) => (i === 1 ? `${l}\n# a comment between rows, with a , and a ; in it` : l)).join('\n')}`);
   }
