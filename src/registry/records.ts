@@ -93,6 +93,8 @@ export function provenanceOf(row: VersionRow): Provenance {
     source_file: row.sourceFile,
     source_sha256: row.sourceSha256,
     notes: row.notes,
+    ...(row.preamble !== null && { preamble: JSON.parse(row.preamble) as string[] }),
+    ...(row.absentColumns !== null && { absent_columns: JSON.parse(row.absentColumns) as string[] }),
   };
 }
 

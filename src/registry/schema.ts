@@ -61,6 +61,10 @@ export const materialVersions = sqliteTable(
     sourceFile: text('source_file'),
     sourceSha256: text('source_sha256'),
     notes: text('notes'),
+    /** JSON array of the lines above the file's header; NULL when there were none (then absent from the hash). */
+    preamble: text('preamble'),
+    /** JSON array of columns the file lacked (["k"]); NULL when none. */
+    absentColumns: text('absent_columns'),
     // lifecycle (each field set once)
     createdBy: text('created_by').notNull(),
     createdAt: text('created_at').notNull(),

@@ -47,6 +47,14 @@ export interface Provenance {
   source_sha256: string | null;
   /** Free notes. */
   notes: string | null;
+  /**
+   * Lines the instrument wrote above the table's header (sample, operator, angles …), verbatim. Taken from
+   * the file, not given by a person; absent (not null) when the file had none, so versions stored before
+   * the field existed keep their hashes.
+   */
+  preamble?: string[];
+  /** Columns the file did not have, e.g. ["k"] for an n-only table (k stored as 0 but not measured); absent when none. */
+  absent_columns?: string[];
 }
 
 export const PROVENANCE_FIELDS = [
@@ -62,6 +70,9 @@ export const PROVENANCE_FIELDS = [
   'source_sha256',
   'notes',
 ] as const satisfies readonly (keyof Provenance)[];
+
+/** Provenance taken from the imported file itself (never typed by a person), present only when there is something to say. */
+export const FILE_PROVENANCE_FIELDS = ['preamble', 'absent_columns'] as const satisfies readonly (keyof Provenance)[];
 
 /** A material as listed. */
 export interface MaterialRecord {

@@ -5,10 +5,11 @@
  * (compute-worker.ts, through compute-pool.ts) and in-process. Refusals travel as data and are rebuilt as
  * the same error classes on the other side (`rethrow`), so the front doors word them as before.
  */
-import { InputError, NumericalError, type InputLocation } from '../errors.ts';
+import { InputError, NumericalError, type InputErrorFields, type InputLocation } from '../errors.ts';
 import { fitTable, type FitOptions } from '../fit/fit.ts';
 import type { FitReport } from '../fit/types.ts';
-import { checkKramersKronig, type KkOptions, type KkReport } from '../kk/check.ts';
+import type { KkOptions } from '../kk/check.ts';
+import { fitOptionsForAbsentK, kkCheck, type KkAnswer } from './absent-k.ts';
 import { parseNkTable, type ImportOptions } from '../io/parse-table.ts';
 import { prepareMeasurement, type MeasurementImport, type PreparedMeasurement } from './import-measurement.ts';
 
@@ -19,7 +20,7 @@ export type ComputeTask =
 
 export interface ComputeResults {
   fit: { warnings: string[]; report: FitReport };
-  kk: { warnings: string[]; report: KkReport };
+  kk: { warnings: string[]; report: KkAnswer };
   measurement: PreparedMeasurement;
 }
 
@@ -32,6 +33,7 @@ interface RefusalData {
   message: string;
   location: InputLocation;
   status: number;
+  fields: InputErrorFields;
 }
 
 export type ComputeOutcome = { ok: true; value: unknown } | { ok: false; refusal: RefusalData };
@@ -40,11 +42,12 @@ function compute(task: ComputeTask): unknown {
   switch (task.kind) {
     case 'fit': {
       const imported = parseNkTable(task.bytes, task.importOptions);
-      return { warnings: imported.warnings, report: fitTable(imported.table, task.fit) };
+      const absentK = fitOptionsForAbsentK(task.fit, !imported.detected.hasK);
+      return { warnings: [...imported.warnings, ...absentK.notices], report: fitTable(imported.table, absentK.options) };
     }
     case 'kk': {
       const imported = parseNkTable(task.bytes, task.importOptions);
-      return { warnings: imported.warnings, report: checkKramersKronig(imported.table, task.kk) };
+      return { warnings: imported.warnings, report: kkCheck(imported.table, task.kk, !imported.detected.hasK) };
     }
     case 'measurement':
       return prepareMeasurement(task.input);
@@ -57,7 +60,8 @@ export function runComputeTask(task: ComputeTask): ComputeOutcome {
     return { ok: true, value: compute(task) };
   } catch (err) {
     if (!(err instanceof InputError)) throw err;
-    return { ok: false, refusal: { name: err.name, rule: err.rule, message: err.message, location: err.location, status: err.status } };
+    const fields: InputErrorFields = { option: err.option, value: err.value, remedies: err.remedies };
+    return { ok: false, refusal: { name: err.name, rule: err.rule, message: err.message, location: err.location, status: err.status, fields } };
   }
 }
 
@@ -66,5 +70,5 @@ export function unwrapOutcome<T>(outcome: ComputeOutcome): T {
   if (outcome.ok) return outcome.value as T;
   const r = outcome.refusal;
   if (r.name === 'NumericalError') throw new NumericalError(r.message, r.rule);
-  throw new InputError(r.rule, r.message, r.location, r.status);
+  throw new InputError(r.rule, r.message, r.location, r.status, r.fields);
 }

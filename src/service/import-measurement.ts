@@ -9,12 +9,14 @@
 import { InputError } from '../errors.ts';
 import { fitTable, type FitOptions } from '../fit/fit.ts';
 import type { FitReport } from '../fit/types.ts';
-import { checkKramersKronig, type KkOptions } from '../kk/check.ts';
-import { parseNkTable, type ImportOptions } from '../io/parse-table.ts';
+import type { KkOptions } from '../kk/check.ts';
+import { parseNkTable, type DetectedFormat, type ImportOptions } from '../io/parse-table.ts';
 import { sha256Hex } from '../registry/canonical.ts';
 import type { Registry } from '../registry/open.ts';
 import type { NkTable } from '../table.ts';
 import type { StoredKkReport } from '../registry/types.ts';
+import { writeTransaction } from '../registry/records.ts';
+import { fitOptionsForAbsentK, kkCheck } from './absent-k.ts';
 import { importVersion, type ImportedVersion } from './versions.ts';
 import type { ProvenanceInput } from './provenance.ts';
 
@@ -33,8 +35,10 @@ export interface MeasurementImport {
 }
 
 export interface MeasurementImported extends ImportedVersion {
-  /** Warnings of the table import (e.g. small negative k set to 0). */
+  /** Warnings of the table import (e.g. small negative k set to 0, no k column). */
   import_warnings: string[];
+  /** The lines above the file's header, as stored in the provenance (empty when none). */
+  preamble: string[];
 }
 
 /** What the heavy stage computed: plain data, so it crosses a worker-thread boundary unchanged. */
@@ -44,15 +48,32 @@ export interface PreparedMeasurement {
   kk: StoredKkReport | null;
   warnings: string[];
   sourceSha256: string;
+  /** Provenance the file itself gives: its preamble and absent columns (omitted when none). */
+  fileProvenance: Pick<ProvenanceInput, 'preamble' | 'absent_columns'>;
+  preamble: string[];
 }
 
-/** The KK report of a table, or an InputError that says how to import without it. */
-export function kkReportFor(table: NkTable, options: KkOptions = {}): StoredKkReport {
+/** What the file itself says about its origin: the preamble above the header, the columns it lacked. */
+export function fileProvenance(detected: DetectedFormat): Pick<ProvenanceInput, 'preamble' | 'absent_columns'> {
+  return {
+    ...(detected.preamble.length > 0 && { preamble: detected.preamble }),
+    ...(!detected.hasK && { absent_columns: ['k'] }),
+  };
+}
+
+/** The KK report of a table ("no k column" when its file had none), or an InputError that says how to import without it. */
+export function kkReportFor(table: NkTable, options: KkOptions = {}, kAbsent = false): StoredKkReport {
   try {
-    return checkKramersKronig(table, options);
+    return kkCheck(table, options, kAbsent);
   } catch (err) {
     if (err instanceof InputError) {
-      throw new InputError('kk-not-possible', `the Kramers-Kronig check cannot run on this table (${err.message}); import with --no-kk to store it without a KK report`, err.location);
+      throw new InputError(
+        'kk-not-possible',
+        `the Kramers-Kronig check cannot run on this table (${err.message}); store it without a KK report`,
+        err.location,
+        400,
+        { remedies: [{ option: 'kk', value: false }] },
+      );
     }
     throw err;
   }
@@ -62,8 +83,18 @@ export function kkReportFor(table: NkTable, options: KkOptions = {}): StoredKkRe
 export function prepareMeasurement(input: Omit<MeasurementImport, 'slug' | 'provenance'>): PreparedMeasurement {
   const imported = parseNkTable(input.bytes, { ...input.importOptions, file: input.file });
   const table = imported.table;
-  const kk = input.kk === false ? null : kkReportFor(table, input.kk === true || input.kk === undefined ? {} : input.kk);
-  return { table, fit: input.fit ? fitTable(table, input.fit) : null, kk, warnings: imported.warnings, sourceSha256: sha256Hex(input.bytes) };
+  const kAbsent = !imported.detected.hasK;
+  const kk = input.kk === false ? null : kkReportFor(table, input.kk === true || input.kk === undefined ? {} : input.kk, kAbsent);
+  const fit = input.fit ? fitOptionsForAbsentK(input.fit, kAbsent) : undefined;
+  return {
+    table,
+    fit: fit ? fitTable(table, fit.options) : null,
+    kk,
+    warnings: [...imported.warnings, ...(fit?.notices ?? [])],
+    sourceSha256: sha256Hex(input.bytes),
+    fileProvenance: fileProvenance(imported.detected),
+    preamble: imported.detected.preamble,
+  };
 }
 
 /** Store a prepared measurement as a new draft of `slug` (one write transaction). */
@@ -80,14 +111,30 @@ export function storeMeasurement(
       table: prepared.table,
       fit: prepared.fit,
       kk: prepared.kk,
-      provenance: { ...input.provenance, source_file: input.provenance?.source_file ?? input.file, source_sha256: prepared.sourceSha256 },
+      provenance: {
+        ...input.provenance,
+        source_file: input.provenance?.source_file ?? input.file,
+        source_sha256: prepared.sourceSha256,
+        ...prepared.fileProvenance,
+      },
     },
     actor,
   );
-  return { ...stored, import_warnings: prepared.warnings };
+  return { ...stored, import_warnings: prepared.warnings, preamble: prepared.preamble };
 }
 
 /** Parse, check and store a measured table as a new draft of `slug`. */
 export function importMeasurement(registry: Registry, input: MeasurementImport, actor: string): MeasurementImported {
   return storeMeasurement(registry, input, prepareMeasurement(input), actor);
+}
+
+/**
+ * Several files as drafts of their materials in one transaction: every file is parsed, checked and fitted
+ * first (a refusal names its file), then all versions are written together or none is (a duplicate or an
+ * unknown material rolls back the whole batch; better-sqlite3 nests the inner transactions as savepoints).
+ */
+export function importMeasurements(registry: Registry, inputs: MeasurementImport[], actor: string): MeasurementImported[] {
+  if (inputs.length === 0) throw new InputError('no-files', 'no files to import');
+  const prepared = inputs.map(prepareMeasurement);
+  return writeTransaction(registry, () => inputs.map((input, i) => storeMeasurement(registry, input, prepared[i], actor)));
 }

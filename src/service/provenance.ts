@@ -4,7 +4,7 @@
  */
 import { InputError } from '../errors.ts';
 import { MEASUREMENT_METHODS, type MeasurementMethod } from '../registry/schema.ts';
-import { PROVENANCE_FIELDS, type Provenance } from '../registry/types.ts';
+import { FILE_PROVENANCE_FIELDS, PROVENANCE_FIELDS, type Provenance } from '../registry/types.ts';
 
 export type ProvenanceInput = Partial<Record<keyof Provenance, unknown>>;
 
@@ -85,14 +85,32 @@ function sha256(value: unknown): string | null {
   return given.toLowerCase();
 }
 
+/** At most this many preamble lines are kept (an export's header block is a few dozen lines at most). */
+const MAX_PREAMBLE_LINES = 200;
+const ABSENT_COLUMNS = ['k'];
+
+/** A list of text lines (the file's preamble, its absent columns), or undefined when empty or not given. */
+function lineList(field: string, value: unknown, allowed?: string[]): string[] | undefined {
+  if (value === undefined || value === null) return undefined;
+  if (!Array.isArray(value) || !value.every((v) => typeof v === 'string')) fail(field, 'must be a list of text lines');
+  const lines = (value as string[]).map((v) => v.trim()).filter((v) => v !== '');
+  if (lines.length > MAX_PREAMBLE_LINES) fail(field, `more than ${MAX_PREAMBLE_LINES} lines`);
+  if (lines.join('\n').length > MAX_NOTES_CHARS) fail(field, `longer than ${MAX_NOTES_CHARS} characters`);
+  const unknown = allowed && lines.find((l) => !allowed.includes(l));
+  if (unknown) fail(field, `"${unknown}" is not one of ${allowed!.join(', ')}`);
+  return lines.length ? lines : undefined;
+}
+
 /** Check and normalize provenance; unknown fields are refused with the list of known ones. */
 export function normalizeProvenance(input: ProvenanceInput = {}): Provenance {
   for (const key of Object.keys(input)) {
-    if (!(PROVENANCE_FIELDS as readonly string[]).includes(key)) {
+    if (![...PROVENANCE_FIELDS, ...FILE_PROVENANCE_FIELDS].includes(key as never)) {
       throw new InputError('provenance-unknown-field', `unknown provenance field "${key}": known fields are ${PROVENANCE_FIELDS.join(', ')}`);
     }
   }
   const sourceFile = text('source_file', input.source_file);
+  const preamble = lineList('preamble', input.preamble);
+  const absent = lineList('absent_columns', input.absent_columns, ABSENT_COLUMNS);
   return {
     sample: text('sample', input.sample),
     substrate: text('substrate', input.substrate),
@@ -105,6 +123,9 @@ export function normalizeProvenance(input: ProvenanceInput = {}): Provenance {
     source_file: sourceFile === null ? null : sourceFile.split(/[\\/]/).pop()!,
     source_sha256: sha256(input.source_sha256),
     notes: text('notes', input.notes, MAX_NOTES_CHARS),
+    // Omitted (not null) when absent: the hashed document of a version without them is unchanged.
+    ...(preamble && { preamble }),
+    ...(absent && { absent_columns: absent }),
   };
 }
 
@@ -123,7 +144,7 @@ export function parseMetaPairs(pairs: string[]): ProvenanceInput {
   const out: ProvenanceInput = {};
   for (const pair of pairs) {
     const eqAt = pair.indexOf('=');
-    if (eqAt <= 0) throw new InputError('meta-syntax', `--meta "${pair}": write key=value, e.g. --meta instrument="VASE 2"`);
+    if (eqAt <= 0) throw new InputError('meta-syntax', `--meta "${pair}": write key=value, e.g. --meta instrument="MO-SE 640"`);
     const rawKey = pair.slice(0, eqAt).trim().toLowerCase().replace(/-/g, '_');
     const key = META_ALIASES[rawKey] ?? rawKey;
     if (!(PROVENANCE_FIELDS as readonly string[]).includes(key)) {

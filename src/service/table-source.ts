@@ -7,7 +7,7 @@ import { existsSync } from 'node:fs';
 import { InputError, NotFoundError } from '../errors.ts';
 import type { DetectedFormat, ImportOptions } from '../io/import-types.ts';
 import { openRegistry, registryPath, type Registry } from '../registry/open.ts';
-import { verifiedContentOf } from '../registry/records.ts';
+import { provenanceOf, verifiedContentOf } from '../registry/records.ts';
 import { parseRef } from '../registry/refs.ts';
 import type { VersionContent, VersionStatus } from '../registry/types.ts';
 import type { NkTable } from '../table.ts';
@@ -39,6 +39,8 @@ export interface LoadedSource {
   warnings: string[];
   /** Information, e.g. that a bare slug is not a pin. */
   notices: string[];
+  /** The file (or the stored version's file) had no k column: the table's k = 0 was not measured. */
+  kAbsent: boolean;
 }
 
 export interface SourceOptions {
@@ -57,7 +59,14 @@ export async function loadTableOrVersion(source: string, options: SourceOptions 
   const importOptions = options.importOptions ?? {};
   if (!isRegistrySource(source)) {
     const imported = await loadTable(source, importOptions, options.stdin);
-    return { table: imported.table, content: null, detected: { source: 'file', ...imported.detected }, warnings: imported.warnings, notices: [] };
+    return {
+      table: imported.table,
+      content: null,
+      detected: { source: 'file', ...imported.detected },
+      warnings: imported.warnings,
+      notices: [],
+      kAbsent: !imported.detected.hasK,
+    };
   }
   const loaded = options.registry ? loadVersion(options.registry, source) : withExistingRegistry(source, options.db, (r) => loadVersion(r, source));
   const flags = Object.keys(importOptions).filter((k) => k !== 'file');
@@ -95,6 +104,7 @@ function loadVersion(registry: Registry, source: string): LoadedSource {
     detected: { source: 'registry', ref: pin.ref, sha256: pin.sha256, status: pin.status, model: content.fit?.model ?? null, has_table: content.table !== null },
     warnings: [...pin.warnings],
     notices: [...pin.notices],
+    kAbsent: provenanceOf(row).absent_columns?.includes('k') ?? false,
   };
 }
 

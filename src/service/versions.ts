@@ -139,6 +139,8 @@ export function importVersion(registry: Registry, input: NewVersion, actor: stri
         sourceFile: provenance.source_file,
         sourceSha256: provenance.source_sha256,
         notes: provenance.notes,
+        preamble: provenance.preamble === undefined ? null : JSON.stringify(provenance.preamble),
+        absentColumns: provenance.absent_columns === undefined ? null : JSON.stringify(provenance.absent_columns),
         createdBy: who,
         createdAt: nowIso(),
       })

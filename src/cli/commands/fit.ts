@@ -7,6 +7,7 @@ import type { Command } from 'commander';
 import { InputError } from '../../errors.ts';
 import { compareModels, type ComparisonReport } from '../../fit/compare.ts';
 import { fitTable } from '../../fit/fit.ts';
+import { fitOptionsForAbsentK, NO_K_COLUMN } from '../../service/absent-k.ts';
 import { fitPlotSpec } from '../../fit/fit-plot.ts';
 import type { FitReport, FitTarget } from '../../fit/types.ts';
 import { buildModel, MODEL_CATALOGUE } from '../../models/catalogue.ts';
@@ -121,20 +122,25 @@ export function register(program: Command): void {
         if ((opts.model === undefined) === (opts.compare === undefined)) {
           throw new InputError('bad-option', `give exactly one of --model NAME or --compare A,B,...; models: ${MODEL_CATALOGUE.map((t) => t.name).join(', ')}`);
         }
-        const options = parseFitOptions(opts);
+        const parsed = parseFitOptions(opts);
         const loaded = await loadSource(source, opts);
         const table = requireTable(loaded, 'fit');
         const label = sourceLabel(source, loaded);
         if (opts.compare !== undefined) {
           if (opts.plot) throw new InputError('bad-option', '--plot draws one fit; use it with --model');
+          // Without a k column every model of the comparison is fitted to n only, so their AIC/BIC compare.
+          const options = loaded.kAbsent && parsed.target === undefined ? { ...parsed, target: 'n' as const } : parsed;
+          if (options !== parsed) cliIo().stderr.write(`note: ${NO_K_COLUMN}: every model is fitted to n only (k was not measured)\n`);
           const comparison = compareModels(table, opts.compare.split(',').map((s) => s.trim()).filter(Boolean), options);
           if (opts.json) printJson(comparison);
           else printLines(compareLines(label, comparison));
           return;
         }
-        const report = fitTable(table, { ...options, model: opts.model as string });
+        const { options, notices } = fitOptionsForAbsentK({ ...parsed, model: opts.model as string }, loaded.kAbsent);
+        for (const notice of notices) cliIo().stderr.write(`note: ${notice}\n`);
+        const report = fitTable(table, options);
         if (opts.plot) await writeFile(opts.plot, renderSpectrumPlot(fitPlotSpec(table, report, `${report.model} fit of ${label}`)));
-        if (opts.json) printJson(report);
+        if (opts.json) printJson(notices.length ? { ...report, notices } : report);
         else {
           printLines(fitLines(label, report));
           printWarnings(report.warnings);

@@ -1,8 +1,8 @@
 /** `nkledger import FILE --material SLUG`: store a measured table (and optionally a fitted model) as a new draft. */
 import type { Command } from 'commander';
-import { importMeasurement } from '../../service/import-measurement.ts';
+import { importMeasurements, type MeasurementImport } from '../../service/import-measurement.ts';
 import { parseMetaPairs } from '../../service/provenance.ts';
-import { readSource } from '../../service/source.ts';
+import { readSource, STDIN_SOURCE } from '../../service/source.ts';
 import { actorFrom, addAsOption, addDbOption, withRegistry } from '../admin-options.ts';
 import { InputError } from '../../errors.ts';
 import { givenFitOptions, parseFitOptions, type FitOptionText } from '../../service/fit-options.ts';
@@ -25,8 +25,8 @@ interface ImportCliOptions extends ImportFlags, FitOptionText {
 
 export function register(program: Command): void {
   const command = addAsOption(addDbOption(program.command('import')))
-    .description('store a measured n,k table as a new draft version of a material, with provenance and a Kramers-Kronig report')
-    .argument('<file>', 'table file, or - for standard input')
+    .description('store measured n,k tables as new draft versions of a material, with provenance and a Kramers-Kronig report (several files: one draft each, all or none)')
+    .argument('<files...>', 'table files (instrument exports as they come), or - for standard input')
     .requiredOption('--material <slug>', 'the material (create it first with `nkledger material add`)')
     .option('--note <text>', 'free notes stored with the version')
     .option(
@@ -37,29 +37,49 @@ export function register(program: Command): void {
   addImportOptions(
     addFitOptions(command)
       .option('--no-kk', 'do not run the Kramers-Kronig check (it runs by default and its report is stored)')
-      .option('--json', 'print {"ref", "sha256", "status", "warnings"} as JSON'),
+      .option('--json', 'print {"ref", "sha256", "status", "source_file", "preamble", "warnings"} as JSON (an array of them for several files)'),
   )
     .addHelpText(
       'after',
       '\nExamples:\n  nkledger import data/marrowick/sinx-pecvd-recipe-a.csv --material sin-pecvd-a --fit tauc-lorentz \\\n' +
-        '    --meta instrument="SE-2000" method=spectroscopic-ellipsometry angles=65,70,75 measured_on=2024-04-18 --note "wafer 7, centre"\n' +
-        '  nkledger import data/marrowick/sio2-thermal.csv --material sio2-thermal --fit sellmeier --terms 3 --range 250:1700 --fix A=1',
+        '    --meta instrument="MO-SE 640" method=spectroscopic-ellipsometry angles=65,70,75 measured_on=2024-04-18 --note "wafer 7, centre"\n' +
+        '  nkledger import data/marrowick/sio2-thermal.csv --material sio2-thermal --fit sellmeier --terms 3 --range 250:1700 --fix A=1\n' +
+        '  nkledger import run-07/wafer-*.csv --material sin-pecvd-a --meta instrument="MO-SE 640"\n\n' +
+        'Lines above the header (sample, operator, angles as the instrument wrote them) are kept in the provenance\n' +
+        'as the preamble; the stored file name and SHA-256 are those of the file as it came. See docs/import.md.',
     )
     .action(
-      guarded(async (file: string, opts: ImportCliOptions) => {
+      guarded(async (files: string[], opts: ImportCliOptions) => {
         const importOptions = importOptionsFrom(opts);
         const provenance = parseMetaPairs(opts.meta ?? []);
         if (opts.note !== undefined) provenance.notes = opts.note;
         const fitFlags = givenFitOptions(opts);
         if (opts.fit === undefined && fitFlags.length) throw new InputError('bad-option', `${fitFlags.map((f) => `--${f}`).join(', ')} configure a fit: add --fit MODEL`);
+        if (files.filter((f) => f === STDIN_SOURCE).length > 1) throw new InputError('bad-option', 'standard input (-) can be read once');
         const fit = opts.fit === undefined ? undefined : { ...parseFitOptions(opts), model: opts.fit };
-        const { bytes, file: name } = await readSource(file, importOptions, cliIo().stdin);
-        const stored = await withRegistry(opts, (r) =>
-          importMeasurement(r, { slug: opts.material, bytes, file: name, importOptions, fit, kk: opts.kk, provenance }, actorFrom(opts)),
-        );
-        printWarnings([...stored.import_warnings, ...stored.warnings]);
-        if (opts.json) return printJson({ ref: stored.ref, sha256: stored.sha256, status: stored.status, warnings: [...stored.import_warnings, ...stored.warnings] });
-        printLines([`stored ${stored.ref} (${stored.status}) sha256:${stored.sha256}`, `someone other than you approves it with: nkledger approve ${stored.ref}`]);
+        const inputs: MeasurementImport[] = [];
+        for (const file of files) {
+          const { bytes, file: name } = await readSource(file, importOptions, cliIo().stdin);
+          inputs.push({ slug: opts.material, bytes, file: name, importOptions, fit, kk: opts.kk, provenance });
+        }
+        const stored = await withRegistry(opts, (r) => importMeasurements(r, inputs, actorFrom(opts)));
+        const reports = stored.map((v, i) => ({
+          ref: v.ref,
+          sha256: v.sha256,
+          status: v.status,
+          source_file: inputs[i].file,
+          preamble: v.preamble,
+          warnings: [...v.import_warnings, ...v.warnings],
+        }));
+        for (const r of reports) printWarnings(stored.length > 1 ? r.warnings.map((w) => `${r.source_file}: ${w}`) : r.warnings);
+        if (opts.json) return printJson(files.length === 1 ? reports[0] : reports);
+        printLines([
+          ...reports.map(
+            (r) => `stored ${r.ref} (${r.status}) sha256:${r.sha256}${stored.length > 1 ? ` from ${r.source_file}` : ''}` +
+              (r.preamble.length ? `\n  kept ${r.preamble.length} preamble line(s) from above the header in the provenance (nkledger show ${r.ref})` : ''),
+          ),
+          `someone other than you approves ${stored.length > 1 ? 'each' : 'it'} with: nkledger approve ${stored.length > 1 ? 'REF' : stored[0].ref}`,
+        ]);
       }),
     );
 }

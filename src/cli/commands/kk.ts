@@ -10,6 +10,8 @@ import { checkKramersKronig, KK_DEFAULTS, type KkReport } from '../../kk/check.t
 import { kkPlotSpec } from '../../kk/plot-spec.ts';
 import { renderSpectrumPlot } from '../../plot/spectrum-plot.ts';
 import { requireTable } from '../../service/table-source.ts';
+import { noKColumnReport } from '../../service/absent-k.ts';
+import { InputError } from '../../errors.ts';
 import { guarded } from '../failure.ts';
 import { setExitCode } from '../io.ts';
 import { formatTable, printJson, printLines } from '../output.ts';
@@ -58,7 +60,16 @@ export function register(program: Command): void {
         const tolerance = opts.tolerance === undefined ? undefined : parseOptionNumber(opts.tolerance, '--tolerance', { above: 0, hint: 'a misfit in n, e.g. 0.005' });
         const loaded = await loadSource(source, opts);
         const label = sourceLabel(source, loaded);
-        const report = checkKramersKronig(requireTable(loaded, 'check'), { tolerance });
+        const table = requireTable(loaded, 'check');
+        if (loaded.kAbsent) {
+          // k = 0 stored for a file without a k column is not a measurement: nothing to check n against.
+          const answer = noKColumnReport(table);
+          if (opts.plot) throw new InputError('no-k-column', `${label} has no k column: there is no KK check to plot`, {}, 400, { option: 'plot' });
+          if (opts.json) printJson(answer);
+          else printLines([`${label}: UNINFORMATIVE (${answer.reason})`, `  ${answer.summary}`]);
+          return;
+        }
+        const report = checkKramersKronig(table, { tolerance });
         if (opts.plot) await writeFile(opts.plot, renderSpectrumPlot(kkPlotSpec(report, `Kramers-Kronig check of ${label}`)));
         if (opts.json) printJson(report);
         else printLines(kkLines(label, report));

@@ -42,15 +42,11 @@ export function register(program: Command): void {
         const report = await withRegistry(opts, (r) => lockVerify(r, lockfile, { strict: opts.strict }));
         if (!report.ok) setExitCode(CHECK_FAILED_EXIT);
         if (opts.json) return printJson(report);
-        for (const e of report.entries) {
-          const tag = e.failed ? 'FAIL' : e.outcome === 'ok' ? 'ok  ' : 'warn';
-          cliIo()[e.failed || e.outcome !== 'ok' ? 'stderr' : 'stdout'].write(`${tag}  ${e.message}\n`);
-        }
-        printLines([
-          report.ok
-            ? `lockfile ok: ${report.entries.length} entries${report.warnings ? `, ${report.warnings} warning(s)` : ''}`
-            : `lockfile FAILED: ${report.failures} of ${report.entries.length} entries`,
-        ]);
+        // Every entry's line goes to stdout (so `lock verify > report` keeps which entry failed); the summary to stderr.
+        printLines(report.entries.map((e) => `${e.failed ? 'FAIL' : e.outcome === 'ok' ? 'ok  ' : 'warn'}  ${e.message}`));
+        cliIo().stderr.write(
+          `${report.ok ? `lockfile ok: ${report.entries.length} entries${report.warnings ? `, ${report.warnings} warning(s)` : ''}` : `lockfile FAILED: ${report.failures} of ${report.entries.length} entries`}\n`,
+        );
       }),
     );
 
@@ -58,11 +54,13 @@ export function register(program: Command): void {
     .description('list locked materials that have newer approved versions')
     .requiredOption('--lock <file>', 'lockfile path')
     .option('--json', 'print [{"ref", "locked_version", "newer_approved", "latest_approved"}] as JSON')
-    .addHelpText('after', '\nExample:\n  nkledger lock outdated --lock filter.nklock.json')
+    .option('--check', `exit ${CHECK_FAILED_EXIT} when any locked material is outdated (0 otherwise), for CI`)
+    .addHelpText('after', '\nExamples:\n  nkledger lock outdated --lock filter.nklock.json\n  nkledger lock outdated --lock filter.nklock.json --check')
     .action(
-      guarded(async (opts: { db?: string; lock: string; json?: boolean }) => {
+      guarded(async (opts: { db?: string; lock: string; json?: boolean; check?: boolean }) => {
         const lockfile = readLockfile(opts.lock);
         const outdated = await withRegistry(opts, (r) => lockOutdated(r, lockfile));
+        if (opts.check && outdated.length > 0) setExitCode(CHECK_FAILED_EXIT);
         if (opts.json) return printJson(outdated);
         if (outdated.length === 0) return printLines(['every locked material is at its latest approved version']);
         printLines(formatTable(['locked', 'newer approved', 'latest'], outdated.map((o) => [o.ref, o.newer_approved.map((n) => `@${n}`).join(' '), `${o.slug}@${o.latest_approved}`])));
