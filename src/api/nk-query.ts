@@ -7,6 +7,7 @@ import { z } from 'zod';
 import { InputError } from '../errors.ts';
 import { parseWavelengthList } from '../cli/wavelength-list.ts';
 import { INTERPOLATION_METHODS } from '../optics/table-eval.ts';
+import { toWavelengthNm, type SpectralUnit } from '../optics/units.ts';
 import { HttpProblem } from './problem.ts';
 import { parseInput } from './validate.ts';
 
@@ -22,20 +23,36 @@ const nkQuery = z.strictObject({
   to_nm: finite('to_nm').optional(),
   step_nm: finite('step_nm').optional(),
   interpolation: z.enum(INTERPOLATION_METHODS as [string, ...string[]]).optional(),
+  at: z.string().max(100_000).optional(),
+  unit: z.enum(['nm', 'um', 'eV', 'cm-1']).optional(),
+  extrapolate: z.enum(['true', 'false']).optional(),
 });
 
 export interface NkRequest {
   wavelengthNm: number[];
   interpolation?: 'linear' | 'monotone-cubic';
+  /** Unit of `at` and of the extra x column of the answer (wavelength_nm is always there). */
+  unit?: SpectralUnit;
+  extrapolate?: boolean;
 }
 
 export function parseNkQuery(query: Record<string, string>, maxPoints: number, limits: { maxListChars?: number } = {}): NkRequest {
   const q = parseInput(limits.maxListChars === Infinity ? nkQuery.extend({ wavelengths_nm: z.string().optional() }) : nkQuery, query, 'query', 400);
   const interpolation = q.interpolation as NkRequest['interpolation'];
+  const unit = q.unit as SpectralUnit | undefined;
+  const extrapolate = q.extrapolate === 'true';
   const range = [q.from_nm, q.to_nm, q.step_nm];
   const hasRange = range.some((v) => v !== undefined);
-  if ((q.wavelengths_nm === undefined) === !hasRange) {
-    throw new InputError('nk-wavelengths', 'give either wavelengths_nm=450,650 or from_nm, to_nm and step_nm');
+  const given = [q.wavelengths_nm !== undefined, hasRange, q.at !== undefined].filter(Boolean).length;
+  if (given !== 1) {
+    throw new InputError('nk-wavelengths', 'give one of wavelengths_nm=450,650, or from_nm, to_nm and step_nm, or at=1.5,2.5 with unit=eV');
+  }
+  if (q.at !== undefined) {
+    if (q.at.split(',').length > maxPoints) throw new InputError('nk-too-many-points', `more than ${maxPoints} points asked for (setting max_nk_points)`);
+    const list = parseWavelengthList(q.at, 'at');
+    if (list.length > maxPoints) throw new InputError('nk-too-many-points', `${list.length} points asked for; at most ${maxPoints} per request (setting max_nk_points)`);
+    if (list.some((v) => !(v > 0))) throw new InputError('nk-wavelengths', 'every value of at must be positive', {}, 400, { option: 'at', value: q.at });
+    return { wavelengthNm: list.map((v) => toWavelengthNm(v, unit ?? 'nm')), interpolation, unit, extrapolate };
   }
   const tooMany = (count: number) =>
     new InputError('nk-too-many-points', `${count} wavelengths asked for; at most ${maxPoints} per request (setting max_nk_points)`);
@@ -45,7 +62,7 @@ export function parseNkQuery(query: Record<string, string>, maxPoints: number, l
     // The CLI's --at parser, so "450,650" (and "400:800:50") mean the same at both front doors.
     const list = parseWavelengthList(q.wavelengths_nm, 'wavelengths_nm');
     if (list.length > maxPoints) throw tooMany(list.length);
-    return { wavelengthNm: list, interpolation };
+    return { wavelengthNm: list, interpolation, unit, extrapolate };
   }
   const [from, to, step] = range;
   if (from === undefined || to === undefined || step === undefined) {
@@ -56,7 +73,7 @@ export function parseNkQuery(query: Record<string, string>, maxPoints: number, l
   }
   const count = Math.floor((to - from) / step + 1e-9) + 1;
   if (count > maxPoints) throw tooMany(count);
-  return { wavelengthNm: parseWavelengthList(`${from}:${to}:${step}`, 'from_nm/to_nm/step_nm'), interpolation };
+  return { wavelengthNm: parseWavelengthList(`${from}:${to}:${step}`, 'from_nm/to_nm/step_nm'), interpolation, unit, extrapolate };
 }
 
 const nkBody = z.strictObject({

@@ -161,7 +161,7 @@ export const OPENAPI_DOCUMENT = {
       get: {
         summary: 'n and k of a version at a list or a range of wavelengths',
         description:
-          'Give wavelengths_nm (a list, or start:stop:step items), or from_nm, to_nm and step_nm; at most max_nk_points. ' +
+          'Give wavelengths_nm (a list, or start:stop:step items), or from_nm, to_nm and step_nm, or at with unit; at most max_nk_points. ' +
           'JSON by default; text/csv when Accept prefers it. Model-backed versions evaluate inside the validity range, table-only versions inside the measured range.',
         ...role('reader'),
         parameters: [
@@ -176,6 +176,21 @@ export const OPENAPI_DOCUMENT = {
             required: false,
             schema: { type: 'string', enum: ['linear', 'monotone-cubic'] },
             description: 'for table-only versions; model-backed versions evaluate the model',
+          },
+          { name: 'at', in: 'query', required: false, schema: { type: 'string' }, example: '1.5:4:0.5', description: 'points in `unit` (a list or start:stop:step items), instead of wavelengths_nm' },
+          {
+            name: 'unit',
+            in: 'query',
+            required: false,
+            schema: { type: 'string', enum: ['nm', 'um', 'eV', 'cm-1'] },
+            description: 'unit of `at`; the answer keeps wavelength_nm and adds the x column in this unit (energy_eV, wavelength_um, wavenumber_cm-1)',
+          },
+          {
+            name: 'extrapolate',
+            in: 'query',
+            required: false,
+            schema: { type: 'string', enum: ['true', 'false'] },
+            description: 'true: a fitted model is also evaluated beyond its validity range; "extrapolated" marks each value and "warnings" says so. A table never extrapolates',
           },
         ],
         responses: {

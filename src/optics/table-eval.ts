@@ -23,7 +23,7 @@ export function evaluateTable(
     if (w < minNm * (1 - RANGE_SLACK) || w > maxNm * (1 + RANGE_SLACK)) {
       throw new InputError(
         'outside-range',
-        `${w} nm is outside the measured range ${minNm}–${maxNm} nm; a table is only interpolated, extrapolation needs a fitted model (nkledger fit)`,
+        `${w} nm is outside the measured range ${minNm}–${maxNm} nm; a table is only interpolated, never extrapolated (fit a dispersion model to evaluate beyond it)`,
       );
     }
     return Math.min(maxNm, Math.max(minNm, w));

@@ -7,7 +7,7 @@
  * status check (ChangeMemo: no SQLite read unless the registry changed) and a map lookup.
  */
 import type { Hono } from 'hono';
-import { evaluateVersion } from '../../service/evaluate-version.ts';
+import { evaluateVersion, withUnitColumn } from '../../service/evaluate-version.ts';
 import { versionStatus } from '../../service/version-state.ts';
 import { versionSummary } from '../../service/versions.ts';
 import { exportTable } from '../../io/export.ts';
@@ -25,7 +25,10 @@ const CONTENT_TYPES = { csv: 'text/csv; charset=utf-8; header=present', json: 'a
 export function registerNkRoute(app: Hono<ApiEnv>, ctx: RouteContext): void {
   const cache = new RepresentationCache();
   const render = (ref: string, request: NkRequest, format: 'json' | 'csv', withToken: boolean) => {
-    const result = evaluateVersion(ctx.registry, ref, request.wavelengthNm, { interpolation: request.interpolation });
+    const result = withUnitColumn(
+      evaluateVersion(ctx.registry, ref, request.wavelengthNm, { interpolation: request.interpolation, extrapolate: request.extrapolate }),
+      request.unit,
+    );
     const retiredAt = result.status === 'retired' ? versionSummary(ctx.registry, ref).retired_at : null;
     const caching = versionHeaders({ status: result.status, sha256: result.sha256, retiredAt }, { withToken, variant: format });
     return {
