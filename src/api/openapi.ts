@@ -126,6 +126,28 @@ export const OPENAPI_DOCUMENT = {
           ...readErrors,
         },
       },
+      patch: {
+        summary: "Edit a material's name, description or tags (the slug never changes; audit-logged as material.edit)",
+        ...role('editor'),
+        parameters: [slugParam],
+        requestBody: {
+          required: true,
+          content: {
+            'application/json': {
+              schema: {
+                type: 'object',
+                additionalProperties: false,
+                properties: {
+                  name: { type: 'string', maxLength: 200 },
+                  description: { type: 'string', maxLength: 5000 },
+                  tags: { type: 'array', items: { type: 'string', maxLength: 40 }, maxItems: 50, description: 'the whole new tag set' },
+                },
+              },
+            },
+          },
+        },
+        responses: { '200': json('the material, with "changed": the fields that changed', ref('Material')), ...writeErrors },
+      },
     },
     '/api/v1/materials/{slug}/versions': {
       post: {

@@ -18,18 +18,33 @@ export interface NewMaterial {
 
 const TAG_PATTERN = /^[\p{L}\p{N}][\p{L}\p{N}._+-]{0,39}$/u;
 
+function checkName(text: string | undefined): string {
+  const name = text?.trim() ?? '';
+  if (name === '' || name.length > 200) throw new InputError('material-name', 'a material needs a display name, at most 200 characters', {}, 400, { option: 'name' });
+  return name;
+}
+
+function checkDescription(text: string | undefined): string {
+  const description = (text ?? '').trim();
+  if (description.length > 5000) throw new InputError('material-description', 'the description is longer than 5000 characters', {}, 400, { option: 'description' });
+  return description;
+}
+
+function checkTags(given: string[]): string[] {
+  const tags = [...new Set(given.map((t) => t.trim()).filter(Boolean))].sort();
+  for (const tag of tags) {
+    if (!TAG_PATTERN.test(tag)) throw new InputError('material-tag', `"${tag}" is not a tag (letters, digits, . _ + -, at most 40 characters)`, {}, 400, { option: 'tag', value: tag });
+  }
+  return tags;
+}
+
 /** Create a material (no versions yet). Refuses a taken slug with ConflictError. */
 export function createMaterial(registry: Registry, input: NewMaterial, actor: string): MaterialRecord {
   const who = checkActor(actor);
   const slug = checkSlug(input.slug);
-  const name = input.name?.trim() ?? '';
-  if (name === '' || name.length > 200) throw new InputError('material-name', 'a material needs a display name (--name), at most 200 characters');
-  const description = (input.description ?? '').trim();
-  if (description.length > 5000) throw new InputError('material-description', 'the description is longer than 5000 characters');
-  const tags = [...new Set((input.tags ?? []).map((t) => t.trim()).filter(Boolean))].sort();
-  for (const tag of tags) {
-    if (!TAG_PATTERN.test(tag)) throw new InputError('material-tag', `"${tag}" is not a tag (letters, digits, . _ + -, at most 40 characters)`);
-  }
+  const name = checkName(input.name);
+  const description = checkDescription(input.description);
+  const tags = checkTags(input.tags ?? []);
   return writeTransaction(registry, () => {
     const taken = registry.db.select({ id: materials.id }).from(materials).where(eq(materials.slug, slug)).get();
     if (taken) throw new ConflictError(`material "${slug}" already exists`, 'material-exists');
@@ -40,6 +55,52 @@ export function createMaterial(registry: Registry, input: NewMaterial, actor: st
       .get();
     appendAudit(registry, { actor: who, action: 'material.create', materialId: row.id, detail: { slug, name, description, tags } });
     return materialRecord(registry, row);
+  });
+}
+
+/** A change to a material's description fields; the slug never changes (designs and lockfiles name it). */
+export interface MaterialEdit {
+  name?: string;
+  description?: string;
+  /** The whole new tag set (the API's PATCH). */
+  tags?: string[];
+  /** Tags to add and to remove (the CLI's --tag / --untag), applied after `tags`. */
+  addTags?: string[];
+  removeTags?: string[];
+}
+
+/** Edit name, description or tags (audit row `material.edit` with the old and new values of what changed). */
+export function editMaterial(registry: Registry, slugText: string, edit: MaterialEdit, actor: string): MaterialRecord & { changed: string[] } {
+  const who = checkActor(actor);
+  const slug = checkSlug(slugText);
+  if ([edit.name, edit.description, edit.tags, edit.addTags, edit.removeTags].every((v) => v === undefined)) {
+    throw new InputError('material-edit-empty', 'nothing to change: give a new name, description or tags');
+  }
+  const name = edit.name === undefined ? undefined : checkName(edit.name);
+  const description = edit.description === undefined ? undefined : checkDescription(edit.description);
+  const added = checkTags(edit.addTags ?? []);
+  return writeTransaction(registry, () => {
+    const row = findMaterial(registry, slug);
+    const before = { name: row.name, description: row.description, tags: JSON.parse(row.tags) as string[] };
+    const removed = new Set((edit.removeTags ?? []).map((t) => t.trim()));
+    const unknown = [...removed].find((t) => !(edit.tags ?? before.tags).includes(t) && !added.includes(t));
+    if (unknown !== undefined) throw new InputError('material-tag', `${slug} has no tag "${unknown}" to remove (its tags: ${before.tags.join(', ') || 'none'})`, {}, 400, { option: 'untag', value: unknown });
+    const after = {
+      name: name ?? before.name,
+      description: description ?? before.description,
+      tags: checkTags([...(edit.tags ?? before.tags), ...added].filter((t) => !removed.has(t))),
+    };
+    const changed = (['name', 'description', 'tags'] as const).filter((f) => JSON.stringify(before[f]) !== JSON.stringify(after[f]));
+    if (changed.length > 0) {
+      registry.db.update(materials).set({ name: after.name, description: after.description, tags: JSON.stringify(after.tags) }).where(eq(materials.id, row.id)).run();
+      appendAudit(registry, {
+        actor: who,
+        action: 'material.edit',
+        materialId: row.id,
+        detail: { slug, ...Object.fromEntries(changed.map((f) => [f, { from: before[f], to: after[f] }])) },
+      });
+    }
+    return { ...materialRecord(registry, findMaterial(registry, slug)), changed };
   });
 }
 

@@ -33,6 +33,16 @@ function draft(h: ApiHarness): { slug: string; n: number } {
 const WRITES: WriteCase[] = [
   { name: 'create material', role: 'editor', success: 201, prepare: () => ({ path: '/api/v1/materials', init: json({ slug: `new-${++counter}`, name: 'New' }) }) },
   {
+    name: 'edit material',
+    role: 'editor',
+    success: 200,
+    prepare: (h) => {
+      const slug = `ed-${++counter}`;
+      createMaterial(h.registry, { slug, name: 'Before' }, 'lab-editor');
+      return { path: `/api/v1/materials/${slug}`, init: { ...json({ name: 'After', tags: ['edited'] }), method: 'PATCH' } };
+    },
+  },
+  {
     name: 'upload version',
     role: 'editor',
     success: 201,

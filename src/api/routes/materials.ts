@@ -5,7 +5,7 @@
  */
 import type { Context, Hono } from 'hono';
 import { z } from 'zod';
-import { createMaterial, getMaterial } from '../../service/materials.ts';
+import { createMaterial, editMaterial, getMaterial } from '../../service/materials.ts';
 import { searchMaterials } from '../../service/material-search.ts';
 import { showVersion } from '../../service/versions.ts';
 import { approve, retire, withdraw } from '../../service/lifecycle.ts';
@@ -40,6 +40,11 @@ const newMaterial = z.strictObject({
   description: z.string().max(5000).optional(),
   tags: z.array(z.string().max(40)).max(50).optional(),
 });
+const materialEdit = z.strictObject({
+  name: z.string().max(200).optional(),
+  description: z.string().max(5000).optional(),
+  tags: z.array(z.string().max(40)).max(50).optional(),
+});
 const reasonBody = z.strictObject({ reason: z.string().max(2000) });
 const optionalReasonBody = z.strictObject({ reason: z.string().max(2000).optional() });
 
@@ -59,6 +64,11 @@ export function registerMaterialRoutes(app: Hono<ApiEnv>, ctx: RouteContext): vo
     const material = createMaterial(ctx.registry, body, actorOf(c.get('principal')));
     c.header('location', `/api/v1/materials/${material.slug}`);
     return c.json(material, 201);
+  });
+
+  app.patch('/api/v1/materials/:slug', editor, async (c) => {
+    const body = parseInput(materialEdit, await readJson(c.req), 'body');
+    return c.json(editMaterial(ctx.registry, c.req.param('slug'), body, actorOf(c.get('principal'))));
   });
 
   app.get('/api/v1/materials/:slug', reader, (c) => {

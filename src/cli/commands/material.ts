@@ -1,6 +1,6 @@
-/** `nkledger material add SLUG --name ...`: create a material in the registry (versions come from `import`). */
+/** `nkledger material add|edit SLUG`: create a material in the registry (versions come from `import`) or edit its description fields. */
 import type { Command } from 'commander';
-import { createMaterial } from '../../service/materials.ts';
+import { createMaterial, editMaterial } from '../../service/materials.ts';
 import { actorFrom, addAsOption, addDbOption, withRegistry } from '../admin-options.ts';
 import { guarded } from '../failure.ts';
 import { printJson, printLines } from '../output.ts';
@@ -22,6 +22,25 @@ export function register(program: Command): void {
         );
         if (opts.json) return printJson(created);
         printLines([`created material ${created.slug} (${created.name}); add versions with: nkledger import FILE --material ${created.slug}`]);
+      }),
+    );
+
+  addAsOption(addDbOption(material.command('edit')))
+    .description("change a material's name, description or tags (audit-logged; the slug never changes)")
+    .argument('<slug>', 'the material, e.g. sin-pecvd-a')
+    .option('--name <text>', 'new display name')
+    .option('--description <text>', 'new description')
+    .option('--tag <tag...>', 'tags to add (repeatable)')
+    .option('--untag <tag...>', 'tags to remove (repeatable)')
+    .option('--json', 'print the material as JSON, with "changed": the fields that changed')
+    .addHelpText('after', '\nExample:\n  nkledger material edit sin-pecvd-a --name "PECVD SiNx, recipe A (300 C)" --tag low-stress --untag draft')
+    .action(
+      guarded(async (slug: string, opts: { db?: string; as?: string; name?: string; description?: string; tag?: string[]; untag?: string[]; json?: boolean }) => {
+        const edited = await withRegistry(opts, (r) =>
+          editMaterial(r, slug, { name: opts.name, description: opts.description, addTags: opts.tag, removeTags: opts.untag }, actorFrom(opts)),
+        );
+        if (opts.json) return printJson(edited);
+        printLines([edited.changed.length ? `edited ${edited.slug}: ${edited.changed.join(', ')} changed` : `${edited.slug}: nothing changed (the values given are the current ones)`]);
       }),
     );
 }
