@@ -11,7 +11,7 @@ export * from '../registry/types.ts';
 export { MEASUREMENT_METHODS, VERSION_STATUSES } from '../registry/schema.ts';
 export { checkActor } from './actor.ts';
 export { normalizeProvenance, parseMetaPairs, type ProvenanceInput } from './provenance.ts';
-export { createMaterial, listMaterials, getMaterial, history, type NewMaterial } from './materials.ts';
+export { createMaterial, editMaterial, listMaterials, getMaterial, history, type NewMaterial, type MaterialEdit } from './materials.ts';
 export { importVersion, resolveRef, showVersion, versionSummary, type NewVersion, type ImportedVersion, type ResolvedRef } from './versions.ts';
 export { approve, retire, withdraw } from './lifecycle.ts';
 export { readSettings, writeSetting, writeSettingText, resetSetting, parseSettingKey, SETTINGS, SETTING_KEYS, type Settings, type SettingKey } from './settings.ts';

@@ -116,7 +116,8 @@ describe('registry versions as sources', { timeout: 240_000 }, () => {
     // the written table: n = 1.45 + 0.0036/0.5² at 500 nm (a table point), from writeTable above
     expect(JSON.parse(e.out)).toMatchObject({ ref: 'sio2-thermal@1', source: 'table', wavelength_nm: [500], n: [1.4644] });
     expect(e.err).toMatch(/retired/);
-    expect((await run(['eval', 'sio2-thermal@1', '--at', '900'])).err).toMatch(/extrapolation needs a fitted model/);
+    expect((await run(['eval', 'sio2-thermal@1', '--at', '900'])).err).toMatch(/never extrapolated/);
+    expect((await run(['eval', 'sio2-thermal@1', '--at', '900', '--extrapolate'])).err).toMatch(/a table never extrapolates \[table-no-extrapolation\]/);
     // mgf2@1 was edited by hand above: it is refused on read (re-verified hash), not diffed as if good.
     expect((await run(['diff', 'sio2-thermal@1', 'mgf2@1', '--json'])).err).toMatch(/mgf2@1: the stored content .* no longer matches .*\[integrity-hash-mismatch\]/);
     await run(['material', 'add', 'mgf2-b', '--name', 'MgF2 (second sample)']);

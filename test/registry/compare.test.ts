@@ -14,6 +14,7 @@ import {
 } from '../../src/service/registry.ts';
 import { tempRegistry, type TempRegistry } from './helpers.ts';
 import { findAll, parseSvg } from '../plot/svg-tree.ts';
+import { withUnitColumn } from '../../src/service/evaluate-version.ts';
 
 /** Cauchy n = A + B/λ² (λ in µm) on 400…800 nm every 5 nm, k = 0, plus an optional Gaussian bump in n. */
 function table(A: number, B: number, bump?: { amplitude: number; centreNm: number; widthNm: number }): NkTable {
@@ -89,6 +90,13 @@ describe('eval of registry versions', () => {
     expect(e.n[1]).toBeCloseTo(1.45 + 0.0036 / 0.6328 ** 2, 8);
     expect(e.notices[0]).toMatch(/not a pin/);
     expect(() => evaluateVersion(t.registry, 'sio2@1', [380])).toThrow(/outside the validity range .* 400–800 nm/);
+    // With extrapolation allowed, the model is evaluated beyond its range and every such value is marked.
+    const x = evaluateVersion(t.registry, 'sio2@1', [380, 600, 900], { extrapolate: true });
+    expect(x.extrapolated).toEqual([true, false, true]);
+    expect(x.n[2]).toBeCloseTo(1.45 + 0.0036 / 0.9 ** 2, 8); // the same formula, beyond the fitted range
+    expect(x.warnings.at(-1)).toMatch(/^2 value\(s\) extrapolated beyond the cauchy model's validity range 400–800 nm/);
+    expect(evaluateVersion(t.registry, 'sio2@1', [600]).extrapolated).toBeUndefined();
+    expect(withUnitColumn(evaluateVersion(t.registry, 'sio2@1', [619.920992]), 'eV')).toMatchObject({ wavelength_nm: [619.920992], energy_eV: [2] });
   });
 
   it('interpolates a table-only version inside its measured range only', () => {
@@ -96,7 +104,8 @@ describe('eval of registry versions', () => {
     const e = evaluateVersion(t.registry, 'sio2@1', [600]);
     expect(e).toMatchObject({ source: 'table', interpolation: 'linear' });
     expect(e.n[0]).toBeCloseTo(1.46, 12);
-    expect(() => evaluateVersion(t.registry, 'sio2@1', [850])).toThrow(/extrapolation needs a fitted model/);
+    expect(() => evaluateVersion(t.registry, 'sio2@1', [850])).toThrow(/only interpolated, never extrapolated/);
+    expect(() => evaluateVersion(t.registry, 'sio2@1', [850], { extrapolate: true })).toThrow(/a table never extrapolates/);
   });
 });
 
