@@ -23,7 +23,9 @@ export interface InspectReport {
   n_range: [number, number];
   k_range: [number, number];
   /** How the file was written; null for a stored version (stored tables are normalized). */
-  dialect: { delimiter: string; decimal_comma: boolean; header: boolean; encoding: string; bom: boolean; line_ending: string } | null;
+  dialect: { delimiter: string; decimal_comma: boolean; header: boolean; encoding: string; bom: boolean; line_ending: string; header_line?: number; units_row?: string[] } | null;
+  /** The lines above the header (a file's metadata, kept in the provenance on import); empty for a stored version. */
+  preamble: string[];
   /** 1-based lines of the first and last data row of the file; null for a stored version. */
   data_lines: [number, number] | null;
   warnings: string[];
@@ -59,7 +61,19 @@ export function inspectReport(result: { table: NkTable; detected: TableOrigin | 
     quantity: stored ? 'nk' : f.quantity,
     n_range: minMax(table.n),
     k_range: minMax(table.k),
-    dialect: stored ? null : { delimiter: f.delimiter, decimal_comma: f.decimalComma, header: f.header, encoding: f.encoding, bom: f.bom, line_ending: f.lineEnding },
+    dialect: stored
+      ? null
+      : {
+          delimiter: f.delimiter,
+          decimal_comma: f.decimalComma,
+          header: f.header,
+          encoding: f.encoding,
+          bom: f.bom,
+          line_ending: f.lineEnding,
+          ...(f.headerLine !== undefined && { header_line: f.headerLine }),
+          ...(f.unitsRow !== undefined && { units_row: f.unitsRow }),
+        },
+    preamble: stored ? [] : f.preamble,
     data_lines: stored ? null : f.dataLines,
     warnings: result.warnings,
   };

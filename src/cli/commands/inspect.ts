@@ -24,9 +24,11 @@ export function inspectLines(source: string, r: InspectReport): string[] {
     const separator = d.delimiter === 'whitespace' ? 'whitespace' : d.delimiter === '\t' ? 'tab' : `'${d.delimiter}'`;
     lines.push(
       `  dialect   ${separator} separated${d.decimal_comma ? ', decimal comma' : ''}, ${d.header ? 'header' : 'no header'}, ` +
-        `${d.encoding}${d.bom ? ' with BOM' : ''}, ${d.line_ending} line ends, data on lines ${r.data_lines[0]}–${r.data_lines[1]}`,
+        `${d.encoding}${d.bom ? ' with BOM' : ''}, ${d.line_ending} line ends, ${d.header_line ? `header on line ${d.header_line}, ` : ''}` +
+        `${d.units_row ? `units row ${d.units_row.map((u) => u || '·').join(' ')}, ` : ''}data on lines ${r.data_lines[0]}–${r.data_lines[1]}`,
     );
   }
+  r.preamble.forEach((l, i) => lines.push(`  ${i === 0 ? 'preamble ' : '         '} ${l}`));
   if (r.warnings.length === 0) lines.push('  warnings  none');
   else r.warnings.forEach((w, i) => lines.push(`  ${i === 0 ? 'warnings ' : '         '} ${w}`));
   return lines;
