@@ -36,7 +36,7 @@ export async function serveUntilSignal(
     if (code === 'EADDRINUSE') {
       // Under `npm start` the flag has to pass through npm: say so, or the advice does not work as typed.
       const other = options.port === 0 ? 0 : options.port + 1;
-      const how = process.env.npm_lifecycle_event === 'start' ? `npm start -- --port ${other}` : `--port ${other} (0 picks a free port)`;
+      const how = cliIo().env.npm_lifecycle_event === 'start' ? `npm start -- --port ${other}` : `--port ${other} (0 picks a free port)`;
       throw new InputError('serve-listen', `cannot listen on ${options.host}:${options.port}: the port is in use (EADDRINUSE), perhaps by another nkledger server; choose another port: ${how}`);
     }
     if (code === 'EACCES' || code === 'EADDRNOTAVAIL') {
