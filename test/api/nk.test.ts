@@ -143,8 +143,8 @@ describe('GET .../versions/{n}/nk', () => {
   it('refuses bad wavelength requests with problem documents, writing nothing', async () => {
     const before = snapshotCounts(h);
     const cases: [string, number, RegExp][] = [
-      ['', 400, /either wavelengths_nm/],
-      ['?wavelengths_nm=450&from_nm=400&to_nm=500&step_nm=10', 400, /either/],
+      ['', 400, /one of wavelengths_nm/],
+      ['?wavelengths_nm=450&from_nm=400&to_nm=500&step_nm=10', 400, /give one of/],
       ['?wavelengths_nm=450,abc', 400, /abc/],
       ['?from_nm=400&to_nm=800', 400, /all of/],
       ['?from_nm=800&to_nm=400&step_nm=10', 400, /from_nm ≤ to_nm/],
