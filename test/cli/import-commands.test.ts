@@ -46,10 +46,10 @@ describe('nkledger inspect / eval / convert end to end', () => {
     out.k.forEach((v: number, i: number) => expect(v).toBeCloseTo([0.01, 0.005, 0][i], 12));
   });
 
-  it('eval outside the range exits 2 and says a fitted model is needed', async () => {
+  it('eval outside the range exits 2 and says a table is never extrapolated (fit a model)', async () => {
     const r = await nkledger(['eval', 'data/marrowick/sio2-thermal.csv', '--at', '200']);
     expect(r.code).toBe(2);
-    expect(r.stderr).toMatch(/^nkledger: 200 nm is outside the measured range 220–1700 nm.*extrapolation needs a fitted model.*\[outside-range\]$/m);
+    expect(r.stderr).toMatch(/^nkledger: 200 nm is outside the measured range 220–1700 nm.*never extrapolated \(fit a dispersion model to evaluate beyond it\).*\[outside-range\]$/m);
     noStackTrace(r.stderr);
   });
 

@@ -79,7 +79,7 @@ describe('tabulated evaluation', () => {
     }
   });
 
-  it('refuses outside the measured range and says extrapolation needs a fitted model', () => {
+  it('refuses outside the measured range and says a table is never extrapolated', () => {
     const table = sampled(100);
     for (const w of [299.9, 1500.1]) {
       try {
@@ -88,7 +88,7 @@ describe('tabulated evaluation', () => {
       } catch (err) {
         expect(err).toBeInstanceOf(InputError);
         expect((err as InputError).rule).toBe('outside-range');
-        expect((err as InputError).message).toMatch(/extrapolation needs a fitted model/);
+        expect((err as InputError).message).toMatch(/only interpolated, never extrapolated \(fit a dispersion model/);
       }
     }
   });
