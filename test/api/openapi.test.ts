@@ -135,6 +135,8 @@ describe('OpenAPI document', () => {
     expect(shown.material.slug).toBe('glass');
     await answers.check('GET', '/api/v1/materials/{slug}', await h.request('/api/v1/materials/no-such'));
     await answers.check('GET', '/api/v1/materials/{slug}', await h.request('/api/v1/materials/Not_A_Slug'));
+    await answers.check('PATCH', '/api/v1/materials/{slug}', await h.request('/api/v1/materials/mgf2', { ...json({ description: 'e-beam, 250 C', tags: ['fluoride'] }), method: 'PATCH', as: 'editor' }));
+    await answers.check('PATCH', '/api/v1/materials/{slug}', await h.request('/api/v1/materials/mgf2', { ...json({ slug: 'other' }), method: 'PATCH', as: 'editor' }));
   });
 
   it('versions: upload (CSV, fitted, wrong media type), show, 304, n,k as JSON and CSV, refusals', async () => {
