@@ -169,6 +169,10 @@ describe('OpenAPI document', () => {
     await answers.check('GET', nk, await h.request('/api/v1/materials/glass/versions/1/nk'));
     await answers.check('GET', nk, await h.request('/api/v1/materials/glass/versions/1/nk?wavelengths_nm=100'));
     await answers.check('GET', nk, await h.request('/api/v1/materials/glass/versions/7/nk?wavelengths_nm=450'));
+    const posted = (await answers.check('POST', nk, await h.request('/api/v1/materials/glass/versions/1/nk', json({ wavelengths_nm: [450, 550, 650] })))) as { n: number[] };
+    expect(posted.n).toHaveLength(3);
+    await answers.check('POST', nk, await h.request('/api/v1/materials/glass/versions/1/nk', json({ wavelengths_nm: [-5] })));
+    await answers.check('POST', nk, await h.request('/api/v1/materials/glass/versions/1/nk', { method: 'POST', body: 'wavelengths_nm=450', headers: { 'content-type': 'text/plain' } }));
   });
 
   it('lifecycle: approve, retire, withdraw and their refusals', async () => {
