@@ -11,6 +11,8 @@ export interface InputLocation {
   line?: number;
   /** 1-based column number (the field position in delimited text, or the character column). */
   column?: number;
+  /** The input field or option at fault, e.g. "layers.2.thickness_nm" (structured, for API problem documents). */
+  field?: string;
 }
 
 /**

@@ -16,6 +16,7 @@ const A_SPEC: ParameterSpec = {
   bounds: [0.5, 20],
   guessRule: '1 (held fixed unless freed with --free A)',
   fixedByDefault: true,
+  defaultValue: 1,
 };
 
 function parameters(options: TermOptions): ParameterSpec[] {

@@ -19,6 +19,8 @@ export interface ParameterSpec {
   guessRule: string;
   /** Held fixed unless the user frees it (Sellmeier A = 1, Urbach Eb). */
   fixedByDefault?: boolean;
+  /** Value taken when a model is given by its parameters (a stack design) and this one is left out (Sellmeier A = 1). */
+  defaultValue?: number;
 }
 
 /** The spectral grid a model is evaluated on, in the units models are written in. */

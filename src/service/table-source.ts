@@ -85,7 +85,8 @@ export function requireTable(loaded: LoadedSource, purpose: string): NkTable {
   );
 }
 
-function loadVersion(registry: Registry, source: string): LoadedSource {
+/** Resolve a registry reference to its verified content (also for design files, whose refs are never file names). */
+export function loadVersion(registry: Registry, source: string): LoadedSource {
   let resolved;
   try {
     resolved = resolveRow(registry, source);
@@ -109,7 +110,7 @@ function loadVersion(registry: Registry, source: string): LoadedSource {
 }
 
 /** Open the registry only if its file exists: reading a version must never create an empty database. */
-function withExistingRegistry<T>(source: string, db: string | undefined, use: (registry: Registry) => T): T {
+export function withExistingRegistry<T>(source: string, db: string | undefined, use: (registry: Registry) => T): T {
   const path = registryPath(db);
   if (path !== ':memory:' && !existsSync(path)) {
     throw new NotFoundError(

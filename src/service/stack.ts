@@ -1,0 +1,487 @@
+/**
+ * `nkledger stack` and `POST /api/v1/stack`: a design's materials resolved to pinned versions, files or
+ * constants (resolveStackDesign, which does the I/O), then computeStack — the ONE function that does the
+ * CPU work (n,k on the grids, the transfer-matrix engine of src/stack, colour, the thickness sweep). Its
+ * input and output are plain JSON-able data, so it can run in a worker thread as it is.
+ */
+import { createHash } from 'node:crypto';
+import { dirname, resolve as resolvePath } from 'node:path';
+import { InputError, NotFoundError } from '../errors.ts';
+import { evaluateFitReport, type FitReport } from '../fit/fit.ts';
+import { parseNkTable } from '../io/parse-table.ts';
+import { parseOptionNumber } from '../io/numbers.ts';
+import { buildModel } from '../models/catalogue.ts';
+import { evaluateTable } from '../optics/table-eval.ts';
+import type { Registry } from '../registry/open.ts';
+import { usableRangeNm } from '../registry/records.ts';
+import { formatRef, parseRef } from '../registry/refs.ts';
+import type { VersionContent, VersionStatus } from '../registry/types.ts';
+import { colourOf, COLOUR_GRID_NM, type CieTables, type Colour } from '../stack/colour.ts';
+import { solveStack, type StackMedium, type StackSpectra } from '../stack/transfer-matrix.ts';
+import type { NkTable } from '../table.ts';
+import { cieTables } from './cie.ts';
+import type { Lockfile } from './lock.ts';
+import { readSource } from './source.ts';
+import { locateField, type MaterialSource, type StackDesign } from './stack-design.ts';
+import { loadVersion, withExistingRegistry } from './table-source.ts';
+
+export const STACK_POLARIZATIONS = ['unpolarized', 's', 'p'] as const;
+export type StackPolarization = (typeof STACK_POLARIZATIONS)[number];
+
+/** Most thickness steps of one sweep, and most angles of one request. */
+const MAX_SWEEP_STEPS = 10_000;
+const MAX_ANGLES = 90;
+
+export interface StackSweep {
+  /** 1-based layer number, counted from the ambient side. */
+  layer: number;
+  startNm: number;
+  stopNm: number;
+  stepNm: number;
+}
+
+export interface StackOptions {
+  wavelengthNm: number[];
+  anglesDeg: number[];
+  polarization: StackPolarization;
+  /** Let model sources evaluate outside their validity range (tables never extrapolate). */
+  extrapolate: boolean;
+  sweep: StackSweep | null;
+}
+
+/** The option texts of both front doors (CLI flags, API query fields); `names` spell them in refusals. */
+export interface StackOptionText {
+  angle?: string;
+  polarization?: string;
+  sweep?: string;
+  extrapolate?: boolean;
+}
+
+export function parseStackOptions(
+  text: StackOptionText,
+  wavelengthNm: number[],
+  names: { angle: string; polarization: string; sweep: string } = { angle: '--angle', polarization: '--polarization', sweep: '--sweep' },
+): StackOptions {
+  const anglesDeg = (text.angle ?? '0').split(',').map((a) =>
+    parseOptionNumber(a.trim(), names.angle, { min: 0, max: 89.999999, hint: 'degrees of incidence in the ambient, 0 ≤ θ < 90' }),
+  );
+  if (anglesDeg.length > MAX_ANGLES) throw new InputError('bad-option', `${names.angle}: at most ${MAX_ANGLES} angles`, { field: names.angle });
+  const polarization = (text.polarization ?? 'unpolarized') as StackPolarization;
+  if (!STACK_POLARIZATIONS.includes(polarization)) {
+    throw new InputError('bad-option', `${names.polarization}: "${text.polarization}" is not one of ${STACK_POLARIZATIONS.join(', ')}`, { field: names.polarization });
+  }
+  if (wavelengthNm.some((w) => !(w > 0))) throw new InputError('bad-option', 'wavelengths must be positive (nm)', { field: 'at' });
+  return { wavelengthNm, anglesDeg, polarization, extrapolate: text.extrapolate ?? false, sweep: text.sweep === undefined ? null : parseSweep(text.sweep, names.sweep) };
+}
+
+function parseSweep(text: string, name: string): StackSweep {
+  const m = /^\s*(\d+)\s*=\s*([^:]+):([^:]+):([^:]+)\s*$/.exec(text);
+  if (!m) throw new InputError('bad-option', `${name}: "${text}" is not LAYER=START:STOP:STEP (layer number from 1, thickness in nm), e.g. 1=0:600:5`, { field: name });
+  const layer = parseOptionNumber(m[1], `${name} layer`, { integer: true, min: 1 });
+  const startNm = parseOptionNumber(m[2], `${name} start`, { min: 0 });
+  const stopNm = parseOptionNumber(m[3], `${name} stop`, { min: startNm, hint: 'stop ≥ start' });
+  const stepNm = parseOptionNumber(m[4], `${name} step`, { above: 0 });
+  if (sweepThicknesses({ layer, startNm, stopNm, stepNm }).length > MAX_SWEEP_STEPS) {
+    throw new InputError('bad-option', `${name}: more than ${MAX_SWEEP_STEPS} thickness steps`, { field: name });
+  }
+  return { layer, startNm, stopNm, stepNm };
+}
+
+function sweepThicknesses(s: StackSweep): number[] {
+  const count = Math.floor((s.stopNm - s.startNm) / s.stepNm + 1e-9) + 1;
+  return Array.from({ length: count }, (_, i) => +(s.startNm + i * s.stepNm).toPrecision(12));
+}
+
+/** The work a request asks for: layers × wavelengths × angles × sweep steps (each at least 1); capped by the API. */
+export function stackWork(design: StackDesign, options: StackOptions): number {
+  const steps = options.sweep ? sweepThicknesses(options.sweep).length : 1;
+  return Math.max(1, design.layers.length) * options.wavelengthNm.length * options.anglesDeg.length * steps;
+}
+
+// ---------------------------------------------------------------------------------------------------------
+// Resolution: every source to data (the only I/O)
+
+/** A material as computeStack needs it: plain data, plus what the output says about where it came from. */
+export interface ResolvedMaterial {
+  /** "ambient", "layer 2", "substrate". */
+  role: string;
+  /** Field of the design, e.g. layers.1.material. */
+  field: string;
+  source: 'registry' | 'file' | 'constant' | 'model';
+  /** Registry pin slug@N, the file as written in the design, or null. */
+  ref: string | null;
+  /** Content hash of a registry version, SHA-256 of a file's bytes, or null. */
+  sha256: string | null;
+  status: VersionStatus | null;
+  /** Short description: "fitted tauc-lorentz model", "measured table", "n = 1.38, k = 0", "sellmeier model". */
+  describe: string;
+  content?: VersionContent;
+  table?: NkTable;
+  constant?: { n: number; k: number };
+  model?: { spec: string; terms: number; urbach: boolean; parameters: Record<string, number>; range_nm: [number, number] | null };
+}
+
+export interface ResolvedDesign {
+  name: string | null;
+  notes: string | null;
+  file: string | null;
+  ambient: ResolvedMaterial;
+  layers: Array<{ name: string | null; thickness_nm: number; material: ResolvedMaterial }>;
+  substrate: { material: ResolvedMaterial; thickness_mm: number | null; incoherent: boolean };
+  notices: string[];
+  warnings: string[];
+}
+
+export interface ResolveContext {
+  /** An open registry (the API); else `db` is opened if a ref needs it (never created). */
+  registry?: Registry;
+  db?: string;
+  /** Name of the design file in messages, and the base of relative file sources. */
+  designFile: string;
+  /** The design text, for line and column in refusals (null when the design came as parsed JSON). */
+  designText: string | null;
+  /** False: file sources are refused (the HTTP API: the server's disk is not the client's). */
+  allowFiles: boolean;
+  lock?: { lockfile: Lockfile; file: string };
+}
+
+const AIR: MaterialSource = { n: 1, k: 0 };
+
+interface Slot {
+  role: string;
+  path: Array<string | number>;
+  source: MaterialSource;
+}
+
+export async function resolveStackDesign(design: StackDesign, ctx: ResolveContext): Promise<ResolvedDesign> {
+  const slots: Slot[] = [
+    { role: 'ambient', path: ['ambient', 'material'], source: design.ambient?.material ?? AIR },
+    ...design.layers.map((l, i) => ({ role: `layer ${i + 1}`, path: ['layers', i, 'material'], source: l.material })),
+    { role: 'substrate', path: ['substrate', 'material'], source: design.substrate.material },
+  ];
+  const where = (path: Array<string | number>, extra: string[] = []) => ({ file: ctx.designFile, ...locateField(ctx.designText, [...path, ...extra]), field: [...path, ...extra].join('.') });
+  const notices: string[] = [];
+  const warnings: string[] = [];
+  const resolved = new Map<Slot, ResolvedMaterial>();
+
+  for (const slot of slots) {
+    const base = { role: slot.role, field: slot.path.join('.') };
+    const src = slot.source;
+    if ('file' in src) {
+      if (!ctx.allowFiles) {
+        throw new InputError('stack-file-source', `${slot.role}: {"file": …} sources are refused here (the server's disk is not the client's); use a registry ref, constant n, k or a model`, where(slot.path, ['file']));
+      }
+      const baseDir = ctx.designFile === '<stdin>' || ctx.designFile === '-' ? process.cwd() : dirname(resolvePath(ctx.designFile));
+      const path = resolvePath(baseDir, src.file);
+      let bytes: Uint8Array;
+      try {
+        bytes = (await readSource(path, { file: src.file })).bytes;
+      } catch (err) {
+        if (err instanceof InputError) throw new InputError(err.rule, `${slot.role}: ${err.message}`, where(slot.path, ['file']), err.status);
+        throw err;
+      }
+      const imported = parseNkTable(bytes, { file: src.file });
+      warnings.push(...imported.warnings.map((w) => `${slot.role} (${src.file}): ${w}`));
+      resolved.set(slot, { ...base, source: 'file', ref: src.file, sha256: createHash('sha256').update(bytes).digest('hex'), status: null, describe: 'measured table', table: imported.table });
+    } else if ('n' in src) {
+      const k = src.k ?? 0;
+      resolved.set(slot, { ...base, source: 'constant', ref: null, sha256: null, status: null, describe: `n = ${src.n}, k = ${k}`, constant: { n: src.n, k } });
+    } else if ('model' in src) {
+      resolved.set(slot, { ...base, source: 'model', ref: null, sha256: null, status: null, describe: `${src.model} model`, model: resolveModelSource(src, slot.role, where(slot.path, ['parameters'])) });
+    }
+  }
+
+  const refSlots = slots.filter((s) => 'ref' in s.source);
+  if (refSlots.length) {
+    const useRegistry = (registry: Registry) => {
+      for (const slot of refSlots) {
+        const text = (slot.source as { ref: string }).ref;
+        const at = where(slot.path, ['ref']);
+        const { ref, lockedSha } = ctx.lock ? throughLock(text, ctx.lock, slot.role, at) : { ref: text, lockedSha: null };
+        let loaded;
+        try {
+          loaded = loadVersion(registry, ref);
+        } catch (err) {
+          if (err instanceof InputError) throw new InputError(err.rule, `${slot.role}: ${err.message}`, at, err.status);
+          throw err;
+        }
+        const origin = loaded.detected as { ref: string; sha256: string; status: VersionStatus; model: string | null };
+        if (lockedSha && origin.sha256 !== lockedSha) {
+          throw new InputError(
+            'stack-lock-mismatch',
+            `${slot.role}: ${origin.ref} in the registry has sha256 ${origin.sha256.slice(0, 12)}…, the lockfile ${ctx.lock!.file} pins ${lockedSha.slice(0, 12)}… (run \`nkledger lock verify --lock ${ctx.lock!.file}\`)`,
+            at,
+          );
+        }
+        notices.push(...loaded.notices.map((n) => `${slot.role}: ${n}`));
+        warnings.push(...loaded.warnings.map((w) => `${slot.role}: ${w}`));
+        const describe = loaded.content!.fit ? `fitted ${loaded.content!.fit.model} model` : 'measured table';
+        resolved.set(slot, { role: slot.role, field: slot.path.join('.'), source: 'registry', ref: origin.ref, sha256: origin.sha256, status: origin.status, describe, content: loaded.content! });
+      }
+    };
+    if (ctx.registry) useRegistry(ctx.registry);
+    else {
+      const refs = refSlots.map((s) => (s.source as { ref: string }).ref).join(', ');
+      try {
+        withExistingRegistry(refs, ctx.db, useRegistry);
+      } catch (err) {
+        if (!(err instanceof NotFoundError && err.rule === 'source-not-found')) throw err;
+        throw new NotFoundError(`the design names registry versions (${refs}) but there is no registry database to look them up in (give --db PATH or set NKLEDGER_DB)`, 'registry-missing');
+      }
+    }
+  }
+
+  const get = (slot: Slot) => resolved.get(slot)!;
+  const sub = design.substrate;
+  const incoherent = sub.incoherent ?? sub.thickness_mm !== undefined;
+  if (!incoherent && sub.thickness_mm !== undefined) notices.push('substrate: incoherent is false, so it is semi-infinite and thickness_mm is not used (no back surface)');
+  return {
+    name: design.name ?? null,
+    notes: design.notes ?? null,
+    file: ctx.designFile,
+    ambient: get(slots[0]),
+    layers: design.layers.map((l, i) => ({ name: l.name ?? null, thickness_nm: l.thickness_nm, material: get(slots[i + 1]) })),
+    substrate: { material: get(slots[slots.length - 1]), thickness_mm: sub.thickness_mm ?? null, incoherent },
+    notices,
+    warnings,
+  };
+}
+
+/** A design ref read through the lockfile: the locked version of its material, refused when the two disagree. */
+function throughLock(text: string, lock: { lockfile: Lockfile; file: string }, role: string, at: ReturnType<typeof locateField> & { file: string }): { ref: string; lockedSha: string } {
+  const parsed = parseRef(text);
+  const entry = lock.lockfile.materials[parsed.slug];
+  if (!entry) {
+    throw new InputError('stack-lock-missing', `${role}: ${parsed.slug} is not in the lockfile ${lock.file} (pin it with \`nkledger lock add ${text} --lock ${lock.file}\`)`, at);
+  }
+  const pinned = formatRef(parsed.slug, entry.version);
+  const disagree =
+    (parsed.kind === 'number' && parsed.version !== entry.version) || (parsed.kind === 'hash' && !entry.sha256.startsWith(parsed.hashPrefix));
+  if (disagree) {
+    throw new InputError('stack-lock-disagrees', `${role}: the design names ${text}, the lockfile ${lock.file} pins ${pinned} (sha256 ${entry.sha256.slice(0, 12)}…)`, at);
+  }
+  return { ref: pinned, lockedSha: entry.sha256 };
+}
+
+/** The model of a {"model", "parameters"} source, with terms and Urbach tail inferred from the parameter names when not given. */
+function resolveModelSource(
+  src: { model: string; parameters: Record<string, number>; terms?: number; urbach?: boolean; range_nm?: [number, number] },
+  role: string,
+  at: { file: string; line?: number; column?: number; field: string },
+): NonNullable<ResolvedMaterial['model']> {
+  const given = Object.keys(src.parameters);
+  const termChoices = src.terms !== undefined ? [src.terms] : [1, 2, 3, 4, 5, 6, 7, 8];
+  const urbachChoices = src.urbach !== undefined ? [src.urbach] : [false, true];
+  let first: { names: string[]; error?: InputError } | null = null;
+  for (const terms of termChoices) {
+    for (const urbach of urbachChoices) {
+      let model;
+      try {
+        model = buildModel(src.model, { terms, urbach });
+      } catch (err) {
+        if (!(err instanceof InputError)) throw err;
+        if (err.rule === 'unknown-model' || err.rule === 'duplicate-model-term' || err.rule === 'model-not-summable') throw new InputError(err.rule, `${role}: ${err.message}`, at);
+        first ??= { names: [], error: err };
+        continue;
+      }
+      const names = model.parameters.map((p) => p.name);
+      first = first?.names.length ? first : { names };
+      const required = model.parameters.filter((p) => p.defaultValue === undefined).map((p) => p.name);
+      if (given.every((g) => names.includes(g)) && required.every((r) => given.includes(r))) {
+        const parameters: Record<string, number> = {};
+        for (const p of model.parameters) parameters[p.name] = src.parameters[p.name] ?? p.defaultValue!;
+        if (src.range_nm && !(src.range_nm[0] < src.range_nm[1])) throw new InputError('design-format', `${role}: range_nm needs min < max`, at);
+        return { spec: model.spec, terms, urbach, parameters, range_nm: src.range_nm ?? null };
+      }
+    }
+  }
+  if (first?.error && !first.names.length) throw new InputError(first.error.rule, `${role}: ${first.error.message}`, at);
+  throw new InputError(
+    'stack-model-parameters',
+    `${role}: the parameters ${given.join(', ') || '(none)'} do not fit model ${src.model}${src.terms ? ` with ${src.terms} terms` : ''}; it takes ${first?.names.join(', ')} (more terms: B2, C2, …; see \`nkledger fit --help\`)`,
+    at,
+  );
+}
+
+// ---------------------------------------------------------------------------------------------------------
+// Computation (no I/O except the cached CIE tables): the function a worker runs
+
+export interface StackColour {
+  reflected: Colour;
+  transmitted: Colour;
+}
+
+export interface StackResult {
+  angle_deg: number;
+  polarization: StackPolarization;
+  wavelength_nm: number[];
+  R: number[];
+  T: number[];
+  A: number[];
+  Rs: number[];
+  Rp: number[];
+  Ts: number[];
+  Tp: number[];
+  psi_deg: number[];
+  delta_deg: number[];
+  /** Colour under D65 (2° observer) on 380–780 nm at 5 nm; null when a material does not cover that range. */
+  colour: StackColour | null;
+  sweep?: { layer: number; layer_role: string; rows: Array<{ thickness_nm: number } & StackColour> };
+}
+
+export interface StackReport {
+  design: { name: string | null; notes: string | null; file: string | null; layers: number; substrate: { thickness_mm: number | null; incoherent: boolean } };
+  materials: Array<{ role: string; source: ResolvedMaterial['source']; ref: string | null; sha256: string | null; status: VersionStatus | null; describe: string }>;
+  options: { polarization: StackPolarization; extrapolate: boolean; angles_deg: number[]; colour_grid_nm: [number, number, number] };
+  notes: string[];
+  notices: string[];
+  warnings: string[];
+  results: StackResult[];
+}
+
+class OutOfRange extends InputError {}
+
+/** n, k of a material on a grid, refusing wavelengths it does not cover (named with its range). */
+function materialNk(m: ResolvedMaterial, wl: number[], extrapolate: boolean, purpose: string): StackMedium {
+  const size = wl.length;
+  let n: number[], k: number[];
+  const refuse = (range: [number, number], what: string, hint: string) => {
+    const outside = wl.find((w) => w < range[0] * (1 - 1e-12) || w > range[1] * (1 + 1e-12));
+    if (outside !== undefined) {
+      throw new OutOfRange('stack-out-of-range', `${m.role} (${m.ref ?? m.describe}) ${what} ${range[0]}–${range[1]} nm; ${outside} nm is outside it (${purpose})${hint}`, { field: m.field });
+    }
+  };
+  if (m.constant) {
+    n = new Array(size).fill(m.constant.n);
+    k = new Array(size).fill(m.constant.k);
+  } else if (m.model) {
+    if (m.model.range_nm && !extrapolate) refuse(m.model.range_nm, 'has a model valid over', '; --extrapolate evaluates it outside');
+    ({ n, k } = buildModel(m.model.spec, { terms: m.model.terms, urbach: m.model.urbach }).nk(wl, m.model.parameters));
+  } else if (m.content?.fit) {
+    if (!extrapolate) refuse(usableRangeNm(m.content), 'has a model fitted over', '; --extrapolate evaluates it outside');
+    ({ n, k } = evaluateFitReport(m.content.fit as unknown as FitReport, wl));
+  } else {
+    const table = (m.table ?? m.content!.table)!;
+    refuse([table.wavelengthNm[0], table.wavelengthNm[table.wavelengthNm.length - 1]], 'is a measured table over', '; a table is never extrapolated: fit a model to it');
+    ({ n, k } = evaluateTable(table, wl, 'linear'));
+  }
+  for (let i = 0; i < size; i++) {
+    if (!Number.isFinite(n[i]) || !Number.isFinite(k[i]) || n[i] < 0 || k[i] < 0) {
+      throw new InputError('stack-nk-invalid', `${m.role} (${m.ref ?? m.describe}) gives n = ${n[i]}, k = ${k[i]} at ${wl[i]} nm: a stack needs finite n ≥ 0 and k ≥ 0`, { field: m.field });
+    }
+  }
+  return { n: Float64Array.from(n), k: Float64Array.from(k) };
+}
+
+interface Media {
+  ambient: StackMedium;
+  layers: StackMedium[];
+  substrate: StackMedium;
+}
+
+function mediaOn(design: ResolvedDesign, wl: number[], extrapolate: boolean, purpose: string): Media {
+  const ambient = materialNk(design.ambient, wl, extrapolate, purpose);
+  const absorbing = Array.from(ambient.k).findIndex((k) => k !== 0);
+  if (absorbing >= 0) {
+    throw new InputError('stack-ambient-absorbing', `the ambient (${design.ambient.ref ?? design.ambient.describe}) has k = ${ambient.k[absorbing]} at ${wl[absorbing]} nm: R and T need a lossless ambient (k = 0)`, {
+      field: design.ambient.field,
+    });
+  }
+  return { ambient, layers: design.layers.map((l) => materialNk(l.material, wl, extrapolate, purpose)), substrate: materialNk(design.substrate.material, wl, extrapolate, purpose) };
+}
+
+function solve(design: ResolvedDesign, media: Media, wl: number[], angle: number, thicknessOverride?: { index: number; nm: number }): StackSpectra {
+  return solveStack(
+    {
+      wavelengthNm: wl,
+      ambient: media.ambient,
+      layers: media.layers.map((m, i) => ({ ...m, thicknessNm: thicknessOverride?.index === i ? thicknessOverride.nm : design.layers[i].thickness_nm })),
+      substrate: media.substrate,
+      incoherentSubstrateMm: design.substrate.incoherent ? (design.substrate.thickness_mm ?? undefined) : undefined,
+    },
+    angle,
+  );
+}
+
+function pick(s: StackSpectra, pol: StackPolarization): { R: Float64Array; T: Float64Array } {
+  if (pol === 's') return { R: s.Rs, T: s.Ts };
+  if (pol === 'p') return { R: s.Rp, T: s.Tp };
+  return { R: s.Rs.map((v, i) => (v + s.Rp[i]) / 2), T: s.Ts.map((v, i) => (v + s.Tp[i]) / 2) };
+}
+
+function colourPair(s: StackSpectra, pol: StackPolarization, cie: CieTables): StackColour {
+  const { R, T } = pick(s, pol);
+  return { reflected: colourOf(R, cie), transmitted: colourOf(T, cie) };
+}
+
+/** The whole computation of a resolved design: spectra per angle, colour, and the thickness sweep. */
+export function computeStack(design: ResolvedDesign, options: StackOptions, cie: CieTables = cieTables()): StackReport {
+  const wl = options.wavelengthNm;
+  const warnings = [...design.warnings];
+  const notes: string[] = [];
+  if (options.sweep && options.sweep.layer > design.layers.length) {
+    throw new InputError('bad-option', `sweep layer ${options.sweep.layer}: the design has ${design.layers.length} layer${design.layers.length === 1 ? '' : 's'} (numbered from 1 on the ambient side)`, { field: 'sweep' });
+  }
+  const media = mediaOn(design, wl, options.extrapolate, 'asked wavelengths');
+  const colourGrid = [...COLOUR_GRID_NM];
+  let colourMedia: Media | null = null;
+  try {
+    colourMedia = mediaOn(design, colourGrid, options.extrapolate, 'colour needs 380–780 nm');
+  } catch (err) {
+    if (!(err instanceof OutOfRange)) throw err;
+    if (options.sweep) throw new InputError('stack-sweep-colour', `--sweep computes colours, which need 380–780 nm: ${err.message}`, err.location);
+    warnings.push(`colour is null: ${err.message}`);
+  }
+  if (design.substrate.incoherent) {
+    notes.push(
+      `R and T include the substrate's back surface (incoherent ${design.substrate.thickness_mm} mm substrate, exit into the ambient); Ψ and Δ describe the coated front surface alone and leave the back surface out`,
+    );
+  } else notes.push('the substrate is semi-infinite: no back surface; T is the light transmitted into it');
+  notes.push('Ψ, Δ: ρ = rp/rs = tan Ψ·e^{iΔ}, Azzam & Bashara convention with N = n − ik (registry k ≥ 0), Δ in [0, 360)');
+
+  const results = options.anglesDeg.map((angle): StackResult => {
+    const s = solve(design, media, wl, angle);
+    const { R, T } = pick(s, options.polarization);
+    const result: StackResult = {
+      angle_deg: angle,
+      polarization: options.polarization,
+      wavelength_nm: wl,
+      R: Array.from(R),
+      T: Array.from(T),
+      A: Array.from(R, (r, i) => 1 - r - T[i]),
+      Rs: Array.from(s.Rs),
+      Rp: Array.from(s.Rp),
+      Ts: Array.from(s.Ts),
+      Tp: Array.from(s.Tp),
+      psi_deg: Array.from(s.psiDeg),
+      delta_deg: Array.from(s.deltaDeg),
+      colour: colourMedia ? colourPair(solve(design, colourMedia, colourGrid, angle), options.polarization, cie) : null,
+    };
+    if (options.sweep && colourMedia) {
+      const index = options.sweep.layer - 1;
+      result.sweep = {
+        layer: options.sweep.layer,
+        layer_role: `layer ${options.sweep.layer} (${design.layers[index].material.ref ?? design.layers[index].material.describe})`,
+        rows: sweepThicknesses(options.sweep).map((nm) => ({ thickness_nm: nm, ...colourPair(solve(design, colourMedia!, colourGrid, angle, { index, nm }), options.polarization, cie) })),
+      };
+    }
+    return result;
+  });
+
+  const all = [design.ambient, ...design.layers.map((l) => l.material), design.substrate.material];
+  return {
+    design: {
+      name: design.name,
+      notes: design.notes,
+      file: design.file,
+      layers: design.layers.length,
+      substrate: { thickness_mm: design.substrate.thickness_mm, incoherent: design.substrate.incoherent },
+    },
+    materials: all.map((m) => ({ role: m.role, source: m.source, ref: m.ref, sha256: m.sha256, status: m.status, describe: m.describe })),
+    options: { polarization: options.polarization, extrapolate: options.extrapolate, angles_deg: options.anglesDeg, colour_grid_nm: [380, 780, 5] },
+    notes,
+    notices: design.notices,
+    warnings,
+    results,
+  };
+}

@@ -1,0 +1,258 @@
+/**
+ * Reflectance, transmittance and ellipsometric Ψ, Δ of a thin-film stack by the characteristic-matrix
+ * (transfer-matrix) method: M. Born and E. Wolf, Principles of Optics, §1.6; H. A. Macleod, Thin-Film
+ * Optical Filters, ch. 2 (published forms). Pure: arrays in, arrays out.
+ *
+ * Sign convention, stated once for the whole project: the registry keeps k ≥ 0, and the engine forms the
+ * complex index N = n − ik (time dependence e^{+iωt}, the convention of Azzam & Bashara, Ellipsometry and
+ * Polarized Light, 1977, and of Macleod), so k ≥ 0 means absorption and fields decay as e^{−2πk·z/λ} into
+ * an absorbing medium. In that convention Ψ and Δ come straight out as ellipsometers report them:
+ * ρ = rp/rs = tan Ψ·e^{iΔ} with rp = (N₁cosθ₀ − N₀cosθ₁)/(N₁cosθ₀ + N₀cosθ₁) and
+ * rs = (N₀cosθ₀ − N₁cosθ₁)/(N₀cosθ₀ + N₁cosθ₁), Δ in [0°, 360°).
+ *
+ * Per medium j, with the invariant a = n₀ sin θ₀ (the ambient must be lossless): q_j = N_j cos θ_j =
+ * √(N_j² − a²) on the physical branch, Im q ≤ 0 (a decaying wave for e^{+iωt}) and Re q > 0 when Im q = 0.
+ * Tilted admittances (Macleod ch. 2, in units of the free-space admittance): η_s = q, η_p = N²/q. Layer phase
+ * δ = 2π q d/λ; characteristic matrix [[cos δ, i sin δ/η], [iη sin δ, cos δ]];
+ * [B; C] = M₁…M_L [1; η_sub]; r = (η₀B − C)/(η₀B + C); T = 4η₀ Re(η_sub)/|η₀B + C|²; A = 1 − R − T.
+ * Macleod's r_p has the opposite sign of Azzam & Bashara's rp (his equals r_s at normal incidence), so
+ * rp = −r_p(Macleod) below.
+ *
+ * A thick substrate with its back surface is summed incoherently (intensities of the multiply reflected
+ * beams; C. C. Katsidis and D. I. Siapkas, Appl. Opt. 41, 3978 (2002)):
+ * R = R_f + T_f T_f' R_b τ² / (1 − R_f' R_b τ²), T = T_f T_b τ / (1 − R_f' R_b τ²), with R_f, T_f the
+ * coated front seen from the ambient, R_f', T_f' the same seen from inside the substrate, R_b, T_b the bare
+ * back surface into the ambient again, and τ = e^{−4π|Im q_s| d/λ} the single-pass internal transmittance.
+ * Ψ and Δ always describe the coated front surface alone (no back-surface light).
+ */
+
+export interface StackMedium {
+  /** Refractive index n on the wavelength grid. */
+  n: ArrayLike<number>;
+  /** Extinction coefficient k ≥ 0 on the wavelength grid (N = n − ik). */
+  k: ArrayLike<number>;
+}
+
+export interface StackLayer extends StackMedium {
+  thicknessNm: number;
+}
+
+export interface StackProblem {
+  wavelengthNm: ArrayLike<number>;
+  /** Incidence (and exit) medium; it must be lossless (k = 0). */
+  ambient: StackMedium;
+  /** Layers in the order light meets them, from the ambient side. */
+  layers: StackLayer[];
+  substrate: StackMedium;
+  /** A thick substrate summed incoherently with its back surface (exit into the ambient); absent: semi-infinite. */
+  incoherentSubstrateMm?: number;
+}
+
+export interface StackSpectra {
+  Rs: Float64Array;
+  Rp: Float64Array;
+  Ts: Float64Array;
+  Tp: Float64Array;
+  /** Coherent amplitude reflection coefficients of the front surface, Azzam & Bashara convention. */
+  rsRe: Float64Array;
+  rsIm: Float64Array;
+  rpRe: Float64Array;
+  rpIm: Float64Array;
+  psiDeg: Float64Array;
+  /** Δ in [0, 360). */
+  deltaDeg: Float64Array;
+}
+
+const DEG = Math.PI / 180;
+
+/**
+ * Solve the stack at one angle of incidence (degrees in the ambient, 0 ≤ θ < 90) on the problem's grid.
+ * Throws RangeError for caller bugs (absorbing ambient, mismatched arrays, bad angle).
+ */
+export function solveStack(problem: StackProblem, angleDeg: number): StackSpectra {
+  const { wavelengthNm: wl, ambient, layers, substrate } = problem;
+  const count = wl.length;
+  if (!(angleDeg >= 0 && angleDeg < 90)) throw new RangeError(`angle of incidence must be in [0, 90) degrees, got ${angleDeg}`);
+  for (const m of [ambient, substrate, ...layers]) {
+    if (m.n.length !== count || m.k.length !== count) throw new RangeError('every medium needs n and k on the whole wavelength grid');
+  }
+  const L = layers.length;
+  const sinT = Math.sin(angleDeg * DEG);
+  const cosT = Math.cos(angleDeg * DEG);
+  const dSub = problem.incoherentSubstrateMm === undefined ? -1 : problem.incoherentSubstrateMm * 1e6;
+  const out: StackSpectra = {
+    Rs: new Float64Array(count),
+    Rp: new Float64Array(count),
+    Ts: new Float64Array(count),
+    Tp: new Float64Array(count),
+    rsRe: new Float64Array(count),
+    rsIm: new Float64Array(count),
+    rpRe: new Float64Array(count),
+    rpIm: new Float64Array(count),
+    psiDeg: new Float64Array(count),
+    deltaDeg: new Float64Array(count),
+  };
+  // Per-layer scratch for one wavelength: cos δ, sin δ, η_s, η_p (re, im), reused by the backward pass.
+  const cRe = new Float64Array(L), cIm = new Float64Array(L), sRe = new Float64Array(L), sIm = new Float64Array(L);
+  const esRe = new Float64Array(L), esIm = new Float64Array(L), epRe = new Float64Array(L), epIm = new Float64Array(L);
+  // [B, C] as (re, im, re, im), and a square root, written in place: no allocation in the inner loops.
+  const v = new Float64Array(4);
+  const root = new Float64Array(2);
+
+  for (let i = 0; i < count; i++) {
+    const lambda = wl[i];
+    const n0 = ambient.n[i];
+    if (ambient.k[i] !== 0) throw new RangeError('the ambient medium must be lossless (k = 0)');
+    const a = n0 * sinT;
+    const a2 = a * a;
+    // Ambient: q0 = n0 cos θ0 (real), η0s = q0, η0p = n0²/q0.
+    const q0 = n0 * cosT;
+    const e0s = q0;
+    const e0p = (n0 * n0) / q0;
+
+    for (let j = 0; j < L; j++) {
+      const layer = layers[j];
+      const n = layer.n[i], k = -layer.k[i]; // N = n − ik: imaginary part −k
+      // N² = n² − k² + 2i·n·(−k)
+      const n2Re = n * n - k * k, n2Im = 2 * n * k;
+      physicalSqrtInto(n2Re - a2, n2Im, root);
+      const qRe = root[0], qIm = root[1];
+      // δ = 2π q d / λ
+      const f = (2 * Math.PI * layer.thicknessNm) / lambda;
+      const dRe = f * qRe, dIm = f * qIm;
+      const ex = Math.exp(dIm), exi = 1 / ex;
+      const ch = 0.5 * (ex + exi), sh = 0.5 * (ex - exi);
+      const cr = Math.cos(dRe), sr = Math.sin(dRe);
+      // cos(x+iy) = cos x cosh y − i sin x sinh y; sin(x+iy) = sin x cosh y + i cos x sinh y
+      cRe[j] = cr * ch; cIm[j] = -sr * sh;
+      sRe[j] = sr * ch; sIm[j] = cr * sh;
+      esRe[j] = qRe; esIm[j] = qIm;
+      // η_p = N²/q
+      const qq = qRe * qRe + qIm * qIm;
+      epRe[j] = (n2Re * qRe + n2Im * qIm) / qq;
+      epIm[j] = (n2Im * qRe - n2Re * qIm) / qq;
+    }
+
+    // Substrate admittances.
+    const ns = substrate.n[i], ks = -substrate.k[i];
+    const ns2Re = ns * ns - ks * ks, ns2Im = 2 * ns * ks;
+    physicalSqrtInto(ns2Re - a2, ns2Im, root);
+    const qsRe = root[0], qsIm = root[1];
+    const qsq = qsRe * qsRe + qsIm * qsIm;
+    const espRe = (ns2Re * qsRe + ns2Im * qsIm) / qsq;
+    const espIm = (ns2Im * qsRe - ns2Re * qsIm) / qsq;
+
+    for (let pol = 0; pol < 2; pol++) {
+      const eta0 = pol === 0 ? e0s : e0p;
+      const etaSubRe = pol === 0 ? qsRe : espRe;
+      const etaSubIm = pol === 0 ? qsIm : espIm;
+      const eRe = pol === 0 ? esRe : epRe;
+      const eIm = pol === 0 ? esIm : epIm;
+
+      // Forward: [B; C] = M1…ML [1; η_sub], applied from the substrate side.
+      v[0] = 1; v[1] = 0; v[2] = etaSubRe; v[3] = etaSubIm;
+      for (let j = L - 1; j >= 0; j--) applyLayer(v, cRe[j], cIm[j], sRe[j], sIm[j], eRe[j], eIm[j]);
+      const bRe = v[0], bIm = v[1], cr = v[2], ci = v[3];
+      // r = (η0B − C)/(η0B + C), η0 real
+      const numRe = eta0 * bRe - cr, numIm = eta0 * bIm - ci;
+      const denRe = eta0 * bRe + cr, denIm = eta0 * bIm + ci;
+      const den2 = denRe * denRe + denIm * denIm;
+      const rRe = (numRe * denRe + numIm * denIm) / den2;
+      const rIm = (numIm * denRe - numRe * denIm) / den2;
+      const Rf = rRe * rRe + rIm * rIm;
+      const Tf = (4 * eta0 * etaSubRe) / den2;
+      let R = Rf, T = Tf;
+
+      if (dSub >= 0) {
+        // Backward through the coating, from inside the substrate out to the ambient: [B'; C'] = ML…M1 [1; η0].
+        v[0] = 1; v[1] = 0; v[2] = eta0; v[3] = 0;
+        for (let j = 0; j < L; j++) applyLayer(v, cRe[j], cIm[j], sRe[j], sIm[j], eRe[j], eIm[j]);
+        const b2Re = v[0], b2Im = v[1], c2r = v[2], c2i = v[3];
+        // η_s B' (complex × complex)
+        const hbRe = etaSubRe * b2Re - etaSubIm * b2Im, hbIm = etaSubRe * b2Im + etaSubIm * b2Re;
+        const bnRe = hbRe - c2r, bnIm = hbIm - c2i;
+        const bdRe = hbRe + c2r, bdIm = hbIm + c2i;
+        const bd2 = bdRe * bdRe + bdIm * bdIm;
+        const Rfb = (bnRe * bnRe + bnIm * bnIm) / bd2;
+        const Tfb = (4 * etaSubRe * eta0) / bd2;
+        // Bare back surface substrate → ambient.
+        const snRe = etaSubRe - eta0, sdRe = etaSubRe + eta0;
+        const sd2 = sdRe * sdRe + etaSubIm * etaSubIm;
+        const Rb = (snRe * snRe + etaSubIm * etaSubIm) / sd2;
+        const Tb = (4 * etaSubRe * eta0) / sd2;
+        const tau = Math.exp((4 * Math.PI * qsIm * dSub) / lambda); // qsIm ≤ 0
+        const denom = 1 - Rfb * Rb * tau * tau;
+        R = Rf + (Tf * Tfb * Rb * tau * tau) / denom;
+        T = (Tf * Tb * tau) / denom;
+      }
+
+      if (pol === 0) {
+        out.Rs[i] = R;
+        out.Ts[i] = T;
+        out.rsRe[i] = rRe;
+        out.rsIm[i] = rIm;
+      } else {
+        out.Rp[i] = R;
+        out.Tp[i] = T;
+        out.rpRe[i] = -rRe; // Azzam & Bashara's rp = −r_p(Macleod)
+        out.rpIm[i] = -rIm;
+      }
+    }
+    // ρ = rp/rs = tan Ψ e^{iΔ}
+    const rsRe = out.rsRe[i], rsIm = out.rsIm[i], rpRe = out.rpRe[i], rpIm = out.rpIm[i];
+    out.psiDeg[i] = Math.atan2(Math.hypot(rpRe, rpIm), Math.hypot(rsRe, rsIm)) / DEG;
+    // arg(rp · conj(rs)) = arg(rp) − arg(rs)
+    let delta = Math.atan2(rpIm * rsRe - rpRe * rsIm, rpRe * rsRe + rpIm * rsIm) / DEG;
+    if (delta < 0) delta += 360;
+    if (delta >= 360) delta -= 360;
+    out.deltaDeg[i] = delta;
+  }
+  return out;
+}
+
+/**
+ * √z on the physical branch for N = n − ik: Im ≤ 0 (decay for e^{+iωt}), and Re ≥ 0 when Im = 0
+ * (a propagating wave travels away from the interface). Stable complex square root (Numerical Recipes §5.4).
+ */
+export function physicalSqrt(re: number, im: number): [number, number] {
+  const out = new Float64Array(2);
+  physicalSqrtInto(re, im, out);
+  return [out[0], out[1]];
+}
+
+function physicalSqrtInto(re: number, im: number, out: Float64Array): void {
+  const mod = Math.hypot(re, im);
+  let sr = 0, si = 0;
+  if (mod !== 0) {
+    if (re >= 0) {
+      sr = Math.sqrt((mod + re) / 2);
+      si = im / (2 * sr);
+    } else {
+      si = Math.sqrt((mod - re) / 2);
+      if (im < 0) si = -si;
+      sr = im / (2 * si);
+    }
+  }
+  if (si > 0 || (si === 0 && sr < 0)) {
+    sr = -sr;
+    si = -si;
+  }
+  out[0] = sr + 0; // + 0 turns −0 into 0
+  out[1] = si + 0;
+}
+
+/** [B; C] ← [[cos δ, i sin δ/η], [iη sin δ, cos δ]] [B; C] (complex), in place in v = (B re, B im, C re, C im). */
+function applyLayer(v: Float64Array, cdRe: number, cdIm: number, sdRe: number, sdIm: number, eRe: number, eIm: number): void {
+  const bRe = v[0], bIm = v[1], cRe = v[2], cIm = v[3];
+  // i sin δ
+  const isRe = -sdIm, isIm = sdRe;
+  // (i sin δ)/η
+  const e2 = eRe * eRe + eIm * eIm;
+  const aRe = (isRe * eRe + isIm * eIm) / e2, aIm = (isIm * eRe - isRe * eIm) / e2;
+  // iη sin δ
+  const gRe = isRe * eRe - isIm * eIm, gIm = isRe * eIm + isIm * eRe;
+  v[0] = cdRe * bRe - cdIm * bIm + aRe * cRe - aIm * cIm;
+  v[1] = cdRe * bIm + cdIm * bRe + aRe * cIm + aIm * cRe;
+  v[2] = gRe * bRe - gIm * bIm + cdRe * cRe - cdIm * cIm;
+  v[3] = gRe * bIm + gIm * bRe + cdRe * cIm + cdIm * cRe;
+}
