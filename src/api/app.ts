@@ -26,6 +26,7 @@ import { registerUploadRoutes } from './routes/uploads.ts';
 import { registerNkRoute } from './routes/nk.ts';
 import { ChangeMemo, RegistryChanges } from './registry-changes.ts';
 import { ComputePool } from '../service/compute-pool.ts';
+import { registerStackRoute } from './routes/stack.ts';
 
 export interface AppOptions {
   registry: Registry;
@@ -112,5 +113,6 @@ export function createApp(options: AppOptions): Hono<ApiEnv> {
   registerUploadRoutes(app, ctx);
   registerLockRoutes(app, ctx);
   registerAdminRoutes(app, ctx);
+  registerStackRoute(app, ctx);
   return app;
 }

@@ -7,6 +7,7 @@
 import { TOKEN_ROLES } from '../registry/schema-auth.ts';
 import { SETTING_KEYS } from '../service/settings.ts';
 import { FIT_OPTION_FIELD_DOCS } from './fit-fields.ts';
+import { STACK_PATHS } from './stack-openapi.ts';
 
 type Schema = Record<string, unknown>;
 const ref = (name: string): Schema => ({ $ref: `#/components/schemas/${name}` });
@@ -95,6 +96,7 @@ export const OPENAPI_DOCUMENT = {
   servers: [{ url: '/' }],
   security: [{ bearer: [] }, {}],
   paths: {
+    ...STACK_PATHS,
     '/api/v1/openapi.json': {
       get: { summary: 'This document', security: [{}], responses: { '200': json('OpenAPI 3.1 document', { type: 'object' }) } },
     },

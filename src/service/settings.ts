@@ -63,6 +63,12 @@ export const SETTINGS = {
     meaning: 'most wavelengths one n,k request may evaluate',
     parseText: (t: string) => Number(t),
   } satisfies SettingDefinition<number>,
+  max_stack_work: {
+    schema: z.number().int().min(1).max(1_000_000_000),
+    default: 2_000_000,
+    meaning: 'most work one POST /stack may ask for: layers × wavelengths × angles × sweep steps (each at least 1)',
+    parseText: (t: string) => Number(t),
+  } satisfies SettingDefinition<number>,
 };
 
 export type SettingKey = keyof typeof SETTINGS;

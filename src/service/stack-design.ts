@@ -36,7 +36,9 @@ const modelSource = z
   })
   .describe('a dispersion model of the catalogue with given parameters');
 
-export const MATERIAL_SOURCE_SCHEMA = z.union([refSource, fileSource, constantSource, modelSource]);
+export const MATERIAL_SOURCE_SCHEMA = z
+  .union([refSource, fileSource, constantSource, modelSource])
+  .meta({ id: 'MaterialSource', description: "where a medium's n, k come from" });
 
 const SOURCE_BRANCHES: Array<[string, z.ZodType]> = [
   ['ref', refSource],

@@ -24,8 +24,8 @@ const auditRows = (t: TempRegistry) =>
 
 describe('settings', () => {
   it('one catalogue holds the registry rule and the API settings, with defaults', () => {
-    expect(SETTING_KEYS).toEqual(['allow_self_approval', 'anonymous_reads', 'cors_origins', 'max_body_bytes', 'max_nk_points']);
-    expect(readSettings(t.registry)).toEqual({ allow_self_approval: false, anonymous_reads: 'auto', cors_origins: [], max_body_bytes: 8 * 1024 * 1024, max_nk_points: 10_000 });
+    expect(SETTING_KEYS).toEqual(['allow_self_approval', 'anonymous_reads', 'cors_origins', 'max_body_bytes', 'max_nk_points', 'max_stack_work']);
+    expect(readSettings(t.registry)).toEqual({ allow_self_approval: false, anonymous_reads: 'auto', cors_origins: [], max_body_bytes: 8 * 1024 * 1024, max_nk_points: 10_000, max_stack_work: 2_000_000 });
   });
 
   it('allow_self_approval set through the catalogue governs approval; set and reset are audited', () => {
