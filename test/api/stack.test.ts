@@ -60,7 +60,7 @@ describe('POST /api/v1/stack', () => {
     const p = await res.json();
     expect(p.rule).toBe('stack-too-much-work');
     expect(p.detail).toMatch(/5614 units of work.*at most 5000.*max_stack_work/);
-    const sweep = await h.request('/api/v1/stack?at=550&sweep=1=0:1000:1', { ...json({ layers: [{ material: { n: 1.38 }, thickness_nm: 100 }], substrate: { material: { n: 1.5 } } }), as: 'reader' });
+    const sweep = await h.request('/api/v1/stack?at=550&sweep=1=0:5000:1', { ...json({ layers: [{ material: { n: 1.38 }, thickness_nm: 100 }], substrate: { material: { n: 1.5 } } }), as: 'reader' });
     expect((await sweep.json()).rule).toBe('stack-too-much-work');
   });
 
