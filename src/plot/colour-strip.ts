@@ -78,7 +78,8 @@ export function renderColourStrips(spec: ColourStripSpec): string {
   const body = [
     `<title>${escapeXml(spec.title)}</title>`,
     element('rect', { class: 'background', x: 0, y: 0, width, height, fill: '#ffffff' }),
-    textElement({ class: 'title', x: width / 2, y: 26, 'text-anchor': 'middle', 'font-size': 16, 'font-weight': 'bold' }, spec.title),
+    // A long title shrinks to fit the width (estimated glyph widths; never below 10 px).
+    textElement({ class: 'title', x: width / 2, y: 26, 'text-anchor': 'middle', 'font-size': Math.max(10, Math.min(16, (16 * (width - 20)) / estimateTextWidth(spec.title, 16))), 'font-weight': 'bold' }, spec.title),
     ...strips,
     axis,
   ];

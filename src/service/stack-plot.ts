@@ -1,5 +1,6 @@
 /** Plots of a stack report: R, T, A and Ψ, Δ against wavelength (renderSpectrumPlot), or the sweep's colour strips. */
 import { renderColourStrips } from '../plot/colour-strip.ts';
+import { srgbOf } from '../stack/colour.ts';
 import { renderSpectrumPlot, type PlotSeries } from '../plot/spectrum-plot.ts';
 import type { StackReport } from './stack.ts';
 
@@ -7,10 +8,17 @@ export function renderStackPlot(report: StackReport): string {
   const name = report.design.name ?? report.design.file ?? 'stack';
   if (report.results.some((r) => r.sweep)) {
     const sweep = report.results[0].sweep!;
+    // A film reflecting 10 % looks dark on a screen but bright to an eye adapted to it: each strip is scaled
+    // so its brightest colour has Y = 100 (chromaticity unchanged); the JSON keeps the absolute colours.
+    const strips = report.results.map((r) => {
+      const rows = r.sweep!.rows;
+      const scale = 100 / Math.max(1e-9, ...rows.map((row) => row.reflected.Y));
+      return { label: `${r.angle_deg}°`, x: rows.map((row) => row.thickness_nm), colours: rows.map((row) => srgbOf(row.reflected.X * scale, row.reflected.Y * scale, row.reflected.Z * scale).hex) };
+    });
     return renderColourStrips({
-      title: `${name}: reflected colour (D65, 2°) against the thickness of ${sweep.layer_role}`,
-      xLabel: `thickness of layer ${sweep.layer} (nm)`,
-      strips: report.results.map((r) => ({ label: `${r.angle_deg}°`, x: r.sweep!.rows.map((row) => row.thickness_nm), colours: r.sweep!.rows.map((row) => row.reflected.srgb_hex) })),
+      title: `${name}: reflected colour (D65, 2°)`,
+      xLabel: `thickness of ${sweep.layer_role}, nm (each strip scaled so its brightest colour is Y = 100)`,
+      strips,
     });
   }
   const multi = report.results.length > 1;

@@ -70,14 +70,20 @@ function encode(linear: number): number {
   return v <= 0.0031308 ? 12.92 * v : 1.055 * v ** (1 / 2.4) - 0.055;
 }
 
+/** sRGB of XYZ (white Y = 100): the clipped #rrggbb and whether it was inside the gamut. */
+export function srgbOf(X: number, Y: number, Z: number): { hex: string; inGamut: boolean } {
+  const linear = XYZ_TO_SRGB.map((row) => (row[0] * X + row[1] * Y + row[2] * Z) / 100);
+  const hex = linear.map((c) => Math.round(encode(c) * 255).toString(16).padStart(2, '0')).join('');
+  return { hex: `#${hex}`, inGamut: linear.every((c) => c >= -GAMUT_SLACK && c <= 1 + GAMUT_SLACK) };
+}
+
 /** Colour of a spectrum (fractions 0–1 on COLOUR_GRID_NM) seen under D65 by the 2° observer. */
 export function colourOf(spectrum: ArrayLike<number>, cie: CieTables): Colour {
   const { X, Y, Z } = tristimulus(spectrum, cie);
   const white = tristimulus(new Array<number>(COLOUR_GRID_NM.length).fill(1), cie);
   const sum = X + Y + Z;
   const fx = labF(X / white.X), fy = labF(Y / white.Y), fz = labF(Z / white.Z);
-  const linear = XYZ_TO_SRGB.map((row) => (row[0] * X + row[1] * Y + row[2] * Z) / 100);
-  const hex = linear.map((c) => Math.round(encode(c) * 255).toString(16).padStart(2, '0')).join('');
+  const srgb = srgbOf(X, Y, Z);
   return {
     X,
     Y,
@@ -87,7 +93,7 @@ export function colourOf(spectrum: ArrayLike<number>, cie: CieTables): Colour {
     L: 116 * fy - 16,
     a: 500 * (fx - fy),
     b: 200 * (fy - fz),
-    srgb_hex: `#${hex}`,
-    in_gamut: linear.every((c) => c >= -GAMUT_SLACK && c <= 1 + GAMUT_SLACK),
+    srgb_hex: srgb.hex,
+    in_gamut: srgb.inGamut,
   };
 }

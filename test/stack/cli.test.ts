@@ -11,6 +11,7 @@ import { join } from 'node:path';
 import { XMLParser } from 'fast-xml-parser';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { approve, createMaterial, importVersion, openRegistry } from '../../src/service/registry.ts';
+import { srgbOf } from '../../src/stack/colour.ts';
 import { cauchyTable } from '../registry/helpers.ts';
 
 const ROOT = new URL('../../', import.meta.url).pathname;
@@ -62,7 +63,7 @@ describe('nkledger stack', { timeout: 120_000 }, () => {
     expect(r.out).toMatch(/reflected +x 0\.3127 +y 0\.3290/);
   });
 
-  it('--sweep with --plot writes the colour strip: one swatch per thickness, colours of the JSON rows', () => {
+  it('--sweep with --plot writes the colour strip: one swatch per thickness, the JSON colours scaled to a brightest Y of 100', () => {
     const svg = join(dir, 'soap.svg');
     const r = run(['stack', 'data/marrowick/soap-film.stack.json', '--at', '550', '--sweep', '1=0:600:10', '--plot', svg, '--json']);
     expect(r.code, r.err).toBe(0);
@@ -72,7 +73,10 @@ describe('nkledger stack', { timeout: 120_000 }, () => {
     const doc = new XMLParser({ ignoreAttributes: false, attributeNamePrefix: '' }).parse(readFileSync(svg, 'utf8'));
     const swatches = [doc.svg.g].flat().find((g: { class: string }) => g.class === 'strip').rect.filter((x: { class?: string }) => x.class === 'swatch');
     expect(swatches).toHaveLength(61);
-    expect(swatches.map((s: { fill: string }) => s.fill)).toEqual(rows.map((row: { reflected: { srgb_hex: string } }) => row.reflected.srgb_hex));
+    const scale = 100 / Math.max(...rows.map((row: { reflected: { Y: number } }) => row.reflected.Y));
+    const expected = rows.map((row: { reflected: { X: number; Y: number; Z: number } }) => srgbOf(row.reflected.X * scale, row.reflected.Y * scale, row.reflected.Z * scale).hex);
+    expect(swatches.map((s: { fill: string }) => s.fill)).toEqual(expected);
+    expect(rows[0].reflected.srgb_hex).toBe('#000000'); // no film, no reflection
   });
 
   it('--lock: refs resolve through the lockfile; a disagreement is refused with file:line:col and exit 2', () => {
