@@ -23,22 +23,21 @@ def branch(q):
 
 def coherent(N, d_nm, wl, theta0_deg, pol):
     """N: list of complex arrays (ambient, layers..., exit), d_nm: thicknesses of the layers.
-    Returns amplitude r, t and power T for light from N[0]."""
-    N = [np.asarray(x, dtype=complex) for x in N]
-    a = N[0] * np.sin(np.radians(theta0_deg))
+    Returns amplitude r, t, power T and the q = N cos(theta) of every medium for light from N[0]."""
+    return system([np.asarray(x, dtype=complex) for x in N], d_nm, wl, N[0] * np.sin(np.radians(theta0_deg)), pol)
+
+
+def system(N, d_nm, wl, a, pol):
+    """r, t, T, q of media N (first = incidence) for the invariant a = N sin(theta), which may be complex
+    when the light starts in an absorbing substrate; powers normalised with Re of the media's q."""
     q = [branch(Nj ** 2 - a ** 2) for Nj in N]
     one = np.ones_like(wl, dtype=complex)
-    zero = np.zeros_like(wl, dtype=complex)
 
     def interface(j, k):
         if pol == "s":
-            r = (q[j] - q[k]) / (q[j] + q[k])
-            t = 2 * q[j] / (q[j] + q[k])
-        else:
-            den = N[k] ** 2 * q[j] + N[j] ** 2 * q[k]
-            r = (N[k] ** 2 * q[j] - N[j] ** 2 * q[k]) / den
-            t = 2 * N[j] * N[k] * q[j] / den
-        return r, t
+            return (q[j] - q[k]) / (q[j] + q[k]), 2 * q[j] / (q[j] + q[k])
+        den = N[k] ** 2 * q[j] + N[j] ** 2 * q[k]
+        return (N[k] ** 2 * q[j] - N[j] ** 2 * q[k]) / den, 2 * N[j] * N[k] * q[j] / den
 
     # M is a 2x2 matrix of arrays: [[m00, m01], [m10, m11]]
     r, t = interface(0, 1)
@@ -52,12 +51,11 @@ def coherent(N, d_nm, wl, theta0_deg, pol):
              [m[1][0] * b[0][0] + m[1][1] * b[1][0], m[1][0] * b[0][1] + m[1][1] * b[1][1]]]
     r = m[1][0] / m[0][0]
     t = one / m[0][0]
-    cos0 = q[0] / N[0]
-    cos_s = q[-1] / N[-1]
     if pol == "s":
-        T = (q[-1].real / q[0].real) * np.abs(t) ** 2
+        T = q[-1].real / q[0].real * np.abs(t) ** 2
     else:
-        T = (np.conj(N[-1]) * cos_s).real / (np.conj(N[0]) * cos0).real * np.abs(t) ** 2
+        cos_in, cos_out = q[0] / N[0], q[-1] / N[-1]
+        T = (np.conj(N[-1]) * cos_out).real / (np.conj(N[0]) * cos_in).real * np.abs(t) ** 2
     return r, t, T, q
 
 
@@ -90,37 +88,8 @@ def stack(case, theta, pol):
 
 def reverse_block(N, d, wl, theta0, pol):
     """R, T of the coating seen from the last medium (the substrate) towards N[0], for the invariant
-    a = N[0] sin(theta0); powers normalised with Re of the substrate's q (weakly absorbing substrates)."""
-    a = N[0] * np.sin(np.radians(theta0))
-    Nr = N[::-1]
-    q = [branch(Nj ** 2 - a ** 2) for Nj in Nr]
-    # Re-use coherent() by giving it the invariant through an equivalent real angle in a fictitious
-    # lossless medium is not possible for complex N; build the matrices here directly.
-    one = np.ones_like(wl, dtype=complex)
-
-    def interface(j, k):
-        if pol == "s":
-            return (q[j] - q[k]) / (q[j] + q[k]), 2 * q[j] / (q[j] + q[k])
-        den = Nr[k] ** 2 * q[j] + Nr[j] ** 2 * q[k]
-        return (Nr[k] ** 2 * q[j] - Nr[j] ** 2 * q[k]) / den, 2 * Nr[j] * Nr[k] * q[j] / den
-
-    r, t = interface(0, 1)
-    m = [[one / t, r / t], [r / t, one / t]]
-    dr = d[::-1]
-    for j in range(1, len(Nr) - 1):
-        delta = 2 * np.pi * q[j] * dr[j - 1] / wl
-        p00, p11 = np.exp(1j * delta), np.exp(-1j * delta)
-        r, t = interface(j, j + 1)
-        b = [[p00 / t, p00 * r / t], [p11 * r / t, p11 / t]]
-        m = [[m[0][0] * b[0][0] + m[0][1] * b[1][0], m[0][0] * b[0][1] + m[0][1] * b[1][1]],
-             [m[1][0] * b[0][0] + m[1][1] * b[1][0], m[1][0] * b[0][1] + m[1][1] * b[1][1]]]
-    r = m[1][0] / m[0][0]
-    t = one / m[0][0]
-    if pol == "s":
-        T = q[-1].real / q[0].real * np.abs(t) ** 2
-    else:
-        cos_in, cos_out = q[0] / Nr[0], q[-1] / Nr[-1]
-        T = (np.conj(Nr[-1]) * cos_out).real / (np.conj(Nr[0]) * cos_in).real * np.abs(t) ** 2
+    a = N[0] sin(theta0)."""
+    r, _, T, _ = system(N[::-1], d[::-1], wl, N[0] * np.sin(np.radians(theta0)), pol)
     return np.abs(r) ** 2, T
 
 
