@@ -64,6 +64,9 @@ export interface StackSpectra {
 }
 
 const DEG = Math.PI / 180;
+/** Largest |Im δ| used in cosh/sinh: e^{300} times the rescale bound 1e150 stays below overflow (1e308). */
+const MAX_DECAY = 300;
+const BIG = 1e150;
 
 /**
  * Solve the stack at one angle of incidence (degrees in the ambient, 0 ≤ θ < 90) on the problem's grid.
@@ -120,7 +123,9 @@ export function solveStack(problem: StackProblem, angleDeg: number): StackSpectr
       // δ = 2π q d / λ
       const f = (2 * Math.PI * layer.thicknessNm) / lambda;
       const dRe = f * qRe, dIm = f * qIm;
-      const ex = Math.exp(dIm), exi = 1 / ex;
+      // An opaque layer (|Im δ| > 300: under e^{−600} ≈ 1e-261 in power) keeps its cos δ : sin δ ratio at the cap, so r is
+      // right; T comes out at most 1e-261 (0 behind two such layers), instead of ∞/∞.
+      const ex = Math.exp(Math.max(-MAX_DECAY, Math.min(MAX_DECAY, dIm))), exi = 1 / ex;
       const ch = 0.5 * (ex + exi), sh = 0.5 * (ex - exi);
       const cr = Math.cos(dRe), sr = Math.sin(dRe);
       // cos(x+iy) = cos x cosh y − i sin x sinh y; sin(x+iy) = sin x cosh y + i cos x sinh y
@@ -151,7 +156,11 @@ export function solveStack(problem: StackProblem, angleDeg: number): StackSpectr
 
       // Forward: [B; C] = M1…ML [1; η_sub], applied from the substrate side.
       v[0] = 1; v[1] = 0; v[2] = etaSubRe; v[3] = etaSubIm;
-      for (let j = L - 1; j >= 0; j--) applyLayer(v, cRe[j], cIm[j], sRe[j], sIm[j], eRe[j], eIm[j]);
+      let shrink = 1; // how much [B; C] was scaled down on the way (several opaque layers)
+      for (let j = L - 1; j >= 0; j--) {
+        applyLayer(v, cRe[j], cIm[j], sRe[j], sIm[j], eRe[j], eIm[j]);
+        shrink *= rescale(v);
+      }
       const bRe = v[0], bIm = v[1], cr = v[2], ci = v[3];
       // r = (η0B − C)/(η0B + C), η0 real
       const numRe = eta0 * bRe - cr, numIm = eta0 * bIm - ci;
@@ -160,13 +169,17 @@ export function solveStack(problem: StackProblem, angleDeg: number): StackSpectr
       const rRe = (numRe * denRe + numIm * denIm) / den2;
       const rIm = (numIm * denRe - numRe * denIm) / den2;
       const Rf = rRe * rRe + rIm * rIm;
-      const Tf = (4 * eta0 * etaSubRe) / den2;
+      const Tf = ((4 * eta0 * etaSubRe) / den2) * shrink * shrink;
       let R = Rf, T = Tf;
 
       if (dSub >= 0) {
         // Backward through the coating, from inside the substrate out to the ambient: [B'; C'] = ML…M1 [1; η0].
         v[0] = 1; v[1] = 0; v[2] = eta0; v[3] = 0;
-        for (let j = 0; j < L; j++) applyLayer(v, cRe[j], cIm[j], sRe[j], sIm[j], eRe[j], eIm[j]);
+        let shrinkBack = 1;
+        for (let j = 0; j < L; j++) {
+          applyLayer(v, cRe[j], cIm[j], sRe[j], sIm[j], eRe[j], eIm[j]);
+          shrinkBack *= rescale(v);
+        }
         const b2Re = v[0], b2Im = v[1], c2r = v[2], c2i = v[3];
         // η_s B' (complex × complex)
         const hbRe = etaSubRe * b2Re - etaSubIm * b2Im, hbIm = etaSubRe * b2Im + etaSubIm * b2Re;
@@ -174,7 +187,7 @@ export function solveStack(problem: StackProblem, angleDeg: number): StackSpectr
         const bdRe = hbRe + c2r, bdIm = hbIm + c2i;
         const bd2 = bdRe * bdRe + bdIm * bdIm;
         const Rfb = (bnRe * bnRe + bnIm * bnIm) / bd2;
-        const Tfb = (4 * etaSubRe * eta0) / bd2;
+        const Tfb = ((4 * etaSubRe * eta0) / bd2) * shrinkBack * shrinkBack;
         // Bare back surface substrate → ambient.
         const snRe = etaSubRe - eta0, sdRe = etaSubRe + eta0;
         const sd2 = sdRe * sdRe + etaSubIm * etaSubIm;
@@ -239,6 +252,13 @@ function physicalSqrtInto(re: number, im: number, out: Float64Array): void {
   }
   out[0] = sr + 0; // + 0 turns −0 into 0
   out[1] = si + 0;
+}
+
+/** Scale [B; C] down by 1e-150 when it grows past 1e150 (a stack of opaque layers); returns the factor applied. */
+function rescale(v: Float64Array): number {
+  if (Math.abs(v[0]) + Math.abs(v[1]) + Math.abs(v[2]) + Math.abs(v[3]) < BIG) return 1;
+  for (let i = 0; i < 4; i++) v[i] /= BIG;
+  return 1 / BIG;
 }
 
 /** [B; C] ← [[cos δ, i sin δ/η], [iη sin δ, cos δ]] [B; C] (complex), in place in v = (B re, B im, C re, C im). */

@@ -238,3 +238,17 @@ describe('colour (CIE 1931 2°, D65)', () => {
     expect(green.in_gamut).toBe(false);
   });
 });
+
+describe('opaque layers', () => {
+  it('a metal layer millimetres thick reflects like the bulk metal (Fresnel, Hecht ch. 4) and transmits nothing, with no NaN', () => {
+    const n = 0.2, k = 3.4;
+    const bulk = ((1 - n) ** 2 + k ** 2) / ((1 + n) ** 2 + k ** 2);
+    for (const d of [1e4, 1e6, 3e6]) {
+      const r = solveStack({ wavelengthNm: [500], ambient: air, layers: [layer(n, d, k), layer(1.5, 100), layer(n, d, k)], substrate: constant(1.5) }, 30);
+      for (const v of [r.Rs[0], r.Rp[0], r.Ts[0], r.Tp[0], r.psiDeg[0], r.deltaDeg[0]]) expect(Number.isFinite(v)).toBe(true);
+      expect(r.Ts[0]).toBe(0); // behind two opaque layers
+      const normal = solveStack({ wavelengthNm: [500], ambient: air, layers: [layer(n, d, k)], substrate: constant(1.5) }, 0);
+      expect(normal.Rs[0]).toBeCloseTo(bulk, 12);
+    }
+  });
+});
