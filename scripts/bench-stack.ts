@@ -4,7 +4,8 @@
  * one angle. Run: npx tsx scripts/bench-stack.ts [--rounds 5]   (needs python3 with numpy).
  * The sides are timed in alternating rounds (python answers one request per line as a child process), so
  * load from other jobs hits both alike. Prints the median ms per angle of each side, their ratio per round
- * (goal ≤ 1) and that both give the same reflectances.
+ * (goal ≤ 1), the CPU time per run of each process (steadier than wall time on a shared machine) and that both
+ * give the same reflectances.
  */
 import { spawn } from 'node:child_process';
 import { createInterface } from 'node:readline';
@@ -30,17 +31,19 @@ const layers = Array.from({ length: LAYERS }, (_, j) => ({
 }));
 const problem: StackProblem = { wavelengthNm, ambient: medium(() => 1, () => 0), layers, substrate: medium((um) => 3.9 + 0.1 / um, (um) => 0.02 / um) };
 
-function timeEngine(): { ms: number; check: number } {
+function timeEngine(): { ms: number; cpu: number; check: number } {
   const times: number[] = [];
   let check = 0;
+  const cpu0 = process.cpuUsage();
   for (let r = 0; r < REPEATS; r++) {
     const t0 = performance.now();
     const s = solveStack(problem, ANGLE);
     times.push(performance.now() - t0);
     check = s.Rs.reduce((a, b) => a + b, 0) + s.Rp.reduce((a, b) => a + b, 0);
   }
+  const cpu = process.cpuUsage(cpu0);
   times.sort((a, b) => a - b);
-  return { ms: times[Math.floor(times.length / 2)], check };
+  return { ms: times[Math.floor(times.length / 2)], cpu: (cpu.user + cpu.system) / 1000 / REPEATS, check };
 }
 
 const python = spawn('python3', [fileURLToPath(new URL('./bench_stack_numpy.py', import.meta.url))], { stdio: ['pipe', 'pipe', 'inherit'] });
@@ -49,7 +52,7 @@ const ask = async (line: string) => {
   python.stdin.write(`${line}\n`);
   const answer = await lines.next();
   if (answer.done) throw new Error('the numpy side ended early');
-  return JSON.parse(answer.value) as { ms: number; check: number };
+  return JSON.parse(answer.value) as { ms: number; cpu: number; check: number };
 };
 python.stdin.write(`${JSON.stringify({ wavelength_nm: wavelengthNm, ambient: problem.ambient, layers: layers.map((l) => ({ n: l.n, k: l.k, thickness_nm: l.thicknessNm })), substrate: problem.substrate, angle_deg: ANGLE })}\n`);
 const version = JSON.parse((await lines.next()).value as string).numpy as string;
@@ -57,12 +60,12 @@ const version = JSON.parse((await lines.next()).value as string).numpy as string
 // Warm-up (JIT, numpy import caches).
 timeEngine();
 await ask('5');
-const rows: Array<{ ours: number; numpy: number }> = [];
+const rows: Array<{ ours: number; numpy: number; oursCpu: number; numpyCpu: number }> = [];
 let checks: [number, number] = [0, 0];
 for (let round = 0; round < ROUNDS; round++) {
   const ours = timeEngine();
   const theirs = await ask(String(REPEATS));
-  rows.push({ ours: ours.ms, numpy: theirs.ms });
+  rows.push({ ours: ours.ms, numpy: theirs.ms, oursCpu: ours.cpu, numpyCpu: theirs.cpu });
   checks = [ours.check, theirs.check];
 }
 python.stdin.end();
@@ -71,9 +74,11 @@ const median = (v: number[]) => [...v].sort((a, b) => a - b)[Math.floor(v.length
 const ratios = rows.map((r) => r.ours / r.numpy);
 console.log(`${LAYERS} layers × ${POINTS} wavelengths × 2 polarisations at ${ANGLE}°, ${ROUNDS} rounds of ${REPEATS} runs per side; Node ${process.version}, numpy ${version}`);
 console.log('');
-console.log('| side | median ms per angle | ratio to numpy (median, lowest–highest round) |');
-console.log('| --- | ---: | ---: |');
-console.log(`| nkledger (src/stack) | ${median(rows.map((r) => r.ours)).toFixed(2)} | ${median(ratios).toFixed(2)} (${Math.min(...ratios).toFixed(2)}–${Math.max(...ratios).toFixed(2)}) |`);
-console.log(`| numpy reference | ${median(rows.map((r) => r.numpy)).toFixed(2)} | 1.00 |`);
+const cpuRatios = rows.map((r) => r.oursCpu / r.numpyCpu);
+const range = (v: number[]) => `${median(v).toFixed(2)} (${Math.min(...v).toFixed(2)}–${Math.max(...v).toFixed(2)})`;
+console.log('| side | median wall ms per angle | CPU ms per angle | wall ratio to numpy (median, lowest–highest round) | CPU ratio |');
+console.log('| --- | ---: | ---: | ---: | ---: |');
+console.log(`| nkledger (src/stack) | ${median(rows.map((r) => r.ours)).toFixed(2)} | ${median(rows.map((r) => r.oursCpu)).toFixed(2)} | ${range(ratios)} | ${range(cpuRatios)} |`);
+console.log(`| numpy reference | ${median(rows.map((r) => r.numpy)).toFixed(2)} | ${median(rows.map((r) => r.numpyCpu)).toFixed(2)} | 1.00 | 1.00 |`);
 console.log('');
 console.log(`same result: Σ(Rs + Rp) ${checks[0].toFixed(9)} (nkledger) vs ${checks[1].toFixed(9)} (numpy)`);

@@ -125,8 +125,12 @@ export function solveStack(problem: StackProblem, angleDeg: number): StackSpectr
       const dRe = f * qRe, dIm = f * qIm;
       // An opaque layer (|Im δ| > 300: under e^{−600} ≈ 1e-261 in power) keeps its cos δ : sin δ ratio at the cap, so r is
       // right; T comes out at most 1e-261 (0 behind two such layers), instead of ∞/∞.
-      const ex = Math.exp(Math.max(-MAX_DECAY, Math.min(MAX_DECAY, dIm))), exi = 1 / ex;
-      const ch = 0.5 * (ex + exi), sh = 0.5 * (ex - exi);
+      let ch = 1, sh = 0; // a lossless, propagating layer: real δ, no exponential needed
+      if (dIm !== 0) {
+        const ex = Math.exp(Math.max(-MAX_DECAY, Math.min(MAX_DECAY, dIm))), exi = 1 / ex;
+        ch = 0.5 * (ex + exi);
+        sh = 0.5 * (ex - exi);
+      }
       const cr = Math.cos(dRe), sr = Math.sin(dRe);
       // cos(x+iy) = cos x cosh y − i sin x sinh y; sin(x+iy) = sin x cosh y + i cos x sinh y
       cRe[j] = cr * ch; cIm[j] = -sr * sh;
@@ -234,7 +238,7 @@ export function physicalSqrt(re: number, im: number): [number, number] {
 }
 
 function physicalSqrtInto(re: number, im: number, out: Float64Array): void {
-  const mod = Math.hypot(re, im);
+  const mod = Math.sqrt(re * re + im * im); // not Math.hypot: several times slower in V8, and no overflow at optical magnitudes
   let sr = 0, si = 0;
   if (mod !== 0) {
     if (re >= 0) {
