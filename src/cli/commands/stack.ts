@@ -10,6 +10,7 @@ import { renderStackPlot } from '../../service/stack-plot.ts';
 import type { Colour } from '../../stack/colour.ts';
 import { addDbOption } from '../admin-options.ts';
 import { guarded } from '../failure.ts';
+import { cliIo } from '../io.ts';
 import { formatTable, printJson, printLines } from '../output.ts';
 import { printResolution } from '../registry-output.ts';
 import { parseWavelengthList } from '../wavelength-list.ts';
@@ -50,7 +51,7 @@ export function register(program: Command): void {
       guarded(async (designPath: string, opts: StackFlags) => {
         const wavelengths = parseWavelengthList(opts.at);
         const options = parseStackOptions({ angle: opts.angle, polarization: opts.polarization, sweep: opts.sweep, extrapolate: opts.extrapolate }, wavelengths);
-        const { bytes, file } = await readSource(designPath, { maxBytes: 8 * 1024 * 1024 });
+        const { bytes, file } = await readSource(designPath, { maxBytes: 8 * 1024 * 1024 }, designPath === '-' ? cliIo().stdin : undefined);
         const text = Buffer.from(bytes).toString('utf8');
         const design = parseStackDesign(text, file);
         const lock = opts.lock ? { lockfile: readLockfile(opts.lock), file: opts.lock } : undefined;
