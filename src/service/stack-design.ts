@@ -10,7 +10,7 @@
  * {"n": 1.38, "k": 0}, or {"model": "sellmeier", "parameters": {…}} (any catalogue model).
  * Refusals name the file, line and column of the offending value (jsonc-parser gives the positions).
  */
-import { findNodeAtLocation, parseTree, printParseErrorCode, type ParseError } from 'jsonc-parser';
+import { findNodeAtLocation, parseTree, printParseErrorCode, type ParseError } from 'jsonc-parser/lib/esm/main.js'; // the ES module build: the UMD main loads its parts by a require() a bundle cannot follow
 import { z } from 'zod';
 import { InputError } from '../errors.ts';
 
@@ -164,7 +164,7 @@ export function parseStackDesign(input: string | unknown, file = '<design>'): St
       const errors: ParseError[] = [];
       parseTree(text, errors, { disallowComments: true, allowTrailingComma: false });
       const where = errors.length ? lineColumn(text, errors[0].offset) : {};
-      const why = errors.length ? printParseErrorCode(errors[0].error) : (err as Error).message;
+      const why = errors.length ? printParseErrorCode(errors[0].error).replace(/([a-z])([A-Z])/g, '$1 $2').toLowerCase() : (err as Error).message; // "ValueExpected" → "value expected"
       throw new InputError('design-json', `not JSON: ${why}`, { file, ...where });
     }
   }
