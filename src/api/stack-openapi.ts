@@ -81,6 +81,7 @@ export const STACK_PATHS = {
         '403': problem("the token's role is below the one this route needs"),
         '404': problem('unknown material or version'),
         '406': problem('Accept names neither JSON nor SVG'),
+        '503': problem('every compute thread is busy and the queue is full (Retry-After)'),
         '422': problem('the body is not a design'),
       },
     },

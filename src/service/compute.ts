@@ -12,16 +12,19 @@ import type { KkOptions } from '../kk/check.ts';
 import { fitOptionsForAbsentK, kkCheck, type KkAnswer } from './absent-k.ts';
 import { parseNkTable, type ImportOptions } from '../io/parse-table.ts';
 import { prepareMeasurement, type MeasurementImport, type PreparedMeasurement } from './import-measurement.ts';
+import { computeStack, type ResolvedDesign, type StackOptions, type StackReport } from './stack.ts';
 
 export type ComputeTask =
   | { kind: 'fit'; bytes: Uint8Array; importOptions: ImportOptions; fit: FitOptions }
   | { kind: 'kk'; bytes: Uint8Array; importOptions: ImportOptions; kk: KkOptions }
-  | { kind: 'measurement'; input: Omit<MeasurementImport, 'slug' | 'provenance'> };
+  | { kind: 'measurement'; input: Omit<MeasurementImport, 'slug' | 'provenance'> }
+  | { kind: 'stack'; design: ResolvedDesign; options: StackOptions };
 
 export interface ComputeResults {
   fit: { warnings: string[]; report: FitReport };
   kk: { warnings: string[]; report: KkAnswer };
   measurement: PreparedMeasurement;
+  stack: StackReport;
 }
 
 export type ComputeResult<T extends ComputeTask> = ComputeResults[T['kind']];
@@ -51,6 +54,8 @@ function compute(task: ComputeTask): unknown {
     }
     case 'measurement':
       return prepareMeasurement(task.input);
+    case 'stack':
+      return computeStack(task.design, task.options);
   }
 }
 

@@ -2,15 +2,15 @@
  * POST /api/v1/stack: R, T, A, Ψ, Δ and colour of a design, as `nkledger stack --json` prints them. The body is
  * a design, or {"design": DESIGN, "lock": LOCKFILE} to resolve its registry refs through a lockfile; the CLI's
  * options are query fields. File sources are refused (the server's disk is not the client's); the work is
- * capped by the max_stack_work setting before anything is resolved. All compute is computeStack (one service
- * function with plain-data input and output, ready for a worker thread).
+ * capped by the max_stack_work setting before anything is resolved. The compute, computeStack, runs on the
+ * server's compute pool (a worker thread), never on the event loop; a full pool answers 503.
  */
 import type { Hono } from 'hono';
 import { z } from 'zod';
 import { InputError } from '../../errors.ts';
 import { parseWavelengthList } from '../../cli/wavelength-list.ts';
 import { parseLockfile } from '../../service/lock.ts';
-import { computeStack, parseStackOptions, resolveStackDesign, stackWork, STACK_POLARIZATIONS } from '../../service/stack.ts';
+import { parseStackOptions, resolveStackDesign, stackWork, STACK_POLARIZATIONS } from '../../service/stack.ts';
 import { parseStackDesign } from '../../service/stack-design.ts';
 import { renderStackPlot } from '../../service/stack-plot.ts';
 import type { ApiEnv } from '../auth.ts';
@@ -47,7 +47,7 @@ export function registerStackRoute(app: Hono<ApiEnv>, ctx: RouteContext): void {
     }
     const lock = lockValue === undefined ? undefined : { lockfile: parseLockfile(lockValue, `${BODY} lock`), file: 'the posted lock' };
     const resolved = await resolveStackDesign(design, { registry: ctx.registry, designFile: BODY, designText: null, allowFiles: false, lock });
-    const report = computeStack(resolved, options);
+    const report = await ctx.compute.run({ kind: 'stack', design: resolved, options });
     c.header('cache-control', 'no-store');
     if (svg) return c.body(renderStackPlot(report), 200, { 'content-type': 'image/svg+xml' });
     if (accept && !/json|\*\/\*/.test(accept)) throw new HttpProblem(406, 'not-acceptable', `a stack answer is application/json or image/svg+xml, not "${accept}"`);
