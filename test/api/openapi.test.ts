@@ -204,6 +204,10 @@ describe('OpenAPI document', () => {
     expect(kk.status).toBe(200);
     expect(await answers.check('POST', '/api/v1/kk', kk)).toMatchObject({ report: { verdict: 'uninformative' } });
     await answers.check('POST', '/api/v1/kk', await h.request('/api/v1/kk', csv('wavelength_nm,n,k\n400,1.5,-1\n')));
+    const stack = await h.request('/api/v1/stack?at=450,550&angle=0,60&sweep=1=0:200:50', json({ layers: [{ material: { n: 1.38 }, thickness_nm: 100 }], substrate: { material: { n: 1.52 } } }));
+    expect(stack.status).toBe(200);
+    expect(await answers.check('POST', '/api/v1/stack', stack)).toHaveProperty('results');
+    await answers.check('POST', '/api/v1/stack', await h.request('/api/v1/stack?at=550', json({ layers: [], substrate: { material: { file: 'x.csv' } } })));
   });
 
   it('tokens and settings: admin answers and refusals', async () => {
