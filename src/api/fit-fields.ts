@@ -20,6 +20,7 @@ export const FIT_OPTION_FIELDS = {
   free: text,
   starts: text,
   seed: text,
+  weights: text,
 };
 
 type FitOptionFields = { [K in keyof typeof FIT_OPTION_FIELDS]?: string };
@@ -29,7 +30,7 @@ const fieldName = (name: FitOptionName) => (name === 'range' ? 'range_nm' : name
 
 export function fitOptionsFromFields(f: FitOptionFields): Omit<FitOptions, 'model'> {
   return parseFitOptions(
-    { terms: f.terms, urbach: f.urbach === 'true', target: f.target, range: f.range_nm, fix: list(f.fix), init: list(f.init), bounds: list(f.bounds), free: list(f.free), starts: f.starts, seed: f.seed },
+    { terms: f.terms, urbach: f.urbach === 'true', target: f.target, range: f.range_nm, fix: list(f.fix), init: list(f.init), bounds: list(f.bounds), free: list(f.free), starts: f.starts, seed: f.seed, weights: f.weights },
     fieldName,
   );
 }
@@ -51,4 +52,5 @@ export const FIT_OPTION_FIELD_DOCS: Record<keyof typeof FIT_OPTION_FIELDS, strin
   free: 'parameters the model fixes by default to fit anyway, P[,P...], e.g. A (--free)',
   starts: 'number of starts 1–1000: the automatic guess plus random perturbations (--starts)',
   seed: 'seed of the multi-start perturbations (--seed)',
+  weights: 'auto (default: sigma columns, else the estimated n/k noise ratio) or relative (σ ∝ |value| with a floor) (--weights)',
 };

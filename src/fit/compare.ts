@@ -7,6 +7,9 @@ import { InputError, NumericalError } from '../errors.ts';
 import { buildModel } from '../models/catalogue.ts';
 import type { NkTable } from '../table.ts';
 import { fitTable } from './fit.ts';
+import { residualsAt } from './lm.ts';
+import { buildProblem } from './problem.ts';
+import { informationCriteria } from './statistics.ts';
 import type { FitOptions, FitReport } from './types.ts';
 import { minOf } from '../optics/extremes.ts';
 
@@ -29,10 +32,17 @@ export interface ComparedModel {
 export interface ComparisonReport {
   models: ComparedModel[];
   best_aic: string | null;
+  /** Lowest BIC; among candidates within BIC_INDIFFERENCE of it, the one with the fewest free parameters. */
   best_bic: string | null;
   /** Caveats about comparing by information criteria at all. */
   caveats: string[];
 }
+
+/**
+ * BIC differences below this are "not worth more than a bare mention" (R. E. Kass and A. E. Raftery, J. Am.
+ * Stat. Assoc. 90, 773 (1995), published): best_bic then names the candidate with the fewest free parameters.
+ */
+export const BIC_INDIFFERENCE = 2;
 
 export const COMPARISON_CAVEATS = [
   'AIC and BIC rank how well each model explains these points for its number of parameters; they say nothing about whether a model is physical.',
@@ -40,6 +50,17 @@ export const COMPARISON_CAVEATS = [
   'Only models fitted to the same rows, quantities and weights are compared here; never compare numbers from different runs or ranges.',
   'Prefer a Kramers-Kronig-consistent model when n and k must describe one material; every model is valid only inside the fitted wavelength range.',
 ];
+
+/** AIC and BIC of a fitted model on the residuals an absorbing model would have (n and k rows, same weights). */
+function criteriaOnAllRows(table: NkTable, report: FitReport, options: Omit<FitOptions, 'model'>): { aic: number; bic: number } {
+  const model = buildModel(report.model, report.options);
+  const problem = buildProblem(table, report.options.target, { rangeNm: options.rangeNm, absorbing: true, weights: options.weights });
+  const values = Float64Array.from(model.parameters, (p) => report.parameters[p.name].value);
+  const { r } = residualsAt(problem, model, values, [], false);
+  let chi2 = 0;
+  for (const v of r) chi2 += v * v;
+  return informationCriteria(chi2, r.length, report.correlations.parameters.length);
+}
 
 /** Fit every spec in `specs` with the shared options (model-specific flags apply where a model accepts them). */
 export function compareModels(table: NkTable, specs: string[], options: Omit<FitOptions, 'model'> = {}): ComparisonReport {
@@ -83,12 +104,26 @@ export function compareModels(table: NkTable, specs: string[], options: Omit<Fit
       return { model: probe.spec, report: null, error: err.message, aic: null, bic: null, delta_aic: null, delta_bic: null, free_parameters: null, kk_consistent: probe.kkConsistent, caveats };
     }
   });
+  // a model with k ≡ 0 is fitted to n alone; beside absorbing models its criteria are taken on the same
+  // residuals as theirs (its k residuals are the measured k, which no parameter of it can change)
+  if (new Set(models.filter((m) => m.report).map((m) => buildModel(m.model, m.report!.options).absorbing)).size > 1) {
+    for (const m of models) {
+      if (!m.report) continue;
+      const ic = criteriaOnAllRows(table, m.report, options);
+      m.aic = ic.aic;
+      m.bic = ic.bic;
+    }
+  }
   const best = (key: 'aic' | 'bic') => {
     const ok = models.filter((m) => m[key] !== null);
     if (ok.length === 0) return null;
     const min = minOf(ok.map((m) => m[key] as number));
     for (const m of ok) m[key === 'aic' ? 'delta_aic' : 'delta_bic'] = (m[key] as number) - min;
-    return ok.find((m) => m[key] === min)!.model;
+    if (key === 'aic') return ok.find((m) => m[key] === min)!.model;
+    // BIC differences below 2 are not evidence (Kass and Raftery 1995): then the simplest such candidate wins
+    const close = ok.filter((m) => (m.bic as number) - min < BIC_INDIFFERENCE);
+    close.sort((a, b) => (a.free_parameters as number) - (b.free_parameters as number) || (a.bic as number) - (b.bic as number));
+    return close[0].model;
   };
   return { models, best_aic: best('aic'), best_bic: best('bic'), caveats: COMPARISON_CAVEATS };
 }

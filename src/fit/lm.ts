@@ -30,6 +30,10 @@ export interface LmResult {
   converged: boolean;
   /** Whitened Jacobian columns of the free parameters at `values` (for the covariance). */
   jacobian: Float64Array[];
+  /** The parameters that were free in the end (minimizeWithBounds leaves out those held at a bound). */
+  free: number[];
+  /** Parameters held at a bound at the optimum (the gradient pushes them outward), full parameter order. */
+  atBound: number[];
 }
 
 /** A point the model was evaluated at, in the library's scaled units `x` and in full parameter order `q`. */
@@ -351,5 +355,62 @@ export function minimize(problem: FitProblem, model: DispersionModel, start: Flo
   }
   // no decrease over several restarts with χ² down at rounding level (noise-free data): that is the minimum
   if (!converged && stalls >= 4 && chi2 <= 1e-16 * chi2Start) converged = true;
-  return { values: p, chi2, iterations, converged, jacobian };
+  return { values: p, chi2, iterations, converged, jacobian, free, atBound: [] };
+}
+
+/**
+ * Minimize with simple bounds by an active set around minimize() (the bound-constrained least-squares
+ * strategy of Lawson–Hanson / Stark–Parker BVLS, P. B. Stark and R. L. Parker, Comput. Stat. 10, 129
+ * (1995), published). The library only clamps each step to the box, which leaves the other parameters'
+ * step computed as if the clamped one could still move: the fit then stalls 1–30 % above the bounded
+ * optimum. Here a parameter that ends on a bound with the gradient pushing it outward is held exactly
+ * there and the rest are minimized again; a held parameter whose gradient turns inward is released
+ * (one per round, the one pulled hardest). Ends when no parameter changes side, which is the
+ * Karush-Kuhn-Tucker condition for the box.
+ */
+export function minimizeWithBounds(problem: FitProblem, model: DispersionModel, start: Float64Array, free: number[], bounds: [number, number][], maxIterations: number): LmResult {
+  const held = new Set<number>();
+  let p: Float64Array = Float64Array.from(start);
+  let iterations = 0;
+  let result: LmResult | undefined;
+  for (let round = 0; round < 3 * free.length + 3; round++) {
+    const movable = free.filter((i) => !held.has(i));
+    result = minimize(problem, model, p, movable, bounds, Math.max(1, maxIterations - iterations));
+    iterations += result.iterations;
+    p = result.values;
+    const { r, jacobian } = residualsAt(problem, model, p, free, true);
+    let changed = false;
+    let release = -1;
+    let pull = 0;
+    free.forEach((i, j) => {
+      const [lo, hi] = bounds[i];
+      const slack = 1e-9 * (hi - lo);
+      // Jᵀr per parameter: positive when raising p_i lowers χ²
+      const descent = dot(jacobian[j], r) / Math.sqrt(dot(jacobian[j], jacobian[j]) || 1);
+      if (!held.has(i)) {
+        if ((p[i] <= lo + slack && descent < 0) || (p[i] >= hi - slack && descent > 0)) {
+          p[i] = p[i] <= lo + slack ? lo : hi;
+          held.add(i);
+          changed = true;
+        }
+      } else {
+        const inward = p[i] <= lo ? descent : -descent;
+        if (inward > pull) {
+          pull = inward;
+          release = i;
+        }
+      }
+    });
+    if (!changed && release >= 0) {
+      held.delete(release);
+      changed = true;
+    }
+    if (!changed || iterations >= maxIterations) break;
+  }
+  const final = result as LmResult;
+  if (held.size === 0) return { ...final, iterations };
+  const movable = free.filter((i) => !held.has(i));
+  // the Jacobian of the parameters left free, at the final point (the last minimize may predate the last hold)
+  const { r, jacobian } = residualsAt(problem, model, p, movable, true);
+  return { values: p, chi2: sumSquares(r), iterations, converged: final.converged, jacobian, free: movable, atBound: free.filter((i) => held.has(i)) };
 }

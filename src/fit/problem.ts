@@ -23,15 +23,45 @@ export interface FitProblem {
   /** 1/σ per residual (1 when unweighted). */
   invSigma: Float64Array;
   weighted: boolean;
+  /** How the residuals are weighted: the table's sigma columns, σ ∝ |value| (relative), or the estimated n/k noise ratio. */
+  weighting: FitWeighting;
   warnings: string[];
 }
 
-export function buildProblem(table: NkTable, target: FitTarget, rangeNm?: [number, number]): FitProblem {
+/** sigma: the table's sigma columns; relative: σ = r·max(|value|, floor); estimated: the n/k noise ratio from the data. */
+export type FitWeighting = 'sigma' | 'relative' | 'estimated';
+
+export interface ProblemOptions {
+  rangeNm?: [number, number];
+  /** False for a model with k ≡ 0: the imaginary part is then not fitted (it says nothing about the parameters). */
+  absorbing?: boolean;
+  /** 'relative' weights σ ∝ |value| instead of the default (sigma columns when present, else estimated). */
+  weights?: 'auto' | 'relative';
+}
+
+/**
+ * Floor of |value| in relative weighting, per fitted quantity: 1 % of its largest magnitude and at least 1e-4,
+ * so k = 0 or ε1 crossing zero do not get an infinite weight (common practice).
+ */
+export const RELATIVE_FLOOR_FRACTION = 0.01;
+export const RELATIVE_FLOOR_MIN = 1e-4;
+
+/** The rows of the table inside `rangeNm` (all rows without one). */
+export function rowsInRange(table: NkTable, rangeNm?: [number, number]): number[] {
   const [lo, hi] = rangeNm ?? [-Infinity, Infinity];
   const rows: number[] = [];
   for (let i = 0; i < table.wavelengthNm.length; i++) if (table.wavelengthNm[i] >= lo && table.wavelengthNm[i] <= hi) rows.push(i);
+  return rows;
+}
+
+export function buildProblem(table: NkTable, target: FitTarget, options: ProblemOptions = {}): FitProblem {
+  const { rangeNm } = options;
+  const rows = rowsInRange(table, rangeNm);
   if (rows.length < 3) {
-    throw new InputError('range-too-narrow', `--range ${lo}:${hi} nm keeps ${rows.length} rows of the table (${table.wavelengthNm[0]}–${table.wavelengthNm[table.wavelengthNm.length - 1]} nm); at least 3 are needed`);
+    const span = `${table.wavelengthNm[0]}–${table.wavelengthNm[table.wavelengthNm.length - 1]} nm`;
+    throw rangeNm
+      ? new InputError('range-too-narrow', `the fit range ${rangeNm[0]}–${rangeNm[1]} nm keeps ${rows.length} of the table's ${table.wavelengthNm.length} rows (${span}); at least 3 are needed: widen the range`)
+      : new InputError('too-few-rows', `the table has ${rows.length} rows (${span}); a fit needs at least 3, and more rows than free parameters`);
   }
   const pick = (a: number[]) => {
     const out = new Array<number>(rows.length);
@@ -42,10 +72,19 @@ export function buildProblem(table: NkTable, target: FitTarget, rangeNm?: [numbe
   const k = pick(table.k);
   const data = guessData(pick(table.wavelengthNm), n, k);
   const quantity: ModelQuantity = target === 'eps' ? 'eps' : 'nk';
+  const absorbing = options.absorbing ?? true;
+  if (!absorbing && target === 'k') throw new InputError('target-not-absorbing', 'the model has k ≡ 0 everywhere, so it cannot be fitted to k alone');
   const useRe = target !== 'k';
-  const useIm = target !== 'n';
+  // a model with k ≡ 0 gets nothing from the k rows but twice the count of points
+  const useIm = target !== 'n' && absorbing;
   const warnings: string[] = [];
-  const sigma = sigmas(table, rows, quantity, n, k, useRe, useIm, warnings);
+  if (!absorbing && target !== 'n') {
+    let kMax = 0;
+    for (const v of k) kMax = Math.max(kMax, Math.abs(v));
+    if (kMax > 0) warnings.push(`the model has k ≡ 0 but the table's k reaches ${+kMax.toPrecision(3)}: only ${quantity === 'eps' ? 'ε1' : 'n'} is fitted`);
+  }
+  const relative = options.weights === 'relative';
+  const sigma = relative ? undefined : sigmas(table, rows, quantity, n, k, useRe, useIm, warnings);
   const re = quantity === 'eps' ? data.eps1 : data.n;
   const im = quantity === 'eps' ? data.eps2 : data.k;
   const rowCount = re.length;
@@ -56,10 +95,24 @@ export function buildProblem(table: NkTable, target: FitTarget, rangeNm?: [numbe
   if (sigma) {
     invSigma = new Float64Array(sigma.length);
     for (let i = 0; i < sigma.length; i++) invSigma[i] = 1 / sigma[i];
-  } else invSigma = relativeWeights(re, im, useRe, useIm);
+  } else invSigma = relative ? proportionalWeights(re, im, useRe, useIm) : relativeWeights(re, im, useRe, useIm);
   // the guess data carry the grid already (GuessData extends SpectralGrid)
   const grid: SpectralGrid = { wavelengthNm: data.wavelengthNm, wavelengthUm: data.wavelengthUm, energyEv: data.energyEv };
-  return { grid, data, quantity, useRe, useIm, y, invSigma, weighted: sigma !== undefined, warnings };
+  const weighting: FitWeighting = sigma ? 'sigma' : relative ? 'relative' : 'estimated';
+  return { grid, data, quantity, useRe, useIm, y, invSigma, weighted: sigma !== undefined, weighting, warnings };
+}
+
+/** 1/σ with σ = max(|value|, floor) per quantity (relative weighting; the common scale r is left to s² = χ²/ν). */
+function proportionalWeights(re: Float64Array, im: Float64Array, useRe: boolean, useIm: boolean): Float64Array {
+  const parts = [...(useRe ? [re] : []), ...(useIm ? [im] : [])];
+  const out = new Float64Array(parts.length * re.length);
+  parts.forEach((values, q) => {
+    let max = 0;
+    for (const v of values) max = Math.max(max, Math.abs(v));
+    const floor = Math.max(RELATIVE_FLOOR_FRACTION * max, RELATIVE_FLOOR_MIN);
+    for (let i = 0; i < values.length; i++) out[q * values.length + i] = 1 / Math.max(Math.abs(values[i]), floor);
+  });
+  return out;
 }
 
 /**
@@ -67,8 +120,9 @@ export function buildProblem(table: NkTable, target: FitTarget, rangeNm?: [numbe
  * first-order propagation through ε = N², common practice); undefined when a needed column is missing.
  */
 function sigmas(table: NkTable, rows: number[], quantity: ModelQuantity, n: number[], k: number[], useRe: boolean, useIm: boolean, warnings: string[]): number[] | undefined {
+  // ε1 = n² − k² needs σk only where k is given; n alone (a model with k ≡ 0) needs σn only
   const needN = quantity === 'eps' || useRe;
-  const needK = quantity === 'eps' || useIm;
+  const needK = useIm || (quantity === 'eps' && table.sigmaK !== undefined);
   const hasN = table.sigmaN !== undefined;
   const hasK = table.sigmaK !== undefined;
   if ((needN && !hasN) || (needK && !hasK)) {

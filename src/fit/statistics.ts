@@ -14,6 +14,18 @@ import { maxOf, minOf } from '../optics/extremes.ts';
 /** |r| above which a pair of parameters is flagged as highly correlated. */
 export const CORRELATION_THRESHOLD = 0.95;
 
+/**
+ * JᵀWJ is singular at the optimum: `kind` 'dead' when the model does not depend on `parameters` there,
+ * 'degenerate' when they move together (the smallest eigenvector). fit.ts words it with the context
+ * (bounds reached, vanished terms, values), which this function does not know.
+ */
+export class SingularCovariance {
+  constructor(
+    readonly kind: 'dead' | 'degenerate',
+    readonly parameters: string[],
+  ) {}
+}
+
 export interface Uncertainty {
   stderr: number[];
   correlation: number[][];
@@ -27,7 +39,7 @@ export function uncertainty(jacobian: Float64Array[], names: string[], chi2: num
   const count = jacobian.length;
   if (count === 0) return { stderr: [], correlation: [] };
   const dof = points - count;
-  if (dof <= 0) throw new InputError('too-few-points', `${points} residuals cannot determine ${count} free parameters; widen --range or --fix parameters`);
+  if (dof <= 0) throw new InputError('too-few-points', `${points} residuals cannot determine ${count} free parameters`);
   const alpha = new Matrix(count, count);
   for (let a = 0; a < count; a++) {
     for (let b = a; b < count; b++) {
@@ -41,7 +53,7 @@ export function uncertainty(jacobian: Float64Array[], names: string[], chi2: num
   }
   const d = Array.from({ length: count }, (_, a) => Math.sqrt(alpha.get(a, a)));
   const dead = names.filter((_, a) => !(d[a] > 0) || !Number.isFinite(d[a]));
-  if (dead.length > 0) throw new NumericalError(`JᵀWJ is singular: the data do not depend on ${dead.join(', ')} at the optimum; fix ${dead.length > 1 ? 'them' : 'it'} with --fix`);
+  if (dead.length > 0) throw new SingularCovariance('dead', dead);
   // unit-diagonal form, so the condition test is scale free
   const scaled = new Matrix(count, count);
   for (let a = 0; a < count; a++) for (let b = 0; b < count; b++) scaled.set(a, b, alpha.get(a, b) / (d[a] * d[b]));
@@ -51,7 +63,7 @@ export function uncertainty(jacobian: Float64Array[], names: string[], chi2: num
   if (!(values[smallest] > 1e-13 * maxOf(values))) {
     const v = eig.eigenvectorMatrix.getColumn(smallest);
     const involved = names.filter((_, a) => Math.abs(v[a]) > 0.3);
-    throw new NumericalError(`JᵀWJ is singular: ${involved.join(' and ')} cannot be determined separately by these data; fix one of them with --fix or use fewer --terms`);
+    throw new SingularCovariance('degenerate', involved);
   }
   const inv = inverse(scaled);
   const s2 = chi2 / dof;

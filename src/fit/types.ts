@@ -25,6 +25,25 @@ export interface FitOptions {
   seed?: number;
   /** Cap on Levenberg-Marquardt iterations per start. */
   maxIterations?: number;
+  /**
+   * Residual weights: 'auto' (default) uses the sigma columns when the table has them, else the n/k noise
+   * ratio estimated from the data; 'relative' takes σ ∝ |value| with a floor (noise that grows with the value).
+   */
+  weights?: 'auto' | 'relative';
+}
+
+/**
+ * A warning as data, for front doors to word (the core does not know command-line flags): `rule` names what
+ * was found, `message` says it in words, `advice` the next step in words; `option` names the fit option
+ * the next step involves (fix, bounds, init, terms, range, weights, starts), so the CLI can add its flag.
+ */
+export interface FitDiagnostic {
+  rule: string;
+  message: string;
+  advice?: string;
+  option?: 'fix' | 'bounds' | 'init' | 'terms' | 'range' | 'weights' | 'starts';
+  parameters?: string[];
+  value?: number;
 }
 
 export interface ParameterReport {
@@ -32,6 +51,7 @@ export interface ParameterReport {
   /** 1σ standard error from cov = s²(JᵀWJ)⁻¹; null for fixed parameters. */
   stderr: number | null;
   unit: string;
+  /** True when the fit ended on a bound of this parameter with the data pulling it outward: no stderr then. */
   at_bound: boolean;
 }
 
@@ -43,6 +63,10 @@ export interface FitStatistics {
   rms_k: number;
   /** χ²/(points − free parameters), only when the table gives sigmas for every fitted quantity. */
   reduced_chi2: number | null;
+  /** Survival probability of χ² under the χ² distribution with points − free degrees of freedom (sigma columns only). */
+  chi2_p?: number | null;
+  /** points − free parameters (those held at a bound do not count as free). */
+  dof?: number;
   aic: number;
   bic: number;
   iterations: number;
@@ -64,11 +88,13 @@ export interface FitReport {
   statistics: FitStatistics;
   correlations: CorrelationReport;
   warnings: string[];
+  /** The warnings as data (rule, parameters, value, the option a next step involves). */
+  diagnostics?: FitDiagnostic[];
   kk_consistent: boolean;
   /** Wavelength range of the fitted rows, nm: the model's validity range. */
   range_nm: [number, number];
   /** What rebuilds the model and says how it was fitted. */
-  options: { terms: number; urbach: boolean; target: FitTarget; weighted: boolean; fixed: string[] };
+  options: { terms: number; urbach: boolean; target: FitTarget; weighted: boolean; fixed: string[]; weights?: 'sigma' | 'relative' | 'estimated' };
   /** Multi-start summary (present when more than one start was run). */
-  multistart?: { starts: number; reached_best: number; tolerance: string };
+  multistart?: { starts: number; reached_best: number; tolerance: string; skipped?: number };
 }

@@ -54,6 +54,14 @@ export interface DispersionModel {
   options: { terms: number; urbach: boolean };
   parameters: ParameterSpec[];
   kkConsistent: boolean;
+  /** False when k ≡ 0 for every parameter value (every term non-absorbing): the fitter then fits n alone. */
+  absorbing: boolean;
+  /** Domain couplings between parameters in full parameter order: values[below] < factor·values[above]. */
+  constraints: ModelConstraint[];
+  /** Resonances in full parameter order, grouped by term (`group` = the term's name). */
+  oscillators: { group: string; strength: number; position: number }[];
+  /** The first constraint the values break, if any. */
+  violated(values: ArrayLike<number>): ModelConstraint | undefined;
   /** Validity notes and caveats, one sentence each. */
   notes: string[];
   eps(energyEv: number[], p: Record<string, number>): { eps1: number[]; eps2: number[] };
@@ -71,6 +79,15 @@ const EPS_INF: ParameterSpec = {
   bounds: [0, 50],
   guessRule: 'linear least squares of ε on eps_inf and the oscillator amplitudes',
 };
+
+/** A ParameterConstraint of a term placed in the full parameter list, with its names for messages. */
+export interface ModelConstraint {
+  below: number;
+  above: number;
+  factor: number;
+  /** e.g. "C < 2·E0" */
+  rule: string;
+}
 
 export function modelNames(): string[] {
   return MODEL_CATALOGUE.map((t) => t.name);
@@ -129,6 +146,16 @@ export function buildModel(spec: string, options: ModelOptions = {}): Dispersion
   const epsInfIndex = terms.some((t) => t.usesEpsInf) ? parameters.push(EPS_INF) - 1 : -1;
   const quantity = terms[0].quantity;
   const kkConsistent = terms.every((t) => t.kkConsistent);
+  const absorbing = terms.some((t) => t.absorbing(termOptions));
+  const constraints: ModelConstraint[] = slots.flatMap((slot) =>
+    (slot.term.constraints?.(termOptions) ?? []).map((c) => {
+      const below = slot.offset + c.below;
+      const above = slot.offset + c.above;
+      return { below, above, factor: c.factor, rule: `${parameters[below].name} < ${c.factor === 1 ? '' : `${c.factor}·`}${parameters[above].name}` };
+    }),
+  );
+  const oscillators = slots.flatMap((slot) => (slot.term.oscillators?.(termOptions) ?? []).map((o) => ({ group: slot.term.name, strength: slot.offset + o.strength, position: slot.offset + o.position })));
+  const violated = (values: ArrayLike<number>) => constraints.find((c) => !(values[c.below] < c.factor * values[c.above]));
   const notes = terms.flatMap((t) => t.validity);
 
   const all = parameters.map((_, i) => i);
@@ -231,6 +258,10 @@ export function buildModel(spec: string, options: ModelOptions = {}): Dispersion
     options: termOptions,
     parameters,
     kkConsistent,
+    absorbing,
+    constraints,
+    oscillators,
+    violated,
     notes,
     evaluate,
     guess,

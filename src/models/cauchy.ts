@@ -82,6 +82,7 @@ export const cauchy: ModelTerm = {
   summable: false,
   usesEpsInf: false,
   kkConsistent: false,
+  absorbing: (options) => options.urbach,
   validity: [
     'Cauchy is an empirical expansion for the transparent or weakly absorbing region, far from absorption bands.',
     'Cauchy n and the Urbach k are independent formulas: the model is NOT Kramers-Kronig consistent, so n and k from it need not belong to one physical material.',

@@ -53,6 +53,8 @@ export const drude: ModelTerm = {
   summable: true,
   usesEpsInf: true,
   kkConsistent: true,
+  absorbing: () => true,
+  oscillators: () => [{ strength: 0, position: 1 }],
   validity: ['Drude describes free carriers (metals, doped semiconductors, transparent conductors such as ITO); add interband terms for the visible/UV.'],
   parameters: () => PARAMETERS,
   guess: (data) => guess(data),

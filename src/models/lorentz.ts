@@ -85,6 +85,8 @@ export const lorentz: ModelTerm = {
   summable: true,
   usesEpsInf: true,
   kkConsistent: true,
+  absorbing: () => true,
+  oscillators: (options) => Array.from({ length: options.terms }, (_, j) => ({ strength: 3 * j, position: 3 * j + 1 })),
   validity: ['Lorentz oscillators suit isolated absorption bands (phonons, excitons, dyes); their absorption tails are slower than a real band edge.'],
   terms: { min: 1, max: 6, meaning: 'number of Lorentz oscillators' },
   parameters,

@@ -85,6 +85,8 @@ export const sellmeier: ModelTerm = {
   summable: false,
   usesEpsInf: false,
   kkConsistent: true,
+  absorbing: () => false,
+  oscillators: (options) => Array.from({ length: options.terms }, (_, i) => ({ strength: 1 + 2 * i, position: 2 + 2 * i })),
   validity: [
     'Sellmeier describes the transparent region only (k = 0): do not use it across an absorption band or near a resonance Cᵢ.',
   ],

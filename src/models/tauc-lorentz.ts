@@ -224,6 +224,10 @@ export const taucLorentz: ModelTerm = {
   summable: true,
   usesEpsInf: true,
   kkConsistent: true,
+  absorbing: () => true,
+  oscillators: (options) => Array.from({ length: options.terms }, (_, j) => ({ strength: 3 * j, position: 3 * j + 1 })),
+  // C < 2·E0 for every oscillator (α = √(4E0² − C²) in the closed form); parameters A, E0, C per oscillator
+  constraints: (options) => Array.from({ length: options.terms }, (_, t) => ({ below: 3 * t + 2, above: 3 * t + 1, factor: 2 })),
   validity: [
     'Tauc-Lorentz suits amorphous semiconductors and dielectrics near and above the gap; ε2 = 0 below Eg, so sub-gap (Urbach, defect) absorption is not described.',
   ],

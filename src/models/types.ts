@@ -65,6 +65,17 @@ export interface Amplitude {
   power: 1 | 2;
 }
 
+/**
+ * A domain constraint between two parameters of a term, as data: value(below) < factor·value(above),
+ * with the parameter indices term-local. Bounds are per parameter; these are the couplings bounds cannot say
+ * (Tauc-Lorentz needs C < 2·E0, else α = √(4E0² − C²) is imaginary).
+ */
+export interface ParameterConstraint {
+  below: number;
+  above: number;
+  factor: number;
+}
+
 export interface ModelTerm {
   name: string;
   summary: string;
@@ -75,6 +86,19 @@ export interface ModelTerm {
   /** Needs the constant background eps_inf (added once by the catalogue). */
   usesEpsInf: boolean;
   kkConsistent: boolean;
+  /**
+   * Whether the term can give k > 0 (ε2 > 0). A model whose every term says false (Sellmeier, Cauchy without
+   * the Urbach tail) has k ≡ 0: the fitter then leaves the k rows out, since they carry no information on
+   * its parameters and would only inflate the count of points.
+   */
+  absorbing(options: TermOptions): boolean;
+  /**
+   * The term's resonances as data (term-local indices of each one's strength and position), so the fitter can
+   * say "two terms describe one resonance" or "a term vanished" without knowing model names.
+   */
+  oscillators?(options: TermOptions): { strength: number; position: number }[];
+  /** Couplings between parameters that every start value must satisfy (see ParameterConstraint). */
+  constraints?(options: TermOptions): ParameterConstraint[];
   /** Validity notes printed in reports and help. */
   validity: string[];
   /** Accepts --terms N in [min, max]. */

@@ -21,10 +21,14 @@ export interface FitOptionText {
   free?: string[];
   starts?: string;
   seed?: string;
+  /** auto (sigma columns, else the estimated n/k noise ratio) or relative (σ ∝ |value|). */
+  weights?: string;
 }
 
+export const FIT_WEIGHTS = ['auto', 'relative'] as const;
+
 export type FitOptionName = keyof FitOptionText;
-export const FIT_OPTION_NAMES: readonly FitOptionName[] = ['terms', 'urbach', 'target', 'range', 'fix', 'init', 'bounds', 'free', 'starts', 'seed'];
+export const FIT_OPTION_NAMES: readonly FitOptionName[] = ['terms', 'urbach', 'target', 'range', 'fix', 'init', 'bounds', 'free', 'starts', 'seed', 'weights'];
 
 /** How a front door names an option in messages: `--fix` on the command line, `fix` or `range_nm` in the API. */
 export type OptionLabel = (name: FitOptionName) => string;
@@ -69,6 +73,10 @@ export function parseFitOptions(text: FitOptionText, label: OptionLabel = cliLab
   if (text.free?.length) out.free = text.free.map((p) => p.trim());
   if (text.starts !== undefined) out.starts = integer(text.starts, label('starts'), 1, 1000);
   if (text.seed !== undefined) out.seed = number(text.seed, label('seed'));
+  if (text.weights !== undefined) {
+    if (!(FIT_WEIGHTS as readonly string[]).includes(text.weights)) throw new InputError('bad-option', `${label('weights')} ${text.weights}: expected one of ${FIT_WEIGHTS.join(', ')}`);
+    out.weights = text.weights as (typeof FIT_WEIGHTS)[number];
+  }
   return out;
 }
 

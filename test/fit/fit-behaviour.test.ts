@@ -34,7 +34,9 @@ describe('fitTable options and refusals', () => {
     const r = fitTable(table, { model: 'tauc-lorentz', bounds: { Eg: [0.5, 1.5] } });
     expect(r.parameters.Eg.at_bound).toBe(true);
     expect(r.parameters.Eg.value).toBeCloseTo(1.5, 10);
-    expect(r.warnings.join(' ')).toMatch(/Eg = .* sits at its bound/);
+    expect(r.parameters.Eg.stderr).toBeNull();
+    expect(r.correlations.parameters).not.toContain('Eg');
+    expect(r.warnings.join(' ')).toMatch(/Eg ended on its upper bound 1.5 eV/);
   });
 
   it('restricts to --range and reports it as range_nm', () => {

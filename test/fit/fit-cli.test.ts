@@ -18,7 +18,7 @@ describe('nkledger fit end to end', () => {
     const r = await nkledger(['fit', 'data/marrowick/sinx-pecvd-recipe-a.csv', '--model', 'tauc-lorentz', '--json']);
     expect(r.code).toBe(0);
     const report = JSON.parse(r.stdout);
-    expect(Object.keys(report)).toEqual(['model', 'parameters', 'statistics', 'correlations', 'warnings', 'kk_consistent', 'range_nm', 'options']);
+    expect(Object.keys(report)).toEqual(['model', 'parameters', 'statistics', 'correlations', 'warnings', 'diagnostics', 'kk_consistent', 'range_nm', 'options']);
     expect(Object.keys(report.parameters)).toEqual(['A', 'E0', 'C', 'Eg', 'eps_inf']);
     expect(Object.keys(report.parameters.Eg)).toEqual(['value', 'stderr', 'unit', 'at_bound']);
     expect(Object.keys(report.statistics)).toEqual(['points', 'rms_n', 'rms_k', 'reduced_chi2', 'aic', 'bic', 'iterations']);

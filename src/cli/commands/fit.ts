@@ -9,7 +9,7 @@ import { compareModels, type ComparisonReport } from '../../fit/compare.ts';
 import { fitTable } from '../../fit/fit.ts';
 import { fitOptionsForAbsentK, NO_K_COLUMN } from '../../service/absent-k.ts';
 import { fitPlotSpec } from '../../fit/fit-plot.ts';
-import type { FitReport, FitTarget } from '../../fit/types.ts';
+import type { FitDiagnostic, FitReport, FitTarget } from '../../fit/types.ts';
 import { buildModel, MODEL_CATALOGUE } from '../../models/catalogue.ts';
 import { renderSpectrumPlot } from '../../plot/spectrum-plot.ts';
 import { parseFitOptions, type FitOptionText } from '../../service/fit-options.ts';
@@ -36,7 +36,7 @@ export function fitLines(source: string, r: FitReport): string[] {
   const s = r.statistics;
   const lines = [
     `${r.model} fit of ${source}: ${g(r.range_nm[0])}–${g(r.range_nm[1])} nm, ${TARGET_TEXT[r.options.target]}, ${s.points} residuals, ` +
-      (r.options.weighted ? 'weighted by the sigma columns' : 'no sigma columns (k weighted by the n/k noise ratio estimated from the data)'),
+      (r.options.weighted ? 'weighted by the sigma columns' : r.options.weights === 'relative' ? 'weighted relative to the values (σ ∝ |value|)' : 'no sigma columns (k weighted by the n/k noise ratio estimated from the data)'),
     '',
     ...formatTable(
       ['parameter', 'value', '± 1σ', 'unit', 'note'],
@@ -45,16 +45,36 @@ export function fitLines(source: string, r: FitReport): string[] {
         g(p.value),
         p.stderr === null ? '' : g(p.stderr, 2),
         p.unit === '1' ? '' : p.unit,
-        p.stderr === null ? 'fixed' : p.at_bound ? 'AT BOUND' : '',
+        p.at_bound ? 'at bound' : p.stderr === null ? 'fixed' : '',
       ]),
     ),
     '',
-    `rms n ${g(s.rms_n, 3)}   rms k ${g(s.rms_k, 3)}   reduced χ² ${s.reduced_chi2 === null ? '— (no sigmas)' : g(s.reduced_chi2, 4)}   AIC ${g(s.aic, 6)}   BIC ${g(s.bic, 6)}   iterations ${s.iterations}`,
+    `rms n ${g(s.rms_n, 3)}   rms k ${g(s.rms_k, 3)}   reduced χ² ${s.reduced_chi2 === null ? '— (no sigmas)' : `${g(s.reduced_chi2, 4)} (p = ${s.chi2_p == null ? '—' : s.chi2_p.toPrecision(2)})`}   AIC ${g(s.aic, 6)}   BIC ${g(s.bic, 6)}   iterations ${s.iterations}`,
     `Kramers-Kronig consistent: ${r.kk_consistent ? 'yes' : 'NO'}`,
   ];
-  if (r.multistart) lines.push(`multi-start: ${r.multistart.reached_best} of ${r.multistart.starts} starts reached the best minimum (${r.multistart.tolerance})`);
+  if (r.multistart) {
+    const skipped = r.multistart.skipped ? `; ${r.multistart.skipped} skipped: no start inside the model's domain or a model not finite there` : '';
+    lines.push(`multi-start: ${r.multistart.reached_best} of ${r.multistart.starts} starts reached the best minimum (${r.multistart.tolerance})${skipped}`);
+  }
   if (r.correlations.high.length) lines.push(`correlated pairs (|r| > ${r.correlations.threshold}): ${r.correlations.high.map((h) => `${h.a}/${h.b} ${h.r.toFixed(3)}`).join(', ')}`);
   return lines;
+}
+
+/** The flags a next step involves, by the option the core names in a diagnostic. */
+const OPTION_FLAGS: Record<NonNullable<FitDiagnostic['option']>, string> = {
+  fix: '--fix P=V',
+  bounds: '--bounds P=LO:HI or --fix P=V',
+  init: '--init P=V',
+  terms: '--terms N or --fix P=V',
+  range: '--range MIN:MAX',
+  weights: '--weights relative',
+  starts: '--init P=V or --starts N',
+};
+
+/** Warnings as the CLI words them: the core's message and advice, and the flags that carry the advice out. */
+export function fitWarningLines(r: FitReport): string[] {
+  if (!r.diagnostics) return r.warnings;
+  return r.diagnostics.map((d) => (d.advice ? `${d.message}; ${d.advice}${d.option ? ` (${OPTION_FLAGS[d.option]})` : ''}` : d.message));
 }
 
 export function compareLines(source: string, c: ComparisonReport): string[] {
@@ -70,7 +90,7 @@ export function compareLines(source: string, c: ComparisonReport): string[] {
     m.kk_consistent ? 'yes' : 'NO',
   ]);
   const lines = [`model comparison on ${source} (lower AIC/BIC is better; Δ relative to the best)`, '', ...formatTable(['model', 'free', 'rms n', 'rms k', 'AIC', 'ΔAIC', 'BIC', 'ΔBIC', 'KK'], rows), ''];
-  lines.push(`best by AIC: ${c.best_aic ?? '—'}; best by BIC: ${c.best_bic ?? '—'}`, '', 'caveats beside these numbers:');
+  lines.push(`best by AIC: ${c.best_aic ?? '—'}; best by BIC: ${c.best_bic ?? '—'} (within ΔBIC < 2 the one with fewer parameters)`, '', 'caveats beside these numbers:');
   for (const m of c.models) {
     if (m.error) lines.push(`  ${m.model}: fit failed: ${m.error}`);
     for (const note of m.caveats) lines.push(`  ${m.model}: ${note}`);
@@ -143,7 +163,7 @@ export function register(program: Command): void {
         if (opts.json) printJson(notices.length ? { ...report, notices } : report);
         else {
           printLines(fitLines(label, report));
-          printWarnings(report.warnings);
+          printWarnings(fitWarningLines(report));
           for (const note of buildModel(report.model, report.options).notes) cliIo().stderr.write(`note: ${note}\n`);
         }
       }),
