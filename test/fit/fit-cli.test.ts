@@ -21,7 +21,7 @@ describe('nkledger fit end to end', () => {
     expect(Object.keys(report)).toEqual(['model', 'parameters', 'statistics', 'correlations', 'warnings', 'diagnostics', 'kk_consistent', 'range_nm', 'options']);
     expect(Object.keys(report.parameters)).toEqual(['A', 'E0', 'C', 'Eg', 'eps_inf']);
     expect(Object.keys(report.parameters.Eg)).toEqual(['value', 'stderr', 'unit', 'at_bound']);
-    expect(Object.keys(report.statistics)).toEqual(['points', 'rms_n', 'rms_k', 'reduced_chi2', 'aic', 'bic', 'iterations']);
+    expect(Object.keys(report.statistics)).toEqual(['points', 'rms_n', 'rms_k', 'reduced_chi2', 'chi2_p', 'dof', 'aic', 'bic', 'iterations']);
     expect(report.parameters.Eg.unit).toBe('eV');
     expect(report.statistics.reduced_chi2).toBeGreaterThan(0.3); // the file has sigma columns
   });
