@@ -7,7 +7,7 @@ import { InputError, NumericalError } from '../errors.ts';
 import { buildModel, type DispersionModel } from '../models/catalogue.ts';
 import type { NkTable } from '../table.ts';
 import { minimizeWithBounds, type LmResult } from './lm.ts';
-import { buildProblem, whitenedModel, type FitProblem } from './problem.ts';
+import { buildProblem, noiseFromSecondDifferences, whitenedModel, type FitProblem } from './problem.ts';
 import { CORRELATION_THRESHOLD, informationCriteria, rms, SingularCovariance, uncertainty } from './statistics.ts';
 import { breuschPagan, chi2Survival, runsTest } from './tests.ts';
 import type { FitDiagnostic, FitOptions, FitReport, ParameterReport } from './types.ts';
@@ -331,8 +331,15 @@ function residualTests(problem: FitProblem, residuals: Float64Array, nk: { re: F
   const eps = problem.quantity === 'eps';
   if (problem.useRe) parts.push([eps ? 'ε1' : 'n', eps ? problem.data.eps1 : problem.data.n]);
   if (problem.useIm) parts.push([eps ? 'ε2' : 'k', eps ? problem.data.eps2 : problem.data.k]);
-  parts.forEach(([name, values], q) => {
-    const r = residuals.subarray(q * rows, (q + 1) * rows);
+  parts.forEach(([name, all], q) => {
+    // k (ε2) rows within 3σ of zero are left out: import clips small negative k to 0, which makes the residuals
+    // there one-sided and their scatter small without saying anything about the model
+    const real = q === 0 && problem.useRe;
+    const floor = real ? -Infinity : 3 * noiseFromSecondDifferences(all);
+    const keep: number[] = [];
+    for (let i = 0; i < rows; i++) if (real || all[i] > floor) keep.push(i);
+    const r = Float64Array.from(keep, (i) => residuals[q * rows + i]);
+    const values = Float64Array.from(keep, (i) => all[i]);
     const runs = runsTest(r);
     if (runs && runs.p < TEST_LEVEL) {
       out.push({
@@ -353,7 +360,6 @@ function residualTests(problem: FitProblem, residuals: Float64Array, nk: { re: F
       });
     }
   });
-  void nk;
   return out;
 }
 

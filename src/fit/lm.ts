@@ -334,7 +334,7 @@ export function minimize(problem: FitProblem, model: DispersionModel, start: Flo
       );
     } catch (err) {
       if (!(err instanceof StopChunk)) {
-        throw new NumericalError(`the Levenberg-Marquardt step failed (${err instanceof Error ? err.message : String(err)}); try --init closer to the data, --fix a parameter or a narrower --range`);
+        throw new NumericalError(`the Levenberg-Marquardt step failed (${err instanceof Error ? err.message : String(err)}); give start values closer to the data or fix a parameter at a known value`);
       }
       reason = err.reason;
     }

@@ -80,7 +80,11 @@ export interface RunsTest {
   p: number;
 }
 
-/** Wald–Wolfowitz runs test on the signs of `r` (zeros skipped); null when either sign has fewer than 2 members. */
+/**
+ * Wald–Wolfowitz runs test on the signs of `r` (zeros skipped); null when either sign has fewer than
+ * RUNS_MIN_SIGNS members, below which the normal approximation of the run count is poor (common practice).
+ */
+export const RUNS_MIN_SIGNS = 10;
 export function runsTest(r: ArrayLike<number>): RunsTest | null {
   let plus = 0;
   let minus = 0;
@@ -95,7 +99,7 @@ export function runsTest(r: ArrayLike<number>): RunsTest | null {
     last = s;
   }
   const n = plus + minus;
-  if (plus < 2 || minus < 2) return null;
+  if (plus < RUNS_MIN_SIGNS || minus < RUNS_MIN_SIGNS) return null;
   const expected = (2 * plus * minus) / n + 1;
   const variance = (2 * plus * minus * (2 * plus * minus - n)) / (n * n * (n - 1));
   const z = (runs - expected) / Math.sqrt(variance);
