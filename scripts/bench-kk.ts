@@ -5,6 +5,9 @@
  * Input: the exact two-Lorentz pair of the tests (one oscillator inside, one above 300–1200 nm),
  * sampled at N evenly spaced wavelengths. Each size is run REPEATS times after one warm-up run; the
  * median is reported. Growth exponent: least-squares slope of log(time) against log(N).
+ * Then the sharp case: 20,000 points over 1–5 eV of the exact Lorentz sum of scripts/make-kk-sharp-cases.py
+ * with Γ = 0.03 eV peaks (goal ≤ 1.2 s on the development machine).
+ * `npx tsx scripts/bench-kk.ts sharp` runs the sharp case only.
  */
 import { checkKramersKronig } from '../src/kk/check.ts';
 import { nkFromEps } from '../src/optics/permittivity.ts';
@@ -42,6 +45,55 @@ function lorentzTable(points: number): NkTable {
 }
 
 const median = (v: number[]) => [...v].sort((a, b) => a - b)[v.length >> 1];
+
+/** The sharp-peak table: ε∞ 1.5 + (7.5Γ, 2.5, Γ) + (18.9Γ, 4.2, Γ) + (40, 8, 1.5), Γ = 0.03 eV, 1–5 eV evenly in energy. */
+function sharpTable(points: number, gamma = 0.03): NkTable {
+  const oscillators: [number, number, number][] = [
+    [3 * gamma * 2.5, 2.5, gamma],
+    [4.5 * gamma * 4.2, 4.2, gamma],
+    [40, 8, 1.5],
+  ];
+  const table: NkTable = { wavelengthNm: [], n: [], k: [] };
+  for (let i = 0; i < points; i++) {
+    const e = 5 - (4 * i) / (points - 1);
+    let eps1 = 1.5;
+    let eps2 = 0;
+    for (const [a, e0, g] of oscillators) {
+      const re = e0 * e0 - e * e;
+      const den = re * re + g * g * e * e;
+      eps1 += (a * re) / den;
+      eps2 += (a * g * e) / den;
+    }
+    const nk = nkFromEps(eps1, eps2);
+    table.wavelengthNm.push(1239.841984 / e);
+    table.n.push(nk.n);
+    table.k.push(nk.k);
+  }
+  return table;
+}
+
+function sharpCase(): void {
+  const table = sharpTable(20000);
+  checkKramersKronig(sharpTable(667));
+  const times: number[] = [];
+  const cpu: number[] = [];
+  let verdict = '';
+  for (let r = 0; r < REPEATS; r++) {
+    const start = performance.now();
+    const used = process.cpuUsage();
+    verdict = checkKramersKronig(table).verdict;
+    times.push(performance.now() - start);
+    const d = process.cpuUsage(used);
+    cpu.push((d.user + d.system) / 1000);
+  }
+  // CPU time beside wall time: on a shared machine the wall time also counts waiting for a core
+  console.log(`\nsharp peaks (Γ = 0.03 eV), 20000 points over 1–5 eV: median ${median(times).toFixed(1)} ms wall, ${median(cpu).toFixed(1)} ms CPU (goal ≤ 1200 ms), verdict ${verdict}`);
+}
+
+if (process.argv[2] === 'sharp') {
+  sharpCase();
+  process.exit(0);
+}
 checkKramersKronig(lorentzTable(500));
 const rows: [number, number, string][] = [];
 for (const size of SIZES) {
@@ -64,3 +116,4 @@ console.log('| points | median time (ms) | verdict |');
 console.log('| ---: | ---: | --- |');
 for (const [size, ms, verdict] of rows) console.log(`| ${size} | ${ms.toFixed(1)} | ${verdict} |`);
 console.log(`\ngrowth exponent (time ∝ N^p): p = ${slope.toFixed(2)}; node ${process.version}`);
+sharpCase();

@@ -13,6 +13,53 @@
 import { poleEps1, xLogAbs } from './transform.ts';
 
 const GROWTH = 1.6;
+/** A peak narrower than this many knot spacings (FWHM) gets oscillator columns. */
+const SHARP_SPACINGS = 4;
+/** Oscillator columns per sharp peak: centres E_peak + offset·FWHM, widths factor·FWHM. */
+const CENTRE_OFFSETS = [-0.2, 0, 0.2];
+const WIDTH_FACTORS = [0.7, 1, 1.4];
+/** At most this many sharp peaks get columns (the most prominent first). */
+const MAX_SHARP_PEAKS = 6;
+
+/**
+ * Narrow ε2 peaks of the data → oscillator columns. A peak is a local maximum whose prominence above the
+ * higher of its two flanking minima exceeds `minProminence` (10× the ε2 noise), with a full width at half
+ * that prominence narrower than SHARP_SPACINGS knot spacings but at least 3 sample spacings (a narrower
+ * one is not resolved by the data). Each gets a small grid of unit Lorentz columns around its position
+ * and width; NNLS combines them (and the triangles) with non-negative weights, so the representation
+ * stays causal by construction.
+ */
+export function sharpPeakColumns(energyEv: ArrayLike<number>, eps2: ArrayLike<number>, spacingEv: number, minProminence: number): { e0: number; gamma: number }[] {
+  const order = Array.from({ length: energyEv.length }, (_, i) => i).sort((a, b) => energyEv[a] - energyEv[b]);
+  const e = order.map((i) => energyEv[i]);
+  const y = order.map((i) => eps2[i]);
+  const peaks: { e0: number; fwhm: number; prominence: number }[] = [];
+  for (let i = 1; i < y.length - 1; i++) {
+    if (!(y[i] > y[i - 1] && y[i] >= y[i + 1])) continue;
+    let l = i;
+    while (l > 0 && y[l - 1] <= y[l]) l--;
+    let r = i;
+    while (r < y.length - 1 && y[r + 1] <= y[r]) r++;
+    const base = Math.max(y[l], y[r]);
+    const prominence = y[i] - base;
+    if (!(prominence > minProminence)) continue;
+    const half = base + prominence / 2;
+    let a = i;
+    while (a > l && y[a - 1] > half) a--;
+    let b = i;
+    while (b < r && y[b + 1] > half) b++;
+    if (a === l || b === r) continue; // half level not reached on one side: not a resolved peak
+    const left = e[a - 1] + ((half - y[a - 1]) / (y[a] - y[a - 1])) * (e[a] - e[a - 1]);
+    const right = e[b] + ((y[b] - half) / (y[b] - y[b + 1])) * (e[b + 1] - e[b]);
+    const fwhm = right - left;
+    const sample = (e[r] - e[l]) / Math.max(1, r - l);
+    if (fwhm < SHARP_SPACINGS * spacingEv && fwhm >= 3 * sample) peaks.push({ e0: e[i], fwhm, prominence });
+  }
+  peaks.sort((p, q) => q.prominence - p.prominence);
+  return peaks.slice(0, MAX_SHARP_PEAKS).flatMap(({ e0, fwhm }) =>
+    CENTRE_OFFSETS.flatMap((o) => WIDTH_FACTORS.map((f) => ({ e0: e0 + o * fwhm, gamma: f * fwhm }))),
+  );
+}
 const EDGE_INTERVALS = 2;
 
 export interface KkBasis {
@@ -22,14 +69,19 @@ export interface KkBasis {
   triangleCount: number;
   /** Pole energies in eV (0 = Drude-like −1/E² term). */
   polesEv: number[];
-  /** Columns: triangles, then poles, then the constant ε∞ (free sign). */
+  /**
+   * Lorentz oscillator columns 1/(E0² − E² − iΓE) (an exact KK pair, textbook) placed at narrow ε2 peaks
+   * of the data (sharpPeakColumns), which triangles on the window's knot spacing cannot follow.
+   */
+  oscillators: { e0: number; gamma: number }[];
+  /** Columns: triangles, then poles, then oscillators, then the constant ε∞ (free sign). */
   columnCount: number;
   /** Knot spacing inside the window, eV. */
   spacingEv: number;
 }
 
 /** Lay out knots and poles for data spanning [minEv, maxEv] with `intervals` knot intervals inside it. */
-export function makeKkBasis(minEv: number, maxEv: number, intervals: number): KkBasis {
+export function makeKkBasis(minEv: number, maxEv: number, intervals: number, oscillators: { e0: number; gamma: number }[] = []): KkBasis {
   const span = maxEv - minEv;
   const h = span / intervals;
   const knots: number[] = [];
@@ -49,7 +101,7 @@ export function makeKkBasis(minEv: number, maxEv: number, intervals: number): Kk
   }
   const triangleCount = knots.length - 2;
   const polesEv = [0, 2 * knots[knots.length - 1]];
-  return { knotsEv: knots, triangleCount, polesEv, columnCount: triangleCount + polesEv.length + 1, spacingEv: h };
+  return { knotsEv: knots, triangleCount, polesEv, oscillators, columnCount: triangleCount + polesEv.length + oscillators.length + 1, spacingEv: h };
 }
 
 /**
@@ -73,6 +125,15 @@ export function fillBasisRows(basis: KkBasis, energyEv: number, row1: Float64Arr
     // Loss-free pole ε1 = A/(Ep² − E²) with A ≥ 0: negative above the low pole, positive below the high one.
     row1[basis.triangleCount + i] = poleEps1(pole, energyEv);
     row2[basis.triangleCount + i] = 0;
+  });
+  const first = basis.triangleCount + basis.polesEv.length;
+  basis.oscillators.forEach(({ e0, gamma }, i) => {
+    // 1/(E0² − E² − iΓE) = (E0² − E² + iΓE)/((E0² − E²)² + Γ²E²)
+    const re = e0 * e0 - energyEv * energyEv;
+    const im = gamma * energyEv;
+    const den = re * re + im * im;
+    row1[first + i] = re / den;
+    row2[first + i] = im / den;
   });
   row1[basis.columnCount - 1] = 1;
   row2[basis.columnCount - 1] = 0;

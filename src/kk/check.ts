@@ -30,6 +30,30 @@ export const KK_DEFAULTS = { tolerance: 0.005, eps2Weight: 4, smoothing: 0, maxI
 
 /** Above this many σ/√m a smoothed misfit is not noise (max of ~100 Gaussian window means stays below ~3.5σ). */
 const NOISE_ALLOWANCE_SIGMAS = 4;
+/** Half-width, in knot spacings, of the window over which the local swing of the averaged Δn is taken. */
+const SWING_SPACINGS = 3;
+
+/** max − min of `values` over the points within ±halfWidthEv of each point (energies in any order). */
+function localSwing(energyEv: ArrayLike<number>, values: ArrayLike<number>, halfWidthEv: number): number[] {
+  const order = Array.from({ length: values.length }, (_, i) => i).sort((a, b) => energyEv[a] - energyEv[b]);
+  const out: number[] = new Array(values.length).fill(0);
+  let lo = 0;
+  let hi = 0;
+  for (let r = 0; r < order.length; r++) {
+    const e = energyEv[order[r]];
+    while (energyEv[order[lo]] < e - halfWidthEv) lo++;
+    while (hi < order.length && energyEv[order[hi]] <= e + halfWidthEv) hi++;
+    let min = Infinity;
+    let max = -Infinity;
+    for (let j = lo; j < hi; j++) {
+      const v = values[order[j]];
+      if (v < min) min = v;
+      if (v > max) max = v;
+    }
+    out[order[r]] = max - min;
+  }
+  return out;
+}
 
 export interface KkBandReport {
   band: string;
@@ -53,6 +77,12 @@ export interface KkReport {
   /** Δn averaged over ±one knot spacing (noise removed), its max, where, and the point-to-point noise of Δn. */
   systematic_max_dn: number;
   systematic_worst_nm: number;
+  /**
+   * Largest local swing of the averaged Δn (max − min within ±SWING_SPACINGS knot spacings) and where: a
+   * step in n leaves a causal fit ±half the step on either side, so the swing, not the level, shows it.
+   */
+  systematic_swing_dn: number;
+  systematic_swing_nm: number;
   noise_dn: number;
   /** How far ε2 (and k) had to move to be explained together with ε1. */
   rms_deps2: number;
@@ -141,7 +171,10 @@ export function checkKramersKronig(table: NkTable, options: KkOptions = {}): KkR
   const noise = differenceNoise(dn);
   const smoothed = movingAverage(energyEv, dn, fit.basis.spacingEv);
   const beyondNoise = smoothed.mean.map((m, i) => Math.abs(m) - (NOISE_ALLOWANCE_SIGMAS * noise) / Math.sqrt(smoothed.count[i]));
-  const flagged = beyondNoise.some((excess) => excess > tolerance);
+  const swing = localSwing(energyEv, smoothed.mean, SWING_SPACINGS * fit.basis.spacingEv);
+  const swingBeyondNoise = swing.map((s, i) => s - (2 * NOISE_ALLOWANCE_SIGMAS * noise) / Math.sqrt(smoothed.count[i]));
+  const flagged = beyondNoise.some((excess) => excess > tolerance) || swingBeyondNoise.some((excess) => excess > tolerance);
+  const swingWorst = argMaxAbs(swing);
   const worst = argMaxAbs(dn);
   const sysWorst = argMaxAbs(smoothed.mean);
   const maxK = maxOf(table.k);
@@ -174,6 +207,8 @@ export function checkKramersKronig(table: NkTable, options: KkOptions = {}): KkR
     worst_nm: wl[worst],
     systematic_max_dn: Math.abs(smoothed.mean[sysWorst]),
     systematic_worst_nm: wl[sysWorst],
+    systematic_swing_dn: swing[swingWorst],
+    systematic_swing_nm: wl[swingWorst],
     noise_dn: noise,
     rms_deps2: rms(deps2),
     max_deps2: Math.abs(deps2[argMaxAbs(deps2)]),
@@ -210,7 +245,10 @@ const fmt = (v: number) => v.toExponential(1);
 
 function summarize(r: KkReport, kNegligible: number): string {
   if (r.verdict === 'inconsistent') {
-    return `n is not what k implies: the systematic misfit reaches ${fmt(r.systematic_max_dn)} in n near ${r.systematic_worst_nm.toFixed(1)} nm, above the tolerance ${r.tolerance} plus the noise allowance.`;
+    const swing = r.systematic_swing_dn > r.systematic_max_dn;
+    return swing
+      ? `n is not what k implies: the systematic misfit in n swings by ${fmt(r.systematic_swing_dn)} near ${r.systematic_swing_nm.toFixed(1)} nm (a step or wiggle that no causal ε explains), above the tolerance ${r.tolerance} plus the noise allowance.`
+      : `n is not what k implies: the systematic misfit reaches ${fmt(r.systematic_max_dn)} in n near ${r.systematic_worst_nm.toFixed(1)} nm, above the tolerance ${r.tolerance} plus the noise allowance.`;
   }
   if (r.verdict === 'uninformative') {
     return `k stays below ${kNegligible} everywhere (max ${fmt(r.max_k)}): with no absorption inside the window, any n that rises smoothly with photon energy is consistent with absorption outside it, so this check cannot confirm or refute n.`;

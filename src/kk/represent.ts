@@ -8,7 +8,8 @@
  * common practice) is expressed relative to the mean diagonal of the triangle block, so it does not depend
  * on the units or the number of points.
  */
-import { makeKkBasis, fillBasisRows, type KkBasis } from './basis.ts';
+import { makeKkBasis, fillBasisRows, sharpPeakColumns, type KkBasis } from './basis.ts';
+import { differenceNoise } from './residuals.ts';
 import { nnlsNormal } from './nnls.ts';
 import { maxOf, minOf } from '../optics/extremes.ts';
 
@@ -48,7 +49,10 @@ export function fitKkRepresentation(input: KkFitInput, options: KkFitOptions): K
   const count = input.energyEv.length;
   const minEv = minOf(input.energyEv);
   const maxEv = maxOf(input.energyEv);
-  const basis = makeKkBasis(minEv, maxEv, options.intervals);
+  const spacing = (maxEv - minEv) / options.intervals;
+  const basis = makeKkBasis(minEv, maxEv, options.intervals, sharpPeakColumns(input.energyEv, input.eps2, spacing, 10 * differenceNoise(input.eps2)));
+  const firstOscillator = basis.triangleCount + basis.polesEv.length;
+  const nonZero = new Int32Array(2 + basis.oscillators.length);
   const size = basis.columnCount;
   const row1 = new Float64Array(size);
   const row2 = new Float64Array(size);
@@ -68,13 +72,16 @@ export function fitKkRepresentation(input: KkFitInput, options: KkFitOptions): K
       fillBasisRows(basis, input.energyEv[i], row1, row2, scratch);
       const w1 = input.weight1[i];
       for (let p = 0; p < size; p++) block[p * BLOCK + b] = w1 * row1[p];
-      // ε2 rows are sparse: only the two triangles around Eᵢ are non-zero.
+      // ε2 rows are sparse: only the two triangles around Eᵢ and the oscillator columns are non-zero.
       const w2 = input.weight2[i] * input.weight2[i];
-      for (let p = 0; p < basis.triangleCount; p++) {
+      let m = 0;
+      for (let p = 0; p < basis.triangleCount; p++) if (row2[p] !== 0) nonZero[m++] = p;
+      for (let o = 0; o < basis.oscillators.length; o++) nonZero[m++] = firstOscillator + o;
+      for (let x = 0; x < m; x++) {
+        const p = nonZero[x];
         const a = w2 * row2[p];
-        if (a === 0) continue;
         rhs[p] += a * input.eps2[i];
-        for (let q = p; q < basis.triangleCount; q++) gram[p * size + q] += a * row2[q];
+        for (let z = x; z < m; z++) gram[p * size + nonZero[z]] += a * row2[nonZero[z]];
       }
     }
     for (let b = 0; b < length; b++) yBlock[b] = input.weight1[start + b] * input.eps1[start + b];
