@@ -11,6 +11,12 @@ export interface NkTable {
   sigmaN?: number[];
   /** 1σ uncertainty of k per row, when the source gave one. */
   sigmaK?: number[];
+  /**
+   * 1σ of ε1 and ε2 per row, when the source gave ε with its own sigma columns (sigmaN/sigmaK are then their
+   * linear propagation). A fit of ε1, ε2 uses these directly: converting σε → σn,σk → σε distorts them.
+   */
+  sigmaEps1?: number[];
+  sigmaEps2?: number[];
 }
 
 /** [min, max] wavelength of a table in nm. */

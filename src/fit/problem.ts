@@ -120,6 +120,7 @@ function proportionalWeights(re: Float64Array, im: Float64Array, useRe: boolean,
  * first-order propagation through ε = N², common practice); undefined when a needed column is missing.
  */
 function sigmas(table: NkTable, rows: number[], quantity: ModelQuantity, n: number[], k: number[], useRe: boolean, useIm: boolean, warnings: string[]): number[] | undefined {
+  if (quantity === 'eps' && table.sigmaEps1 && table.sigmaEps2) return epsSigmas(table, rows, useRe, useIm);
   // ε1 = n² − k² needs σk only where k is given; n alone (a model with k ≡ 0) needs σn only
   const needN = quantity === 'eps' || useRe;
   const needK = useIm || (quantity === 'eps' && table.sigmaK !== undefined);
@@ -146,6 +147,20 @@ function sigmas(table: NkTable, rows: number[], quantity: ModelQuantity, n: numb
     const d = 2 * n[j] * sk;
     if (useRe) out[j] = quantity === 'eps' ? Math.sqrt(a * a + b * b) : sn;
     if (useIm) out[imAt + j] = quantity === 'eps' ? Math.sqrt(c * c + d * d) : sk;
+  }
+  return out;
+}
+
+/** σε1, σε2 as the table gave them (a source in ε with its own sigma columns), for an ε fit. */
+function epsSigmas(table: NkTable, rows: number[], useRe: boolean, useIm: boolean): number[] {
+  const parts = [...(useRe ? [table.sigmaEps1!] : []), ...(useIm ? [table.sigmaEps2!] : [])];
+  const out: number[] = [];
+  for (const column of parts) {
+    for (const row of rows) {
+      const s = column[row];
+      if (!(s > 0)) throw new InputError('bad-sigma', `sigma must be positive to weight a fit, got sigma_eps1=${table.sigmaEps1![row]}, sigma_eps2=${table.sigmaEps2![row]} at ${table.wavelengthNm[row]} nm (row ${row + 1} of the table)`);
+      out.push(s);
+    }
   }
   return out;
 }

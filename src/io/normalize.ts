@@ -31,6 +31,8 @@ interface Point {
   k: number;
   sigmaN?: number;
   sigmaK?: number;
+  sigmaEps1?: number;
+  sigmaEps2?: number;
   raw: Partial<Record<ColumnRole, number>>;
 }
 
@@ -69,6 +71,10 @@ export function normalizeRows(rows: ParsedRow[], ctx: NormalizeContext): { table
   const table: NkTable = { wavelengthNm: merged.map((p) => p.wavelengthNm), n: merged.map((p) => p.n), k: merged.map((p) => p.k) };
   if (merged.every((p) => p.sigmaN !== undefined)) table.sigmaN = merged.map((p) => p.sigmaN as number);
   if (merged.every((p) => p.sigmaK !== undefined)) table.sigmaK = merged.map((p) => p.sigmaK as number);
+  if (merged.every((p) => p.sigmaEps1 !== undefined && p.sigmaEps2 !== undefined)) {
+    table.sigmaEps1 = merged.map((p) => p.sigmaEps1 as number);
+    table.sigmaEps2 = merged.map((p) => p.sigmaEps2 as number);
+  }
   return { table, warnings };
 }
 
@@ -112,7 +118,8 @@ function toPoint(row: ParsedRow, ctx: NormalizeContext): Point {
       { remedies: [{ option: 'k_tolerance', value: String(+(-k * 1.5).toPrecision(1)) }] },
     );
   }
-  return { line: row.line, x, wavelengthNm, n, k, sigmaN, sigmaK, raw: v };
+  const epsSigmas = ctx.quantity === 'eps' && v.sigma_eps1 !== undefined && v.sigma_eps2 !== undefined ? { sigmaEps1: v.sigma_eps1, sigmaEps2: v.sigma_eps2 } : {};
+  return { line: row.line, x, wavelengthNm, n, k, sigmaN, sigmaK, ...epsSigmas, raw: v };
 }
 
 /**

@@ -177,3 +177,22 @@ describe('goodness-of-fit warnings', () => {
     expect(d?.option).toBe('terms');
   });
 });
+
+describe('ε fits use the file’s σε directly', () => {
+  it('an ε table with sigma_eps1/sigma_eps2 weights ε1, ε2 by exactly those sigmas', async () => {
+    const { parseNkTable } = await import('../../src/io/parse-table.ts');
+    const { buildProblem } = await import('../../src/fit/problem.ts');
+    const e = Array.from({ length: 80 }, (_, i) => 1.5 + i * 0.04);
+    const eps = buildModel('tauc-lorentz').eps(e, TL);
+    const text = 'energy_eV,eps1,eps2,sigma_eps1,sigma_eps2\n' + e.map((x, i) => `${x},${eps.eps1[i]},${eps.eps2[i]},${0.01 + 0.001 * i},0.02`).join('\n') + '\n';
+    const { table } = parseNkTable(text, { file: 'eps.csv' });
+    expect(table.sigmaEps1).toBeDefined();
+    const problem = buildProblem(table, 'eps');
+    const rows = table.wavelengthNm.length;
+    // rows are in ascending wavelength, i.e. descending energy: row j is energy index rows − 1 − j
+    for (let j = 0; j < rows; j++) {
+      expect(1 / problem.invSigma[j]).toBeCloseTo(0.01 + 0.001 * (rows - 1 - j), 12);
+      expect(1 / problem.invSigma[rows + j]).toBeCloseTo(0.02, 12);
+    }
+  });
+});
