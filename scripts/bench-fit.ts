@@ -13,6 +13,7 @@ import { fileURLToPath } from 'node:url';
 import { fitTable, prepareFit, reportFit, solveFit } from '../src/fit/fit.ts';
 import type { FitOptions } from '../src/fit/types.ts';
 import { buildModel } from '../src/models/catalogue.ts';
+import { seededNormal } from '../src/fit/random.ts';
 import type { NkTable } from '../src/table.ts';
 
 /** Rounds alternate between the two sides (a round = REPEATS_PER_ROUND fits of one case), so load from other jobs on a shared machine hits both alike. */
@@ -21,18 +22,8 @@ const REPEATS_PER_ROUND = 5;
 /** Untimed fits per side and case before the first round (JIT / import warm-up). */
 const WARMUP = 5;
 
-/** Gaussian deviates from a seeded generator (mulberry32 + Box-Muller), so both sides see identical data. */
-function gaussian(seed: number): () => number {
-  let a = seed >>> 0;
-  const uniform = () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return (((t ^ (t >>> 14)) >>> 0) + 0.5) / 4294967296;
-  };
-  return () => Math.sqrt(-2 * Math.log(uniform())) * Math.cos(2 * Math.PI * uniform());
-}
+/** Gaussian deviates from a seeded generator, so both sides see identical data. */
+const gaussian = seededNormal;
 
 interface Case {
   name: string;

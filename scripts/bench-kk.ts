@@ -22,14 +22,14 @@ const OSCILLATORS: [number, number, number][] = [
   [60.0, 7.0, 1.2],
 ];
 
-function lorentzTable(points: number): NkTable {
-  const table: NkTable = { wavelengthNm: [], n: [], k: [] };
-  for (let i = 0; i < points; i++) {
-    const wl = 300 + (900 * i) / (points - 1);
+/** A table of ε∞ + Σ A/(E0² − E² − iΓE) (an exact KK pair) at the given wavelengths. */
+function lorentzSum(wavelengthNm: number[], epsInf: number, oscillators: [number, number, number][]): NkTable {
+  const table: NkTable = { wavelengthNm, n: [], k: [] };
+  for (const wl of wavelengthNm) {
     const e = photonEnergyEvFromWavelengthNm(wl);
-    let eps1 = 1.2;
+    let eps1 = epsInf;
     let eps2 = 0;
-    for (const [a, e0, gamma] of OSCILLATORS) {
+    for (const [a, e0, gamma] of oscillators) {
       // A/(E0² − E² − iΓE) = A·(E0² − E² + iΓE)/((E0² − E²)² + Γ²E²)
       const re = e0 * e0 - e * e;
       const den = re * re + gamma * gamma * e * e;
@@ -37,11 +37,14 @@ function lorentzTable(points: number): NkTable {
       eps2 += (a * gamma * e) / den;
     }
     const nk = nkFromEps(eps1, eps2);
-    table.wavelengthNm.push(wl);
     table.n.push(nk.n);
     table.k.push(nk.k);
   }
   return table;
+}
+
+function lorentzTable(points: number): NkTable {
+  return lorentzSum(Array.from({ length: points }, (_, i) => 300 + (900 * i) / (points - 1)), 1.2, OSCILLATORS);
 }
 
 const median = (v: number[]) => [...v].sort((a, b) => a - b)[v.length >> 1];
@@ -53,23 +56,8 @@ function sharpTable(points: number, gamma = 0.03): NkTable {
     [4.5 * gamma * 4.2, 4.2, gamma],
     [40, 8, 1.5],
   ];
-  const table: NkTable = { wavelengthNm: [], n: [], k: [] };
-  for (let i = 0; i < points; i++) {
-    const e = 5 - (4 * i) / (points - 1);
-    let eps1 = 1.5;
-    let eps2 = 0;
-    for (const [a, e0, g] of oscillators) {
-      const re = e0 * e0 - e * e;
-      const den = re * re + g * g * e * e;
-      eps1 += (a * re) / den;
-      eps2 += (a * g * e) / den;
-    }
-    const nk = nkFromEps(eps1, eps2);
-    table.wavelengthNm.push(1239.841984 / e);
-    table.n.push(nk.n);
-    table.k.push(nk.k);
-  }
-  return table;
+  // evenly in energy from 5 eV down to 1 eV: ascending wavelength
+  return lorentzSum(Array.from({ length: points }, (_, i) => 1239.841984 / (5 - (4 * i) / (points - 1))), 1.5, oscillators);
 }
 
 function sharpCase(): void {

@@ -10,31 +10,20 @@
 import { pathToFileURL } from 'node:url';
 import { fitTable } from '../src/fit/fit.ts';
 import { buildModel } from '../src/models/catalogue.ts';
+import { seededNormal } from '../src/fit/random.ts';
 import type { NkTable } from '../src/table.ts';
 const TRUTH = { A: 122.0, E0: 3.45, C: 2.54, Eg: 1.2, eps_inf: 1.15 };
 const SIGMA_N = 1e-3;
 const SIGMA_K = 5e-4;
 export const DRAWS = 200;
 
-/** mulberry32 (common practice) and Box–Muller normal deviates: a reproducible noise source. */
-function normalSource(seed: number): () => number {
-  let a = seed >>> 0;
-  const uniform = () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return (((t ^ (t >>> 14)) >>> 0) + 0.5) / 4294967296;
-  };
-  return () => Math.sqrt(-2 * Math.log(uniform())) * Math.cos(2 * Math.PI * uniform());
-}
 
 /** Coverage of every parameter over `draws` seeded tables (exported for the figure in docs/fitting.md). */
 export function coverage(draws: number, seed = 2026): Record<string, number> {
   const model = buildModel('tauc-lorentz');
   const wavelengthNm = Array.from({ length: 120 }, (_, i) => 250 + (1350 * i) / 119);
   const exact = model.nk(wavelengthNm, TRUTH);
-  const normal = normalSource(seed);
+  const normal = seededNormal(seed);
   const hits: Record<string, number> = Object.fromEntries(Object.keys(TRUTH).map((p) => [p, 0]));
   for (let d = 0; d < draws; d++) {
     const table: NkTable = {

@@ -7,6 +7,7 @@ import { InputError, NumericalError } from '../errors.ts';
 import { buildModel, type DispersionModel } from '../models/catalogue.ts';
 import type { NkTable } from '../table.ts';
 import { minimizeWithBounds, type LmResult } from './lm.ts';
+import { seededRandom } from './random.ts';
 import { buildProblem, noiseFromSecondDifferences, whitenedModel, type FitProblem } from './problem.ts';
 import { CORRELATION_THRESHOLD, informationCriteria, rms, SingularCovariance, uncertainty } from './statistics.ts';
 import { breuschPagan, chi2Survival, runsTest } from './tests.ts';
@@ -37,17 +38,6 @@ function resolveBounds(model: DispersionModel, options: FitOptions): [number, nu
   });
 }
 
-/** A small seeded generator (mulberry32, common practice) so multi-start runs are reproducible. */
-function seededRandom(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
 
 /**
  * Start k ≥ 1: every free parameter multiplied by a log-uniform factor in [1/3, 3], kept within bounds and

@@ -7,23 +7,13 @@ import { describe, expect, it } from 'vitest';
 import { InputError } from '../../src/errors.ts';
 import { fitTable } from '../../src/fit/fit.ts';
 import { buildModel } from '../../src/models/catalogue.ts';
+import { seededNormal } from '../../src/fit/random.ts';
 import { loadTable } from '../../src/service/source.ts';
 import type { NkTable } from '../../src/table.ts';
 import bounded from '../reference/fit-bounded.json' with { type: 'json' };
 
 
-/** A seeded normal source (mulberry32 + Box–Muller, common practice). */
-function normal(seed: number): () => number {
-  let a = seed >>> 0;
-  const u = () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return (((t ^ (t >>> 14)) >>> 0) + 0.5) / 4294967296;
-  };
-  return () => Math.sqrt(-2 * Math.log(u())) * Math.cos(2 * Math.PI * u());
-}
+const normal = seededNormal;
 
 const TL = { A: 122.0, E0: 3.45, C: 2.54, Eg: 1.2, eps_inf: 1.15 };
 function tlTable(rows = 120, sigma?: { n: (v: number) => number; k: (v: number) => number }, withSigma = true, seed = 5): NkTable {
