@@ -24,12 +24,7 @@ const examples = DOCS.map((file) => ({ file, examples: extractExamples(file, rea
  * test checks they still fail that way, so the entry must go when the defect is fixed. Keep this list empty
  * otherwise: a failing example is fixed in the document or in the code.
  */
-const KNOWN_FAILURES: Record<string, { output: RegExp; why: string }> = {
-  'npx nkledger fit data/marrowick/ito-sputtered.tsv --model tauc-lorentz+drude --starts 10 --json': {
-    output: /not finite at the start values .*\[numerical-failure\]/,
-    why: 'multi-start draws a non-finite start for tauc-lorentz+drude on the ITO demo table (fitting issue)',
-  },
-};
+const KNOWN_FAILURES: Record<string, { output: RegExp; why: string }> = {};
 
 let sandbox: string;
 let env: Record<string, string>;
