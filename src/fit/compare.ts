@@ -51,6 +51,17 @@ export const COMPARISON_CAVEATS = [
   'Prefer a Kramers-Kronig-consistent model when n and k must describe one material; every model is valid only inside the fitted wavelength range.',
 ];
 
+/**
+ * The model best_bic names among fitted candidates: the lowest BIC, except that among candidates within
+ * BIC_INDIFFERENCE of it (not evidence, Kass and Raftery 1995) the one with the fewest free parameters wins.
+ */
+export function bestByBic(models: Pick<ComparedModel, 'model' | 'bic' | 'free_parameters'>[]): string {
+  const min = Math.min(...models.map((m) => m.bic as number));
+  const close = models.filter((m) => (m.bic as number) - min < BIC_INDIFFERENCE);
+  close.sort((a, b) => (a.free_parameters as number) - (b.free_parameters as number) || (a.bic as number) - (b.bic as number));
+  return close[0].model;
+}
+
 /** AIC and BIC of a fitted model on the residuals an absorbing model would have (n and k rows, same weights). */
 function criteriaOnAllRows(table: NkTable, report: FitReport, options: Omit<FitOptions, 'model'>): { aic: number; bic: number } {
   const model = buildModel(report.model, report.options);
@@ -119,11 +130,7 @@ export function compareModels(table: NkTable, specs: string[], options: Omit<Fit
     if (ok.length === 0) return null;
     const min = minOf(ok.map((m) => m[key] as number));
     for (const m of ok) m[key === 'aic' ? 'delta_aic' : 'delta_bic'] = (m[key] as number) - min;
-    if (key === 'aic') return ok.find((m) => m[key] === min)!.model;
-    // BIC differences below 2 are not evidence (Kass and Raftery 1995): then the simplest such candidate wins
-    const close = ok.filter((m) => (m.bic as number) - min < BIC_INDIFFERENCE);
-    close.sort((a, b) => (a.free_parameters as number) - (b.free_parameters as number) || (a.bic as number) - (b.bic as number));
-    return close[0].model;
+    return key === 'aic' ? ok.find((m) => m[key] === min)!.model : bestByBic(ok);
   };
   return { models, best_aic: best('aic'), best_bic: best('bic'), caveats: COMPARISON_CAVEATS };
 }

@@ -186,3 +186,11 @@ describe('ε fits use the file’s σε directly', () => {
     }
   });
 });
+
+describe('--compare prefers fewer parameters when BIC cannot tell', () => {
+  it('BIC within 2 of the lowest: the candidate with fewer free parameters is named', async () => {
+    const { bestByBic } = await import('../../src/fit/compare.ts');
+    expect(bestByBic([{ model: 'sellmeier', bic: -100, free_parameters: 6 }, { model: 'cauchy', bic: -98.5, free_parameters: 3 }])).toBe('cauchy');
+    expect(bestByBic([{ model: 'sellmeier', bic: -100, free_parameters: 6 }, { model: 'cauchy', bic: -97.5, free_parameters: 3 }])).toBe('sellmeier');
+  });
+});
