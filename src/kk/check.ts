@@ -33,24 +33,34 @@ const NOISE_ALLOWANCE_SIGMAS = 4;
 /** Half-width, in knot spacings, of the window over which the local swing of the averaged Δn is taken. */
 const SWING_SPACINGS = 3;
 
-/** max − min of `values` over the points within ±halfWidthEv of each point (energies in any order). */
+/**
+ * max − min of `values` over the points within ±halfWidthEv of each point (energies in any order), by
+ * sliding-window maximum and minimum with monotonic deques: O(N) however many points a window holds.
+ */
 function localSwing(energyEv: ArrayLike<number>, values: ArrayLike<number>, halfWidthEv: number): number[] {
-  const order = Array.from({ length: values.length }, (_, i) => i).sort((a, b) => energyEv[a] - energyEv[b]);
-  const out: number[] = new Array(values.length).fill(0);
-  let lo = 0;
+  const total = values.length;
+  const order = Array.from({ length: total }, (_, i) => i).sort((a, b) => energyEv[a] - energyEv[b]);
+  const e = order.map((i) => energyEv[i]);
+  const v = order.map((i) => values[i]);
+  const out: number[] = new Array(total).fill(0);
+  const maxQ = new Int32Array(total);
+  const minQ = new Int32Array(total);
+  let maxHead = 0;
+  let maxTail = 0;
+  let minHead = 0;
+  let minTail = 0;
   let hi = 0;
-  for (let r = 0; r < order.length; r++) {
-    const e = energyEv[order[r]];
-    while (energyEv[order[lo]] < e - halfWidthEv) lo++;
-    while (hi < order.length && energyEv[order[hi]] <= e + halfWidthEv) hi++;
-    let min = Infinity;
-    let max = -Infinity;
-    for (let j = lo; j < hi; j++) {
-      const v = values[order[j]];
-      if (v < min) min = v;
-      if (v > max) max = v;
+  for (let r = 0; r < total; r++) {
+    while (hi < total && e[hi] <= e[r] + halfWidthEv) {
+      while (maxTail > maxHead && v[maxQ[maxTail - 1]] <= v[hi]) maxTail--;
+      maxQ[maxTail++] = hi;
+      while (minTail > minHead && v[minQ[minTail - 1]] >= v[hi]) minTail--;
+      minQ[minTail++] = hi;
+      hi++;
     }
-    out[order[r]] = max - min;
+    while (e[maxQ[maxHead]] < e[r] - halfWidthEv) maxHead++;
+    while (e[minQ[minHead]] < e[r] - halfWidthEv) minHead++;
+    out[order[r]] = v[maxQ[maxHead]] - v[minQ[minHead]];
   }
   return out;
 }
