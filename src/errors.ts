@@ -129,6 +129,31 @@ export class BusyError extends InputError {
   }
 }
 
+/**
+ * A fault of the environment, not of the input nor of nkledger: the disk is full, the registry file is
+ * read-only, corrupt, or was removed or replaced under a running server. The CLI exits 4; the API answers
+ * 503 (507 for a full disk). The message says what happened and whether anything was written.
+ */
+export class EnvironmentError extends Error {
+  readonly rule: string;
+  readonly location: InputLocation;
+  /** HTTP status an API should answer with: 503 by default, 507 Insufficient Storage for a full disk. */
+  readonly status: number;
+
+  constructor(rule: string, message: string, location: InputLocation = {}, status = 503) {
+    super(message);
+    this.name = 'EnvironmentError';
+    this.rule = rule;
+    this.location = location;
+    this.status = status;
+  }
+
+  /** "file: message [rule]", as InputError.describe() writes it. */
+  describe(): string {
+    return `${formatLocation(this.location)}${this.message} [${this.rule}]`;
+  }
+}
+
 export function formatLocation(loc: InputLocation): string {
   const parts: string[] = [];
   if (loc.file !== undefined) parts.push(loc.file);

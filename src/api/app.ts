@@ -12,7 +12,8 @@ import { every } from 'hono/combine';
 import { cors } from 'hono/cors';
 import { bodyLimit } from 'hono/body-limit';
 import { HTTPException } from 'hono/http-exception';
-import { InputError } from '../errors.ts';
+import { EnvironmentError, InputError } from '../errors.ts';
+import { environmentFault } from '../registry/faults.ts';
 import { readSettings, type Settings } from '../service/settings.ts';
 import type { Registry } from '../registry/open.ts';
 import { authenticate, requireRole, type ApiEnv } from './auth.ts';
@@ -44,6 +45,8 @@ export interface AppOptions {
    * the default size, made here; threads start only when a task comes (the caller closes it).
    */
   compute?: ComputePool;
+  /** Where faults of the environment (disk full, registry read-only, corrupt, replaced) are logged (default: stderr). */
+  logEnvironment?: (fault: EnvironmentError) => void;
 }
 
 export function createApp(options: AppOptions): Hono<ApiEnv> {
@@ -67,7 +70,15 @@ export function createApp(options: AppOptions): Hono<ApiEnv> {
   const logFault = options.logFault ?? ((err: unknown) => console.error('nkledger serve: internal error:', err));
 
   const app = new Hono<ApiEnv>();
+  const logEnvironment = options.logEnvironment ?? ((fault: EnvironmentError) => console.error(`nkledger serve: ${fault.describe()}`));
   app.onError((err) => {
+    // Faults of the environment (full disk, read-only, corrupt, replaced registry file) are logged as one
+    // line saying what happened, and answered 503/507; they are not internal bugs.
+    const fault = environmentFault(err, registry.path);
+    if (fault) {
+      logEnvironment(fault);
+      return problemResponse(fault);
+    }
     if (!(err instanceof InputError) && !(err instanceof HTTPException)) logFault(err);
     return problemResponse(err);
   });

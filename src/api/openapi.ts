@@ -36,6 +36,8 @@ const writeErrors = {
   '409': problem('the change conflicts with the registry rules'),
   '415': problem('the body is not application/json'),
   '422': problem('invalid input'),
+  '503': problem('the registry file is read-only, corrupt, busy, or was removed or replaced under the server; nothing was written'),
+  '507': problem('the disk holding the registry is full; nothing was written'),
 };
 /** Routes whose compute runs on the worker pool. */
 const busy = {
@@ -278,7 +280,7 @@ export const OPENAPI_DOCUMENT = {
         ...role('reader'),
         parameters: [{ name: 'strict', in: 'query', required: false, schema: { type: 'string', enum: ['true', 'false'] } }],
         requestBody: { required: true, content: { 'application/json': { schema: { type: 'object' } } } },
-        responses: { '200': json('per-pin verdicts', ref('LockVerification')), '400': problem('not a lockfile'), '415': problem('the body is not application/json'), ...authErrors },
+        responses: { '200': json("per-pin verdicts (each pin's hash recomputed from the content) and `history`: whether the registry's audit chain still contains the lockfile's registry_head", ref('LockVerification')), '400': problem('not a lockfile'), '415': problem('the body is not application/json'), ...authErrors },
       },
     },
     '/api/v1/fit': {
@@ -443,9 +445,21 @@ export const OPENAPI_DOCUMENT = {
       },
       LockVerification: {
         type: 'object',
-        required: ['ok', 'strict', 'entries', 'failures', 'warnings'],
+        required: ['ok', 'strict', 'entries', 'history', 'failures', 'warnings'],
         properties: {
           ok: { type: 'boolean' },
+          history: {
+            type: 'object',
+            description: "whether the registry's audit chain still contains the lockfile's registry_head (docs/registry.md)",
+            required: ['outcome', 'locked_head', 'registry_head', 'failed', 'message'],
+            properties: {
+              outcome: { type: 'string', enum: ['ok', 'rewritten', 'broken', 'not-recorded'] },
+              locked_head: { type: ['object', 'null'] },
+              registry_head: { type: ['object', 'null'] },
+              failed: { type: 'boolean' },
+              message: { type: 'string' },
+            },
+          },
           strict: { type: 'boolean' },
           failures: { type: 'integer', minimum: 0 },
           warnings: { type: 'integer', minimum: 0 },

@@ -5,7 +5,7 @@
  * refusal names them `option`, `value` and `remedies` ([{option, value}], the fields that get past it).
  */
 import { HTTPException } from 'hono/http-exception';
-import { BusyError, FIELD_WORDING, InputError } from '../errors.ts';
+import { BusyError, EnvironmentError, FIELD_WORDING, InputError } from '../errors.ts';
 
 export const PROBLEM_CONTENT_TYPE = 'application/problem+json';
 
@@ -40,6 +40,7 @@ const TITLES: Record<number, string> = {
   431: 'Request Header Fields Too Large',
   500: 'Internal Server Error',
   503: 'Service Unavailable',
+  507: 'Insufficient Storage',
 };
 
 /** An error the API raises itself (auth, content negotiation); carried to the error handler like InputError. */
@@ -70,6 +71,12 @@ export function problemFromError(err: unknown): { problem: ProblemDocument; head
     };
     const headers = err instanceof HttpProblem ? err.headers : err instanceof BusyError ? { 'retry-after': String(err.retryAfterSeconds) } : {};
     return { problem, headers };
+  }
+  if (err instanceof EnvironmentError) {
+    // A fault of the server's environment (disk full, read-only, corrupt, replaced registry file): say what.
+    const status = TITLES[err.status] ? err.status : 503;
+    const problem: ProblemDocument = { type: problemType(err.rule), title: TITLES[status], status, detail: err.describe(), rule: err.rule };
+    return { problem, headers: status === 503 ? { 'retry-after': '60' } : {} };
   }
   if (err instanceof HTTPException && TITLES[err.status]) {
     // hono's own refusals (e.g. a multipart body it cannot parse).

@@ -6,8 +6,12 @@ import Database from 'better-sqlite3';
 import { drizzle, type BetterSQLite3Database } from 'drizzle-orm/better-sqlite3';
 import { migrate } from 'drizzle-orm/better-sqlite3/migrator';
 import { readMigrationFiles } from 'drizzle-orm/migrator';
+import { accessSync, constants, existsSync, statSync } from 'node:fs';
+import { dirname, resolve } from 'node:path';
 import { fileURLToPath } from 'node:url';
-import { InputError } from '../errors.ts';
+import { EnvironmentError, InputError } from '../errors.ts';
+import { ensureGenesis } from './chain.ts';
+import { environmentFault } from './faults.ts';
 
 /** The migrations folder of this package (not of the current directory). */
 export const MIGRATIONS_FOLDER = fileURLToPath(new URL('../../drizzle', import.meta.url));
@@ -21,7 +25,29 @@ export interface Registry {
   readonly path: string;
   readonly db: BetterSQLite3Database;
   readonly sqlite: Database.Database;
+  /** Opened read-only (asked for, or the file is not writable): reads work, writes are refused. */
+  readonly readonly: boolean;
+  /** True when this open created the database file. */
+  readonly created: boolean;
+  /** Device and inode of the file when opened, to notice it being removed or replaced (null for :memory:). */
+  readonly identity: FileIdentity | null;
   close(): void;
+}
+
+export interface FileIdentity {
+  dev: number;
+  ino: number;
+}
+
+export interface OpenOptions {
+  /**
+   * When the file does not exist: 'always' creates it (the default, for programs and tests), 'never'
+   * refuses (read commands), 'if-folder-exists' creates it only inside an existing folder (`material add`,
+   * `import`).
+   */
+  create?: 'always' | 'never' | 'if-folder-exists';
+  /** Open read-only: no WAL switch, no migration; writes are refused with an EnvironmentError. */
+  readonly?: boolean;
 }
 
 /** The database path: the argument (`--db`), else NKLEDGER_DB, else ./nkledger.db. */
@@ -29,38 +55,106 @@ export function registryPath(path?: string): string {
   return path ?? process.env.NKLEDGER_DB ?? 'nkledger.db';
 }
 
+function identityOf(file: string): FileIdentity | null {
+  if (file === ':memory:' || file === '') return null;
+  const st = statSync(file);
+  return { dev: st.dev, ino: st.ino };
+}
+
+function writable(file: string): boolean {
+  try {
+    accessSync(file, constants.W_OK);
+    return true;
+  } catch {
+    return false;
+  }
+}
+
 /**
- * Open (creating if needed) the registry at `registryPath(path)` and bring its schema up to date.
- * Safe to call from several processes at once on a fresh file: a migration that loses the race
- * to another process is re-checked and skipped.
+ * Open the registry at `registryPath(path)` and bring its schema up to date, creating the file as
+ * `options.create` allows. Safe to call from several processes at once on a fresh file: a migration that
+ * loses the race to another process is re-checked and skipped. A file that is not writable is opened
+ * read-only: it serves reads, and writes are refused.
  */
-export function openRegistry(path?: string): Registry {
+export function openRegistry(path?: string, options: OpenOptions = {}): Registry {
   const file = registryPath(path);
+  const memory = file === ':memory:';
+  const exists = memory || existsSync(file);
+  const create = options.create ?? 'always';
+  if (!exists && create === 'never') {
+    throw new InputError('registry-missing', 'no registry database at this path (check --db or NKLEDGER_DB; `nkledger material add` or `nkledger import` creates one)', { file });
+  }
+  if (!exists && create === 'if-folder-exists' && !existsSync(dirname(resolve(file)))) {
+    throw new InputError('registry-folder-missing', `no folder ${dirname(resolve(file))} to create the registry ${file} in (create the folder first)`, { file });
+  }
+  const readonly = options.readonly === true || (exists && !memory && !writable(file));
   let sqlite: Database.Database;
   try {
-    sqlite = new Database(file);
+    sqlite = new Database(file, readonly ? { readonly: true, fileMustExist: true } : {});
   } catch (err) {
-    throw new InputError('registry-open', `cannot open the registry database: ${(err as Error).message}`, { file });
+    throw environmentFault(err, file) ?? new InputError('registry-open', `cannot open the registry database: ${(err as Error).message}`, { file });
   }
   try {
     sqlite.pragma(`busy_timeout = ${BUSY_TIMEOUT_MS}`);
-    sqlite.pragma('journal_mode = WAL');
     sqlite.pragma('foreign_keys = ON');
     const db = drizzle(sqlite);
-    applyMigrations(db, sqlite);
-    return { path: file, db, sqlite, close: () => sqlite.close() };
+    if (readonly) {
+      requireCurrentSchema(sqlite, file);
+    } else {
+      sqlite.pragma('journal_mode = WAL');
+      applyMigrations(db, sqlite);
+    }
+    const registry: Registry = { path: file, db, sqlite, readonly, created: !exists, identity: identityOf(file), close: () => sqlite.close() };
+    if (!readonly) ensureGenesis(registry);
+    return registry;
   } catch (err) {
     sqlite.close();
     if ((err as { code?: string }).code === 'SQLITE_NOTADB') {
       throw new InputError('registry-open', 'not an nkledger registry (not an SQLite database)', { file });
     }
+    throw environmentFault(err, file) ?? err;
+  }
+}
+
+/**
+ * Is the file still the one this registry opened? False when the path was removed, renamed away or
+ * replaced by another file (a restore copied over it): writes would then go to a file nobody will see again.
+ * One stat call.
+ */
+export function stillSameFile(registry: Registry): boolean {
+  if (!registry.identity) return true;
+  try {
+    const st = statSync(registry.path);
+    return st.dev === registry.identity.dev && st.ino === registry.identity.ino;
+  } catch {
+    return false;
+  }
+}
+
+function newestMigration(): number {
+  return Math.max(...readMigrationFiles({ migrationsFolder: MIGRATIONS_FOLDER }).map((m) => m.folderMillis));
+}
+
+/** A read-only registry cannot be migrated: refuse one whose schema is older than this nkledger. */
+function requireCurrentSchema(sqlite: Database.Database, file: string): void {
+  let applied: number;
+  try {
+    applied = appliedUpTo(sqlite);
+  } catch (err) {
+    if ((err as { code?: string }).code === 'SQLITE_ERROR') throw new InputError('registry-open', 'not an nkledger registry (no migration table)', { file });
     throw err;
+  }
+  if (applied < newestMigration()) {
+    throw new EnvironmentError(
+      'registry-needs-upgrade',
+      `registry ${file} is read-only and was written by an older nkledger; open it once with write access so its schema is brought up to date (nothing was written)`,
+    );
   }
 }
 
 function applyMigrations(db: BetterSQLite3Database, sqlite: Database.Database): void {
   const config = { migrationsFolder: MIGRATIONS_FOLDER };
-  const newest = Math.max(...readMigrationFiles(config).map((m) => m.folderMillis));
+  const newest = newestMigration();
   for (let attempt = 1; ; attempt++) {
     try {
       migrate(db, config);

@@ -3,12 +3,14 @@
  * write goes through (BEGIN IMMEDIATE, audit row inside the same transaction).
  */
 import { and, eq, sql } from 'drizzle-orm';
-import { IntegrityError, NotFoundError } from '../errors.ts';
+import { EnvironmentError, IntegrityError, NotFoundError } from '../errors.ts';
 import { tableRangeNm } from '../table.ts';
 import { canonicalSha256 } from './canonical.ts';
-import type { Registry } from './open.ts';
+import { appendEvent, type NewEvent } from './chain.ts';
+import { translateFaults } from './faults.ts';
+import { stillSameFile, type Registry } from './open.ts';
 import { formatRef } from './refs.ts';
-import { auditLog, materials, materialVersions } from './schema.ts';
+import { materials, materialVersions } from './schema.ts';
 import type { MaterialRecord, Provenance, VersionContent, VersionRecord } from './types.ts';
 
 export type MaterialRow = typeof materials.$inferSelect;
@@ -35,26 +37,28 @@ export function nowIso(): string {
   return new Date().toISOString();
 }
 
-/** Run `write` as one BEGIN IMMEDIATE transaction: it sees and holds the write lock from its first statement. */
+/**
+ * Run `write` as one BEGIN IMMEDIATE transaction: it sees and holds the write lock from its first statement.
+ * Refused before it starts when the registry is read-only or its file was removed or replaced since it was
+ * opened; SQLite's faults (full disk, I/O error, corruption) become EnvironmentErrors, the transaction
+ * rolled back whole.
+ */
 export function writeTransaction<T>(registry: Registry, write: () => T): T {
-  return registry.sqlite.transaction(write).immediate();
+  if (registry.readonly) {
+    throw new EnvironmentError('registry-read-only', `registry ${registry.path} is open read-only (the file is not writable); nothing was written`);
+  }
+  if (!stillSameFile(registry)) {
+    throw new EnvironmentError(
+      'registry-replaced',
+      `registry ${registry.path} was removed or replaced since this process opened it; writes would be lost, so nothing was written (restart the server to use the file now at that path)`,
+    );
+  }
+  return translateFaults(registry.path, () => registry.sqlite.transaction(write).immediate());
 }
 
-export function appendAudit(
-  registry: Registry,
-  entry: { actor: string; action: string; materialId?: number; versionId?: number; detail?: Record<string, unknown> },
-): void {
-  registry.db
-    .insert(auditLog)
-    .values({
-      at: nowIso(),
-      actor: entry.actor,
-      action: entry.action,
-      materialId: entry.materialId ?? null,
-      versionId: entry.versionId ?? null,
-      detail: JSON.stringify(entry.detail ?? {}),
-    })
-    .run();
+/** Append an audit event to the hash chain (src/registry/chain.ts); call inside `writeTransaction`. */
+export function appendAudit(registry: Registry, entry: NewEvent): void {
+  appendEvent(registry, entry);
 }
 
 export function findMaterial(registry: Registry, slug: string): MaterialRow {

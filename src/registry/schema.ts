@@ -100,8 +100,28 @@ export const auditLog = sqliteTable(
     versionId: integer('version_id').references(() => materialVersions.id),
     /** JSON object with the details of the change. */
     detail: text('detail').notNull().default('{}'),
+    // The hash chain (src/registry/chain.ts). Rows written before the chain existed have none of these;
+    // the chain starts at a `chain.genesis` event that covers them and every version stored at that time.
+    /** Slug of the material the event concerns (slugs never change). */
+    material: text('material'),
+    /** Number of the version the event concerns. */
+    versionNumber: integer('version_number'),
+    /** The version's content SHA-256 as the event saw it (every version event carries it). */
+    contentSha256: text('content_sha256'),
+    /** Status change of a version event: from (null for an import) and to. */
+    statusFrom: text('status_from'),
+    statusTo: text('status_to'),
+    /** Hash of the previous event of the chain (null only for the genesis event). */
+    prevHash: text('prev_hash'),
+    /** SHA-256 of this event's canonical JSON (chain.ts `eventDocument`). */
+    hash: text('hash'),
   },
-  (t) => [index('audit_log_material').on(t.materialId)],
+  (t) => [
+    index('audit_log_material').on(t.materialId),
+    uniqueIndex('audit_log_hash').on(t.hash),
+    // One successor per event: the chain cannot fork.
+    uniqueIndex('audit_log_prev_hash').on(t.prevHash),
+  ],
 );
 
 /**

@@ -9,7 +9,7 @@ import type { Registry } from '../registry/open.ts';
 import { appendAudit, nowIso, versionRecord, writeTransaction, type VersionRow } from '../registry/records.ts';
 import { materialVersions } from '../registry/schema.ts';
 import type { VersionRecord, VersionStatus } from '../registry/types.ts';
-import { checkActor } from './actor.ts';
+import { checkActor, sameUser } from './actor.ts';
 import { readSettings } from './settings.ts';
 import { resolveRow } from './versions.ts';
 
@@ -42,10 +42,10 @@ export function approve(registry: Registry, ref: string, actor: string): Version
   const who = checkActor(actor);
   return writeTransaction(registry, () => {
     const { material, row } = lockedVersion(registry, ref, 'draft', 'approve');
-    const self = row.createdBy === who;
+    const self = sameUser(row.createdBy, who);
     if (self && !readSettings(registry).allow_self_approval) {
       throw new ConflictError(
-        `${who} created ${material.slug}@${row.number} and cannot also approve it: someone else must (a one-person lab can allow self-approval with "nkledger settings set allow_self_approval on")`,
+        `${who === row.createdBy ? who : `${who} (the same user as ${row.createdBy})`} created ${material.slug}@${row.number} and cannot also approve it: someone else must (a one-person lab can allow self-approval with "nkledger settings set allow_self_approval on")`,
         'two-person-rule',
       );
     }
@@ -55,10 +55,16 @@ export function approve(registry: Registry, ref: string, actor: string): Version
       action: 'version.approve',
       materialId: material.id,
       versionId: row.id,
+      ...versionEvent(material.slug, row, 'approved'),
       detail: { ref: `${material.slug}@${row.number}`, sha256: row.sha256, self_approved: self },
     });
     return versionRecord(material.slug, updated);
   });
+}
+
+/** The chain fields of a status change (src/registry/chain.ts): which version, its content hash, from → to. */
+function versionEvent(slug: string, row: VersionRow, to: VersionStatus) {
+  return { material: slug, version: row.number, contentSha256: row.sha256, status: { from: row.status, to } };
 }
 
 function requireReason(reason: string | undefined, verb: string): string {
@@ -75,7 +81,7 @@ export function retire(registry: Registry, ref: string, reason: string, actor: s
   return writeTransaction(registry, () => {
     const { material, row } = lockedVersion(registry, ref, 'approved', 'retire');
     const updated = transition(registry, row, 'approved', { status: 'retired', retiredBy: who, retiredAt: nowIso(), retireReason: why });
-    appendAudit(registry, { actor: who, action: 'version.retire', materialId: material.id, versionId: row.id, detail: { ref: `${material.slug}@${row.number}`, reason: why } });
+    appendAudit(registry, { actor: who, action: 'version.retire', materialId: material.id, versionId: row.id, ...versionEvent(material.slug, row, 'retired'), detail: { ref: `${material.slug}@${row.number}`, reason: why } });
     return versionRecord(material.slug, updated);
   });
 }
@@ -87,7 +93,7 @@ export function withdraw(registry: Registry, ref: string, actor: string, reason?
   return writeTransaction(registry, () => {
     const { material, row } = lockedVersion(registry, ref, 'draft', 'withdraw');
     const updated = transition(registry, row, 'draft', { status: 'withdrawn', withdrawnBy: who, withdrawnAt: nowIso(), withdrawReason: why });
-    appendAudit(registry, { actor: who, action: 'version.withdraw', materialId: material.id, versionId: row.id, detail: { ref: `${material.slug}@${row.number}`, reason: why } });
+    appendAudit(registry, { actor: who, action: 'version.withdraw', materialId: material.id, versionId: row.id, ...versionEvent(material.slug, row, 'withdrawn'), detail: { ref: `${material.slug}@${row.number}`, reason: why } });
     return versionRecord(material.slug, updated);
   });
 }

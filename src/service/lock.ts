@@ -1,38 +1,49 @@
 /**
- * Design lockfiles: which version (number and content hash) of each material a design uses.
+ * Design lockfiles: which version (number and content hash) of each material a design uses, and the
+ * registry's audit-chain head when the last pin was added (src/registry/chain.ts).
  *
- * Format (JSON, format_version 1):
- *   { "format": "nkledger-lock", "format_version": 1,
+ * Format (JSON, format_version 2):
+ *   { "format": "nkledger-lock", "format_version": 2,
+ *     "registry_head": { "hash": "<64 hex>", "sequence": 57 },
  *     "materials": { "<slug>": { "version": 3, "sha256": "<64 hex>", "added_at": "<ISO 8601>" } } }
  * One entry per material, slugs sorted; written with two-space indentation and a final newline.
+ * Format 1 (no registry_head) is still read; the next `lock add` writes it back as format 2.
  */
 import { readFileSync, renameSync, writeFileSync } from 'node:fs';
 import { and, asc, eq, gt } from 'drizzle-orm';
 import { z } from 'zod';
 import { ConflictError, InputError, NotFoundError } from '../errors.ts';
+import { chainHead, readAuditRows, walkChain } from '../registry/chain.ts';
 import type { Registry } from '../registry/open.ts';
 import { findMaterial } from '../registry/records.ts';
 import { formatRef, SLUG_PATTERN } from '../registry/refs.ts';
 import { materialVersions } from '../registry/schema.ts';
 import type { VersionStatus } from '../registry/types.ts';
+import { recomputedSha256 } from './registry-admin.ts';
 import { resolveRow } from './versions.ts';
 
 export const LOCK_FORMAT = 'nkledger-lock';
-export const LOCK_FORMAT_VERSION = 1;
+export const LOCK_FORMAT_VERSION = 2;
+/** Lockfile formats this nkledger reads. */
+const READABLE_FORMAT_VERSIONS = [1, 2] as const;
 
+const hex64 = z.string().regex(/^[0-9a-f]{64}$/, 'must be 64 lowercase hex digits');
 const lockEntrySchema = z.strictObject({
   version: z.number().int().min(1),
-  sha256: z.string().regex(/^[0-9a-f]{64}$/, 'sha256 must be 64 lowercase hex digits'),
+  sha256: hex64,
   added_at: z.string().optional(),
 });
+const headSchema = z.strictObject({ hash: hex64, sequence: z.number().int().min(1) });
 const lockSchema = z.strictObject({
   format: z.literal(LOCK_FORMAT),
-  format_version: z.literal(LOCK_FORMAT_VERSION),
+  format_version: z.union(READABLE_FORMAT_VERSIONS.map((v) => z.literal(v))),
+  registry_head: headSchema.optional(),
   materials: z.record(z.string().regex(SLUG_PATTERN, 'material keys are slugs'), lockEntrySchema),
 });
 
 export type LockEntry = z.infer<typeof lockEntrySchema>;
 export type Lockfile = z.infer<typeof lockSchema>;
+export type LockedHead = z.infer<typeof headSchema>;
 
 export function emptyLockfile(): Lockfile {
   return { format: LOCK_FORMAT, format_version: LOCK_FORMAT_VERSION, materials: {} };
@@ -52,14 +63,18 @@ export function parseLockfile(input: string | unknown, file = '<lockfile>'): Loc
   if (!parsed.success) {
     const issue = parsed.error.issues[0];
     const where = issue.path.length ? issue.path.join('.') : '(top level)';
-    throw new InputError('lock-format', `not an nkledger lockfile (format_version ${LOCK_FORMAT_VERSION}): ${where}: ${issue.message}`, { file });
+    throw new InputError('lock-format', `not an nkledger lockfile (format_version ${READABLE_FORMAT_VERSIONS.join(' or ')}): ${where}: ${issue.message}`, { file });
+  }
+  if (parsed.data.format_version === 1 && parsed.data.registry_head) {
+    throw new InputError('lock-format', 'registry_head appears only in format_version 2 lockfiles', { file });
   }
   return parsed.data;
 }
 
 export function serializeLockfile(lock: Lockfile): string {
   const materials = Object.fromEntries(Object.keys(lock.materials).sort().map((slug) => [slug, lock.materials[slug]]));
-  return `${JSON.stringify({ format: LOCK_FORMAT, format_version: LOCK_FORMAT_VERSION, materials }, null, 2)}\n`;
+  const head = lock.registry_head ? { registry_head: lock.registry_head } : {};
+  return `${JSON.stringify({ format: LOCK_FORMAT, format_version: LOCK_FORMAT_VERSION, ...head, materials }, null, 2)}\n`;
 }
 
 /** Read a lockfile; a missing file is an empty lockfile only when `allowMissing`. */
@@ -102,8 +117,14 @@ export function lockAdd(registry: Registry, lock: Lockfile, ref: string): LockAd
   const replaced = lock.materials[resolved.slug] ?? null;
   const notices = resolved.notices.filter((n) => !n.includes('not a pin'));
   if (replaced && replaced.version !== entry.version) notices.push(`replaced ${formatRef(resolved.slug, replaced.version)} with ${resolved.ref}`);
+  const head = chainHead(registry);
   return {
-    lock: { ...lock, materials: { ...lock.materials, [resolved.slug]: entry } },
+    lock: {
+      ...lock,
+      format_version: LOCK_FORMAT_VERSION,
+      ...(head ? { registry_head: { hash: head.hash, sequence: head.sequence } } : {}),
+      materials: { ...lock.materials, [resolved.slug]: entry },
+    },
     ref: resolved.ref,
     entry,
     replaced,
@@ -119,7 +140,7 @@ export interface LockCheck {
   slug: string;
   version: number;
   locked_sha256: string;
-  /** The hash the registry holds now, null when the entry is missing. */
+  /** The hash recomputed from the version's content and provenance now; null when missing or unreadable. */
   registry_sha256: string | null;
   status: VersionStatus | null;
   outcome: LockOutcome;
@@ -128,17 +149,55 @@ export interface LockCheck {
   message: string;
 }
 
+/**
+ * Whether the registry's history still contains the head recorded in the lockfile: `ok` (the chain is whole
+ * and holds that event at that place, so history was only appended to), `rewritten` (it does not),
+ * `broken` (the chain itself has broken links or edited events), `not-recorded` (a format 1 lockfile, or
+ * a registry without a chain when the pin was added: nothing to prove; a warning).
+ */
+export interface LockHistoryCheck {
+  outcome: 'ok' | 'rewritten' | 'broken' | 'not-recorded';
+  locked_head: LockedHead | null;
+  registry_head: LockedHead | null;
+  failed: boolean;
+  message: string;
+}
+
 export interface LockVerifyReport {
   ok: boolean;
   strict: boolean;
   entries: LockCheck[];
+  history: LockHistoryCheck;
   failures: number;
   warnings: number;
 }
 
+function checkHistory(registry: Registry, locked: LockedHead | undefined): LockHistoryCheck {
+  const walk = walkChain(readAuditRows(registry));
+  const registryHead = walk.head ? { hash: walk.head.hash, sequence: walk.head.sequence } : null;
+  const base = { locked_head: locked ?? null, registry_head: registryHead };
+  if (walk.problems.length > 0) {
+    return { ...base, outcome: 'broken', failed: true, message: `the registry's audit chain is broken (${walk.problems[0]}${walk.problems.length > 1 ? `, and ${walk.problems.length - 1} more` : ''}); run \`nkledger verify\`` };
+  }
+  if (!locked) {
+    return { ...base, outcome: 'not-recorded', failed: false, message: 'the lockfile records no registry head (format 1): history not checked; the next `nkledger lock add` records one' };
+  }
+  if (walk.hashes[locked.sequence - 1] !== locked.hash) {
+    return {
+      ...base,
+      outcome: 'rewritten',
+      failed: true,
+      message: `the registry's history no longer contains the head this lockfile recorded (event ${locked.sequence}, ${locked.hash.slice(0, 12)}…): history was rewritten, or this is another registry`,
+    };
+  }
+  return { ...base, outcome: 'ok', failed: false, message: `history ok: the registry's audit chain still contains event ${locked.sequence} (${locked.hash.slice(0, 12)}…) and has ${registryHead!.sequence - locked.sequence} event(s) after it` };
+}
+
 /**
- * Check every entry: missing materials or versions and hash mismatches always fail; retired, draft
- * and withdrawn versions are warnings, and failures with `strict`.
+ * Check every entry: missing materials or versions and content that no longer hashes to the locked SHA-256
+ * (recomputed from the stored content, not read from the hash column) always fail; retired, draft and
+ * withdrawn versions are warnings, and failures with `strict`. Then prove the registry's history still
+ * contains the audit-chain head the lockfile recorded.
  */
 export function lockVerify(registry: Registry, lock: Lockfile, options: { strict?: boolean } = {}): LockVerifyReport {
   const strict = options.strict ?? false;
@@ -155,22 +214,26 @@ export function lockVerify(registry: Registry, lock: Lockfile, options: { strict
         if (!(err instanceof NotFoundError)) throw err;
         return { ...base, registry_sha256: null, status: null, outcome: 'missing', failed: true, message: `${ref} is missing: ${err.message}` };
       }
-      if (row.sha256 !== locked.sha256) {
+      const computed = recomputedSha256(row);
+      if (computed !== locked.sha256) {
+        const column = row.sha256 === locked.sha256 ? ' (its stored hash column still says the locked value: the content was changed under it)' : '';
         return {
           ...base,
-          registry_sha256: row.sha256,
+          registry_sha256: computed,
           status: row.status,
           outcome: 'mismatch',
           failed: true,
-          message: `${ref} content differs: locked sha256 ${locked.sha256.slice(0, 12)}…, registry has ${row.sha256.slice(0, 12)}…`,
+          message: `${ref} content differs: locked sha256 ${locked.sha256.slice(0, 12)}…, its content now hashes to ${computed === null ? 'nothing (unreadable)' : `${computed.slice(0, 12)}…`}${column}`,
         };
       }
-      if (row.status === 'approved') return { ...base, registry_sha256: row.sha256, status: row.status, outcome: 'ok', failed: false, message: `${ref} ok` };
+      if (row.status === 'approved') return { ...base, registry_sha256: computed, status: row.status, outcome: 'ok', failed: false, message: `${ref} ok` };
       const why = row.status === 'retired' ? `retired: ${row.retireReason}` : row.status === 'withdrawn' ? 'withdrawn: nobody should use it' : 'a draft, not approved';
-      return { ...base, registry_sha256: row.sha256, status: row.status, outcome: row.status, failed: strict, message: `${ref} is ${why}` };
+      return { ...base, registry_sha256: computed, status: row.status, outcome: row.status, failed: strict, message: `${ref} is ${why}` };
     });
-  const failures = entries.filter((e) => e.failed).length;
-  return { ok: failures === 0, strict, entries, failures, warnings: entries.filter((e) => !e.failed && e.outcome !== 'ok').length };
+  const history = checkHistory(registry, lock.registry_head);
+  const failures = entries.filter((e) => e.failed).length + (history.failed ? 1 : 0);
+  const warnings = entries.filter((e) => !e.failed && e.outcome !== 'ok').length + (history.outcome === 'not-recorded' ? 1 : 0);
+  return { ok: failures === 0, strict, entries, history, failures, warnings };
 }
 
 export interface LockOutdatedEntry {

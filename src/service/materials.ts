@@ -53,7 +53,7 @@ export function createMaterial(registry: Registry, input: NewMaterial, actor: st
       .values({ slug, name, description, tags: JSON.stringify(tags), createdBy: who, createdAt: nowIso() })
       .returning()
       .get();
-    appendAudit(registry, { actor: who, action: 'material.create', materialId: row.id, detail: { slug, name, description, tags } });
+    appendAudit(registry, { actor: who, action: 'material.create', materialId: row.id, material: slug, detail: { slug, name, description, tags } });
     return materialRecord(registry, row);
   });
 }

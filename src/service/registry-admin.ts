@@ -1,14 +1,17 @@
-/** Whole-registry checks and copies: `verify` (recompute every hash) and `backup` (SQLite online backup). */
+/** Whole-registry checks and copies: `verify` (hashes, audit chain, triggers, integrity) and `backup` (SQLite online backup). */
 import { existsSync, linkSync, rmSync } from 'node:fs';
 import { asc, eq } from 'drizzle-orm';
 import { ConflictError, InputError } from '../errors.ts';
+import { readAuditRows, walkChain, type ChainedVersion, type ChainHead, type ChainWalk } from '../registry/chain.ts';
+import { environmentFault } from '../registry/faults.ts';
+import { checkTriggers, integrityCheck } from '../registry/integrity.ts';
 import type { Registry } from '../registry/open.ts';
 import { provenanceOf, versionSha256, type VersionRow } from '../registry/records.ts';
 import { formatRef } from '../registry/refs.ts';
 import { materials, materialVersions } from '../registry/schema.ts';
 import type { VersionContent } from '../registry/types.ts';
 
-/** Triggers created by drizzle/0001_immutability.sql; verify reports any that someone dropped. */
+/** Triggers created by drizzle/0001_immutability.sql and 0007_audit_chain_append.sql (verify compares them all by their SQL). */
 export const IMMUTABILITY_TRIGGERS = [
   'material_versions_content_immutable',
   'material_versions_status_transitions',
@@ -18,6 +21,7 @@ export const IMMUTABILITY_TRIGGERS = [
   'materials_identity_immutable',
   'audit_log_no_update',
   'audit_log_no_delete',
+  'audit_log_chain_append',
 ] as const;
 
 export interface HashMismatch {
@@ -28,14 +32,32 @@ export interface HashMismatch {
   reason: string;
 }
 
+/** A version whose stored hash, status or lifecycle disagrees with what the audit chain recorded. */
+export interface StateMismatch {
+  ref: string;
+  problem: string;
+}
+
 export interface VerifyReport {
-  /** True when every hash matches, no version number is missing and every trigger is in place. */
+  /** True when every check below found nothing. */
   ok: boolean;
   checked_versions: number;
+  /** Versions whose content no longer hashes to their stored SHA-256. */
   mismatches: HashMismatch[];
   /** Version numbers that were assigned but whose rows are gone (`slug@N`). */
   missing_versions: string[];
+  /** Triggers the migrations created that are gone. */
   missing_triggers: string[];
+  /** Triggers present under their name with other SQL (a no-op `WHEN 0` replacement, say). */
+  altered_triggers: string[];
+  /** Triggers no migration created. */
+  unexpected_triggers: string[];
+  /** The audit hash chain: its head (what a lockfile records) and every broken link or edited event. */
+  chain: { head: ChainHead | null; problems: string[] };
+  /** Versions whose content hash, status or approver disagree with the chain's events. */
+  state_mismatches: StateMismatch[];
+  /** Findings of SQLite's PRAGMA integrity_check (empty when it says ok). */
+  integrity: string[];
 }
 
 function recompute(row: VersionRow): { computed: string | null; reason: string } {
@@ -52,34 +74,94 @@ function recompute(row: VersionRow): { computed: string | null; reason: string }
   }
 }
 
-/** Recompute the SHA-256 of every version and check numbering and triggers. Reads only. */
+/** The SHA-256 recomputed from a version's stored content and provenance (null when unreadable). */
+export function recomputedSha256(row: VersionRow): string | null {
+  return recompute(row).computed;
+}
+
+const LIFECYCLE_ACTORS = [
+  ['created_by', 'createdBy', 'created'],
+  ['approved_by', 'approvedBy', 'approved'],
+  ['retired_by', 'retiredBy', 'retired'],
+  ['withdrawn_by', 'withdrawnBy', 'withdrawn'],
+] as const;
+
+/** Compare one stored version with the chain's account of it. */
+function crossCheck(ref: string, row: VersionRow, computed: string | null, chained: ChainedVersion | undefined): string[] {
+  if (!chained) return [`${ref}: the audit chain never recorded this version (inserted outside nkledger)`];
+  const problems: string[] = [];
+  if (computed !== null && computed !== chained.sha256) {
+    problems.push(`its content hashes to ${computed.slice(0, 12)}…, but the audit chain recorded ${chained.sha256.slice(0, 12)}… (content rewritten)`);
+  }
+  if (row.status !== chained.status) problems.push(`it is ${row.status}, but the audit chain has it ${chained.status} (status changed outside nkledger)`);
+  for (const [chainKey, rowKey, verb] of LIFECYCLE_ACTORS) {
+    const recorded = chained[chainKey];
+    const stored = row[rowKey];
+    // The genesis of an upgraded registry recorded no creator for versions made before it: nothing to compare.
+    if (chainKey === 'created_by' && recorded === null) continue;
+    if ((stored ?? null) !== (recorded ?? null)) problems.push(`it says ${verb} by ${stored ?? 'nobody'}, but the audit chain says ${recorded ?? 'nobody'}`);
+  }
+  return problems.map((problem) => `${ref}: ${problem}`);
+}
+
+/**
+ * Check the whole registry, reading only: SQLite's integrity check; every version's SHA-256 recomputed from
+ * its content; numbering; the triggers by their full SQL; the audit hash chain link by link; and every
+ * version's hash, status and lifecycle against the chain's events.
+ */
 export function verifyRegistry(registry: Registry): VerifyReport {
+  const integrity = integrityCheck(registry);
   const mismatches: HashMismatch[] = [];
   const missing: string[] = [];
+  const stateMismatches: StateMismatch[] = [];
   let checked = 0;
+  let walk: ChainWalk = { head: null, problems: [], versions: new Map(), hashes: [] };
+  const seen = new Set<string>();
   const read = registry.sqlite.transaction(() => {
+    walk = walkChain(readAuditRows(registry));
     for (const material of registry.db.select().from(materials).orderBy(asc(materials.slug)).all()) {
       const rows = registry.db.select().from(materialVersions).where(eq(materialVersions.materialId, material.id)).orderBy(asc(materialVersions.number)).all();
       const present = new Set(rows.map((r) => r.number));
       for (let n = 1; n <= material.lastVersion; n++) if (!present.has(n)) missing.push(formatRef(material.slug, n));
       for (const row of rows) {
         checked++;
+        const ref = formatRef(material.slug, row.number);
+        seen.add(ref);
         const { computed, reason } = recompute(row);
-        if (computed !== row.sha256) mismatches.push({ ref: formatRef(material.slug, row.number), stored_sha256: row.sha256, computed_sha256: computed, reason });
+        if (computed !== row.sha256) mismatches.push({ ref, stored_sha256: row.sha256, computed_sha256: computed, reason });
+        for (const problem of crossCheck(ref, row, computed, walk.versions.get(ref))) stateMismatches.push({ ref, problem });
       }
     }
   });
-  read.deferred();
-  const triggers = new Set(
-    (registry.sqlite.prepare("SELECT name FROM sqlite_master WHERE type = 'trigger'").all() as { name: string }[]).map((t) => t.name),
-  );
-  const missingTriggers = IMMUTABILITY_TRIGGERS.filter((name) => !triggers.has(name));
+  try {
+    read.deferred();
+  } catch (err) {
+    // A file so damaged that reading it fails: report what integrity_check found, if it found anything.
+    const fault = environmentFault(err, registry.path);
+    if (!fault || integrity.length === 0) throw fault ?? err;
+    integrity.push(`reading the registry failed: ${fault.message}`);
+  }
+  for (const ref of walk.versions.keys()) {
+    if (!seen.has(ref) && !missing.includes(ref)) stateMismatches.push({ ref, problem: `${ref}: recorded in the audit chain but not stored` });
+  }
+  const triggers = checkTriggers(registry);
   return {
-    ok: mismatches.length === 0 && missing.length === 0 && missingTriggers.length === 0,
+    ok:
+      integrity.length === 0 &&
+      mismatches.length === 0 &&
+      missing.length === 0 &&
+      triggers.missing.length + triggers.altered.length + triggers.unexpected.length === 0 &&
+      walk.problems.length === 0 &&
+      stateMismatches.length === 0,
     checked_versions: checked,
     mismatches,
     missing_versions: missing,
-    missing_triggers: missingTriggers,
+    missing_triggers: triggers.missing,
+    altered_triggers: triggers.altered,
+    unexpected_triggers: triggers.unexpected,
+    chain: { head: walk.head, problems: walk.problems },
+    state_mismatches: stateMismatches,
+    integrity,
   };
 }
 

@@ -9,7 +9,7 @@ export { parseRef, formatRef, checkSlug, MIN_HASH_PREFIX, type ParsedRef } from 
 export { versionSha256 } from '../registry/records.ts';
 export * from '../registry/types.ts';
 export { MEASUREMENT_METHODS, VERSION_STATUSES } from '../registry/schema.ts';
-export { checkActor } from './actor.ts';
+export { checkActor, sameUser, userKey } from './actor.ts';
 export { normalizeProvenance, parseMetaPairs, type ProvenanceInput } from './provenance.ts';
 export { createMaterial, editMaterial, listMaterials, getMaterial, history, type NewMaterial, type MaterialEdit } from './materials.ts';
 export { importVersion, resolveRef, showVersion, versionSummary, type NewVersion, type ImportedVersion, type ResolvedRef } from './versions.ts';

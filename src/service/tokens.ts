@@ -95,7 +95,8 @@ export function listTokens(registry: Registry, options: { activeOnly?: boolean }
 }
 
 /** Revoke a token by id. Revoking twice is refused (409) so a typo'd id is noticed. */
-export function revokeToken(registry: Registry, id: string, revokedBy: string): TokenInfo {
+export function revokeToken(registry: Registry, id: string, actor: string): TokenInfo {
+  const revokedBy = checkActor(actor);
   const row = registry.db.select().from(apiTokens).where(eq(apiTokens.id, id)).get() as
     | typeof apiTokens.$inferSelect
     | undefined;

@@ -151,6 +151,10 @@ export function importVersion(registry: Registry, input: NewVersion, actor: stri
       action: 'version.import',
       materialId: material.id,
       versionId: row.id,
+      material: slug,
+      version: number,
+      contentSha256: sha256,
+      status: { from: null, to: 'draft' },
       detail: { ref: formatRef(slug, number), sha256, model: content.fit?.model ?? null, source_file: provenance.source_file },
     });
     return { ref: formatRef(slug, number), version: number, sha256, status: 'draft' as const, warnings };

@@ -1,5 +1,6 @@
 /** The one settings catalogue through the API and the CLI: allow_self_approval sits beside the server settings. */
 import { join } from 'node:path';
+import { openRegistry } from '../../src/registry/open.ts';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { readSettings } from '../../src/service/settings.ts';
 import { runCli } from '../cli/run-cli.ts';
@@ -34,6 +35,7 @@ describe('settings routes and command', { timeout: 120_000 }, () => {
 
   it('`nkledger settings` shows, sets and resets allow_self_approval; the old self-approval command is gone', async () => {
     const db = join(h.dir, 'cli.db');
+    openRegistry(db).close(); // the CLI's settings command works on an existing registry only
     const run = (...args: string[]) => runCli(args, { env: { NKLEDGER_USER: 'ada', NKLEDGER_DB: db } });
     const shown = await run('settings', 'show');
     expect(shown.code).toBe(0);

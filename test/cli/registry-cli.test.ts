@@ -157,10 +157,13 @@ describe('several processes importing into one database at once', { timeout: 240
     }
   });
 
-  it('migrates a brand-new database opened by several processes at once', async () => {
+  it('creates and migrates a brand-new database written by several processes at once, with one audit chain', async () => {
     const freshDb = join(dir, 'fresh.db');
-    const env = { ...process.env, NKLEDGER_DB: freshDb };
-    const results = await Promise.all(Array.from({ length: 4 }, () => execFileAsync(process.execPath, [BIN, 'list', '--json'], { env })));
-    for (const r of results) expect(JSON.parse(r.stdout)).toEqual([]);
+    const env = { ...process.env, NKLEDGER_DB: freshDb, NKLEDGER_USER: 'ada' };
+    await Promise.all(Array.from({ length: 4 }, (_, i) => execFileAsync(process.execPath, [BIN, 'material', 'add', `film-${i}`, '--name', `Film ${i}`, '--json'], { env })));
+    const listed = await execFileAsync(process.execPath, [BIN, 'list', '--json'], { env });
+    expect(JSON.parse(listed.stdout).map((m: { slug: string }) => m.slug)).toEqual(['film-0', 'film-1', 'film-2', 'film-3']);
+    const verified = await execFileAsync(process.execPath, [BIN, 'verify', '--json'], { env });
+    expect(JSON.parse(verified.stdout)).toMatchObject({ ok: true, chain: { head: { sequence: 5 } } });
   });
 });

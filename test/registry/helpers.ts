@@ -1,7 +1,11 @@
 /** Shared fixtures for registry tests: a registry in a fresh temp directory and a small n,k table. */
-import { mkdtempSync, rmSync } from 'node:fs';
+import Database from 'better-sqlite3';
+import { drizzle } from 'drizzle-orm/better-sqlite3';
+import { migrate } from 'drizzle-orm/better-sqlite3/migrator';
+import { cpSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
+import { MIGRATIONS_FOLDER } from '../../src/registry/open.ts';
 import { openRegistry, type Registry } from '../../src/service/registry.ts';
 import type { NkTable } from '../../src/table.ts';
 
@@ -38,4 +42,21 @@ export function cauchyTable(a = 1.45, b = 0.0036, kAt = 0): NkTable {
     n: wavelengthNm.map((w) => a + b / (w / 1000) ** 2),
     k: wavelengthNm.map(() => kAt),
   };
+}
+
+/**
+ * A new database file `dir/name` at the schema of an older nkledger: only the migrations up to index
+ * `lastIdx` applied (from a copy of the migrations folder with a shortened journal). Returns the open
+ * raw connection, for the test to fill as that older version would have; the caller closes it.
+ */
+export function databaseAtMigration(dir: string, name: string, lastIdx: number): Database.Database {
+  const folder = join(dir, `drizzle-upto-${lastIdx}`);
+  cpSync(MIGRATIONS_FOLDER, folder, { recursive: true });
+  const journalPath = join(folder, 'meta', '_journal.json');
+  const journal = JSON.parse(readFileSync(journalPath, 'utf8'));
+  journal.entries = journal.entries.filter((e: { idx: number }) => e.idx <= lastIdx);
+  writeFileSync(journalPath, JSON.stringify(journal));
+  const sqlite = new Database(join(dir, name));
+  migrate(drizzle(sqlite), { migrationsFolder: folder });
+  return sqlite;
 }

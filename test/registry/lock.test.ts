@@ -1,7 +1,9 @@
 import { afterEach, beforeEach, describe, expect, it } from 'vitest';
 import { InputError } from '../../src/errors.ts';
+import { chainHead } from '../../src/registry/chain.ts';
 import {
   approve,
+  canonicalJson,
   createMaterial,
   emptyLockfile,
   importVersion,
@@ -33,15 +35,18 @@ afterEach(() => t.cleanup());
 describe('lockfiles', () => {
   it('round-trips through its JSON format and verifies clean', () => {
     const text = serializeLockfile(lock);
-    expect(JSON.parse(text)).toMatchObject({ format: 'nkledger-lock', format_version: 1, materials: { sio2: { version: 1 }, ta2o5: { version: 1 } } });
+    expect(JSON.parse(text)).toMatchObject({ format: 'nkledger-lock', format_version: 2, materials: { sio2: { version: 1 }, ta2o5: { version: 1 } } });
+    expect(JSON.parse(text).registry_head).toEqual(chainHead(t.registry));
     const report = lockVerify(t.registry, parseLockfile(text));
-    expect(report).toMatchObject({ ok: true, failures: 0, warnings: 0 });
+    expect(report).toMatchObject({ ok: true, failures: 0, warnings: 0, history: { outcome: 'ok', failed: false } });
     expect(report.entries.map((e) => e.outcome)).toEqual(['ok', 'ok']);
   });
 
   it('refuses malformed lockfiles with the place named', () => {
     expect(() => parseLockfile('{', 'x.json')).toThrow(InputError);
-    expect(() => parseLockfile(JSON.stringify({ format: 'nkledger-lock', format_version: 2, materials: {} }))).toThrow(/format_version/);
+    expect(() => parseLockfile(JSON.stringify({ format: 'nkledger-lock', format_version: 3, materials: {} }))).toThrow(/format_version/);
+    expect(() => parseLockfile(JSON.stringify({ ...lock, registry_head: { hash: 'abc', sequence: 1 } }))).toThrow(/registry_head\.hash/);
+    expect(() => parseLockfile(JSON.stringify({ ...lock, format_version: 1 }))).toThrow(/only in format_version 2/);
     expect(() => parseLockfile(JSON.stringify({ ...lock, materials: { sio2: { version: 1, sha256: 'abc' } } }))).toThrow(/materials\.sio2\.sha256/);
   });
 
@@ -65,11 +70,52 @@ describe('lockfiles', () => {
     expect(byRef['ta2o5@4']).toMatchObject({ outcome: 'missing', failed: true });
   });
 
-  it('catches content changed in the database behind the lockfile (triggers dropped)', () => {
+  it('still reads a format 1 lockfile: entries checked, history not (a warning); lock add upgrades it to format 2', () => {
+    const v1 = JSON.stringify({ format: 'nkledger-lock', format_version: 1, materials: lock.materials });
+    const report = lockVerify(t.registry, parseLockfile(v1));
+    expect(report).toMatchObject({ ok: true, failures: 0, warnings: 1, history: { outcome: 'not-recorded', failed: false } });
+    const upgraded = lockAdd(t.registry, parseLockfile(v1), 'sio2@1').lock;
+    expect(JSON.parse(serializeLockfile(upgraded))).toMatchObject({ format_version: 2, registry_head: chainHead(t.registry) });
+  });
+
+  it('recomputes each pinned hash from the content: content edited under an unchanged hash column fails (issue attack 1)', () => {
+    // Drop the content trigger, change the pinned version's content, re-create the trigger: the sha256
+    // column still holds the locked value, which is all the earlier check compared.
+    const trigger = (t.registry.sqlite.prepare("SELECT sql FROM sqlite_master WHERE name = 'material_versions_content_immutable'").get() as { sql: string }).sql;
     t.registry.sqlite.exec('DROP TRIGGER material_versions_content_immutable');
-    t.registry.sqlite.exec("UPDATE material_versions SET sha256 = '" + 'f'.repeat(64) + "' WHERE id = 1");
+    const row = t.registry.sqlite.prepare('SELECT id, content FROM material_versions WHERE id = 1').get() as { id: number; content: string };
+    const content = JSON.parse(row.content);
+    content.table.n[2] += 0.002;
+    t.registry.sqlite.prepare('UPDATE material_versions SET content = ? WHERE id = 1').run(canonicalJson(content));
+    t.registry.sqlite.exec(trigger);
     const report = lockVerify(t.registry, lock);
-    expect(report.entries.find((e) => e.slug === 'sio2')).toMatchObject({ outcome: 'mismatch', registry_sha256: 'f'.repeat(64) });
+    expect(report.ok).toBe(false);
+    const sio2 = report.entries.find((e) => e.slug === 'sio2')!;
+    expect(sio2).toMatchObject({ outcome: 'mismatch', failed: true });
+    expect(sio2.registry_sha256).not.toBe(lock.materials.sio2.sha256);
+    expect(sio2.message).toMatch(/stored hash column still says the locked value/);
+  });
+
+  it('proves the history still contains the locked head: appended history passes, a rewritten chain fails', () => {
+    // Appending is fine: more events after the locked head.
+    importVersion(t.registry, { slug: 'sio2', table: cauchyTable(1.48) }, 'ada');
+    approve(t.registry, 'sio2@2', 'bob');
+    expect(lockVerify(t.registry, lock).history).toMatchObject({ outcome: 'ok', failed: false });
+    // Another registry with the same pins but its own history is not the one the lockfile was made against.
+    const other = tempRegistry();
+    try {
+      for (const slug of ['sio2', 'ta2o5']) {
+        createMaterial(other.registry, { slug, name: slug }, 'ada');
+        importVersion(other.registry, { slug, table: cauchyTable(slug === 'sio2' ? 1.45 : 2.1) }, 'ada');
+        approve(other.registry, `${slug}@1`, 'bob');
+      }
+      const report = lockVerify(other.registry, lock);
+      expect(report.entries.map((e) => e.outcome)).toEqual(['ok', 'ok']);
+      expect(report.history).toMatchObject({ outcome: 'rewritten', failed: true });
+      expect(report.ok).toBe(false);
+    } finally {
+      other.cleanup();
+    }
   });
 
   it('warns on a retired version, and fails it with strict', () => {

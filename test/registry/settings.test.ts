@@ -2,16 +2,12 @@
  * One settings catalogue and one table (registry_settings) for the registry's rules and the HTTP API's settings;
  * every change is audited; a registry made before the merge keeps its values (migrations 0003 and 0004).
  */
-import Database from 'better-sqlite3';
-import { drizzle } from 'drizzle-orm/better-sqlite3';
-import { migrate } from 'drizzle-orm/better-sqlite3/migrator';
-import { cpSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
+import { mkdtempSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterEach, beforeEach, describe, expect, it } from 'vitest';
-import { MIGRATIONS_FOLDER } from '../../src/registry/open.ts';
 import { approve, createMaterial, importVersion, openRegistry, readSettings, resetSetting, SETTING_KEYS, writeSetting, writeSettingText } from '../../src/service/registry.ts';
-import { cauchyTable, tempRegistry, type TempRegistry } from './helpers.ts';
+import { cauchyTable, databaseAtMigration, tempRegistry, type TempRegistry } from './helpers.ts';
 
 let t: TempRegistry;
 beforeEach(() => {
@@ -62,16 +58,9 @@ describe('migration of a registry made before the settings were merged', () => {
   afterEach(() => rmSync(dir, { recursive: true, force: true }));
 
   it('carries the values of both old tables into registry_settings', () => {
-    // Apply only the migrations up to 0002 (the two-table layout), from a copy of the migrations folder.
-    const old = join(dir, 'drizzle-0002');
-    cpSync(MIGRATIONS_FOLDER, old, { recursive: true });
-    const journalPath = join(old, 'meta', '_journal.json');
-    const journal = JSON.parse(readFileSync(journalPath, 'utf8'));
-    journal.entries = journal.entries.filter((e: { idx: number }) => e.idx <= 2);
-    writeFileSync(journalPath, JSON.stringify(journal));
+    // Only the migrations up to 0002 (the two-table layout).
     const path = join(dir, 'old.db');
-    const sqlite = new Database(path);
-    migrate(drizzle(sqlite), { migrationsFolder: old });
+    const sqlite = databaseAtMigration(dir, 'old.db', 2);
     sqlite.prepare("INSERT INTO registry_settings (key, value, updated_by, updated_at) VALUES ('allow_self_approval', 'true', 'ada', '2025-01-01T00:00:00.000Z')").run();
     sqlite.prepare("INSERT INTO api_settings (key, value_json, updated_at, updated_by) VALUES ('cors_origins', '[\"https://design.example.org\"]', '2025-01-02T00:00:00.000Z', 'root')").run();
     sqlite.prepare("INSERT INTO api_settings (key, value_json, updated_at, updated_by) VALUES ('anonymous_reads', '\"off\"', '2025-01-02T00:00:00.000Z', 'root')").run();

@@ -26,6 +26,10 @@ import {
   sha256Hex,
   showVersion,
   verifyRegistry,
+  lockAdd,
+  emptyLockfile,
+  writeLockfile,
+  type Lockfile,
   type Registry,
 } from '../../src/service/registry.ts';
 import { createToken, revokeToken } from '../../src/service/tokens.ts';
@@ -38,6 +42,9 @@ let registry: Registry;
 let server: RunningServer;
 /** The n,k answer for tamper@1 served (and cached) before anyone touched the file. */
 let nkBefore: string;
+/** A design's lockfile pinning tamper@1 and intact@1, written before the attack. */
+let lockfile: Lockfile;
+const lockPath = join(dir, 'design.nklock.json');
 const TAMPERED = ['tamper@1', 'tamper@2', 'tamper@3', 'tamper@4'];
 const nkPath = (ref: string) => `/api/v1/materials/${ref.replace('@', '/versions/')}/nk?wavelengths_nm=500,600`;
 
@@ -48,6 +55,8 @@ beforeAll(async () => {
   for (let i = 1; i <= 4; i++) importVersion(registry, { slug: 'tamper', table: cauchyTable(1.4 + i / 100), provenance: { notes: `wafer ${i}` } }, 'ada');
   importVersion(registry, { slug: 'intact', table: cauchyTable(1.6) }, 'ada');
   for (const ref of ['tamper@1', 'tamper@2', 'tamper@3', 'intact@1']) approve(registry, ref, 'bob');
+  lockfile = lockAdd(registry, lockAdd(registry, emptyLockfile(), 'tamper@1').lock, 'intact@1').lock;
+  writeLockfile(lockPath, lockfile);
   server = await startServer({ registry, host: '127.0.0.1', port: 0 });
   const res = await fetch(`${server.url}${nkPath('tamper@1')}`);
   expect(res.status).toBe(200);
@@ -131,6 +140,27 @@ describe('edits made directly in the database file', { timeout: 90_000 }, () => 
     }
     expect(verified.code).toBe(3);
     for (const ref of TAMPERED) expect(verified.err).toContain(`FAIL  ${ref}:`);
+  });
+});
+
+describe('a lockfile pinned before the edits', { timeout: 90_000 }, () => {
+  it('fails lock verify over HTTP: the pinned hash is recomputed from the edited content', async () => {
+    const res = await fetch(`${server.url}/api/v1/locks/verify`, { method: 'POST', headers: { 'content-type': 'application/json' }, body: JSON.stringify(lockfile) });
+    expect(res.status).toBe(200);
+    const report = await res.json();
+    expect(report.ok).toBe(false);
+    expect(report.entries.map((e: { ref: string; outcome: string }) => [e.ref, e.outcome])).toEqual([
+      ['intact@1', 'ok'],
+      ['tamper@1', 'mismatch'],
+    ]);
+    expect(report.history).toMatchObject({ outcome: 'ok', locked_head: lockfile.registry_head });
+  });
+
+  it('fails `nkledger lock verify` (exit 3), naming the edited version', async () => {
+    const r = await cli(['lock', 'verify', '--lock', lockPath, '--db', db], 'ada');
+    expect(r.code, r.err).toBe(3);
+    expect(r.out).toMatch(/FAIL {2}tamper@1 content differs/);
+    expect(r.out).toMatch(/ok {4}intact@1 ok/);
   });
 });
 

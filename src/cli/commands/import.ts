@@ -62,7 +62,7 @@ export function register(program: Command): void {
           const { bytes, file: name } = await readSource(file, importOptions, cliIo().stdin);
           inputs.push({ slug: opts.material, bytes, file: name, importOptions, fit, kk: opts.kk, provenance });
         }
-        const stored = await withRegistry(opts, (r) => importMeasurements(r, inputs, actorFrom(opts)));
+        const stored = await withRegistry(opts, (r) => importMeasurements(r, inputs, actorFrom(opts)), { create: 'if-folder-exists' });
         const reports = stored.map((v, i) => ({
           ref: v.ref,
           sha256: v.sha256,

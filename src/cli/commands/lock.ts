@@ -14,10 +14,10 @@ export function register(program: Command): void {
   const lock = program.command('lock').description("a design's lockfile: the exact version and content hash of every material it uses");
 
   addDbOption(lock.command('add'))
-    .description('pin a version in the lockfile (created if missing; replaces another version of the same material)')
+    .description("pin a version in the lockfile (created if missing; replaces another version of the same material) and record the registry's audit-chain head")
     .argument('<ref>', 'slug@N, slug@sha256:PREFIX or a bare slug (pins its latest approved version)')
     .requiredOption('--lock <file>', 'lockfile path, e.g. design.nklock.json')
-    .option('--json', 'print {"ref", "sha256", "replaced"} as JSON')
+    .option('--json', 'print {"ref", "sha256", "replaced", "registry_head"} as JSON')
     .addHelpText('after', '\nExample:\n  nkledger lock add sin-pecvd-a@3 --lock filter.nklock.json')
     .action(
       guarded(async (ref: string, opts: { db?: string; lock: string; json?: boolean }) => {
@@ -25,16 +25,18 @@ export function register(program: Command): void {
         const result = await withRegistry(opts, (r) => lockAdd(r, current, ref));
         writeLockfile(opts.lock, result.lock);
         printResolution(result);
-        if (opts.json) return printJson({ ref: result.ref, sha256: result.entry.sha256, replaced: result.replaced });
+        if (opts.json) return printJson({ ref: result.ref, sha256: result.entry.sha256, replaced: result.replaced, registry_head: result.lock.registry_head ?? null });
         printLines([`pinned ${result.ref} sha256:${result.entry.sha256} in ${opts.lock}`]);
       }),
     );
 
   addDbOption(lock.command('verify'))
-    .description(`check every entry resolves to identical content (exit 0), else name each problem (exit ${CHECK_FAILED_EXIT})`)
+    .description(
+      `check every entry's content still hashes to the locked SHA-256 (recomputed from the content) and that the registry's history still contains the audit-chain head the lockfile recorded (exit 0), else name each problem (exit ${CHECK_FAILED_EXIT})`,
+    )
     .requiredOption('--lock <file>', 'lockfile path')
     .option('--strict', 'retired, draft and withdrawn versions fail too (otherwise they are warnings)')
-    .option('--json', 'print {"ok", "entries": [{"ref", "outcome", "message", ...}], ...} as JSON')
+    .option('--json', 'print {"ok", "entries": [{"ref", "outcome", "message", ...}], "history": {"outcome", "message", ...}, ...} as JSON')
     .addHelpText('after', '\nExample:\n  nkledger lock verify --lock filter.nklock.json --strict')
     .action(
       guarded(async (opts: { db?: string; lock: string; strict?: boolean; json?: boolean }) => {
@@ -43,7 +45,11 @@ export function register(program: Command): void {
         if (!report.ok) setExitCode(CHECK_FAILED_EXIT);
         if (opts.json) return printJson(report);
         // Every entry's line goes to stdout (so `lock verify > report` keeps which entry failed); the summary to stderr.
-        printLines(report.entries.map((e) => `${e.failed ? 'FAIL' : e.outcome === 'ok' ? 'ok  ' : 'warn'}  ${e.message}`));
+        const h = report.history;
+        printLines([
+          ...report.entries.map((e) => `${e.failed ? 'FAIL' : e.outcome === 'ok' ? 'ok  ' : 'warn'}  ${e.message}`),
+          `${h.failed ? 'FAIL' : h.outcome === 'ok' ? 'ok  ' : 'warn'}  ${h.message}`,
+        ]);
         cliIo().stderr.write(
           `${report.ok ? `lockfile ok: ${report.entries.length} entries${report.warnings ? `, ${report.warnings} warning(s)` : ''}` : `lockfile FAILED: ${report.failures} of ${report.entries.length} entries`}\n`,
         );

@@ -19,6 +19,7 @@ export function register(program: Command): void {
       guarded(async (slug: string, opts: { db?: string; as?: string; name: string; description?: string; tag?: string[]; json?: boolean }) => {
         const created = await withRegistry(opts, (r) =>
           createMaterial(r, { slug, name: opts.name, description: opts.description, tags: opts.tag }, actorFrom(opts)),
+          { create: 'if-folder-exists' },
         );
         if (opts.json) return printJson(created);
         printLines([`created material ${created.slug} (${created.name}); add versions with: nkledger import FILE --material ${created.slug}`]);

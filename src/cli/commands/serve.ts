@@ -77,13 +77,14 @@ export function register(program: Command): void {
           threads: opts.computeThreads === undefined ? undefined : parseOptionNumber(opts.computeThreads, '--compute-threads', { integer: true, min: 1, max: 256 }),
           maxQueue: opts.computeQueue === undefined ? undefined : parseOptionNumber(opts.computeQueue, '--compute-queue', { integer: true, min: 0, max: 100_000 }),
         };
-        const registry = openRegistry(opts.db);
+        const registry = openRegistry(opts.db, { create: 'never' });
         const anonymous = readSettings(registry).anonymous_reads;
         await serveUntilSignal(registry, { host: opts.host, port, graceSeconds, compute }, (server) => {
           const open = anonymous === 'on' || (anonymous === 'auto' && isLoopbackHost(opts.host));
           cliIo().stdout.write(`nkledger serving ${registry.path} at ${server.url}/api/v1/materials\n`);
           cliIo().stdout.write(`  OpenAPI: ${server.url}/api/v1/openapi.json\n`);
           cliIo().stdout.write(`  reads without a token: ${open ? 'allowed' : 'refused'} (setting anonymous_reads = ${anonymous})\n`);
+          if (registry.readonly) cliIo().stdout.write('  the registry file is read-only: reads are served, writes are refused (503)\n');
           cliIo().stdout.write('  Ctrl-C stops the server after open requests finish (at most --grace seconds)\n');
         });
       }),

@@ -1,29 +1,56 @@
 /** `nkledger verify`: recompute every stored hash; name each version whose content no longer matches. */
 import type { Command } from 'commander';
+import { EnvironmentError } from '../../errors.ts';
 import { verifyRegistry } from '../../service/registry-admin.ts';
 import { addDbOption, withRegistry } from '../admin-options.ts';
-import { guarded } from '../failure.ts';
-import { cliIo, setExitCode } from '../io.ts';
+import { ENVIRONMENT_FAULT_EXIT, guarded } from '../failure.ts';
 import { printJson, printLines } from '../output.ts';
 import { CHECK_FAILED_EXIT } from './lock.ts';
+import { cliIo, setExitCode } from '../io.ts';
+
+/**
+ * Open read-only first, so a damaged file is only read (its integrity check then reports the damage, exit 3)
+ * and nothing is migrated or written; a registry from an older nkledger is opened writable to bring its
+ * schema up to date (and start its audit chain) before it is checked.
+ */
+async function verifyFile(opts: { db?: string }) {
+  try {
+    return await withRegistry(opts, verifyRegistry, { readonly: true });
+  } catch (err) {
+    if (!(err instanceof EnvironmentError && err.rule === 'registry-needs-upgrade')) throw err;
+    return withRegistry(opts, verifyRegistry);
+  }
+}
 
 export function register(program: Command): void {
   addDbOption(program.command('verify'))
-    .description(`recompute the SHA-256 of every version and check numbering and the immutability triggers (exit ${CHECK_FAILED_EXIT} on any problem)`)
-    .option('--json', 'print {"ok", "checked_versions", "mismatches", "missing_versions", "missing_triggers"} as JSON')
+    .description(
+      `check the registry: SQLite's integrity check, every version's SHA-256 recomputed, numbering, the triggers by their SQL, the audit hash chain, and every version's status and approver against it (exit ${CHECK_FAILED_EXIT} on any problem, ${ENVIRONMENT_FAULT_EXIT} when the file cannot be read)`,
+    )
+    .option('--json', 'print {"ok", "checked_versions", "chain": {"head"}, "mismatches", "state_mismatches", ...} as JSON')
     .addHelpText('after', '\nExample:\n  nkledger verify --db /srv/nkledger/lab.db')
     .action(
       guarded(async (opts: { db?: string; json?: boolean }) => {
-        const report = await withRegistry(opts, verifyRegistry);
+        const report = await verifyFile(opts);
         if (!report.ok) setExitCode(CHECK_FAILED_EXIT);
         if (opts.json) return printJson(report);
         const problems = [
           ...report.mismatches.map((m) => `${m.ref}: ${m.reason} (stored ${m.stored_sha256.slice(0, 12)}…, computed ${m.computed_sha256?.slice(0, 12) ?? 'none'}…)`),
           ...report.missing_versions.map((ref) => `${ref}: the version was assigned but its row is gone`),
           ...report.missing_triggers.map((t) => `trigger ${t} is missing: the database no longer refuses edits by itself`),
+          ...report.altered_triggers.map((t) => `trigger ${t} was replaced by one with other SQL: it may no longer refuse anything`),
+          ...report.unexpected_triggers.map((t) => `trigger ${t} was not created by nkledger`),
+          ...report.chain.problems.map((p) => `audit chain: ${p}`),
+          ...report.state_mismatches.map((m) => m.problem),
+          ...report.integrity.map((line) => `integrity_check: ${line}`),
         ];
         for (const p of problems) cliIo().stderr.write(`FAIL  ${p}\n`);
-        printLines([report.ok ? `registry ok: ${report.checked_versions} versions, every hash matches` : `registry FAILED verification: ${problems.length} problem(s) in ${report.checked_versions} versions`]);
+        const head = report.chain.head ? `; audit chain head ${report.chain.head.hash} (event ${report.chain.head.sequence})` : '';
+        printLines([
+          report.ok
+            ? `registry ok: ${report.checked_versions} versions, every hash matches its content and the audit chain${head}`
+            : `registry FAILED verification: ${problems.length} problem(s) in ${report.checked_versions} versions${head}`,
+        ]);
       }),
     );
 }

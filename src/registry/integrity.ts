@@ -1,0 +1,70 @@
+/**
+ * The database's own defences and health, as `verify` checks them: the triggers the migrations created
+ * (compared by their full SQL, so a same-named trigger that does nothing is caught), and SQLite's
+ * `PRAGMA integrity_check`.
+ */
+import { readMigrationFiles } from 'drizzle-orm/migrator';
+import type { Registry } from './open.ts';
+import { MIGRATIONS_FOLDER } from './open.ts';
+
+/** A statement of a migration file, without the comment lines before it. */
+function statementText(sql: string): string {
+  return sql
+    .split('\n')
+    .filter((line, i, all) => !(line.trimStart().startsWith('--') && all.slice(0, i).every((l) => l.trimStart().startsWith('--') || l.trim() === '')))
+    .join('\n')
+    .trim()
+    .replace(/;\s*$/, '');
+}
+
+let expected: Map<string, string> | undefined;
+
+/** Every trigger the committed migrations leave in place, name → its CREATE TRIGGER text. */
+export function expectedTriggers(): Map<string, string> {
+  if (expected) return expected;
+  const triggers = new Map<string, string>();
+  for (const migration of readMigrationFiles({ migrationsFolder: MIGRATIONS_FOLDER })) {
+    for (const raw of migration.sql) {
+      const text = statementText(raw);
+      const created = /^CREATE\s+TRIGGER\s+(?:IF\s+NOT\s+EXISTS\s+)?[`"]?([\w]+)[`"]?/i.exec(text);
+      if (created) triggers.set(created[1], text);
+      const dropped = /^DROP\s+TRIGGER\s+(?:IF\s+EXISTS\s+)?[`"]?([\w]+)[`"]?/i.exec(text);
+      if (dropped) triggers.delete(dropped[1]);
+    }
+  }
+  return (expected = triggers);
+}
+
+/** Whitespace runs count as one space: SQLite stores the text as written, and line endings may differ on checkout. */
+const sameSql = (a: string, b: string) => a.replace(/\s+/g, ' ').trim() === b.replace(/\s+/g, ' ').trim();
+
+export interface TriggerCheck {
+  missing: string[];
+  /** Present under the expected name, with other SQL (e.g. a `WHEN 0` that never fires). */
+  altered: string[];
+  /** Triggers no migration created. */
+  unexpected: string[];
+}
+
+export function checkTriggers(registry: Registry): TriggerCheck {
+  const actual = new Map(
+    (registry.sqlite.prepare("SELECT name, sql FROM sqlite_master WHERE type = 'trigger'").all() as { name: string; sql: string | null }[]).map((t) => [t.name, t.sql ?? '']),
+  );
+  const want = expectedTriggers();
+  const missing: string[] = [];
+  const altered: string[] = [];
+  for (const [name, sql] of want) {
+    const have = actual.get(name);
+    if (have === undefined) missing.push(name);
+    else if (!sameSql(have, sql)) altered.push(name);
+  }
+  const unexpected = [...actual.keys()].filter((name) => !want.has(name)).sort();
+  return { missing, altered, unexpected };
+}
+
+/** SQLite's own structural check: an empty list when it says "ok", else its findings (at most 100). */
+export function integrityCheck(registry: Registry): string[] {
+  const rows = registry.sqlite.pragma('integrity_check(100)') as { integrity_check: string }[];
+  const lines = rows.map((r) => r.integrity_check);
+  return lines.length === 1 && lines[0] === 'ok' ? [] : lines;
+}

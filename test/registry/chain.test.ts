@@ -1,0 +1,219 @@
+/**
+ * The audit hash chain and what `verify` proves with it. Each attack from the tamper report is made with
+ * raw SQL on the file, as another program would, and must make verify fail with the version named:
+ * content and hash rewritten together, a status set to approved with another approver and no audit row,
+ * an immutability trigger replaced by a same-named no-op, and edits of the audit log itself.
+ * (Hash chaining of log entries: S. Haber and W. S. Stornetta, J. Cryptology 3, 99 (1991) — published.)
+ */
+import Database from 'better-sqlite3';
+import { mkdtempSync, rmSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { afterEach, beforeEach, describe, expect, it } from 'vitest';
+import { chainHead, eventDocument, GENESIS_TYPE, readAuditRows, type AuditRow } from '../../src/registry/chain.ts';
+import {
+  approve,
+  canonicalJson,
+  createMaterial,
+  importVersion,
+  openRegistry,
+  retire,
+  sha256Hex,
+  verifyRegistry,
+  versionSha256,
+} from '../../src/service/registry.ts';
+import { cauchyTable, databaseAtMigration, tempRegistry, type TempRegistry } from './helpers.ts';
+
+let t: TempRegistry;
+beforeEach(() => {
+  t = tempRegistry();
+  createMaterial(t.registry, { slug: 'film', name: 'Film' }, 'ada');
+  importVersion(t.registry, { slug: 'film', table: cauchyTable(1.45) }, 'ada');
+  importVersion(t.registry, { slug: 'film', table: cauchyTable(1.46) }, 'ada');
+  approve(t.registry, 'film@1', 'bob');
+});
+afterEach(() => t.cleanup());
+
+/** Another program's connection to the same file (no nkledger code in the way). */
+function raw(use: (db: Database.Database) => void): void {
+  const db = new Database(t.path);
+  try {
+    use(db);
+  } finally {
+    db.close();
+  }
+}
+
+const triggerSql = (db: Database.Database, name: string) => (db.prepare('SELECT sql FROM sqlite_master WHERE name = ?').get(name) as { sql: string }).sql;
+
+describe('the audit chain', () => {
+  it('links every event to the one before it and hashes each over its canonical JSON', () => {
+    const rows = readAuditRows(t.registry);
+    expect(rows.map((r) => r.action)).toEqual([GENESIS_TYPE, 'material.create', 'version.import', 'version.import', 'version.approve']);
+    expect(rows[0].prev_hash).toBeNull();
+    for (let i = 1; i < rows.length; i++) expect(rows[i].prev_hash).toBe(rows[i - 1].hash);
+    // The hashed document, byte for byte: keys sorted, every key present, integers only.
+    const approveRow = rows[4];
+    const text = canonicalJson(eventDocument(approveRow));
+    expect(text).toBe(
+      `{"actor":"bob","content_sha256":"${approveRow.content_sha256}","details":{"ref":"film@1","self_approved":false,"sha256":"${approveRow.content_sha256}"},` +
+        `"material":"film","prev_hash":"${rows[3].hash}","status_change":{"from":"draft","to":"approved"},"time":"${approveRow.at}","type":"version.approve","version":1}`,
+    );
+    expect(approveRow.hash).toBe(sha256Hex(text));
+    expect(chainHead(t.registry)).toEqual({ hash: approveRow.hash, sequence: 5 });
+    const report = verifyRegistry(t.registry);
+    expect(report.ok).toBe(true);
+    expect(report.chain).toEqual({ head: { hash: approveRow.hash, sequence: 5 }, problems: [] });
+  });
+
+  it('refuses, in SQLite itself, an audit row that does not extend the chain at its head', () => {
+    raw((db) => {
+      expect(() => db.exec("INSERT INTO audit_log (at, actor, action, detail) VALUES ('2025-01-01T00:00:00.000Z', 'mallory', 'version.approve', '{}')")).toThrow(/extend the chain/);
+      const first = readAuditRows(t.registry)[1];
+      expect(() =>
+        db.prepare("INSERT INTO audit_log (at, actor, action, detail, prev_hash, hash) VALUES ('2025-01-01T00:00:00.000Z', 'mallory', 'x', '{}', ?, ?)").run(first.prev_hash, 'e'.repeat(64)),
+      ).toThrow(/extend the chain|UNIQUE/);
+    });
+  });
+});
+
+describe('verify catches each attack made with raw SQL', () => {
+  it('content and its hash rewritten together (triggers dropped and re-created)', () => {
+    raw((db) => {
+      const trigger = triggerSql(db, 'material_versions_content_immutable');
+      db.exec('DROP TRIGGER material_versions_content_immutable');
+      const row = db.prepare('SELECT * FROM material_versions WHERE number = 1').get() as Record<string, string>;
+      const content = JSON.parse(row.content);
+      content.table.n[0] += 0.01;
+      const provenance = { sample: null, substrate: null, process: null, instrument: null, method: null, angles_deg: null, measured_on: null, operator: null, source_file: null, source_sha256: null, notes: null };
+      db.prepare('UPDATE material_versions SET content = ?, sha256 = ? WHERE number = 1').run(canonicalJson(content), versionSha256(content, provenance));
+      db.exec(trigger);
+    });
+    const report = verifyRegistry(t.registry);
+    expect(report.ok).toBe(false);
+    expect(report.mismatches).toEqual([]); // content and column agree: only the chain can tell
+    expect(report.state_mismatches.map((m) => m.problem)).toEqual([expect.stringMatching(/^film@1: its content hashes to .* but the audit chain recorded .*content rewritten/)]);
+  });
+
+  it('a draft set to approved with another user as approver, without an audit row', () => {
+    raw((db) => db.exec("UPDATE material_versions SET status = 'approved', approved_by = 'carol', approved_at = '2025-01-01T00:00:00.000Z', self_approved = 0 WHERE number = 2"));
+    const report = verifyRegistry(t.registry);
+    expect(report.ok).toBe(false);
+    expect(report.state_mismatches.map((m) => m.problem)).toEqual([
+      'film@2: it is approved, but the audit chain has it draft (status changed outside nkledger)',
+      'film@2: it says approved by carol, but the audit chain says nobody',
+    ]);
+  });
+
+  it('an approver rewritten on an approved version', () => {
+    raw((db) => {
+      db.exec('DROP TRIGGER material_versions_lifecycle_set_once');
+      db.exec("UPDATE material_versions SET approved_by = 'ada' WHERE number = 1");
+    });
+    const report = verifyRegistry(t.registry);
+    expect(report.state_mismatches.map((m) => m.problem)).toEqual(['film@1: it says approved by ada, but the audit chain says bob']);
+    expect(report.missing_triggers).toEqual(['material_versions_lifecycle_set_once']);
+  });
+
+  it('a trigger replaced by a same-named one that never fires (WHEN 0), and a trigger nobody created', () => {
+    raw((db) => {
+      db.exec('DROP TRIGGER material_versions_status_transitions');
+      db.exec("CREATE TRIGGER material_versions_status_transitions BEFORE UPDATE OF status ON material_versions WHEN 0 BEGIN SELECT RAISE(ABORT, 'nkledger: status may only go draft -> approved -> retired, or draft -> withdrawn'); END");
+      db.exec('CREATE TRIGGER helper AFTER INSERT ON materials BEGIN SELECT 1; END');
+    });
+    const report = verifyRegistry(t.registry);
+    expect(report.ok).toBe(false);
+    expect(report.missing_triggers).toEqual([]);
+    expect(report.altered_triggers).toEqual(['material_versions_status_transitions']);
+    expect(report.unexpected_triggers).toEqual(['helper']);
+  });
+
+  it('an audit event edited, or deleted, with the log triggers dropped', () => {
+    raw((db) => {
+      db.exec('DROP TRIGGER audit_log_no_update');
+      db.exec("UPDATE audit_log SET actor = 'carol' WHERE action = 'version.approve'");
+    });
+    expect(verifyRegistry(t.registry).chain.problems).toEqual([expect.stringMatching(/audit event 5 \(version\.approve, sequence 5\): its content no longer matches its hash/)]);
+    // The approver's name in the versions table now disagrees with the (edited) event too.
+    raw((db) => {
+      db.exec('DROP TRIGGER audit_log_no_delete');
+      db.exec("DELETE FROM audit_log WHERE action = 'version.import' AND version_number = 2");
+    });
+    const report = verifyRegistry(t.registry);
+    expect(report.chain.problems.join('\n')).toMatch(/sequence 4\): its prev_hash does not name the event before it/);
+    expect(report.state_mismatches.map((m) => m.problem)).toContain('film@2: the audit chain never recorded this version (inserted outside nkledger)');
+  });
+
+  it('the whole log emptied', () => {
+    raw((db) => {
+      db.exec('DROP TRIGGER audit_log_no_delete');
+      db.exec('DELETE FROM audit_log');
+    });
+    const report = verifyRegistry(t.registry);
+    expect(report.chain.problems).toEqual(['the audit log has no hash chain (no chain.genesis event)']);
+    expect(report.ok).toBe(false);
+  });
+
+  it('retire and the lifecycle after it stay consistent with the chain', () => {
+    retire(t.registry, 'film@1', 'substrate mix-up', 'bob');
+    expect(verifyRegistry(t.registry).ok).toBe(true);
+  });
+});
+
+describe('a registry written before the chain existed', () => {
+  let dir: string;
+  beforeEach(() => {
+    dir = mkdtempSync(join(tmpdir(), 'nkledger-genesis-'));
+  });
+  afterEach(() => rmSync(dir, { recursive: true, force: true }));
+
+  /** A registry file at the schema of migration 0005 (before the chain), with one approved version and its log. */
+  function oldRegistry(): string {
+    const path = join(dir, 'old.db');
+    const db = databaseAtMigration(dir, 'old.db', 5);
+    const content = { table: cauchyTable(1.5), fit: null, kk: null };
+    const provenance = { sample: null, substrate: null, process: null, instrument: null, method: null, angles_deg: null, measured_on: null, operator: null, source_file: null, source_sha256: null, notes: null };
+    const at = '2025-03-01T10:00:00.000Z';
+    db.prepare("INSERT INTO materials (slug, name, created_by, created_at, last_version) VALUES ('old-film', 'Old', 'ada', ?, 1)").run(at);
+    db.prepare("INSERT INTO material_versions (material_id, number, status, content, sha256, created_by, created_at, approved_by, approved_at, self_approved) VALUES (1, 1, 'approved', ?, ?, 'ada', ?, 'bob', ?, 0)").run(
+      canonicalJson(content),
+      versionSha256(content, provenance),
+      at,
+      at,
+    );
+    for (const [actor, action, versionId] of [['ada', 'material.create', null], ['ada', 'version.import', 1], ['bob', 'version.approve', 1]] as const) {
+      db.prepare('INSERT INTO audit_log (at, actor, action, material_id, version_id, detail) VALUES (?, ?, ?, 1, ?, ?)').run(at, actor, action, versionId, '{}');
+    }
+    db.close();
+    return path;
+  }
+
+  it('gets a genesis event over every stored hash and the earlier log, and verifies; later edits of either are caught', () => {
+    const path = oldRegistry();
+    const registry = openRegistry(path);
+    try {
+      const rows = readAuditRows(registry);
+      expect(rows.map((r) => [r.action, r.hash === null])).toEqual([
+        ['material.create', true],
+        ['version.import', true],
+        ['version.approve', true],
+        [GENESIS_TYPE, false],
+      ]);
+      const genesis = JSON.parse(rows[3].detail);
+      expect(genesis.versions).toEqual([
+        { ref: 'old-film@1', sha256: expect.stringMatching(/^[0-9a-f]{64}$/), status: 'approved', created_by: 'ada', approved_by: 'bob', retired_by: null, withdrawn_by: null },
+      ]);
+      expect(genesis.earlier_events).toBe(3);
+      expect(verifyRegistry(registry).ok).toBe(true);
+      // Opening again does not start a second chain.
+      openRegistry(path).close();
+      expect(readAuditRows(registry).filter((r: AuditRow) => r.action === GENESIS_TYPE)).toHaveLength(1);
+
+      registry.sqlite.exec('DROP TRIGGER audit_log_no_update');
+      registry.sqlite.exec("UPDATE audit_log SET actor = 'mallory' WHERE id = 3");
+      expect(verifyRegistry(registry).chain.problems).toEqual(['the 3 audit rows written before the chain started no longer match the digest its genesis event recorded']);
+    } finally {
+      registry.close();
+    }
+  });
+});
