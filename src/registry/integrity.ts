@@ -22,16 +22,23 @@ let expected: Map<string, string> | undefined;
 /** Every trigger the committed migrations leave in place, name → its CREATE TRIGGER text. */
 export function expectedTriggers(): Map<string, string> {
   if (expected) return expected;
+  // A trigger dropped and re-created by a later migration keeps its first place, so reports list triggers
+  // in the order the migrations introduced them.
   const triggers = new Map<string, string>();
+  const dropped = new Set<string>();
   for (const migration of readMigrationFiles({ migrationsFolder: MIGRATIONS_FOLDER })) {
     for (const raw of migration.sql) {
       const text = statementText(raw);
       const created = /^CREATE\s+TRIGGER\s+(?:IF\s+NOT\s+EXISTS\s+)?[`"]?([\w]+)[`"]?/i.exec(text);
-      if (created) triggers.set(created[1], text);
-      const dropped = /^DROP\s+TRIGGER\s+(?:IF\s+EXISTS\s+)?[`"]?([\w]+)[`"]?/i.exec(text);
-      if (dropped) triggers.delete(dropped[1]);
+      if (created) {
+        triggers.set(created[1], text);
+        dropped.delete(created[1]);
+      }
+      const gone = /^DROP\s+TRIGGER\s+(?:IF\s+EXISTS\s+)?[`"]?([\w]+)[`"]?/i.exec(text);
+      if (gone) dropped.add(gone[1]);
     }
   }
+  for (const name of dropped) triggers.delete(name);
   return (expected = triggers);
 }
 

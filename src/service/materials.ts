@@ -97,6 +97,7 @@ export function editMaterial(registry: Registry, slugText: string, edit: Materia
         actor: who,
         action: 'material.edit',
         materialId: row.id,
+        material: slug,
         detail: { slug, ...Object.fromEntries(changed.map((f) => [f, { from: before[f], to: after[f] }])) },
       });
     }
