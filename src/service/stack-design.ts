@@ -7,12 +7,14 @@
  *     "substrate": {"material": SOURCE, "thickness_mm": 1, "incoherent": true} }
  *
  * SOURCE: {"ref": "slug@3" | "slug@sha256:…" | "slug"}, {"file": "path.csv"} (relative to the design file),
- * {"n": 1.38, "k": 0}, or {"model": "sellmeier", "parameters": {…}} (any catalogue model).
+ * {"n": 1.38, "k": 0}, {"model": "sellmeier", "parameters": {…}} (any catalogue model), or
+ * {"mix": "bruggeman" | "maxwell-garnett", "materials": [SOURCE, SOURCE], "fraction": f} (nested sources allowed).
  * Refusals name the file, line and column of the offending value (jsonc-parser gives the positions).
  */
 import { findNodeAtLocation, parseTree, printParseErrorCode, type ParseError } from 'jsonc-parser/lib/esm/main.js'; // the ES module build: the UMD main loads its parts by a require() a bundle cannot follow
 import { z } from 'zod';
 import { InputError } from '../errors.ts';
+import { EMA_RULES, type EmaRule } from '../stack/effective-medium.ts';
 
 const refSource = z
   .strictObject({ ref: z.string().min(1).describe('registry version: slug@N, slug@sha256:PREFIX, or a bare slug (latest approved; not a pin)') })
@@ -36,14 +38,40 @@ const modelSource = z
   })
   .describe('a dispersion model of the catalogue with given parameters');
 
-export const MATERIAL_SOURCE_SCHEMA = z
-  .union([refSource, fileSource, constantSource, modelSource])
+// A mixture names two sources, which may be mixtures themselves: the getter makes the schema recursive (zod 4).
+const mixSource = z
+  .strictObject({
+    mix: z.enum(EMA_RULES, { error: `mix is one of ${EMA_RULES.map((r) => `"${r}"`).join(', ')}` }).describe('effective-medium rule (spherical inclusions, Aspnes 1982)'),
+    get materials() {
+      return z
+        .array(MATERIAL_SOURCE_SCHEMA)
+        .length(2, { error: 'a mixture takes exactly two materials: [FIRST, SECOND]' })
+        .describe('the two materials; for maxwell-garnett the first is the host, the second the inclusions');
+    },
+    fraction: z
+      .number()
+      .min(0, { error: 'fraction is a volume fraction, 0 ≤ fraction ≤ 1' })
+      .max(1, { error: 'fraction is a volume fraction, 0 ≤ fraction ≤ 1' })
+      .describe('volume fraction of the second material, 0–1'),
+  })
+  .describe('an effective-medium mixture of two materials');
+
+export const MATERIAL_SOURCE_SCHEMA: z.ZodType<MaterialSourceInput> = z
+  .union([refSource, fileSource, constantSource, modelSource, mixSource])
   .meta({ id: 'MaterialSource', description: "where a medium's n, k come from" });
+
+type MaterialSourceInput =
+  | z.infer<typeof refSource>
+  | z.infer<typeof fileSource>
+  | z.infer<typeof constantSource>
+  | z.infer<typeof modelSource>
+  | { mix: EmaRule; materials: MaterialSourceInput[]; fraction: number };
 
 const SOURCE_BRANCHES: Array<[string, z.ZodType]> = [
   ['ref', refSource],
   ['file', fileSource],
   ['model', modelSource],
+  ['mix', mixSource],
   ['n', constantSource],
 ];
 
@@ -137,7 +165,7 @@ function describeIssue(schema: z.ZodType, value: unknown): { path: Array<string 
     }
     return {
       path,
-      message: 'a material source is one of {"ref": "slug@N"}, {"file": "table.csv"}, {"n": 1.38, "k": 0} or {"model": "sellmeier", "parameters": {…}}',
+      message: 'a material source is one of {"ref": "slug@N"}, {"file": "table.csv"}, {"n": 1.38, "k": 0}, {"model": "sellmeier", "parameters": {…}} or {"mix": "bruggeman", "materials": [SOURCE, SOURCE], "fraction": 0.5}',
     };
   }
   if (issue.code === 'unrecognized_keys') return { path, message: `unknown field${issue.keys.length > 1 ? 's' : ''} ${issue.keys.map((k) => `"${k}"`).join(', ')}` };
