@@ -11,11 +11,13 @@ import { evaluateFitReport, type FitReport } from '../fit/fit.ts';
 import { parseNkTable } from '../io/parse-table.ts';
 import { parseOptionNumber } from '../io/numbers.ts';
 import { buildModel } from '../models/catalogue.ts';
+import { epsFromNk, nkFromEps } from '../optics/permittivity.ts';
 import { evaluateTable } from '../optics/table-eval.ts';
 import type { Registry } from '../registry/open.ts';
 import { usableRangeNm } from '../registry/records.ts';
 import { formatRef, parseRef } from '../registry/refs.ts';
 import type { VersionContent, VersionStatus } from '../registry/types.ts';
+import { mixPermittivity, type EmaRule } from '../stack/effective-medium.ts';
 import { colourOf, COLOUR_GRID_NM, type CieTables, type Colour } from '../stack/colour.ts';
 import { solveStack, type StackMedium, type StackSpectra } from '../stack/transfer-matrix.ts';
 import type { NkTable } from '../table.ts';
@@ -107,7 +109,7 @@ export interface ResolvedMaterial {
   role: string;
   /** Field of the design, e.g. layers.1.material. */
   field: string;
-  source: 'registry' | 'file' | 'constant' | 'model';
+  source: 'registry' | 'file' | 'constant' | 'model' | 'mix';
   /** Registry pin slug@N, the file as written in the design, or null. */
   ref: string | null;
   /** Content hash of a registry version, SHA-256 of a file's bytes, or null. */
@@ -119,6 +121,8 @@ export interface ResolvedMaterial {
   table?: NkTable;
   constant?: { n: number; k: number };
   model?: { spec: string; terms: number; urbach: boolean; parameters: Record<string, number>; range_nm: [number, number] | null };
+  /** An effective-medium mixture: the second material at volume fraction `fraction` in the first. */
+  mix?: { rule: EmaRule; fraction: number; materials: [ResolvedMaterial, ResolvedMaterial] };
 }
 
 export interface ResolvedDesign {
@@ -151,6 +155,17 @@ interface Slot {
   role: string;
   path: Array<string | number>;
   source: MaterialSource;
+  /** The two component slots of a mixture. */
+  parts?: [Slot, Slot];
+}
+
+/** A slot and, for a mixture, its components' slots depth-first (nested mixtures allowed). */
+function withParts(slot: Slot): Slot[] {
+  const src = slot.source;
+  if (!('mix' in src)) return [slot];
+  const parts = src.materials.map((source, i): Slot => ({ role: `${slot.role}, ${src.mix} part ${i + 1}`, path: [...slot.path, 'materials', i], source })) as [Slot, Slot];
+  slot.parts = parts;
+  return [slot, ...parts.flatMap(withParts)];
 }
 
 export async function resolveStackDesign(design: StackDesign, ctx: ResolveContext): Promise<ResolvedDesign> {
@@ -163,8 +178,9 @@ export async function resolveStackDesign(design: StackDesign, ctx: ResolveContex
   const notices: string[] = [];
   const warnings: string[] = [];
   const resolved = new Map<Slot, ResolvedMaterial>();
+  const every = slots.flatMap(withParts);
 
-  for (const slot of slots) {
+  for (const slot of every) {
     const base = { role: slot.role, field: slot.path.join('.') };
     const src = slot.source;
     if ('file' in src) {
@@ -191,7 +207,7 @@ export async function resolveStackDesign(design: StackDesign, ctx: ResolveContex
     }
   }
 
-  const refSlots = slots.filter((s) => 'ref' in s.source);
+  const refSlots = every.filter((s) => 'ref' in s.source);
   if (refSlots.length) {
     const useRegistry = (registry: Registry) => {
       for (const slot of refSlots) {
@@ -231,7 +247,13 @@ export async function resolveStackDesign(design: StackDesign, ctx: ResolveContex
     }
   }
 
-  const get = (slot: Slot) => resolved.get(slot)!;
+  const get = (slot: Slot): ResolvedMaterial => {
+    const src = slot.source;
+    if (!('mix' in src)) return resolved.get(slot)!;
+    const parts = slot.parts!.map(get) as [ResolvedMaterial, ResolvedMaterial];
+    const describe = `${src.mix} mixture: ${src.fraction} of ${parts[1].ref ?? parts[1].describe} in ${parts[0].ref ?? parts[0].describe}`;
+    return { role: slot.role, field: slot.path.join('.'), source: 'mix', ref: null, sha256: null, status: null, describe, mix: { rule: src.mix, fraction: src.fraction, materials: parts } };
+  };
   const sub = design.substrate;
   const incoherent = sub.incoherent ?? sub.thickness_mm !== undefined;
   if (!incoherent && sub.thickness_mm !== undefined) notices.push('substrate: incoherent is false, so it is semi-infinite and thickness_mm is not used (no back surface)');
@@ -351,7 +373,9 @@ function materialNk(m: ResolvedMaterial, wl: number[], extrapolate: boolean, pur
       throw new OutOfRange('stack-out-of-range', `${m.role} (${m.ref ?? m.describe}) ${what} ${range[0]}–${range[1]} nm; ${outside} nm is outside it (${purpose})${hint}`, { field: m.field });
     }
   };
-  if (m.constant) {
+  if (m.mix) {
+    ({ n, k } = mixNk(m.mix, wl, extrapolate, purpose));
+  } else if (m.constant) {
     n = new Array(size).fill(m.constant.n);
     k = new Array(size).fill(m.constant.k);
   } else if (m.model) {
@@ -371,6 +395,22 @@ function materialNk(m: ResolvedMaterial, wl: number[], extrapolate: boolean, pur
     }
   }
   return { n: Float64Array.from(n), k: Float64Array.from(k) };
+}
+
+/** n, k of a mixture: each part on the grid, mixed as permittivities ε = (n + ik)², k ≥ 0 (see src/stack/effective-medium.ts). */
+function mixNk(mix: NonNullable<ResolvedMaterial['mix']>, wl: number[], extrapolate: boolean, purpose: string): { n: number[]; k: number[] } {
+  const [a, b] = mix.materials.map((p) => materialNk(p, wl, extrapolate, purpose));
+  const n: number[] = [], k: number[] = [];
+  for (let i = 0; i < wl.length; i++) {
+    const ea = epsFromNk(a.n[i], a.k[i]);
+    const eb = epsFromNk(b.n[i], b.k[i]);
+    const e = mixPermittivity(mix.rule, { re: ea.eps1, im: ea.eps2 }, { re: eb.eps1, im: eb.eps2 }, mix.fraction);
+    // A lossless mixture can come out with Im ε of rounding size below zero; that is k = 0, not a refusal.
+    const nk = nkFromEps(e.re, e.im < 0 && -e.im <= 1e-13 * Math.abs(e.re) ? 0 : e.im);
+    n.push(nk.n);
+    k.push(nk.k);
+  }
+  return { n, k };
 }
 
 interface Media {
@@ -412,6 +452,11 @@ function pick(s: StackSpectra, pol: StackPolarization): { R: Float64Array; T: Fl
 function colourPair(s: StackSpectra, pol: StackPolarization, cie: CieTables): StackColour {
   const { R, T } = pick(s, pol);
   return { reflected: colourOf(R, cie), transmitted: colourOf(T, cie) };
+}
+
+/** A material and, for a mixture, its parts depth-first: every pin of the design shows in the report. */
+function withMixParts(m: ResolvedMaterial): ResolvedMaterial[] {
+  return m.mix ? [m, ...m.mix.materials.flatMap(withMixParts)] : [m];
 }
 
 /** The whole computation of a resolved design: spectra per angle, colour, and the thickness sweep. */
@@ -477,7 +522,7 @@ export function computeStack(design: ResolvedDesign, options: StackOptions, cie:
       layers: design.layers.length,
       substrate: { thickness_mm: design.substrate.thickness_mm, incoherent: design.substrate.incoherent },
     },
-    materials: all.map((m) => ({ role: m.role, source: m.source, ref: m.ref, sha256: m.sha256, status: m.status, describe: m.describe })),
+    materials: all.flatMap(withMixParts).map((m) => ({ role: m.role, source: m.source, ref: m.ref, sha256: m.sha256, status: m.status, describe: m.describe })),
     options: { polarization: options.polarization, extrapolate: options.extrapolate, angles_deg: options.anglesDeg, colour_grid_nm: [380, 780, 5] },
     notes,
     notices: design.notices,
