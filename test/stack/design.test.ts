@@ -4,31 +4,13 @@
  */
 import { readFileSync } from 'node:fs';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { InputError } from '../../src/errors.ts';
 import { emptyLockfile, lockAdd } from '../../src/service/lock.ts';
 import { approve, createMaterial, importVersion } from '../../src/service/registry.ts';
 import { computeStack, parseStackOptions, resolveStackDesign, type ResolveContext } from '../../src/service/stack.ts';
 import { parseStackDesign, stackDesignJsonSchema } from '../../src/service/stack-design.ts';
 import { cauchyTable, tempRegistry, type TempRegistry } from '../registry/helpers.ts';
+import { refusal, refusalAsync } from './refusals.ts';
 
-function refusal(fn: () => unknown): InputError {
-  try {
-    fn();
-  } catch (err) {
-    if (err instanceof InputError) return err;
-    throw err;
-  }
-  throw new Error('expected a refusal');
-}
-async function refusalAsync(fn: () => Promise<unknown>): Promise<InputError> {
-  try {
-    await fn();
-  } catch (err) {
-    if (err instanceof InputError) return err;
-    throw err;
-  }
-  throw new Error('expected a refusal');
-}
 
 describe('design file format', () => {
   it('schemas/stack-design.schema.json is the schema generated from the code (npx tsx scripts/write-stack-schema.ts)', () => {
@@ -152,5 +134,21 @@ describe('registry refs and lockfiles', () => {
     const resolved = await resolveStackDesign(design('oxide@1'), ctx());
     const e = refusal(() => computeStack(resolved, parseStackOptions({}, [350])));
     expect(e.message).toMatch(/layer 1 \(oxide@1\) is a measured table over 400–800 nm; 350 nm is outside it/);
+  });
+
+  it('refs inside a mixture are pinned and listed with their hash; an unknown one is refused at its nested field', async () => {
+    const mixed = (ref: string) => parseStackDesign({ layers: [{ material: { mix: 'bruggeman', materials: [{ ref }, { n: 1 }], fraction: 0.5 }, thickness_nm: 5 }], substrate: { material: { n: 1.5 } } });
+    const r = await resolveStackDesign(mixed('oxide@1'), ctx());
+    expect(r.layers[0].material.mix!.materials[0]).toMatchObject({ ref: 'oxide@1', source: 'registry', role: 'layer 1, bruggeman part 1' });
+    expect(r.layers[0].material.mix!.materials[0].sha256).toMatch(/^[0-9a-f]{64}$/);
+    const e = await refusalAsync(() => resolveStackDesign(mixed('nitride@1'), ctx()));
+    expect(e.location.field).toBe('layers.0.material.materials.0.ref');
+  });
+
+  it('a file inside a mixture is refused where files are (the HTTP API)', async () => {
+    const fileMix = parseStackDesign({ layers: [], substrate: { material: { mix: 'bruggeman', materials: [{ n: 1.5 }, { file: 'x.csv' }], fraction: 0.5 } } });
+    const e = await refusalAsync(() => resolveStackDesign(fileMix, ctx()));
+    expect(e.rule).toBe('stack-file-source');
+    expect(e.location.field).toBe('substrate.material.materials.1.file');
   });
 });

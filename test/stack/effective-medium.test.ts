@@ -2,18 +2,16 @@
  * Effective-medium mixtures: Bruggeman and Maxwell Garnett (D. E. Aspnes, Thin Solid Films 89, 249 (1982))
  * against their closed forms and against numpy (scripts/make-ema-reference.py, numpy 2.4.6, which solves the
  * Bruggeman condition with numpy.roots), their limits, and mixtures as design sources: parsing, refusals with
- * file:line:column and field, nested mixtures, pinned refs inside a mixture, and a mixed stack's R, Ψ, Δ
- * against the numpy stack reference (scripts/stack_numpy.py).
+ * file:line:column and field, nested mixtures, and a mixed stack's R, Ψ, Δ against the numpy stack reference
+ * (scripts/stack_numpy.py). Registry refs inside a mixture: test/stack/design.test.ts.
  */
 import { readFileSync } from 'node:fs';
-import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { InputError } from '../../src/errors.ts';
+import { describe, expect, it } from 'vitest';
 import { epsFromNk } from '../../src/optics/permittivity.ts';
-import { approve, createMaterial, importVersion } from '../../src/service/registry.ts';
 import { computeStack, parseStackOptions, resolveStackDesign, type ResolveContext } from '../../src/service/stack.ts';
 import { parseStackDesign } from '../../src/service/stack-design.ts';
 import { bruggeman, maxwellGarnett, type Complex } from '../../src/stack/effective-medium.ts';
-import { cauchyTable, tempRegistry, type TempRegistry } from '../registry/helpers.ts';
+import { refusal, refusalAsync } from './refusals.ts';
 
 const fixture = JSON.parse(readFileSync(new URL('../reference/ema-numpy.json', import.meta.url), 'utf8')) as {
   source: string;
@@ -34,16 +32,6 @@ const PAIRS: Array<[string, Complex, Complex]> = [
   ['silica host, metal-like inclusions', eps(1.46, 0), eps(0.15, 3.5)],
   ['two absorbers', eps(2, 0.3), eps(3, 1.5)],
 ];
-
-function refusal(fn: () => unknown): InputError {
-  try {
-    fn();
-  } catch (err) {
-    if (err instanceof InputError) return err;
-    throw err;
-  }
-  throw new Error('expected a refusal');
-}
 
 describe('Bruggeman (Aspnes 1982): the root of the two-phase condition', () => {
   it('satisfies (1 − f)(ε1 − ε)/(ε1 + 2ε) + f(ε2 − ε)/(ε2 + 2ε) = 0 and is passive (Im ε ≥ 0)', () => {
@@ -225,40 +213,5 @@ describe('mixtures resolved and computed', () => {
     expect(e.rule).toBe('stack-out-of-range');
     expect(e.message).toMatch(/^layer 1, bruggeman part 1 /);
     expect(e.location.field).toBe('layers.0.material.materials.0');
-  });
-});
-
-describe('registry refs inside a mixture', () => {
-  let t: TempRegistry;
-  beforeAll(() => {
-    t = tempRegistry();
-    createMaterial(t.registry, { slug: 'oxide', name: 'Oxide' }, 'ada');
-    importVersion(t.registry, { slug: 'oxide', table: cauchyTable(1.45) }, 'ada');
-    approve(t.registry, 'oxide@1', 'bob');
-  });
-  afterAll(() => t.cleanup());
-
-  it('are pinned and listed with their hash; an unknown one is refused at its nested field', async () => {
-    const ctx: ResolveContext = { registry: t.registry, designFile: 'd.json', designText: null, allowFiles: false };
-    const design = (ref: string) => parseStackDesign({ layers: [{ material: { mix: 'bruggeman', materials: [{ ref }, { n: 1 }], fraction: 0.5 }, thickness_nm: 5 }], substrate: { material: { n: 1.5 } } });
-    const r = await resolveStackDesign(design('oxide@1'), ctx);
-    expect(r.layers[0].material.mix!.materials[0]).toMatchObject({ ref: 'oxide@1', source: 'registry', role: 'layer 1, bruggeman part 1' });
-    expect(r.layers[0].material.mix!.materials[0].sha256).toMatch(/^[0-9a-f]{64}$/);
-    const e = await resolveStackDesign(design('nitride@1'), ctx).then(
-      () => null,
-      (err: unknown) => err as InputError,
-    );
-    expect(e?.location.field).toBe('layers.0.material.materials.0.ref');
-  });
-
-  it('a file inside a mixture is refused where files are (the HTTP API)', async () => {
-    const ctx: ResolveContext = { registry: t.registry, designFile: 'd.json', designText: null, allowFiles: false };
-    const design = parseStackDesign({ layers: [], substrate: { material: { mix: 'bruggeman', materials: [{ n: 1.5 }, { file: 'x.csv' }], fraction: 0.5 } } });
-    const e = await resolveStackDesign(design, ctx).then(
-      () => null,
-      (err: unknown) => err as InputError,
-    );
-    expect(e?.rule).toBe('stack-file-source');
-    expect(e?.location.field).toBe('substrate.material.materials.1.file');
   });
 });

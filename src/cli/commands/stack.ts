@@ -72,9 +72,10 @@ const colourLine = (what: string, c: Colour) =>
 
 function textReport(report: StackReport, plot?: string): string[] {
   const lines = [`${report.design.name ?? report.design.file} — ${report.design.layers} layer${report.design.layers === 1 ? '' : 's'}, ${report.options.polarization}`];
+  const roleWidth = Math.max(10, ...report.materials.map((m) => m.role.length)); // mixture parts have long roles
   for (const m of report.materials) {
     const pin = m.source === 'registry' ? `${m.ref} sha256:${m.sha256!.slice(0, 12)}… (${m.status})` : m.source === 'file' ? `${m.ref} sha256:${m.sha256!.slice(0, 12)}…` : '';
-    lines.push(`  ${m.role.padEnd(10)} ${m.describe}${pin ? `, ${pin}` : ''}`);
+    lines.push(`  ${m.role.padEnd(roleWidth)} ${m.describe}${pin ? `, ${pin}` : ''}`);
   }
   for (const note of report.notes) lines.push(`note: ${note}`);
   for (const r of report.results) {
