@@ -5,7 +5,7 @@
  */
 import { z } from 'zod';
 import { InputError } from '../errors.ts';
-import { parseWavelengthList } from '../cli/wavelength-list.ts';
+import { parseWavelengthList } from '../io/wavelength-list.ts';
 import { INTERPOLATION_METHODS } from '../optics/table-eval.ts';
 import { toWavelengthNm, type SpectralUnit } from '../optics/units.ts';
 import { HttpProblem } from './problem.ts';

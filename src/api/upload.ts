@@ -2,13 +2,13 @@
  * Reading an uploaded n,k table: the raw body (text/csv or any delimited text), or multipart/form-data
  * with a `table` file part and text fields. The import flags are the CLI's, spelled snake_case
  * (input_unit, columns, delimiter, decimal_comma, k_tolerance, header_line, allow_any_range) and mapped by the CLI's own
- * importOptionsFrom, so both front doors read a table identically.
+ * io's importOptionsFrom, so both front doors read a table identically and each names the option its own way.
  */
 import type { Context } from 'hono';
 import { z } from 'zod';
 import { InputError } from '../errors.ts';
 import type { ImportOptions } from '../io/parse-table.ts';
-import { importOptionsFrom } from '../cli/import-options.ts';
+import { importOptionsFrom } from '../io/import-options.ts';
 import { HttpProblem } from './problem.ts';
 import { parseInput, readQuery } from './validate.ts';
 
@@ -76,7 +76,7 @@ export async function readTableUpload(c: Context): Promise<TableUpload> {
       kTolerance: flags.k_tolerance,
       headerLine: flags.header_line,
       allowAnyRange: flags.allow_any_range === 'true',
-    }),
+    }, (key) => key.replace(/[A-Z]/g, (c) => `_${c.toLowerCase()}`)),
     file,
   };
   return { bytes, file, clientFileName, importOptions, fields: omit(fields, IMPORT_FIELD_NAMES), fieldsIn };

@@ -6,7 +6,8 @@ import type { Command } from 'commander';
 import { loadTableOrVersion, type LoadedSource } from '../service/table-source.ts';
 import { addDbOption } from './admin-options.ts';
 import { cliIo } from './io.ts';
-import { addImportOptions, importOptionsFrom, type ImportFlags } from './import-options.ts';
+import { importOptionsFrom, type ImportFlags } from '../io/import-options.ts';
+import { addImportOptions, cliOptionName } from './import-options.ts';
 import { printResolution } from './registry-output.ts';
 
 export const SOURCE_ARGUMENT_HELP =
@@ -26,7 +27,7 @@ export function addSourceOptions(cmd: Command): Command {
  * its warnings (import warnings; retired, withdrawn or draft status) to stderr.
  */
 export async function loadSource(source: string, opts: SourceFlags, { printWarnings = true } = {}): Promise<LoadedSource> {
-  const loaded = await loadTableOrVersion(source, { db: opts.db, importOptions: importOptionsFrom(opts), stdin: cliIo().stdin });
+  const loaded = await loadTableOrVersion(source, { db: opts.db, importOptions: importOptionsFrom(opts, cliOptionName), stdin: cliIo().stdin });
   printResolution({ notices: loaded.notices, warnings: printWarnings ? loaded.warnings : [] });
   return loaded;
 }

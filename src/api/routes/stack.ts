@@ -8,7 +8,7 @@
 import type { Hono } from 'hono';
 import { z } from 'zod';
 import { InputError } from '../../errors.ts';
-import { parseWavelengthList } from '../../cli/wavelength-list.ts';
+import { parseWavelengthList } from '../../io/wavelength-list.ts';
 import { parseLockfile } from '../../service/lock.ts';
 import { parseStackOptions, resolveStackDesign, stackWork, STACK_POLARIZATIONS } from '../../service/stack.ts';
 import { parseStackDesign } from '../../service/stack-design.ts';

@@ -7,7 +7,8 @@ import { SPECTRAL_UNITS, type SpectralUnit } from '../../optics/units.ts';
 import { loadTable } from '../../service/source.ts';
 import { guarded } from '../failure.ts';
 import { cliIo } from '../io.ts';
-import { addImportOptions, importOptionsFrom, type ImportFlags } from '../import-options.ts';
+import { importOptionsFrom, type ImportFlags } from '../../io/import-options.ts';
+import { addImportOptions, cliOptionName } from '../import-options.ts';
 import { printWarnings } from '../output.ts';
 
 export function register(program: Command): void {
@@ -27,7 +28,7 @@ export function register(program: Command): void {
     )
     .action(
       guarded(async (file: string, opts: ImportFlags & { to: ExportFormat; xUnit: SpectralUnit; output?: string }) => {
-        const imported = await loadTable(file, importOptionsFrom(opts), cliIo().stdin);
+        const imported = await loadTable(file, importOptionsFrom(opts, cliOptionName), cliIo().stdin);
         printWarnings(imported.warnings);
         const text = exportTable(imported.table, opts.to, opts.xUnit);
         if (opts.output) await writeFile(opts.output, text);

@@ -9,7 +9,7 @@ import { evaluateContent, evaluateResolved, withUnitColumn, type VersionEvaluati
 import { guarded } from '../failure.ts';
 import { formatTable, printJson, printLines, printWarnings } from '../output.ts';
 import { addSourceOptions, loadSource, SOURCE_ARGUMENT_HELP, sourceLabel, type SourceFlags } from '../source-options.ts';
-import { parseWavelengthList } from '../wavelength-list.ts';
+import { parseWavelengthList } from '../../io/wavelength-list.ts';
 
 /** k as printed: exactly 0 as "0" (a transparent table), else 4 significant digits in exponent form. */
 const kText = (k: number) => (k === 0 ? '0' : k.toExponential(3));

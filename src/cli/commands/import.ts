@@ -9,7 +9,8 @@ import { givenFitOptions, parseFitOptions, type FitOptionText } from '../../serv
 import { guarded } from '../failure.ts';
 import { cliIo } from '../io.ts';
 import { addFitOptions } from '../fit-options.ts';
-import { addImportOptions, importOptionsFrom, type ImportFlags } from '../import-options.ts';
+import { importOptionsFrom, type ImportFlags } from '../../io/import-options.ts';
+import { addImportOptions, cliOptionName } from '../import-options.ts';
 import { printJson, printLines, printWarnings } from '../output.ts';
 
 interface ImportCliOptions extends ImportFlags, FitOptionText {
@@ -50,7 +51,7 @@ export function register(program: Command): void {
     )
     .action(
       guarded(async (files: string[], opts: ImportCliOptions) => {
-        const importOptions = importOptionsFrom(opts);
+        const importOptions = importOptionsFrom(opts, cliOptionName);
         const provenance = parseMetaPairs(opts.meta ?? []);
         if (opts.note !== undefined) provenance.notes = opts.note;
         const fitFlags = givenFitOptions(opts);

@@ -13,7 +13,7 @@ import { guarded } from '../failure.ts';
 import { cliIo } from '../io.ts';
 import { formatTable, printJson, printLines } from '../output.ts';
 import { printResolution } from '../registry-output.ts';
-import { parseWavelengthList } from '../wavelength-list.ts';
+import { parseWavelengthList } from '../../io/wavelength-list.ts';
 
 interface StackFlags {
   at: string;

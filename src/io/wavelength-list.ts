@@ -1,6 +1,6 @@
 /** Parsing `--at` lists of wavelengths in nm: "400,500,632.8", or a grid "400:800:50" (start:stop:step), or both mixed. */
 import { InputError } from '../errors.ts';
-import { parseOptionNumber } from '../io/numbers.ts';
+import { parseOptionNumber } from './numbers.ts';
 
 /** Refuse grids bigger than this: a typo like 400:800:0.0001 should not allocate millions of points. */
 const MAX_POINTS = 100_000;

@@ -1,0 +1,46 @@
+/**
+ * Layers import only downward: optics < models < plot < fit, kk, stack < io < registry < service < api, cli
+ * (errors.ts and table.ts are shared by all). A relative import into a higher layer, or sideways between
+ * layers of one rank, fails here. The one sanctioned sideways import: the CLI's `serve` and `demo` commands
+ * start the HTTP server (src/api/server.ts).
+ */
+import { readdirSync, readFileSync } from 'node:fs';
+import { dirname, join, normalize, relative } from 'node:path';
+import { describe, expect, it } from 'vitest';
+
+const SRC = new URL('../../src/', import.meta.url).pathname;
+const RANK: Record<string, number> = { optics: 0, models: 1, plot: 2, fit: 3, kk: 3, stack: 3, io: 4, registry: 5, service: 6, api: 7, cli: 7, web: 7 };
+const ALLOWED = new Set(['cli/commands/serve.ts -> api/server.ts', 'cli/commands/demo.ts -> api/server.ts']);
+
+function sources(dir: string): string[] {
+  return readdirSync(dir, { withFileTypes: true }).flatMap((e) =>
+    e.isDirectory() ? sources(join(dir, e.name)) : /\.(ts|tsx)$/.test(e.name) ? [join(dir, e.name)] : [],
+  );
+}
+
+const layerOf = (path: string): string | undefined => {
+  const top = relative(SRC, path).split('/');
+  return top.length > 1 ? top[0] : undefined;
+};
+
+describe('layers import only downward', () => {
+  it('every relative import in src/ goes to the same layer, a lower one, or a shared file', () => {
+    const upward: string[] = [];
+    let imports = 0;
+    for (const file of sources(SRC)) {
+      const from = layerOf(file);
+      if (!from) continue;
+      for (const m of readFileSync(file, 'utf8').matchAll(/(?:from|import)\s*\(?\s*'(\.{1,2}\/[^']+)'/g)) {
+        const target = normalize(join(dirname(file), m[1]));
+        const to = layerOf(target);
+        imports++;
+        if (!to || to === from) continue;
+        const edge = `${relative(SRC, file)} -> ${relative(SRC, target)}`;
+        if (!(to in RANK) || !(from in RANK)) upward.push(`${edge} (unknown layer)`);
+        else if (RANK[to] >= RANK[from] && !ALLOWED.has(edge)) upward.push(edge);
+      }
+    }
+    expect(imports).toBeGreaterThan(200); // the scan saw the tree
+    expect(upward).toEqual([]);
+  });
+});
