@@ -83,8 +83,9 @@ describe('command examples of the documentation', { timeout: 240_000 }, () => {
   }
 
   it('README has examples that run, and every skipped one names its reason', () => {
+    // README is the front door (its tour); the docs/ pages carry the other examples, each page run above
     const readme = examples.find((e) => e.file === 'README.md')!.examples;
-    expect(readme.filter((e) => !e.marker).length).toBeGreaterThanOrEqual(20);
+    expect(readme.filter((e) => !e.marker).length).toBeGreaterThanOrEqual(12);
     for (const ex of examples.flatMap((e) => e.examples)) if (ex.marker) expect(Object.keys(MARKERS)).toContain(ex.marker);
   });
 });
