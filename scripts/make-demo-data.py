@@ -10,7 +10,7 @@ trade so that the tables look like what an ellipsometry lab exports. Run: python
 Needs numpy (written with numpy 2.4.6); scipy (1.17.1) is used only to cross-check the Tauc-Lorentz
 closed form against a principal-value integral before anything is written.
 
-Formulas (published forms, see /work/shared/references.md):
+Formulas (published forms, see docs/references.md):
 - Tauc-Lorentz: G. E. Jellison Jr. and F. A. Modine, Appl. Phys. Lett. 69, 371 (1996) and erratum 69, 2137.
 - Drude eps = -Ep^2/(E^2 + i*Gamma*E); Cauchy n = A + B/l^2 + C/l^4 (l in um) with the Urbach tail
   k = k0*exp((E - Eb)/Eu); Sellmeier n^2 = A + sum Bi*l^2/(l^2 - Ci) (l in um). Textbook forms

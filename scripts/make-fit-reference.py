@@ -22,7 +22,7 @@ CASES = [
         "name": "sellmeier",
         "model": "sellmeier", "terms": 3,
         "nk": lambda nm, p: sellmeier_nk(nm, p, 3),
-        # Malitson 1965 fused silica (../shared/references.md), C = lambda_i^2
+        # Malitson 1965 fused silica (docs/references.md), C = lambda_i^2
         "truth": {"B1": 0.6961663, "C1": 0.0684043**2, "B2": 0.4079426, "C2": 0.1162414**2, "B3": 0.8974794, "C3": 9.896161**2},
         "start": {"B1": 0.6, "C1": 0.004, "B2": 0.5, "C2": 0.015, "B3": 0.8, "C3": 90.0},
         "fixed": {"A": 1.0},

@@ -17,7 +17,7 @@ import scipy
 from scipy.integrate import quad
 
 CASES = [
-    # the parameter set of ../shared/references.md (amorphous-silicon-like)
+    # the parameter set of docs/references.md (amorphous-silicon-like)
     {"A": 122.0, "E0": 3.45, "C": 2.54, "Eg": 1.20, "eps_inf": 1.15},
     # a wide-gap dielectric with a narrower oscillator (exercises gamma^2 < Eg^2 branches)
     {"A": 60.0, "E0": 5.2, "C": 1.1, "Eg": 4.1, "eps_inf": 2.0},

@@ -1,6 +1,6 @@
 """Independent numpy implementations of the nkledger dispersion models and fit residuals, for the
 reference fixtures (make-fit-reference.py) and the benchmark (bench_fit_scipy.py). Written from the
-published formulas (see ../../shared/references.md), not from the TypeScript sources."""
+published formulas (see docs/references.md), not from the TypeScript sources."""
 import numpy as np
 
 HC_EV_NM = 1239.841984  # CODATA 2018

@@ -3,8 +3,8 @@
  * constrained indices (the others are free).
  *
  * Algorithm NNLS of C. L. Lawson and R. J. Hanson, "Solving Least Squares Problems", Prentice-Hall 1974,
- * ch. 23 (published), run on the normal equations as in R. Bro and S. De Jong, "A fast
- * non-negativity-constrained least squares algorithm", J. Chemometrics 11, 393 (1997) (published):
+ * ch. 23, run on the normal equations as in R. Bro and S. De Jong, "A fast
+ * non-negativity-constrained least squares algorithm", J. Chemometrics 11, 393 (1997):
  * the cost per iteration then depends on the number of unknowns only, not on the number of data rows.
  * Free variables stay in the passive set from the start and are never stepped back (Lawson & Hanson's
  * remark on unconstrained components). Each passive-set subproblem is solved by Cholesky.

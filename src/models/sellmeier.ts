@@ -1,6 +1,6 @@
 /**
  * Sellmeier: n² = A + Σᵢ Bᵢλ²/(λ² − Cᵢ), i = 1…N (λ in µm, Cᵢ in µm², i.e. Cᵢ = λᵢ² of a resonance at
- * λᵢ), A fixed at 1 unless freed. Form of I. H. Malitson, J. Opt. Soc. Am. 55, 1205 (1965) (published).
+ * λᵢ), A fixed at 1 unless freed. Form of I. H. Malitson, J. Opt. Soc. Am. 55, 1205 (1965).
  * Real ε only: for the transparent region between the UV and IR resonances. Each term is the
  * zero-damping limit of a Lorentz oscillator, so within its validity range it is Kramers-Kronig
  * consistent (k = 0 there).

@@ -1,6 +1,6 @@
 /**
  * Tauc-Lorentz: G. E. Jellison Jr. and F. A. Modine, Appl. Phys. Lett. 69, 371 (1996); erratum 69, 2137
- * (1996) (published). For E > Eg
+ * (1996). For E > Eg
  *   ε2(E) = A·E0·C·(E − Eg)² / [((E² − E0²)² + C²E²)·E],  ε2 = 0 for E ≤ Eg,
  * and ε1 = ε∞ + (2/π)·P∫ ξε2(ξ)/(ξ² − E²) dξ in the paper's closed form (see `oscillatorEps1`), checked
  * in test/models against scipy's principal-value quadrature (test/reference/tauc-lorentz-kk.json).

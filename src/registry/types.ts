@@ -7,7 +7,7 @@ import type { MeasurementMethod, VersionStatus } from './schema.ts';
 export type { MeasurementMethod, VersionStatus };
 
 /**
- * A fitted model as stored: engineer B's FitReport (src/fit/fit.ts) — plain JSON with at least the
+ * A fitted model as stored: FitReport (src/fit/fit.ts) — plain JSON with at least the
  * model spec, the parameters with values and standard errors, and the validity range `range_nm`.
  */
 export interface StoredFitReport {
@@ -16,7 +16,7 @@ export interface StoredFitReport {
   range_nm: [number, number];
 }
 
-/** A Kramers-Kronig report as stored: engineer C's KkReport (src/kk/check.ts), plain JSON. */
+/** A Kramers-Kronig report as stored: KkReport (src/kk/check.ts), plain JSON. */
 export interface StoredKkReport {
   verdict: string;
 }

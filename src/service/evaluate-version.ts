@@ -1,7 +1,7 @@
 /**
  * n,k of a registry version at chosen wavelengths. Model-backed versions evaluate anywhere inside the
- * model's validity range (engineer B's evaluateFitReport); table-only versions interpolate inside the
- * measured range (engineer A's evaluateTable). Outside, the refusal names the range.
+ * model's validity range (evaluateFitReport); table-only versions interpolate inside the
+ * measured range (evaluateTable). Outside, the refusal names the range.
  */
 import { InputError } from '../errors.ts';
 import { evaluateFitReport, type FitReport } from '../fit/fit.ts';

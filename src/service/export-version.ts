@@ -1,6 +1,6 @@
 /**
  * Export of a registry version. CSV: the measured table (or, for a model-only version, the model on a
- * regular grid over its validity range) with `#` header lines naming the pin and hash — engineer A's
+ * regular grid over its validity range) with `#` header lines naming the pin and hash — the
  * importer skips them, so an export imports back. JSON: the record with content and provenance, from
  * which anyone can recompute the SHA-256 (DEVELOPERS.md, "Canonical serialization and hashing").
  */

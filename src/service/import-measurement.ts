@@ -27,7 +27,7 @@ export interface MeasurementImport {
   /** The file name as given (only its last path component is stored as source_file). */
   file: string;
   importOptions?: ImportOptions;
-  /** Fit this model (engineer B's fitTable) and store its report with the table. */
+  /** Fit this model (fitTable) and store its report with the table. */
   fit?: FitOptions;
   /** Run the Kramers-Kronig check and store its report (default true); options pass through. */
   kk?: boolean | KkOptions;

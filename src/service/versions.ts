@@ -29,11 +29,11 @@ import { normalizeProvenance, type ProvenanceInput } from './provenance.ts';
 
 export interface NewVersion {
   slug: string;
-  /** The normalized table (engineer A's parseNkTable result), if any. */
+  /** The normalized table (parseNkTable result), if any. */
   table?: NkTable | null;
-  /** A fitted model (engineer B's FitReport), if any. */
+  /** A fitted model (FitReport), if any. */
   fit?: StoredFitReport | null;
-  /** A Kramers-Kronig report (engineer C's KkReport), if any. */
+  /** A Kramers-Kronig report (KkReport), if any. */
   kk?: StoredKkReport | null;
   provenance?: ProvenanceInput;
 }

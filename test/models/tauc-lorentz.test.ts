@@ -15,7 +15,7 @@ describe('Tauc-Lorentz closed-form ε1 (Jellison & Modine, APL 69, 371 (1996), p
     });
   }
 
-  it('gives ε1(2.0 eV) = 17.6351116 for the parameter set of shared/references.md (verified there against scipy)', () => {
+  it('gives ε1(2.0 eV) = 17.6351116 for the parameter set of docs/references.md (verified there against scipy)', () => {
     const { eps1 } = model.eps([2.0], { A: 122, E0: 3.45, C: 2.54, Eg: 1.2, eps_inf: 1.15 });
     expect(eps1[0]).toBeCloseTo(17.6351116, 7);
   });
