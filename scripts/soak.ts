@@ -148,7 +148,7 @@ async function main(): Promise<void> {
   const random = () => ((seed = (seed * 1103515245 + 12345) % 2147483648) / 2147483648);
   await Promise.all(
     Array.from({ length: clients }, async () => {
-      for (let i = 0; performance.now() < deadline; i++) await step(random(), Math.floor(random() * 1e6));
+      while (performance.now() < deadline) await step(random(), Math.floor(random() * 1e6));
     }),
   );
   clearInterval(sampler);

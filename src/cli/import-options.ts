@@ -4,7 +4,7 @@
  * never clash with output flags such as `convert --x-unit`.
  */
 import { Option, type Command } from 'commander';
-import type { ImportFlags, SpellOption } from '../io/import-options.ts';
+import type { SpellOption } from '../io/import-options.ts';
 import { DEFAULT_K_TOLERANCE, DEFAULT_MAX_BYTES } from '../io/parse-table.ts';
 import { PLAUSIBLE_RANGE_NM } from '../io/import-types.ts';
 import { SPECTRAL_UNITS } from '../optics/units.ts';

@@ -4,7 +4,7 @@
  * library's weights option (see DEVELOPERS.md, "Fitter").
  */
 import { InputError } from '../errors.ts';
-import type { DispersionModel, ModelQuantity, ModelValues } from '../models/catalogue.ts';
+import type { ModelQuantity, ModelValues } from '../models/catalogue.ts';
 import { guessData } from '../models/grid.ts';
 import type { GuessData, SpectralGrid } from '../models/types.ts';
 import type { NkTable } from '../table.ts';

@@ -22,7 +22,7 @@ import {
   type ImportResult,
 } from './import-types.ts';
 import { normalizeRows, type ParsedRow } from './normalize.ts';
-import { isNumberCell, parseNumberCell } from './numbers.ts';
+import { parseNumberCell } from './numbers.ts';
 
 export type { ImportOptions, ImportResult, DetectedFormat, ColumnRole } from './import-types.ts';
 export { DEFAULT_K_TOLERANCE, DEFAULT_MAX_BYTES, LARGE_GAP_FACTOR } from './import-types.ts';

@@ -11,7 +11,7 @@ import { epsFromNk } from '../../src/optics/permittivity.ts';
 import { computeStack, parseStackOptions, resolveStackDesign, type ResolveContext } from '../../src/service/stack.ts';
 import { parseStackDesign } from '../../src/service/stack-design.ts';
 import { bruggeman, maxwellGarnett, type Complex } from '../../src/stack/effective-medium.ts';
-import { refusal, refusalAsync } from './refusals.ts';
+import { refusal, } from './refusals.ts';
 
 const fixture = JSON.parse(readFileSync(new URL('../reference/ema-numpy.json', import.meta.url), 'utf8')) as {
   source: string;
