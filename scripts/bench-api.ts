@@ -42,7 +42,13 @@ interface LoadResult {
   non2xx: number;
   timeouts: number;
 }
-type Autocannon = (opts: { url: string; headers: Record<string, string>; duration: number; connections: number; pipelining: number }) => Promise<LoadResult>;
+type Autocannon = (opts: {
+  url: string;
+  headers: Record<string, string>;
+  duration: number;
+  connections: number;
+  pipelining: number;
+}) => Promise<LoadResult>;
 const autocannon = createRequire(import.meta.url)('autocannon') as Autocannon;
 
 const SCRIPT = fileURLToPath(import.meta.url);
@@ -103,7 +109,14 @@ function serverCpuUs(child: ChildProcess): Promise<number> {
   });
 }
 
-async function load(child: ChildProcess, name: string, url: string, headers: Record<string, string>, duration: number, connections: number): Promise<Row> {
+async function load(
+  child: ChildProcess,
+  name: string,
+  url: string,
+  headers: Record<string, string>,
+  duration: number,
+  connections: number,
+): Promise<Row> {
   const before = await serverCpuUs(child);
   const result = await autocannon({ url, headers, duration, connections, pipelining: 1 });
   const cpuUs = ((await serverCpuUs(child)) - before) / Math.max(1, result.requests.total);
@@ -169,7 +182,8 @@ async function main(): Promise<void> {
     const runs: Row[][] = [...cases.map(() => []), []] as Row[][];
     let uploads = { ok: 0, failed: 0 };
     for (let round = 0; round < rounds; round++) {
-      for (const [i, [name, target, headers]] of cases.entries()) runs[i].push(await load(child, name, target, headers, duration / rounds, connections));
+      for (const [i, [name, target, headers]] of cases.entries())
+        runs[i].push(await load(child, name, target, headers, duration / rounds, connections));
       const uploader = uploadContinuously(url, editorToken);
       runs[cases.length].push(await load(child, UPLOADING, url + NK_PATH, {}, duration / rounds, connections));
       const done = await uploader.stop();
@@ -182,7 +196,9 @@ async function main(): Promise<void> {
     const rpsRatios = runs.map((rs) => rs.map((r, round) => r.rps / constant[round].rps));
     const cpuRatios = runs.map((rs) => rs.map((r, round) => constant[round].cpuUs / r.cpuUs));
     const range = (xs: number[]) => `${median(xs).toFixed(2)} (${minOf(xs).toFixed(2)}–${maxOf(xs).toFixed(2)})`;
-    console.log(`\n${connections} connections, ${duration} s per case in ${rounds} interleaved rounds, loopback, server in a child process (node ${process.version})`);
+    console.log(
+      `\n${connections} connections, ${duration} s per case in ${rounds} interleaved rounds, loopback, server in a child process (node ${process.version})`,
+    );
     console.log('Medians over the rounds; ratios are per round, median (lowest–highest).\n');
     console.log('| case | req/s | p50 (ms) | p99 (ms) | errors | req/s ratio to constant | server CPU µs/request | CPU ratio (constant ÷ case) |');
     console.log('| --- | ---: | ---: | ---: | ---: | ---: | ---: | ---: |');

@@ -44,7 +44,11 @@ function lorentzSum(wavelengthNm: number[], epsInf: number, oscillators: [number
 }
 
 function lorentzTable(points: number): NkTable {
-  return lorentzSum(Array.from({ length: points }, (_, i) => 300 + (900 * i) / (points - 1)), 1.2, OSCILLATORS);
+  return lorentzSum(
+    Array.from({ length: points }, (_, i) => 300 + (900 * i) / (points - 1)),
+    1.2,
+    OSCILLATORS,
+  );
 }
 
 const median = (v: number[]) => [...v].sort((a, b) => a - b)[v.length >> 1];
@@ -57,7 +61,11 @@ function sharpTable(points: number, gamma = 0.03): NkTable {
     [40, 8, 1.5],
   ];
   // evenly in energy from 5 eV down to 1 eV: ascending wavelength
-  return lorentzSum(Array.from({ length: points }, (_, i) => 1239.841984 / (5 - (4 * i) / (points - 1))), 1.5, oscillators);
+  return lorentzSum(
+    Array.from({ length: points }, (_, i) => 1239.841984 / (5 - (4 * i) / (points - 1))),
+    1.5,
+    oscillators,
+  );
 }
 
 function sharpCase(): void {
@@ -75,7 +83,9 @@ function sharpCase(): void {
     cpu.push((d.user + d.system) / 1000);
   }
   // CPU time beside wall time: on a shared machine the wall time also counts waiting for a core
-  console.log(`\nsharp peaks (Γ = 0.03 eV), 20000 points over 1–5 eV: median ${median(times).toFixed(1)} ms wall, ${median(cpu).toFixed(1)} ms CPU (goal ≤ 1200 ms), verdict ${verdict}`);
+  console.log(
+    `\nsharp peaks (Γ = 0.03 eV), 20000 points over 1–5 eV: median ${median(times).toFixed(1)} ms wall, ${median(cpu).toFixed(1)} ms CPU (goal ≤ 1200 ms), verdict ${verdict}`,
+  );
 }
 
 if (process.argv[2] === 'sharp') {

@@ -21,7 +21,10 @@ const ANGLE = 45;
 
 // Invented test stack: alternating dispersive high/low layers, every fifth one weakly absorbing, on an absorbing substrate.
 const wavelengthNm = Array.from({ length: POINTS }, (_, i) => 400 + (800 * i) / (POINTS - 1));
-const medium = (n: (um: number) => number, k: (um: number) => number) => ({ n: wavelengthNm.map((w) => n(w / 1000)), k: wavelengthNm.map((w) => k(w / 1000)) });
+const medium = (n: (um: number) => number, k: (um: number) => number) => ({
+  n: wavelengthNm.map((w) => n(w / 1000)),
+  k: wavelengthNm.map((w) => k(w / 1000)),
+});
 const layers = Array.from({ length: LAYERS }, (_, j) => ({
   ...medium(
     (um) => (j % 2 ? 1.46 + 0.004 / um ** 2 : 2.2 + 0.03 / um ** 2),
@@ -29,7 +32,18 @@ const layers = Array.from({ length: LAYERS }, (_, j) => ({
   ),
   thicknessNm: j % 2 ? 95 + j : 60 + j,
 }));
-const problem: StackProblem = { wavelengthNm, ambient: medium(() => 1, () => 0), layers, substrate: medium((um) => 3.9 + 0.1 / um, (um) => 0.02 / um) };
+const problem: StackProblem = {
+  wavelengthNm,
+  ambient: medium(
+    () => 1,
+    () => 0,
+  ),
+  layers,
+  substrate: medium(
+    (um) => 3.9 + 0.1 / um,
+    (um) => 0.02 / um,
+  ),
+};
 
 function timeEngine(): { ms: number; cpu: number; check: number } {
   const times: number[] = [];
@@ -54,7 +68,9 @@ const ask = async (line: string) => {
   if (answer.done) throw new Error('the numpy side ended early');
   return JSON.parse(answer.value) as { ms: number; cpu: number; check: number };
 };
-python.stdin.write(`${JSON.stringify({ wavelength_nm: wavelengthNm, ambient: problem.ambient, layers: layers.map((l) => ({ n: l.n, k: l.k, thickness_nm: l.thicknessNm })), substrate: problem.substrate, angle_deg: ANGLE })}\n`);
+python.stdin.write(
+  `${JSON.stringify({ wavelength_nm: wavelengthNm, ambient: problem.ambient, layers: layers.map((l) => ({ n: l.n, k: l.k, thickness_nm: l.thicknessNm })), substrate: problem.substrate, angle_deg: ANGLE })}\n`,
+);
 const version = JSON.parse((await lines.next()).value as string).numpy as string;
 
 // Warm-up (JIT, numpy import caches).
@@ -72,13 +88,17 @@ python.stdin.end();
 
 const median = (v: number[]) => [...v].sort((a, b) => a - b)[Math.floor(v.length / 2)];
 const ratios = rows.map((r) => r.ours / r.numpy);
-console.log(`${LAYERS} layers × ${POINTS} wavelengths × 2 polarisations at ${ANGLE}°, ${ROUNDS} rounds of ${REPEATS} runs per side; Node ${process.version}, numpy ${version}`);
+console.log(
+  `${LAYERS} layers × ${POINTS} wavelengths × 2 polarisations at ${ANGLE}°, ${ROUNDS} rounds of ${REPEATS} runs per side; Node ${process.version}, numpy ${version}`,
+);
 console.log('');
 const cpuRatios = rows.map((r) => r.oursCpu / r.numpyCpu);
 const range = (v: number[]) => `${median(v).toFixed(2)} (${Math.min(...v).toFixed(2)}–${Math.max(...v).toFixed(2)})`;
 console.log('| side | median wall ms per angle | CPU ms per angle | wall ratio to numpy (median, lowest–highest round) | CPU ratio |');
 console.log('| --- | ---: | ---: | ---: | ---: |');
-console.log(`| nkledger (src/stack) | ${median(rows.map((r) => r.ours)).toFixed(2)} | ${median(rows.map((r) => r.oursCpu)).toFixed(2)} | ${range(ratios)} | ${range(cpuRatios)} |`);
+console.log(
+  `| nkledger (src/stack) | ${median(rows.map((r) => r.ours)).toFixed(2)} | ${median(rows.map((r) => r.oursCpu)).toFixed(2)} | ${range(ratios)} | ${range(cpuRatios)} |`,
+);
 console.log(`| numpy reference | ${median(rows.map((r) => r.numpy)).toFixed(2)} | ${median(rows.map((r) => r.numpyCpu)).toFixed(2)} | 1.00 | 1.00 |`);
 console.log('');
 console.log(`same result: Σ(Rs + Rp) ${checks[0].toFixed(9)} (nkledger) vs ${checks[1].toFixed(9)} (numpy)`);

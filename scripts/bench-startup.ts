@@ -39,7 +39,10 @@ try {
     { name: '`nkledger --version`', args: [BIN, '--version'] },
     { name: '`nkledger eval --help`', args: [BIN, 'eval', '--help'] },
     { name: '`nkledger eval sinx-pecvd@2 --at 405,632.8,1550 --db DB`', args: [BIN, 'eval', 'sinx-pecvd@2', '--at', '405,632.8,1550', '--db', db] },
-    { name: '`nkledger eval data/marrowick/ito-sputtered.tsv --at 550`', args: [BIN, 'eval', join(ROOT, 'data/marrowick/ito-sputtered.tsv'), '--at', '550'] },
+    {
+      name: '`nkledger eval data/marrowick/ito-sputtered.tsv --at 550`',
+      args: [BIN, 'eval', join(ROOT, 'data/marrowick/ito-sputtered.tsv'), '--at', '550'],
+    },
     { name: '`nkledger list --db DB`', args: [BIN, 'list', '--db', db] },
   ];
 

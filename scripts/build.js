@@ -49,7 +49,9 @@ const rebaseUrls = {
     build.onLoad({ filter: /\.ts$/ }, (args) => {
       const text = readFileSync(args.path, 'utf8').replace(URL_REF, (_all, quote, ref) => {
         const target = resolve(dirname(args.path), ref);
-        const rebased = ref.endsWith('.ts') ? `./${entryName(target)}.js` : relative(OUT, target).split(/[\\/]/).join('/') + (ref.endsWith('/') ? '/' : '');
+        const rebased = ref.endsWith('.ts')
+          ? `./${entryName(target)}.js`
+          : relative(OUT, target).split(/[\\/]/).join('/') + (ref.endsWith('/') ? '/' : '');
         return `new URL(${quote}${rebased.startsWith('.') ? rebased : `./${rebased}`}${quote}, import.meta.url)`;
       });
       return { contents: text, loader: 'ts' };

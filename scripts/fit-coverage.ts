@@ -17,7 +17,6 @@ const SIGMA_N = 1e-3;
 const SIGMA_K = 5e-4;
 export const DRAWS = 200;
 
-
 /** Coverage of every parameter over `draws` seeded tables (exported for the figure in docs/fitting.md). */
 export function coverage(draws: number, seed = 2026): Record<string, number> {
   const model = buildModel('tauc-lorentz');
@@ -41,7 +40,6 @@ export function coverage(draws: number, seed = 2026): Record<string, number> {
   }
   return Object.fromEntries(Object.entries(hits).map(([p, h]) => [p, h / draws]));
 }
-
 
 if (import.meta.url === pathToFileURL(process.argv[1] ?? '').href) {
   const draws = Number(process.argv[2] ?? DRAWS);

@@ -97,13 +97,23 @@ async function main(): Promise<void> {
   }
 
   for (const slug of MATERIALS) {
-    await request('create', '/api/v1/materials', [201], { method: 'POST', headers: { 'content-type': 'application/json' }, body: JSON.stringify({ slug, name: `Soak ${slug}` }), token: editor });
+    await request('create', '/api/v1/materials', [201], {
+      method: 'POST',
+      headers: { 'content-type': 'application/json' },
+      body: JSON.stringify({ slug, name: `Soak ${slug}` }),
+      token: editor,
+    });
   }
 
   async function upload(): Promise<void> {
     const slug = MATERIALS[uploads % MATERIALS.length];
     const a = 1.4 + ++uploads * 1e-6;
-    const res = await request('upload', `/api/v1/materials/${slug}/versions`, [201], { method: 'POST', headers: { 'content-type': 'text/csv' }, body: tableCsv(a), token: editor });
+    const res = await request('upload', `/api/v1/materials/${slug}/versions`, [201], {
+      method: 'POST',
+      headers: { 'content-type': 'text/csv' },
+      body: tableCsv(a),
+      token: editor,
+    });
     if (res) drafts.push(((await res.json()) as { ref: string }).ref);
   }
 
@@ -145,7 +155,7 @@ async function main(): Promise<void> {
   const deadline = started + seconds * 1000;
   const sampler = setInterval(() => rss.push({ t: (performance.now() - started) / 1000, kib: rssKiB(server.pid!) }), 1000);
   let seed = 12345;
-  const random = () => ((seed = (seed * 1103515245 + 12345) % 2147483648) / 2147483648);
+  const random = () => (seed = (seed * 1103515245 + 12345) % 2147483648) / 2147483648;
   await Promise.all(
     Array.from({ length: clients }, async () => {
       while (performance.now() < deadline) await step(random(), Math.floor(random() * 1e6));
@@ -174,7 +184,11 @@ async function main(): Promise<void> {
     requests_per_s: Number((latencies.length / elapsed).toFixed(1)),
     by_kind: byKind,
     errors: errors.length,
-    latency_ms: { p50: Number(percentile(sorted, 50).toFixed(2)), p99: Number(percentile(sorted, 99).toFixed(2)), max: Number(sorted[sorted.length - 1].toFixed(2)) },
+    latency_ms: {
+      p50: Number(percentile(sorted, 50).toFixed(2)),
+      p99: Number(percentile(sorted, 99).toFixed(2)),
+      max: Number(sorted[sorted.length - 1].toFixed(2)),
+    },
     rss_mib: {
       after_warmup: Number((warm.kib / 1024).toFixed(1)),
       end: Number((last.kib / 1024).toFixed(1)),

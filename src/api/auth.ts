@@ -56,9 +56,14 @@ export function requireRole(role: TokenRole, anonymousReads: () => boolean): Mid
     const principal = c.get('principal');
     if (!principal) {
       if (role === 'reader' && anonymousReads()) return next();
-      throw new HttpProblem(401, 'auth-required', `this request needs a bearer token with role ${role} or above (an admin makes one with \`nkledger token create --user NAME --role ${role}\`)`, {
-        'www-authenticate': CHALLENGE,
-      });
+      throw new HttpProblem(
+        401,
+        'auth-required',
+        `this request needs a bearer token with role ${role} or above (an admin makes one with \`nkledger token create --user NAME --role ${role}\`)`,
+        {
+          'www-authenticate': CHALLENGE,
+        },
+      );
     }
     if (!roleAllows(principal.role, role)) {
       throw new HttpProblem(

@@ -25,12 +25,28 @@ export const FIT_OPTION_FIELDS = {
 
 type FitOptionFields = { [K in keyof typeof FIT_OPTION_FIELDS]?: string };
 
-const list = (t: string | undefined) => t?.split(',').map((s) => s.trim()).filter(Boolean);
+const list = (t: string | undefined) =>
+  t
+    ?.split(',')
+    .map((s) => s.trim())
+    .filter(Boolean);
 const fieldName = (name: FitOptionName) => (name === 'range' ? 'range_nm' : name);
 
 export function fitOptionsFromFields(f: FitOptionFields): Omit<FitOptions, 'model'> {
   return parseFitOptions(
-    { terms: f.terms, urbach: f.urbach === 'true', target: f.target, range: f.range_nm, fix: list(f.fix), init: list(f.init), bounds: list(f.bounds), free: list(f.free), starts: f.starts, seed: f.seed, weights: f.weights },
+    {
+      terms: f.terms,
+      urbach: f.urbach === 'true',
+      target: f.target,
+      range: f.range_nm,
+      fix: list(f.fix),
+      init: list(f.init),
+      bounds: list(f.bounds),
+      free: list(f.free),
+      starts: f.starts,
+      seed: f.seed,
+      weights: f.weights,
+    },
     fieldName,
   );
 }

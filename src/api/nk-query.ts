@@ -48,10 +48,13 @@ export function parseNkQuery(query: Record<string, string>, maxPoints: number, l
     throw new InputError('nk-wavelengths', 'give one of wavelengths_nm=450,650, or from_nm, to_nm and step_nm, or at=1.5,2.5 with unit=eV');
   }
   if (q.at !== undefined) {
-    if (q.at.split(',').length > maxPoints) throw new InputError('nk-too-many-points', `more than ${maxPoints} points asked for (setting max_nk_points)`);
+    if (q.at.split(',').length > maxPoints)
+      throw new InputError('nk-too-many-points', `more than ${maxPoints} points asked for (setting max_nk_points)`);
     const list = parseWavelengthList(q.at, 'at');
-    if (list.length > maxPoints) throw new InputError('nk-too-many-points', `${list.length} points asked for; at most ${maxPoints} per request (setting max_nk_points)`);
-    if (list.some((v) => !(v > 0))) throw new InputError('nk-wavelengths', 'every value of at must be positive', {}, 400, { option: 'at', value: q.at });
+    if (list.length > maxPoints)
+      throw new InputError('nk-too-many-points', `${list.length} points asked for; at most ${maxPoints} per request (setting max_nk_points)`);
+    if (list.some((v) => !(v > 0)))
+      throw new InputError('nk-wavelengths', 'every value of at must be positive', {}, 400, { option: 'at', value: q.at });
     return { wavelengthNm: list.map((v) => toWavelengthNm(v, unit ?? 'nm')), interpolation, unit, extrapolate };
   }
   const tooMany = (count: number) =>
@@ -95,11 +98,18 @@ export function parseNkBody(body: unknown, maxPoints: number): NkRequest {
       throw new InputError('nk-wavelengths', 'give either wavelengths_nm or from_nm, to_nm and step_nm', {}, 422);
     }
     if (b.wavelengths_nm.length > maxPoints) {
-      throw new InputError('nk-too-many-points', `${b.wavelengths_nm.length} wavelengths asked for; at most ${maxPoints} per request (setting max_nk_points)`);
+      throw new InputError(
+        'nk-too-many-points',
+        `${b.wavelengths_nm.length} wavelengths asked for; at most ${maxPoints} per request (setting max_nk_points)`,
+      );
     }
     return { wavelengthNm: b.wavelengths_nm, interpolation: b.interpolation as NkRequest['interpolation'] };
   }
-  const asQuery = Object.fromEntries(Object.entries(b).filter(([, v]) => v !== undefined).map(([k, v]) => [k, String(v)]));
+  const asQuery = Object.fromEntries(
+    Object.entries(b)
+      .filter(([, v]) => v !== undefined)
+      .map(([k, v]) => [k, String(v)]),
+  );
   return parseNkQuery(asQuery, maxPoints, { maxListChars: Infinity });
 }
 
@@ -107,14 +117,17 @@ export function parseNkBody(body: unknown, maxPoints: number): NkRequest {
 export function negotiateNkFormat(accept: string | undefined): 'json' | 'csv' {
   if (!accept || accept.trim() === '') return 'json';
   const ranges = accept.split(',').map((part) => {
-    const [type, ...params] = part.trim().toLowerCase().split(';').map((s) => s.trim());
+    const [type, ...params] = part
+      .trim()
+      .toLowerCase()
+      .split(';')
+      .map((s) => s.trim());
     const qParam = params.find((p) => p.startsWith('q='));
     return { type, q: qParam ? Number(qParam.slice(2)) : 1 };
   });
   const quality = (type: string) => {
     const [major] = type.split('/');
-    const match =
-      ranges.find((r) => r.type === type) ?? ranges.find((r) => r.type === `${major}/*`) ?? ranges.find((r) => r.type === '*/*');
+    const match = ranges.find((r) => r.type === type) ?? ranges.find((r) => r.type === `${major}/*`) ?? ranges.find((r) => r.type === '*/*');
     return match && Number.isFinite(match.q) ? match.q : 0;
   };
   const json = quality('application/json');

@@ -28,7 +28,9 @@ const authErrors = {
 };
 const readErrors = {
   ...authErrors,
-  '400': problem('malformed request: a path segment that is not a slug or version number, a bad query parameter, or (uploads) a table that cannot be read'),
+  '400': problem(
+    'malformed request: a path segment that is not a slug or version number, a bad query parameter, or (uploads) a table that cannot be read',
+  ),
   '404': problem('unknown material or version'),
 };
 const writeErrors = {
@@ -52,8 +54,16 @@ const busy = {
 const role = (r: (typeof TOKEN_ROLES)[number]) => ({ 'x-nkledger-role': r });
 
 /** The fit fields, as form fields of TableUpload and as query parameters of text/csv uploads. */
-const fitOptionProperties = Object.fromEntries(Object.entries(FIT_OPTION_FIELD_DOCS).map(([name, description]) => [name, { type: 'string', description }]));
-const fitOptionQuery = Object.entries(FIT_OPTION_FIELD_DOCS).map(([name, description]) => ({ name, in: 'query', required: false, schema: { type: 'string' }, description }));
+const fitOptionProperties = Object.fromEntries(
+  Object.entries(FIT_OPTION_FIELD_DOCS).map(([name, description]) => [name, { type: 'string', description }]),
+);
+const fitOptionQuery = Object.entries(FIT_OPTION_FIELD_DOCS).map(([name, description]) => ({
+  name,
+  in: 'query',
+  required: false,
+  schema: { type: 'string' },
+  description,
+}));
 
 const tableUpload = {
   description:
@@ -107,7 +117,10 @@ export const OPENAPI_DOCUMENT = {
         summary: 'List materials, optionally filtered by a search term',
         ...role('reader'),
         parameters: [{ name: 'q', in: 'query', required: false, schema: { type: 'string', maxLength: 200 } }],
-        responses: { '200': json('materials', { type: 'object', properties: { materials: { type: 'array', items: ref('Material') } } }), ...authErrors },
+        responses: {
+          '200': json('materials', { type: 'object', properties: { materials: { type: 'array', items: ref('Material') } } }),
+          ...authErrors,
+        },
       },
       post: {
         summary: 'Create a material',
@@ -159,7 +172,13 @@ export const OPENAPI_DOCUMENT = {
         ...role('editor'),
         parameters: [
           slugParam,
-          { name: 'fit', in: 'query', required: false, schema: { type: 'string' }, description: 'model spec to fit and store, e.g. "tauc-lorentz" (text/csv uploads); the other fit fields need it' },
+          {
+            name: 'fit',
+            in: 'query',
+            required: false,
+            schema: { type: 'string' },
+            description: 'model spec to fit and store, e.g. "tauc-lorentz" (text/csv uploads); the other fit fields need it',
+          },
           ...fitOptionQuery,
         ],
         requestBody: tableUpload,
@@ -203,20 +222,29 @@ export const OPENAPI_DOCUMENT = {
             schema: { type: 'string', enum: ['linear', 'monotone-cubic'] },
             description: 'for table-only versions; model-backed versions evaluate the model',
           },
-          { name: 'at', in: 'query', required: false, schema: { type: 'string' }, example: '1.5:4:0.5', description: 'points in `unit` (a list or start:stop:step items), instead of wavelengths_nm' },
+          {
+            name: 'at',
+            in: 'query',
+            required: false,
+            schema: { type: 'string' },
+            example: '1.5:4:0.5',
+            description: 'points in `unit` (a list or start:stop:step items), instead of wavelengths_nm',
+          },
           {
             name: 'unit',
             in: 'query',
             required: false,
             schema: { type: 'string', enum: ['nm', 'um', 'eV', 'cm-1'] },
-            description: 'unit of `at`; the answer keeps wavelength_nm and adds the x column in this unit (energy_eV, wavelength_um, wavenumber_cm-1)',
+            description:
+              'unit of `at`; the answer keeps wavelength_nm and adds the x column in this unit (energy_eV, wavelength_um, wavenumber_cm-1)',
           },
           {
             name: 'extrapolate',
             in: 'query',
             required: false,
             schema: { type: 'string', enum: ['true', 'false'] },
-            description: 'true: a fitted model is also evaluated beyond its validity range; "extrapolated" marks each value and "warnings" says so. A table never extrapolates',
+            description:
+              'true: a fitted model is also evaluated beyond its validity range; "extrapolated" marks each value and "warnings" says so. A table never extrapolates',
           },
         ],
         responses: {
@@ -270,17 +298,29 @@ export const OPENAPI_DOCUMENT = {
         },
       },
     },
-    '/api/v1/materials/{slug}/versions/{n}/approve': lifecycle('Approve a draft (not by its creator, unless the registry allows self-approval)', 'NoBody'),
+    '/api/v1/materials/{slug}/versions/{n}/approve': lifecycle(
+      'Approve a draft (not by its creator, unless the registry allows self-approval)',
+      'NoBody',
+    ),
     '/api/v1/materials/{slug}/versions/{n}/retire': lifecycle('Retire an approved version (reason required)', 'Reason'),
     '/api/v1/materials/{slug}/versions/{n}/withdraw': lifecycle('Withdraw a draft (reason optional)', 'OptionalReason'),
     '/api/v1/locks/verify': {
       post: {
         summary: 'Verify a design lockfile against the registry',
-        description: 'Answers 200 with `ok` false when an entry is missing or its hash differs; retired, draft and withdrawn pins are warnings, failures with strict=true.',
+        description:
+          'Answers 200 with `ok` false when an entry is missing or its hash differs; retired, draft and withdrawn pins are warnings, failures with strict=true.',
         ...role('reader'),
         parameters: [{ name: 'strict', in: 'query', required: false, schema: { type: 'string', enum: ['true', 'false'] } }],
         requestBody: { required: true, content: { 'application/json': { schema: { type: 'object' } } } },
-        responses: { '200': json("per-pin verdicts (each pin's hash recomputed from the content) and `history`: whether the registry's audit chain still contains the lockfile's registry_head", ref('LockVerification')), '400': problem('not a lockfile'), '415': problem('the body is not application/json'), ...authErrors },
+        responses: {
+          '200': json(
+            "per-pin verdicts (each pin's hash recomputed from the content) and `history`: whether the registry's audit chain still contains the lockfile's registry_head",
+            ref('LockVerification'),
+          ),
+          '400': problem('not a lockfile'),
+          '415': problem('the body is not application/json'),
+          ...authErrors,
+        },
       },
     },
     '/api/v1/fit': {
@@ -288,11 +328,23 @@ export const OPENAPI_DOCUMENT = {
         summary: 'Fit a dispersion model to an uploaded table; nothing is stored',
         ...role('reader'),
         parameters: [
-          { name: 'model', in: 'query', required: false, schema: { type: 'string' }, description: 'model spec for text/csv uploads (multipart: a form field)' },
+          {
+            name: 'model',
+            in: 'query',
+            required: false,
+            schema: { type: 'string' },
+            description: 'model spec for text/csv uploads (multipart: a form field)',
+          },
           ...fitOptionQuery,
         ],
         requestBody: tableUpload,
-        responses: { '200': json('fit report', reportWith(ref('FitReport'))), '400': problem('malformed table'), '422': problem('the fit failed'), ...authErrors, ...busy },
+        responses: {
+          '200': json('fit report', reportWith(ref('FitReport'))),
+          '400': problem('malformed table'),
+          '422': problem('the fit failed'),
+          ...authErrors,
+          ...busy,
+        },
       },
     },
     '/api/v1/kk': {
@@ -307,7 +359,10 @@ export const OPENAPI_DOCUMENT = {
       get: {
         summary: 'List tokens (never secrets)',
         ...role('admin'),
-        responses: { '200': json('tokens', { type: 'object', required: ['tokens'], properties: { tokens: { type: 'array', items: ref('Token') } } }), ...authErrors },
+        responses: {
+          '200': json('tokens', { type: 'object', required: ['tokens'], properties: { tokens: { type: 'array', items: ref('Token') } } }),
+          ...authErrors,
+        },
       },
       post: {
         summary: 'Create a token; the secret is in this response only',
@@ -321,7 +376,9 @@ export const OPENAPI_DOCUMENT = {
           },
         },
         responses: {
-          '201': json('the token with its secret', { allOf: [ref('Token'), { type: 'object', required: ['token'], properties: { token: { type: 'string', pattern: '^nkl_' } } }] }),
+          '201': json('the token with its secret', {
+            allOf: [ref('Token'), { type: 'object', required: ['token'], properties: { token: { type: 'string', pattern: '^nkl_' } } }],
+          }),
           ...writeErrors,
         },
       },
@@ -335,14 +392,21 @@ export const OPENAPI_DOCUMENT = {
       },
     },
     '/api/v1/settings': {
-      get: { summary: 'Every setting of the registry and the API (the registry rule allow_self_approval included)', ...role('admin'), responses: { '200': json('settings', ref('Settings')), ...authErrors } },
+      get: {
+        summary: 'Every setting of the registry and the API (the registry rule allow_self_approval included)',
+        ...role('admin'),
+        responses: { '200': json('settings', ref('Settings')), ...authErrors },
+      },
     },
     '/api/v1/settings/{key}': {
       put: {
         summary: 'Change a setting',
         ...role('admin'),
         parameters: [{ name: 'key', in: 'path', required: true, schema: { type: 'string', enum: SETTING_KEYS } }],
-        requestBody: { required: true, content: { 'application/json': { schema: { type: 'object', required: ['value'], properties: { value: {} } } } } },
+        requestBody: {
+          required: true,
+          content: { 'application/json': { schema: { type: 'object', required: ['value'], properties: { value: {} } } } },
+        },
         responses: { '200': json('settings after the change', ref('Settings')), ...writeErrors },
       },
       delete: {
@@ -373,13 +437,23 @@ export const OPENAPI_DOCUMENT = {
       NewMaterial: {
         type: 'object',
         required: ['slug', 'name'],
-        properties: { slug: { type: 'string' }, name: { type: 'string' }, description: { type: 'string' }, tags: { type: 'array', items: { type: 'string' } } },
+        properties: {
+          slug: { type: 'string' },
+          name: { type: 'string' },
+          description: { type: 'string' },
+          tags: { type: 'array', items: { type: 'string' } },
+        },
       },
       Material: { type: 'object', required: ['slug', 'name'], properties: { slug: { type: 'string' }, name: { type: 'string' } } },
       Version: {
         type: 'object',
         required: ['ref', 'sha256', 'status'],
-        properties: { ref: { type: 'string' }, sha256: { type: 'string' }, status: { enum: ['draft', 'approved', 'retired', 'withdrawn'] }, warning: { type: 'string' } },
+        properties: {
+          ref: { type: 'string' },
+          sha256: { type: 'string' },
+          status: { enum: ['draft', 'approved', 'retired', 'withdrawn'] },
+          warning: { type: 'string' },
+        },
       },
       CreatedVersion: {
         type: 'object',
@@ -399,8 +473,15 @@ export const OPENAPI_DOCUMENT = {
           delimiter: { type: 'string' },
           decimal_comma: { type: 'string', enum: ['true', 'false'] },
           k_tolerance: { type: 'string' },
-          header_line: { type: 'string', description: 'the header is this physical line (from 1); lines above it are the preamble (default: detected)' },
-          allow_any_range: { type: 'string', enum: ['true', 'false'], description: 'true: accept x values outside 10 nm – 1 mm (genuine EUV or THz data)' },
+          header_line: {
+            type: 'string',
+            description: 'the header is this physical line (from 1); lines above it are the preamble (default: detected)',
+          },
+          allow_any_range: {
+            type: 'string',
+            enum: ['true', 'false'],
+            description: 'true: accept x values outside 10 nm – 1 mm (genuine EUV or THz data)',
+          },
           sample: { type: 'string' },
           substrate: { type: 'string' },
           process: { type: 'string' },
@@ -424,7 +505,11 @@ export const OPENAPI_DOCUMENT = {
           model: { type: 'string' },
           parameters: {
             type: 'object',
-            additionalProperties: { type: 'object', required: ['value', 'unit'], properties: { value: { type: 'number' }, stderr: { type: ['number', 'null'] }, unit: { type: 'string' } } },
+            additionalProperties: {
+              type: 'object',
+              required: ['value', 'unit'],
+              properties: { value: { type: 'number' }, stderr: { type: ['number', 'null'] }, unit: { type: 'string' } },
+            },
           },
           statistics: { type: 'object', required: ['points'], properties: { points: { type: 'integer' } } },
           range_nm: { type: 'array', items: { type: 'number' }, minItems: 2, maxItems: 2 },
@@ -490,7 +575,12 @@ export const OPENAPI_DOCUMENT = {
         type: 'object',
         required: ['settings'],
         properties: {
-          settings: { type: 'object', required: [...SETTING_KEYS], properties: Object.fromEntries(SETTING_KEYS.map((key) => [key, {}])), additionalProperties: false },
+          settings: {
+            type: 'object',
+            required: [...SETTING_KEYS],
+            properties: Object.fromEntries(SETTING_KEYS.map((key) => [key, {}])),
+            additionalProperties: false,
+          },
         },
       },
       NkValues: {

@@ -55,7 +55,12 @@ function answerClientError(err: NodeJS.ErrnoException, socket: Duplex): void {
   }
   const problem =
     err.code === 'HPE_HEADER_OVERFLOW'
-      ? new InputError('request-too-long', 'the request line and headers exceed the server\'s 16 KiB limit; send long wavelength lists as POST /api/v1/materials/{slug}/versions/{n}/nk with a JSON body', {}, 431)
+      ? new InputError(
+          'request-too-long',
+          "the request line and headers exceed the server's 16 KiB limit; send long wavelength lists as POST /api/v1/materials/{slug}/versions/{n}/nk with a JSON body",
+          {},
+          431,
+        )
       : new InputError('http-malformed', `the request is not valid HTTP/1.1 (${err.code ?? 'parse error'})`, {}, 400);
   const { problem: doc } = problemFromError(problem);
   const body = JSON.stringify(doc);

@@ -61,22 +61,29 @@ export async function readTableUpload(c: Context): Promise<TableUpload> {
     bytes = new Uint8Array(await c.req.arrayBuffer());
     fields = readQuery(c.req.url);
   } else {
-    throw new HttpProblem(415, 'upload-media-type', `send the table as text/csv (or text/plain) or as multipart/form-data with a "table" file, not "${type || 'no content type'}"`);
+    throw new HttpProblem(
+      415,
+      'upload-media-type',
+      `send the table as text/csv (or text/plain) or as multipart/form-data with a "table" file, not "${type || 'no content type'}"`,
+    );
   }
   if (bytes.length === 0) throw new InputError('upload-empty', 'the uploaded table is empty', { file: clientFileName ?? UPLOAD_FILE }, 400);
   const fieldsIn = type === 'multipart/form-data' ? 'body' : 'query';
   const flags = parseInput(importFields, pick(fields, IMPORT_FIELD_NAMES), fieldsIn, 400);
   const file = clientFileName ?? UPLOAD_FILE;
   const importOptions: ImportOptions = {
-    ...importOptionsFrom({
-      inputUnit: flags.input_unit,
-      columns: flags.columns,
-      delimiter: flags.delimiter,
-      decimalComma: flags.decimal_comma === undefined ? undefined : flags.decimal_comma === 'true',
-      kTolerance: flags.k_tolerance,
-      headerLine: flags.header_line,
-      allowAnyRange: flags.allow_any_range === 'true',
-    }, (key) => key.replace(/[A-Z]/g, (c) => `_${c.toLowerCase()}`)),
+    ...importOptionsFrom(
+      {
+        inputUnit: flags.input_unit,
+        columns: flags.columns,
+        delimiter: flags.delimiter,
+        decimalComma: flags.decimal_comma === undefined ? undefined : flags.decimal_comma === 'true',
+        kTolerance: flags.k_tolerance,
+        headerLine: flags.header_line,
+        allowAnyRange: flags.allow_any_range === 'true',
+      },
+      (key) => key.replace(/[A-Z]/g, (c) => `_${c.toLowerCase()}`),
+    ),
     file,
   };
   return { bytes, file, clientFileName, importOptions, fields: omit(fields, IMPORT_FIELD_NAMES), fieldsIn };
@@ -89,7 +96,12 @@ async function readForm(c: Context): Promise<FormData> {
   } catch (err) {
     // Only a body the parser refused is the client's fault; anything else is ours.
     if (!(err instanceof TypeError) && !(err instanceof RangeError)) throw err;
-    throw new InputError('upload-multipart', `the multipart/form-data body cannot be read (${err.message}); check the boundary in Content-Type and the body's part delimiters`, { file: UPLOAD_FILE }, 400);
+    throw new InputError(
+      'upload-multipart',
+      `the multipart/form-data body cannot be read (${err.message}); check the boundary in Content-Type and the body's part delimiters`,
+      { file: UPLOAD_FILE },
+      400,
+    );
   }
 }
 

@@ -21,7 +21,8 @@ export function parseInput<T>(schema: z.ZodType<T>, value: unknown, where: 'body
   const known = 'shape' in schema && schema.shape && typeof schema.shape === 'object' ? Object.keys(schema.shape) : null;
   const issues = result.error.issues.map((i) => {
     const name = [where, ...i.path.map(String)].join('.');
-    if (i.code === 'unrecognized_keys') return `${name}: unknown field${i.keys.length > 1 ? 's' : ''} ${i.keys.map((k) => `"${k}"`).join(', ')}${known ? ` (known: ${known.join(', ')})` : ''}`;
+    if (i.code === 'unrecognized_keys')
+      return `${name}: unknown field${i.keys.length > 1 ? 's' : ''} ${i.keys.map((k) => `"${k}"`).join(', ')}${known ? ` (known: ${known.join(', ')})` : ''}`;
     if (i.code === 'invalid_type' && at(value, i.path) === undefined) return `${name}: required`;
     return `${name}: ${i.message}`;
   });
@@ -37,7 +38,9 @@ interface BodyRequest {
 function requireJsonType(req: BodyRequest): void {
   const type = (req.header('content-type') ?? '').split(';')[0].trim().toLowerCase();
   if (type === 'application/json' || /^application\/[a-z0-9.+-]+\+json$/.test(type)) return;
-  throw new HttpProblem(415, 'body-media-type', `send the request body as application/json, not "${type || 'no content type'}"`, { accept: 'application/json' });
+  throw new HttpProblem(415, 'body-media-type', `send the request body as application/json, not "${type || 'no content type'}"`, {
+    accept: 'application/json',
+  });
 }
 
 function parseJsonText(text: string): unknown {
@@ -82,7 +85,12 @@ export function readQuery(url: string): Record<string, string> {
       try {
         return decodeURIComponent(part.replace(/\+/g, ' '));
       } catch {
-        throw new InputError('query-encoding', `query parameter "${pair.slice(0, 60)}": malformed percent-encoding or bytes that are not UTF-8`, {}, 400);
+        throw new InputError(
+          'query-encoding',
+          `query parameter "${pair.slice(0, 60)}": malformed percent-encoding or bytes that are not UTF-8`,
+          {},
+          400,
+        );
       }
     };
     const name = decode(eq < 0 ? pair : pair.slice(0, eq));

@@ -20,5 +20,8 @@ export function addFitOptions(cmd: Command): Command {
     .option('--free <P>', 'fit a parameter the model fixes by default (Sellmeier A, Urbach Eb) (repeatable)', collect)
     .option('--starts <N>', 'number of starts: the automatic guess plus N − 1 random perturbations of it (default 1)')
     .option('--seed <N>', 'seed of the multi-start perturbations (default 1)')
-    .option('--weights <how>', 'auto (default: the sigma columns, else the n/k noise ratio) or relative (σ ∝ |value|, for noise that grows with the value; see docs/fitting.md)');
+    .option(
+      '--weights <how>',
+      'auto (default: the sigma columns, else the n/k noise ratio) or relative (σ ∝ |value|, for noise that grows with the value; see docs/fitting.md)',
+    );
 }

@@ -17,6 +17,9 @@ export function printWarnings(warnings: string[]): void {
 export function formatTable(header: string[], rows: string[][]): string[] {
   const widths = header.map((h, i) => Math.max(h.length, ...rows.map((r) => (r[i] ?? '').length)));
   const line = (cells: string[]) =>
-    cells.map((c, i) => (i === 0 ? c.padEnd(widths[i]) : c.padStart(widths[i]))).join('  ').trimEnd();
+    cells
+      .map((c, i) => (i === 0 ? c.padEnd(widths[i]) : c.padStart(widths[i])))
+      .join('  ')
+      .trimEnd();
   return [line(header), widths.map((w) => '-'.repeat(w)).join('  '), ...rows.map(line)];
 }

@@ -26,7 +26,10 @@ export function contentSummary(v: VersionRecord): string {
 /** The lifecycle of a version as lines: created, approved, retired, withdrawn. */
 export function lifecycleLines(v: VersionRecord): string[] {
   const lines = [`created    ${shortTime(v.created_at)} by ${v.created_by}`];
-  if (v.approved_by) lines.push(`approved   ${shortTime(v.approved_at)} by ${v.approved_by}${v.self_approved ? ' (self-approval, allowed by the registry setting)' : ''}`);
+  if (v.approved_by)
+    lines.push(
+      `approved   ${shortTime(v.approved_at)} by ${v.approved_by}${v.self_approved ? ' (self-approval, allowed by the registry setting)' : ''}`,
+    );
   if (v.retired_by) lines.push(`retired    ${shortTime(v.retired_at)} by ${v.retired_by}: ${v.retire_reason}`);
   if (v.withdrawn_by) lines.push(`withdrawn  ${shortTime(v.withdrawn_at)} by ${v.withdrawn_by}${v.withdraw_reason ? `: ${v.withdraw_reason}` : ''}`);
   return lines;

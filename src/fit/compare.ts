@@ -77,7 +77,10 @@ function criteriaOnAllRows(table: NkTable, report: FitReport, options: Omit<FitO
 export function compareModels(table: NkTable, specs: string[], options: Omit<FitOptions, 'model'> = {}): ComparisonReport {
   if (specs.length < 2) throw new InputError('compare-needs-two', `--compare needs at least two models, got ${specs.join(',') || 'none'}`);
   if (options.fix || options.init || options.bounds || options.free) {
-    throw new InputError('compare-no-parameter-flags', '--fix, --init, --bounds and --free name parameters of one model; they cannot be used with --compare');
+    throw new InputError(
+      'compare-no-parameter-flags',
+      '--fix, --init, --bounds and --free name parameters of one model; they cannot be used with --compare',
+    );
   }
   const models: ComparedModel[] = specs.map((spec) => {
     const probe = buildModel(spec); // refuses unknown names before any fitting
@@ -112,7 +115,18 @@ export function compareModels(table: NkTable, specs: string[], options: Omit<Fit
       };
     } catch (err) {
       if (!(err instanceof NumericalError)) throw err;
-      return { model: probe.spec, report: null, error: err.message, aic: null, bic: null, delta_aic: null, delta_bic: null, free_parameters: null, kk_consistent: probe.kkConsistent, caveats };
+      return {
+        model: probe.spec,
+        report: null,
+        error: err.message,
+        aic: null,
+        bic: null,
+        delta_aic: null,
+        delta_bic: null,
+        free_parameters: null,
+        kk_consistent: probe.kkConsistent,
+        caveats,
+      };
     }
   });
   // a model with k ≡ 0 is fitted to n alone; beside absorbing models its criteria are taken on the same

@@ -24,7 +24,10 @@ function refuseUnknown(model: DispersionModel, names: string[], flag: string): v
   const valid = model.parameters.map((p) => p.name);
   for (const name of names) {
     if (!valid.includes(name)) {
-      throw new InputError('unknown-parameter', `${flag} ${name}: model ${model.spec} has no parameter "${name}"; its parameters: ${valid.join(', ')}`);
+      throw new InputError(
+        'unknown-parameter',
+        `${flag} ${name}: model ${model.spec} has no parameter "${name}"; its parameters: ${valid.join(', ')}`,
+      );
     }
   }
 }
@@ -38,14 +41,19 @@ function resolveBounds(model: DispersionModel, options: FitOptions): [number, nu
   });
 }
 
-
 /**
  * Start k ≥ 1: every free parameter multiplied by a log-uniform factor in [1/3, 3], kept within bounds and
  * inside the model's domain (its constraints, e.g. Tauc-Lorentz C < 2·E0): a draw that breaks one is drawn
  * again, up to DOMAIN_DRAWS times; null when none lands inside (the start is then skipped and counted).
  */
 const DOMAIN_DRAWS = 50;
-function perturbedStart(model: DispersionModel, start: Float64Array, free: number[], bounds: [number, number][], random: () => number): Float64Array | null {
+function perturbedStart(
+  model: DispersionModel,
+  start: Float64Array,
+  free: number[],
+  bounds: [number, number][],
+  random: () => number,
+): Float64Array | null {
   for (let draw = 0; draw < DOMAIN_DRAWS; draw++) {
     const p = Float64Array.from(start);
     for (const i of free) {
@@ -120,7 +128,11 @@ export function prepareFit(table: NkTable, options: FitOptions): PreparedFit {
     if (p.fixedByDefault && !options.free?.includes(p.name)) fixed.add(i);
     const init = options.init?.[p.name];
     if (init !== undefined) {
-      if (init < bounds[i][0] || init > bounds[i][1]) throw new InputError('init-out-of-bounds', `--init ${p.name}=${init} lies outside its bounds ${bounds[i][0]}:${bounds[i][1]} (${p.unit}); widen them with --bounds`);
+      if (init < bounds[i][0] || init > bounds[i][1])
+        throw new InputError(
+          'init-out-of-bounds',
+          `--init ${p.name}=${init} lies outside its bounds ${bounds[i][0]}:${bounds[i][1]} (${p.unit}); widen them with --bounds`,
+        );
       given.set(i, init);
     }
     const fix = options.fix?.[p.name];
@@ -146,11 +158,27 @@ export function prepareFit(table: NkTable, options: FitOptions): PreparedFit {
   const broken = model.violated(start);
   if (broken) {
     const [a, b] = [model.parameters[broken.below].name, model.parameters[broken.above].name];
-    throw new NumericalError(`the start values break the model's rule ${broken.rule} (${a} = ${start[broken.below]}, ${b} = ${start[broken.above]}): give values that satisfy it`, 'start-outside-domain');
+    throw new NumericalError(
+      `the start values break the model's rule ${broken.rule} (${a} = ${start[broken.below]}, ${b} = ${start[broken.above]}): give values that satisfy it`,
+      'start-outside-domain',
+    );
   }
   const maxIterations = options.maxIterations ?? DEFAULT_MAX_ITERATIONS;
   const startCount = Math.max(1, Math.floor(options.starts ?? 1));
-  return { model, problem, bounds, start, free, fixed, target, maxIterations, startCount, seed: options.seed ?? 1, rows, rangeGiven: options.rangeNm !== undefined };
+  return {
+    model,
+    problem,
+    bounds,
+    start,
+    free,
+    fixed,
+    target,
+    maxIterations,
+    startCount,
+    seed: options.seed ?? 1,
+    rows,
+    rangeGiven: options.rangeNm !== undefined,
+  };
 }
 
 export function solveFit(prepared: PreparedFit): FitSolution {
@@ -211,7 +239,11 @@ export function reportFit(solution: FitSolution): FitReport {
   const { stderr, correlation } = uncertaintyResult;
   const nk = model.evaluate(problem.grid, best.values, 'nk', false);
   const diagnostics: FitDiagnostic[] = problem.warnings.map((message) => ({ rule: 'data', message }));
-  if (!model.kkConsistent) diagnostics.push({ rule: 'not-kk-consistent', message: `${model.spec} is not Kramers-Kronig consistent: its n and k are independent formulas, so they need not describe one physical material` });
+  if (!model.kkConsistent)
+    diagnostics.push({
+      rule: 'not-kk-consistent',
+      message: `${model.spec} is not Kramers-Kronig consistent: its n and k are independent formulas, so they need not describe one physical material`,
+    });
   const parameters: Record<string, ParameterReport> = {};
   model.parameters.forEach((spec, i) => {
     const j = best.free.indexOf(i);
@@ -238,14 +270,34 @@ export function reportFit(solution: FitSolution): FitReport {
     }
   }
   for (const d of degenerateResonances(model, freeNames, correlation, best.values)) diagnostics.push(d);
-  if (high.length > 0) diagnostics.push({ rule: 'correlated', message: `highly correlated (|r| > ${CORRELATION_THRESHOLD}): ${high.map((h) => `${h.a}/${h.b} r=${h.r.toFixed(3)}`).join(', ')}; their individual values are poorly determined`, parameters: [...new Set(high.flatMap((h) => [h.a, h.b]))] });
-  if (!best.converged) diagnostics.push({ rule: 'not-converged', message: `the fit stopped after ${best.iterations} iterations without meeting the convergence tests; the result may not be a minimum`, advice: 'start from other values or run several starts', option: 'starts' });
+  if (high.length > 0)
+    diagnostics.push({
+      rule: 'correlated',
+      message: `highly correlated (|r| > ${CORRELATION_THRESHOLD}): ${high.map((h) => `${h.a}/${h.b} r=${h.r.toFixed(3)}`).join(', ')}; their individual values are poorly determined`,
+      parameters: [...new Set(high.flatMap((h) => [h.a, h.b]))],
+    });
+  if (!best.converged)
+    diagnostics.push({
+      rule: 'not-converged',
+      message: `the fit stopped after ${best.iterations} iterations without meeting the convergence tests; the result may not be a minimum`,
+      advice: 'start from other values or run several starts',
+      option: 'starts',
+    });
   const freeCount = best.free.length;
   const dof = points - freeCount;
   if (dof < 2 * freeCount) {
-    diagnostics.push({ rule: 'few-dof', message: `only ${points} residuals for ${freeCount} free parameters (${dof} degrees of freedom, fewer than twice the free parameters): the standard errors and χ² tests rest on little data`, advice: 'fit more rows or fix parameters at known values', option: 'fix', value: dof });
+    diagnostics.push({
+      rule: 'few-dof',
+      message: `only ${points} residuals for ${freeCount} free parameters (${dof} degrees of freedom, fewer than twice the free parameters): the standard errors and χ² tests rest on little data`,
+      advice: 'fit more rows or fix parameters at known values',
+      option: 'fix',
+      value: dof,
+    });
   }
-  const residuals = difference(Float64Array.from(problem.y, (y, i) => y * problem.invSigma[i]), whitenedModel(problem, model.evaluate(problem.grid, best.values, problem.quantity, false)).model);
+  const residuals = difference(
+    Float64Array.from(problem.y, (y, i) => y * problem.invSigma[i]),
+    whitenedModel(problem, model.evaluate(problem.grid, best.values, problem.quantity, false)).model,
+  );
   let chi2P: number | null = null;
   if (problem.weighted) {
     chi2P = chi2Survival(best.chi2, dof);
@@ -280,11 +332,23 @@ export function reportFit(solution: FitSolution): FitReport {
     diagnostics,
     kk_consistent: model.kkConsistent,
     range_nm: [problem.grid.wavelengthNm[0], problem.grid.wavelengthNm[problem.grid.wavelengthNm.length - 1]],
-    options: { terms: model.options.terms, urbach: model.options.urbach, target: ctx.target, weighted: problem.weighted, fixed: names.filter((_, i) => ctx.fixed.has(i)), weights: problem.weighting },
+    options: {
+      terms: model.options.terms,
+      urbach: model.options.urbach,
+      target: ctx.target,
+      weighted: problem.weighted,
+      fixed: names.filter((_, i) => ctx.fixed.has(i)),
+      weights: problem.weighting,
+    },
   };
   if (ctx.startCount > 1) {
     const reached = ctx.runs.filter((r) => r.chi2 <= best.chi2 * (1 + SAME_MINIMUM) + 1e-300).length;
-    report.multistart = { starts: ctx.startCount, reached_best: reached, tolerance: `χ² within ${SAME_MINIMUM} relative of the best`, skipped: ctx.skipped };
+    report.multistart = {
+      starts: ctx.startCount,
+      reached_best: reached,
+      tolerance: `χ² within ${SAME_MINIMUM} relative of the best`,
+      skipped: ctx.skipped,
+    };
   }
   return report;
 }
@@ -363,7 +427,10 @@ function singularError(solution: FitSolution, err: SingularCovariance): Numerica
   const vanished = model.oscillators.filter((o) => best.values[o.strength] <= solution.bounds[o.strength][0]);
   if (vanished.length > 0) {
     const v = vanished.map((o) => `${names[o.strength]} = ${short(best.values[o.strength])}`).join(', ');
-    return new NumericalError(`a ${vanished[0].group} term vanished (${v}, its lower bound), so the model no longer depends on ${list}: fit with one term fewer, or start that term nearer a feature of the data`, 'term-vanished');
+    return new NumericalError(
+      `a ${vanished[0].group} term vanished (${v}, its lower bound), so the model no longer depends on ${list}: fit with one term fewer, or start that term nearer a feature of the data`,
+      'term-vanished',
+    );
   }
   const held = best.atBound.map((i) => `${names[i]} = ${short(best.values[i])}`);
   if (held.length > 0) {

@@ -89,7 +89,13 @@ const LOOSE_GTOL = 1e-3;
 const GTOL = 1e-5;
 
 /** Whitened residuals r = (y − model)/σ and Jacobian columns of the model for the free parameters. */
-export function residualsAt(problem: FitProblem, model: DispersionModel, values: Float64Array, free: number[], withJacobian: boolean): { r: Float64Array; jacobian: Float64Array[] } {
+export function residualsAt(
+  problem: FitProblem,
+  model: DispersionModel,
+  values: Float64Array,
+  free: number[],
+  withJacobian: boolean,
+): { r: Float64Array; jacobian: Float64Array[] } {
   const v = model.evaluate(problem.grid, values, problem.quantity, withJacobian && { columns: free, re: problem.useRe, im: problem.useIm });
   const { model: m, jacobian } = whitenedModel(problem, v, withJacobian ? free : undefined);
   const r = new Float64Array(m.length);
@@ -180,7 +186,14 @@ class StopChunk {
  * ANL-80-74 (1980)) in a form that does not depend on the damping. Unlike the largest cosine with a single
  * column, it sees the χ² still to be gained along a narrow valley of nearly collinear columns.
  */
-function projectedCosine(r: Float64Array, jacobian: Float64Array[], p: Float64Array, free: number[], bounds: [number, number][], spanCosine = NaN): number {
+function projectedCosine(
+  r: Float64Array,
+  jacobian: Float64Array[],
+  p: Float64Array,
+  free: number[],
+  bounds: [number, number][],
+  spanCosine = NaN,
+): number {
   const rNorm2 = dot(r, r);
   if (!(rNorm2 > 0)) return 0;
   const rows = r.length;
@@ -227,7 +240,14 @@ function projectedCosine(r: Float64Array, jacobian: Float64Array[], p: Float64Ar
  * Minimize χ² over the free parameters from `start`, within `bounds` (full parameter order).
  * Throws NumericalError when the model is not finite at the start or the library fails.
  */
-export function minimize(problem: FitProblem, model: DispersionModel, start: Float64Array, free: number[], bounds: [number, number][], maxIterations: number): LmResult {
+export function minimize(
+  problem: FitProblem,
+  model: DispersionModel,
+  start: Float64Array,
+  free: number[],
+  bounds: [number, number][],
+  maxIterations: number,
+): LmResult {
   const p = Float64Array.from(start);
   // derivatives of the free parameters and the fitted parts only
   const request = { columns: free, re: problem.useRe, im: problem.useIm };
@@ -307,7 +327,8 @@ export function minimize(problem: FitProblem, model: DispersionModel, start: Flo
       const rowsOfR = current.reduced.rows;
       return (i: number) => {
         const row = rowsOfR[i];
-        if (row === undefined) rowBuffer.fill(0); // the last reduced row: ‖c_{p+1…N}‖ with a zero Jacobian row
+        if (row === undefined)
+          rowBuffer.fill(0); // the last reduced row: ‖c_{p+1…N}‖ with a zero Jacobian row
         else for (let j = 0; j < row.length; j++) rowBuffer[j] = row[j] * scale[j];
         return rowBuffer;
       };
@@ -334,7 +355,9 @@ export function minimize(problem: FitProblem, model: DispersionModel, start: Flo
       );
     } catch (err) {
       if (!(err instanceof StopChunk)) {
-        throw new NumericalError(`the Levenberg-Marquardt step failed (${err instanceof Error ? err.message : String(err)}); give start values closer to the data or fix a parameter at a known value`);
+        throw new NumericalError(
+          `the Levenberg-Marquardt step failed (${err instanceof Error ? err.message : String(err)}); give start values closer to the data or fix a parameter at a known value`,
+        );
       }
       reason = err.reason;
     }
@@ -368,7 +391,14 @@ export function minimize(problem: FitProblem, model: DispersionModel, start: Flo
  * (one per round, the one pulled hardest). Ends when no parameter changes side, which is the
  * Karush-Kuhn-Tucker condition for the box.
  */
-export function minimizeWithBounds(problem: FitProblem, model: DispersionModel, start: Float64Array, free: number[], bounds: [number, number][], maxIterations: number): LmResult {
+export function minimizeWithBounds(
+  problem: FitProblem,
+  model: DispersionModel,
+  start: Float64Array,
+  free: number[],
+  bounds: [number, number][],
+  maxIterations: number,
+): LmResult {
   const held = new Set<number>();
   let p: Float64Array = Float64Array.from(start);
   let iterations = 0;
@@ -412,5 +442,13 @@ export function minimizeWithBounds(problem: FitProblem, model: DispersionModel, 
   const movable = free.filter((i) => !held.has(i));
   // the Jacobian of the parameters left free, at the final point (the last minimize may predate the last hold)
   const { r, jacobian } = residualsAt(problem, model, p, movable, true);
-  return { values: p, chi2: sumSquares(r), iterations, converged: final.converged, jacobian, free: movable, atBound: free.filter((i) => held.has(i)) };
+  return {
+    values: p,
+    chi2: sumSquares(r),
+    iterations,
+    converged: final.converged,
+    jacobian,
+    free: movable,
+    atBound: free.filter((i) => held.has(i)),
+  };
 }

@@ -60,7 +60,10 @@ export function buildProblem(table: NkTable, target: FitTarget, options: Problem
   if (rows.length < 3) {
     const span = `${table.wavelengthNm[0]}–${table.wavelengthNm[table.wavelengthNm.length - 1]} nm`;
     throw rangeNm
-      ? new InputError('range-too-narrow', `the fit range ${rangeNm[0]}–${rangeNm[1]} nm keeps ${rows.length} of the table's ${table.wavelengthNm.length} rows (${span}); at least 3 are needed: widen the range`)
+      ? new InputError(
+          'range-too-narrow',
+          `the fit range ${rangeNm[0]}–${rangeNm[1]} nm keeps ${rows.length} of the table's ${table.wavelengthNm.length} rows (${span}); at least 3 are needed: widen the range`,
+        )
       : new InputError('too-few-rows', `the table has ${rows.length} rows (${span}); a fit needs at least 3, and more rows than free parameters`);
   }
   const pick = (a: number[]) => {
@@ -81,7 +84,8 @@ export function buildProblem(table: NkTable, target: FitTarget, options: Problem
   if (!absorbing && target !== 'n') {
     let kMax = 0;
     for (const v of k) kMax = Math.max(kMax, Math.abs(v));
-    if (kMax > 0) warnings.push(`the model has k ≡ 0 but the table's k reaches ${+kMax.toPrecision(3)}: only ${quantity === 'eps' ? 'ε1' : 'n'} is fitted`);
+    if (kMax > 0)
+      warnings.push(`the model has k ≡ 0 but the table's k reaches ${+kMax.toPrecision(3)}: only ${quantity === 'eps' ? 'ε1' : 'n'} is fitted`);
   }
   const relative = options.weights === 'relative';
   const sigma = relative ? undefined : sigmas(table, rows, quantity, n, k, useRe, useIm, warnings);
@@ -119,7 +123,16 @@ function proportionalWeights(re: Float64Array, im: Float64Array, useRe: boolean,
  * σ per residual from the table's sigma columns (ε: σε1 = √((2nσn)² + (2kσk)²), σε2 = √((2kσn)² + (2nσk)²),
  * first-order propagation through ε = N², common practice); undefined when a needed column is missing.
  */
-function sigmas(table: NkTable, rows: number[], quantity: ModelQuantity, n: number[], k: number[], useRe: boolean, useIm: boolean, warnings: string[]): number[] | undefined {
+function sigmas(
+  table: NkTable,
+  rows: number[],
+  quantity: ModelQuantity,
+  n: number[],
+  k: number[],
+  useRe: boolean,
+  useIm: boolean,
+  warnings: string[],
+): number[] | undefined {
   if (quantity === 'eps' && table.sigmaEps1 && table.sigmaEps2) return epsSigmas(table, rows, useRe, useIm);
   // ε1 = n² − k² needs σk only where k is given; n alone (a model with k ≡ 0) needs σn only
   const needN = quantity === 'eps' || useRe;
@@ -138,7 +151,10 @@ function sigmas(table: NkTable, rows: number[], quantity: ModelQuantity, n: numb
     const sn = table.sigmaN?.[row] ?? 0;
     const sk = table.sigmaK?.[row] ?? 0;
     if ((needN && !(sn > 0)) || (needK && !(sk > 0))) {
-      throw new InputError('bad-sigma', `sigma must be positive to weight a fit, got sigma_n=${sn}, sigma_k=${sk} at ${table.wavelengthNm[row]} nm (row ${row + 1} of the table)`);
+      throw new InputError(
+        'bad-sigma',
+        `sigma must be positive to weight a fit, got sigma_n=${sn}, sigma_k=${sk} at ${table.wavelengthNm[row]} nm (row ${row + 1} of the table)`,
+      );
     }
     // √(a² + b²) written out: Math.hypot is several times slower in V8
     const a = 2 * n[j] * sn;
@@ -158,7 +174,11 @@ function epsSigmas(table: NkTable, rows: number[], useRe: boolean, useIm: boolea
   for (const column of parts) {
     for (const row of rows) {
       const s = column[row];
-      if (!(s > 0)) throw new InputError('bad-sigma', `sigma must be positive to weight a fit, got sigma_eps1=${table.sigmaEps1![row]}, sigma_eps2=${table.sigmaEps2![row]} at ${table.wavelengthNm[row]} nm (row ${row + 1} of the table)`);
+      if (!(s > 0))
+        throw new InputError(
+          'bad-sigma',
+          `sigma must be positive to weight a fit, got sigma_eps1=${table.sigmaEps1![row]}, sigma_eps2=${table.sigmaEps2![row]} at ${table.wavelengthNm[row]} nm (row ${row + 1} of the table)`,
+        );
       out.push(s);
     }
   }

@@ -71,7 +71,8 @@ export function uncertainty(jacobian: Float64Array[], names: string[], chi2: num
   const correlation = Array.from({ length: count }, (_, a) =>
     Array.from({ length: count }, (_, b) => inv.get(a, b) / Math.sqrt(inv.get(a, a) * inv.get(b, b))),
   );
-  if (stderr.some((s) => !Number.isFinite(s))) throw new NumericalError('the covariance matrix is not finite at the optimum; the fit is not trustworthy');
+  if (stderr.some((s) => !Number.isFinite(s)))
+    throw new NumericalError('the covariance matrix is not finite at the optimum; the fit is not trustworthy');
   return { stderr, correlation };
 }
 

@@ -26,7 +26,15 @@ export function contentLines(text: string): { lines: ContentLine[]; lineEnding: 
 
 /** Accepts the names users type for a separator as well as the character itself. */
 export function normalizeDelimiter(delimiter: string): string {
-  const named: Record<string, string> = { comma: ',', semicolon: ';', tab: '\t', '\\t': '\t', space: WHITESPACE, whitespace: WHITESPACE, ' ': WHITESPACE };
+  const named: Record<string, string> = {
+    comma: ',',
+    semicolon: ';',
+    tab: '\t',
+    '\\t': '\t',
+    space: WHITESPACE,
+    whitespace: WHITESPACE,
+    ' ': WHITESPACE,
+  };
   const d = named[delimiter.toLowerCase()] ?? delimiter;
   if (d !== WHITESPACE && d.length !== 1) {
     throw new InputError('bad-option', `separator "${delimiter}" is not one character nor one of comma, semicolon, tab, whitespace`);

@@ -72,10 +72,16 @@ export function locateHeader(lines: ContentLine[], headerLine: number | undefine
   if (headerLine !== undefined) {
     header = lines.findIndex((l) => l.line === headerLine);
     if (header < 0) {
-      throw new InputError('bad-header-line', `line ${headerLine} is not a content line of the file (it is blank, a # comment or past the end)`, { file }, 400, {
-        option: 'header_line',
-        value: String(headerLine),
-      });
+      throw new InputError(
+        'bad-header-line',
+        `line ${headerLine} is not a content line of the file (it is blank, a # comment or past the end)`,
+        { file },
+        400,
+        {
+          option: 'header_line',
+          value: String(headerLine),
+        },
+      );
     }
   } else {
     const firstRun = tokens.findIndex(

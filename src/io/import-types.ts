@@ -3,17 +3,7 @@ import type { SpectralUnit } from '../optics/units.ts';
 import type { NkTable } from '../table.ts';
 
 /** What a column of an optical-constants table holds. */
-export type ColumnRole =
-  | 'x'
-  | 'n'
-  | 'k'
-  | 'eps1'
-  | 'eps2'
-  | 'sigma_n'
-  | 'sigma_k'
-  | 'sigma_eps1'
-  | 'sigma_eps2'
-  | 'ignore';
+export type ColumnRole = 'x' | 'n' | 'k' | 'eps1' | 'eps2' | 'sigma_n' | 'sigma_k' | 'sigma_eps1' | 'sigma_eps2' | 'ignore';
 
 export interface ImportOptions {
   /** File name used in messages ("-" or "<stdin>" for standard input). */

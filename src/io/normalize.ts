@@ -118,7 +118,8 @@ function toPoint(row: ParsedRow, ctx: NormalizeContext): Point {
       { remedies: [{ option: 'k_tolerance', value: String(+(-k * 1.5).toPrecision(1)) }] },
     );
   }
-  const epsSigmas = ctx.quantity === 'eps' && v.sigma_eps1 !== undefined && v.sigma_eps2 !== undefined ? { sigmaEps1: v.sigma_eps1, sigmaEps2: v.sigma_eps2 } : {};
+  const epsSigmas =
+    ctx.quantity === 'eps' && v.sigma_eps1 !== undefined && v.sigma_eps2 !== undefined ? { sigmaEps1: v.sigma_eps1, sigmaEps2: v.sigma_eps2 } : {};
   return { line: row.line, x, wavelengthNm, n, k, sigmaN, sigmaK, ...epsSigmas, raw: v };
 }
 
@@ -160,11 +161,11 @@ function mergeRepeats(sorted: Point[], ctx: NormalizeContext, warnings: string[]
     if (prev && prev.x === p.x) {
       if (!sameValues(prev, p)) {
         const [first, second] = prev.line < p.line ? [prev, p] : [p, prev];
-        throw new InputError(
-          'duplicate-x',
-          `x = ${p.x} ${ctx.xUnit} appears again with different values (first on line ${first.line})`,
-          { file: ctx.file, line: second.line, column: ctx.columnOf.x },
-        );
+        throw new InputError('duplicate-x', `x = ${p.x} ${ctx.xUnit} appears again with different values (first on line ${first.line})`, {
+          file: ctx.file,
+          line: second.line,
+          column: ctx.columnOf.x,
+        });
       }
       repeats++;
       continue;

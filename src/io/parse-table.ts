@@ -35,7 +35,11 @@ const BARE_WAVELENGTH_NM_RANGE: [number, number] = [100, 100_000];
 export function parseNkTable(input: string | Uint8Array, options: ImportOptions = {}): ImportResult {
   const file = options.file;
   const kTolerance = options.kTolerance ?? DEFAULT_K_TOLERANCE;
-  if (!(kTolerance >= 0)) throw new InputError('bad-option', `k tolerance ${kTolerance} must be a number ≥ 0`, {}, 400, { option: 'k_tolerance', value: String(kTolerance) });
+  if (!(kTolerance >= 0))
+    throw new InputError('bad-option', `k tolerance ${kTolerance} must be a number ≥ 0`, {}, 400, {
+      option: 'k_tolerance',
+      value: String(kTolerance),
+    });
   const decoded = decodeText(input, file, options.maxBytes ?? DEFAULT_MAX_BYTES);
   const { lines: allLines, lineEnding } = contentLines(decoded.text);
   if (allLines.length === 0) throw new InputError('empty-file', 'the file holds no table (only blank or comment lines)', { file });
@@ -45,9 +49,15 @@ export function parseNkTable(input: string | Uint8Array, options: ImportOptions 
   // The table proper: header (if any) and data rows; the units row is read on its own.
   const lines = header ? [allLines[located.header!], ...allLines.slice(located.dataStart)] : allLines;
   const unitsLine = located.units === undefined ? undefined : allLines[located.units];
-  const delimiter = options.delimiter !== undefined ? normalizeDelimiter(options.delimiter) : detectDelimiter(lines.slice(0, DIALECT_SAMPLE_LINES).map((l) => l.text));
+  const delimiter =
+    options.delimiter !== undefined
+      ? normalizeDelimiter(options.delimiter)
+      : detectDelimiter(lines.slice(0, DIALECT_SAMPLE_LINES).map((l) => l.text));
   if (options.decimalComma && delimiter === ',') {
-    throw new InputError('bad-option', 'decimal commas need a separator other than a comma', { file }, 400, { option: 'decimal_comma', value: 'true' });
+    throw new InputError('bad-option', 'decimal commas need a separator other than a comma', { file }, 400, {
+      option: 'decimal_comma',
+      value: 'true',
+    });
   }
   const rows = splitFields(lines, delimiter, file);
   const decimalComma = options.decimalComma ?? detectDecimalComma(rows.slice(header ? 1 : 0), delimiter);
@@ -55,14 +65,24 @@ export function parseNkTable(input: string | Uint8Array, options: ImportOptions 
   if (header && delimiter === WHITESPACE) rows[0] = splitWhitespaceHeader(lines[0].text, rows[0], rows[1]);
 
   if (!header && options.columns === undefined) {
-    throw new InputError('no-header', 'the first line is data, not a header: name the columns (and the unit of x)', { file, line: lines[0].line }, 400, {
-      remedies: [{ option: 'columns', value: 'wavelength (nm),n,k' }, { option: 'header_line', value: 'N' }],
-    });
+    throw new InputError(
+      'no-header',
+      'the first line is data, not a header: name the columns (and the unit of x)',
+      { file, line: lines[0].line },
+      400,
+      {
+        remedies: [
+          { option: 'columns', value: 'wavelength (nm),n,k' },
+          { option: 'header_line', value: 'N' },
+        ],
+      },
+    );
   }
   // A trailing separator on the header line ("wavelength,n,k,") names no column.
   const names = options.columns ?? (rows[0].length > 1 && rows[0][rows[0].length - 1] === '' ? rows[0].slice(0, -1) : rows[0]);
   const dataStart = header ? 1 : 0;
-  if (rows.length - dataStart === 0) throw new InputError('header-only', 'the file has a header but no data rows', { file, line: unitsLine?.line ?? headerLine });
+  if (rows.length - dataStart === 0)
+    throw new InputError('header-only', 'the file has a header but no data rows', { file, line: unitsLine?.line ?? headerLine });
 
   const layout = columnLayout(names, { file, line: options.columns ? undefined : headerLine });
   const warnings = [...layout.warnings];
@@ -115,7 +135,12 @@ function splitWhitespaceHeader(text: string, words: string[], firstRow: string[]
   const glued = glueUnits(words);
   const width = firstRow?.filter((c, i) => c !== '' || i < firstRow.length - 1).length;
   if (width === undefined || glued.length <= width) return glued;
-  const wide = glueUnits(text.trim().split(/\t|\s{2,}/).map((c) => c.trim()));
+  const wide = glueUnits(
+    text
+      .trim()
+      .split(/\t|\s{2,}/)
+      .map((c) => c.trim()),
+  );
   if (wide.length === width) return wide;
   return groupKnownNames(glued, width) ?? glued;
 }
@@ -185,7 +210,12 @@ function columnLayout(names: string[], where: { file?: string; line?: number }):
         'Name the columns in order yourself, or say which line is the header',
       where,
       400,
-      { remedies: [{ option: 'columns', value: 'wavelength (nm),n,k' }, { option: 'header_line', value: 'N' }] },
+      {
+        remedies: [
+          { option: 'columns', value: 'wavelength (nm),n,k' },
+          { option: 'header_line', value: 'N' },
+        ],
+      },
     );
   }
   const hasNk = columnOf.n !== undefined || columnOf.k !== undefined;

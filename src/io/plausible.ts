@@ -27,7 +27,12 @@ function inRange(lo: number, hi: number, unit: SpectralUnit, [min, max]: [number
  * The unit values lo…hi most likely are in, other than `declared`: units of the column's kind first, then
  * the others; the typical range first, then the plausible one. Undefined when no unit makes them plausible.
  */
-export function unitGuess(lo: number, hi: number, kind: XKind | undefined, declared: SpectralUnit | undefined): { unit: SpectralUnit; label: string } | undefined {
+export function unitGuess(
+  lo: number,
+  hi: number,
+  kind: XKind | undefined,
+  declared: SpectralUnit | undefined,
+): { unit: SpectralUnit; label: string } | undefined {
   if (!(lo > 0)) return undefined;
   const order = [...(kind ? UNITS_OF_KIND[kind] : []), ...SPECTRAL_UNITS].filter((u, i, all) => u !== declared && all.indexOf(u) === i);
   for (const range of [TYPICAL_RANGE_NM, PLAUSIBLE_RANGE_NM]) {
@@ -37,7 +42,8 @@ export function unitGuess(lo: number, hi: number, kind: XKind | undefined, decla
   return undefined;
 }
 
-const nmText = (nm: number) => (nm >= 1e5 ? `${+(nm / 1e6).toPrecision(3)} mm` : nm >= 1e4 ? `${+(nm / 1e3).toPrecision(3)} µm` : `${+nm.toPrecision(3)} nm`);
+const nmText = (nm: number) =>
+  nm >= 1e5 ? `${+(nm / 1e6).toPrecision(3)} mm` : nm >= 1e4 ? `${+(nm / 1e3).toPrecision(3)} µm` : `${+nm.toPrecision(3)} nm`;
 
 /**
  * Refuse (rule `implausible-range`) when any positive x value, converted to nm, lies outside

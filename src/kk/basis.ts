@@ -29,7 +29,12 @@ const MAX_SHARP_PEAKS = 6;
  * and width; NNLS combines them (and the triangles) with non-negative weights, so the representation
  * stays causal by construction.
  */
-export function sharpPeakColumns(energyEv: ArrayLike<number>, eps2: ArrayLike<number>, spacingEv: number, minProminence: number): { e0: number; gamma: number }[] {
+export function sharpPeakColumns(
+  energyEv: ArrayLike<number>,
+  eps2: ArrayLike<number>,
+  spacingEv: number,
+  minProminence: number,
+): { e0: number; gamma: number }[] {
   const order = Array.from({ length: energyEv.length }, (_, i) => i).sort((a, b) => energyEv[a] - energyEv[b]);
   const e = order.map((i) => energyEv[i]);
   const y = order.map((i) => eps2[i]);
@@ -56,9 +61,9 @@ export function sharpPeakColumns(energyEv: ArrayLike<number>, eps2: ArrayLike<nu
     if (fwhm < SHARP_SPACINGS * spacingEv && fwhm >= 3 * sample) peaks.push({ e0: e[i], fwhm, prominence });
   }
   peaks.sort((p, q) => q.prominence - p.prominence);
-  return peaks.slice(0, MAX_SHARP_PEAKS).flatMap(({ e0, fwhm }) =>
-    CENTRE_OFFSETS.flatMap((o) => WIDTH_FACTORS.map((f) => ({ e0: e0 + o * fwhm, gamma: f * fwhm }))),
-  );
+  return peaks
+    .slice(0, MAX_SHARP_PEAKS)
+    .flatMap(({ e0, fwhm }) => CENTRE_OFFSETS.flatMap((o) => WIDTH_FACTORS.map((f) => ({ e0: e0 + o * fwhm, gamma: f * fwhm }))));
 }
 const EDGE_INTERVALS = 2;
 

@@ -277,7 +277,9 @@ function notesFor(r: KkReport, kNegligible: number): string[] {
     notes.push('k is negligible here, yet n does not follow: a transparent region needs n rising smoothly with photon energy (normal dispersion).');
   }
   if (r.max_dk > r.tolerance) {
-    notes.push(`k had to move by up to ${fmt(r.max_dk)} (ε2 by ${fmt(r.max_deps2)} at ${r.max_deps2_nm.toFixed(1)} nm) to be explained together with n.`);
+    notes.push(
+      `k had to move by up to ${fmt(r.max_dk)} (ε2 by ${fmt(r.max_deps2)} at ${r.max_deps2_nm.toFixed(1)} nm) to be explained together with n.`,
+    );
   }
   return notes;
 }

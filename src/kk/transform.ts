@@ -59,11 +59,7 @@ export function hilbertOfKinks(kinks: Kinks, y: number): number {
  * ε1(E) − ε∞ for ε2 linear between the given nodes (energies in eV, ascending, ≥ 0) and zero outside them.
  * Exact for that ε2; used by the consistency check's basis and by the model-consistency tests.
  */
-export function kkEps1FromPiecewiseLinearEps2(
-  nodesEv: ArrayLike<number>,
-  eps2: ArrayLike<number>,
-  energyEv: ArrayLike<number>,
-): number[] {
+export function kkEps1FromPiecewiseLinearEps2(nodesEv: ArrayLike<number>, eps2: ArrayLike<number>, energyEv: ArrayLike<number>): number[] {
   const kinks = kinksOfPiecewiseLinear(nodesEv, eps2);
   const out: number[] = [];
   for (let i = 0; i < energyEv.length; i++) {

@@ -96,7 +96,10 @@ export function modelNames(): string[] {
 function findTerm(name: string): ModelTerm {
   const term = MODEL_CATALOGUE.find((t) => t.name === name);
   if (!term) {
-    throw new InputError('unknown-model', `unknown model "${name}"; valid models: ${modelNames().join(', ')} (sum summable ones with "+", e.g. tauc-lorentz+drude)`);
+    throw new InputError(
+      'unknown-model',
+      `unknown model "${name}"; valid models: ${modelNames().join(', ')} (sum summable ones with "+", e.g. tauc-lorentz+drude)`,
+    );
   }
   return term;
 }
@@ -123,16 +126,30 @@ export function buildModel(spec: string, options: ModelOptions = {}): Dispersion
   const termCapable = terms.filter((t) => t.terms);
   if (options.terms !== undefined) {
     // terms = 1 is every model's natural form, so a report's options rebuild any model
-    if (termCapable.length === 0 && options.terms !== 1) throw new InputError('terms-not-supported', `--terms does not apply to "${spec}"; it applies to ${MODEL_CATALOGUE.filter((t) => t.terms).map((t) => t.name).join(', ')}`);
+    if (termCapable.length === 0 && options.terms !== 1)
+      throw new InputError(
+        'terms-not-supported',
+        `--terms does not apply to "${spec}"; it applies to ${MODEL_CATALOGUE.filter((t) => t.terms)
+          .map((t) => t.name)
+          .join(', ')}`,
+      );
     for (const t of termCapable) {
       const range = t.terms!;
       if (!Number.isInteger(options.terms) || options.terms < range.min || options.terms > range.max) {
-        throw new InputError('terms-out-of-range', `--terms for ${t.name} must be an integer ${range.min}–${range.max} (${range.meaning}), got ${options.terms}`);
+        throw new InputError(
+          'terms-out-of-range',
+          `--terms for ${t.name} must be an integer ${range.min}–${range.max} (${range.meaning}), got ${options.terms}`,
+        );
       }
     }
   }
   if (options.urbach && !terms.some((t) => t.urbach)) {
-    throw new InputError('urbach-not-supported', `--urbach applies to ${MODEL_CATALOGUE.filter((t) => t.urbach).map((t) => t.name).join(', ')} only`);
+    throw new InputError(
+      'urbach-not-supported',
+      `--urbach applies to ${MODEL_CATALOGUE.filter((t) => t.urbach)
+        .map((t) => t.name)
+        .join(', ')} only`,
+    );
   }
   const termOptions: TermOptions = { terms: options.terms ?? 1, urbach: options.urbach ?? false };
   const prefix = terms.length > 1;
@@ -154,7 +171,13 @@ export function buildModel(spec: string, options: ModelOptions = {}): Dispersion
       return { below, above, factor: c.factor, rule: `${parameters[below].name} < ${c.factor === 1 ? '' : `${c.factor}·`}${parameters[above].name}` };
     }),
   );
-  const oscillators = slots.flatMap((slot) => (slot.term.oscillators?.(termOptions) ?? []).map((o) => ({ group: slot.term.name, strength: slot.offset + o.strength, position: slot.offset + o.position })));
+  const oscillators = slots.flatMap((slot) =>
+    (slot.term.oscillators?.(termOptions) ?? []).map((o) => ({
+      group: slot.term.name,
+      strength: slot.offset + o.strength,
+      position: slot.offset + o.position,
+    })),
+  );
   const violated = (values: ArrayLike<number>) => constraints.find((c) => !(values[c.below] < c.factor * values[c.above]));
   const notes = terms.flatMap((t) => t.validity);
 
@@ -200,7 +223,10 @@ export function buildModel(spec: string, options: ModelOptions = {}): Dispersion
       parameters.map((spec) => {
         const value = p[spec.name];
         if (typeof value !== 'number' || !Number.isFinite(value)) {
-          throw new InputError('missing-parameter', `model ${names.join('+')} needs parameter ${spec.name}; parameters: ${parameters.map((q) => q.name).join(', ')}`);
+          throw new InputError(
+            'missing-parameter',
+            `model ${names.join('+')} needs parameter ${spec.name}; parameters: ${parameters.map((q) => q.name).join(', ')}`,
+          );
         }
         return value;
       }),
@@ -224,7 +250,9 @@ export function buildModel(spec: string, options: ModelOptions = {}): Dispersion
   function solveAmplitudes(data: GuessData, values: Float64Array, given: Map<number, number>): void {
     const grid: SpectralGrid = data;
     const free = slots.flatMap((slot) =>
-      (slot.term.amplitudes?.(termOptions) ?? []).map((a) => ({ index: slot.offset + a.index, power: a.power, slot })).filter((a) => !given.has(a.index)),
+      (slot.term.amplitudes?.(termOptions) ?? [])
+        .map((a) => ({ index: slot.offset + a.index, power: a.power, slot }))
+        .filter((a) => !given.has(a.index)),
     );
     const solveInf = !given.has(epsInfIndex);
     for (let round = 0; round <= free.length; round++) {

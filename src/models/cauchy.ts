@@ -16,8 +16,20 @@ const INDEX_PARAMETERS: ParameterSpec[] = [
 ];
 
 const URBACH_PARAMETERS: ParameterSpec[] = [
-  { name: 'k0', unit: '1', meaning: 'extinction coefficient at E = Eb', bounds: [0, 10], guessRule: 'straight-line fit of ln k against E over points with k > 0' },
-  { name: 'Eu', unit: 'eV', meaning: 'Urbach energy (tail width)', bounds: [0.005, 5], guessRule: 'straight-line fit of ln k against E (slope 1/Eu)' },
+  {
+    name: 'k0',
+    unit: '1',
+    meaning: 'extinction coefficient at E = Eb',
+    bounds: [0, 10],
+    guessRule: 'straight-line fit of ln k against E over points with k > 0',
+  },
+  {
+    name: 'Eu',
+    unit: 'eV',
+    meaning: 'Urbach energy (tail width)',
+    bounds: [0.005, 5],
+    guessRule: 'straight-line fit of ln k against E (slope 1/Eu)',
+  },
   {
     name: 'Eb',
     unit: 'eV',
@@ -68,7 +80,10 @@ function guess(data: GuessData, options: TermOptions): number[] {
   let eu = 0.1;
   if (absorbing.length >= 2) {
     const e = absorbing.map((i) => data.energyEv[i] - eb);
-    const [lnK0, slope] = linearLeastSquares([e.map(() => 1), e], absorbing.map((i) => Math.log(data.k[i])));
+    const [lnK0, slope] = linearLeastSquares(
+      [e.map(() => 1), e],
+      absorbing.map((i) => Math.log(data.k[i])),
+    );
     k0 = Math.exp(lnK0);
     eu = slope > 0 ? 1 / slope : 0.1;
   }

@@ -8,7 +8,13 @@ import type { GuessData, ModelTerm, ParameterSpec, SpectralGrid, TermOptions, Te
 import { maxOf } from '../optics/extremes.ts';
 
 const PARAMETERS: ParameterSpec[] = [
-  { name: 'Ep', unit: 'eV', meaning: 'unscreened plasma energy', bounds: [0, 40], guessRule: 'linear least squares of ε on Ep² and the other amplitudes' },
+  {
+    name: 'Ep',
+    unit: 'eV',
+    meaning: 'unscreened plasma energy',
+    bounds: [0, 40],
+    guessRule: 'linear least squares of ε on Ep² and the other amplitudes',
+  },
   {
     name: 'Gamma',
     unit: 'eV',
@@ -55,7 +61,9 @@ export const drude: ModelTerm = {
   kkConsistent: true,
   absorbing: () => true,
   oscillators: () => [{ strength: 0, position: 1 }],
-  validity: ['Drude describes free carriers (metals, doped semiconductors, transparent conductors such as ITO); add interband terms for the visible/UV.'],
+  validity: [
+    'Drude describes free carriers (metals, doped semiconductors, transparent conductors such as ITO); add interband terms for the visible/UV.',
+  ],
   parameters: () => PARAMETERS,
   guess: (data) => guess(data),
   amplitudes: () => [{ index: 0, power: 2 }],

@@ -16,9 +16,27 @@ function parameters(options: TermOptions): ParameterSpec[] {
   for (let j = 1; j <= options.terms; j++) {
     const which = options.terms > 1 ? ` of oscillator ${j}` : '';
     list.push(
-      { name: oscillatorName('A', j, options.terms), unit: 'eV²', meaning: `strength${which}`, bounds: A_BOUNDS, guessRule: 'linear least squares of ε on all amplitudes with the other parameters at their guesses' },
-      { name: oscillatorName('E0', j, options.terms), unit: 'eV', meaning: `resonance energy${which}`, bounds: E0_BOUNDS, guessRule: 'energy of the j-th highest ε2 peak; above the fitted range when there is none' },
-      { name: oscillatorName('Gamma', j, options.terms), unit: 'eV', meaning: `broadening${which}`, bounds: GAMMA_BOUNDS, guessRule: 'full width at half maximum of that ε2 peak; 0.1 × E0 without a peak' },
+      {
+        name: oscillatorName('A', j, options.terms),
+        unit: 'eV²',
+        meaning: `strength${which}`,
+        bounds: A_BOUNDS,
+        guessRule: 'linear least squares of ε on all amplitudes with the other parameters at their guesses',
+      },
+      {
+        name: oscillatorName('E0', j, options.terms),
+        unit: 'eV',
+        meaning: `resonance energy${which}`,
+        bounds: E0_BOUNDS,
+        guessRule: 'energy of the j-th highest ε2 peak; above the fitted range when there is none',
+      },
+      {
+        name: oscillatorName('Gamma', j, options.terms),
+        unit: 'eV',
+        meaning: `broadening${which}`,
+        bounds: GAMMA_BOUNDS,
+        guessRule: 'full width at half maximum of that ε2 peak; 0.1 × E0 without a peak',
+      },
     );
   }
   return list;
@@ -87,7 +105,9 @@ export const lorentz: ModelTerm = {
   kkConsistent: true,
   absorbing: () => true,
   oscillators: (options) => Array.from({ length: options.terms }, (_, j) => ({ strength: 3 * j, position: 3 * j + 1 })),
-  validity: ['Lorentz oscillators suit isolated absorption bands (phonons, excitons, dyes); their absorption tails are slower than a real band edge.'],
+  validity: [
+    'Lorentz oscillators suit isolated absorption bands (phonons, excitons, dyes); their absorption tails are slower than a real band edge.',
+  ],
   terms: { min: 1, max: 6, meaning: 'number of Lorentz oscillators' },
   parameters,
   guess,

@@ -23,7 +23,13 @@ function parameters(options: TermOptions): ParameterSpec[] {
   const list = [A_SPEC];
   for (let i = 1; i <= options.terms; i++) {
     list.push(
-      { name: `B${i}`, unit: '1', meaning: `strength of resonance ${i}`, bounds: [0, 20], guessRule: 'linear least squares of n² − A on the λ²/(λ² − Cᵢ) terms' },
+      {
+        name: `B${i}`,
+        unit: '1',
+        meaning: `strength of resonance ${i}`,
+        bounds: [0, 20],
+        guessRule: 'linear least squares of n² − A on the λ²/(λ² − Cᵢ) terms',
+      },
       {
         name: `C${i}`,
         unit: 'µm²',
@@ -48,7 +54,10 @@ function guess(data: GuessData, options: TermOptions): number[] {
   const um = data.wavelengthUm;
   const c = resonanceWavelengthsUm(um[0], um[um.length - 1], options.terms).map((l) => l * l);
   const columns = c.map((ci) => Array.from(um, (l) => (l * l) / (l * l - ci)));
-  const b = linearLeastSquares(columns, Array.from(data.n, (n) => n * n - 1));
+  const b = linearLeastSquares(
+    columns,
+    Array.from(data.n, (n) => n * n - 1),
+  );
   const specs = parameters(options);
   const values = [1];
   c.forEach((ci, j) => values.push(clamp(b[j] > 0 ? b[j] : 1e-3, specs[1 + 2 * j].bounds), ci));
@@ -87,9 +96,7 @@ export const sellmeier: ModelTerm = {
   kkConsistent: true,
   absorbing: () => false,
   oscillators: (options) => Array.from({ length: options.terms }, (_, i) => ({ strength: 1 + 2 * i, position: 2 + 2 * i })),
-  validity: [
-    'Sellmeier describes the transparent region only (k = 0): do not use it across an absorption band or near a resonance Cᵢ.',
-  ],
+  validity: ['Sellmeier describes the transparent region only (k = 0): do not use it across an absorption band or near a resonance Cᵢ.'],
   terms: { min: 1, max: 4, meaning: 'number of Sellmeier terms (resonances)' },
   parameters,
   guess,

@@ -25,12 +25,36 @@ function parameters(options: TermOptions): ParameterSpec[] {
   for (let j = 1; j <= options.terms; j++) {
     const which = options.terms > 1 ? ` of oscillator ${j}` : '';
     list.push(
-      { name: oscillatorName('A', j, options.terms), unit: 'eV', meaning: `amplitude${which}`, bounds: A_BOUNDS, guessRule: 'linear least squares of ε on all amplitudes with the other parameters at their guesses' },
-      { name: oscillatorName('E0', j, options.terms), unit: 'eV', meaning: `peak transition energy${which}`, bounds: E0_BOUNDS, guessRule: 'energy of the ε2 maximum; 1 eV above the fitted range when ε2 still rises there' },
-      { name: oscillatorName('C', j, options.terms), unit: 'eV', meaning: `broadening${which} (must stay below 2·E0)`, bounds: C_BOUNDS, guessRule: 'full width at half maximum of the ε2 peak, else 2 eV' },
+      {
+        name: oscillatorName('A', j, options.terms),
+        unit: 'eV',
+        meaning: `amplitude${which}`,
+        bounds: A_BOUNDS,
+        guessRule: 'linear least squares of ε on all amplitudes with the other parameters at their guesses',
+      },
+      {
+        name: oscillatorName('E0', j, options.terms),
+        unit: 'eV',
+        meaning: `peak transition energy${which}`,
+        bounds: E0_BOUNDS,
+        guessRule: 'energy of the ε2 maximum; 1 eV above the fitted range when ε2 still rises there',
+      },
+      {
+        name: oscillatorName('C', j, options.terms),
+        unit: 'eV',
+        meaning: `broadening${which} (must stay below 2·E0)`,
+        bounds: C_BOUNDS,
+        guessRule: 'full width at half maximum of the ε2 peak, else 2 eV',
+      },
     );
   }
-  list.push({ name: 'Eg', unit: 'eV', meaning: 'optical band gap (shared by all oscillators)', bounds: EG_BOUNDS, guessRule: 'Tauc-plot extrapolation: straight line through √ε2 against E on the rising edge, to zero' });
+  list.push({
+    name: 'Eg',
+    unit: 'eV',
+    meaning: 'optical band gap (shared by all oscillators)',
+    bounds: EG_BOUNDS,
+    guessRule: 'Tauc-plot extrapolation: straight line through √ε2 against E on the rising edge, to zero',
+  });
   return list;
 }
 
@@ -123,14 +147,23 @@ function addOscillator(grid: SpectralGrid, a: number, e0: number, c: number, eg:
       const dC = p === 1 ? 1 : 0;
       const dx = -dGamma2;
       const dZeta4 = 2 * x * dx + (dAlpha2 * c * c + alpha2 * 2 * c * dC) / 4;
-      const daLn = p === 0 ? -2 * e0 * e2 - 4 * e0 ** 3 - 6 * e0 * eg * eg : p === 1 ? 2 * eg * eg * c : 2 * eg * e2 + 2 * eg * c * c - 6 * e0 * e0 * eg;
-      const daAtan = p === 0 ? -2 * e0 * (e0 * e0 + eg * eg) + 2 * e0 * (e2 - e0 * e0) : p === 1 ? 2 * eg * eg * c : 2 * eg * (e2 - e0 * e0) + 2 * eg * c * c;
+      const daLn =
+        p === 0 ? -2 * e0 * e2 - 4 * e0 ** 3 - 6 * e0 * eg * eg : p === 1 ? 2 * eg * eg * c : 2 * eg * e2 + 2 * eg * c * c - 6 * e0 * e0 * eg;
+      const daAtan =
+        p === 0 ? -2 * e0 * (e0 * e0 + eg * eg) + 2 * e0 * (e2 - e0 * e0) : p === 1 ? 2 * eg * eg * c : 2 * eg * (e2 - e0 * e0) + 2 * eg * c * c;
       const dW = p === 2 ? (2 * eg) / e : 0;
       const dLnA = p === 2 ? -1 / (e - eg) - 1 / (e + eg) : 0;
       const dLnB = (p === 2 ? -1 / (e - eg) + 1 / (e + eg) : 0) - sc[o + 5];
       const dq =
-        daLn * s1 + aLn * sc[o] - daAtan * s2 - aAtan * sc[o + 1] + dx * s3 + x * sc[o + 2] -
-        (sc[o + 3] * w * lnA + s4 * dW * lnA + s4 * w * dLnA) + sc[o + 4] * lnB + s5 * dLnB;
+        daLn * s1 +
+        aLn * sc[o] -
+        daAtan * s2 -
+        aAtan * sc[o + 1] +
+        dx * s3 +
+        x * sc[o + 2] -
+        (sc[o + 3] * w * lnA + s4 * dW * lnA + s4 * w * dLnA) +
+        sc[o + 4] * lnB +
+        s5 * dLnB;
       const dEps1 = (a / Math.PI) * (dq / zeta4 - (q * dZeta4) / (zeta4 * zeta4));
       // ε2: ∂/∂E0 = ε2/E0 + ε2·4E0(E² − E0²)/D, ∂/∂C = ε2/C − ε2·2CE²/D, ∂/∂Eg = −2ε2/(E − Eg)
       let dEps2 = 0;
@@ -167,7 +200,10 @@ function guessGapEv(data: GuessData, peakEnergy: number, eps2Max: number): numbe
   });
   if (edge.length >= 3) {
     const e = edge.map((i) => data.energyEv[i]);
-    const [b, slope] = linearLeastSquares([e.map(() => 1), e], edge.map((i) => Math.sqrt(data.eps2[i])));
+    const [b, slope] = linearLeastSquares(
+      [e.map(() => 1), e],
+      edge.map((i) => Math.sqrt(data.eps2[i])),
+    );
     if (slope > 0) return -b / slope;
   }
   const first = Array.from(data.energyEv.keys())
@@ -187,7 +223,16 @@ function interbandPart(data: GuessData): GuessData {
   const keep = Array.from(data.energyEv.keys()).filter((i) => data.energyEv[i] >= eMin);
   const pick = (a: Float64Array) => Float64Array.from(keep, (i) => a[i]);
   const eps2 = Float64Array.from(keep, (i) => data.eps2[i] - data.eps2[low]);
-  return { ...data, wavelengthNm: pick(data.wavelengthNm), wavelengthUm: pick(data.wavelengthUm), energyEv: pick(data.energyEv), n: pick(data.n), k: pick(data.k), eps1: pick(data.eps1), eps2 };
+  return {
+    ...data,
+    wavelengthNm: pick(data.wavelengthNm),
+    wavelengthUm: pick(data.wavelengthUm),
+    energyEv: pick(data.energyEv),
+    n: pick(data.n),
+    k: pick(data.k),
+    eps1: pick(data.eps1),
+    eps2,
+  };
 }
 
 function guess(all: GuessData, options: TermOptions): number[] {

@@ -12,11 +12,7 @@ export const INTERPOLATION_METHODS: readonly InterpolationMethod[] = ['linear', 
 /** Queries this close to an end of the range (relative) count as the end: guards against rounding in unit conversions. */
 const RANGE_SLACK = 1e-12;
 
-export function evaluateTable(
-  table: NkTable,
-  wavelengthsNm: number[],
-  method: InterpolationMethod = 'linear',
-): { n: number[]; k: number[] } {
+export function evaluateTable(table: NkTable, wavelengthsNm: number[], method: InterpolationMethod = 'linear'): { n: number[]; k: number[] } {
   const [minNm, maxNm] = tableRangeNm(table);
   const clamped = wavelengthsNm.map((w) => {
     if (!Number.isFinite(w)) throw new InputError('bad-wavelength', `wavelength ${w} is not a finite number`);

@@ -69,7 +69,12 @@ export function fromWavelengthNm(wavelengthNm: number, unit: SpectralUnit): numb
 export function parseSpectralUnit(text: string): SpectralUnit | undefined {
   // NFKC folds the Ångström sign (U+212B) into Å and the micro sign into Greek μ; superscripts into digits
   // and U+2212 minus, so "cm⁻¹" becomes "cm−1" and then "cm-1".
-  const t = text.normalize('NFKC').trim().replace(/\s+/g, '').replace(/μ/g, 'µ').replace(/\u2212/g, '-');
+  const t = text
+    .normalize('NFKC')
+    .trim()
+    .replace(/\s+/g, '')
+    .replace(/μ/g, 'µ')
+    .replace(/\u2212/g, '-');
   const lower = t.toLowerCase();
   if (lower === 'nm' || lower === 'nanometer' || lower === 'nanometers') return 'nm';
   if (lower === 'µm' || lower === 'um' || lower === 'micron' || lower === 'microns' || lower === 'micrometer' || lower === 'micrometers') return 'um';

@@ -57,10 +57,31 @@ export function renderColourStrips(spec: ColourStripSpec): string {
       const x0 = Math.max(left, x(from));
       const x1 = Math.min(width - RIGHT_PX, x(to));
       // A hair of overlap so anti-aliasing shows no seams between swatches.
-      return element('rect', { class: 'swatch', 'data-x': String(v), 'data-colour': s.colours[i], x: x0, y: top, width: Math.max(0.5, x1 - x0 + 0.4), height: STRIP_HEIGHT_PX, fill: s.colours[i] });
+      return element('rect', {
+        class: 'swatch',
+        'data-x': String(v),
+        'data-colour': s.colours[i],
+        x: x0,
+        y: top,
+        width: Math.max(0.5, x1 - x0 + 0.4),
+        height: STRIP_HEIGHT_PX,
+        fill: s.colours[i],
+      });
     });
     const label = textElement({ class: 'strip-label', x: left - 6, y: top + STRIP_HEIGHT_PX / 2, dy: '0.32em', 'text-anchor': 'end' }, s.label);
-    return element('g', { class: 'strip', 'data-label': s.label }, [label, ...swatches, element('rect', { x: left, y: top, width: width - RIGHT_PX - left, height: STRIP_HEIGHT_PX, fill: 'none', stroke: '#444444', 'stroke-width': 1 })]);
+    return element('g', { class: 'strip', 'data-label': s.label }, [
+      label,
+      ...swatches,
+      element('rect', {
+        x: left,
+        y: top,
+        width: width - RIGHT_PX - left,
+        height: STRIP_HEIGHT_PX,
+        fill: 'none',
+        stroke: '#444444',
+        'stroke-width': 1,
+      }),
+    ]);
   });
 
   const axisTop = TOP_PX + spec.strips.length * (STRIP_HEIGHT_PX + STRIP_GAP_PX) - STRIP_GAP_PX;
@@ -79,13 +100,32 @@ export function renderColourStrips(spec: ColourStripSpec): string {
     `<title>${escapeXml(spec.title)}</title>`,
     element('rect', { class: 'background', x: 0, y: 0, width, height, fill: '#ffffff' }),
     // A long title shrinks to fit the width (estimated glyph widths; never below 10 px).
-    textElement({ class: 'title', x: width / 2, y: 26, 'text-anchor': 'middle', 'font-size': Math.max(10, Math.min(16, (16 * (width - 20)) / estimateTextWidth(spec.title, 16))), 'font-weight': 'bold' }, spec.title),
+    textElement(
+      {
+        class: 'title',
+        x: width / 2,
+        y: 26,
+        'text-anchor': 'middle',
+        'font-size': Math.max(10, Math.min(16, (16 * (width - 20)) / estimateTextWidth(spec.title, 16))),
+        'font-weight': 'bold',
+      },
+      spec.title,
+    ),
     ...strips,
     axis,
   ];
   const svg = element(
     'svg',
-    { xmlns: 'http://www.w3.org/2000/svg', version: '1.1', width: String(width), height: String(height), viewBox: `0 0 ${width} ${height}`, 'font-family': 'DejaVu Sans, Arial, Helvetica, sans-serif', 'font-size': FONT_PX, fill: '#222222' },
+    {
+      xmlns: 'http://www.w3.org/2000/svg',
+      version: '1.1',
+      width: String(width),
+      height: String(height),
+      viewBox: `0 0 ${width} ${height}`,
+      'font-family': 'DejaVu Sans, Arial, Helvetica, sans-serif',
+      'font-size': FONT_PX,
+      fill: '#222222',
+    },
     body.map((part) => `\n${part}`).concat('\n'),
   );
   return `<?xml version="1.0" encoding="UTF-8"?>\n${svg}\n`;

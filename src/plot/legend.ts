@@ -92,7 +92,11 @@ export function placeLegend(area: Box, size: { width: number; height: number }, 
     }
   }
   const c = LEGEND_CLEARANCE_PX;
-  return candidates.find((box) => !samples.some((p) => inside({ left: box.left - c, top: box.top - c, width: box.width + 2 * c, height: box.height + 2 * c }, p))) ?? null;
+  return (
+    candidates.find(
+      (box) => !samples.some((p) => inside({ left: box.left - c, top: box.top - c, width: box.width + 2 * c, height: box.height + 2 * c }, p)),
+    ) ?? null
+  );
 }
 
 /**

@@ -13,16 +13,7 @@ import { element, pointsAttribute } from './svg.ts';
  * common practice in scientific figures). Ordered for a white background: blue, vermillion,
  * bluish green, reddish purple, orange, sky blue, black, yellow (last: weak contrast on white).
  */
-export const OKABE_ITO_PALETTE: readonly string[] = [
-  '#0072B2',
-  '#D55E00',
-  '#009E73',
-  '#CC79A7',
-  '#E69F00',
-  '#56B4E9',
-  '#000000',
-  '#F0E442',
-];
+export const OKABE_ITO_PALETTE: readonly string[] = ['#0072B2', '#D55E00', '#009E73', '#CC79A7', '#E69F00', '#56B4E9', '#000000', '#F0E442'];
 
 /** Colour of the i-th series of a panel (the palette repeats after eight series). */
 export function seriesColour(index: number): string {

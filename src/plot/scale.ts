@@ -121,8 +121,7 @@ export function linearScale(domain: [number, number], range: [number, number]): 
   const [d0, d1] = domain;
   const [r0, r1] = range;
   const span = d1 - d0;
-  const scale = ((value: number) =>
-    span === 0 ? (r0 + r1) / 2 : r0 + ((value - d0) / span) * (r1 - r0)) as LinearScale;
+  const scale = ((value: number) => (span === 0 ? (r0 + r1) / 2 : r0 + ((value - d0) / span) * (r1 - r0))) as LinearScale;
   scale.domain = [d0, d1];
   scale.range = [r0, r1];
   return scale;

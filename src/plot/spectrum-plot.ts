@@ -71,7 +71,10 @@ function defaultHeight(panelCount: number): number {
 }
 
 function checkSpec(spec: PlotSpec): void {
-  for (const [name, value] of [['width', spec.width], ['height', spec.height]] as const) {
+  for (const [name, value] of [
+    ['width', spec.width],
+    ['height', spec.height],
+  ] as const) {
     if (value !== undefined && !(Number.isFinite(value) && value > 0)) {
       throw new RangeError(`PlotSpec.${name} must be a positive number of px, got ${value}`);
     }
@@ -178,7 +181,11 @@ function legendBoxOf(layout: PanelLayout, area: Box, x: LinearScale): Box | null
   const y = yScaleOf(layout, area);
   if (!y) return null;
   if (layout.headroom) return headroomLegendBox(area, layout.legendSize);
-  return placeLegend(area, layout.legendSize, layout.panel.series.flatMap((s) => pixelRuns(s, x, y)));
+  return placeLegend(
+    area,
+    layout.legendSize,
+    layout.panel.series.flatMap((s) => pixelRuns(s, x, y)),
+  );
 }
 
 function renderPanel(layout: PanelLayout, index: number, area: Box, x: LinearScale, xAxis: Axis | null, legendBox: Box | null): string {
@@ -220,7 +227,16 @@ function renderPanel(layout: PanelLayout, index: number, area: Box, x: LinearSca
 
   if (y && panel.zeroLine) {
     parts.push(
-      element('line', { class: 'zero-line', x1: area.left, y1: y(0), x2: right, y2: y(0), stroke: '#555555', 'stroke-width': 1, 'stroke-dasharray': '4 3' }),
+      element('line', {
+        class: 'zero-line',
+        x1: area.left,
+        y1: y(0),
+        x2: right,
+        y2: y(0),
+        stroke: '#555555',
+        'stroke-width': 1,
+        'stroke-dasharray': '4 3',
+      }),
     );
   }
 
@@ -229,7 +245,18 @@ function renderPanel(layout: PanelLayout, index: number, area: Box, x: LinearSca
     if (legendBox) parts.push(renderLegend(layout.legend, legendBox));
   } else {
     parts.push(
-      textElement({ class: 'no-data', x: area.left + area.width / 2, y: labelY, dy: '0.35em', 'text-anchor': 'middle', fill: '#777777', 'font-size': AXIS_LABEL_FONT_PX }, 'no data'),
+      textElement(
+        {
+          class: 'no-data',
+          x: area.left + area.width / 2,
+          y: labelY,
+          dy: '0.35em',
+          'text-anchor': 'middle',
+          fill: '#777777',
+          'font-size': AXIS_LABEL_FONT_PX,
+        },
+        'no data',
+      ),
     );
   }
 
@@ -244,7 +271,10 @@ function renderXAxis(xAxis: Axis | null, x: LinearScale, plotBottom: number, xLa
       textElement({ x: x(value), y: plotBottom + TICK_LENGTH_PX + TICK_FONT_PX + 2, 'text-anchor': 'middle' }, xAxis!.format(value)),
     ]),
   );
-  const label = textElement({ class: 'axis-label', x: (x.range[0] + x.range[1]) / 2, y: height - 10, 'text-anchor': 'middle', 'font-size': AXIS_LABEL_FONT_PX }, xLabel);
+  const label = textElement(
+    { class: 'axis-label', x: (x.range[0] + x.range[1]) / 2, y: height - 10, 'text-anchor': 'middle', 'font-size': AXIS_LABEL_FONT_PX },
+    xLabel,
+  );
   return element('g', { class: 'x-axis' }, [...ticks, label]);
 }
 
@@ -253,9 +283,18 @@ function renderXAxis(xAxis: Axis | null, x: LinearScale, plotBottom: number, xLa
  * Its full text is also in <title>.
  */
 function renderTitle(lines: string[], width: number): string {
-  const attributes = { class: 'title', x: width / 2, y: TITLE_BASELINE_PX, 'text-anchor': 'middle', 'font-size': TITLE_FONT_PX, 'font-weight': 'bold' };
+  const attributes = {
+    class: 'title',
+    x: width / 2,
+    y: TITLE_BASELINE_PX,
+    'text-anchor': 'middle',
+    'font-size': TITLE_FONT_PX,
+    'font-weight': 'bold',
+  };
   if (lines.length === 1) return textElement(attributes, lines[0]);
-  const spans = lines.map((line, i) => element('tspan', { class: 'title-line', x: width / 2, dy: i === 0 ? 0 : TITLE_LINE_HEIGHT_PX }, [escapeXml(line)]));
+  const spans = lines.map((line, i) =>
+    element('tspan', { class: 'title-line', x: width / 2, dy: i === 0 ? 0 : TITLE_LINE_HEIGHT_PX }, [escapeXml(line)]),
+  );
   return element('text', attributes, spans);
 }
 
@@ -291,7 +330,10 @@ export function renderSpectrumPlot(spec: PlotSpec): string {
     );
     const left = 6 + AXIS_LABEL_FONT_PX + 10 + tickLabelWidth + TICK_LENGTH_PX + 3;
     const plotWidth = Math.max(MIN_PANEL_HEIGHT_PX, width - left - MARGIN_RIGHT_PX);
-    const xExtent = paddedExtent(panels.flatMap((p) => p.series.map((s) => finitePairs(s).x)), 0);
+    const xExtent = paddedExtent(
+      panels.flatMap((p) => p.series.map((s) => finitePairs(s).x)),
+      0,
+    );
     const xAxis = niceAxis(xExtent, plotWidth, X_TICK_SPACING_PX);
     const x = linearScale(xAxis ? xAxis.domain : [0, 1], [left, left + plotWidth]);
     const areas = layouts.map((l) => ({ left, top: l.top, width: plotWidth, height: l.height }));

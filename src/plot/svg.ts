@@ -105,7 +105,13 @@ export function shortenMiddle(text: string, maxWidthPx: number, fontSizePx: numb
  * that works ("check of FILE:" / "consistent (…)"), else greedily at spaces; a word too long for a line is
  * shortened in its middle, and the last line too when the text needs more lines. Returns at least one line.
  */
-export function wrapText(text: string, maxWidthPx: number, fontSizePx: number, maxLines: number, weight: keyof typeof GLYPH_EM = 'regular'): string[] {
+export function wrapText(
+  text: string,
+  maxWidthPx: number,
+  fontSizePx: number,
+  maxLines: number,
+  weight: keyof typeof GLYPH_EM = 'regular',
+): string[] {
   const greedy = wrapGreedy(text, maxWidthPx, fontSizePx, maxLines, weight);
   if (greedy.length === 1 || maxLines < 2) return greedy;
   const words = text.split(' ').filter((w) => w !== '');

@@ -144,7 +144,17 @@ export function readAuditRows(registry: Registry): AuditRow[] {
 /** Digest of the rows written before the chain existed, as the genesis event records it. */
 export function earlierEventsSha256(rows: AuditRow[]): string {
   return sha256Hex(
-    canonicalJson(rows.map((r) => ({ id: r.id, at: r.at, actor: r.actor, action: r.action, material_id: r.material_id, version_id: r.version_id, detail: r.detail }))),
+    canonicalJson(
+      rows.map((r) => ({
+        id: r.id,
+        at: r.at,
+        actor: r.actor,
+        action: r.action,
+        material_id: r.material_id,
+        version_id: r.version_id,
+        detail: r.detail,
+      })),
+    ),
   );
 }
 
@@ -276,12 +286,21 @@ function replay(row: AuditRow, versions: Map<string, ChainedVersion>, problems: 
   const known = versions.get(ref);
   if (row.status_from === null) {
     if (known) problems.push(`${where}: imports ${ref}, which the chain already holds`);
-    versions.set(ref, { ref, sha256: row.content_sha256 ?? '', status: row.status_to, created_by: row.actor, approved_by: null, retired_by: null, withdrawn_by: null });
+    versions.set(ref, {
+      ref,
+      sha256: row.content_sha256 ?? '',
+      status: row.status_to,
+      created_by: row.actor,
+      approved_by: null,
+      retired_by: null,
+      withdrawn_by: null,
+    });
     return;
   }
   if (!known) return void problems.push(`${where}: changes the status of ${ref}, which the chain never recorded`);
   if (known.status !== row.status_from) problems.push(`${where}: moves ${ref} from ${row.status_from}, but the chain has it ${known.status}`);
-  if (row.content_sha256 !== known.sha256) problems.push(`${where}: names content ${row.content_sha256?.slice(0, 12)}… for ${ref}, the chain recorded ${known.sha256.slice(0, 12)}…`);
+  if (row.content_sha256 !== known.sha256)
+    problems.push(`${where}: names content ${row.content_sha256?.slice(0, 12)}… for ${ref}, the chain recorded ${known.sha256.slice(0, 12)}…`);
   known.status = row.status_to;
   if (row.status_to === 'approved') known.approved_by = row.actor;
   if (row.status_to === 'retired') known.retired_by = row.actor;

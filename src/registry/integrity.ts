@@ -55,7 +55,9 @@ export interface TriggerCheck {
 
 export function checkTriggers(registry: Registry): TriggerCheck {
   const actual = new Map(
-    (registry.sqlite.prepare("SELECT name, sql FROM sqlite_master WHERE type = 'trigger'").all() as { name: string; sql: string | null }[]).map((t) => [t.name, t.sql ?? '']),
+    (registry.sqlite.prepare("SELECT name, sql FROM sqlite_master WHERE type = 'trigger'").all() as { name: string; sql: string | null }[]).map(
+      (t) => [t.name, t.sql ?? ''],
+    ),
   );
   const want = expectedTriggers();
   const missing: string[] = [];

@@ -82,10 +82,18 @@ export function openRegistry(path?: string, options: OpenOptions = {}): Registry
   const exists = memory || existsSync(file);
   const create = options.create ?? 'always';
   if (!exists && create === 'never') {
-    throw new InputError('registry-missing', 'no registry database at this path (check --db or NKLEDGER_DB; `nkledger material add` or `nkledger import` creates one)', { file });
+    throw new InputError(
+      'registry-missing',
+      'no registry database at this path (check --db or NKLEDGER_DB; `nkledger material add` or `nkledger import` creates one)',
+      { file },
+    );
   }
   if (!exists && create === 'if-folder-exists' && !existsSync(dirname(resolve(file)))) {
-    throw new InputError('registry-folder-missing', `no folder ${dirname(resolve(file))} to create the registry ${file} in (create the folder first)`, { file });
+    throw new InputError(
+      'registry-folder-missing',
+      `no folder ${dirname(resolve(file))} to create the registry ${file} in (create the folder first)`,
+      { file },
+    );
   }
   const readonly = options.readonly === true || (exists && !memory && !writable(file));
   let sqlite: Database.Database;
@@ -141,7 +149,8 @@ function requireCurrentSchema(sqlite: Database.Database, file: string): void {
   try {
     applied = appliedUpTo(sqlite);
   } catch (err) {
-    if ((err as { code?: string }).code === 'SQLITE_ERROR') throw new InputError('registry-open', 'not an nkledger registry (no migration table)', { file });
+    if ((err as { code?: string }).code === 'SQLITE_ERROR')
+      throw new InputError('registry-open', 'not an nkledger registry (no migration table)', { file });
     throw err;
   }
   if (applied < newestMigration()) {

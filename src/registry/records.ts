@@ -63,7 +63,11 @@ export function appendAudit(registry: Registry, entry: NewEvent): void {
 
 export function findMaterial(registry: Registry, slug: string): MaterialRow {
   const row = registry.db.select().from(materials).where(eq(materials.slug, slug)).get();
-  if (!row) throw new NotFoundError(`no material "${slug}" in the registry (\`nkledger list\` lists them; \`nkledger material add ${slug} --name NAME\` creates it)`, 'material-unknown');
+  if (!row)
+    throw new NotFoundError(
+      `no material "${slug}" in the registry (\`nkledger list\` lists them; \`nkledger material add ${slug} --name NAME\` creates it)`,
+      'material-unknown',
+    );
   return row;
 }
 

@@ -14,9 +14,22 @@ export const MAX_ACTOR_CHARS = 100;
 const FORBIDDEN = /[\p{Cc}\p{Cf}\p{Cs}\p{Co}\p{Cn}\p{Zl}\p{Zp}]/u;
 
 /** Scripts told apart for the mixed-script rule; letters of any other script count as one "other" script. */
-const SCRIPTS = ['Latin', 'Cyrillic', 'Greek', 'Armenian', 'Georgian', 'Hebrew', 'Arabic', 'Devanagari', 'Bengali', 'Thai', 'Han', 'Hiragana', 'Katakana', 'Hangul'].map(
-  (name) => [name, new RegExp(`\\p{Script=${name}}`, 'u')] as const,
-);
+const SCRIPTS = [
+  'Latin',
+  'Cyrillic',
+  'Greek',
+  'Armenian',
+  'Georgian',
+  'Hebrew',
+  'Arabic',
+  'Devanagari',
+  'Bengali',
+  'Thai',
+  'Han',
+  'Hiragana',
+  'Katakana',
+  'Hangul',
+].map((name) => [name, new RegExp(`\\p{Script=${name}}`, 'u')] as const);
 /** Script sets written together in one name by convention (TR 39 §5.1: Japanese and Korean). */
 const ALLOWED_MIXES = [new Set(['Han', 'Hiragana', 'Katakana']), new Set(['Han', 'Hangul'])];
 

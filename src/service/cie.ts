@@ -14,7 +14,9 @@ let cached: CieTables | null = null;
 /** Columns of a CIE CSV by wavelength (first column, nm). */
 function readColumns(file: string): Map<number, number[]> {
   const rows = new Map<number, number[]>();
-  const lines = readFileSync(CIE_DIR + file, 'utf8').split(/\r?\n/).slice(1);
+  const lines = readFileSync(CIE_DIR + file, 'utf8')
+    .split(/\r?\n/)
+    .slice(1);
   for (const line of lines) {
     if (line.trim() === '') continue;
     const [w, ...values] = line.split(',').map(Number);

@@ -35,11 +35,31 @@ interface DemoMaterial {
 const SE = { instrument: 'variable-angle ellipsometer (Marrowick bay 2)', method: 'spectroscopic-ellipsometry', angles_deg: '65,70,75' };
 
 const MATERIALS: DemoMaterial[] = [
-  { slug: 'sinx-pecvd', name: 'PECVD silicon nitride', description: 'Passivation and high-index layer; deposition recipe changed from A to the Si-rich B.', tags: ['nitride', 'pecvd', 'high-index'] },
-  { slug: 'sio2-thermal', name: 'Thermal silicon oxide', description: 'Wet thermal oxide on Si, low-index reference layer.', tags: ['oxide', 'low-index'] },
-  { slug: 'mgf2-evaporated', name: 'Evaporated magnesium fluoride', description: 'E-beam MgF2 for AR top layers.', tags: ['fluoride', 'low-index', 'ar'] },
+  {
+    slug: 'sinx-pecvd',
+    name: 'PECVD silicon nitride',
+    description: 'Passivation and high-index layer; deposition recipe changed from A to the Si-rich B.',
+    tags: ['nitride', 'pecvd', 'high-index'],
+  },
+  {
+    slug: 'sio2-thermal',
+    name: 'Thermal silicon oxide',
+    description: 'Wet thermal oxide on Si, low-index reference layer.',
+    tags: ['oxide', 'low-index'],
+  },
+  {
+    slug: 'mgf2-evaporated',
+    name: 'Evaporated magnesium fluoride',
+    description: 'E-beam MgF2 for AR top layers.',
+    tags: ['fluoride', 'low-index', 'ar'],
+  },
   { slug: 'al2o3-ald', name: 'ALD aluminium oxide', description: 'TMA/H2O ALD, 200 C; medium-index and barrier layer.', tags: ['oxide', 'ald'] },
-  { slug: 'ito-sputtered', name: 'Sputtered indium tin oxide', description: 'Transparent conductor; free-carrier absorption in the NIR.', tags: ['tco', 'conductor'] },
+  {
+    slug: 'ito-sputtered',
+    name: 'Sputtered indium tin oxide',
+    description: 'Transparent conductor; free-carrier absorption in the NIR.',
+    tags: ['tco', 'conductor'],
+  },
   { slug: 'a-si-h', name: 'Hydrogenated amorphous silicon', description: 'PECVD a-Si:H absorber, new in the lab.', tags: ['silicon', 'absorber'] },
 ];
 
@@ -47,37 +67,88 @@ const IMPORTS: Record<string, DemoImport> = {
   'sinx-a': {
     file: 'sinx-pecvd-recipe-a.csv',
     fit: { model: 'tauc-lorentz' },
-    provenance: { ...SE, sample: 'MW-2291', substrate: 'Si(100)', process: 'recipe A: SiH4/NH3 = 1:8, 300 C', measured_on: '2025-03-04', operator: DEMO_EDITOR },
+    provenance: {
+      ...SE,
+      sample: 'MW-2291',
+      substrate: 'Si(100)',
+      process: 'recipe A: SiH4/NH3 = 1:8, 300 C',
+      measured_on: '2025-03-04',
+      operator: DEMO_EDITOR,
+    },
   },
   'sinx-b': {
     file: 'sinx-pecvd-recipe-b.csv',
     fit: { model: 'tauc-lorentz' },
-    provenance: { ...SE, sample: 'MW-2307', substrate: 'Si(100)', process: 'recipe B: SiH4/NH3 = 1:3 (Si-rich), 300 C', measured_on: '2025-09-18', operator: DEMO_EDITOR },
+    provenance: {
+      ...SE,
+      sample: 'MW-2307',
+      substrate: 'Si(100)',
+      process: 'recipe B: SiH4/NH3 = 1:3 (Si-rich), 300 C',
+      measured_on: '2025-09-18',
+      operator: DEMO_EDITOR,
+    },
   },
   sio2: {
     file: 'sio2-thermal.csv',
     fit: { model: 'sellmeier', terms: 3 },
-    provenance: { ...SE, sample: 'MW-OX-114', substrate: 'Si(100)', process: 'wet oxidation 1000 C', measured_on: '2025-02-11', operator: DEMO_EDITOR },
+    provenance: {
+      ...SE,
+      sample: 'MW-OX-114',
+      substrate: 'Si(100)',
+      process: 'wet oxidation 1000 C',
+      measured_on: '2025-02-11',
+      operator: DEMO_EDITOR,
+    },
   },
   mgf2: {
     file: 'mgf2-evaporated.csv',
     fit: { model: 'cauchy', urbach: true },
-    provenance: { instrument: 'UV-VIS-NIR spectrophotometer', method: 'spectrophotometry', sample: 'MW-EV-077', substrate: 'fused silica', process: 'e-beam, 250 C substrate, 95 nm', measured_on: '2025-05-27', operator: DEMO_EDITOR },
+    provenance: {
+      instrument: 'UV-VIS-NIR spectrophotometer',
+      method: 'spectrophotometry',
+      sample: 'MW-EV-077',
+      substrate: 'fused silica',
+      process: 'e-beam, 250 C substrate, 95 nm',
+      measured_on: '2025-05-27',
+      operator: DEMO_EDITOR,
+    },
   },
   al2o3: {
     file: 'al2o3-ald.csv',
     fit: { model: 'cauchy', urbach: true },
-    provenance: { ...SE, sample: 'MW-ALD-0412', substrate: 'Si(100)', process: 'TMA/H2O, 200 C, 500 cycles', measured_on: '2025-06-30', operator: DEMO_EDITOR },
+    provenance: {
+      ...SE,
+      sample: 'MW-ALD-0412',
+      substrate: 'Si(100)',
+      process: 'TMA/H2O, 200 C, 500 cycles',
+      measured_on: '2025-06-30',
+      operator: DEMO_EDITOR,
+    },
   },
   ito: {
     file: 'ito-sputtered.tsv',
     fit: { model: 'tauc-lorentz+drude' },
-    provenance: { ...SE, sample: 'MW-SP-1180', substrate: 'glass', process: 'DC sputtering, 1% O2, 150 C', measured_on: '2025-07-15', operator: DEMO_EDITOR },
+    provenance: {
+      ...SE,
+      sample: 'MW-SP-1180',
+      substrate: 'glass',
+      process: 'DC sputtering, 1% O2, 150 C',
+      measured_on: '2025-07-15',
+      operator: DEMO_EDITOR,
+    },
   },
   asi: {
     file: 'a-si-h.txt',
     fit: { model: 'tauc-lorentz' },
-    provenance: { ...SE, sample: 'MW-2340', substrate: 'glass', process: 'PECVD SiH4/H2, 200 C', measured_on: '2025-10-02', operator: DEMO_EDITOR, notes: 'first a-Si:H run; awaiting review' },
+    provenance: {
+      ...SE,
+      sample: 'MW-2340',
+      substrate: 'glass',
+      process: 'PECVD SiH4/H2, 200 C',
+      measured_on: '2025-10-02',
+      operator: DEMO_EDITOR,
+      notes: 'first a-Si:H run; awaiting review',
+    },
   },
 };
 
@@ -109,7 +180,12 @@ export function buildDemoRegistry(registry: Registry, dataDir: string, lockPath:
 
   const sinxA = put('sinx-pecvd', 'sinx-a');
   ok(sinxA);
-  for (const [slug, key] of [['sio2-thermal', 'sio2'], ['mgf2-evaporated', 'mgf2'], ['al2o3-ald', 'al2o3'], ['ito-sputtered', 'ito']] as const) {
+  for (const [slug, key] of [
+    ['sio2-thermal', 'sio2'],
+    ['mgf2-evaporated', 'mgf2'],
+    ['al2o3-ald', 'al2o3'],
+    ['ito-sputtered', 'ito'],
+  ] as const) {
     ok(put(slug, key));
   }
 
@@ -117,7 +193,11 @@ export function buildDemoRegistry(registry: Registry, dataDir: string, lockPath:
   let lock = emptyLockfile();
   for (const ref of [sinxA, 'sio2-thermal@1', 'mgf2-evaporated@1']) lock = lockAdd(registry, lock, ref).lock;
   writeLockfile(lockPath, lock);
-  steps.push(`design lockfile ${lockPath} pins ${Object.keys(lock.materials).map((s) => `${s}@${lock.materials[s].version}`).join(', ')}`);
+  steps.push(
+    `design lockfile ${lockPath} pins ${Object.keys(lock.materials)
+      .map((s) => `${s}@${lock.materials[s].version}`)
+      .join(', ')}`,
+  );
 
   // The recipe changes: B replaces A, and A is retired; the old pin still resolves, with a warning.
   ok(put('sinx-pecvd', 'sinx-b'));

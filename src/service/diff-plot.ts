@@ -10,8 +10,20 @@ export function diffPlotSpec(diff: VersionDiff): PlotSpec {
     title: `${diff.a.ref} vs ${diff.b.ref}`,
     xLabel: 'Wavelength (nm)',
     panels: [
-      { yLabel: 'n', series: [{ label: diff.a.ref, x, y: n_a, style: 'line' }, { label: diff.b.ref, x, y: n_b, style: 'dashed' }] },
-      { yLabel: 'k', series: [{ label: diff.a.ref, x, y: k_a, style: 'line' }, { label: diff.b.ref, x, y: k_b, style: 'dashed' }] },
+      {
+        yLabel: 'n',
+        series: [
+          { label: diff.a.ref, x, y: n_a, style: 'line' },
+          { label: diff.b.ref, x, y: n_b, style: 'dashed' },
+        ],
+      },
+      {
+        yLabel: 'k',
+        series: [
+          { label: diff.a.ref, x, y: k_a, style: 'line' },
+          { label: diff.b.ref, x, y: k_b, style: 'dashed' },
+        ],
+      },
       {
         yLabel: 'difference (b − a)',
         relativeHeight: 0.6,

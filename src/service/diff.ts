@@ -119,7 +119,11 @@ export function diffVersions(registry: Registry, refA: string, refB: string): Ve
     common_range_nm: common,
     dn: curves ? largest(curves.wavelength_nm, curves.n_a, curves.n_b) : null,
     dk: curves ? largest(curves.wavelength_nm, curves.k_a, curves.k_b) : null,
-    provenance: PROVENANCE_FIELDS.filter((f) => JSON.stringify(pa[f]) !== JSON.stringify(pb[f])).map((field) => ({ field, a: pa[field], b: pb[field] })),
+    provenance: PROVENANCE_FIELDS.filter((f) => JSON.stringify(pa[f]) !== JSON.stringify(pb[f])).map((field) => ({
+      field,
+      a: pa[field],
+      b: pb[field],
+    })),
     curves,
     notices: [...A.resolved.notices, ...B.resolved.notices],
     warnings: [...A.resolved.warnings, ...B.resolved.warnings],

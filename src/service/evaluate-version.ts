@@ -57,7 +57,13 @@ export function evaluateContent(
       return { ...evaluateTable(content.table!, wavelengthsNm, method), source: 'table', extrapolated: wavelengthsNm.map(() => false) };
     } catch (err) {
       if (extrapolate && err instanceof InputError && err.rule === 'outside-range') {
-        throw new InputError('table-no-extrapolation', `${err.message}; ${label} holds a table only, and a table never extrapolates`, err.location, 400, { option: 'extrapolate' });
+        throw new InputError(
+          'table-no-extrapolation',
+          `${err.message}; ${label} holds a table only, and a table never extrapolates`,
+          err.location,
+          400,
+          { option: 'extrapolate' },
+        );
       }
       throw err;
     }
@@ -96,12 +102,7 @@ export function withUnitColumn<T extends { wavelength_nm: number[] }>(e: T, unit
   return { ...e, [xColumnName(unit)]: e.wavelength_nm.map((w) => +fromWavelengthNm(w, unit).toPrecision(12)) };
 }
 
-export function evaluateVersion(
-  registry: Registry,
-  ref: string,
-  wavelengthsNm: number[],
-  options: EvaluateOptions = {},
-): VersionEvaluation {
+export function evaluateVersion(registry: Registry, ref: string, wavelengthsNm: number[], options: EvaluateOptions = {}): VersionEvaluation {
   const { row, resolved } = resolveRow(registry, ref);
   return evaluateResolved(resolved, verifiedContentOf(row, resolved.ref), wavelengthsNm, options);
 }

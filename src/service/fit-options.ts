@@ -28,7 +28,19 @@ export interface FitOptionText {
 export const FIT_WEIGHTS = ['auto', 'relative'] as const;
 
 export type FitOptionName = keyof FitOptionText;
-export const FIT_OPTION_NAMES: readonly FitOptionName[] = ['terms', 'urbach', 'target', 'range', 'fix', 'init', 'bounds', 'free', 'starts', 'seed', 'weights'];
+export const FIT_OPTION_NAMES: readonly FitOptionName[] = [
+  'terms',
+  'urbach',
+  'target',
+  'range',
+  'fix',
+  'init',
+  'bounds',
+  'free',
+  'starts',
+  'seed',
+  'weights',
+];
 
 /** How a front door names an option in messages: `--fix` on the command line, `fix` or `range_nm` in the API. */
 export type OptionLabel = (name: FitOptionName) => string;
@@ -63,7 +75,8 @@ export function parseFitOptions(text: FitOptionText, label: OptionLabel = cliLab
   if (text.terms !== undefined) out.terms = integer(text.terms, label('terms'), 1, 100);
   if (text.urbach) out.urbach = true;
   if (text.target !== undefined) {
-    if (!FIT_TARGETS.includes(text.target as FitTarget)) throw new InputError('bad-option', `${label('target')} ${text.target}: expected one of ${FIT_TARGETS.join(', ')}`);
+    if (!FIT_TARGETS.includes(text.target as FitTarget))
+      throw new InputError('bad-option', `${label('target')} ${text.target}: expected one of ${FIT_TARGETS.join(', ')}`);
     out.target = text.target as FitTarget;
   }
   if (text.range !== undefined) out.rangeNm = interval(text.range, label('range'));
@@ -74,7 +87,8 @@ export function parseFitOptions(text: FitOptionText, label: OptionLabel = cliLab
   if (text.starts !== undefined) out.starts = integer(text.starts, label('starts'), 1, 1000);
   if (text.seed !== undefined) out.seed = number(text.seed, label('seed'));
   if (text.weights !== undefined) {
-    if (!(FIT_WEIGHTS as readonly string[]).includes(text.weights)) throw new InputError('bad-option', `${label('weights')} ${text.weights}: expected one of ${FIT_WEIGHTS.join(', ')}`);
+    if (!(FIT_WEIGHTS as readonly string[]).includes(text.weights))
+      throw new InputError('bad-option', `${label('weights')} ${text.weights}: expected one of ${FIT_WEIGHTS.join(', ')}`);
     out.weights = text.weights as (typeof FIT_WEIGHTS)[number];
   }
   return out;

@@ -23,7 +23,16 @@ export interface InspectReport {
   n_range: [number, number];
   k_range: [number, number];
   /** How the file was written; null for a stored version (stored tables are normalized). */
-  dialect: { delimiter: string; decimal_comma: boolean; header: boolean; encoding: string; bom: boolean; line_ending: string; header_line?: number; units_row?: string[] } | null;
+  dialect: {
+    delimiter: string;
+    decimal_comma: boolean;
+    header: boolean;
+    encoding: string;
+    bom: boolean;
+    line_ending: string;
+    header_line?: number;
+    units_row?: string[];
+  } | null;
   /** The lines above the header (a file's metadata, kept in the provenance on import); empty for a stored version. */
   preamble: string[];
   /** 1-based lines of the first and last data row of the file; null for a stored version. */

@@ -18,7 +18,10 @@ function lockedVersion(registry: Registry, ref: string, expected: VersionStatus,
   const { material, row } = resolveRow(registry, ref);
   if (row.status !== expected) {
     const done = { approve: 'approved', retire: 'retired', withdraw: 'withdrawn' }[verb];
-    throw new ConflictError(`cannot ${verb} ${material.slug}@${row.number}: it is ${row.status}, and only ${expected === 'approved' ? 'an' : 'a'} ${expected} version can be ${done}`, `version-not-${expected}`);
+    throw new ConflictError(
+      `cannot ${verb} ${material.slug}@${row.number}: it is ${row.status}, and only ${expected === 'approved' ? 'an' : 'a'} ${expected} version can be ${done}`,
+      `version-not-${expected}`,
+    );
   }
   return { material, row };
 }
@@ -81,7 +84,14 @@ export function retire(registry: Registry, ref: string, reason: string, actor: s
   return writeTransaction(registry, () => {
     const { material, row } = lockedVersion(registry, ref, 'approved', 'retire');
     const updated = transition(registry, row, 'approved', { status: 'retired', retiredBy: who, retiredAt: nowIso(), retireReason: why });
-    appendAudit(registry, { actor: who, action: 'version.retire', materialId: material.id, versionId: row.id, ...versionEvent(material.slug, row, 'retired'), detail: { ref: `${material.slug}@${row.number}`, reason: why } });
+    appendAudit(registry, {
+      actor: who,
+      action: 'version.retire',
+      materialId: material.id,
+      versionId: row.id,
+      ...versionEvent(material.slug, row, 'retired'),
+      detail: { ref: `${material.slug}@${row.number}`, reason: why },
+    });
     return versionRecord(material.slug, updated);
   });
 }
@@ -93,7 +103,14 @@ export function withdraw(registry: Registry, ref: string, actor: string, reason?
   return writeTransaction(registry, () => {
     const { material, row } = lockedVersion(registry, ref, 'draft', 'withdraw');
     const updated = transition(registry, row, 'draft', { status: 'withdrawn', withdrawnBy: who, withdrawnAt: nowIso(), withdrawReason: why });
-    appendAudit(registry, { actor: who, action: 'version.withdraw', materialId: material.id, versionId: row.id, ...versionEvent(material.slug, row, 'withdrawn'), detail: { ref: `${material.slug}@${row.number}`, reason: why } });
+    appendAudit(registry, {
+      actor: who,
+      action: 'version.withdraw',
+      materialId: material.id,
+      versionId: row.id,
+      ...versionEvent(material.slug, row, 'withdrawn'),
+      detail: { ref: `${material.slug}@${row.number}`, reason: why },
+    });
     return versionRecord(material.slug, updated);
   });
 }

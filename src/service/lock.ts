@@ -63,7 +63,11 @@ export function parseLockfile(input: string | unknown, file = '<lockfile>'): Loc
   if (!parsed.success) {
     const issue = parsed.error.issues[0];
     const where = issue.path.length ? issue.path.join('.') : '(top level)';
-    throw new InputError('lock-format', `not an nkledger lockfile (format_version ${READABLE_FORMAT_VERSIONS.join(' or ')}): ${where}: ${issue.message}`, { file });
+    throw new InputError(
+      'lock-format',
+      `not an nkledger lockfile (format_version ${READABLE_FORMAT_VERSIONS.join(' or ')}): ${where}: ${issue.message}`,
+      { file },
+    );
   }
   if (parsed.data.format_version === 1 && parsed.data.registry_head) {
     throw new InputError('lock-format', 'registry_head appears only in format_version 2 lockfiles', { file });
@@ -72,7 +76,11 @@ export function parseLockfile(input: string | unknown, file = '<lockfile>'): Loc
 }
 
 export function serializeLockfile(lock: Lockfile): string {
-  const materials = Object.fromEntries(Object.keys(lock.materials).sort().map((slug) => [slug, lock.materials[slug]]));
+  const materials = Object.fromEntries(
+    Object.keys(lock.materials)
+      .sort()
+      .map((slug) => [slug, lock.materials[slug]]),
+  );
   const head = lock.registry_head ? { registry_head: lock.registry_head } : {};
   return `${JSON.stringify({ format: LOCK_FORMAT, format_version: LOCK_FORMAT_VERSION, ...head, materials }, null, 2)}\n`;
 }
@@ -177,10 +185,20 @@ function checkHistory(registry: Registry, locked: LockedHead | undefined): LockH
   const registryHead = walk.head ? { hash: walk.head.hash, sequence: walk.head.sequence } : null;
   const base = { locked_head: locked ?? null, registry_head: registryHead };
   if (walk.problems.length > 0) {
-    return { ...base, outcome: 'broken', failed: true, message: `the registry's audit chain is broken (${walk.problems[0]}${walk.problems.length > 1 ? `, and ${walk.problems.length - 1} more` : ''}); run \`nkledger verify\`` };
+    return {
+      ...base,
+      outcome: 'broken',
+      failed: true,
+      message: `the registry's audit chain is broken (${walk.problems[0]}${walk.problems.length > 1 ? `, and ${walk.problems.length - 1} more` : ''}); run \`nkledger verify\``,
+    };
   }
   if (!locked) {
-    return { ...base, outcome: 'not-recorded', failed: false, message: 'the lockfile records no registry head (format 1): history not checked; the next `nkledger lock add` records one' };
+    return {
+      ...base,
+      outcome: 'not-recorded',
+      failed: false,
+      message: 'the lockfile records no registry head (format 1): history not checked; the next `nkledger lock add` records one',
+    };
   }
   if (walk.hashes[locked.sequence - 1] !== locked.hash) {
     return {
@@ -190,7 +208,12 @@ function checkHistory(registry: Registry, locked: LockedHead | undefined): LockH
       message: `the registry's history no longer contains the head this lockfile recorded (event ${locked.sequence}, ${locked.hash.slice(0, 12)}…): history was rewritten, or this is another registry`,
     };
   }
-  return { ...base, outcome: 'ok', failed: false, message: `history ok: the registry's audit chain still contains event ${locked.sequence} (${locked.hash.slice(0, 12)}…) and has ${registryHead!.sequence - locked.sequence} event(s) after it` };
+  return {
+    ...base,
+    outcome: 'ok',
+    failed: false,
+    message: `history ok: the registry's audit chain still contains event ${locked.sequence} (${locked.hash.slice(0, 12)}…) and has ${registryHead!.sequence - locked.sequence} event(s) after it`,
+  };
 }
 
 /**
@@ -226,8 +249,14 @@ export function lockVerify(registry: Registry, lock: Lockfile, options: { strict
           message: `${ref} content differs: locked sha256 ${locked.sha256.slice(0, 12)}…, its content now hashes to ${computed === null ? 'nothing (unreadable)' : `${computed.slice(0, 12)}…`}${column}`,
         };
       }
-      if (row.status === 'approved') return { ...base, registry_sha256: computed, status: row.status, outcome: 'ok', failed: false, message: `${ref} ok` };
-      const why = row.status === 'retired' ? `retired: ${row.retireReason}` : row.status === 'withdrawn' ? 'withdrawn: nobody should use it' : 'a draft, not approved';
+      if (row.status === 'approved')
+        return { ...base, registry_sha256: computed, status: row.status, outcome: 'ok', failed: false, message: `${ref} ok` };
+      const why =
+        row.status === 'retired'
+          ? `retired: ${row.retireReason}`
+          : row.status === 'withdrawn'
+            ? 'withdrawn: nobody should use it'
+            : 'a draft, not approved';
       return { ...base, registry_sha256: computed, status: row.status, outcome: row.status, failed: strict, message: `${ref} is ${why}` };
     });
   const history = checkHistory(registry, lock.registry_head);
@@ -264,7 +293,14 @@ export function lockOutdated(registry: Registry, lock: Lockfile): LockOutdatedEn
       .orderBy(asc(materialVersions.number))
       .all()
       .map((r) => r.number);
-    if (newer.length) out.push({ ref: formatRef(slug, locked.version), slug, locked_version: locked.version, newer_approved: newer, latest_approved: newer[newer.length - 1] });
+    if (newer.length)
+      out.push({
+        ref: formatRef(slug, locked.version),
+        slug,
+        locked_version: locked.version,
+        newer_approved: newer,
+        latest_approved: newer[newer.length - 1],
+      });
   }
   return out;
 }

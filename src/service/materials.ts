@@ -20,20 +20,26 @@ const TAG_PATTERN = /^[\p{L}\p{N}][\p{L}\p{N}._+-]{0,39}$/u;
 
 function checkName(text: string | undefined): string {
   const name = text?.trim() ?? '';
-  if (name === '' || name.length > 200) throw new InputError('material-name', 'a material needs a display name, at most 200 characters', {}, 400, { option: 'name' });
+  if (name === '' || name.length > 200)
+    throw new InputError('material-name', 'a material needs a display name, at most 200 characters', {}, 400, { option: 'name' });
   return name;
 }
 
 function checkDescription(text: string | undefined): string {
   const description = (text ?? '').trim();
-  if (description.length > 5000) throw new InputError('material-description', 'the description is longer than 5000 characters', {}, 400, { option: 'description' });
+  if (description.length > 5000)
+    throw new InputError('material-description', 'the description is longer than 5000 characters', {}, 400, { option: 'description' });
   return description;
 }
 
 function checkTags(given: string[]): string[] {
   const tags = [...new Set(given.map((t) => t.trim()).filter(Boolean))].sort();
   for (const tag of tags) {
-    if (!TAG_PATTERN.test(tag)) throw new InputError('material-tag', `"${tag}" is not a tag (letters, digits, . _ + -, at most 40 characters)`, {}, 400, { option: 'tag', value: tag });
+    if (!TAG_PATTERN.test(tag))
+      throw new InputError('material-tag', `"${tag}" is not a tag (letters, digits, . _ + -, at most 40 characters)`, {}, 400, {
+        option: 'tag',
+        value: tag,
+      });
   }
   return tags;
 }
@@ -84,7 +90,11 @@ export function editMaterial(registry: Registry, slugText: string, edit: Materia
     const before = { name: row.name, description: row.description, tags: JSON.parse(row.tags) as string[] };
     const removed = new Set((edit.removeTags ?? []).map((t) => t.trim()));
     const unknown = [...removed].find((t) => !(edit.tags ?? before.tags).includes(t) && !added.includes(t));
-    if (unknown !== undefined) throw new InputError('material-tag', `${slug} has no tag "${unknown}" to remove (its tags: ${before.tags.join(', ') || 'none'})`, {}, 400, { option: 'untag', value: unknown });
+    if (unknown !== undefined)
+      throw new InputError('material-tag', `${slug} has no tag "${unknown}" to remove (its tags: ${before.tags.join(', ') || 'none'})`, {}, 400, {
+        option: 'untag',
+        value: unknown,
+      });
     const after = {
       name: name ?? before.name,
       description: description ?? before.description,
@@ -92,7 +102,11 @@ export function editMaterial(registry: Registry, slugText: string, edit: Materia
     };
     const changed = (['name', 'description', 'tags'] as const).filter((f) => JSON.stringify(before[f]) !== JSON.stringify(after[f]));
     if (changed.length > 0) {
-      registry.db.update(materials).set({ name: after.name, description: after.description, tags: JSON.stringify(after.tags) }).where(eq(materials.id, row.id)).run();
+      registry.db
+        .update(materials)
+        .set({ name: after.name, description: after.description, tags: JSON.stringify(after.tags) })
+        .where(eq(materials.id, row.id))
+        .run();
       appendAudit(registry, {
         actor: who,
         action: 'material.edit',
@@ -108,9 +122,7 @@ export function editMaterial(registry: Registry, slugText: string, edit: Materia
 /** All materials, by slug; optionally only those carrying `tag`. */
 export function listMaterials(registry: Registry, filter: { tag?: string } = {}): MaterialRecord[] {
   const rows = registry.db.select().from(materials).orderBy(asc(materials.slug)).all();
-  return rows
-    .map((row) => materialRecord(registry, row))
-    .filter((m) => filter.tag === undefined || m.tags.includes(filter.tag));
+  return rows.map((row) => materialRecord(registry, row)).filter((m) => filter.tag === undefined || m.tags.includes(filter.tag));
 }
 
 /** The version rows of a material, oldest first. */

@@ -91,15 +91,19 @@ function crossCheck(ref: string, row: VersionRow, computed: string | null, chain
   if (!chained) return [`${ref}: the audit chain never recorded this version (inserted outside nkledger)`];
   const problems: string[] = [];
   if (computed !== null && computed !== chained.sha256) {
-    problems.push(`its content hashes to ${computed.slice(0, 12)}…, but the audit chain recorded ${chained.sha256.slice(0, 12)}… (content rewritten)`);
+    problems.push(
+      `its content hashes to ${computed.slice(0, 12)}…, but the audit chain recorded ${chained.sha256.slice(0, 12)}… (content rewritten)`,
+    );
   }
-  if (row.status !== chained.status) problems.push(`it is ${row.status}, but the audit chain has it ${chained.status} (status changed outside nkledger)`);
+  if (row.status !== chained.status)
+    problems.push(`it is ${row.status}, but the audit chain has it ${chained.status} (status changed outside nkledger)`);
   for (const [chainKey, rowKey, verb] of LIFECYCLE_ACTORS) {
     const recorded = chained[chainKey];
     const stored = row[rowKey];
     // The genesis of an upgraded registry recorded no creator for versions made before it: nothing to compare.
     if (chainKey === 'created_by' && recorded === null) continue;
-    if ((stored ?? null) !== (recorded ?? null)) problems.push(`it says ${verb} by ${stored ?? 'nobody'}, but the audit chain says ${recorded ?? 'nobody'}`);
+    if ((stored ?? null) !== (recorded ?? null))
+      problems.push(`it says ${verb} by ${stored ?? 'nobody'}, but the audit chain says ${recorded ?? 'nobody'}`);
   }
   return problems.map((problem) => `${ref}: ${problem}`);
 }
@@ -120,7 +124,12 @@ export function verifyRegistry(registry: Registry): VerifyReport {
   const read = registry.sqlite.transaction(() => {
     walk = walkChain(readAuditRows(registry));
     for (const material of registry.db.select().from(materials).orderBy(asc(materials.slug)).all()) {
-      const rows = registry.db.select().from(materialVersions).where(eq(materialVersions.materialId, material.id)).orderBy(asc(materialVersions.number)).all();
+      const rows = registry.db
+        .select()
+        .from(materialVersions)
+        .where(eq(materialVersions.materialId, material.id))
+        .orderBy(asc(materialVersions.number))
+        .all();
       const present = new Set(rows.map((r) => r.number));
       for (let n = 1; n <= material.lastVersion; n++) if (!present.has(n)) missing.push(formatRef(material.slug, n));
       for (const row of rows) {
@@ -188,7 +197,8 @@ export async function backup(registry: Registry, destination: string): Promise<{
     linkSync(partial, destination); // fails with EEXIST rather than overwrite a file that appeared meanwhile
     return { path: destination, pages: result.totalPages };
   } catch (err) {
-    if ((err as NodeJS.ErrnoException).code === 'EEXIST') throw new ConflictError(`${destination} already exists; choose a new file (backups never overwrite)`, 'backup-exists');
+    if ((err as NodeJS.ErrnoException).code === 'EEXIST')
+      throw new ConflictError(`${destination} already exists; choose a new file (backups never overwrite)`, 'backup-exists');
     throw new InputError('backup-failed', `cannot write the backup: ${(err as Error).message}`, { file: destination });
   } finally {
     rmSync(partial, { force: true });

@@ -14,7 +14,17 @@ export { normalizeProvenance, parseMetaPairs, type ProvenanceInput } from './pro
 export { createMaterial, editMaterial, listMaterials, getMaterial, history, type NewMaterial, type MaterialEdit } from './materials.ts';
 export { importVersion, resolveRef, showVersion, versionSummary, type NewVersion, type ImportedVersion, type ResolvedRef } from './versions.ts';
 export { approve, retire, withdraw } from './lifecycle.ts';
-export { readSettings, writeSetting, writeSettingText, resetSetting, parseSettingKey, SETTINGS, SETTING_KEYS, type Settings, type SettingKey } from './settings.ts';
+export {
+  readSettings,
+  writeSetting,
+  writeSettingText,
+  resetSetting,
+  parseSettingKey,
+  SETTINGS,
+  SETTING_KEYS,
+  type Settings,
+  type SettingKey,
+} from './settings.ts';
 export { verifyRegistry, backup, IMMUTABILITY_TRIGGERS, type VerifyReport, type HashMismatch } from './registry-admin.ts';
 export {
   lockAdd,
@@ -36,7 +46,14 @@ export {
 } from './lock.ts';
 export { importMeasurement, kkReportFor, type MeasurementImport, type MeasurementImported } from './import-measurement.ts';
 export { evaluateVersion, evaluateResolved, evaluateContent, type VersionEvaluation } from './evaluate-version.ts';
-export { loadTableOrVersion, requireTable, type LoadedSource, type TableOrigin, type StoredVersionOrigin, type SourceOptions } from './table-source.ts';
+export {
+  loadTableOrVersion,
+  requireTable,
+  type LoadedSource,
+  type TableOrigin,
+  type StoredVersionOrigin,
+  type SourceOptions,
+} from './table-source.ts';
 export { exportVersion, gridNm, VERSION_EXPORT_FORMATS, type VersionExport, type VersionExportFormat } from './export-version.ts';
 export { diffVersions, DIFF_GRID_POINTS, type VersionDiff, type ParameterChange, type LargestDifference } from './diff.ts';
 export { diffPlotSpec, renderDiffPlot } from './diff-plot.ts';

@@ -49,10 +49,18 @@ export const SETTINGS = {
     schema: z.array(origin).max(64),
     default: [] as string[],
     meaning: 'browser origins allowed to call the API (CORS allow-list); empty allows none',
-    parseText: (t: string) => t.split(',').map((s) => s.trim()).filter(Boolean),
+    parseText: (t: string) =>
+      t
+        .split(',')
+        .map((s) => s.trim())
+        .filter(Boolean),
   } satisfies SettingDefinition<string[]>,
   max_body_bytes: {
-    schema: z.number().int().min(1024).max(256 * 1024 * 1024),
+    schema: z
+      .number()
+      .int()
+      .min(1024)
+      .max(256 * 1024 * 1024),
     default: 8 * 1024 * 1024,
     meaning: 'largest request body accepted, in bytes (uploads beyond it get 413)',
     parseText: (t: string) => Number(t),

@@ -36,7 +36,11 @@ export async function loadTable(source: string, options: ImportOptions = {}, std
 }
 
 /** The raw bytes of a file path or "-" (`stdin`, default the process's), within the size limit, and the name errors should give it. */
-export async function readSource(source: string, options: ImportOptions = {}, stdin?: StdinStream): Promise<{ bytes: Uint8Array; file: string; maxBytes: number }> {
+export async function readSource(
+  source: string,
+  options: ImportOptions = {},
+  stdin?: StdinStream,
+): Promise<{ bytes: Uint8Array; file: string; maxBytes: number }> {
   const maxBytes = options.maxBytes ?? DEFAULT_MAX_BYTES;
   const file = options.file ?? (source === STDIN_SOURCE ? '<stdin>' : source);
   const bytes = source === STDIN_SOURCE ? await readStdin(stdin ?? process.stdin, maxBytes, file) : await readLimitedFile(source, maxBytes, file);

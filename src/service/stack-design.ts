@@ -34,14 +34,19 @@ const modelSource = z
     parameters: z.record(z.string(), z.number()).describe('parameter values by name, in the units of `nkledger fit --help`'),
     terms: z.number().int().min(1).optional().describe('number of terms/oscillators (default: inferred from the parameter names)'),
     urbach: z.boolean().optional().describe('Cauchy with the Urbach tail (default: inferred from the parameter names)'),
-    range_nm: z.tuple([z.number().positive(), z.number().positive()]).optional().describe('validity range [min, max] in nm; outside it the model is refused unless --extrapolate'),
+    range_nm: z
+      .tuple([z.number().positive(), z.number().positive()])
+      .optional()
+      .describe('validity range [min, max] in nm; outside it the model is refused unless --extrapolate'),
   })
   .describe('a dispersion model of the catalogue with given parameters');
 
 // A mixture names two sources, which may be mixtures themselves: the getter makes the schema recursive (zod 4).
 const mixSource = z
   .strictObject({
-    mix: z.enum(EMA_RULES, { error: `mix is one of ${EMA_RULES.map((r) => `"${r}"`).join(', ')}` }).describe('effective-medium rule (spherical inclusions, Aspnes 1982)'),
+    mix: z
+      .enum(EMA_RULES, { error: `mix is one of ${EMA_RULES.map((r) => `"${r}"`).join(', ')}` })
+      .describe('effective-medium rule (spherical inclusions, Aspnes 1982)'),
     get materials() {
       return z
         .array(MATERIAL_SOURCE_SCHEMA)
@@ -101,7 +106,9 @@ export const STACK_DESIGN_SCHEMA = z
         incoherent: z
           .boolean()
           .optional()
-          .describe('true: a thick substrate whose back surface (into the ambient) is summed incoherently into R and T; false: semi-infinite. Default: true when thickness_mm is given'),
+          .describe(
+            'true: a thick substrate whose back surface (into the ambient) is summed incoherently into R and T; false: semi-infinite. Default: true when thickness_mm is given',
+          ),
       })
       .describe('the substrate'),
   })
@@ -132,7 +139,8 @@ function locate(text: string, path: Array<string | number>): { line: number; col
 }
 
 function lineColumn(text: string, offset: number): { line: number; column: number } {
-  let line = 1, start = 0;
+  let line = 1,
+    start = 0;
   for (let i = 0; i < offset && i < text.length; i++) {
     if (text.charCodeAt(i) === 10) {
       line++;
@@ -165,10 +173,12 @@ function describeIssue(schema: z.ZodType, value: unknown): { path: Array<string 
     }
     return {
       path,
-      message: 'a material source is one of {"ref": "slug@N"}, {"file": "table.csv"}, {"n": 1.38, "k": 0}, {"model": "sellmeier", "parameters": {…}} or {"mix": "bruggeman", "materials": [SOURCE, SOURCE], "fraction": 0.5}',
+      message:
+        'a material source is one of {"ref": "slug@N"}, {"file": "table.csv"}, {"n": 1.38, "k": 0}, {"model": "sellmeier", "parameters": {…}} or {"mix": "bruggeman", "materials": [SOURCE, SOURCE], "fraction": 0.5}',
     };
   }
-  if (issue.code === 'unrecognized_keys') return { path, message: `unknown field${issue.keys.length > 1 ? 's' : ''} ${issue.keys.map((k) => `"${k}"`).join(', ')}` };
+  if (issue.code === 'unrecognized_keys')
+    return { path, message: `unknown field${issue.keys.length > 1 ? 's' : ''} ${issue.keys.map((k) => `"${k}"`).join(', ')}` };
   if (issue.code === 'invalid_type' && valueAt(value, issue.path) === undefined) return { path, message: 'required' };
   return { path, message: issue.message };
 }
@@ -192,7 +202,11 @@ export function parseStackDesign(input: string | unknown, file = '<design>'): St
       const errors: ParseError[] = [];
       parseTree(text, errors, { disallowComments: true, allowTrailingComma: false });
       const where = errors.length ? lineColumn(text, errors[0].offset) : {};
-      const why = errors.length ? printParseErrorCode(errors[0].error).replace(/([a-z])([A-Z])/g, '$1 $2').toLowerCase() : (err as Error).message; // "ValueExpected" → "value expected"
+      const why = errors.length
+        ? printParseErrorCode(errors[0].error)
+            .replace(/([a-z])([A-Z])/g, '$1 $2')
+            .toLowerCase()
+        : (err as Error).message; // "ValueExpected" → "value expected"
       throw new InputError('design-json', `not JSON: ${why}`, { file, ...where });
     }
   }
@@ -205,7 +219,11 @@ export function parseStackDesign(input: string | unknown, file = '<design>'): St
   const sub = design.substrate;
   if (sub.incoherent === true && sub.thickness_mm === undefined) {
     const where = text !== null ? locate(text, ['substrate', 'incoherent']) : null;
-    throw new InputError('design-format', 'substrate.incoherent: an incoherent substrate needs thickness_mm (its absorption depends on it)', { file, ...(where ?? {}), field: 'substrate.incoherent' });
+    throw new InputError('design-format', 'substrate.incoherent: an incoherent substrate needs thickness_mm (its absorption depends on it)', {
+      file,
+      ...(where ?? {}),
+      field: 'substrate.incoherent',
+    });
   }
   return design;
 }

@@ -13,7 +13,11 @@ export function renderStackPlot(report: StackReport): string {
     const strips = report.results.map((r) => {
       const rows = r.sweep!.rows;
       const scale = 100 / Math.max(1e-9, ...rows.map((row) => row.reflected.Y));
-      return { label: `${r.angle_deg}°`, x: rows.map((row) => row.thickness_nm), colours: rows.map((row) => srgbOf(row.reflected.X * scale, row.reflected.Y * scale, row.reflected.Z * scale).hex) };
+      return {
+        label: `${r.angle_deg}°`,
+        x: rows.map((row) => row.thickness_nm),
+        colours: rows.map((row) => srgbOf(row.reflected.X * scale, row.reflected.Y * scale, row.reflected.Z * scale).hex),
+      };
     });
     return renderColourStrips({
       title: `${name}: reflected colour (D65, 2°)`,
@@ -35,8 +39,16 @@ export function renderStackPlot(report: StackReport): string {
     xLabel: 'wavelength (nm)',
     panels: [
       { yLabel: 'R, T, A (%)', series: rta },
-      { yLabel: 'Ψ (°)', relativeHeight: 0.6, series: report.results.map((r) => ({ label: tag('Ψ', r.angle_deg), x: r.wavelength_nm, y: r.psi_deg, style: 'line' as const })) },
-      { yLabel: 'Δ (°)', relativeHeight: 0.6, series: report.results.map((r) => ({ label: tag('Δ', r.angle_deg), x: r.wavelength_nm, y: r.delta_deg, style: 'line' as const })) },
+      {
+        yLabel: 'Ψ (°)',
+        relativeHeight: 0.6,
+        series: report.results.map((r) => ({ label: tag('Ψ', r.angle_deg), x: r.wavelength_nm, y: r.psi_deg, style: 'line' as const })),
+      },
+      {
+        yLabel: 'Δ (°)',
+        relativeHeight: 0.6,
+        series: report.results.map((r) => ({ label: tag('Δ', r.angle_deg), x: r.wavelength_nm, y: r.delta_deg, style: 'line' as const })),
+      },
     ],
   });
 }

@@ -64,21 +64,32 @@ export function parseStackOptions(
   wavelengthNm: number[],
   names: { angle: string; polarization: string; sweep: string } = { angle: '--angle', polarization: '--polarization', sweep: '--sweep' },
 ): StackOptions {
-  const anglesDeg = (text.angle ?? '0').split(',').map((a) =>
-    parseOptionNumber(a.trim(), names.angle, { min: 0, max: 89.999999, hint: 'degrees of incidence in the ambient, 0 ≤ θ < 90' }),
-  );
+  const anglesDeg = (text.angle ?? '0')
+    .split(',')
+    .map((a) => parseOptionNumber(a.trim(), names.angle, { min: 0, max: 89.999999, hint: 'degrees of incidence in the ambient, 0 ≤ θ < 90' }));
   if (anglesDeg.length > MAX_ANGLES) throw new InputError('bad-option', `${names.angle}: at most ${MAX_ANGLES} angles`, { field: names.angle });
   const polarization = (text.polarization ?? 'unpolarized') as StackPolarization;
   if (!STACK_POLARIZATIONS.includes(polarization)) {
-    throw new InputError('bad-option', `${names.polarization}: "${text.polarization}" is not one of ${STACK_POLARIZATIONS.join(', ')}`, { field: names.polarization });
+    throw new InputError('bad-option', `${names.polarization}: "${text.polarization}" is not one of ${STACK_POLARIZATIONS.join(', ')}`, {
+      field: names.polarization,
+    });
   }
   if (wavelengthNm.some((w) => !(w > 0))) throw new InputError('bad-option', 'wavelengths must be positive (nm)', { field: 'at' });
-  return { wavelengthNm, anglesDeg, polarization, extrapolate: text.extrapolate ?? false, sweep: text.sweep === undefined ? null : parseSweep(text.sweep, names.sweep) };
+  return {
+    wavelengthNm,
+    anglesDeg,
+    polarization,
+    extrapolate: text.extrapolate ?? false,
+    sweep: text.sweep === undefined ? null : parseSweep(text.sweep, names.sweep),
+  };
 }
 
 function parseSweep(text: string, name: string): StackSweep {
   const m = /^\s*(\d+)\s*=\s*([^:]+):([^:]+):([^:]+)\s*$/.exec(text);
-  if (!m) throw new InputError('bad-option', `${name}: "${text}" is not LAYER=START:STOP:STEP (layer number from 1, thickness in nm), e.g. 1=0:600:5`, { field: name });
+  if (!m)
+    throw new InputError('bad-option', `${name}: "${text}" is not LAYER=START:STOP:STEP (layer number from 1, thickness in nm), e.g. 1=0:600:5`, {
+      field: name,
+    });
   const layer = parseOptionNumber(m[1], `${name} layer`, { integer: true, min: 1 });
   const startNm = parseOptionNumber(m[2], `${name} start`, { min: 0 });
   const stopNm = parseOptionNumber(m[3], `${name} stop`, { min: startNm, hint: 'stop ≥ start' });
@@ -163,7 +174,9 @@ interface Slot {
 function withParts(slot: Slot): Slot[] {
   const src = slot.source;
   if (!('mix' in src)) return [slot];
-  const parts = src.materials.map((source, i): Slot => ({ role: `${slot.role}, ${src.mix} part ${i + 1}`, path: [...slot.path, 'materials', i], source })) as [Slot, Slot];
+  const parts = src.materials.map(
+    (source, i): Slot => ({ role: `${slot.role}, ${src.mix} part ${i + 1}`, path: [...slot.path, 'materials', i], source }),
+  ) as [Slot, Slot];
   slot.parts = parts;
   return [slot, ...parts.flatMap(withParts)];
 }
@@ -174,7 +187,11 @@ export async function resolveStackDesign(design: StackDesign, ctx: ResolveContex
     ...design.layers.map((l, i) => ({ role: `layer ${i + 1}`, path: ['layers', i, 'material'], source: l.material })),
     { role: 'substrate', path: ['substrate', 'material'], source: design.substrate.material },
   ];
-  const where = (path: Array<string | number>, extra: string[] = []) => ({ file: ctx.designFile, ...locateField(ctx.designText, [...path, ...extra]), field: [...path, ...extra].join('.') });
+  const where = (path: Array<string | number>, extra: string[] = []) => ({
+    file: ctx.designFile,
+    ...locateField(ctx.designText, [...path, ...extra]),
+    field: [...path, ...extra].join('.'),
+  });
   const notices: string[] = [];
   const warnings: string[] = [];
   const resolved = new Map<Slot, ResolvedMaterial>();
@@ -185,7 +202,11 @@ export async function resolveStackDesign(design: StackDesign, ctx: ResolveContex
     const src = slot.source;
     if ('file' in src) {
       if (!ctx.allowFiles) {
-        throw new InputError('stack-file-source', `${slot.role}: {"file": …} sources are refused here (the server's disk is not the client's); use a registry ref, constant n, k or a model`, where(slot.path, ['file']));
+        throw new InputError(
+          'stack-file-source',
+          `${slot.role}: {"file": …} sources are refused here (the server's disk is not the client's); use a registry ref, constant n, k or a model`,
+          where(slot.path, ['file']),
+        );
       }
       const baseDir = ctx.designFile === '<stdin>' || ctx.designFile === '-' ? process.cwd() : dirname(resolvePath(ctx.designFile));
       const path = resolvePath(baseDir, src.file);
@@ -198,12 +219,36 @@ export async function resolveStackDesign(design: StackDesign, ctx: ResolveContex
       }
       const imported = parseNkTable(bytes, { file: src.file });
       warnings.push(...imported.warnings.map((w) => `${slot.role} (${src.file}): ${w}`));
-      resolved.set(slot, { ...base, source: 'file', ref: src.file, sha256: createHash('sha256').update(bytes).digest('hex'), status: null, describe: 'measured table', table: imported.table });
+      resolved.set(slot, {
+        ...base,
+        source: 'file',
+        ref: src.file,
+        sha256: createHash('sha256').update(bytes).digest('hex'),
+        status: null,
+        describe: 'measured table',
+        table: imported.table,
+      });
     } else if ('n' in src) {
       const k = src.k ?? 0;
-      resolved.set(slot, { ...base, source: 'constant', ref: null, sha256: null, status: null, describe: `n = ${src.n}, k = ${k}`, constant: { n: src.n, k } });
+      resolved.set(slot, {
+        ...base,
+        source: 'constant',
+        ref: null,
+        sha256: null,
+        status: null,
+        describe: `n = ${src.n}, k = ${k}`,
+        constant: { n: src.n, k },
+      });
     } else if ('model' in src) {
-      resolved.set(slot, { ...base, source: 'model', ref: null, sha256: null, status: null, describe: `${src.model} model`, model: resolveModelSource(src, slot.role, where(slot.path, ['parameters'])) });
+      resolved.set(slot, {
+        ...base,
+        source: 'model',
+        ref: null,
+        sha256: null,
+        status: null,
+        describe: `${src.model} model`,
+        model: resolveModelSource(src, slot.role, where(slot.path, ['parameters'])),
+      });
     }
   }
 
@@ -232,7 +277,16 @@ export async function resolveStackDesign(design: StackDesign, ctx: ResolveContex
         notices.push(...loaded.notices.map((n) => `${slot.role}: ${n}`));
         warnings.push(...loaded.warnings.map((w) => `${slot.role}: ${w}`));
         const describe = loaded.content!.fit ? `fitted ${loaded.content!.fit.model} model` : 'measured table';
-        resolved.set(slot, { role: slot.role, field: slot.path.join('.'), source: 'registry', ref: origin.ref, sha256: origin.sha256, status: origin.status, describe, content: loaded.content! });
+        resolved.set(slot, {
+          role: slot.role,
+          field: slot.path.join('.'),
+          source: 'registry',
+          ref: origin.ref,
+          sha256: origin.sha256,
+          status: origin.status,
+          describe,
+          content: loaded.content!,
+        });
       }
     };
     if (ctx.registry) useRegistry(ctx.registry);
@@ -242,7 +296,10 @@ export async function resolveStackDesign(design: StackDesign, ctx: ResolveContex
         withExistingRegistry(refs, ctx.db, useRegistry);
       } catch (err) {
         if (!(err instanceof NotFoundError && err.rule === 'source-not-found')) throw err;
-        throw new NotFoundError(`the design names registry versions (${refs}) but there is no registry database to look them up in (give --db PATH or set NKLEDGER_DB)`, 'registry-missing');
+        throw new NotFoundError(
+          `the design names registry versions (${refs}) but there is no registry database to look them up in (give --db PATH or set NKLEDGER_DB)`,
+          'registry-missing',
+        );
       }
     }
   }
@@ -252,11 +309,21 @@ export async function resolveStackDesign(design: StackDesign, ctx: ResolveContex
     if (!('mix' in src)) return resolved.get(slot)!;
     const parts = slot.parts!.map(get) as [ResolvedMaterial, ResolvedMaterial];
     const describe = `${src.mix} mixture: ${src.fraction} of ${parts[1].ref ?? parts[1].describe} in ${parts[0].ref ?? parts[0].describe}`;
-    return { role: slot.role, field: slot.path.join('.'), source: 'mix', ref: null, sha256: null, status: null, describe, mix: { rule: src.mix, fraction: src.fraction, materials: parts } };
+    return {
+      role: slot.role,
+      field: slot.path.join('.'),
+      source: 'mix',
+      ref: null,
+      sha256: null,
+      status: null,
+      describe,
+      mix: { rule: src.mix, fraction: src.fraction, materials: parts },
+    };
   };
   const sub = design.substrate;
   const incoherent = sub.incoherent ?? sub.thickness_mm !== undefined;
-  if (!incoherent && sub.thickness_mm !== undefined) notices.push('substrate: incoherent is false, so it is semi-infinite and thickness_mm is not used (no back surface)');
+  if (!incoherent && sub.thickness_mm !== undefined)
+    notices.push('substrate: incoherent is false, so it is semi-infinite and thickness_mm is not used (no back surface)');
   return {
     name: design.name ?? null,
     notes: design.notes ?? null,
@@ -270,17 +337,30 @@ export async function resolveStackDesign(design: StackDesign, ctx: ResolveContex
 }
 
 /** A design ref read through the lockfile: the locked version of its material, refused when the two disagree. */
-function throughLock(text: string, lock: { lockfile: Lockfile; file: string }, role: string, at: ReturnType<typeof locateField> & { file: string }): { ref: string; lockedSha: string } {
+function throughLock(
+  text: string,
+  lock: { lockfile: Lockfile; file: string },
+  role: string,
+  at: ReturnType<typeof locateField> & { file: string },
+): { ref: string; lockedSha: string } {
   const parsed = parseRef(text);
   const entry = lock.lockfile.materials[parsed.slug];
   if (!entry) {
-    throw new InputError('stack-lock-missing', `${role}: ${parsed.slug} is not in the lockfile ${lock.file} (pin it with \`nkledger lock add ${text} --lock ${lock.file}\`)`, at);
+    throw new InputError(
+      'stack-lock-missing',
+      `${role}: ${parsed.slug} is not in the lockfile ${lock.file} (pin it with \`nkledger lock add ${text} --lock ${lock.file}\`)`,
+      at,
+    );
   }
   const pinned = formatRef(parsed.slug, entry.version);
   const disagree =
     (parsed.kind === 'number' && parsed.version !== entry.version) || (parsed.kind === 'hash' && !entry.sha256.startsWith(parsed.hashPrefix));
   if (disagree) {
-    throw new InputError('stack-lock-disagrees', `${role}: the design names ${text}, the lockfile ${lock.file} pins ${pinned} (sha256 ${entry.sha256.slice(0, 12)}…)`, at);
+    throw new InputError(
+      'stack-lock-disagrees',
+      `${role}: the design names ${text}, the lockfile ${lock.file} pins ${pinned} (sha256 ${entry.sha256.slice(0, 12)}…)`,
+      at,
+    );
   }
   return { ref: pinned, lockedSha: entry.sha256 };
 }
@@ -302,7 +382,8 @@ function resolveModelSource(
         model = buildModel(src.model, { terms, urbach });
       } catch (err) {
         if (!(err instanceof InputError)) throw err;
-        if (err.rule === 'unknown-model' || err.rule === 'duplicate-model-term' || err.rule === 'model-not-summable') throw new InputError(err.rule, `${role}: ${err.message}`, at);
+        if (err.rule === 'unknown-model' || err.rule === 'duplicate-model-term' || err.rule === 'model-not-summable')
+          throw new InputError(err.rule, `${role}: ${err.message}`, at);
         first ??= { names: [], error: err };
         continue;
       }
@@ -352,8 +433,21 @@ export interface StackResult {
 }
 
 export interface StackReport {
-  design: { name: string | null; notes: string | null; file: string | null; layers: number; substrate: { thickness_mm: number | null; incoherent: boolean } };
-  materials: Array<{ role: string; source: ResolvedMaterial['source']; ref: string | null; sha256: string | null; status: VersionStatus | null; describe: string }>;
+  design: {
+    name: string | null;
+    notes: string | null;
+    file: string | null;
+    layers: number;
+    substrate: { thickness_mm: number | null; incoherent: boolean };
+  };
+  materials: Array<{
+    role: string;
+    source: ResolvedMaterial['source'];
+    ref: string | null;
+    sha256: string | null;
+    status: VersionStatus | null;
+    describe: string;
+  }>;
   options: { polarization: StackPolarization; extrapolate: boolean; angles_deg: number[]; colour_grid_nm: [number, number, number] };
   notes: string[];
   notices: string[];
@@ -370,7 +464,11 @@ function materialNk(m: ResolvedMaterial, wl: number[], extrapolate: boolean, pur
   const refuse = (range: [number, number], what: string, hint: string) => {
     const outside = wl.find((w) => w < range[0] * (1 - 1e-12) || w > range[1] * (1 + 1e-12));
     if (outside !== undefined) {
-      throw new OutOfRange('stack-out-of-range', `${m.role} (${m.ref ?? m.describe}) ${what} ${range[0]}–${range[1]} nm; ${outside} nm is outside it (${purpose})${hint}`, { field: m.field });
+      throw new OutOfRange(
+        'stack-out-of-range',
+        `${m.role} (${m.ref ?? m.describe}) ${what} ${range[0]}–${range[1]} nm; ${outside} nm is outside it (${purpose})${hint}`,
+        { field: m.field },
+      );
     }
   };
   if (m.mix) {
@@ -386,12 +484,20 @@ function materialNk(m: ResolvedMaterial, wl: number[], extrapolate: boolean, pur
     ({ n, k } = evaluateFitReport(m.content.fit as unknown as FitReport, wl));
   } else {
     const table = (m.table ?? m.content!.table)!;
-    refuse([table.wavelengthNm[0], table.wavelengthNm[table.wavelengthNm.length - 1]], 'is a measured table over', '; a table is never extrapolated: fit a model to it');
+    refuse(
+      [table.wavelengthNm[0], table.wavelengthNm[table.wavelengthNm.length - 1]],
+      'is a measured table over',
+      '; a table is never extrapolated: fit a model to it',
+    );
     ({ n, k } = evaluateTable(table, wl, 'linear'));
   }
   for (let i = 0; i < size; i++) {
     if (!Number.isFinite(n[i]) || !Number.isFinite(k[i]) || n[i] < 0 || k[i] < 0) {
-      throw new InputError('stack-nk-invalid', `${m.role} (${m.ref ?? m.describe}) gives n = ${n[i]}, k = ${k[i]} at ${wl[i]} nm: a stack needs finite n ≥ 0 and k ≥ 0`, { field: m.field });
+      throw new InputError(
+        'stack-nk-invalid',
+        `${m.role} (${m.ref ?? m.describe}) gives n = ${n[i]}, k = ${k[i]} at ${wl[i]} nm: a stack needs finite n ≥ 0 and k ≥ 0`,
+        { field: m.field },
+      );
     }
   }
   return { n: Float64Array.from(n), k: Float64Array.from(k) };
@@ -400,7 +506,8 @@ function materialNk(m: ResolvedMaterial, wl: number[], extrapolate: boolean, pur
 /** n, k of a mixture: each part on the grid, mixed as permittivities ε = (n + ik)², k ≥ 0 (see src/stack/effective-medium.ts). */
 function mixNk(mix: NonNullable<ResolvedMaterial['mix']>, wl: number[], extrapolate: boolean, purpose: string): { n: number[]; k: number[] } {
   const [a, b] = mix.materials.map((p) => materialNk(p, wl, extrapolate, purpose));
-  const n: number[] = [], k: number[] = [];
+  const n: number[] = [],
+    k: number[] = [];
   for (let i = 0; i < wl.length; i++) {
     const ea = epsFromNk(a.n[i], a.k[i]);
     const eb = epsFromNk(b.n[i], b.k[i]);
@@ -423,11 +530,19 @@ function mediaOn(design: ResolvedDesign, wl: number[], extrapolate: boolean, pur
   const ambient = materialNk(design.ambient, wl, extrapolate, purpose);
   const absorbing = Array.from(ambient.k).findIndex((k) => k !== 0);
   if (absorbing >= 0) {
-    throw new InputError('stack-ambient-absorbing', `the ambient (${design.ambient.ref ?? design.ambient.describe}) has k = ${ambient.k[absorbing]} at ${wl[absorbing]} nm: R and T need a lossless ambient (k = 0)`, {
-      field: design.ambient.field,
-    });
+    throw new InputError(
+      'stack-ambient-absorbing',
+      `the ambient (${design.ambient.ref ?? design.ambient.describe}) has k = ${ambient.k[absorbing]} at ${wl[absorbing]} nm: R and T need a lossless ambient (k = 0)`,
+      {
+        field: design.ambient.field,
+      },
+    );
   }
-  return { ambient, layers: design.layers.map((l) => materialNk(l.material, wl, extrapolate, purpose)), substrate: materialNk(design.substrate.material, wl, extrapolate, purpose) };
+  return {
+    ambient,
+    layers: design.layers.map((l) => materialNk(l.material, wl, extrapolate, purpose)),
+    substrate: materialNk(design.substrate.material, wl, extrapolate, purpose),
+  };
 }
 
 function solve(design: ResolvedDesign, media: Media, wl: number[], angle: number, thicknessOverride?: { index: number; nm: number }): StackSpectra {
@@ -435,7 +550,10 @@ function solve(design: ResolvedDesign, media: Media, wl: number[], angle: number
     {
       wavelengthNm: wl,
       ambient: media.ambient,
-      layers: media.layers.map((m, i) => ({ ...m, thicknessNm: thicknessOverride?.index === i ? thicknessOverride.nm : design.layers[i].thickness_nm })),
+      layers: media.layers.map((m, i) => ({
+        ...m,
+        thicknessNm: thicknessOverride?.index === i ? thicknessOverride.nm : design.layers[i].thickness_nm,
+      })),
       substrate: media.substrate,
       incoherentSubstrateMm: design.substrate.incoherent ? (design.substrate.thickness_mm ?? undefined) : undefined,
     },
@@ -465,7 +583,11 @@ export function computeStack(design: ResolvedDesign, options: StackOptions, cie:
   const warnings = [...design.warnings];
   const notes: string[] = [];
   if (options.sweep && options.sweep.layer > design.layers.length) {
-    throw new InputError('bad-option', `sweep layer ${options.sweep.layer}: the design has ${design.layers.length} layer${design.layers.length === 1 ? '' : 's'} (numbered from 1 on the ambient side)`, { field: 'sweep' });
+    throw new InputError(
+      'bad-option',
+      `sweep layer ${options.sweep.layer}: the design has ${design.layers.length} layer${design.layers.length === 1 ? '' : 's'} (numbered from 1 on the ambient side)`,
+      { field: 'sweep' },
+    );
   }
   const media = mediaOn(design, wl, options.extrapolate, 'asked wavelengths');
   const colourGrid = [...COLOUR_GRID_NM];
@@ -507,7 +629,10 @@ export function computeStack(design: ResolvedDesign, options: StackOptions, cie:
       result.sweep = {
         layer: options.sweep.layer,
         layer_role: `layer ${options.sweep.layer} (${design.layers[index].material.ref ?? design.layers[index].material.describe})`,
-        rows: sweepThicknesses(options.sweep).map((nm) => ({ thickness_nm: nm, ...colourPair(solve(design, colourMedia!, colourGrid, angle, { index, nm }), options.polarization, cie) })),
+        rows: sweepThicknesses(options.sweep).map((nm) => ({
+          thickness_nm: nm,
+          ...colourPair(solve(design, colourMedia!, colourGrid, angle, { index, nm }), options.polarization, cie),
+        })),
       };
     }
     return result;
@@ -522,7 +647,9 @@ export function computeStack(design: ResolvedDesign, options: StackOptions, cie:
       layers: design.layers.length,
       substrate: { thickness_mm: design.substrate.thickness_mm, incoherent: design.substrate.incoherent },
     },
-    materials: all.flatMap(withMixParts).map((m) => ({ role: m.role, source: m.source, ref: m.ref, sha256: m.sha256, status: m.status, describe: m.describe })),
+    materials: all
+      .flatMap(withMixParts)
+      .map((m) => ({ role: m.role, source: m.source, ref: m.ref, sha256: m.sha256, status: m.status, describe: m.describe })),
     options: { polarization: options.polarization, extrapolate: options.extrapolate, angles_deg: options.anglesDeg, colour_grid_nm: [380, 780, 5] },
     notes,
     notices: design.notices,

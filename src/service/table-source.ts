@@ -70,7 +70,10 @@ export async function loadTableOrVersion(source: string, options: SourceOptions 
   }
   const loaded = options.registry ? loadVersion(options.registry, source) : withExistingRegistry(source, options.db, (r) => loadVersion(r, source));
   const flags = Object.keys(importOptions).filter((k) => k !== 'file');
-  if (flags.length) loaded.notices.push(`the input flags (${flags.join(', ')}) read files; ${loaded.detected.source === 'registry' ? loaded.detected.ref : source} is a stored version, so they were ignored`);
+  if (flags.length)
+    loaded.notices.push(
+      `the input flags (${flags.join(', ')}) read files; ${loaded.detected.source === 'registry' ? loaded.detected.ref : source} is a stored version, so they were ignored`,
+    );
   return loaded;
 }
 
@@ -93,7 +96,10 @@ export function loadVersion(registry: Registry, source: string): LoadedSource {
   } catch (err) {
     // A bare word that is neither a file nor a material is most likely a mistyped file name: say both.
     if (err instanceof NotFoundError && err.rule === 'material-unknown' && parseRef(source).kind === 'latest') {
-      throw new NotFoundError(`no file "${source}" and no material "${source}" in the registry ${registry.path} (see \`nkledger list\`)`, 'source-not-found');
+      throw new NotFoundError(
+        `no file "${source}" and no material "${source}" in the registry ${registry.path} (see \`nkledger list\`)`,
+        'source-not-found',
+      );
     }
     throw err;
   }
@@ -102,7 +108,14 @@ export function loadVersion(registry: Registry, source: string): LoadedSource {
   return {
     table: content.table,
     content,
-    detected: { source: 'registry', ref: pin.ref, sha256: pin.sha256, status: pin.status, model: content.fit?.model ?? null, has_table: content.table !== null },
+    detected: {
+      source: 'registry',
+      ref: pin.ref,
+      sha256: pin.sha256,
+      status: pin.status,
+      model: content.fit?.model ?? null,
+      has_table: content.table !== null,
+    },
     warnings: [...pin.warnings],
     notices: [...pin.notices],
     kAbsent: provenanceOf(row).absent_columns?.includes('k') ?? false,

@@ -97,9 +97,7 @@ export function listTokens(registry: Registry, options: { activeOnly?: boolean }
 /** Revoke a token by id. Revoking twice is refused (409) so a typo'd id is noticed. */
 export function revokeToken(registry: Registry, id: string, actor: string): TokenInfo {
   const revokedBy = checkActor(actor);
-  const row = registry.db.select().from(apiTokens).where(eq(apiTokens.id, id)).get() as
-    | typeof apiTokens.$inferSelect
-    | undefined;
+  const row = registry.db.select().from(apiTokens).where(eq(apiTokens.id, id)).get() as typeof apiTokens.$inferSelect | undefined;
   if (!row) throw new NotFoundError(`no token with id "${id}" (see \`nkledger token list\`)`, 'token-not-found');
   if (row.revokedAt) throw new ConflictError(`token ${id} was already revoked at ${row.revokedAt} by ${row.revokedBy}`, 'token-revoked');
   const revokedAt = nowIso();

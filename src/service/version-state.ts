@@ -14,8 +14,7 @@ import type { Statement } from 'better-sqlite3';
 import type { Registry } from '../registry/open.ts';
 import type { VersionStatus } from '../registry/types.ts';
 
-const STATUS_SQL =
-  'SELECT status FROM material_versions WHERE material_id = (SELECT id FROM materials WHERE slug = ?) AND number = ?';
+const STATUS_SQL = 'SELECT status FROM material_versions WHERE material_id = (SELECT id FROM materials WHERE slug = ?) AND number = ?';
 
 const prepared = new WeakMap<Registry, Statement<[string, number], { status: VersionStatus }>>();
 

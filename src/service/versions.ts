@@ -183,7 +183,15 @@ export function resolveRow(registry: Registry, ref: string): { material: Materia
   return {
     material,
     row,
-    resolved: { ref: pin, slug: material.slug, version: row.number, status: row.status, sha256: row.sha256, notices, warnings: statusWarnings(pin, row) },
+    resolved: {
+      ref: pin,
+      slug: material.slug,
+      version: row.number,
+      status: row.status,
+      sha256: row.sha256,
+      notices,
+      warnings: statusWarnings(pin, row),
+    },
   };
 }
 
@@ -219,9 +227,13 @@ function byHashPrefix(registry: Registry, material: MaterialRow, prefix: string)
 export function statusWarnings(pin: string, row: VersionRow): string[] {
   switch (row.status) {
     case 'retired':
-      return [`${pin} is retired (${row.retiredAt} by ${row.retiredBy}: ${row.retireReason}); it still resolves, but check for a newer approved version`];
+      return [
+        `${pin} is retired (${row.retiredAt} by ${row.retiredBy}: ${row.retireReason}); it still resolves, but check for a newer approved version`,
+      ];
     case 'withdrawn':
-      return [`${pin} was withdrawn (${row.withdrawnAt} by ${row.withdrawnBy}${row.withdrawReason ? `: ${row.withdrawReason}` : ''}); nobody should use it`];
+      return [
+        `${pin} was withdrawn (${row.withdrawnAt} by ${row.withdrawnBy}${row.withdrawReason ? `: ${row.withdrawReason}` : ''}); nobody should use it`,
+      ];
     case 'draft':
       return [`${pin} is a draft that nobody has approved yet`];
     default:

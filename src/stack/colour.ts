@@ -45,8 +45,12 @@ const GAMUT_SLACK = 1e-3;
 
 /** XYZ of a spectrum (fractions 0–1 on COLOUR_GRID_NM) under D65. */
 export function tristimulus(spectrum: ArrayLike<number>, cie: CieTables): { X: number; Y: number; Z: number } {
-  if (spectrum.length !== COLOUR_GRID_NM.length) throw new RangeError(`a colour needs the spectrum on ${COLOUR_GRID_NM.length} wavelengths (380–780 nm at 5 nm)`);
-  let X = 0, Y = 0, Z = 0, norm = 0;
+  if (spectrum.length !== COLOUR_GRID_NM.length)
+    throw new RangeError(`a colour needs the spectrum on ${COLOUR_GRID_NM.length} wavelengths (380–780 nm at 5 nm)`);
+  let X = 0,
+    Y = 0,
+    Z = 0,
+    norm = 0;
   for (let i = 0; i < spectrum.length; i++) {
     const s = cie.d65[i];
     X += s * spectrum[i] * cie.xbar[i];
@@ -73,7 +77,13 @@ function encode(linear: number): number {
 /** sRGB of XYZ (white Y = 100): the clipped #rrggbb and whether it was inside the gamut. */
 export function srgbOf(X: number, Y: number, Z: number): { hex: string; inGamut: boolean } {
   const linear = XYZ_TO_SRGB.map((row) => (row[0] * X + row[1] * Y + row[2] * Z) / 100);
-  const hex = linear.map((c) => Math.round(encode(c) * 255).toString(16).padStart(2, '0')).join('');
+  const hex = linear
+    .map((c) =>
+      Math.round(encode(c) * 255)
+        .toString(16)
+        .padStart(2, '0'),
+    )
+    .join('');
   return { hex: `#${hex}`, inGamut: linear.every((c) => c >= -GAMUT_SLACK && c <= 1 + GAMUT_SLACK) };
 }
 
@@ -82,7 +92,9 @@ export function colourOf(spectrum: ArrayLike<number>, cie: CieTables): Colour {
   const { X, Y, Z } = tristimulus(spectrum, cie);
   const white = tristimulus(new Array<number>(COLOUR_GRID_NM.length).fill(1), cie);
   const sum = X + Y + Z;
-  const fx = labF(X / white.X), fy = labF(Y / white.Y), fz = labF(Z / white.Z);
+  const fx = labF(X / white.X),
+    fy = labF(Y / white.Y),
+    fz = labF(Z / white.Z);
   const srgb = srgbOf(X, Y, Z);
   return {
     X,

@@ -96,8 +96,14 @@ export function solveStack(problem: StackProblem, angleDeg: number): StackSpectr
     deltaDeg: new Float64Array(count),
   };
   // Per-layer scratch for one wavelength: cos δ, sin δ, η_s, η_p (re, im), reused by the backward pass.
-  const cRe = new Float64Array(L), cIm = new Float64Array(L), sRe = new Float64Array(L), sIm = new Float64Array(L);
-  const esRe = new Float64Array(L), esIm = new Float64Array(L), epRe = new Float64Array(L), epIm = new Float64Array(L);
+  const cRe = new Float64Array(L),
+    cIm = new Float64Array(L),
+    sRe = new Float64Array(L),
+    sIm = new Float64Array(L);
+  const esRe = new Float64Array(L),
+    esIm = new Float64Array(L),
+    epRe = new Float64Array(L),
+    epIm = new Float64Array(L);
   // [B, C] as (re, im, re, im), and a square root, written in place: no allocation in the inner loops.
   const v = new Float64Array(4);
   const root = new Float64Array(2);
@@ -115,27 +121,37 @@ export function solveStack(problem: StackProblem, angleDeg: number): StackSpectr
 
     for (let j = 0; j < L; j++) {
       const layer = layers[j];
-      const n = layer.n[i], k = -layer.k[i]; // N = n − ik: imaginary part −k
+      const n = layer.n[i],
+        k = -layer.k[i]; // N = n − ik: imaginary part −k
       // N² = n² − k² + 2i·n·(−k)
-      const n2Re = n * n - k * k, n2Im = 2 * n * k;
+      const n2Re = n * n - k * k,
+        n2Im = 2 * n * k;
       physicalSqrtInto(n2Re - a2, n2Im, root);
-      const qRe = root[0], qIm = root[1];
+      const qRe = root[0],
+        qIm = root[1];
       // δ = 2π q d / λ
       const f = (2 * Math.PI * layer.thicknessNm) / lambda;
-      const dRe = f * qRe, dIm = f * qIm;
+      const dRe = f * qRe,
+        dIm = f * qIm;
       // An opaque layer (|Im δ| > 300: under e^{−600} ≈ 1e-261 in power) keeps its cos δ : sin δ ratio at the cap, so r is
       // right; T comes out at most 1e-261 (0 behind two such layers), instead of ∞/∞.
-      let ch = 1, sh = 0; // a lossless, propagating layer: real δ, no exponential needed
+      let ch = 1,
+        sh = 0; // a lossless, propagating layer: real δ, no exponential needed
       if (dIm !== 0) {
-        const ex = Math.exp(Math.max(-MAX_DECAY, Math.min(MAX_DECAY, dIm))), exi = 1 / ex;
+        const ex = Math.exp(Math.max(-MAX_DECAY, Math.min(MAX_DECAY, dIm))),
+          exi = 1 / ex;
         ch = 0.5 * (ex + exi);
         sh = 0.5 * (ex - exi);
       }
-      const cr = Math.cos(dRe), sr = Math.sin(dRe);
+      const cr = Math.cos(dRe),
+        sr = Math.sin(dRe);
       // cos(x+iy) = cos x cosh y − i sin x sinh y; sin(x+iy) = sin x cosh y + i cos x sinh y
-      cRe[j] = cr * ch; cIm[j] = -sr * sh;
-      sRe[j] = sr * ch; sIm[j] = cr * sh;
-      esRe[j] = qRe; esIm[j] = qIm;
+      cRe[j] = cr * ch;
+      cIm[j] = -sr * sh;
+      sRe[j] = sr * ch;
+      sIm[j] = cr * sh;
+      esRe[j] = qRe;
+      esIm[j] = qIm;
       // η_p = N²/q
       const qq = qRe * qRe + qIm * qIm;
       epRe[j] = (n2Re * qRe + n2Im * qIm) / qq;
@@ -143,10 +159,13 @@ export function solveStack(problem: StackProblem, angleDeg: number): StackSpectr
     }
 
     // Substrate admittances.
-    const ns = substrate.n[i], ks = -substrate.k[i];
-    const ns2Re = ns * ns - ks * ks, ns2Im = 2 * ns * ks;
+    const ns = substrate.n[i],
+      ks = -substrate.k[i];
+    const ns2Re = ns * ns - ks * ks,
+      ns2Im = 2 * ns * ks;
     physicalSqrtInto(ns2Re - a2, ns2Im, root);
-    const qsRe = root[0], qsIm = root[1];
+    const qsRe = root[0],
+      qsIm = root[1];
     const qsq = qsRe * qsRe + qsIm * qsIm;
     const espRe = (ns2Re * qsRe + ns2Im * qsIm) / qsq;
     const espIm = (ns2Im * qsRe - ns2Re * qsIm) / qsq;
@@ -159,41 +178,60 @@ export function solveStack(problem: StackProblem, angleDeg: number): StackSpectr
       const eIm = pol === 0 ? esIm : epIm;
 
       // Forward: [B; C] = M1…ML [1; η_sub], applied from the substrate side.
-      v[0] = 1; v[1] = 0; v[2] = etaSubRe; v[3] = etaSubIm;
+      v[0] = 1;
+      v[1] = 0;
+      v[2] = etaSubRe;
+      v[3] = etaSubIm;
       let shrink = 1; // how much [B; C] was scaled down on the way (several opaque layers)
       for (let j = L - 1; j >= 0; j--) {
         applyLayer(v, cRe[j], cIm[j], sRe[j], sIm[j], eRe[j], eIm[j]);
         shrink *= rescale(v);
       }
-      const bRe = v[0], bIm = v[1], cr = v[2], ci = v[3];
+      const bRe = v[0],
+        bIm = v[1],
+        cr = v[2],
+        ci = v[3];
       // r = (η0B − C)/(η0B + C), η0 real
-      const numRe = eta0 * bRe - cr, numIm = eta0 * bIm - ci;
-      const denRe = eta0 * bRe + cr, denIm = eta0 * bIm + ci;
+      const numRe = eta0 * bRe - cr,
+        numIm = eta0 * bIm - ci;
+      const denRe = eta0 * bRe + cr,
+        denIm = eta0 * bIm + ci;
       const den2 = denRe * denRe + denIm * denIm;
       const rRe = (numRe * denRe + numIm * denIm) / den2;
       const rIm = (numIm * denRe - numRe * denIm) / den2;
       const Rf = rRe * rRe + rIm * rIm;
       const Tf = ((4 * eta0 * etaSubRe) / den2) * shrink * shrink;
-      let R = Rf, T = Tf;
+      let R = Rf,
+        T = Tf;
 
       if (dSub >= 0) {
         // Backward through the coating, from inside the substrate out to the ambient: [B'; C'] = ML…M1 [1; η0].
-        v[0] = 1; v[1] = 0; v[2] = eta0; v[3] = 0;
+        v[0] = 1;
+        v[1] = 0;
+        v[2] = eta0;
+        v[3] = 0;
         let shrinkBack = 1;
         for (let j = 0; j < L; j++) {
           applyLayer(v, cRe[j], cIm[j], sRe[j], sIm[j], eRe[j], eIm[j]);
           shrinkBack *= rescale(v);
         }
-        const b2Re = v[0], b2Im = v[1], c2r = v[2], c2i = v[3];
+        const b2Re = v[0],
+          b2Im = v[1],
+          c2r = v[2],
+          c2i = v[3];
         // η_s B' (complex × complex)
-        const hbRe = etaSubRe * b2Re - etaSubIm * b2Im, hbIm = etaSubRe * b2Im + etaSubIm * b2Re;
-        const bnRe = hbRe - c2r, bnIm = hbIm - c2i;
-        const bdRe = hbRe + c2r, bdIm = hbIm + c2i;
+        const hbRe = etaSubRe * b2Re - etaSubIm * b2Im,
+          hbIm = etaSubRe * b2Im + etaSubIm * b2Re;
+        const bnRe = hbRe - c2r,
+          bnIm = hbIm - c2i;
+        const bdRe = hbRe + c2r,
+          bdIm = hbIm + c2i;
         const bd2 = bdRe * bdRe + bdIm * bdIm;
         const Rfb = (bnRe * bnRe + bnIm * bnIm) / bd2;
         const Tfb = ((4 * etaSubRe * eta0) / bd2) * shrinkBack * shrinkBack;
         // Bare back surface substrate → ambient.
-        const snRe = etaSubRe - eta0, sdRe = etaSubRe + eta0;
+        const snRe = etaSubRe - eta0,
+          sdRe = etaSubRe + eta0;
         const sd2 = sdRe * sdRe + etaSubIm * etaSubIm;
         const Rb = (snRe * snRe + etaSubIm * etaSubIm) / sd2;
         const Tb = (4 * etaSubRe * eta0) / sd2;
@@ -216,7 +254,10 @@ export function solveStack(problem: StackProblem, angleDeg: number): StackSpectr
       }
     }
     // ρ = rp/rs = tan Ψ e^{iΔ}
-    const rsRe = out.rsRe[i], rsIm = out.rsIm[i], rpRe = out.rpRe[i], rpIm = out.rpIm[i];
+    const rsRe = out.rsRe[i],
+      rsIm = out.rsIm[i],
+      rpRe = out.rpRe[i],
+      rpIm = out.rpIm[i];
     out.psiDeg[i] = Math.atan2(Math.hypot(rpRe, rpIm), Math.hypot(rsRe, rsIm)) / DEG;
     // arg(rp · conj(rs)) = arg(rp) − arg(rs)
     let delta = Math.atan2(rpIm * rsRe - rpRe * rsIm, rpRe * rsRe + rpIm * rsIm) / DEG;
@@ -239,7 +280,8 @@ export function physicalSqrt(re: number, im: number): [number, number] {
 
 function physicalSqrtInto(re: number, im: number, out: Float64Array): void {
   const mod = Math.sqrt(re * re + im * im); // not Math.hypot: several times slower in V8, and no overflow at optical magnitudes
-  let sr = 0, si = 0;
+  let sr = 0,
+    si = 0;
   if (mod !== 0) {
     if (re >= 0) {
       sr = Math.sqrt((mod + re) / 2);
@@ -267,14 +309,20 @@ function rescale(v: Float64Array): number {
 
 /** [B; C] ← [[cos δ, i sin δ/η], [iη sin δ, cos δ]] [B; C] (complex), in place in v = (B re, B im, C re, C im). */
 function applyLayer(v: Float64Array, cdRe: number, cdIm: number, sdRe: number, sdIm: number, eRe: number, eIm: number): void {
-  const bRe = v[0], bIm = v[1], cRe = v[2], cIm = v[3];
+  const bRe = v[0],
+    bIm = v[1],
+    cRe = v[2],
+    cIm = v[3];
   // i sin δ
-  const isRe = -sdIm, isIm = sdRe;
+  const isRe = -sdIm,
+    isIm = sdRe;
   // (i sin δ)/η
   const e2 = eRe * eRe + eIm * eIm;
-  const aRe = (isRe * eRe + isIm * eIm) / e2, aIm = (isIm * eRe - isRe * eIm) / e2;
+  const aRe = (isRe * eRe + isIm * eIm) / e2,
+    aIm = (isIm * eRe - isRe * eIm) / e2;
   // iη sin δ
-  const gRe = isRe * eRe - isIm * eIm, gIm = isRe * eIm + isIm * eRe;
+  const gRe = isRe * eRe - isIm * eIm,
+    gIm = isRe * eIm + isIm * eRe;
   v[0] = cdRe * bRe - cdIm * bIm + aRe * cRe - aIm * cIm;
   v[1] = cdRe * bIm + cdIm * bRe + aRe * cIm + aIm * cRe;
   v[2] = gRe * bRe - gIm * bIm + cdRe * cRe - cdIm * cIm;

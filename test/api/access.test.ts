@@ -31,7 +31,12 @@ function draft(h: ApiHarness): { slug: string; n: number } {
 }
 
 const WRITES: WriteCase[] = [
-  { name: 'create material', role: 'editor', success: 201, prepare: () => ({ path: '/api/v1/materials', init: json({ slug: `new-${++counter}`, name: 'New' }) }) },
+  {
+    name: 'create material',
+    role: 'editor',
+    success: 201,
+    prepare: () => ({ path: '/api/v1/materials', init: json({ slug: `new-${++counter}`, name: 'New' }) }),
+  },
   {
     name: 'edit material',
     role: 'editor',
@@ -85,9 +90,17 @@ const WRITES: WriteCase[] = [
     name: 'revoke token',
     role: 'admin',
     success: 200,
-    prepare: (h) => ({ path: `/api/v1/tokens/${createToken(h.registry, { user: 'victim', role: 'reader', createdBy: 'setup' }).id}/revoke`, init: { method: 'POST' } }),
+    prepare: (h) => ({
+      path: `/api/v1/tokens/${createToken(h.registry, { user: 'victim', role: 'reader', createdBy: 'setup' }).id}/revoke`,
+      init: { method: 'POST' },
+    }),
   },
-  { name: 'set setting', role: 'admin', success: 200, prepare: () => ({ path: '/api/v1/settings/max_nk_points', init: { ...json({ value: 5000 }), method: 'PUT' } }) },
+  {
+    name: 'set setting',
+    role: 'admin',
+    success: 200,
+    prepare: () => ({ path: '/api/v1/settings/max_nk_points', init: { ...json({ value: 5000 }), method: 'PUT' } }),
+  },
   { name: 'reset setting', role: 'admin', success: 200, prepare: () => ({ path: '/api/v1/settings/max_nk_points', init: { method: 'DELETE' } }) },
 ];
 

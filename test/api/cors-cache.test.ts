@@ -51,7 +51,11 @@ describe('CORS allow-list', () => {
   it('answers a preflight for an allowed origin with the methods and headers a design tool needs', async () => {
     const res = await h.request('/api/v1/materials/x/versions', {
       method: 'OPTIONS',
-      headers: { origin: 'https://design.example.org', 'access-control-request-method': 'POST', 'access-control-request-headers': 'authorization,content-type' },
+      headers: {
+        origin: 'https://design.example.org',
+        'access-control-request-method': 'POST',
+        'access-control-request-headers': 'authorization,content-type',
+      },
     });
     expect(res.status).toBe(204);
     expect(res.headers.get('access-control-allow-origin')).toBe('https://design.example.org');
@@ -68,7 +72,7 @@ describe('cached n,k answers', () => {
   });
   afterAll(() => h.stop());
 
-  it('shows a retirement made after the answer was cached, through the server\'s own registry handle (other processes: registry-changes.test.ts)', async () => {
+  it("shows a retirement made after the answer was cached, through the server's own registry handle (other processes: registry-changes.test.ts)", async () => {
     const path = '/api/v1/materials/glass/versions/1/nk?wavelengths_nm=500';
     const first = await (await h.request(path)).json();
     const second = await (await h.request(path)).json();

@@ -60,7 +60,11 @@ describe('demo registry', () => {
 
   it('wrote a lockfile whose verification warns about the retired pin', async () => {
     const lock = JSON.parse(readFileSync(summary.lockfile, 'utf8'));
-    const res = await fetch(`${server.url}/api/v1/locks/verify`, { method: 'POST', headers: { 'content-type': 'application/json' }, body: JSON.stringify(lock) });
+    const res = await fetch(`${server.url}/api/v1/locks/verify`, {
+      method: 'POST',
+      headers: { 'content-type': 'application/json' },
+      body: JSON.stringify(lock),
+    });
     const report = await res.json();
     expect(report).toMatchObject({ ok: true, warnings: 1, failures: 0 });
     expect(report.entries.find((e: { slug: string }) => e.slug === 'sinx-pecvd').outcome).toBe('retired');

@@ -20,10 +20,18 @@ describe('API: exports, units and extrapolation, material edit', () => {
 
   it('refuses µm numbers under a nm header as a problem document naming the field that fixes it', async () => {
     const before = snapshotCounts(h);
-    const res = await h.request('/api/v1/materials/film/versions', { ...csv('Sample: TA-0412\nWavelength (nm),n,k\n0.4,1.5,0\n0.5,1.5,0\n'), as: 'editor' });
+    const res = await h.request('/api/v1/materials/film/versions', {
+      ...csv('Sample: TA-0412\nWavelength (nm),n,k\n0.4,1.5,0\n0.5,1.5,0\n'),
+      as: 'editor',
+    });
     expect(res.status).toBe(400);
     const p = await res.json();
-    expect(p).toMatchObject({ rule: 'implausible-range', line: 3, column: 1, remedies: [{ option: 'input_unit', value: 'um' }, { option: 'allow_any_range' }] });
+    expect(p).toMatchObject({
+      rule: 'implausible-range',
+      line: 3,
+      column: 1,
+      remedies: [{ option: 'input_unit', value: 'um' }, { option: 'allow_any_range' }],
+    });
     expect(p.detail).toMatch(/looks like µm: use input_unit=um or allow_any_range=true \[implausible-range\]$/);
     expect(snapshotCounts(h)).toEqual(before);
   });

@@ -12,7 +12,12 @@ const faults: unknown[] = [];
 beforeAll(async () => {
   h = await startHarness({ logFault: (err) => faults.push(err) });
   approvedGlass(h);
-  await h.request('/api/v1/materials', { method: 'POST', headers: { 'content-type': 'application/json' }, body: JSON.stringify({ slug: 'film', name: 'Film' }), as: 'editor' });
+  await h.request('/api/v1/materials', {
+    method: 'POST',
+    headers: { 'content-type': 'application/json' },
+    body: JSON.stringify({ slug: 'film', name: 'Film' }),
+    as: 'editor',
+  });
 });
 afterAll(() => h.stop());
 
@@ -38,7 +43,12 @@ describe('malformed multipart bodies', () => {
       const p = await expectProblem(res, 400, 'upload-multipart');
       expect(p.detail).toMatch(/multipart/);
     }
-    const noBoundary = await h.request('/api/v1/fit', { method: 'POST', headers: { 'content-type': 'multipart/form-data' }, body: 'x', as: 'reader' });
+    const noBoundary = await h.request('/api/v1/fit', {
+      method: 'POST',
+      headers: { 'content-type': 'multipart/form-data' },
+      body: 'x',
+      as: 'reader',
+    });
     await expectProblem(noBoundary, 400, 'upload-multipart');
     expect(faults).toEqual([]);
     expect(snapshotCounts(h)).toEqual(before);
@@ -51,7 +61,11 @@ describe('lax input refused', () => {
   it('a query parameter given twice is 400, on reads and uploads', async () => {
     await expectProblem(await h.request(`${nk}?wavelengths_nm=500&wavelengths_nm=600`), 400, 'query-duplicate');
     const before = snapshotCounts(h);
-    await expectProblem(await h.request('/api/v1/materials/film/versions?sample=a&sample=b', { ...csv(csvTable()), as: 'editor' }), 400, 'query-duplicate');
+    await expectProblem(
+      await h.request('/api/v1/materials/film/versions?sample=a&sample=b', { ...csv(csvTable()), as: 'editor' }),
+      400,
+      'query-duplicate',
+    );
     expect(snapshotCounts(h)).toEqual(before);
   });
 
@@ -79,9 +93,17 @@ describe('lax input refused', () => {
     const before = snapshotCounts(h);
     const body = JSON.stringify({ slug: 'plain', name: 'Plain' });
     for (const type of ['text/plain', 'application/x-www-form-urlencoded']) {
-      await expectProblem(await h.request('/api/v1/materials', { method: 'POST', headers: { 'content-type': type }, body, as: 'editor' }), 415, 'body-media-type');
+      await expectProblem(
+        await h.request('/api/v1/materials', { method: 'POST', headers: { 'content-type': type }, body, as: 'editor' }),
+        415,
+        'body-media-type',
+      );
     }
-    await expectProblem(await h.request('/api/v1/locks/verify', { method: 'POST', headers: { 'content-type': 'text/plain' }, body: '{}' }), 415, 'body-media-type');
+    await expectProblem(
+      await h.request('/api/v1/locks/verify', { method: 'POST', headers: { 'content-type': 'text/plain' }, body: '{}' }),
+      415,
+      'body-media-type',
+    );
     expect(snapshotCounts(h)).toEqual(before);
   });
 
@@ -90,14 +112,24 @@ describe('lax input refused', () => {
     const long = await h.request(`${nk}?wavelengths_nm=${list.join(',')}`);
     const p = await expectProblem(long, 431, 'request-too-long');
     expect(p.detail).toMatch(/POST .*\/nk/);
-    const posted = await h.request(nk, { method: 'POST', headers: { 'content-type': 'application/json' }, body: JSON.stringify({ wavelengths_nm: list.map(Number) }) });
+    const posted = await h.request(nk, {
+      method: 'POST',
+      headers: { 'content-type': 'application/json' },
+      body: JSON.stringify({ wavelengths_nm: list.map(Number) }),
+    });
     expect(posted.status).toBe(200);
     const answer = await posted.json();
     expect(answer.n.length).toBe(4000);
     const viaGet = await (await h.request(`${nk}?wavelengths_nm=450,550`)).json();
-    const viaPost = await (await h.request(nk, { method: 'POST', headers: { 'content-type': 'application/json' }, body: JSON.stringify({ wavelengths_nm: '450,550' }) })).json();
+    const viaPost = await (
+      await h.request(nk, { method: 'POST', headers: { 'content-type': 'application/json' }, body: JSON.stringify({ wavelengths_nm: '450,550' }) })
+    ).json();
     expect(viaPost.n).toEqual(viaGet.n);
-    const tooMany = await h.request(nk, { method: 'POST', headers: { 'content-type': 'application/json' }, body: JSON.stringify({ wavelengths_nm: Array(20_000).fill(500) }) });
+    const tooMany = await h.request(nk, {
+      method: 'POST',
+      headers: { 'content-type': 'application/json' },
+      body: JSON.stringify({ wavelengths_nm: Array(20_000).fill(500) }),
+    });
     await expectProblem(tooMany, 400, 'nk-too-many-points');
   });
 });

@@ -70,9 +70,7 @@ export function approvedGlass(h: ApiHarness, slug = 'glass'): string {
 
 /** Counts of every table a write could touch. */
 export function snapshotCounts(h: ApiHarness): Record<string, number> {
-  return Object.fromEntries(
-    ['materials', 'material_versions', 'audit_log', 'api_tokens', 'registry_settings'].map((t) => [t, h.count(t)]),
-  );
+  return Object.fromEntries(['materials', 'material_versions', 'audit_log', 'api_tokens', 'registry_settings'].map((t) => [t, h.count(t)]));
 }
 
 export const json = (body: unknown): RequestInit => ({

@@ -34,6 +34,8 @@ describe('API messages', () => {
   it('a write without a token says which role it needs and how to get a token', async () => {
     const res = await h.request('/api/v1/materials', json({ slug: 'x', name: 'X' }));
     expect(res.status).toBe(401);
-    expect(await detail(res)).toMatch(/needs a bearer token with role editor or above \(an admin makes one with `nkledger token create --user NAME --role editor`\)/);
+    expect(await detail(res)).toMatch(
+      /needs a bearer token with role editor or above \(an admin makes one with `nkledger token create --user NAME --role editor`\)/,
+    );
   });
 });

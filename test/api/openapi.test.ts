@@ -29,7 +29,10 @@ function registeredOperations(app: ReturnType<typeof createApp>): string[] {
 
 interface OpenApiDoc {
   openapi: string;
-  paths: Record<string, Record<string, { parameters?: { name: string; in: string }[]; responses: Record<string, { content?: Record<string, { schema: object }> }> }>>;
+  paths: Record<
+    string,
+    Record<string, { parameters?: { name: string; in: string }[]; responses: Record<string, { content?: Record<string, { schema: object }> }> }>
+  >;
   components: { schemas: Record<string, object> };
 }
 
@@ -62,7 +65,10 @@ class AnswerChecker {
     const op = this.doc.paths[template]?.[method.toLowerCase()];
     expect(op, `${operation} is not in the document`).toBeDefined();
     const described = op.responses[String(res.status)];
-    expect(described, `${operation} answered ${res.status}, which the document does not list (it lists ${Object.keys(op.responses).join(', ')})`).toBeDefined();
+    expect(
+      described,
+      `${operation} answered ${res.status}, which the document does not list (it lists ${Object.keys(op.responses).join(', ')})`,
+    ).toBeDefined();
     this.answered.add(operation);
     const text = await res.text();
     if (!described.content) {
@@ -96,7 +102,9 @@ describe('OpenAPI document', () => {
 
   it('is served without a token as OpenAPI 3.1 and describes exactly the routes the app registers', () => {
     expect(doc.openapi).toBe('3.1.0');
-    const served = Object.entries(doc.paths).flatMap(([path, item]) => Object.keys(item).map((m) => `${m.toUpperCase()} ${path}`)).sort();
+    const served = Object.entries(doc.paths)
+      .flatMap(([path, item]) => Object.keys(item).map((m) => `${m.toUpperCase()} ${path}`))
+      .sort();
     expect(served).toEqual(documentedOperations());
     expect(registeredOperations(createApp({ registry: h.registry }))).toEqual(served);
   });
@@ -105,7 +113,10 @@ describe('OpenAPI document', () => {
     for (const [path, item] of Object.entries(doc.paths)) {
       const inPath = [...path.matchAll(/\{(\w+)\}/g)].map((m) => m[1]).sort();
       for (const op of Object.values(item)) {
-        const declared = (op.parameters ?? []).filter((p) => p.in === 'path').map((p) => p.name).sort();
+        const declared = (op.parameters ?? [])
+          .filter((p) => p.in === 'path')
+          .map((p) => p.name)
+          .sort();
         expect(declared, path).toEqual(inPath);
       }
     }
@@ -131,12 +142,22 @@ describe('OpenAPI document', () => {
       await answers.check('POST', '/api/v1/materials', res);
     }
 
-    const shown = (await answers.check('GET', '/api/v1/materials/{slug}', await h.request('/api/v1/materials/glass'))) as { material: { slug: string } };
+    const shown = (await answers.check('GET', '/api/v1/materials/{slug}', await h.request('/api/v1/materials/glass'))) as {
+      material: { slug: string };
+    };
     expect(shown.material.slug).toBe('glass');
     await answers.check('GET', '/api/v1/materials/{slug}', await h.request('/api/v1/materials/no-such'));
     await answers.check('GET', '/api/v1/materials/{slug}', await h.request('/api/v1/materials/Not_A_Slug'));
-    await answers.check('PATCH', '/api/v1/materials/{slug}', await h.request('/api/v1/materials/mgf2', { ...json({ description: 'e-beam, 250 C', tags: ['fluoride'] }), method: 'PATCH', as: 'editor' }));
-    await answers.check('PATCH', '/api/v1/materials/{slug}', await h.request('/api/v1/materials/mgf2', { ...json({ slug: 'other' }), method: 'PATCH', as: 'editor' }));
+    await answers.check(
+      'PATCH',
+      '/api/v1/materials/{slug}',
+      await h.request('/api/v1/materials/mgf2', { ...json({ description: 'e-beam, 250 C', tags: ['fluoride'] }), method: 'PATCH', as: 'editor' }),
+    );
+    await answers.check(
+      'PATCH',
+      '/api/v1/materials/{slug}',
+      await h.request('/api/v1/materials/mgf2', { ...json({ slug: 'other' }), method: 'PATCH', as: 'editor' }),
+    );
   });
 
   it('versions: upload (CSV, fitted, wrong media type), show, 304, n,k as JSON and CSV, refusals', async () => {
@@ -146,9 +167,21 @@ describe('OpenAPI document', () => {
     const fitted = await h.request('/api/v1/materials/mgf2/versions?fit=cauchy', { ...csv(csvTable(1.39)), as: 'editor' });
     expect(fitted.status).toBe(201);
     await answers.check('POST', '/api/v1/materials/{slug}/versions', fitted);
-    await answers.check('POST', '/api/v1/materials/{slug}/versions', await h.request('/api/v1/materials/mgf2/versions', { ...json({ table: [] }), as: 'editor' }));
-    await answers.check('POST', '/api/v1/materials/{slug}/versions', await h.request('/api/v1/materials/mgf2/versions', { ...csv('wavelength_nm,n,k\n400,x,0\n'), as: 'editor' }));
-    await answers.check('POST', '/api/v1/materials/{slug}/versions', await h.request('/api/v1/materials/no-such/versions', { ...csv(csvTable()), as: 'editor' }));
+    await answers.check(
+      'POST',
+      '/api/v1/materials/{slug}/versions',
+      await h.request('/api/v1/materials/mgf2/versions', { ...json({ table: [] }), as: 'editor' }),
+    );
+    await answers.check(
+      'POST',
+      '/api/v1/materials/{slug}/versions',
+      await h.request('/api/v1/materials/mgf2/versions', { ...csv('wavelength_nm,n,k\n400,x,0\n'), as: 'editor' }),
+    );
+    await answers.check(
+      'POST',
+      '/api/v1/materials/{slug}/versions',
+      await h.request('/api/v1/materials/no-such/versions', { ...csv(csvTable()), as: 'editor' }),
+    );
 
     const version = await h.request('/api/v1/materials/glass/versions/1');
     const etag = version.headers.get('etag')!;
@@ -160,19 +193,41 @@ describe('OpenAPI document', () => {
     await answers.check('GET', '/api/v1/materials/{slug}/versions/{n}', await h.request('/api/v1/materials/glass/versions/two'));
 
     const nk = '/api/v1/materials/{slug}/versions/{n}/nk';
-    const values = (await answers.check('GET', nk, await h.request('/api/v1/materials/glass/versions/1/nk?wavelengths_nm=450,650'))) as { n: number[] };
+    const values = (await answers.check('GET', nk, await h.request('/api/v1/materials/glass/versions/1/nk?wavelengths_nm=450,650'))) as {
+      n: number[];
+    };
     expect(values.n).toHaveLength(2);
-    const table = await answers.check('GET', nk, await h.request('/api/v1/materials/glass/versions/1/nk?from_nm=400&to_nm=800&step_nm=100', { headers: { accept: 'text/csv' } }));
+    const table = await answers.check(
+      'GET',
+      nk,
+      await h.request('/api/v1/materials/glass/versions/1/nk?from_nm=400&to_nm=800&step_nm=100', { headers: { accept: 'text/csv' } }),
+    );
     expect(String(table).trim().split('\n')).toHaveLength(6);
-    await answers.check('GET', nk, await h.request('/api/v1/materials/glass/versions/1/nk?wavelengths_nm=450', { headers: { 'if-none-match': etag } }));
+    await answers.check(
+      'GET',
+      nk,
+      await h.request('/api/v1/materials/glass/versions/1/nk?wavelengths_nm=450', { headers: { 'if-none-match': etag } }),
+    );
     await answers.check('GET', nk, await h.request('/api/v1/materials/glass/versions/1/nk?wavelengths_nm=450', { headers: { accept: 'image/png' } }));
     await answers.check('GET', nk, await h.request('/api/v1/materials/glass/versions/1/nk'));
     await answers.check('GET', nk, await h.request('/api/v1/materials/glass/versions/1/nk?wavelengths_nm=100'));
     await answers.check('GET', nk, await h.request('/api/v1/materials/glass/versions/7/nk?wavelengths_nm=450'));
-    const posted = (await answers.check('POST', nk, await h.request('/api/v1/materials/glass/versions/1/nk', json({ wavelengths_nm: [450, 550, 650] })))) as { n: number[] };
+    const posted = (await answers.check(
+      'POST',
+      nk,
+      await h.request('/api/v1/materials/glass/versions/1/nk', json({ wavelengths_nm: [450, 550, 650] })),
+    )) as { n: number[] };
     expect(posted.n).toHaveLength(3);
     await answers.check('POST', nk, await h.request('/api/v1/materials/glass/versions/1/nk', json({ wavelengths_nm: [-5] })));
-    await answers.check('POST', nk, await h.request('/api/v1/materials/glass/versions/1/nk', { method: 'POST', body: 'wavelengths_nm=450', headers: { 'content-type': 'text/plain' } }));
+    await answers.check(
+      'POST',
+      nk,
+      await h.request('/api/v1/materials/glass/versions/1/nk', {
+        method: 'POST',
+        body: 'wavelengths_nm=450',
+        headers: { 'content-type': 'text/plain' },
+      }),
+    );
   });
 
   it('lifecycle: approve, retire, withdraw and their refusals', async () => {
@@ -189,7 +244,11 @@ describe('OpenAPI document', () => {
     const withdrawn = await h.request('/api/v1/materials/mgf2/versions/2/withdraw', { method: 'POST', as: 'approver' });
     expect(withdrawn.status).toBe(200);
     await answers.check('POST', `${base}/withdraw`, withdrawn);
-    await answers.check('POST', `${base}/withdraw`, await h.request('/api/v1/materials/mgf2/versions/2/withdraw', { method: 'POST', as: 'approver' }));
+    await answers.check(
+      'POST',
+      `${base}/withdraw`,
+      await h.request('/api/v1/materials/mgf2/versions/2/withdraw', { method: 'POST', as: 'approver' }),
+    );
   });
 
   it('locks, fit and KK: answers and refusals', async () => {
@@ -204,10 +263,17 @@ describe('OpenAPI document', () => {
     expect(kk.status).toBe(200);
     expect(await answers.check('POST', '/api/v1/kk', kk)).toMatchObject({ report: { verdict: 'uninformative' } });
     await answers.check('POST', '/api/v1/kk', await h.request('/api/v1/kk', csv('wavelength_nm,n,k\n400,1.5,-1\n')));
-    const stack = await h.request('/api/v1/stack?at=450,550&angle=0,60&sweep=1=0:200:50', json({ layers: [{ material: { n: 1.38 }, thickness_nm: 100 }], substrate: { material: { n: 1.52 } } }));
+    const stack = await h.request(
+      '/api/v1/stack?at=450,550&angle=0,60&sweep=1=0:200:50',
+      json({ layers: [{ material: { n: 1.38 }, thickness_nm: 100 }], substrate: { material: { n: 1.52 } } }),
+    );
     expect(stack.status).toBe(200);
     expect(await answers.check('POST', '/api/v1/stack', stack)).toHaveProperty('results');
-    await answers.check('POST', '/api/v1/stack', await h.request('/api/v1/stack?at=550', json({ layers: [], substrate: { material: { file: 'x.csv' } } })));
+    await answers.check(
+      'POST',
+      '/api/v1/stack',
+      await h.request('/api/v1/stack?at=550', json({ layers: [], substrate: { material: { file: 'x.csv' } } })),
+    );
   });
 
   it('tokens and settings: admin answers and refusals', async () => {
@@ -225,8 +291,16 @@ describe('OpenAPI document', () => {
     const set = await h.request('/api/v1/settings/max_nk_points', { ...json({ value: 5000 }), method: 'PUT', as: 'admin' });
     expect(set.status).toBe(200);
     await answers.check('PUT', '/api/v1/settings/{key}', set);
-    await answers.check('PUT', '/api/v1/settings/{key}', await h.request('/api/v1/settings/max_nk_points', { ...json({ value: 'many' }), method: 'PUT', as: 'admin' }));
-    await answers.check('PUT', '/api/v1/settings/{key}', await h.request('/api/v1/settings/no_such_key', { ...json({ value: 1 }), method: 'PUT', as: 'admin' }));
+    await answers.check(
+      'PUT',
+      '/api/v1/settings/{key}',
+      await h.request('/api/v1/settings/max_nk_points', { ...json({ value: 'many' }), method: 'PUT', as: 'admin' }),
+    );
+    await answers.check(
+      'PUT',
+      '/api/v1/settings/{key}',
+      await h.request('/api/v1/settings/no_such_key', { ...json({ value: 1 }), method: 'PUT', as: 'admin' }),
+    );
     await answers.check('DELETE', '/api/v1/settings/{key}', await h.request('/api/v1/settings/max_nk_points', { method: 'DELETE', as: 'admin' }));
   });
 

@@ -80,7 +80,7 @@ describe('changes by another process show at the next request', () => {
     expect(res.headers.get('content-type')).toBe('application/problem+json');
   });
 
-  it('a token revoked through the server\'s own registry handle is refused right after', async () => {
+  it("a token revoked through the server's own registry handle is refused right after", async () => {
     const t = createToken(h.registry, { user: 'design-tool-2', role: 'reader', createdBy: 'setup' });
     expect((await h.request('/api/v1/materials', { token: t.token })).status).toBe(200);
     revokeToken(h.registry, t.id, 'lab-admin');

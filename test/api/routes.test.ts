@@ -188,7 +188,11 @@ describe('HTTP API routes', () => {
       const p1 = await expectProblem(await h.request('/api/v1/materials/sin-a/versions', { ...csv(header), as: 'editor' }), 400, /.+/);
       expect(p1.detail).toMatch(/furlong/);
       expect(p1.detail).toMatch(/^<upload>:1/);
-      const p2 = await expectProblem(await h.request('/api/v1/materials/sin-a/versions?input_unit=furlong', { ...csv(csvTable()), as: 'editor' }), 400, /.+/);
+      const p2 = await expectProblem(
+        await h.request('/api/v1/materials/sin-a/versions?input_unit=furlong', { ...csv(csvTable()), as: 'editor' }),
+        400,
+        /.+/,
+      );
       expect(p2.detail).toMatch(/furlong/);
       expect(snapshotCounts(h)).toEqual(before);
     });
@@ -254,7 +258,10 @@ describe('HTTP API routes', () => {
       expect(await approved.json()).toMatchObject({ status: 'approved', approved_by: 'approver' });
       const noReason = await h.request('/api/v1/materials/sio2-thermal/versions/1/retire', { ...json({}), as: 'approver' });
       expect(noReason.status).toBe(422);
-      const retired = await h.request('/api/v1/materials/sio2-thermal/versions/1/retire', { ...json({ reason: 'furnace recalibrated' }), as: 'approver' });
+      const retired = await h.request('/api/v1/materials/sio2-thermal/versions/1/retire', {
+        ...json({ reason: 'furnace recalibrated' }),
+        as: 'approver',
+      });
       expect(await retired.json()).toMatchObject({ status: 'retired', retire_reason: 'furnace recalibrated' });
       const withdrawn = await h.request('/api/v1/materials/sio2-thermal/versions/2/withdraw', { method: 'POST', as: 'approver' });
       expect(await withdrawn.json()).toMatchObject({ status: 'withdrawn', withdrawn_by: 'approver' });

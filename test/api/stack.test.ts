@@ -31,7 +31,10 @@ describe('POST /api/v1/stack', () => {
   });
 
   it('answers exactly what the service computes (the CLI calls the same functions)', async () => {
-    const design = { layers: [{ material: { ref: 'glass@1' }, thickness_nm: 120 }], substrate: { material: { model: 'cauchy', parameters: { A: 1.5, B: 0.004, C: 0 } } } };
+    const design = {
+      layers: [{ material: { ref: 'glass@1' }, thickness_nm: 120 }],
+      substrate: { material: { model: 'cauchy', parameters: { A: 1.5, B: 0.004, C: 0 } } },
+    };
     const res = await h.request('/api/v1/stack?at=400:800:100&angle=30&polarization=p', { ...json(design), as: 'reader' });
     expect(res.status, await res.clone().text()).toBe(200);
     const direct = computeStack(
@@ -47,7 +50,10 @@ describe('POST /api/v1/stack', () => {
 
   it('refuses {"file": …} sources: the server\'s disk is not the client\'s', async () => {
     const before = snapshotCounts(h);
-    const res = await h.request('/api/v1/stack?at=550', { ...json({ layers: [{ material: { file: '/etc/passwd' }, thickness_nm: 10 }], substrate: { material: { n: 1.5 } } }), as: 'reader' });
+    const res = await h.request('/api/v1/stack?at=550', {
+      ...json({ layers: [{ material: { file: '/etc/passwd' }, thickness_nm: 10 }], substrate: { material: { n: 1.5 } } }),
+      as: 'reader',
+    });
     expect(res.status).toBe(400);
     const p = await res.json();
     expect(p).toMatchObject({ rule: 'stack-file-source', field: 'layers.0.material.file' });
@@ -55,12 +61,24 @@ describe('POST /api/v1/stack', () => {
   });
 
   it('caps layers × wavelengths × angles × sweep steps with the max_stack_work setting', async () => {
-    const res = await h.request('/api/v1/stack?at=380:780:1&angle=0,30,45,60,70,80,85', { ...json({ layers: [{ material: { n: 1.38 }, thickness_nm: 100 }, { material: { n: 2 }, thickness_nm: 60 }], substrate: { material: { n: 1.5 } } }), as: 'reader' });
+    const res = await h.request('/api/v1/stack?at=380:780:1&angle=0,30,45,60,70,80,85', {
+      ...json({
+        layers: [
+          { material: { n: 1.38 }, thickness_nm: 100 },
+          { material: { n: 2 }, thickness_nm: 60 },
+        ],
+        substrate: { material: { n: 1.5 } },
+      }),
+      as: 'reader',
+    });
     expect(res.status).toBe(400);
     const p = await res.json();
     expect(p.rule).toBe('stack-too-much-work');
     expect(p.detail).toMatch(/5614 units of work.*at most 5000.*max_stack_work/);
-    const sweep = await h.request('/api/v1/stack?at=550&sweep=1=0:5000:1', { ...json({ layers: [{ material: { n: 1.38 }, thickness_nm: 100 }], substrate: { material: { n: 1.5 } } }), as: 'reader' });
+    const sweep = await h.request('/api/v1/stack?at=550&sweep=1=0:5000:1', {
+      ...json({ layers: [{ material: { n: 1.38 }, thickness_nm: 100 }], substrate: { material: { n: 1.5 } } }),
+      as: 'reader',
+    });
     expect((await sweep.json()).rule).toBe('stack-too-much-work');
   });
 
@@ -71,13 +89,19 @@ describe('POST /api/v1/stack', () => {
     expect(ok.status, await ok.clone().text()).toBe(200);
     expect((await ok.json()).materials[1]).toMatchObject({ ref: 'glass@1', sha256: lock.materials.glass.sha256, status: 'approved' });
     const wrong = { ...lock, materials: { glass: { ...lock.materials.glass, version: 2 } } };
-    const bad = await h.request('/api/v1/stack?at=550', { ...json({ design: { ...design, layers: [{ material: { ref: 'glass@1' }, thickness_nm: 100 }] }, lock: wrong }), as: 'reader' });
+    const bad = await h.request('/api/v1/stack?at=550', {
+      ...json({ design: { ...design, layers: [{ material: { ref: 'glass@1' }, thickness_nm: 100 }] }, lock: wrong }),
+      as: 'reader',
+    });
     expect(bad.status).toBe(400);
     expect((await bad.json()).rule).toBe('stack-lock-disagrees');
   });
 
   it('refuses a bad design with the field at fault, and unknown query fields', async () => {
-    const res = await h.request('/api/v1/stack?at=550', { ...json({ layers: [{ material: { n: 1.5 }, thickness_nm: -3 }], substrate: { material: { n: 1.5 } } }), as: 'reader' });
+    const res = await h.request('/api/v1/stack?at=550', {
+      ...json({ layers: [{ material: { n: 1.5 }, thickness_nm: -3 }], substrate: { material: { n: 1.5 } } }),
+      as: 'reader',
+    });
     expect(res.status).toBe(400);
     expect(await res.json()).toMatchObject({ rule: 'design-format', field: 'layers.0.thickness_nm' });
     const q = await h.request('/api/v1/stack?at=550&colour=yes', { ...json(bareGlass), as: 'reader' });
@@ -85,7 +109,11 @@ describe('POST /api/v1/stack', () => {
   });
 
   it('answers the plot as SVG when Accept asks for image/svg+xml', async () => {
-    const res = await h.request('/api/v1/stack?at=400:800:50', { ...json(bareGlass), as: 'reader', headers: { 'content-type': 'application/json', accept: 'image/svg+xml' } });
+    const res = await h.request('/api/v1/stack?at=400:800:50', {
+      ...json(bareGlass),
+      as: 'reader',
+      headers: { 'content-type': 'application/json', accept: 'image/svg+xml' },
+    });
     expect(res.status).toBe(200);
     expect(res.headers.get('content-type')).toMatch(/^image\/svg\+xml/);
     expect(await res.text()).toMatch(/^<\?xml[\s\S]*<svg[\s\S]*R, T, A \(%\)/);

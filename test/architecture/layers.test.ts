@@ -9,7 +9,20 @@ import { dirname, join, normalize, relative } from 'node:path';
 import { describe, expect, it } from 'vitest';
 
 const SRC = new URL('../../src/', import.meta.url).pathname;
-const RANK: Record<string, number> = { optics: 0, models: 1, plot: 2, fit: 3, kk: 3, stack: 3, io: 4, registry: 5, service: 6, api: 7, cli: 7, web: 7 };
+const RANK: Record<string, number> = {
+  optics: 0,
+  models: 1,
+  plot: 2,
+  fit: 3,
+  kk: 3,
+  stack: 3,
+  io: 4,
+  registry: 5,
+  service: 6,
+  api: 7,
+  cli: 7,
+  web: 7,
+};
 const ALLOWED = new Set(['cli/commands/serve.ts -> api/server.ts', 'cli/commands/demo.ts -> api/server.ts']);
 
 function sources(dir: string): string[] {

@@ -10,7 +10,10 @@ describe('the command list', () => {
     for (const entry of COMMANDS) {
       const program = new Command();
       (await entry.load()).register(program);
-      expect(program.commands.map((c) => c.name()), entry.name).toEqual([entry.name]);
+      expect(
+        program.commands.map((c) => c.name()),
+        entry.name,
+      ).toEqual([entry.name]);
       expect(program.commands[0].description().length, entry.name).toBeGreaterThan(0);
       expect(entry.summary.length, entry.name).toBeLessThanOrEqual(90);
     }

@@ -49,7 +49,9 @@ describe('nkledger inspect / eval / convert end to end', () => {
   it('eval outside the range exits 2 and says a table is never extrapolated (fit a model)', async () => {
     const r = await nkledger(['eval', 'data/marrowick/sio2-thermal.csv', '--at', '200']);
     expect(r.code).toBe(2);
-    expect(r.stderr).toMatch(/^nkledger: 200 nm is outside the measured range 220–1700 nm.*never extrapolated \(fit a dispersion model to evaluate beyond it\).*\[outside-range\]$/m);
+    expect(r.stderr).toMatch(
+      /^nkledger: 200 nm is outside the measured range 220–1700 nm.*never extrapolated \(fit a dispersion model to evaluate beyond it\).*\[outside-range\]$/m,
+    );
     noStackTrace(r.stderr);
   });
 

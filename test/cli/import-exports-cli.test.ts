@@ -20,7 +20,9 @@ async function run(args: string[], user = 'ada') {
 
 /** 21 rows of n = 1.45 + offset + 0.0036/λ² (λ in µm) under a preamble: INVENTED numbers. */
 function writeExport(name: string, offset: number, withK = true): string {
-  const rows = Array.from({ length: 21 }, (_, i) => 400 + 20 * i).map((w) => `${w},${(1.45 + offset + 0.0036 / (w / 1000) ** 2).toFixed(6)}${withK ? ',0' : ''}`);
+  const rows = Array.from({ length: 21 }, (_, i) => 400 + 20 * i).map(
+    (w) => `${w},${(1.45 + offset + 0.0036 / (w / 1000) ** 2).toFixed(6)}${withK ? ',0' : ''}`,
+  );
   const path = join(dir, name);
   writeFileSync(path, ['Sample: TA-0412', 'Operator: R. Okafor', `Wavelength (nm),n${withK ? ',k' : ''}`, ...rows, ''].join('\n'));
   return path;

@@ -20,7 +20,9 @@ async function run(...args: string[]) {
 beforeAll(async () => {
   dir = mkdtempSync(join(tmpdir(), 'nkledger-fitflags-'));
   // Invented Cauchy numbers n = 1.45 + 0.0036/λ² + 0.0002/λ⁴ (λ in µm), k = 0, 400–800 nm: not a measurement.
-  const rows = Array.from({ length: 41 }, (_, i) => 400 + 10 * i).map((w) => `${w},${(1.45 + 0.0036 / (w / 1000) ** 2 + 0.0002 / (w / 1000) ** 4).toFixed(7)},0`);
+  const rows = Array.from({ length: 41 }, (_, i) => 400 + 10 * i).map(
+    (w) => `${w},${(1.45 + 0.0036 / (w / 1000) ** 2 + 0.0002 / (w / 1000) ** 4).toFixed(7)},0`,
+  );
   table = join(dir, 'film.csv');
   writeFileSync(table, `wavelength_nm,n,k\n${rows.join('\n')}\n`);
   expect((await run('material', 'add', 'sio2-film', '--name', 'Oxide film')).code).toBe(0);

@@ -38,7 +38,19 @@ afterAll(() => rmSync(dir, { recursive: true, force: true }));
 describe('registry CLI', { timeout: 240_000 }, () => {
   it('runs a material through import, two-person approval, lock, retire, verify and backup', async () => {
     expect((await run(['material', 'add', 'sio2-thermal', '--name', 'Thermal oxide', '--tag', 'oxide'])).code).toBe(0);
-    const imported = await run(['import', writeTable('a.csv', 0), '--material', 'sio2-thermal', '--no-kk', '--meta', 'method=se', 'angles=65,70', '--note', 'wafer 3', '--json']);
+    const imported = await run([
+      'import',
+      writeTable('a.csv', 0),
+      '--material',
+      'sio2-thermal',
+      '--no-kk',
+      '--meta',
+      'method=se',
+      'angles=65,70',
+      '--note',
+      'wafer 3',
+      '--json',
+    ]);
     expect(imported.code).toBe(0);
     const v1 = JSON.parse(imported.out);
     expect(v1).toMatchObject({ ref: 'sio2-thermal@1', status: 'draft' });
@@ -51,7 +63,13 @@ describe('registry CLI', { timeout: 240_000 }, () => {
     expect((await run(['approve', 'sio2-thermal@1', '--as', 'bob'])).code).toBe(0);
 
     const shown = await run(['show', 'sio2-thermal', '--json']);
-    expect(JSON.parse(shown.out)).toMatchObject({ ref: 'sio2-thermal@1', status: 'approved', sha256: v1.sha256, approved_by: 'bob', provenance: { notes: 'wafer 3', angles_deg: [65, 70] } });
+    expect(JSON.parse(shown.out)).toMatchObject({
+      ref: 'sio2-thermal@1',
+      status: 'approved',
+      sha256: v1.sha256,
+      approved_by: 'bob',
+      provenance: { notes: 'wafer 3', angles_deg: [65, 70] },
+    });
     expect(shown.err).toMatch(/not a pin/);
 
     const lock = join(dir, 'design.nklock.json');
@@ -97,7 +115,9 @@ describe('registry CLI', { timeout: 240_000 }, () => {
     try {
       expect(() => registry.sqlite.exec("UPDATE material_versions SET content = '{}'")).toThrow(/immutable/);
       registry.sqlite.exec('DROP TRIGGER material_versions_content_immutable');
-      registry.sqlite.exec("UPDATE material_versions SET notes = 'edited by hand' WHERE number = 1 AND material_id = (SELECT id FROM materials WHERE slug = 'mgf2')");
+      registry.sqlite.exec(
+        "UPDATE material_versions SET notes = 'edited by hand' WHERE number = 1 AND material_id = (SELECT id FROM materials WHERE slug = 'mgf2')",
+      );
       expect(verifyRegistry(registry).ok).toBe(false);
     } finally {
       registry.close();
@@ -117,9 +137,13 @@ describe('registry versions as sources', { timeout: 240_000 }, () => {
     expect(JSON.parse(e.out)).toMatchObject({ ref: 'sio2-thermal@1', source: 'table', wavelength_nm: [500], n: [1.4644] });
     expect(e.err).toMatch(/retired/);
     expect((await run(['eval', 'sio2-thermal@1', '--at', '900'])).err).toMatch(/never extrapolated/);
-    expect((await run(['eval', 'sio2-thermal@1', '--at', '900', '--extrapolate'])).err).toMatch(/a table never extrapolates \[table-no-extrapolation\]/);
+    expect((await run(['eval', 'sio2-thermal@1', '--at', '900', '--extrapolate'])).err).toMatch(
+      /a table never extrapolates \[table-no-extrapolation\]/,
+    );
     // mgf2@1 was edited by hand above: it is refused on read (re-verified hash), not diffed as if good.
-    expect((await run(['diff', 'sio2-thermal@1', 'mgf2@1', '--json'])).err).toMatch(/mgf2@1: the stored content .* no longer matches .*\[integrity-hash-mismatch\]/);
+    expect((await run(['diff', 'sio2-thermal@1', 'mgf2@1', '--json'])).err).toMatch(
+      /mgf2@1: the stored content .* no longer matches .*\[integrity-hash-mismatch\]/,
+    );
     await run(['material', 'add', 'mgf2-b', '--name', 'MgF2 (second sample)']);
     await run(['import', writeTable('m2.csv', -0.07), '--material', 'mgf2-b', '--no-kk']);
     const d = await run(['diff', 'sio2-thermal@1', 'mgf2-b@1', '--json']);
@@ -147,7 +171,10 @@ describe('several processes importing into one database at once', { timeout: 240
     expect(refs.map((r) => Number(r.split('@')[1])).sort((a, b) => a - b)).toEqual([1, 2, 3, 4, 5, 6]);
     const registry = openRegistry(concurrentDb);
     try {
-      const rows = registry.sqlite.prepare('SELECT number, source_file FROM material_versions ORDER BY number').all() as { number: number; source_file: string }[];
+      const rows = registry.sqlite.prepare('SELECT number, source_file FROM material_versions ORDER BY number').all() as {
+        number: number;
+        source_file: string;
+      }[];
       expect(rows.map((r) => r.source_file).sort()).toEqual(files.map((f) => f.split('/').pop()).sort());
       const audit = registry.sqlite.prepare("SELECT count(*) AS n FROM audit_log WHERE action = 'version.import'").get() as { n: number };
       expect(audit.n).toBe(count);
@@ -160,7 +187,11 @@ describe('several processes importing into one database at once', { timeout: 240
   it('creates and migrates a brand-new database written by several processes at once, with one audit chain', async () => {
     const freshDb = join(dir, 'fresh.db');
     const env = { ...process.env, NKLEDGER_DB: freshDb, NKLEDGER_USER: 'ada' };
-    await Promise.all(Array.from({ length: 4 }, (_, i) => execFileAsync(process.execPath, [BIN, 'material', 'add', `film-${i}`, '--name', `Film ${i}`, '--json'], { env })));
+    await Promise.all(
+      Array.from({ length: 4 }, (_, i) =>
+        execFileAsync(process.execPath, [BIN, 'material', 'add', `film-${i}`, '--name', `Film ${i}`, '--json'], { env }),
+      ),
+    );
     const listed = await execFileAsync(process.execPath, [BIN, 'list', '--json'], { env });
     expect(JSON.parse(listed.stdout).map((m: { slug: string }) => m.slug)).toEqual(['film-0', 'film-1', 'film-2', 'film-3']);
     const verified = await execFileAsync(process.execPath, [BIN, 'verify', '--json'], { env });

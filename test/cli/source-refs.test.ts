@@ -102,10 +102,16 @@ describe('registry versions as SOURCE of inspect, eval, fit and kk', { timeout: 
   });
 
   it('a model-only version is refused by inspect, fit and kk with a reason and exit 2', async () => {
-    for (const args of [['inspect', 'model-only@1'], ['fit', 'model-only@1', '--model', 'cauchy'], ['kk', 'model-only@1']]) {
+    for (const args of [
+      ['inspect', 'model-only@1'],
+      ['fit', 'model-only@1', '--model', 'cauchy'],
+      ['kk', 'model-only@1'],
+    ]) {
       const r = await run(args);
       expect(r.code).toBe(2);
-      expect(r.err).toMatch(/model-only@1 holds only a fitted cauchy model, no measured table.*nkledger eval model-only@1.*\[version-without-table\]/);
+      expect(r.err).toMatch(
+        /model-only@1 holds only a fitted cauchy model, no measured table.*nkledger eval model-only@1.*\[version-without-table\]/,
+      );
       expect(r.err).not.toMatch(/\n\s+at /);
     }
   });

@@ -16,7 +16,14 @@ import { buildDemoRegistry } from '../../src/service/demo-registry.ts';
 import { ROOT, runCli } from '../cli/run-cli.ts';
 import { extractExamples, MARKERS, type DocExample } from './examples.ts';
 
-const DOCS = ['README.md', ...(existsSync(join(ROOT, 'docs')) ? readdirSync(join(ROOT, 'docs')).filter((f) => f.endsWith('.md')).map((f) => `docs/${f}`) : [])];
+const DOCS = [
+  'README.md',
+  ...(existsSync(join(ROOT, 'docs'))
+    ? readdirSync(join(ROOT, 'docs'))
+        .filter((f) => f.endsWith('.md'))
+        .map((f) => `docs/${f}`)
+    : []),
+];
 const examples = DOCS.map((file) => ({ file, examples: extractExamples(file, readFileSync(join(ROOT, file), 'utf8')) }));
 
 /**
@@ -45,7 +52,10 @@ beforeAll(() => {
   mkdirSync(bin);
   const node = `"${process.execPath}" "${join(ROOT, 'bin', 'nkledger.js')}"`;
   writeFileSync(join(bin, 'nkledger'), `#!/bin/sh\nexec ${node} "$@"\n`);
-  writeFileSync(join(bin, 'npx'), `#!/bin/sh\n[ "$1" = nkledger ] || { echo "doc test: only npx nkledger runs here" >&2; exit 127; }\nshift\nexec ${node} "$@"\n`);
+  writeFileSync(
+    join(bin, 'npx'),
+    `#!/bin/sh\n[ "$1" = nkledger ] || { echo "doc test: only npx nkledger runs here" >&2; exit 127; }\nshift\nexec ${node} "$@"\n`,
+  );
   for (const f of ['nkledger', 'npx']) chmodSync(join(bin, f), 0o755);
   env = { NKLEDGER_DB: db, NKLEDGER_USER: 'doc-reader', PATH: `${bin}:${process.env.PATH}` };
   // Relative paths in the examples resolve in the scratch folder (never the checkout).
@@ -75,8 +85,10 @@ describe('command examples of the documentation', { timeout: 240_000 }, () => {
         const { code, output } = await runExample(ex);
         const known = KNOWN_FAILURES[ex.command];
         if (known) {
-          if (code === ex.expectedExit || !known.output.test(output)) failures.push(`${file}:${ex.line}: \`${ex.command}\` no longer fails as KNOWN_FAILURES says (${known.why}): remove the entry`);
-        } else if (code !== ex.expectedExit) failures.push(`${file}:${ex.line}: \`${ex.command}\` exited ${code}, expected ${ex.expectedExit}\n${output.slice(0, 600)}`);
+          if (code === ex.expectedExit || !known.output.test(output))
+            failures.push(`${file}:${ex.line}: \`${ex.command}\` no longer fails as KNOWN_FAILURES says (${known.why}): remove the entry`);
+        } else if (code !== ex.expectedExit)
+          failures.push(`${file}:${ex.line}: \`${ex.command}\` exited ${code}, expected ${ex.expectedExit}\n${output.slice(0, 600)}`);
       }
       expect(failures.join('\n\n')).toBe('');
     });

@@ -73,7 +73,7 @@ export function extractExamples(file: string, markdown: string): DocExample[] {
     for (i++; i < lines.length && !/^\s*```/.test(lines[i]); i++) {
       const start = i;
       let text = lines[i];
-      while (text.endsWith("\\") && i + 1 < lines.length) text = `${text.slice(0, -1).trimEnd()} ${lines[++i].trim()}`;
+      while (text.endsWith('\\') && i + 1 < lines.length) text = `${text.slice(0, -1).trimEnd()} ${lines[++i].trim()}`;
       body.push({ line: start + 1, text });
     }
     const blockMarker = shell ? (body.map((b) => (/^\s*#/.test(b.text) ? markerIn(b.text) : null)).find((m) => m) ?? null) : null;

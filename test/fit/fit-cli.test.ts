@@ -18,7 +18,17 @@ describe('nkledger fit end to end', () => {
     const r = await nkledger(['fit', 'data/marrowick/sinx-pecvd-recipe-a.csv', '--model', 'tauc-lorentz', '--json']);
     expect(r.code).toBe(0);
     const report = JSON.parse(r.stdout);
-    expect(Object.keys(report)).toEqual(['model', 'parameters', 'statistics', 'correlations', 'warnings', 'diagnostics', 'kk_consistent', 'range_nm', 'options']);
+    expect(Object.keys(report)).toEqual([
+      'model',
+      'parameters',
+      'statistics',
+      'correlations',
+      'warnings',
+      'diagnostics',
+      'kk_consistent',
+      'range_nm',
+      'options',
+    ]);
     expect(Object.keys(report.parameters)).toEqual(['A', 'E0', 'C', 'Eg', 'eps_inf']);
     expect(Object.keys(report.parameters.Eg)).toEqual(['value', 'stderr', 'unit', 'at_bound']);
     expect(Object.keys(report.statistics)).toEqual(['points', 'rms_n', 'rms_k', 'reduced_chi2', 'chi2_p', 'dof', 'aic', 'bic', 'iterations']);
@@ -79,8 +89,18 @@ describe('fit plot (SVG parsed with fast-xml-parser)', () => {
     expect(panels.map((p: Record<string, string>) => p['data-y-label'])).toEqual(['n', 'k', 'measured − model']);
     const xAxis = [doc.g].flat().find((g: { class: string }) => g.class === 'x-axis');
     expect(JSON.stringify(xAxis)).toContain('Wavelength (nm)');
-    const series = panels.flatMap((p: { g: unknown }) => [p.g].flat().filter((g) => (g as { class: string }).class === 'series')) as Record<string, string>[];
-    expect(series.map((s) => s['data-label'])).toEqual(['n measured', 'tauc-lorentz fit', 'k measured', 'tauc-lorentz fit', 'n residual', 'k residual']);
+    const series = panels.flatMap((p: { g: unknown }) => [p.g].flat().filter((g) => (g as { class: string }).class === 'series')) as Record<
+      string,
+      string
+    >[];
+    expect(series.map((s) => s['data-label'])).toEqual([
+      'n measured',
+      'tauc-lorentz fit',
+      'k measured',
+      'tauc-lorentz fit',
+      'n residual',
+      'k residual',
+    ]);
     expect(Number(series[0]['data-count'])).toBe(table.wavelengthNm.length);
     const legends = panels.map((p: { g: unknown }) => JSON.stringify([p.g].flat().find((g) => (g as { class: string }).class === 'legend')));
     expect(legends[0]).toContain('n measured');

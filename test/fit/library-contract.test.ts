@@ -27,7 +27,16 @@ describe('ml-levenberg-marquardt 5.1 behaviour lm.ts depends on (reference libra
         seen.push(p.slice());
         return (t) => p[0] * t + p[1];
       },
-      { initialValues: [0.5, 0.5], damping: 1e-2, maxIterations: 20, errorTolerance: 1e-12, jacobianFunction: (p) => { jacobianAt.push(p.slice()); return (t) => [t, 1]; } },
+      {
+        initialValues: [0.5, 0.5],
+        damping: 1e-2,
+        maxIterations: 20,
+        errorTolerance: 1e-12,
+        jacobianFunction: (p) => {
+          jacobianAt.push(p.slice());
+          return (t) => [t, 1];
+        },
+      },
     );
     expect(vetoed).toBe(true);
     // the second Jacobian is taken at the reset point, not at the vetoed trial

@@ -12,7 +12,6 @@ import { loadTable } from '../../src/service/source.ts';
 import type { NkTable } from '../../src/table.ts';
 import bounded from '../reference/fit-bounded.json' with { type: 'json' };
 
-
 const normal = seededNormal;
 
 const TL = { A: 122.0, E0: 3.45, C: 2.54, Eg: 1.2, eps_inf: 1.15 };
@@ -99,7 +98,9 @@ describe('optima on a bound reach scipy least_squares(method="trf", bounds) (scr
         }
       }
       // the bound scipy's optimum rests on that also decides the fit (lorentz.Gamma: a local minimum in both)
-      const held = Object.entries(r.parameters).filter(([, p]) => p.at_bound).map(([n]) => n);
+      const held = Object.entries(r.parameters)
+        .filter(([, p]) => p.at_bound)
+        .map(([n]) => n);
       expect(held.length).toBeGreaterThan(0);
       expect(r.warnings.join(' ')).toMatch(/ended on its (lower|upper) bound/);
     });
@@ -174,7 +175,10 @@ describe('ε fits use the file’s σε directly', () => {
     const { buildProblem } = await import('../../src/fit/problem.ts');
     const e = Array.from({ length: 80 }, (_, i) => 1.5 + i * 0.04);
     const eps = buildModel('tauc-lorentz').eps(e, TL);
-    const text = 'energy_eV,eps1,eps2,sigma_eps1,sigma_eps2\n' + e.map((x, i) => `${x},${eps.eps1[i]},${eps.eps2[i]},${0.01 + 0.001 * i},0.02`).join('\n') + '\n';
+    const text =
+      'energy_eV,eps1,eps2,sigma_eps1,sigma_eps2\n' +
+      e.map((x, i) => `${x},${eps.eps1[i]},${eps.eps2[i]},${0.01 + 0.001 * i},0.02`).join('\n') +
+      '\n';
     const { table } = parseNkTable(text, { file: 'eps.csv' });
     expect(table.sigmaEps1).toBeDefined();
     const problem = buildProblem(table, 'eps');
@@ -190,7 +194,17 @@ describe('ε fits use the file’s σε directly', () => {
 describe('--compare prefers fewer parameters when BIC cannot tell', () => {
   it('BIC within 2 of the lowest: the candidate with fewer free parameters is named', async () => {
     const { bestByBic } = await import('../../src/fit/compare.ts');
-    expect(bestByBic([{ model: 'sellmeier', bic: -100, free_parameters: 6 }, { model: 'cauchy', bic: -98.5, free_parameters: 3 }])).toBe('cauchy');
-    expect(bestByBic([{ model: 'sellmeier', bic: -100, free_parameters: 6 }, { model: 'cauchy', bic: -97.5, free_parameters: 3 }])).toBe('sellmeier');
+    expect(
+      bestByBic([
+        { model: 'sellmeier', bic: -100, free_parameters: 6 },
+        { model: 'cauchy', bic: -98.5, free_parameters: 3 },
+      ]),
+    ).toBe('cauchy');
+    expect(
+      bestByBic([
+        { model: 'sellmeier', bic: -100, free_parameters: 6 },
+        { model: 'cauchy', bic: -97.5, free_parameters: 3 },
+      ]),
+    ).toBe('sellmeier');
   });
 });

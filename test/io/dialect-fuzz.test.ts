@@ -22,15 +22,13 @@ const dialect = fc.record({
   unit: fc.constantFrom(...SPECTRAL_UNITS),
 });
 
-const rows = fc
-  .uniqueArray(fc.integer({ min: 1, max: 100000 }), { minLength: 2, maxLength: 40 })
-  .chain((xs) =>
-    fc.tuple(
-      fc.constant(xs.map((x) => x / 1000)), // x with three decimals
-      fc.array(fc.integer({ min: 1, max: 500000 }), { minLength: xs.length, maxLength: xs.length }),
-      fc.array(fc.integer({ min: 0, max: 500000 }), { minLength: xs.length, maxLength: xs.length }),
-    ),
-  );
+const rows = fc.uniqueArray(fc.integer({ min: 1, max: 100000 }), { minLength: 2, maxLength: 40 }).chain((xs) =>
+  fc.tuple(
+    fc.constant(xs.map((x) => x / 1000)), // x with three decimals
+    fc.array(fc.integer({ min: 1, max: 500000 }), { minLength: xs.length, maxLength: xs.length }),
+    fc.array(fc.integer({ min: 0, max: 500000 }), { minLength: xs.length, maxLength: xs.length }),
+  ),
+);
 
 describe('import of random tables in random dialects', () => {
   it('gives back the written numbers', () => {
@@ -51,10 +49,10 @@ describe('import of random tables in random dialects', () => {
         // x is random over 0.001–100 in any unit: the dialect is under test here, not the plausible range.
         const { table, detected } = parseNkTable(text, { allowAnyRange: true });
         expect(detected.xUnit).toBe(d.unit);
-        expect(detected.decimalComma).toBe(useComma && [...xs, ...nInt.map((v) => v / 1e5), ...kInt.map((v) => v / 1e5)].some((v) => !Number.isInteger(v)));
-        const expected = xs
-          .map((x, i) => ({ w: toWavelengthNm(x, d.unit), n: nInt[i] / 1e5, k: kInt[i] / 1e5 }))
-          .sort((a, b) => a.w - b.w);
+        expect(detected.decimalComma).toBe(
+          useComma && [...xs, ...nInt.map((v) => v / 1e5), ...kInt.map((v) => v / 1e5)].some((v) => !Number.isInteger(v)),
+        );
+        const expected = xs.map((x, i) => ({ w: toWavelengthNm(x, d.unit), n: nInt[i] / 1e5, k: kInt[i] / 1e5 })).sort((a, b) => a.w - b.w);
         expect(table.wavelengthNm).toEqual(expected.map((e) => e.w));
         expect(table.n).toEqual(expected.map((e) => e.n));
         expect(table.k).toEqual(expected.map((e) => e.k));

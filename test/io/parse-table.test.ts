@@ -50,7 +50,12 @@ const GOOD: { file: string; options?: ImportOptions; table?: object; detected?: 
   },
   { file: 'large-gap.csv', warnings: [/^1 large gap\(s\) in x \(over 5× the median spacing of 10 nm\); largest 440–700 nm \(lines 6 and 7\)/] },
   { file: 'windows-1252-um.csv', table: BASE, detected: { encoding: 'windows-1252', xUnit: 'um' } },
-  { file: 'extra-column.csv', table: BASE, detected: { roles: ['x', 'n', 'k', 'ignore'] }, warnings: [/column 4 "temperature \(C\)" is not a known quantity; ignored/] },
+  {
+    file: 'extra-column.csv',
+    table: BASE,
+    detected: { roles: ['x', 'n', 'k', 'ignore'] },
+    warnings: [/column 4 "temperature \(C\)" is not a known quantity; ignored/],
+  },
   { file: 'bare-wavelength.csv', table: BASE, warnings: [/no unit; values 400–600 read as nm/] },
   { file: 'n-only.csv', table: { ...BASE, k: [0, 0, 0] }, detected: { hasK: false }, warnings: [/^no k column: k was not measured/] },
   // Instrument exports as they come (INVENTED numbers, Marrowick Optics demo lab; each file says so).
@@ -80,7 +85,14 @@ const GOOD: { file: string; options?: ImportOptions; table?: object; detected?: 
   {
     file: 'export-wvl-brackets-um.txt',
     table: BASE,
-    detected: { delimiter: 'whitespace', headerLine: 3, unitsRow: ['[um]', '[-]', '[-]'], columns: ['Wvl', 'N', 'K'], xUnit: 'um', preamble: [expect.stringMatching(/INVENTED/), 'Sample: MW-2291'] },
+    detected: {
+      delimiter: 'whitespace',
+      headerLine: 3,
+      unitsRow: ['[um]', '[-]', '[-]'],
+      columns: ['Wvl', 'N', 'K'],
+      xUnit: 'um',
+      preamble: [expect.stringMatching(/INVENTED/), 'Sample: MW-2291'],
+    },
     warnings: [],
   },
   {
@@ -166,7 +178,9 @@ describe('parseNkTable: malformed files are refused with file, line, column and 
       const err = refusal(() => parseNkTable(read(`bad/${file}`), { file }));
       expect(err.rule).toBe(rule);
       expect(err.location).toEqual({ file, ...(line !== undefined && { line }), ...(column !== undefined && { column }) });
-      expect(err.describe()).toMatch(new RegExp(`^${file.replace('.', '\\.')}${line ? `:${line}` : ''}${column ? `:${column}` : ''}: .+ \\[${rule}\\]$`));
+      expect(err.describe()).toMatch(
+        new RegExp(`^${file.replace('.', '\\.')}${line ? `:${line}` : ''}${column ? `:${column}` : ''}: .+ \\[${rule}\\]$`),
+      );
     });
   }
 });

@@ -50,10 +50,14 @@ describe('nkledger kk', () => {
     const file = join(mkdtempSync(join(tmpdir(), 'nkledger-kk-')), 'kk.svg');
     expect((await run(csv('tauc-lorentz'), '--plot', file)).code).toBe(0);
     const root = parseSvg(readFileSync(file, 'utf8')); // throws when malformed
-    const rows = readFileSync(new URL(`../fixtures/kk/tauc-lorentz.csv`, import.meta.url), 'utf8').trim().split('\n').length - 1;
+    const rows =
+      readFileSync(new URL(`../fixtures/kk/tauc-lorentz.csv`, import.meta.url), 'utf8')
+        .trim()
+        .split('\n').length - 1;
     expect(findAll(root, 'title')[0].text).toMatch(/^Kramers-Kronig check of test\/fixtures\/kk\/tauc-lorentz\.csv: consistent \(max \|Δn\| /);
     const [nPanel, dnPanel] = findAll(root, 'g', 'panel');
-    const series = (panel: typeof root) => findAll(panel, 'g', 'series').map((s) => [s.attrs['data-label'], s.attrs['data-style'], Number(s.attrs['data-count'])]);
+    const series = (panel: typeof root) =>
+      findAll(panel, 'g', 'series').map((s) => [s.attrs['data-label'], s.attrs['data-style'], Number(s.attrs['data-count'])]);
     expect(series(nPanel)).toEqual([
       ['n measured', 'points', rows],
       ['n KK-reconstructed', 'line', rows],

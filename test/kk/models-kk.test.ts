@@ -99,4 +99,3 @@ describe('Kramers-Kronig consistency of the model catalogue', () => {
     expect(checkKramersKronig({ wavelengthNm, n, k }).verdict).toBe('inconsistent');
   });
 });
-

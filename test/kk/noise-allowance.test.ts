@@ -14,7 +14,11 @@ import { describe, expect, it } from 'vitest';
 import { checkKramersKronig, KK_DEFAULTS } from '../../src/kk/check.ts';
 import type { NkTable } from '../../src/table.ts';
 
-const pair = JSON.parse(readFileSync(new URL('../fixtures/kk/lorentz-pair.json', import.meta.url), 'utf8')) as { wavelength_nm: number[]; n: number[]; k: number[] };
+const pair = JSON.parse(readFileSync(new URL('../fixtures/kk/lorentz-pair.json', import.meta.url), 'utf8')) as {
+  wavelength_nm: number[];
+  n: number[];
+  k: number[];
+};
 
 /** mulberry32: a small seeded uniform generator on [0, 1) (common practice for reproducible test noise). */
 function mulberry32(seed: number): () => number {

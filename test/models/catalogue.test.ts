@@ -22,7 +22,13 @@ describe('model catalogue', () => {
     expect(buildModel('tauc-lorentz', { terms: 2 }).parameters.map((p) => p.name)).toEqual(['A1', 'E01', 'C1', 'A2', 'E02', 'C2', 'Eg', 'eps_inf']);
     expect(buildModel('drude').parameters.map((p) => p.name)).toEqual(['Ep', 'Gamma', 'eps_inf']);
     expect(buildModel('tauc-lorentz+drude').parameters.map((p) => p.name)).toEqual([
-      'tauc-lorentz.A', 'tauc-lorentz.E0', 'tauc-lorentz.C', 'tauc-lorentz.Eg', 'drude.Ep', 'drude.Gamma', 'eps_inf',
+      'tauc-lorentz.A',
+      'tauc-lorentz.E0',
+      'tauc-lorentz.C',
+      'tauc-lorentz.Eg',
+      'drude.Ep',
+      'drude.Gamma',
+      'eps_inf',
     ]);
   });
 
@@ -42,7 +48,14 @@ describe('model catalogue', () => {
 
   it('Drude + Lorentz sum equals the sum of the parts minus one eps_inf (sums are in ε)', () => {
     const e = [0.5, 1, 2, 3];
-    const sum = buildModel('lorentz+drude').eps(e, { 'lorentz.A': 30, 'lorentz.E0': 4, 'lorentz.Gamma': 0.5, 'drude.Ep': 2, 'drude.Gamma': 0.1, eps_inf: 2 });
+    const sum = buildModel('lorentz+drude').eps(e, {
+      'lorentz.A': 30,
+      'lorentz.E0': 4,
+      'lorentz.Gamma': 0.5,
+      'drude.Ep': 2,
+      'drude.Gamma': 0.1,
+      eps_inf: 2,
+    });
     const l = buildModel('lorentz').eps(e, { A: 30, E0: 4, Gamma: 0.5, eps_inf: 2 });
     const d = buildModel('drude').eps(e, { Ep: 2, Gamma: 0.1, eps_inf: 0 });
     e.forEach((_, i) => {

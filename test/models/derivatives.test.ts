@@ -14,7 +14,18 @@ const cases: { spec: string; options?: { terms?: number; urbach?: boolean }; p: 
   { spec: 'tauc-lorentz', p: { A: 122, E0: 3.45, C: 2.54, Eg: 1.2, eps_inf: 1.15 } },
   { spec: 'tauc-lorentz', options: { terms: 2 }, p: { A1: 80, E01: 3.4, C1: 2, A2: 40, E02: 5.5, C2: 3, Eg: 1.5, eps_inf: 1 } },
   { spec: 'lorentz', options: { terms: 2 }, p: { A1: 20, E01: 3, Gamma1: 0.4, A2: 50, E02: 7, Gamma2: 1, eps_inf: 1.2 } },
-  { spec: 'tauc-lorentz+drude', p: { 'tauc-lorentz.A': 60, 'tauc-lorentz.E0': 5, 'tauc-lorentz.C': 2, 'tauc-lorentz.Eg': 3.6, 'drude.Ep': 1.9, 'drude.Gamma': 0.12, eps_inf: 3.6 } },
+  {
+    spec: 'tauc-lorentz+drude',
+    p: {
+      'tauc-lorentz.A': 60,
+      'tauc-lorentz.E0': 5,
+      'tauc-lorentz.C': 2,
+      'tauc-lorentz.Eg': 3.6,
+      'drude.Ep': 1.9,
+      'drude.Gamma': 0.12,
+      eps_inf: 3.6,
+    },
+  },
 ];
 
 describe('analytic derivatives equal central differences', () => {

@@ -37,7 +37,10 @@ describe('tabulated evaluation', () => {
 
   it('monotone cubic (Fritsch & Carlson 1980) is much more accurate than linear on a smooth curve', () => {
     const table = sampled(10);
-    for (const [key, f] of [['n', nAnalytic], ['k', kAnalytic]] as const) {
+    for (const [key, f] of [
+      ['n', nAnalytic],
+      ['k', kAnalytic],
+    ] as const) {
       const linear = maxError(table, 'linear', f, key);
       const cubic = maxError(table, 'monotone-cubic', f, key);
       expect(cubic).toBeLessThan(linear / 10);

@@ -23,7 +23,7 @@ describe('spectral units (CODATA 2018)', () => {
   });
 
   it('converts the HeNe line 632.8 nm to 1.959295 eV and 15802.78 cm⁻¹ (published constants, computed here)', () => {
-    const expectedEv = ((H_J_S * C_M_S) / E_C) / 632.8e-9;
+    const expectedEv = (H_J_S * C_M_S) / E_C / 632.8e-9;
     expect(photonEnergyEvFromWavelengthNm(632.8)).toBeCloseTo(expectedEv, 8);
     expect(photonEnergyEvFromWavelengthNm(632.8)).toBeCloseTo(1.959295, 6);
     expect(wavenumberCm1FromWavelengthNm(632.8)).toBeCloseTo(15802.781, 3);
@@ -53,9 +53,24 @@ describe('spectral units (CODATA 2018)', () => {
 
   it('parses the ways people write units, and only those', () => {
     const cases: [string, string | undefined][] = [
-      ['nm', 'nm'], ['µm', 'um'], ['μm', 'um'], ['um', 'um'], ['micron', 'um'], ['Å', 'A'], ['\u212B', 'A'], ['A', 'A'],
-      ['eV', 'eV'], ['ev', 'eV'], ['cm-1', 'cm-1'], ['cm⁻¹', 'cm-1'], ['cm^-1', 'cm-1'], ['1/cm', 'cm-1'], ['cm\u22121', 'cm-1'],
-      ['furlong', undefined], ['a', undefined], ['', undefined],
+      ['nm', 'nm'],
+      ['µm', 'um'],
+      ['μm', 'um'],
+      ['um', 'um'],
+      ['micron', 'um'],
+      ['Å', 'A'],
+      ['\u212B', 'A'],
+      ['A', 'A'],
+      ['eV', 'eV'],
+      ['ev', 'eV'],
+      ['cm-1', 'cm-1'],
+      ['cm⁻¹', 'cm-1'],
+      ['cm^-1', 'cm-1'],
+      ['1/cm', 'cm-1'],
+      ['cm\u22121', 'cm-1'],
+      ['furlong', undefined],
+      ['a', undefined],
+      ['', undefined],
     ];
     for (const [text, unit] of cases) expect(parseSpectralUnit(text), text).toBe(unit);
   });

@@ -154,7 +154,13 @@ describe('hard cases', () => {
       title: 'scatter',
       xLabel: 'Wavelength (nm)',
       panels: [
-        { yLabel: 'y', series: [{ label: 'points', ...a, style: 'points' }, { label: 'line', ...b, style: 'line' }] },
+        {
+          yLabel: 'y',
+          series: [
+            { label: 'points', ...a, style: 'points' },
+            { label: 'line', ...b, style: 'line' },
+          ],
+        },
         { yLabel: 'r', relativeHeight: 0.5, zeroLine: true, series: [{ label: 'residual', x: a.x, y: a.y.map((v) => v - 0.5), style: 'points' }] },
       ],
     };
@@ -175,10 +181,17 @@ describe('hard cases', () => {
       [`tauc-lorentz fit of ${longPath}`, 800],
       [`${words} ${words} ${words}`, 640],
     ] as const) {
-      const spec: PlotSpec = { title, xLabel: 'x', width, panels: [{ yLabel: 'y', series: [{ label: 's', x: [1, 2, 3], y: [1, 3, 2], style: 'line' }] }] };
+      const spec: PlotSpec = {
+        title,
+        xLabel: 'x',
+        width,
+        panels: [{ yLabel: 'y', series: [{ label: 's', x: [1, 2, 3], y: [1, 3, 2], style: 'line' }] }],
+      };
       expectReadableLayout(renderSpectrumPlot(spec), spec);
     }
-    const shortened = findAll(parseSvg(renderSpectrumPlot({ title: `fit of ${longPath}`, xLabel: 'x', panels: [] })), 'tspan', 'title-line').map((t) => t.text);
+    const shortened = findAll(parseSvg(renderSpectrumPlot({ title: `fit of ${longPath}`, xLabel: 'x', panels: [] })), 'tspan', 'title-line').map(
+      (t) => t.text,
+    );
     expect(shortened[1]).toMatch(/^\/mnt\/lab-share.*….*folder-name\/ito\.tsv$/);
   });
 });

@@ -21,23 +21,26 @@ function pngSize(png: Buffer): { width: number; height: number } {
   return { width: png.readUInt32BE(16), height: png.readUInt32BE(20) };
 }
 
-describe.skipIf(!available)(`plots rendered to PNG in test-output/plots (${available ? rsvg.stdout.trim() : 'skipped: rsvg-convert not found, install librsvg2-bin'})`, () => {
-  let plots: ProjectPlot[];
-  beforeAll(async () => {
-    plots = await projectPlots();
-    mkdirSync(OUT, { recursive: true });
-  }, 60_000);
+describe.skipIf(!available)(
+  `plots rendered to PNG in test-output/plots (${available ? rsvg.stdout.trim() : 'skipped: rsvg-convert not found, install librsvg2-bin'})`,
+  () => {
+    let plots: ProjectPlot[];
+    beforeAll(async () => {
+      plots = await projectPlots();
+      mkdirSync(OUT, { recursive: true });
+    }, 60_000);
 
-  it('every plot renders without a warning at the size the document declares', () => {
-    for (const plot of plots) {
-      const svgPath = `${OUT}${plot.name}.svg`;
-      const pngPath = `${OUT}${plot.name}.png`;
-      writeFileSync(svgPath, plot.svg);
-      const run = spawnSync('rsvg-convert', ['--background-color', 'white', '-o', pngPath, svgPath], { encoding: 'utf8' });
-      expect(run.status, `${plot.name}: ${run.stderr}`).toBe(0);
-      expect(run.stderr, plot.name).toBe('');
-      const declared = plot.svg.match(/<svg [^>]*width="(\d+)" height="(\d+)"/)!;
-      expect(pngSize(readFileSync(pngPath))).toEqual({ width: Number(declared[1]), height: Number(declared[2]) });
-    }
-  }, 60_000);
-});
+    it('every plot renders without a warning at the size the document declares', () => {
+      for (const plot of plots) {
+        const svgPath = `${OUT}${plot.name}.svg`;
+        const pngPath = `${OUT}${plot.name}.png`;
+        writeFileSync(svgPath, plot.svg);
+        const run = spawnSync('rsvg-convert', ['--background-color', 'white', '-o', pngPath, svgPath], { encoding: 'utf8' });
+        expect(run.status, `${plot.name}: ${run.stderr}`).toBe(0);
+        expect(run.stderr, plot.name).toBe('');
+        const declared = plot.svg.match(/<svg [^>]*width="(\d+)" height="(\d+)"/)!;
+        expect(pngSize(readFileSync(pngPath))).toEqual({ width: Number(declared[1]), height: Number(declared[2]) });
+      }
+    }, 60_000);
+  },
+);

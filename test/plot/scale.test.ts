@@ -69,7 +69,15 @@ describe('niceDomain', () => {
 
 describe('paddedExtent', () => {
   it('ignores NaN and ±Infinity and pads by the fraction of the span', () => {
-    expect(paddedExtent([[1, NaN, 3], [Infinity, 2, -Infinity]], 0.1)).toEqual([0.8, 3.2]);
+    expect(
+      paddedExtent(
+        [
+          [1, NaN, 3],
+          [Infinity, 2, -Infinity],
+        ],
+        0.1,
+      ),
+    ).toEqual([0.8, 3.2]);
   });
 
   it('widens a zero span: ±5 % of the value, ±1 around zero', () => {

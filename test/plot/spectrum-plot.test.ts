@@ -72,14 +72,21 @@ describe('renderSpectrumPlot: document', () => {
     expect(axisLabels).toEqual(['n', 'n − model', 'Wavelength (nm)']);
     const legend = panels(root).map((p) => findAll(p, 'g', 'legend-entry').map((e) => [e.attrs['data-label'], e.text]));
     expect(legend).toEqual([
-      [['measured n', 'measured n'], ['model n <Cauchy>', 'model n <Cauchy>']],
+      [
+        ['measured n', 'measured n'],
+        ['model n <Cauchy>', 'model n <Cauchy>'],
+      ],
       [['residual', 'residual']],
     ]);
   });
 
   it('survives hostile labels (markup, quotes, control characters)', () => {
     const hostile = `"/><script>alert(1)</script>\u0007&amp;`;
-    const svg = renderSpectrumPlot({ title: hostile, xLabel: hostile, panels: [{ yLabel: hostile, series: [{ label: hostile, x: [1, 2], y: [1, 2], style: 'line' }] }] });
+    const svg = renderSpectrumPlot({
+      title: hostile,
+      xLabel: hostile,
+      panels: [{ yLabel: hostile, series: [{ label: hostile, x: [1, 2], y: [1, 2], style: 'line' }] }],
+    });
     expect(svg).not.toContain('<script');
     const root = parseSvg(svg);
     const expected = hostile.replace('\u0007', '\uFFFD');
@@ -117,7 +124,13 @@ describe('renderSpectrumPlot: series', () => {
   });
 
   it('draws dashed series with a dash array and a matching legend swatch', () => {
-    const root = parseSvg(renderSpectrumPlot({ title: 't', xLabel: 'x', panels: [{ yLabel: 'y', series: [{ label: 'model k', x: [1, 2, 3], y: [3, 1, 2], style: 'dashed' }] }] }));
+    const root = parseSvg(
+      renderSpectrumPlot({
+        title: 't',
+        xLabel: 'x',
+        panels: [{ yLabel: 'y', series: [{ label: 'model k', x: [1, 2, 3], y: [3, 1, 2], style: 'dashed' }] }],
+      }),
+    );
     const series = seriesGroups(root)[0];
     expect(series.attrs['stroke-dasharray']).toBe('6 4');
     const swatch = findAll(findAll(root, 'g', 'legend-entry')[0], 'line', 'swatch')[0];
@@ -152,7 +165,15 @@ describe('renderSpectrumPlot: series', () => {
       renderSpectrumPlot({
         title: 'gaps',
         xLabel: 'x',
-        panels: [{ yLabel: 'y', series: [{ label: 'line', x, y, style: 'line' }, { label: 'pts', x: [...x, NaN], y: [...y, 1], style: 'points' }] }],
+        panels: [
+          {
+            yLabel: 'y',
+            series: [
+              { label: 'line', x, y, style: 'line' },
+              { label: 'pts', x: [...x, NaN], y: [...y, 1], style: 'points' },
+            ],
+          },
+        ],
       }),
     );
     const [line, points] = seriesGroups(root);
@@ -207,7 +228,11 @@ describe('renderSpectrumPlot: axes', () => {
 
   it('draws a dashed zero line at y = 0, and includes 0 in the axis when asked even if the data do not', () => {
     const root = parseSvg(
-      renderSpectrumPlot({ title: 'z', xLabel: 'x', panels: [{ yLabel: 'y', zeroLine: true, series: [{ label: 's', x: [1, 2], y: [5, 6], style: 'points' }] }] }),
+      renderSpectrumPlot({
+        title: 'z',
+        xLabel: 'x',
+        panels: [{ yLabel: 'y', zeroLine: true, series: [{ label: 's', x: [1, 2], y: [5, 6], style: 'points' }] }],
+      }),
     );
     const zero = findAll(root, 'line', 'zero-line')[0];
     expect(zero.attrs['stroke-dasharray']).toBeDefined();
@@ -267,7 +292,9 @@ describe('renderSpectrumPlot: degenerate data', () => {
   });
 
   it('refuses caller bugs with a RangeError naming the series or field', () => {
-    expect(() => renderSpectrumPlot({ title: 't', xLabel: 'x', panels: [{ yLabel: 'y', series: [{ label: 'bad', x: [1, 2], y: [1], style: 'line' }] }] })).toThrow(/"bad" has 2 x values but 1 y values/);
+    expect(() =>
+      renderSpectrumPlot({ title: 't', xLabel: 'x', panels: [{ yLabel: 'y', series: [{ label: 'bad', x: [1, 2], y: [1], style: 'line' }] }] }),
+    ).toThrow(/"bad" has 2 x values but 1 y values/);
     expect(() => renderSpectrumPlot({ title: 't', xLabel: 'x', panels: [], width: 0 })).toThrow(RangeError);
     expect(() => renderSpectrumPlot({ title: 't', xLabel: 'x', panels: [{ yLabel: 'y', series: [], relativeHeight: -1 }] })).toThrow(RangeError);
   });
@@ -280,12 +307,30 @@ describe('legend placement', () => {
     box === null ? 'none' : `${box.top < area.top + area.height / 2 ? 'top' : 'bottom'}-${box.left < area.left + area.width / 2 ? 'left' : 'right'}`;
 
   it('prefers top-right when it is free', () => {
-    expect(corner(placeLegend(area, size, [[[150, 300], [650, 300]]]))).toBe('top-right');
+    expect(
+      corner(
+        placeLegend(area, size, [
+          [
+            [150, 300],
+            [650, 300],
+          ],
+        ]),
+      ),
+    ).toBe('top-right');
   });
 
   it('moves to the corner that hides the fewest marks, counting line segments between vertices', () => {
     // A line from the lower left to the upper right: two vertices only, the segment crosses top-right.
-    expect(corner(placeLegend(area, size, [[[100, 350], [700, 50]]]))).toBe('top-left');
+    expect(
+      corner(
+        placeLegend(area, size, [
+          [
+            [100, 350],
+            [700, 50],
+          ],
+        ]),
+      ),
+    ).toBe('top-left');
     // Points near both top corners and bottom-right: bottom-left is the free one.
     expect(corner(placeLegend(area, size, [[[120, 70]], [[680, 70]], [[680, 330]]]))).toBe('bottom-left');
   });
@@ -293,7 +338,13 @@ describe('legend placement', () => {
   it('leaves the data uncovered in a rendered plot where a free corner exists', () => {
     const x = Array.from({ length: 200 }, (_, i) => 400 + i * 3);
     const root = parseSvg(
-      renderSpectrumPlot({ title: 'legend', xLabel: 'x', width: 600, height: 400, panels: [{ yLabel: 'y', series: [{ label: 'rising', x, y: x, style: 'points' }] }] }),
+      renderSpectrumPlot({
+        title: 'legend',
+        xLabel: 'x',
+        width: 600,
+        height: 400,
+        panels: [{ yLabel: 'y', series: [{ label: 'rising', x, y: x, style: 'points' }] }],
+      }),
     );
     const legendBox = findAll(findAll(root, 'g', 'legend')[0], 'rect')[0];
     const [bx, by, bw, bh] = ['x', 'y', 'width', 'height'].map((k) => Number(legendBox.attrs[k]));

@@ -44,7 +44,12 @@ describe('element', () => {
   });
 
   it('writes polyline points', () => {
-    expect(pointsAttribute([[1.111, 2], [3, 4.567]])).toBe('1.11,2 3,4.57');
+    expect(
+      pointsAttribute([
+        [1.111, 2],
+        [3, 4.567],
+      ]),
+    ).toBe('1.11,2 3,4.57');
   });
 
   it('estimates text width from the character count', () => {

@@ -44,7 +44,8 @@ function raw(use: (db: Database.Database) => void): void {
   }
 }
 
-const triggerSql = (db: Database.Database, name: string) => (db.prepare('SELECT sql FROM sqlite_master WHERE name = ?').get(name) as { sql: string }).sql;
+const triggerSql = (db: Database.Database, name: string) =>
+  (db.prepare('SELECT sql FROM sqlite_master WHERE name = ?').get(name) as { sql: string }).sql;
 
 describe('the audit chain', () => {
   it('links every event to the one before it and hashes each over its canonical JSON', () => {
@@ -68,10 +69,16 @@ describe('the audit chain', () => {
 
   it('refuses, in SQLite itself, an audit row that does not extend the chain at its head', () => {
     raw((db) => {
-      expect(() => db.exec("INSERT INTO audit_log (at, actor, action, detail) VALUES ('2025-01-01T00:00:00.000Z', 'mallory', 'version.approve', '{}')")).toThrow(/extend the chain/);
+      expect(() =>
+        db.exec("INSERT INTO audit_log (at, actor, action, detail) VALUES ('2025-01-01T00:00:00.000Z', 'mallory', 'version.approve', '{}')"),
+      ).toThrow(/extend the chain/);
       const first = readAuditRows(t.registry)[1];
       expect(() =>
-        db.prepare("INSERT INTO audit_log (at, actor, action, detail, prev_hash, hash) VALUES ('2025-01-01T00:00:00.000Z', 'mallory', 'x', '{}', ?, ?)").run(first.prev_hash, 'e'.repeat(64)),
+        db
+          .prepare(
+            "INSERT INTO audit_log (at, actor, action, detail, prev_hash, hash) VALUES ('2025-01-01T00:00:00.000Z', 'mallory', 'x', '{}', ?, ?)",
+          )
+          .run(first.prev_hash, 'e'.repeat(64)),
       ).toThrow(/extend the chain|UNIQUE/);
     });
   });
@@ -85,18 +92,39 @@ describe('verify catches each attack made with raw SQL', () => {
       const row = db.prepare('SELECT * FROM material_versions WHERE number = 1').get() as Record<string, string>;
       const content = JSON.parse(row.content);
       content.table.n[0] += 0.01;
-      const provenance = { sample: null, substrate: null, process: null, instrument: null, method: null, angles_deg: null, measured_on: null, operator: null, source_file: null, source_sha256: null, notes: null };
-      db.prepare('UPDATE material_versions SET content = ?, sha256 = ? WHERE number = 1').run(canonicalJson(content), versionSha256(content, provenance));
+      const provenance = {
+        sample: null,
+        substrate: null,
+        process: null,
+        instrument: null,
+        method: null,
+        angles_deg: null,
+        measured_on: null,
+        operator: null,
+        source_file: null,
+        source_sha256: null,
+        notes: null,
+      };
+      db.prepare('UPDATE material_versions SET content = ?, sha256 = ? WHERE number = 1').run(
+        canonicalJson(content),
+        versionSha256(content, provenance),
+      );
       db.exec(trigger);
     });
     const report = verifyRegistry(t.registry);
     expect(report.ok).toBe(false);
     expect(report.mismatches).toEqual([]); // content and column agree: only the chain can tell
-    expect(report.state_mismatches.map((m) => m.problem)).toEqual([expect.stringMatching(/^film@1: its content hashes to .* but the audit chain recorded .*content rewritten/)]);
+    expect(report.state_mismatches.map((m) => m.problem)).toEqual([
+      expect.stringMatching(/^film@1: its content hashes to .* but the audit chain recorded .*content rewritten/),
+    ]);
   });
 
   it('a draft set to approved with another user as approver, without an audit row', () => {
-    raw((db) => db.exec("UPDATE material_versions SET status = 'approved', approved_by = 'carol', approved_at = '2025-01-01T00:00:00.000Z', self_approved = 0 WHERE number = 2"));
+    raw((db) =>
+      db.exec(
+        "UPDATE material_versions SET status = 'approved', approved_by = 'carol', approved_at = '2025-01-01T00:00:00.000Z', self_approved = 0 WHERE number = 2",
+      ),
+    );
     const report = verifyRegistry(t.registry);
     expect(report.ok).toBe(false);
     expect(report.state_mismatches.map((m) => m.problem)).toEqual([
@@ -118,7 +146,9 @@ describe('verify catches each attack made with raw SQL', () => {
   it('a trigger replaced by a same-named one that never fires (WHEN 0), and a trigger nobody created', () => {
     raw((db) => {
       db.exec('DROP TRIGGER material_versions_status_transitions');
-      db.exec("CREATE TRIGGER material_versions_status_transitions BEFORE UPDATE OF status ON material_versions WHEN 0 BEGIN SELECT RAISE(ABORT, 'nkledger: status may only go draft -> approved -> retired, or draft -> withdrawn'); END");
+      db.exec(
+        "CREATE TRIGGER material_versions_status_transitions BEFORE UPDATE OF status ON material_versions WHEN 0 BEGIN SELECT RAISE(ABORT, 'nkledger: status may only go draft -> approved -> retired, or draft -> withdrawn'); END",
+      );
       db.exec('CREATE TRIGGER helper AFTER INSERT ON materials BEGIN SELECT 1; END');
     });
     const report = verifyRegistry(t.registry);
@@ -133,7 +163,9 @@ describe('verify catches each attack made with raw SQL', () => {
       db.exec('DROP TRIGGER audit_log_no_update');
       db.exec("UPDATE audit_log SET actor = 'carol' WHERE action = 'version.approve'");
     });
-    expect(verifyRegistry(t.registry).chain.problems).toEqual([expect.stringMatching(/audit event 5 \(version\.approve, sequence 5\): its content no longer matches its hash/)]);
+    expect(verifyRegistry(t.registry).chain.problems).toEqual([
+      expect.stringMatching(/audit event 5 \(version\.approve, sequence 5\): its content no longer matches its hash/),
+    ]);
     // The approver's name in the versions table now disagrees with the (edited) event too.
     raw((db) => {
       db.exec('DROP TRIGGER audit_log_no_delete');
@@ -141,7 +173,9 @@ describe('verify catches each attack made with raw SQL', () => {
     });
     const report = verifyRegistry(t.registry);
     expect(report.chain.problems.join('\n')).toMatch(/sequence 4\): its prev_hash does not name the event before it/);
-    expect(report.state_mismatches.map((m) => m.problem)).toContain('film@2: the audit chain never recorded this version (inserted outside nkledger)');
+    expect(report.state_mismatches.map((m) => m.problem)).toContain(
+      'film@2: the audit chain never recorded this version (inserted outside nkledger)',
+    );
   });
 
   it('the whole log emptied', () => {
@@ -172,17 +206,36 @@ describe('a registry written before the chain existed', () => {
     const path = join(dir, 'old.db');
     const db = databaseAtMigration(dir, 'old.db', 5);
     const content = { table: cauchyTable(1.5), fit: null, kk: null };
-    const provenance = { sample: null, substrate: null, process: null, instrument: null, method: null, angles_deg: null, measured_on: null, operator: null, source_file: null, source_sha256: null, notes: null };
+    const provenance = {
+      sample: null,
+      substrate: null,
+      process: null,
+      instrument: null,
+      method: null,
+      angles_deg: null,
+      measured_on: null,
+      operator: null,
+      source_file: null,
+      source_sha256: null,
+      notes: null,
+    };
     const at = '2025-03-01T10:00:00.000Z';
     db.prepare("INSERT INTO materials (slug, name, created_by, created_at, last_version) VALUES ('old-film', 'Old', 'ada', ?, 1)").run(at);
-    db.prepare("INSERT INTO material_versions (material_id, number, status, content, sha256, created_by, created_at, approved_by, approved_at, self_approved) VALUES (1, 1, 'approved', ?, ?, 'ada', ?, 'bob', ?, 0)").run(
-      canonicalJson(content),
-      versionSha256(content, provenance),
-      at,
-      at,
-    );
-    for (const [actor, action, versionId] of [['ada', 'material.create', null], ['ada', 'version.import', 1], ['bob', 'version.approve', 1]] as const) {
-      db.prepare('INSERT INTO audit_log (at, actor, action, material_id, version_id, detail) VALUES (?, ?, ?, 1, ?, ?)').run(at, actor, action, versionId, '{}');
+    db.prepare(
+      "INSERT INTO material_versions (material_id, number, status, content, sha256, created_by, created_at, approved_by, approved_at, self_approved) VALUES (1, 1, 'approved', ?, ?, 'ada', ?, 'bob', ?, 0)",
+    ).run(canonicalJson(content), versionSha256(content, provenance), at, at);
+    for (const [actor, action, versionId] of [
+      ['ada', 'material.create', null],
+      ['ada', 'version.import', 1],
+      ['bob', 'version.approve', 1],
+    ] as const) {
+      db.prepare('INSERT INTO audit_log (at, actor, action, material_id, version_id, detail) VALUES (?, ?, ?, 1, ?, ?)').run(
+        at,
+        actor,
+        action,
+        versionId,
+        '{}',
+      );
     }
     db.close();
     return path;
@@ -201,7 +254,15 @@ describe('a registry written before the chain existed', () => {
       ]);
       const genesis = JSON.parse(rows[3].detail);
       expect(genesis.versions).toEqual([
-        { ref: 'old-film@1', sha256: expect.stringMatching(/^[0-9a-f]{64}$/), status: 'approved', created_by: 'ada', approved_by: 'bob', retired_by: null, withdrawn_by: null },
+        {
+          ref: 'old-film@1',
+          sha256: expect.stringMatching(/^[0-9a-f]{64}$/),
+          status: 'approved',
+          created_by: 'ada',
+          approved_by: 'bob',
+          retired_by: null,
+          withdrawn_by: null,
+        },
       ]);
       expect(genesis.earlier_events).toBe(3);
       expect(verifyRegistry(registry).ok).toBe(true);
@@ -211,7 +272,9 @@ describe('a registry written before the chain existed', () => {
 
       registry.sqlite.exec('DROP TRIGGER audit_log_no_update');
       registry.sqlite.exec("UPDATE audit_log SET actor = 'mallory' WHERE id = 3");
-      expect(verifyRegistry(registry).chain.problems).toEqual(['the 3 audit rows written before the chain started no longer match the digest its genesis event recorded']);
+      expect(verifyRegistry(registry).chain.problems).toEqual([
+        'the 3 audit rows written before the chain started no longer match the digest its genesis event recorded',
+      ]);
     } finally {
       registry.close();
     }

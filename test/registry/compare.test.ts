@@ -33,7 +33,11 @@ afterEach(() => t.cleanup());
 describe('diff', () => {
   it('finds the largest |Δn| where a known bump was added, and lists provenance changes', () => {
     importVersion(t.registry, { slug: 'sio2', table: table(1.45, 0.0036), provenance: { sample: 'W1' } }, 'ada');
-    importVersion(t.registry, { slug: 'sio2', table: table(1.45, 0.0036, { amplitude: 0.01, centreNm: 600, widthNm: 20 }), provenance: { sample: 'W2', operator: 'cy' } }, 'ada');
+    importVersion(
+      t.registry,
+      { slug: 'sio2', table: table(1.45, 0.0036, { amplitude: 0.01, centreNm: 600, widthNm: 20 }), provenance: { sample: 'W2', operator: 'cy' } },
+      'ada',
+    );
     const d = diffVersions(t.registry, 'sio2@1', 'sio2@2');
     // common practice: the difference of the two generating formulas is the bump itself, peak 0.01 at 600 nm
     expect(d.common_range_nm).toEqual([400, 800]);
@@ -50,11 +54,11 @@ describe('diff', () => {
 
   it('compares fitted parameters with Δ in combined standard errors and draws a three-panel plot', () => {
     const fitA = fitTable(table(1.45, 0.0036), { model: 'cauchy' });
-    const fitB = fitTable(table(1.46, 0.0040), { model: 'cauchy' });
+    const fitB = fitTable(table(1.46, 0.004), { model: 'cauchy' });
     // reference values: the generating coefficients (noise-free data, so the fit recovers them)
     expect(fitA.parameters.A.value).toBeCloseTo(1.45, 8);
     importVersion(t.registry, { slug: 'sio2', table: table(1.45, 0.0036), fit: fitA }, 'ada');
-    importVersion(t.registry, { slug: 'sio2', table: table(1.46, 0.0040), fit: fitB }, 'ada');
+    importVersion(t.registry, { slug: 'sio2', table: table(1.46, 0.004), fit: fitB }, 'ada');
     const d = diffVersions(t.registry, 'sio2@1', 'sio2@2');
     const A = d.parameters.find((p) => p.name === 'A')!;
     expect(A).toMatchObject({ unit: '1' });

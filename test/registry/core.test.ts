@@ -43,7 +43,14 @@ describe('opening', () => {
 describe('materials', () => {
   it('creates, lists and refuses a taken or malformed slug', () => {
     const [m] = listMaterials(t.registry);
-    expect(m).toMatchObject({ slug: 'sio2-thermal', name: 'Thermal oxide', tags: ['demo', 'oxide'], created_by: 'ada', versions: 0, latest_approved: null });
+    expect(m).toMatchObject({
+      slug: 'sio2-thermal',
+      name: 'Thermal oxide',
+      tags: ['demo', 'oxide'],
+      created_by: 'ada',
+      versions: 0,
+      latest_approved: null,
+    });
     expect(() => createMaterial(t.registry, { slug: 'sio2-thermal', name: 'x' }, 'ada')).toThrow(ConflictError);
     for (const bad of ['SiO2', 'sio2_thermal', '-sio2', 'sio2-', 'a--b', '']) {
       expect(() => createMaterial(t.registry, { slug: bad, name: 'x' }, 'ada')).toThrow(InputError);
@@ -55,7 +62,11 @@ describe('materials', () => {
 
 describe('versions', () => {
   it('numbers versions 1, 2, 3 and stores a reproducible hash', () => {
-    const v1 = importVersion(t.registry, { slug: 'sio2-thermal', table: cauchyTable(), provenance: { instrument: 'SE-1', method: 'se', angles_deg: '65,70,75' } }, 'ada');
+    const v1 = importVersion(
+      t.registry,
+      { slug: 'sio2-thermal', table: cauchyTable(), provenance: { instrument: 'SE-1', method: 'se', angles_deg: '65,70,75' } },
+      'ada',
+    );
     const v2 = importVersion(t.registry, { slug: 'sio2-thermal', table: cauchyTable(1.46) }, 'ada');
     expect([v1.ref, v2.ref]).toEqual(['sio2-thermal@1', 'sio2-thermal@2']);
     expect(v1.status).toBe('draft');
@@ -76,7 +87,8 @@ describe('versions', () => {
   });
 
   it('refuses bad provenance with the field named', () => {
-    const bad = (provenance: Record<string, unknown>) => () => importVersion(t.registry, { slug: 'sio2-thermal', table: cauchyTable(), provenance }, 'ada');
+    const bad = (provenance: Record<string, unknown>) => () =>
+      importVersion(t.registry, { slug: 'sio2-thermal', table: cauchyTable(), provenance }, 'ada');
     expect(bad({ method: 'guesswork' })).toThrow(/method/);
     expect(bad({ measured_on: '2024-02-30' })).toThrow(/measured_on/);
     expect(bad({ angles_deg: '65,95' })).toThrow(/angles_deg/);
@@ -109,7 +121,9 @@ describe('references', () => {
     const m = t.registry.sqlite.prepare("SELECT id FROM materials WHERE slug = 'sio2-thermal'").get() as { id: number };
     const twinHash = `${v1.sha256.slice(0, 10)}${'0'.repeat(54)}`;
     t.registry.sqlite
-      .prepare("INSERT INTO material_versions (material_id, number, status, content, sha256, created_by, created_at) VALUES (?, 2, 'draft', '{}', ?, 'eve', 'now')")
+      .prepare(
+        "INSERT INTO material_versions (material_id, number, status, content, sha256, created_by, created_at) VALUES (?, 2, 'draft', '{}', ?, 'eve', 'now')",
+      )
       .run(m.id, twinHash);
     expect(() => resolveRef(t.registry, `sio2-thermal@sha256:${v1.sha256.slice(0, 8)}`)).toThrow(/ambiguous.*sio2-thermal@2, sio2-thermal@1/);
     expect(resolveRef(t.registry, `sio2-thermal@sha256:${v1.sha256.slice(0, 12)}`).ref).toBe('sio2-thermal@1');

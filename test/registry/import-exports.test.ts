@@ -16,8 +16,16 @@ import { cauchyTable, tempRegistry, type TempRegistry } from './helpers.ts';
 const fixture = (name: string) => new Uint8Array(readFileSync(new URL(`../fixtures/import/good/${name}`, import.meta.url)));
 /** A 21-row export with a preamble (so the KK check can run); INVENTED numbers n = 1.45 + 0.0036/λ². */
 function exportWithPreamble(offset = 0, withK = true): Uint8Array {
-  const rows = Array.from({ length: 21 }, (_, i) => 400 + 20 * i).map((w) => `${w},${(1.45 + offset + 0.0036 / (w / 1000) ** 2).toFixed(6)}${withK ? ',0.001' : ''}`);
-  const text = ['Marrowick Optics MO-SE 640 export', 'Comment: INVENTED test data', 'Sample: TA-0412', `Wavelength (nm),n${withK ? ',k' : ''}`, ...rows].join('\n');
+  const rows = Array.from({ length: 21 }, (_, i) => 400 + 20 * i).map(
+    (w) => `${w},${(1.45 + offset + 0.0036 / (w / 1000) ** 2).toFixed(6)}${withK ? ',0.001' : ''}`,
+  );
+  const text = [
+    'Marrowick Optics MO-SE 640 export',
+    'Comment: INVENTED test data',
+    'Sample: TA-0412',
+    `Wavelength (nm),n${withK ? ',k' : ''}`,
+    ...rows,
+  ].join('\n');
   return new TextEncoder().encode(`${text}\n`);
 }
 
@@ -29,7 +37,7 @@ beforeEach(() => {
 afterEach(() => t.cleanup());
 
 describe('file provenance', () => {
-  it('stores the preamble and the original bytes\' name and SHA-256', () => {
+  it("stores the preamble and the original bytes' name and SHA-256", () => {
     const bytes = exportWithPreamble();
     const v = importMeasurement(t.registry, { slug: 'ta2o5', bytes, file: 'runs/ta-0412.csv' }, 'ada');
     expect(v.preamble).toEqual(['Marrowick Optics MO-SE 640 export', 'Comment: INVENTED test data', 'Sample: TA-0412']);
@@ -48,8 +56,14 @@ describe('file provenance', () => {
   });
 
   it('no k column: provenance says so, the KK answer is uninformative "no k column", an absorbing fit uses n only', () => {
-    const v = importMeasurement(t.registry, { slug: 'ta2o5', bytes: exportWithPreamble(0, false), file: 'n-only.csv', fit: { model: 'tauc-lorentz' } }, 'ada');
-    expect(v.import_warnings).toEqual(expect.arrayContaining([expect.stringMatching(/^no k column/), expect.stringMatching(/tauc-lorentz fit uses n only/)]));
+    const v = importMeasurement(
+      t.registry,
+      { slug: 'ta2o5', bytes: exportWithPreamble(0, false), file: 'n-only.csv', fit: { model: 'tauc-lorentz' } },
+      'ada',
+    );
+    expect(v.import_warnings).toEqual(
+      expect.arrayContaining([expect.stringMatching(/^no k column/), expect.stringMatching(/tauc-lorentz fit uses n only/)]),
+    );
     const shown = showVersion(t.registry, v.ref);
     expect(shown.provenance.absent_columns).toEqual(['k']);
     expect(shown.content.kk).toMatchObject({ verdict: 'uninformative', reason: 'no k column' });
@@ -62,7 +76,12 @@ describe('file provenance', () => {
 
 describe('several files at once', () => {
   it('stores one draft per file with its own provenance', () => {
-    const files = [0, 0.01, 0.02].map((o, i) => ({ slug: 'ta2o5', bytes: exportWithPreamble(o), file: `wafer-${i + 1}.csv`, provenance: { operator: 'R. Okafor' } }));
+    const files = [0, 0.01, 0.02].map((o, i) => ({
+      slug: 'ta2o5',
+      bytes: exportWithPreamble(o),
+      file: `wafer-${i + 1}.csv`,
+      provenance: { operator: 'R. Okafor' },
+    }));
     const stored = importMeasurements(t.registry, files, 'ada');
     expect(stored.map((s) => s.ref)).toEqual(['ta2o5@1', 'ta2o5@2', 'ta2o5@3']);
     expect(showVersion(t.registry, 'ta2o5@3').provenance).toMatchObject({ source_file: 'wafer-3.csv', operator: 'R. Okafor' });
@@ -73,12 +92,18 @@ describe('several files at once', () => {
     const bad = { slug: 'ta2o5', bytes: new TextEncoder().encode('Wavelength (nm),n\n0.4,1.5\n0.5,1.5\n'), file: 'b.csv' };
     expect(() => importMeasurements(t.registry, [good, bad], 'ada')).toThrow(/implausible|looks like µm/);
     expect(() => importMeasurements(t.registry, [good, { ...good }], 'ada')).toThrow(/identical content/);
-    expect(() => importMeasurements(t.registry, [good, { ...good, bytes: exportWithPreamble(0.05), slug: 'nope' }], 'ada')).toThrow(/no material "nope"/);
+    expect(() => importMeasurements(t.registry, [good, { ...good, bytes: exportWithPreamble(0.05), slug: 'nope' }], 'ada')).toThrow(
+      /no material "nope"/,
+    );
     expect(history(t.registry, 'ta2o5').versions).toHaveLength(0);
   });
 
   it('reads a fixture export (units row, trade names) like a single import', () => {
-    const [v] = importMeasurements(t.registry, [{ slug: 'ta2o5', bytes: fixture('export-units-row-trade-names.csv'), file: 'x.csv', kk: false }], 'ada');
+    const [v] = importMeasurements(
+      t.registry,
+      [{ slug: 'ta2o5', bytes: fixture('export-units-row-trade-names.csv'), file: 'x.csv', kk: false }],
+      'ada',
+    );
     expect(showVersion(t.registry, v.ref).content.table?.n).toEqual([1.52, 1.51, 1.5]);
   });
 });
@@ -88,7 +113,11 @@ describe('material edit', () => {
     const e = editMaterial(t.registry, 'ta2o5', { name: 'Ta2O5, ion-assisted', addTags: ['ias'], removeTags: ['oxide'] }, 'bob');
     expect(e).toMatchObject({ slug: 'ta2o5', name: 'Ta2O5, ion-assisted', tags: ['ias'], changed: ['name', 'tags'] });
     const audit = history(t.registry, 'ta2o5').audit.at(-1)!;
-    expect(audit).toMatchObject({ actor: 'bob', action: 'material.edit', detail: { slug: 'ta2o5', name: { from: 'Ta2O5', to: 'Ta2O5, ion-assisted' } } });
+    expect(audit).toMatchObject({
+      actor: 'bob',
+      action: 'material.edit',
+      detail: { slug: 'ta2o5', name: { from: 'Ta2O5', to: 'Ta2O5, ion-assisted' } },
+    });
     expect(editMaterial(t.registry, 'ta2o5', { tags: ['ias'] }, 'bob').changed).toEqual([]);
     expect(history(t.registry, 'ta2o5').audit.filter((a) => a.action === 'material.edit')).toHaveLength(1);
     expect(() => editMaterial(t.registry, 'ta2o5', {}, 'bob')).toThrow(/nothing to change/);

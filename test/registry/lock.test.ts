@@ -35,7 +35,11 @@ afterEach(() => t.cleanup());
 describe('lockfiles', () => {
   it('round-trips through its JSON format and verifies clean', () => {
     const text = serializeLockfile(lock);
-    expect(JSON.parse(text)).toMatchObject({ format: 'nkledger-lock', format_version: 2, materials: { sio2: { version: 1 }, ta2o5: { version: 1 } } });
+    expect(JSON.parse(text)).toMatchObject({
+      format: 'nkledger-lock',
+      format_version: 2,
+      materials: { sio2: { version: 1 }, ta2o5: { version: 1 } },
+    });
     expect(JSON.parse(text).registry_head).toEqual(chainHead(t.registry));
     const report = lockVerify(t.registry, parseLockfile(text));
     expect(report).toMatchObject({ ok: true, failures: 0, warnings: 0, history: { outcome: 'ok', failed: false } });
@@ -57,7 +61,7 @@ describe('lockfiles', () => {
         ...lock.materials,
         sio2: { ...lock.materials.sio2, sha256: lock.materials.ta2o5.sha256 },
         'ghost-film': { version: 1, sha256: '0'.repeat(64) },
-        'ta2o5': { version: 4, sha256: lock.materials.ta2o5.sha256 },
+        ta2o5: { version: 4, sha256: lock.materials.ta2o5.sha256 },
       },
     };
     const report = lockVerify(t.registry, bad);
@@ -81,7 +85,9 @@ describe('lockfiles', () => {
   it('recomputes each pinned hash from the content: content edited under an unchanged hash column fails (issue attack 1)', () => {
     // Drop the content trigger, change the pinned version's content, re-create the trigger: the sha256
     // column still holds the locked value, which is all the earlier check compared.
-    const trigger = (t.registry.sqlite.prepare("SELECT sql FROM sqlite_master WHERE name = 'material_versions_content_immutable'").get() as { sql: string }).sql;
+    const trigger = (
+      t.registry.sqlite.prepare("SELECT sql FROM sqlite_master WHERE name = 'material_versions_content_immutable'").get() as { sql: string }
+    ).sql;
     t.registry.sqlite.exec('DROP TRIGGER material_versions_content_immutable');
     const row = t.registry.sqlite.prepare('SELECT id, content FROM material_versions WHERE id = 1').get() as { id: number; content: string };
     const content = JSON.parse(row.content);

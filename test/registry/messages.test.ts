@@ -13,7 +13,9 @@ afterEach(() => t.cleanup());
 
 describe('not-found and rule messages', () => {
   it('a material without versions says so instead of "versions 1 to 0 exist"', () => {
-    expect(() => showVersion(t.registry, 'mgf2-evap@1')).toThrow('mgf2-evap has no version 1: it has no versions yet (add one with `nkledger import FILE --material mgf2-evap`)');
+    expect(() => showVersion(t.registry, 'mgf2-evap@1')).toThrow(
+      'mgf2-evap has no version 1: it has no versions yet (add one with `nkledger import FILE --material mgf2-evap`)',
+    );
     expect(() => resolveRef(t.registry, 'mgf2-evap')).toThrow('mgf2-evap has no approved version: it has no versions yet');
   });
 
@@ -37,13 +39,19 @@ describe('not-found and rule messages', () => {
 
   it('status conflicts read as English ("an approved version")', () => {
     importVersion(t.registry, { slug: 'mgf2-evap', table: cauchyTable() }, 'ada');
-    expect(() => retire(t.registry, 'mgf2-evap@1', 'why', 'bob')).toThrow('cannot retire mgf2-evap@1: it is draft, and only an approved version can be retired');
+    expect(() => retire(t.registry, 'mgf2-evap@1', 'why', 'bob')).toThrow(
+      'cannot retire mgf2-evap@1: it is draft, and only an approved version can be retired',
+    );
     approve(t.registry, 'mgf2-evap@1', 'bob');
-    expect(() => withdraw(t.registry, 'mgf2-evap@1', 'bob')).toThrow('cannot withdraw mgf2-evap@1: it is approved, and only a draft version can be withdrawn');
+    expect(() => withdraw(t.registry, 'mgf2-evap@1', 'bob')).toThrow(
+      'cannot withdraw mgf2-evap@1: it is approved, and only a draft version can be withdrawn',
+    );
   });
 
   it('an unknown material says how to list and create materials', () => {
-    expect(() => resolveRef(t.registry, 'tio2@1')).toThrow('no material "tio2" in the registry (`nkledger list` lists them; `nkledger material add tio2 --name NAME` creates it)');
+    expect(() => resolveRef(t.registry, 'tio2@1')).toThrow(
+      'no material "tio2" in the registry (`nkledger list` lists them; `nkledger material add tio2 --name NAME` creates it)',
+    );
   });
 
   it('a missing lockfile says how to start one', () => {

@@ -6,7 +6,17 @@ import { mkdtempSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterEach, beforeEach, describe, expect, it } from 'vitest';
-import { approve, createMaterial, importVersion, openRegistry, readSettings, resetSetting, SETTING_KEYS, writeSetting, writeSettingText } from '../../src/service/registry.ts';
+import {
+  approve,
+  createMaterial,
+  importVersion,
+  openRegistry,
+  readSettings,
+  resetSetting,
+  SETTING_KEYS,
+  writeSetting,
+  writeSettingText,
+} from '../../src/service/registry.ts';
 import { cauchyTable, databaseAtMigration, tempRegistry, type TempRegistry } from './helpers.ts';
 
 let t: TempRegistry;
@@ -16,12 +26,23 @@ beforeEach(() => {
 afterEach(() => t.cleanup());
 
 const auditRows = (t: TempRegistry) =>
-  t.registry.sqlite.prepare("SELECT actor, action, detail FROM audit_log WHERE action LIKE 'setting.%' ORDER BY id").all() as { actor: string; action: string; detail: string }[];
+  t.registry.sqlite.prepare("SELECT actor, action, detail FROM audit_log WHERE action LIKE 'setting.%' ORDER BY id").all() as {
+    actor: string;
+    action: string;
+    detail: string;
+  }[];
 
 describe('settings', () => {
   it('one catalogue holds the registry rule and the API settings, with defaults', () => {
     expect(SETTING_KEYS).toEqual(['allow_self_approval', 'anonymous_reads', 'cors_origins', 'max_body_bytes', 'max_nk_points', 'max_stack_work']);
-    expect(readSettings(t.registry)).toEqual({ allow_self_approval: false, anonymous_reads: 'auto', cors_origins: [], max_body_bytes: 8 * 1024 * 1024, max_nk_points: 10_000, max_stack_work: 2_000_000 });
+    expect(readSettings(t.registry)).toEqual({
+      allow_self_approval: false,
+      anonymous_reads: 'auto',
+      cors_origins: [],
+      max_body_bytes: 8 * 1024 * 1024,
+      max_nk_points: 10_000,
+      max_stack_work: 2_000_000,
+    });
   });
 
   it('allow_self_approval set through the catalogue governs approval; set and reset are audited', () => {
@@ -43,9 +64,13 @@ describe('settings', () => {
   });
 
   it('refuses values that do not fit, names the setting, and writes nothing', () => {
-    expect(() => writeSettingText(t.registry, 'allow_self_approval', 'maybe', 'ada')).toThrow(/bad value for setting allow_self_approval: say on or off/);
+    expect(() => writeSettingText(t.registry, 'allow_self_approval', 'maybe', 'ada')).toThrow(
+      /bad value for setting allow_self_approval: say on or off/,
+    );
     expect(() => writeSetting(t.registry, 'allow_self_approval', 'on', 'ada')).toThrow(/allow_self_approval/); // JSON API: a boolean
-    expect(() => writeSettingText(t.registry, 'self_approval', 'on', 'ada')).toThrow(/unknown setting "self_approval": known settings are allow_self_approval, /);
+    expect(() => writeSettingText(t.registry, 'self_approval', 'on', 'ada')).toThrow(
+      /unknown setting "self_approval": known settings are allow_self_approval, /,
+    );
     expect(auditRows(t)).toEqual([]);
   });
 });
@@ -61,14 +86,31 @@ describe('migration of a registry made before the settings were merged', () => {
     // Only the migrations up to 0002 (the two-table layout).
     const path = join(dir, 'old.db');
     const sqlite = databaseAtMigration(dir, 'old.db', 2);
-    sqlite.prepare("INSERT INTO registry_settings (key, value, updated_by, updated_at) VALUES ('allow_self_approval', 'true', 'ada', '2025-01-01T00:00:00.000Z')").run();
-    sqlite.prepare("INSERT INTO api_settings (key, value_json, updated_at, updated_by) VALUES ('cors_origins', '[\"https://design.example.org\"]', '2025-01-02T00:00:00.000Z', 'root')").run();
-    sqlite.prepare("INSERT INTO api_settings (key, value_json, updated_at, updated_by) VALUES ('anonymous_reads', '\"off\"', '2025-01-02T00:00:00.000Z', 'root')").run();
+    sqlite
+      .prepare(
+        "INSERT INTO registry_settings (key, value, updated_by, updated_at) VALUES ('allow_self_approval', 'true', 'ada', '2025-01-01T00:00:00.000Z')",
+      )
+      .run();
+    sqlite
+      .prepare(
+        "INSERT INTO api_settings (key, value_json, updated_at, updated_by) VALUES ('cors_origins', '[\"https://design.example.org\"]', '2025-01-02T00:00:00.000Z', 'root')",
+      )
+      .run();
+    sqlite
+      .prepare(
+        "INSERT INTO api_settings (key, value_json, updated_at, updated_by) VALUES ('anonymous_reads', '\"off\"', '2025-01-02T00:00:00.000Z', 'root')",
+      )
+      .run();
     sqlite.close();
 
     const registry = openRegistry(path);
     try {
-      expect(readSettings(registry)).toMatchObject({ allow_self_approval: true, cors_origins: ['https://design.example.org'], anonymous_reads: 'off', max_nk_points: 10_000 });
+      expect(readSettings(registry)).toMatchObject({
+        allow_self_approval: true,
+        cors_origins: ['https://design.example.org'],
+        anonymous_reads: 'off',
+        max_nk_points: 10_000,
+      });
       expect(registry.sqlite.prepare('SELECT key, updated_by FROM registry_settings ORDER BY key').all()).toEqual([
         { key: 'allow_self_approval', updated_by: 'ada' },
         { key: 'anonymous_reads', updated_by: 'root' },

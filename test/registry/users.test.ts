@@ -48,7 +48,8 @@ describe('user names', () => {
       expect(() => approve(t.registry, 'film@1', name), JSON.stringify(name)).toThrow(InputError);
     }
     // Single-script names of any script, and the conventional Japanese mix, are fine.
-    for (const name of ['Ада Лавлейс', 'Ada Lovelace', 'Ἀθηνᾶ', '山田 たろう', 'Jean-Luc O\u2019Neil']) expect(() => checkActor(name), name).not.toThrow();
+    for (const name of ['Ада Лавлейс', 'Ada Lovelace', 'Ἀθηνᾶ', '山田 たろう', 'Jean-Luc O\u2019Neil'])
+      expect(() => checkActor(name), name).not.toThrow();
   });
 });
 
@@ -59,7 +60,7 @@ describe('over HTTP', () => {
   });
   afterEach(() => h.stop());
 
-  it('an approver token made for the creator\'s name in capitals cannot approve the creator\'s draft; look-alike tokens cannot be made', async () => {
+  it("an approver token made for the creator's name in capitals cannot approve the creator's draft; look-alike tokens cannot be made", async () => {
     createMaterial(h.registry, { slug: 'sin', name: 'SiN' }, 'lab-editor');
     importVersion(h.registry, { slug: 'sin', table: cauchyTable(1.9) }, 'lab-editor');
     const upper = createToken(h.registry, { user: 'LAB-EDITOR', role: 'approver', createdBy: 'root' }).token;
@@ -67,7 +68,12 @@ describe('over HTTP', () => {
     expect(res.status).toBe(409);
     expect((await res.json()).rule).toBe('two-person-rule');
     for (const user of ['lab-\u0435ditor', 'lab-editor\u200b']) {
-      const made = await h.request('/api/v1/tokens', { method: 'POST', headers: { 'content-type': 'application/json' }, body: JSON.stringify({ user, role: 'approver' }), as: 'admin' });
+      const made = await h.request('/api/v1/tokens', {
+        method: 'POST',
+        headers: { 'content-type': 'application/json' },
+        body: JSON.stringify({ user, role: 'approver' }),
+        as: 'admin',
+      });
       expect(made.status, JSON.stringify(user)).toBe(400);
       expect((await made.json()).rule).toBe('actor-invalid');
     }

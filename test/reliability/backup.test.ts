@@ -101,7 +101,9 @@ describe('backup while two processes keep writing', { timeout: 120_000 }, () => 
       second.child.kill('SIGKILL');
     }
     expect(first.stderr() + second.stderr()).toBe('');
-    console.log(`backup: ${sizes.length} backups under 2 writers (${sizes.join(', ')} versions each), live file ${committedVersions().size} versions after`);
+    console.log(
+      `backup: ${sizes.length} backups under 2 writers (${sizes.join(', ')} versions each), live file ${committedVersions().size} versions after`,
+    );
   });
 
   it('finishes even when another connection commits between every step of the copy', async () => {
@@ -112,7 +114,11 @@ describe('backup while two processes keep writing', { timeout: 120_000 }, () => 
     const writer = openRegistry(file);
     try {
       createMaterial(writer, { slug: 'steady', name: 'Steady writes' }, 'ada');
-      const big = (i: number) => ({ wavelengthNm: Array.from({ length: 400 }, (_, j) => 300 + j), n: Array.from({ length: 400 }, (_, j) => 1.5 + i * 1e-6 + j * 1e-5), k: Array.from({ length: 400 }, () => 0) });
+      const big = (i: number) => ({
+        wavelengthNm: Array.from({ length: 400 }, (_, j) => 300 + j),
+        n: Array.from({ length: 400 }, (_, j) => 1.5 + i * 1e-6 + j * 1e-5),
+        k: Array.from({ length: 400 }, () => 0),
+      });
       for (let i = 0; i < 60; i++) importVersion(writer, { slug: 'steady', table: big(i) }, 'ada');
       let writes = 60;
       let copying = true;

@@ -67,11 +67,7 @@ async function main(): Promise<void> {
     if (pauseMs > 0) await new Promise((r) => setTimeout(r, pauseMs));
     else if (i % 20 === 19) await new Promise((r) => setImmediate(r));
     const slug = SLUGS[Math.floor(random() * SLUGS.length)];
-    const v = importVersion(
-      registry,
-      { slug, table: table(), provenance: { notes: `writer seed ${seedText}` } },
-      'writer',
-    );
+    const v = importVersion(registry, { slug, table: table(), provenance: { notes: `writer seed ${seedText}` } }, 'writer');
     say(`import ${v.ref} ${v.sha256}`);
     drafts.push(v.ref);
     const r = random();

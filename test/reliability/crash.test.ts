@@ -118,7 +118,9 @@ describe('SIGKILL in the middle of a stream of writes', { timeout: 120_000 }, ()
       }
     }
     const versionsTotal = checkRegistryFile(db).versions.size;
-    console.log(`crash test: ${KILLS} kills (${killsWhileOpening} while opening), ${acknowledged.size} acknowledged imports, all present; ${unacknowledged} more committed without acknowledgement; ${versionsTotal} versions`);
+    console.log(
+      `crash test: ${KILLS} kills (${killsWhileOpening} while opening), ${acknowledged.size} acknowledged imports, all present; ${unacknowledged} more committed without acknowledgement; ${versionsTotal} versions`,
+    );
     expect(acknowledged.size).toBeGreaterThan(KILLS);
   });
 });

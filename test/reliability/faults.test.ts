@@ -96,12 +96,24 @@ describe('a full disk (SQLITE_FULL)', () => {
     const path = copyOf('full-api.db');
     const registry = openRegistry(path);
     const logged: string[] = [];
-    const server = await startServer({ registry, host: '127.0.0.1', port: 0, logEnvironment: (f) => logged.push(f.describe()), logFault: (e) => logged.push(`INTERNAL ${e}`) });
+    const server = await startServer({
+      registry,
+      host: '127.0.0.1',
+      port: 0,
+      logEnvironment: (f) => logged.push(f.describe()),
+      logFault: (e) => logged.push(`INTERNAL ${e}`),
+    });
     try {
       const pages = (registry.sqlite.pragma('page_count') as { page_count: number }[])[0].page_count;
       registry.sqlite.pragma(`max_page_count = ${pages}`);
-      const csv = `wavelength_nm,n,k\n${bigTable().wavelengthNm.map((w) => `${w},${(1.5 + 3000 / w ** 2).toFixed(6)},0`).join('\n')}\n`;
-      const res = await fetch(`${server.url}/api/v1/materials/film/versions`, { method: 'POST', headers: { 'content-type': 'text/csv', ...editor }, body: csv });
+      const csv = `wavelength_nm,n,k\n${bigTable()
+        .wavelengthNm.map((w) => `${w},${(1.5 + 3000 / w ** 2).toFixed(6)},0`)
+        .join('\n')}\n`;
+      const res = await fetch(`${server.url}/api/v1/materials/film/versions`, {
+        method: 'POST',
+        headers: { 'content-type': 'text/csv', ...editor },
+        body: csv,
+      });
       expect(res.status).toBe(507);
       const problem = await res.json();
       expect(problem).toMatchObject({ status: 507, rule: 'registry-disk-full', type: 'urn:nkledger:problem:registry-disk-full' });
@@ -137,7 +149,10 @@ describe('a read-only registry file', () => {
     chmodSync(path, 0o444);
     // As root, chmod does not stop writes; run the CLI as "nobody" instead (uid 65534), which root may do.
     const uid = process.getuid?.() === 0 ? 65534 : undefined;
-    const [show, write] = await Promise.all([run(['show', 'film@1', '--db', path], { uid }), run(['approve', 'film@2', '--db', path, '--as', 'bob'], { uid })]);
+    const [show, write] = await Promise.all([
+      run(['show', 'film@1', '--db', path], { uid }),
+      run(['approve', 'film@2', '--db', path, '--as', 'bob'], { uid }),
+    ]);
     if (show.code !== 0 && !/film@1/.test(show.err)) return ctx.skip(`cannot run the CLI as uid ${uid}: ${show.err.slice(0, 200)}`);
     expect(show.code, show.err).toBe(0);
     expect(show.out).toMatch(/film@1\s+approved/);
@@ -184,7 +199,7 @@ function rootPage(path: string, name: string): { page: number; size: number } {
 }
 
 describe('a corrupted database file', () => {
-  it('a damaged index page: verify runs SQLite\'s integrity check and fails (exit 3), naming its findings', async () => {
+  it("a damaged index page: verify runs SQLite's integrity check and fails (exit 3), naming its findings", async () => {
     const path = copyOf('corrupt-index.db');
     const { page, size } = rootPage(path, 'audit_log_hash');
     overwrite(path, (page - 1) * size + 12, Buffer.from('0777'.repeat(6), 'hex')); // the cell pointer array
@@ -255,7 +270,14 @@ describe('a registry path that names nothing', () => {
   it('read commands refuse it, naming the path, exit 2, and create nothing', async () => {
     const typo = join(dir, 'typo.db');
     const lock = join(dir, 'design.nklock.json');
-    const commands = [['verify'], ['show', 'film@1'], ['lock', 'add', 'film@1', '--lock', lock], ['backup', join(dir, 'b.db')], ['token', 'list'], ['approve', 'film@1', '--as', 'bob']];
+    const commands = [
+      ['verify'],
+      ['show', 'film@1'],
+      ['lock', 'add', 'film@1', '--lock', lock],
+      ['backup', join(dir, 'b.db')],
+      ['token', 'list'],
+      ['approve', 'film@1', '--as', 'bob'],
+    ];
     const results = await Promise.all(commands.map((args) => run([...args, '--db', typo])));
     for (const [i, args] of commands.entries()) {
       const r = results[i];
@@ -284,4 +306,3 @@ describe('a registry path that names nothing', () => {
     expect(existsSync(join(dir, 'no-such-folder'))).toBe(false);
   });
 });
-

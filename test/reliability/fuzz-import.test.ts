@@ -31,7 +31,9 @@ function tally(): { add(outcome: string): void; report(label: string): Record<st
   return {
     add: (outcome) => void (counts[outcome] = (counts[outcome] ?? 0) + 1),
     report(label) {
-      const refused = Object.entries(counts).filter(([k]) => k !== 'accepted').reduce((s, [, v]) => s + v, 0);
+      const refused = Object.entries(counts)
+        .filter(([k]) => k !== 'accepted')
+        .reduce((s, [, v]) => s + v, 0);
       console.log(`${label}: ${counts.accepted ?? 0} accepted, ${refused} refused (${Object.keys(counts).length - (counts.accepted ? 1 : 0)} rules)`);
       return counts;
     },

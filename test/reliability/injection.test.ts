@@ -29,13 +29,17 @@ beforeAll(async () => {
   // One row in every table, so a dropped or emptied table would show.
   createMaterial(h.registry, { slug: 'seed', name: 'Seed' }, 'setup');
   importVersion(h.registry, { slug: 'seed', table: cauchyTable(1.3) }, 'setup');
-  tableNames = (h.registry.sqlite.prepare("SELECT name FROM sqlite_master WHERE type = 'table' ORDER BY name").all() as { name: string }[]).map((t) => t.name);
+  tableNames = (h.registry.sqlite.prepare("SELECT name FROM sqlite_master WHERE type = 'table' ORDER BY name").all() as { name: string }[]).map(
+    (t) => t.name,
+  );
 });
 afterAll(() => h.stop());
 
 /** The schema is intact, the triggers are all there and every hash verifies. */
 function expectNothingExecuted(): void {
-  const now = (h.registry.sqlite.prepare("SELECT name FROM sqlite_master WHERE type = 'table' ORDER BY name").all() as { name: string }[]).map((t) => t.name);
+  const now = (h.registry.sqlite.prepare("SELECT name FROM sqlite_master WHERE type = 'table' ORDER BY name").all() as { name: string }[]).map(
+    (t) => t.name,
+  );
   expect(now).toEqual(tableNames);
   for (const t of TABLES) expect(h.count(t)).toBeGreaterThan(0);
   expect(verifyRegistry(h.registry)).toMatchObject({ ok: true, missing_triggers: [] });
@@ -125,7 +129,14 @@ describe('SQL-looking and path-looking input over HTTP', { timeout: 60_000 }, ()
       await expectRefused(await h.request(`/api/v1/materials/${seg}`));
       await expectRefused(await h.request(`/api/v1/materials/${seg}/versions/1`));
       await expectRefused(await h.request(`/api/v1/materials/inj-upload/versions/${seg}`));
-      await expectRefused(await h.request(`/api/v1/materials/${seg}/versions`, { method: 'POST', headers: { 'content-type': 'text/csv' }, body: csvTable(), as: 'editor' }));
+      await expectRefused(
+        await h.request(`/api/v1/materials/${seg}/versions`, {
+          method: 'POST',
+          headers: { 'content-type': 'text/csv' },
+          body: csvTable(),
+          as: 'editor',
+        }),
+      );
     }
     expectNothingExecuted();
   });
@@ -141,7 +152,24 @@ describe('SQL-looking and path-looking input through the CLI', { timeout: 60_000
     writeFileSync(file, tableCsv(1.77));
     const who = SQL[0];
     const r = await cli(
-      ['import', file, '--material', 'inj-cli', '--no-kk', '--json', '--db', h.registry.path, '--as', who, '--note', SQL[2], '--meta', `sample=${PATHS[0]}`, `operator=${SQL[1]}`, `instrument=${join(dir, 'pwned')}`],
+      [
+        'import',
+        file,
+        '--material',
+        'inj-cli',
+        '--no-kk',
+        '--json',
+        '--db',
+        h.registry.path,
+        '--as',
+        who,
+        '--note',
+        SQL[2],
+        '--meta',
+        `sample=${PATHS[0]}`,
+        `operator=${SQL[1]}`,
+        `instrument=${join(dir, 'pwned')}`,
+      ],
       'ignored',
     );
     expect(r.code, r.err).toBe(0);

@@ -55,7 +55,10 @@ export function checkRegistryFile(path: string): RegistryCheck {
          FROM material_versions v JOIN materials m ON m.id = v.material_id ORDER BY m.slug, v.number`,
       )
       .all() as Row[];
-    const audit = registry.sqlite.prepare('SELECT action, version_id AS versionId FROM audit_log WHERE version_id IS NOT NULL ORDER BY id').all() as { action: string; versionId: number }[];
+    const audit = registry.sqlite.prepare('SELECT action, version_id AS versionId FROM audit_log WHERE version_id IS NOT NULL ORDER BY id').all() as {
+      action: string;
+      versionId: number;
+    }[];
     const auditOf = new Map<number, string[]>();
     for (const a of audit) auditOf.set(a.versionId, [...(auditOf.get(a.versionId) ?? []), a.action]);
 
@@ -65,7 +68,8 @@ export function checkRegistryFile(path: string): RegistryCheck {
     for (const m of materials) {
       const numbers = (bySlug.get(m.slug) ?? []).map((r) => r.number);
       const expected = Array.from({ length: m.last_version }, (_, i) => i + 1);
-      if (JSON.stringify(numbers) !== JSON.stringify(expected)) problems.push(`${m.slug}: version numbers ${numbers.join(',')} but last_version ${m.last_version}`);
+      if (JSON.stringify(numbers) !== JSON.stringify(expected))
+        problems.push(`${m.slug}: version numbers ${numbers.join(',')} but last_version ${m.last_version}`);
     }
     for (const r of rows) {
       const ref = `${r.slug}@${r.number}`;
@@ -81,7 +85,8 @@ export function checkRegistryFile(path: string): RegistryCheck {
         ...(r.withdrawn_at ? ['version.withdraw'] : []),
       ];
       const actions = auditOf.get(r.id) ?? [];
-      if (JSON.stringify(actions) !== JSON.stringify(expectedActions)) problems.push(`${ref} (${r.status}): audit ${actions.join(',')} ≠ ${expectedActions.join(',')}`);
+      if (JSON.stringify(actions) !== JSON.stringify(expectedActions))
+        problems.push(`${ref} (${r.status}): audit ${actions.join(',')} ≠ ${expectedActions.join(',')}`);
       auditOf.delete(r.id);
     }
     if (auditOf.size > 0) problems.push(`audit rows for versions that do not exist: ${[...auditOf.keys()].join(',')}`);

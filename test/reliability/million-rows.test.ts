@@ -71,7 +71,10 @@ describe('a 1,000,000-row table', () => {
     const db = join(dir, 'million.db');
     const made = await cli(['material', 'add', 'big-glass', '--name', 'Big glass', '--db', db], 'lab-editor');
     expect(made.err).toBe('');
-    const imported = await cli(['import', path, '--material', 'big-glass', '--max-size', '64', '--fit', 'cauchy', '--no-kk', '--db', db], 'lab-editor');
+    const imported = await cli(
+      ['import', path, '--material', 'big-glass', '--max-size', '64', '--fit', 'cauchy', '--no-kk', '--db', db],
+      'lab-editor',
+    );
     expect(imported.err).not.toMatch(/Maximum call stack|internal/i);
     expect(imported.code, imported.err).toBe(0);
     const evaluated = await cli(['eval', path, '--max-size', '64', '--at', '550'], 'lab-editor');

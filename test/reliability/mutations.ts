@@ -29,9 +29,35 @@ export const CORPUS: CorpusFile[] = DIRS.flatMap((dir) =>
 
 /** Numbers that stress the parser: overflow, underflow, subnormals, signed zero, and things that are not decimal numbers. */
 export const ODD_NUMBERS = [
-  '1e308', '1.8e308', '1e999', '-1e308', '5e-324', '1e-400', '2.2250738585072014e-308', '0', '-0', '+0.0', '-1',
-  '1e-30', '1e30', 'NaN', 'nan', 'Infinity', '-inf', '0x1F', '1_000', '١٢٣', '１２３', '1,5', '1.5.5', '.5', '5.', '+', 'e5',
-  '9'.repeat(400), `0.${'0'.repeat(400)}1`,
+  '1e308',
+  '1.8e308',
+  '1e999',
+  '-1e308',
+  '5e-324',
+  '1e-400',
+  '2.2250738585072014e-308',
+  '0',
+  '-0',
+  '+0.0',
+  '-1',
+  '1e-30',
+  '1e30',
+  'NaN',
+  'nan',
+  'Infinity',
+  '-inf',
+  '0x1F',
+  '1_000',
+  '١٢٣',
+  '１２３',
+  '1,5',
+  '1.5.5',
+  '.5',
+  '5.',
+  '+',
+  'e5',
+  '9'.repeat(400),
+  `0.${'0'.repeat(400)}1`,
 ];
 
 const SEPARATORS = [',', ';', '\t', ' ', '|', ', ', ';;'];
@@ -63,7 +89,14 @@ export const mutationArb: fc.Arbitrary<Mutation> = fc.oneof(
   fc.record({ kind: fc.constant('quote' as const), at: frac }),
   fc.record({
     kind: fc.constant('encoding' as const),
-    to: fc.constantFrom('utf-16le' as const, 'utf-16be' as const, 'utf-16le-nobom' as const, 'latin1-of-utf8' as const, 'utf8-bom' as const, 'double-bom' as const),
+    to: fc.constantFrom(
+      'utf-16le' as const,
+      'utf-16be' as const,
+      'utf-16le-nobom' as const,
+      'latin1-of-utf8' as const,
+      'utf8-bom' as const,
+      'double-bom' as const,
+    ),
   }),
 );
 
@@ -150,8 +183,27 @@ export function mutate(bytes: Uint8Array, m: Mutation): Uint8Array {
 }
 
 /** Re-encodings that must not change the table read: line endings, BOMs, UTF-16, Windows-1252 where it can say it. */
-export type Reencoding = 'crlf' | 'cr' | 'utf8-bom' | 'utf-16le' | 'utf-16be' | 'windows-1252' | 'trailing-blank-lines' | 'comment-lines' | 'preamble';
-export const reencodingArb = fc.constantFrom<Reencoding>('crlf', 'cr', 'utf8-bom', 'utf-16le', 'utf-16be', 'windows-1252', 'trailing-blank-lines', 'comment-lines', 'preamble');
+export type Reencoding =
+  | 'crlf'
+  | 'cr'
+  | 'utf8-bom'
+  | 'utf-16le'
+  | 'utf-16be'
+  | 'windows-1252'
+  | 'trailing-blank-lines'
+  | 'comment-lines'
+  | 'preamble';
+export const reencodingArb = fc.constantFrom<Reencoding>(
+  'crlf',
+  'cr',
+  'utf8-bom',
+  'utf-16le',
+  'utf-16be',
+  'windows-1252',
+  'trailing-blank-lines',
+  'comment-lines',
+  'preamble',
+);
 
 /** Metadata lines an instrument writes above the header, without `#` (INVENTED: Marrowick Optics demo lab). */
 export const EXPORT_PREAMBLE = ['Marrowick Optics MO-SE 640 export', 'Sample: TA-0412', 'Operator: R. Okafor', 'Angles: 65 70 75', 'Points: 3'];
@@ -228,7 +280,8 @@ export function checkImportOutcome(
     if (unlocatedRules.has(err.rule)) return err.rule;
     if (err.location.file !== file) throw new Error(`${err.rule}: the message does not name the file: ${err.describe()}`);
     if (line === undefined && !FILE_LEVEL_RULES.has(err.rule)) throw new Error(`${err.rule}: no line in ${err.describe()}`);
-    if (line !== undefined && !(Number.isInteger(line) && line >= 1 && line <= lineCount)) throw new Error(`${err.rule}: line ${line} outside 1…${lineCount}`);
+    if (line !== undefined && !(Number.isInteger(line) && line >= 1 && line <= lineCount))
+      throw new Error(`${err.rule}: line ${line} outside 1…${lineCount}`);
     if (column !== undefined && !(Number.isInteger(column) && column >= 1)) throw new Error(`${err.rule}: column ${column}`);
     if (!err.describe().startsWith(`${file}:`)) throw new Error(`unlocated message ${err.describe()}`);
     return err.rule;

@@ -19,9 +19,14 @@ export interface CliResult {
 /** Run `nkledger ARGS` as USER; never rejects. */
 export function cli(args: string[], user: string): Promise<CliResult> {
   return new Promise((resolve) => {
-    execFile(process.execPath, [BIN, ...args], { encoding: 'utf8', env: { ...process.env, NKLEDGER_USER: user, NKLEDGER_DB: '' }, timeout: 60_000 }, (error, out, err) => {
-      resolve({ code: error ? ((error as { code?: number }).code ?? null) : 0, out, err });
-    });
+    execFile(
+      process.execPath,
+      [BIN, ...args],
+      { encoding: 'utf8', env: { ...process.env, NKLEDGER_USER: user, NKLEDGER_DB: '' }, timeout: 60_000 },
+      (error, out, err) => {
+        resolve({ code: error ? ((error as { code?: number }).code ?? null) : 0, out, err });
+      },
+    );
   });
 }
 
@@ -34,7 +39,9 @@ export interface ServeProcess {
 }
 
 export function serve(db: string, extraArgs: string[] = []): Promise<ServeProcess> {
-  const child = spawn(process.execPath, [BIN, 'serve', '--db', db, '--host', '127.0.0.1', '--port', '0', ...extraArgs], { stdio: ['ignore', 'pipe', 'pipe'] });
+  const child = spawn(process.execPath, [BIN, 'serve', '--db', db, '--host', '127.0.0.1', '--port', '0', ...extraArgs], {
+    stdio: ['ignore', 'pipe', 'pipe'],
+  });
   let err = '';
   child.stderr!.on('data', (d) => (err += d));
   const exited = new Promise<number | null>((resolve) => child.on('exit', (code) => resolve(code)));

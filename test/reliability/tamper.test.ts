@@ -52,7 +52,8 @@ beforeAll(async () => {
   registry = openRegistry(db);
   createMaterial(registry, { slug: 'tamper', name: 'Tampered' }, 'ada');
   createMaterial(registry, { slug: 'intact', name: 'Untouched' }, 'ada');
-  for (let i = 1; i <= 4; i++) importVersion(registry, { slug: 'tamper', table: cauchyTable(1.4 + i / 100), provenance: { notes: `wafer ${i}` } }, 'ada');
+  for (let i = 1; i <= 4; i++)
+    importVersion(registry, { slug: 'tamper', table: cauchyTable(1.4 + i / 100), provenance: { notes: `wafer ${i}` } }, 'ada');
   importVersion(registry, { slug: 'intact', table: cauchyTable(1.6) }, 'ada');
   for (const ref of ['tamper@1', 'tamper@2', 'tamper@3', 'intact@1']) approve(registry, ref, 'bob');
   lockfile = lockAdd(registry, lockAdd(registry, emptyLockfile(), 'tamper@1').lock, 'intact@1').lock;
@@ -65,10 +66,13 @@ beforeAll(async () => {
   // The attack: another program opens the file, drops the triggers and edits rows.
   const raw = new Database(db);
   for (const t of IMMUTABILITY_TRIGGERS) raw.exec(`DROP TRIGGER ${t}`);
-  const v1 = raw.prepare("SELECT v.id, v.content FROM material_versions v JOIN materials m ON m.id = v.material_id WHERE m.slug = 'tamper' AND v.number = 1").get() as { id: number; content: string };
+  const v1 = raw
+    .prepare("SELECT v.id, v.content FROM material_versions v JOIN materials m ON m.id = v.material_id WHERE m.slug = 'tamper' AND v.number = 1")
+    .get() as { id: number; content: string };
   const content = JSON.parse(v1.content);
   content.table.n[0] += 0.001; // a plausible, small edit of one value
-  const id = (n: number) => `(SELECT v.id FROM material_versions v JOIN materials m ON m.id = v.material_id WHERE m.slug = 'tamper' AND v.number = ${n})`;
+  const id = (n: number) =>
+    `(SELECT v.id FROM material_versions v JOIN materials m ON m.id = v.material_id WHERE m.slug = 'tamper' AND v.number = ${n})`;
   raw.prepare('UPDATE material_versions SET content = ? WHERE id = ?').run(canonicalJson(content), v1.id);
   raw.exec(`UPDATE material_versions SET notes = 'wafer 9' WHERE id = ${id(2)}`);
   raw.exec(`UPDATE material_versions SET sha256 = '${'0'.repeat(64)}' WHERE id = ${id(3)}`);
@@ -145,7 +149,11 @@ describe('edits made directly in the database file', { timeout: 90_000 }, () => 
 
 describe('a lockfile pinned before the edits', { timeout: 90_000 }, () => {
   it('fails lock verify over HTTP: the pinned hash is recomputed from the edited content', async () => {
-    const res = await fetch(`${server.url}/api/v1/locks/verify`, { method: 'POST', headers: { 'content-type': 'application/json' }, body: JSON.stringify(lockfile) });
+    const res = await fetch(`${server.url}/api/v1/locks/verify`, {
+      method: 'POST',
+      headers: { 'content-type': 'application/json' },
+      body: JSON.stringify(lockfile),
+    });
     expect(res.status).toBe(200);
     const report = await res.json();
     expect(report.ok).toBe(false);

@@ -19,7 +19,10 @@ let db: string;
 
 async function run(args: string[], input?: string) {
   // Paths relative to the project root, as under npm test.
-  const r = await runCli(args.map((a) => (a.startsWith('data/') ? join(ROOT, a) : a)), { input, env: { NKLEDGER_USER: 'ada', NKLEDGER_DB: db } });
+  const r = await runCli(
+    args.map((a) => (a.startsWith('data/') ? join(ROOT, a) : a)),
+    { input, env: { NKLEDGER_USER: 'ada', NKLEDGER_DB: db } },
+  );
   return { code: r.code, out: r.stdout, err: r.stderr };
 }
 
@@ -50,7 +53,9 @@ describe('nkledger stack', { timeout: 120_000 }, () => {
     for (const key of ['wavelength_nm', 'R', 'T', 'A', 'Rs', 'Rp', 'Ts', 'Tp', 'psi_deg', 'delta_deg']) expect(first[key]).toHaveLength(5);
     expect(first.R.every((v: number) => v > 0 && v < 0.1)).toBe(true);
     expect(first.colour.reflected).toHaveProperty('srgb_hex');
-    const sha = createHash('sha256').update(readFileSync(join(ROOT, 'data/marrowick/mgf2-evaporated.csv'))).digest('hex');
+    const sha = createHash('sha256')
+      .update(readFileSync(join(ROOT, 'data/marrowick/mgf2-evaporated.csv')))
+      .digest('hex');
     expect(report.materials[1]).toMatchObject({ role: 'layer 1', source: 'file', ref: 'mgf2-evaporated.csv', sha256: sha });
     expect(report.notes.join(' ')).toMatch(/Ψ and Δ describe the coated front surface alone/);
   });
@@ -70,10 +75,16 @@ describe('nkledger stack', { timeout: 120_000 }, () => {
     expect(rows).toHaveLength(61);
     expect(rows[1]).toHaveProperty('reflected.srgb_hex');
     const doc = new XMLParser({ ignoreAttributes: false, attributeNamePrefix: '' }).parse(readFileSync(svg, 'utf8'));
-    const swatches = [doc.svg.g].flat().find((g: { class: string }) => g.class === 'strip').rect.filter((x: { class?: string }) => x.class === 'swatch');
+    const swatches = [doc.svg.g]
+      .flat()
+      .find((g: { class: string }) => g.class === 'strip')
+      .rect.filter((x: { class?: string }) => x.class === 'swatch');
     expect(swatches).toHaveLength(61);
     const scale = 100 / Math.max(...rows.map((row: { reflected: { Y: number } }) => row.reflected.Y));
-    const expected = rows.map((row: { reflected: { X: number; Y: number; Z: number } }) => srgbOf(row.reflected.X * scale, row.reflected.Y * scale, row.reflected.Z * scale).hex);
+    const expected = rows.map(
+      (row: { reflected: { X: number; Y: number; Z: number } }) =>
+        srgbOf(row.reflected.X * scale, row.reflected.Y * scale, row.reflected.Z * scale).hex,
+    );
     expect(swatches.map((s: { fill: string }) => s.fill)).toEqual(expected);
     expect(rows[0].reflected.srgb_hex).toBe('#000000'); // no film, no reflection
   });
@@ -82,11 +93,17 @@ describe('nkledger stack', { timeout: 120_000 }, () => {
     const lockFile = join(dir, 'design.lock.json');
     expect((await run(['lock', 'add', 'oxide@1', '--lock', lockFile, '--db', db])).code).toBe(0);
     const design = join(dir, 'design.json');
-    writeFileSync(design, '{\n  "layers": [\n    {"material": {"ref": "oxide"}, "thickness_nm": 100}\n  ],\n  "substrate": {"material": {"n": 1.52}}\n}\n');
+    writeFileSync(
+      design,
+      '{\n  "layers": [\n    {"material": {"ref": "oxide"}, "thickness_nm": 100}\n  ],\n  "substrate": {"material": {"n": 1.52}}\n}\n',
+    );
     const ok = await run(['stack', design, '--at', '550', '--lock', lockFile, '--db', db, '--json']);
     expect(ok.code, ok.err).toBe(0);
     expect(JSON.parse(ok.out).materials[1]).toMatchObject({ ref: 'oxide@1', source: 'registry', status: 'approved' });
-    writeFileSync(design, '{\n  "layers": [\n    {"material": {"ref": "oxide@2"}, "thickness_nm": 100}\n  ],\n  "substrate": {"material": {"n": 1.52}}\n}\n');
+    writeFileSync(
+      design,
+      '{\n  "layers": [\n    {"material": {"ref": "oxide@2"}, "thickness_nm": 100}\n  ],\n  "substrate": {"material": {"n": 1.52}}\n}\n',
+    );
     const bad = await run(['stack', design, '--at', '550', '--lock', lockFile, '--db', db]);
     expect(bad.code).toBe(2);
     expect(bad.out).toBe('');
@@ -96,7 +113,9 @@ describe('nkledger stack', { timeout: 120_000 }, () => {
   it('refusals: a table that does not cover --at, a sweep layer that does not exist, a bad flag (exit 2, no stack trace)', async () => {
     const range = await run(['stack', 'data/marrowick/ar-coating.stack.json', '--at', '200']);
     expect(range.code).toBe(2);
-    expect(range.err).toMatch(/layer 1 \(mgf2-evaporated\.csv\) is a measured table over 250–1724\.\d+ nm; 200 nm is outside it.*\[stack-out-of-range\]/);
+    expect(range.err).toMatch(
+      /layer 1 \(mgf2-evaporated\.csv\) is a measured table over 250–1724\.\d+ nm; 200 nm is outside it.*\[stack-out-of-range\]/,
+    );
     const layer = await run(['stack', 'data/marrowick/soap-film.stack.json', '--at', '550', '--sweep', '3=0:100:10']);
     expect(layer.code).toBe(2);
     expect(layer.err).toMatch(/sweep layer 3: the design has 1 layer/);

@@ -11,7 +11,6 @@ import { parseStackDesign, stackDesignJsonSchema } from '../../src/service/stack
 import { cauchyTable, tempRegistry, type TempRegistry } from '../registry/helpers.ts';
 import { refusal, refusalAsync } from './refusals.ts';
 
-
 describe('design file format', () => {
   it('schemas/stack-design.schema.json is the schema generated from the code (npx tsx scripts/write-stack-schema.ts)', () => {
     const committed = JSON.parse(readFileSync(new URL('../../schemas/stack-design.schema.json', import.meta.url), 'utf8'));
@@ -26,7 +25,8 @@ describe('design file format', () => {
   });
 
   it('a bad value is refused with file, line, column and the field', () => {
-    const text = '{\n  "layers": [\n    {"material": {"n": 1.4}, "thickness_nm": 10},\n    {"material": {"n": 1.4}, "thickness_nm": "thick"}\n  ],\n  "substrate": {"material": {"n": 1.5}}\n}\n';
+    const text =
+      '{\n  "layers": [\n    {"material": {"n": 1.4}, "thickness_nm": 10},\n    {"material": {"n": 1.4}, "thickness_nm": "thick"}\n  ],\n  "substrate": {"material": {"n": 1.5}}\n}\n';
     const e = refusal(() => parseStackDesign(text, 'd.json'));
     expect(e.rule).toBe('design-format');
     expect(e.location).toMatchObject({ file: 'd.json', line: 4, column: 46, field: 'layers.1.thickness_nm' });
@@ -59,19 +59,27 @@ describe('sources', () => {
     // Malitson's coefficients (J. Opt. Soc. Am. 55, 1205 (1965), from memory; n_d is the published cross-check)
     const design = parseStackDesign({
       layers: [],
-      substrate: { material: { model: 'sellmeier', parameters: { B1: 0.6961663, C1: 0.0684043 ** 2, B2: 0.4079426, C2: 0.1162414 ** 2, B3: 0.8974794, C3: 9.896161 ** 2 } } },
+      substrate: {
+        material: {
+          model: 'sellmeier',
+          parameters: { B1: 0.6961663, C1: 0.0684043 ** 2, B2: 0.4079426, C2: 0.1162414 ** 2, B3: 0.8974794, C3: 9.896161 ** 2 },
+        },
+      },
     });
     const report = computeStack(await resolveStackDesign(design, ctx), at([587.56]));
     const n = 1.45846;
     expect(report.results[0].R[0]).toBeCloseTo(((1 - n) / (1 + n)) ** 2, 5); // n quoted to 5 decimals moves R by < 1e-6
   });
 
-  it('unknown parameters are refused with the model\'s list; a model range refuses outside it unless --extrapolate', async () => {
+  it("unknown parameters are refused with the model's list; a model range refuses outside it unless --extrapolate", async () => {
     const bad = parseStackDesign({ layers: [], substrate: { material: { model: 'cauchy', parameters: { A: 1.5, Bee: 0.01 } } } });
     const e = await refusalAsync(() => resolveStackDesign(bad, ctx));
     expect(e.rule).toBe('stack-model-parameters');
     expect(e.message).toMatch(/takes A, B, C/);
-    const ranged = parseStackDesign({ layers: [], substrate: { material: { model: 'cauchy', parameters: { A: 1.5, B: 0.004, C: 0 }, range_nm: [400, 1000] } } });
+    const ranged = parseStackDesign({
+      layers: [],
+      substrate: { material: { model: 'cauchy', parameters: { A: 1.5, B: 0.004, C: 0 }, range_nm: [400, 1000] } },
+    });
     const resolved = await resolveStackDesign(ranged, ctx);
     const out = refusal(() => computeStack(resolved, at([350])));
     expect(out.rule).toBe('stack-out-of-range');
@@ -80,7 +88,10 @@ describe('sources', () => {
   });
 
   it('colour is null with a warning when a material does not cover 380–780 nm; --sweep then refuses', async () => {
-    const design = parseStackDesign({ layers: [{ material: { model: 'cauchy', parameters: { A: 1.5, B: 0.004, C: 0 }, range_nm: [500, 1000] }, thickness_nm: 100 }], substrate: { material: { n: 1.5 } } });
+    const design = parseStackDesign({
+      layers: [{ material: { model: 'cauchy', parameters: { A: 1.5, B: 0.004, C: 0 }, range_nm: [500, 1000] }, thickness_nm: 100 }],
+      substrate: { material: { n: 1.5 } },
+    });
     const resolved = await resolveStackDesign(design, ctx);
     const report = computeStack(resolved, at([600, 700]));
     expect(report.results[0].colour).toBeNull();
@@ -89,7 +100,10 @@ describe('sources', () => {
   });
 
   it('an absorbing ambient is refused (R and T need a lossless incidence medium)', async () => {
-    const resolved = await resolveStackDesign(parseStackDesign({ ambient: { material: { n: 1.5, k: 0.1 } }, layers: [], substrate: { material: { n: 1.5 } } }), ctx);
+    const resolved = await resolveStackDesign(
+      parseStackDesign({ ambient: { material: { n: 1.5, k: 0.1 } }, layers: [], substrate: { material: { n: 1.5 } } }),
+      ctx,
+    );
     expect(refusal(() => computeStack(resolved, at([550]))).rule).toBe('stack-ambient-absorbing');
   });
 });
@@ -106,9 +120,15 @@ describe('registry refs and lockfiles', () => {
   });
   afterAll(() => t.cleanup());
   const design = (ref: string) => parseStackDesign({ layers: [{ material: { ref }, thickness_nm: 100 }], substrate: { material: { n: 1.52 } } });
-  const ctx = (lock?: ResolveContext['lock']): ResolveContext => ({ registry: t.registry, designFile: 'd.json', designText: null, allowFiles: false, lock });
+  const ctx = (lock?: ResolveContext['lock']): ResolveContext => ({
+    registry: t.registry,
+    designFile: 'd.json',
+    designText: null,
+    allowFiles: false,
+    lock,
+  });
 
-  it('the output names every material\'s ref and sha256; a bare slug is the latest approved, with a notice', async () => {
+  it("the output names every material's ref and sha256; a bare slug is the latest approved, with a notice", async () => {
     const r = await resolveStackDesign(design('oxide'), ctx());
     expect(r.layers[0].material).toMatchObject({ ref: 'oxide@2', source: 'registry', status: 'approved' });
     expect(r.notices.join()).toMatch(/not a pin/);
@@ -137,7 +157,11 @@ describe('registry refs and lockfiles', () => {
   });
 
   it('refs inside a mixture are pinned and listed with their hash; an unknown one is refused at its nested field', async () => {
-    const mixed = (ref: string) => parseStackDesign({ layers: [{ material: { mix: 'bruggeman', materials: [{ ref }, { n: 1 }], fraction: 0.5 }, thickness_nm: 5 }], substrate: { material: { n: 1.5 } } });
+    const mixed = (ref: string) =>
+      parseStackDesign({
+        layers: [{ material: { mix: 'bruggeman', materials: [{ ref }, { n: 1 }], fraction: 0.5 }, thickness_nm: 5 }],
+        substrate: { material: { n: 1.5 } },
+      });
     const r = await resolveStackDesign(mixed('oxide@1'), ctx());
     expect(r.layers[0].material.mix!.materials[0]).toMatchObject({ ref: 'oxide@1', source: 'registry', role: 'layer 1, bruggeman part 1' });
     expect(r.layers[0].material.mix!.materials[0].sha256).toMatch(/^[0-9a-f]{64}$/);
@@ -146,7 +170,10 @@ describe('registry refs and lockfiles', () => {
   });
 
   it('a file inside a mixture is refused where files are (the HTTP API)', async () => {
-    const fileMix = parseStackDesign({ layers: [], substrate: { material: { mix: 'bruggeman', materials: [{ n: 1.5 }, { file: 'x.csv' }], fraction: 0.5 } } });
+    const fileMix = parseStackDesign({
+      layers: [],
+      substrate: { material: { mix: 'bruggeman', materials: [{ n: 1.5 }, { file: 'x.csv' }], fraction: 0.5 } },
+    });
     const e = await refusalAsync(() => resolveStackDesign(fileMix, ctx()));
     expect(e.rule).toBe('stack-file-source');
     expect(e.location.field).toBe('substrate.material.materials.1.file');

@@ -11,12 +11,23 @@ import { epsFromNk } from '../../src/optics/permittivity.ts';
 import { computeStack, parseStackOptions, resolveStackDesign, type ResolveContext } from '../../src/service/stack.ts';
 import { parseStackDesign } from '../../src/service/stack-design.ts';
 import { bruggeman, maxwellGarnett, type Complex } from '../../src/stack/effective-medium.ts';
-import { refusal, } from './refusals.ts';
+import { refusal } from './refusals.ts';
 
 const fixture = JSON.parse(readFileSync(new URL('../reference/ema-numpy.json', import.meta.url), 'utf8')) as {
   source: string;
-  mixing: Array<{ name: string; first: [number, number]; second: [number, number]; fraction: number; bruggeman: [number, number]; maxwell_garnett: [number, number] }>;
-  stack: { wavelength_nm: number[]; layer_nk: Array<[number, number]>; results: Array<{ angle_deg: number; Rs: number[]; Rp: number[]; psi_deg: number[]; delta_deg: number[] }> };
+  mixing: Array<{
+    name: string;
+    first: [number, number];
+    second: [number, number];
+    fraction: number;
+    bruggeman: [number, number];
+    maxwell_garnett: [number, number];
+  }>;
+  stack: {
+    wavelength_nm: number[];
+    layer_nk: Array<[number, number]>;
+    results: Array<{ angle_deg: number; Rs: number[]; Rp: number[]; psi_deg: number[]; delta_deg: number[] }>;
+  };
 };
 
 const eps = (n: number, k: number): Complex => {
@@ -39,11 +50,13 @@ describe('Bruggeman (Aspnes 1982): the root of the two-phase condition', () => {
       for (const f of [0.05, 0.2, 0.5, 0.8, 0.95]) {
         const e = bruggeman(e1, e2, f);
         const term = (ei: Complex) => {
-          const num = c(ei.re - e.re, ei.im - e.im), den = c(ei.re + 2 * e.re, ei.im + 2 * e.im);
+          const num = c(ei.re - e.re, ei.im - e.im),
+            den = c(ei.re + 2 * e.re, ei.im + 2 * e.im);
           const d = den.re * den.re + den.im * den.im;
           return c((num.re * den.re + num.im * den.im) / d, (num.im * den.re - num.re * den.im) / d);
         };
-        const a = term(e1), b = term(e2);
+        const a = term(e1),
+          b = term(e2);
         expect(Math.hypot((1 - f) * a.re + f * b.re, (1 - f) * a.im + f * b.im)).toBeLessThan(1e-12);
         expect(e.im).toBeGreaterThanOrEqual(-1e-14 * size(e));
       }
@@ -82,8 +95,10 @@ describe(`mixing against ${fixture.source}`, () => {
   });
   for (const m of fixture.mixing) {
     it(`${m.name}, f = ${m.fraction}: Bruggeman and Maxwell Garnett to 1e-12 relative`, () => {
-      const e1 = eps(...m.first), e2 = eps(...m.second);
-      const br = bruggeman(e1, e2, m.fraction), mg = maxwellGarnett(e1, e2, m.fraction);
+      const e1 = eps(...m.first),
+        e2 = eps(...m.second);
+      const br = bruggeman(e1, e2, m.fraction),
+        mg = maxwellGarnett(e1, e2, m.fraction);
       expect(gap(br, c(...m.bruggeman))).toBeLessThan(1e-12 * size(br) + 1e-15);
       expect(gap(mg, c(...m.maxwell_garnett))).toBeLessThan(1e-12 * size(mg) + 1e-15);
     });
@@ -102,7 +117,8 @@ describe('limits', () => {
 
   it('Bruggeman is symmetric: swapping the materials with f → 1 − f gives the same ε (the two phases are equivalent, Aspnes 1982)', () => {
     for (const [, e1, e2] of PAIRS) {
-      for (const f of [0.1, 0.3, 0.5, 0.77]) expect(gap(bruggeman(e1, e2, f), bruggeman(e2, e1, 1 - f))).toBeLessThan(1e-12 * size(bruggeman(e1, e2, f)));
+      for (const f of [0.1, 0.3, 0.5, 0.77])
+        expect(gap(bruggeman(e1, e2, f), bruggeman(e2, e1, 1 - f))).toBeLessThan(1e-12 * size(bruggeman(e1, e2, f)));
     }
   });
 
@@ -112,7 +128,8 @@ describe('limits', () => {
       // Halving f quarters the difference (second order), and both sit on the common tangent.
       expect(diff(1e-3) / diff(5e-4)).toBeGreaterThan(3.6);
       expect(diff(1e-3) / diff(5e-4)).toBeLessThan(4.4);
-      const num = c(e2.re - e1.re, e2.im - e1.im), den = c(e2.re + 2 * e1.re, e2.im + 2 * e1.im);
+      const num = c(e2.re - e1.re, e2.im - e1.im),
+        den = c(e2.re + 2 * e1.re, e2.im + 2 * e1.im);
       const d = den.re * den.re + den.im * den.im;
       const q = c((num.re * den.re + num.im * den.im) / d, (num.im * den.re - num.re * den.im) / d);
       const slope = c(3 * (e1.re * q.re - e1.im * q.im), 3 * (e1.re * q.im + e1.im * q.re));
@@ -125,7 +142,8 @@ describe('limits', () => {
 });
 
 describe('mixtures in a design file', () => {
-  const mixLayer = (material: string) => `{\n  "layers": [\n    {"material": ${material}, "thickness_nm": 10}\n  ],\n  "substrate": {"material": {"n": 1.5}}\n}\n`;
+  const mixLayer = (material: string) =>
+    `{\n  "layers": [\n    {"material": ${material}, "thickness_nm": 10}\n  ],\n  "substrate": {"material": {"n": 1.5}}\n}\n`;
 
   it('a fraction outside 0–1 is refused at its line and column, naming the field', () => {
     const e = refusal(() => parseStackDesign(mixLayer('{"mix": "bruggeman", "materials": [{"n": 1.5}, {"n": 1}], "fraction": 1.2}'), 'd.json'));
@@ -150,7 +168,12 @@ describe('mixtures in a design file', () => {
 
   it('a fault inside a nested mixture is located in the nested source', () => {
     const e = refusal(() =>
-      parseStackDesign(mixLayer('{"mix": "bruggeman", "materials": [{"n": 1.5}, {"mix": "bruggeman", "materials": [{"n": 1}, {"n": 1.4, "k": -1}], "fraction": 0.5}], "fraction": 0.5}'), 'd.json'),
+      parseStackDesign(
+        mixLayer(
+          '{"mix": "bruggeman", "materials": [{"n": 1.5}, {"mix": "bruggeman", "materials": [{"n": 1}, {"n": 1.4, "k": -1}], "fraction": 0.5}], "fraction": 0.5}',
+        ),
+        'd.json',
+      ),
     );
     expect(e.location.field).toBe('layers.0.material.materials.1.materials.1.k');
     expect(e.location.line).toBe(3);
@@ -169,8 +192,28 @@ describe('mixtures resolved and computed', () => {
   it(`a stack with a Bruggeman and a Maxwell Garnett layer: Rs, Rp to 1e-10 and Ψ, Δ to 1e-8° against ${fixture.source} (stack by scripts/stack_numpy.py)`, async () => {
     const design = parseStackDesign({
       layers: [
-        { material: { mix: 'bruggeman', materials: [{ n: 3.9, k: 0.02 }, { n: 1, k: 0 }], fraction: 0.3 }, thickness_nm: 40 },
-        { material: { mix: 'maxwell-garnett', materials: [{ n: 1.46, k: 0 }, { n: 0.15, k: 3.5 }], fraction: 0.1 }, thickness_nm: 60 },
+        {
+          material: {
+            mix: 'bruggeman',
+            materials: [
+              { n: 3.9, k: 0.02 },
+              { n: 1, k: 0 },
+            ],
+            fraction: 0.3,
+          },
+          thickness_nm: 40,
+        },
+        {
+          material: {
+            mix: 'maxwell-garnett',
+            materials: [
+              { n: 1.46, k: 0 },
+              { n: 0.15, k: 3.5 },
+            ],
+            fraction: 0.1,
+          },
+          thickness_nm: 60,
+        },
       ],
       substrate: { material: { n: 3.88, k: 0.02 } },
     });
@@ -198,14 +241,27 @@ describe('mixtures resolved and computed', () => {
   });
 
   it('a mixture of lossless materials is lossless (k = 0 exactly), so it may even be the ambient', async () => {
-    const design = parseStackDesign({ ambient: { material: { mix: 'maxwell-garnett', materials: [{ n: 1.5 }, { n: 1 }], fraction: 1 } }, layers: [], substrate: { material: { n: 1.5 } } });
+    const design = parseStackDesign({
+      ambient: { material: { mix: 'maxwell-garnett', materials: [{ n: 1.5 }, { n: 1 }], fraction: 1 } },
+      layers: [],
+      substrate: { material: { n: 1.5 } },
+    });
     const report = computeStack(await resolveStackDesign(design, ctx), parseStackOptions({}, [550]));
     expect(report.results[0].R[0]).toBeCloseTo(0.04, 12); // ambient n = 1 against glass 1.5: ((1.5 − 1)/2.5)² (Fresnel)
   });
 
   it('a part that does not cover the wavelengths is refused, naming the part', async () => {
     const design = parseStackDesign({
-      layers: [{ material: { mix: 'bruggeman', materials: [{ model: 'cauchy', parameters: { A: 1.45, B: 0.004, C: 0 }, range_nm: [400, 800] }, { n: 1 }], fraction: 0.3 }, thickness_nm: 50 }],
+      layers: [
+        {
+          material: {
+            mix: 'bruggeman',
+            materials: [{ model: 'cauchy', parameters: { A: 1.45, B: 0.004, C: 0 }, range_nm: [400, 800] }, { n: 1 }],
+            fraction: 0.3,
+          },
+          thickness_nm: 50,
+        },
+      ],
       substrate: { material: { n: 1.5 } },
     });
     const resolved = await resolveStackDesign(design, ctx);

@@ -51,7 +51,9 @@ describe('closed forms (published)', () => {
   });
 
   it('an absorbing incoherent slab: T = (1 − R₁)²τ/(1 − R₁²τ²) with τ = exp(−4πkd/λ) (Beer-Lambert with multiple reflections, Macleod ch. 2)', () => {
-    const k = 2e-6, d = 1e6, lambda = 500;
+    const k = 2e-6,
+      d = 1e6,
+      lambda = 500;
     const R1 = ((1 - 1.52) ** 2 + k ** 2) / ((1 + 1.52) ** 2 + k ** 2);
     const tau = Math.exp((-4 * Math.PI * k * d) / lambda);
     const r = solveStack({ wavelengthNm: [lambda], ambient: air, layers: [], substrate: constant(1.52, k), incoherentSubstrateMm: 1 }, 0);
@@ -62,7 +64,9 @@ describe('closed forms (published)', () => {
 
 describe('conservation of energy', () => {
   const lossless = fc.record({
-    layers: fc.array(fc.record({ n: fc.double({ min: 1.2, max: 2.6, noNaN: true }), d: fc.double({ min: 0, max: 500, noNaN: true }) }), { maxLength: 12 }),
+    layers: fc.array(fc.record({ n: fc.double({ min: 1.2, max: 2.6, noNaN: true }), d: fc.double({ min: 0, max: 500, noNaN: true }) }), {
+      maxLength: 12,
+    }),
     substrate: fc.double({ min: 1.3, max: 4, noNaN: true }),
     angle: fc.double({ min: 0, max: 85, noNaN: true }),
     lambda: fc.double({ min: 300, max: 1600, noNaN: true }),
@@ -73,7 +77,13 @@ describe('conservation of energy', () => {
     fc.assert(
       fc.property(lossless, (c) => {
         const r = solveStack(
-          { wavelengthNm: [c.lambda], ambient: air, layers: c.layers.map((l) => layer(l.n, l.d)), substrate: constant(c.substrate), incoherentSubstrateMm: c.incoherent ? 1 : undefined },
+          {
+            wavelengthNm: [c.lambda],
+            ambient: air,
+            layers: c.layers.map((l) => layer(l.n, l.d)),
+            substrate: constant(c.substrate),
+            incoherentSubstrateMm: c.incoherent ? 1 : undefined,
+          },
           c.angle,
         );
         expect(Math.abs(r.Rs[0] + r.Ts[0] - 1)).toBeLessThan(1e-12);
@@ -86,7 +96,11 @@ describe('conservation of energy', () => {
   it('absorbing stacks: A = 1 − R − T ≥ 0 everywhere, R and T in [0, 1] (fast-check, seeded)', () => {
     const absorbing = fc.record({
       layers: fc.array(
-        fc.record({ n: fc.double({ min: 0.05, max: 5, noNaN: true }), k: fc.double({ min: 0, max: 6, noNaN: true }), d: fc.double({ min: 0, max: 300, noNaN: true }) }),
+        fc.record({
+          n: fc.double({ min: 0.05, max: 5, noNaN: true }),
+          k: fc.double({ min: 0, max: 6, noNaN: true }),
+          d: fc.double({ min: 0, max: 300, noNaN: true }),
+        }),
         { minLength: 1, maxLength: 8 },
       ),
       sub: fc.record({ n: fc.double({ min: 0.1, max: 5, noNaN: true }), k: fc.double({ min: 0, max: 5, noNaN: true }) }),
@@ -95,8 +109,14 @@ describe('conservation of energy', () => {
     });
     fc.assert(
       fc.property(absorbing, (c) => {
-        const r = solveStack({ wavelengthNm: [c.lambda], ambient: air, layers: c.layers.map((l) => layer(l.n, l.d, l.k)), substrate: constant(c.sub.n, c.sub.k) }, c.angle);
-        for (const [R, T] of [[r.Rs[0], r.Ts[0]], [r.Rp[0], r.Tp[0]]]) {
+        const r = solveStack(
+          { wavelengthNm: [c.lambda], ambient: air, layers: c.layers.map((l) => layer(l.n, l.d, l.k)), substrate: constant(c.sub.n, c.sub.k) },
+          c.angle,
+        );
+        for (const [R, T] of [
+          [r.Rs[0], r.Ts[0]],
+          [r.Rp[0], r.Tp[0]],
+        ]) {
           expect(R).toBeGreaterThanOrEqual(0);
           expect(T).toBeGreaterThanOrEqual(0);
           expect(1 - R - T).toBeGreaterThanOrEqual(-1e-12);
@@ -126,7 +146,11 @@ describe('facts of the trade (common practice, no source)', () => {
 
   it('a ~10 nm free-standing film of n ≈ 1.33 reflects almost no visible light (black soap film), ~100 nm several percent', () => {
     const wl = [...COLOUR_GRID_NM];
-    const film = (d: number) => solveStack({ wavelengthNm: wl, ambient: constant(1, 0, wl.length), layers: [layer(1.33, d, 0, wl.length)], substrate: constant(1, 0, wl.length) }, 0);
+    const film = (d: number) =>
+      solveStack(
+        { wavelengthNm: wl, ambient: constant(1, 0, wl.length), layers: [layer(1.33, d, 0, wl.length)], substrate: constant(1, 0, wl.length) },
+        0,
+      );
     const cie = cieTables();
     const thin = colourOf(film(10).Rs, cie);
     const thick = colourOf(film(100).Rs, cie);
@@ -137,7 +161,8 @@ describe('facts of the trade (common practice, no source)', () => {
   });
 
   it('interference colours repeat as a film thickens: reflectance is periodic in thickness with period λ/(2n) at normal incidence', () => {
-    const lambda = 550, n = 1.33;
+    const lambda = 550,
+      n = 1.33;
     const R = (d: number) => solveStack({ wavelengthNm: [lambda], ambient: air, layers: [layer(n, d)], substrate: constant(1.46) }, 0).Rs[0];
     for (const d of [37, 120, 333]) expect(R(d + lambda / (2 * n))).toBeCloseTo(R(d), 12);
     // and the colour chart of a soap film goes through several cycles of hue between 0 and 1500 nm
@@ -145,7 +170,10 @@ describe('facts of the trade (common practice, no source)', () => {
     const cie = cieTables();
     const hues: number[] = [];
     for (let d = 200; d <= 1500; d += 10) {
-      const s = solveStack({ wavelengthNm: wl, ambient: constant(1, 0, wl.length), layers: [layer(n, d, 0, wl.length)], substrate: constant(1, 0, wl.length) }, 0);
+      const s = solveStack(
+        { wavelengthNm: wl, ambient: constant(1, 0, wl.length), layers: [layer(n, d, 0, wl.length)], substrate: constant(1, 0, wl.length) },
+        0,
+      );
       const c = colourOf(s.Rs, cie);
       hues.push(Math.atan2(c.b, c.a));
     }
@@ -181,7 +209,11 @@ describe('ellipsometric Ψ, Δ as ellipsometers report them (Azzam & Bashara, N 
     expect(r.psiDeg[0]).toBeCloseTo(10.558, 3);
     expect(r.deltaDeg[0]).toBeCloseTo(179.188, 3);
     for (const angle of [20, 45, 65, 75, 80, 85]) {
-      for (const [n, k] of [[3.88, 0.02], [0.2, 3.4], [1.5, 0.5]]) {
+      for (const [n, k] of [
+        [3.88, 0.02],
+        [0.2, 3.4],
+        [1.5, 0.5],
+      ]) {
         const d = solveStack({ wavelengthNm: [633], ambient: air, layers: [], substrate: constant(n, k) }, angle).deltaDeg[0];
         expect(d).toBeGreaterThan(0);
         expect(d).toBeLessThan(180);
@@ -211,7 +243,10 @@ describe('ellipsometric Ψ, Δ as ellipsometers report them (Azzam & Bashara, N 
 
 describe('colour (CIE 1931 2°, D65)', () => {
   it('a perfect reflector is the D65 white point x = 0.3127, y = 0.3290 (CIE 15:2004), Y = 100, L* = 100, a* = b* = 0, #ffffff', () => {
-    const c = colourOf(COLOUR_GRID_NM.map(() => 1), cieTables());
+    const c = colourOf(
+      COLOUR_GRID_NM.map(() => 1),
+      cieTables(),
+    );
     expect(c.x).toBeCloseTo(0.3127, 4);
     expect(c.y).toBeCloseTo(0.329, 4);
     expect(c.Y).toBeCloseTo(100, 12);
@@ -223,28 +258,41 @@ describe('colour (CIE 1931 2°, D65)', () => {
   });
 
   it('a grey reflector keeps the white chromaticity; Y = 18.42 % gives L* = 50 (CIE 15:2004 eq. 8.1: 116·0.1842^{1/3} − 16)', () => {
-    const c = colourOf(COLOUR_GRID_NM.map(() => 0.18419), cieTables());
+    const c = colourOf(
+      COLOUR_GRID_NM.map(() => 0.18419),
+      cieTables(),
+    );
     expect(c.x).toBeCloseTo(0.3127, 4);
     expect(c.L).toBeCloseTo(50, 2);
     expect(c.srgb_hex).toBe('#777777'); // sRGB of L* = 50 grey, IEC 61966-2-1: 1.055·0.18419^{1/2.4} − 0.055 = 0.4663 → 119
   });
 
   it('black: no chromaticity, L* = 0, #000000; a saturated green is out of the sRGB gamut', () => {
-    const black = colourOf(COLOUR_GRID_NM.map(() => 0), cieTables());
+    const black = colourOf(
+      COLOUR_GRID_NM.map(() => 0),
+      cieTables(),
+    );
     expect(black.x).toBeNull();
     expect(black.L).toBe(0);
     expect(black.srgb_hex).toBe('#000000');
-    const green = colourOf(COLOUR_GRID_NM.map((w) => (w >= 515 && w <= 525 ? 1 : 0)), cieTables());
+    const green = colourOf(
+      COLOUR_GRID_NM.map((w) => (w >= 515 && w <= 525 ? 1 : 0)),
+      cieTables(),
+    );
     expect(green.in_gamut).toBe(false);
   });
 });
 
 describe('opaque layers', () => {
   it('a metal layer millimetres thick reflects like the bulk metal (Fresnel, Hecht ch. 4) and transmits nothing, with no NaN', () => {
-    const n = 0.2, k = 3.4;
+    const n = 0.2,
+      k = 3.4;
     const bulk = ((1 - n) ** 2 + k ** 2) / ((1 + n) ** 2 + k ** 2);
     for (const d of [1e4, 1e6, 3e6]) {
-      const r = solveStack({ wavelengthNm: [500], ambient: air, layers: [layer(n, d, k), layer(1.5, 100), layer(n, d, k)], substrate: constant(1.5) }, 30);
+      const r = solveStack(
+        { wavelengthNm: [500], ambient: air, layers: [layer(n, d, k), layer(1.5, 100), layer(n, d, k)], substrate: constant(1.5) },
+        30,
+      );
       for (const v of [r.Rs[0], r.Rp[0], r.Ts[0], r.Tp[0], r.psiDeg[0], r.deltaDeg[0]]) expect(Number.isFinite(v)).toBe(true);
       expect(r.Ts[0]).toBe(0); // behind two opaque layers
       const normal = solveStack({ wavelengthNm: [500], ambient: air, layers: [layer(n, d, k)], substrate: constant(1.5) }, 0);

@@ -23,9 +23,7 @@ export function registerAdminRoutes(app: Hono<ApiEnv>, ctx: RouteContext): void 
     return c.json(created, 201);
   });
 
-  app.post('/api/v1/tokens/:id/revoke', admin, (c) =>
-    c.json(revokeToken(ctx.registry, c.req.param('id'), actorOf(c.get('principal')))),
-  );
+  app.post('/api/v1/tokens/:id/revoke', admin, (c) => c.json(revokeToken(ctx.registry, c.req.param('id'), actorOf(c.get('principal')))));
 
   app.get('/api/v1/settings', admin, (c) => c.json({ settings: ctx.settings() }));
 

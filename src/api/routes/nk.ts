@@ -33,11 +33,11 @@ export function registerNkRoute(app: Hono<ApiEnv>, ctx: RouteContext): void {
     const caching = versionHeaders({ status: result.status, sha256: result.sha256, retiredAt }, { withToken, variant: format });
     return {
       status: result.status,
-      headers: { ...caching, 'content-type': CONTENT_TYPES[format], vary: caching.vary ? `${caching.vary}, Accept` : 'Accept' } as Record<string, string>,
-      body:
-        format === 'csv'
-          ? exportTable({ wavelengthNm: result.wavelength_nm, n: result.n, k: result.k }, 'csv')
-          : JSON.stringify(result),
+      headers: { ...caching, 'content-type': CONTENT_TYPES[format], vary: caching.vary ? `${caching.vary}, Accept` : 'Accept' } as Record<
+        string,
+        string
+      >,
+      body: format === 'csv' ? exportTable({ wavelengthNm: result.wavelength_nm, n: result.n, k: result.k }, 'csv') : JSON.stringify(result),
     };
   };
   const statuses = new ChangeMemo<ReturnType<typeof versionStatus>>(ctx.changes);

@@ -36,21 +36,38 @@ export function registerStackRoute(app: Hono<ApiEnv>, ctx: RouteContext): void {
     const body = await readJson(c.req);
     const wrapped = body !== null && typeof body === 'object' && 'design' in body && !('layers' in body);
     const { design: designValue, lock: lockValue, ...rest } = (wrapped ? body : { design: body }) as Record<string, unknown>;
-    if (Object.keys(rest).length) throw new InputError('invalid-body', `body: unknown field${Object.keys(rest).length > 1 ? 's' : ''} ${Object.keys(rest).map((k) => `"${k}"`).join(', ')} beside "design" (known: design, lock)`, { field: 'body' }, 422);
+    if (Object.keys(rest).length)
+      throw new InputError(
+        'invalid-body',
+        `body: unknown field${Object.keys(rest).length > 1 ? 's' : ''} ${Object.keys(rest)
+          .map((k) => `"${k}"`)
+          .join(', ')} beside "design" (known: design, lock)`,
+        { field: 'body' },
+        422,
+      );
     const design = parseStackDesign(designValue, BODY);
     const wavelengths = parseWavelengthList(q.at, 'at');
-    const options = parseStackOptions({ angle: q.angle, polarization: q.polarization, sweep: q.sweep, extrapolate: q.extrapolate === 'true' }, wavelengths, { angle: 'angle', polarization: 'polarization', sweep: 'sweep' });
+    const options = parseStackOptions(
+      { angle: q.angle, polarization: q.polarization, sweep: q.sweep, extrapolate: q.extrapolate === 'true' },
+      wavelengths,
+      { angle: 'angle', polarization: 'polarization', sweep: 'sweep' },
+    );
     const cap = ctx.settings().max_stack_work;
     const work = stackWork(design, options);
     if (work > cap) {
-      throw new InputError('stack-too-much-work', `this request asks for ${work} units of work (layers × wavelengths × angles × sweep steps); at most ${cap} per request (setting max_stack_work)`, { field: 'at' });
+      throw new InputError(
+        'stack-too-much-work',
+        `this request asks for ${work} units of work (layers × wavelengths × angles × sweep steps); at most ${cap} per request (setting max_stack_work)`,
+        { field: 'at' },
+      );
     }
     const lock = lockValue === undefined ? undefined : { lockfile: parseLockfile(lockValue, `${BODY} lock`), file: 'the posted lock' };
     const resolved = await resolveStackDesign(design, { registry: ctx.registry, designFile: BODY, designText: null, allowFiles: false, lock });
     const report = await ctx.compute.run({ kind: 'stack', design: resolved, options });
     c.header('cache-control', 'no-store');
     if (svg) return c.body(renderStackPlot(report), 200, { 'content-type': 'image/svg+xml' });
-    if (accept && !/json|\*\/\*/.test(accept)) throw new HttpProblem(406, 'not-acceptable', `a stack answer is application/json or image/svg+xml, not "${accept}"`);
+    if (accept && !/json|\*\/\*/.test(accept))
+      throw new HttpProblem(406, 'not-acceptable', `a stack answer is application/json or image/svg+xml, not "${accept}"`);
     return c.json(report);
   });
 }

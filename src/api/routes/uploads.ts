@@ -29,7 +29,13 @@ const provenanceFields = Object.fromEntries(
 );
 const versionFields = z.strictObject({ fit: modelSpec.optional(), ...FIT_OPTION_FIELDS, ...provenanceFields, kk: booleanText.optional() });
 const fitOnlyFields = z.strictObject({ model: modelSpec, ...FIT_OPTION_FIELDS });
-const kkFields = z.strictObject({ tolerance: z.string().regex(/^[0-9.eE+-]+$/).transform(Number).optional() });
+const kkFields = z.strictObject({
+  tolerance: z
+    .string()
+    .regex(/^[0-9.eE+-]+$/)
+    .transform(Number)
+    .optional(),
+});
 
 export function registerUploadRoutes(app: Hono<ApiEnv>, ctx: RouteContext): void {
   const reader = ctx.requireRole('reader');

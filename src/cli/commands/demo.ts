@@ -45,9 +45,17 @@ function buildDemo(paths: DemoPaths): string[] {
       TOKEN_ROLES.map((role) => [role, createToken(registry, { user: `demo-${role}`, role, createdBy: 'nkledger demo' }).token]),
     );
     // Demo only: the secrets are kept in clear here so every `npm start` can print them again.
-    writeFileSync(paths.tokens, `${JSON.stringify({ note: 'DEMO tokens of the demo registry only; never do this with real tokens', ...tokens }, null, 2)}\n`);
+    writeFileSync(
+      paths.tokens,
+      `${JSON.stringify({ note: 'DEMO tokens of the demo registry only; never do this with real tokens', ...tokens }, null, 2)}\n`,
+    );
     const verdict = summary.lockReport.entries.map((e) => `    ${e.outcome.padEnd(8)} ${e.message}`);
-    lines = ['Built the demo registry (invented Marrowick Optics data, data/README.md):', ...summary.steps.map((s) => `  ${s}`), `  lock verify ${summary.lockfile}:`, ...verdict];
+    lines = [
+      'Built the demo registry (invented Marrowick Optics data, data/README.md):',
+      ...summary.steps.map((s) => `  ${s}`),
+      `  lock verify ${summary.lockfile}:`,
+      ...verdict,
+    ];
   } finally {
     registry.close();
   }

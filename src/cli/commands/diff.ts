@@ -8,7 +8,8 @@ import { guarded } from '../failure.ts';
 import { formatTable, printJson, printLines } from '../output.ts';
 import { printResolution } from '../registry-output.ts';
 
-const fmt = (v: number | null, digits = 5) => (v === null ? '-' : Math.abs(v) !== 0 && (Math.abs(v) < 1e-3 || Math.abs(v) >= 1e5) ? v.toExponential(3) : v.toFixed(digits));
+const fmt = (v: number | null, digits = 5) =>
+  v === null ? '-' : Math.abs(v) !== 0 && (Math.abs(v) < 1e-3 || Math.abs(v) >= 1e5) ? v.toExponential(3) : v.toFixed(digits);
 
 export function register(program: Command): void {
   addDbOption(program.command('diff'))
@@ -29,7 +30,14 @@ export function register(program: Command): void {
         if (diff.identical_content) lines.push('content (table, model, KK report) is identical');
         if (diff.model_changed) lines.push(`model: ${diff.a.model ?? 'none'} → ${diff.b.model ?? 'none'}`);
         if (diff.parameters.length) {
-          const rows = diff.parameters.map((p) => [p.name, fmt(p.a), fmt(p.b), fmt(p.delta), p.delta_sigmas === null ? '-' : p.delta_sigmas.toFixed(1), p.unit ?? '']);
+          const rows = diff.parameters.map((p) => [
+            p.name,
+            fmt(p.a),
+            fmt(p.b),
+            fmt(p.delta),
+            p.delta_sigmas === null ? '-' : p.delta_sigmas.toFixed(1),
+            p.unit ?? '',
+          ]);
           lines.push('', ...formatTable(['parameter', 'a', 'b', 'Δ', 'Δ/σ', 'unit'], rows));
         }
         lines.push('');

@@ -26,12 +26,14 @@ export function register(program: Command): void {
   addSourceOptions(
     program
       .command('eval')
-      .description('n and k at given wavelengths, interpolated in a measured table or from a stored model (--extrapolate: a model also beyond its validity range, marked)')
+      .description(
+        'n and k at given wavelengths, interpolated in a measured table or from a stored model (--extrapolate: a model also beyond its validity range, marked)',
+      )
       .argument('<source>', SOURCE_ARGUMENT_HELP)
       .requiredOption('--at <list>', 'where: a list 400,500,632.8 and/or grids start:stop:step such as 400:800:50 (in nm unless --at-unit)')
       .addOption(new Option('--at-unit <unit>', 'unit of --at and of the printed x column').choices(AT_UNITS).default('nm'))
       .addOption(new Option('--interp <method>', 'interpolation between measured points').choices(INTERPOLATION_METHODS).default('linear'))
-      .option('--extrapolate', "evaluate a fitted model beyond its validity range; every such value is marked (a table never extrapolates)")
+      .option('--extrapolate', 'evaluate a fitted model beyond its validity range; every such value is marked (a table never extrapolates)')
       .option(
         '--json',
         'print {"wavelength_nm", "n", "k", "interpolation"} as JSON (registry versions add "ref", "sha256", "status", "source", "model", "range_nm"; --extrapolate adds "extrapolated"; --at-unit adds the x column in that unit, e.g. "energy_eV")',
@@ -57,9 +59,23 @@ export function register(program: Command): void {
         if (loaded.detected.source === 'registry') {
           return printVersionEvaluation(evaluateResolved(loaded.detected, loaded.content!, wavelengthNm, options), unit, at, opts.json);
         }
-        const { n, k, extrapolated } = evaluateContent({ table: loaded.table, fit: null, kk: null }, wavelengthNm, opts.interp, sourceLabel(source, loaded), opts.extrapolate);
-        if (opts.json) return printJson(withUnitColumn({ wavelength_nm: wavelengthNm, n, k, ...(opts.extrapolate && { extrapolated }), interpolation: opts.interp }, unit));
-        printLines(formatTable([`${xHeading(unit)}`, 'n', 'k'], at.map((x, i) => [String(x), n[i].toFixed(5), kText(k[i])])));
+        const { n, k, extrapolated } = evaluateContent(
+          { table: loaded.table, fit: null, kk: null },
+          wavelengthNm,
+          opts.interp,
+          sourceLabel(source, loaded),
+          opts.extrapolate,
+        );
+        if (opts.json)
+          return printJson(
+            withUnitColumn({ wavelength_nm: wavelengthNm, n, k, ...(opts.extrapolate && { extrapolated }), interpolation: opts.interp }, unit),
+          );
+        printLines(
+          formatTable(
+            [`${xHeading(unit)}`, 'n', 'k'],
+            at.map((x, i) => [String(x), n[i].toFixed(5), kText(k[i])]),
+          ),
+        );
       }),
     );
 }

@@ -18,7 +18,10 @@ export function register(program: Command): void {
     .addOption(new Option('--x-unit <unit>', 'unit of the CSV x column').choices(SPECTRAL_UNITS).default('nm'))
     .option('--step <nm>', `grid step for a model-only CSV (default ${DEFAULT_MODEL_STEP_NM} nm)`)
     .option('-o, --output <file>', 'write to this file instead of standard output')
-    .addHelpText('after', '\nThe CSV starts with # lines naming the pin and its SHA-256; it imports back unchanged.\n\nExample:\n  nkledger export sin-pecvd-a@3 --format csv -o sin-a-3.csv')
+    .addHelpText(
+      'after',
+      '\nThe CSV starts with # lines naming the pin and its SHA-256; it imports back unchanged.\n\nExample:\n  nkledger export sin-pecvd-a@3 --format csv -o sin-a-3.csv',
+    )
     .action(
       guarded(async (ref: string, opts: { db?: string; format: VersionExportFormat; xUnit: SpectralUnit; step?: string; output?: string }) => {
         const stepNm = opts.step === undefined ? undefined : parseOptionNumber(opts.step, '--step', { above: 0 });

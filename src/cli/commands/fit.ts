@@ -36,7 +36,11 @@ export function fitLines(source: string, r: FitReport): string[] {
   const s = r.statistics;
   const lines = [
     `${r.model} fit of ${source}: ${g(r.range_nm[0])}–${g(r.range_nm[1])} nm, ${TARGET_TEXT[r.options.target]}, ${s.points} residuals, ` +
-      (r.options.weighted ? 'weighted by the sigma columns' : r.options.weights === 'relative' ? 'weighted relative to the values (σ ∝ |value|)' : 'no sigma columns (k weighted by the n/k noise ratio estimated from the data)'),
+      (r.options.weighted
+        ? 'weighted by the sigma columns'
+        : r.options.weights === 'relative'
+          ? 'weighted relative to the values (σ ∝ |value|)'
+          : 'no sigma columns (k weighted by the n/k noise ratio estimated from the data)'),
     '',
     ...formatTable(
       ['parameter', 'value', '± 1σ', 'unit', 'note'],
@@ -54,9 +58,14 @@ export function fitLines(source: string, r: FitReport): string[] {
   ];
   if (r.multistart) {
     const skipped = r.multistart.skipped ? `; ${r.multistart.skipped} skipped: no start inside the model's domain or a model not finite there` : '';
-    lines.push(`multi-start: ${r.multistart.reached_best} of ${r.multistart.starts} starts reached the best minimum (${r.multistart.tolerance})${skipped}`);
+    lines.push(
+      `multi-start: ${r.multistart.reached_best} of ${r.multistart.starts} starts reached the best minimum (${r.multistart.tolerance})${skipped}`,
+    );
   }
-  if (r.correlations.high.length) lines.push(`correlated pairs (|r| > ${r.correlations.threshold}): ${r.correlations.high.map((h) => `${h.a}/${h.b} ${h.r.toFixed(3)}`).join(', ')}`);
+  if (r.correlations.high.length)
+    lines.push(
+      `correlated pairs (|r| > ${r.correlations.threshold}): ${r.correlations.high.map((h) => `${h.a}/${h.b} ${h.r.toFixed(3)}`).join(', ')}`,
+    );
   return lines;
 }
 
@@ -89,8 +98,17 @@ export function compareLines(source: string, c: ComparisonReport): string[] {
     g(m.delta_bic, 3),
     m.kk_consistent ? 'yes' : 'NO',
   ]);
-  const lines = [`model comparison on ${source} (lower AIC/BIC is better; Δ relative to the best)`, '', ...formatTable(['model', 'free', 'rms n', 'rms k', 'AIC', 'ΔAIC', 'BIC', 'ΔBIC', 'KK'], rows), ''];
-  lines.push(`best by AIC: ${c.best_aic ?? '—'}; best by BIC: ${c.best_bic ?? '—'} (within ΔBIC < 2 the one with fewer parameters)`, '', 'caveats beside these numbers:');
+  const lines = [
+    `model comparison on ${source} (lower AIC/BIC is better; Δ relative to the best)`,
+    '',
+    ...formatTable(['model', 'free', 'rms n', 'rms k', 'AIC', 'ΔAIC', 'BIC', 'ΔBIC', 'KK'], rows),
+    '',
+  ];
+  lines.push(
+    `best by AIC: ${c.best_aic ?? '—'}; best by BIC: ${c.best_bic ?? '—'} (within ΔBIC < 2 the one with fewer parameters)`,
+    '',
+    'caveats beside these numbers:',
+  );
   for (const m of c.models) {
     if (m.error) lines.push(`  ${m.model}: fit failed: ${m.error}`);
     for (const note of m.caveats) lines.push(`  ${m.model}: ${note}`);
@@ -103,12 +121,19 @@ export function compareLines(source: string, c: ComparisonReport): string[] {
 export function catalogueHelp(): string {
   const lines = ['', 'Models (sum summable ones in ε with "+", e.g. tauc-lorentz+drude; parameters are then prefixed, e.g. drude.Ep):'];
   for (const term of MODEL_CATALOGUE) {
-    const flags = [term.terms ? `--terms ${term.terms.min}–${term.terms.max}: ${term.terms.meaning}` : '', term.urbach ? `--urbach: ${term.urbach.meaning}` : ''].filter(Boolean);
+    const flags = [
+      term.terms ? `--terms ${term.terms.min}–${term.terms.max}: ${term.terms.meaning}` : '',
+      term.urbach ? `--urbach: ${term.urbach.meaning}` : '',
+    ].filter(Boolean);
     lines.push(`  ${term.name}  ${term.summary}`);
-    lines.push(`    Kramers-Kronig consistent: ${term.kkConsistent ? 'yes' : 'NO'}; ${term.summable ? 'summable' : 'stands alone'}${flags.length ? `; ${flags.join('; ')}` : ''}`);
+    lines.push(
+      `    Kramers-Kronig consistent: ${term.kkConsistent ? 'yes' : 'NO'}; ${term.summable ? 'summable' : 'stands alone'}${flags.length ? `; ${flags.join('; ')}` : ''}`,
+    );
     const model = buildModel(term.name, { terms: 1, urbach: term.urbach ? true : undefined });
     for (const p of model.parameters) {
-      lines.push(`    ${p.name.padEnd(8)} [${p.unit}] ${p.meaning}; bounds ${p.bounds[0]}:${p.bounds[1]}${p.fixedByDefault ? '; fixed unless --free' : ''}`);
+      lines.push(
+        `    ${p.name.padEnd(8)} [${p.unit}] ${p.meaning}; bounds ${p.bounds[0]}:${p.bounds[1]}${p.fixedByDefault ? '; fixed unless --free' : ''}`,
+      );
     }
   }
   lines.push(
@@ -140,7 +165,10 @@ export function register(program: Command): void {
     .action(
       guarded(async (source: string, opts: FitFlags) => {
         if ((opts.model === undefined) === (opts.compare === undefined)) {
-          throw new InputError('bad-option', `give exactly one of --model NAME or --compare A,B,...; models: ${MODEL_CATALOGUE.map((t) => t.name).join(', ')}`);
+          throw new InputError(
+            'bad-option',
+            `give exactly one of --model NAME or --compare A,B,...; models: ${MODEL_CATALOGUE.map((t) => t.name).join(', ')}`,
+          );
         }
         const parsed = parseFitOptions(opts);
         const loaded = await loadSource(source, opts);
@@ -151,7 +179,14 @@ export function register(program: Command): void {
           // Without a k column every model of the comparison is fitted to n only, so their AIC/BIC compare.
           const options = loaded.kAbsent && parsed.target === undefined ? { ...parsed, target: 'n' as const } : parsed;
           if (options !== parsed) cliIo().stderr.write(`note: ${NO_K_COLUMN}: every model is fitted to n only (k was not measured)\n`);
-          const comparison = compareModels(table, opts.compare.split(',').map((s) => s.trim()).filter(Boolean), options);
+          const comparison = compareModels(
+            table,
+            opts.compare
+              .split(',')
+              .map((s) => s.trim())
+              .filter(Boolean),
+            options,
+          );
           if (opts.json) printJson(comparison);
           else printLines(compareLines(label, comparison));
           return;

@@ -16,11 +16,23 @@ export function register(program: Command): void {
       guarded(async (slug: string, opts: { db?: string; json?: boolean }) => {
         const h = await withRegistry(opts, (r) => history(r, slug));
         if (opts.json) return printJson(h);
-        const versions = h.versions.map((v) => [v.ref, v.status, v.sha256.slice(0, 12), v.model ?? (v.has_table ? 'table' : ''), v.created_by, v.approved_by ?? '']);
+        const versions = h.versions.map((v) => [
+          v.ref,
+          v.status,
+          v.sha256.slice(0, 12),
+          v.model ?? (v.has_table ? 'table' : ''),
+          v.created_by,
+          v.approved_by ?? '',
+        ]);
         // Columns as wide as their longest entry, so a long user name never runs into the action.
         const cells = h.audit.map((a) => [shortTime(a.at), a.actor, a.action, `${a.ref ?? ''}${a.detail.reason ? `  (${a.detail.reason})` : ''}`]);
         const widths = [0, 1, 2].map((i) => Math.max(0, ...cells.map((c) => c[i].length)));
-        const audit = cells.map((c) => c.map((cell, i) => (i < 3 ? cell.padEnd(widths[i]) : cell)).join('  ').trimEnd());
+        const audit = cells.map((c) =>
+          c
+            .map((cell, i) => (i < 3 ? cell.padEnd(widths[i]) : cell))
+            .join('  ')
+            .trimEnd(),
+        );
         printLines([
           `${h.material.slug}: ${h.material.name}`,
           ...(versions.length ? formatTable(['version', 'status', 'sha256', 'content', 'created by', 'approved by'], versions) : ['no versions yet']),

@@ -26,7 +26,9 @@ interface ImportCliOptions extends ImportFlags, FitOptionText {
 
 export function register(program: Command): void {
   const command = addAsOption(addDbOption(program.command('import')))
-    .description('store measured n,k tables as new draft versions of a material, with provenance and a Kramers-Kronig report (several files: one draft each, all or none)')
+    .description(
+      'store measured n,k tables as new draft versions of a material, with provenance and a Kramers-Kronig report (several files: one draft each, all or none)',
+    )
     .argument('<files...>', 'table files (instrument exports as they come), or - for standard input')
     .requiredOption('--material <slug>', 'the material (create it first with `nkledger material add`)')
     .option('--note <text>', 'free notes stored with the version')
@@ -34,7 +36,10 @@ export function register(program: Command): void {
       '--meta <key=value...>',
       'provenance: sample, substrate, process (or recipe), instrument, method (spectroscopic-ellipsometry | spectrophotometry | prism-coupling | other), angles (degrees, e.g. 65,70,75), measured_on (YYYY-MM-DD), operator',
     )
-    .option('--fit <model>', 'also fit this dispersion model (e.g. cauchy, sellmeier, tauc-lorentz, tauc-lorentz+drude) and store its report; the fit flags below are those of `nkledger fit`');
+    .option(
+      '--fit <model>',
+      'also fit this dispersion model (e.g. cauchy, sellmeier, tauc-lorentz, tauc-lorentz+drude) and store its report; the fit flags below are those of `nkledger fit`',
+    );
   addImportOptions(
     addFitOptions(command)
       .option('--no-kk', 'do not run the Kramers-Kronig check (it runs by default and its report is stored)')
@@ -55,7 +60,8 @@ export function register(program: Command): void {
         const provenance = parseMetaPairs(opts.meta ?? []);
         if (opts.note !== undefined) provenance.notes = opts.note;
         const fitFlags = givenFitOptions(opts);
-        if (opts.fit === undefined && fitFlags.length) throw new InputError('bad-option', `${fitFlags.map((f) => `--${f}`).join(', ')} configure a fit: add --fit MODEL`);
+        if (opts.fit === undefined && fitFlags.length)
+          throw new InputError('bad-option', `${fitFlags.map((f) => `--${f}`).join(', ')} configure a fit: add --fit MODEL`);
         if (files.filter((f) => f === STDIN_SOURCE).length > 1) throw new InputError('bad-option', 'standard input (-) can be read once');
         const fit = opts.fit === undefined ? undefined : { ...parseFitOptions(opts), model: opts.fit };
         const inputs: MeasurementImport[] = [];
@@ -76,8 +82,11 @@ export function register(program: Command): void {
         if (opts.json) return printJson(files.length === 1 ? reports[0] : reports);
         printLines([
           ...reports.map(
-            (r) => `stored ${r.ref} (${r.status}) sha256:${r.sha256}${stored.length > 1 ? ` from ${r.source_file}` : ''}` +
-              (r.preamble.length ? `\n  kept ${r.preamble.length} preamble line(s) from above the header in the provenance (nkledger show ${r.ref})` : ''),
+            (r) =>
+              `stored ${r.ref} (${r.status}) sha256:${r.sha256}${stored.length > 1 ? ` from ${r.source_file}` : ''}` +
+              (r.preamble.length
+                ? `\n  kept ${r.preamble.length} preamble line(s) from above the header in the provenance (nkledger show ${r.ref})`
+                : ''),
           ),
           `someone other than you approves ${stored.length > 1 ? 'each' : 'it'} with: nkledger approve ${stored.length > 1 ? 'REF' : stored[0].ref}`,
         ]);

@@ -32,7 +32,11 @@ export const COMMANDS: CommandEntry[] = [
   { name: 'show', summary: 'show a version: status, hash, content, provenance, fit, KK verdict', load: () => import('./show.ts') },
   { name: 'list', summary: 'list the materials in the registry', load: () => import('./list.ts') },
   { name: 'history', summary: "a material's versions and its audit log", load: () => import('./history.ts') },
-  { name: 'approve', summary: 'approve a draft version (someone other than its creator, unless self-approval is on)', load: () => import('./approve.ts') },
+  {
+    name: 'approve',
+    summary: 'approve a draft version (someone other than its creator, unless self-approval is on)',
+    load: () => import('./approve.ts'),
+  },
   { name: 'retire', summary: 'retire an approved version: pins keep resolving, with a warning', load: () => import('./retire.ts') },
   { name: 'withdraw', summary: 'withdraw a draft nobody should use (its number is never reused)', load: () => import('./withdraw.ts') },
   { name: 'lock', summary: "a design's lockfile: pin, verify and check for newer versions", load: () => import('./lock.ts') },

@@ -13,7 +13,9 @@ const g = (v: number) => String(+v.toPrecision(6));
 export function inspectLines(source: string, r: InspectReport): string[] {
   const lines = [
     `${source}: ${r.points} points, ${g(r.range_nm[0])}–${g(r.range_nm[1])} nm`,
-    ...(r.version ? [`  version   ${r.version.status}, sha256:${r.version.sha256}${r.version.model ? `, with a fitted ${r.version.model} model` : ''}`] : []),
+    ...(r.version
+      ? [`  version   ${r.version.status}, sha256:${r.version.sha256}${r.version.model ? `, with a fitted ${r.version.model} model` : ''}`]
+      : []),
     `  columns   ${r.columns.map((c, i) => (r.roles[i] === c ? c : `${c} → ${r.roles[i]}`)).join(', ')}`,
     `  x unit    ${r.x_unit}${r.quantity === 'eps' ? '; ε1, ε2 converted to n, k' : ''}`,
     `  n         ${g(r.n_range[0])} … ${g(r.n_range[1])}`,

@@ -35,7 +35,15 @@ export function kkLines(source: string, r: KkReport): string[] {
     '',
     ...formatTable(
       ['band', 'range (nm)', 'points', 'rms Δn', 'max |Δn|', 'at (nm)', 'systematic'],
-      r.bands.map((b) => [b.band, `${+b.range_nm[0].toFixed(1)}–${+b.range_nm[1].toFixed(1)}`, String(b.points), e(b.rms_dn), e(b.max_dn), String(+b.worst_nm.toFixed(1)), e(b.systematic_max_dn)]),
+      r.bands.map((b) => [
+        b.band,
+        `${+b.range_nm[0].toFixed(1)}–${+b.range_nm[1].toFixed(1)}`,
+        String(b.points),
+        e(b.rms_dn),
+        e(b.max_dn),
+        String(+b.worst_nm.toFixed(1)),
+        e(b.systematic_max_dn),
+      ]),
     ).map((l) => `  ${l}`),
     '',
     ...r.notes.map((n) => `  note: ${n}`),
@@ -54,10 +62,16 @@ export function register(program: Command): void {
       .option('--json', 'print the full report as JSON ({"verdict", "rms_dn", "max_dn", "worst_nm", "tolerance", ...})')
       .option('--plot <file.svg>', 'write an SVG: measured vs KK-reconstructed n, and Δn'),
   )
-    .addHelpText('after', '\nExamples:\n  nkledger kk data/marrowick/ito-sputtered.tsv\n  nkledger kk film.csv --tolerance 0.002 --json --plot film-kk.svg\n  nkledger kk sin-pecvd-a@3')
+    .addHelpText(
+      'after',
+      '\nExamples:\n  nkledger kk data/marrowick/ito-sputtered.tsv\n  nkledger kk film.csv --tolerance 0.002 --json --plot film-kk.svg\n  nkledger kk sin-pecvd-a@3',
+    )
     .action(
       guarded(async (source: string, opts: SourceFlags & { tolerance?: string; json?: boolean; plot?: string }) => {
-        const tolerance = opts.tolerance === undefined ? undefined : parseOptionNumber(opts.tolerance, '--tolerance', { above: 0, hint: 'a misfit in n, e.g. 0.005' });
+        const tolerance =
+          opts.tolerance === undefined
+            ? undefined
+            : parseOptionNumber(opts.tolerance, '--tolerance', { above: 0, hint: 'a misfit in n, e.g. 0.005' });
         const loaded = await loadSource(source, opts);
         const label = sourceLabel(source, loaded);
         const table = requireTable(loaded, 'check');

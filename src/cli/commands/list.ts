@@ -16,11 +16,22 @@ export function register(program: Command): void {
     .action(
       guarded(async (opts: { db?: string; tag?: string; search?: string; json?: boolean }) => {
         const list = await withRegistry(opts, (r) =>
-          (opts.search === undefined ? listMaterials(r) : searchMaterials(r, opts.search)).filter((m) => opts.tag === undefined || m.tags.includes(opts.tag)),
+          (opts.search === undefined ? listMaterials(r) : searchMaterials(r, opts.search)).filter(
+            (m) => opts.tag === undefined || m.tags.includes(opts.tag),
+          ),
         );
         if (opts.json) return printJson(list);
-        if (list.length === 0) return printLines([opts.search !== undefined || opts.tag !== undefined ? 'no material matches' : 'no materials yet (nkledger material add SLUG --name ...)']);
-        const rows = list.map((m) => [m.slug, m.name, String(m.versions), m.latest_approved === null ? '-' : `@${m.latest_approved}`, m.tags.join(',')]);
+        if (list.length === 0)
+          return printLines([
+            opts.search !== undefined || opts.tag !== undefined ? 'no material matches' : 'no materials yet (nkledger material add SLUG --name ...)',
+          ]);
+        const rows = list.map((m) => [
+          m.slug,
+          m.name,
+          String(m.versions),
+          m.latest_approved === null ? '-' : `@${m.latest_approved}`,
+          m.tags.join(','),
+        ]);
         printLines(formatTable(['slug', 'name', 'versions', 'approved', 'tags'], rows));
       }),
     );

@@ -14,7 +14,9 @@ export function register(program: Command): void {
   const lock = program.command('lock').description("a design's lockfile: the exact version and content hash of every material it uses");
 
   addDbOption(lock.command('add'))
-    .description("pin a version in the lockfile (created if missing; replaces another version of the same material) and record the registry's audit-chain head")
+    .description(
+      "pin a version in the lockfile (created if missing; replaces another version of the same material) and record the registry's audit-chain head",
+    )
     .argument('<ref>', 'slug@N, slug@sha256:PREFIX or a bare slug (pins its latest approved version)')
     .requiredOption('--lock <file>', 'lockfile path, e.g. design.nklock.json')
     .option('--json', 'print {"ref", "sha256", "replaced", "registry_head"} as JSON')
@@ -25,7 +27,13 @@ export function register(program: Command): void {
         const result = await withRegistry(opts, (r) => lockAdd(r, current, ref));
         writeLockfile(opts.lock, result.lock);
         printResolution(result);
-        if (opts.json) return printJson({ ref: result.ref, sha256: result.entry.sha256, replaced: result.replaced, registry_head: result.lock.registry_head ?? null });
+        if (opts.json)
+          return printJson({
+            ref: result.ref,
+            sha256: result.entry.sha256,
+            replaced: result.replaced,
+            registry_head: result.lock.registry_head ?? null,
+          });
         printLines([`pinned ${result.ref} sha256:${result.entry.sha256} in ${opts.lock}`]);
       }),
     );
@@ -61,7 +69,10 @@ export function register(program: Command): void {
     .requiredOption('--lock <file>', 'lockfile path')
     .option('--json', 'print [{"ref", "locked_version", "newer_approved", "latest_approved"}] as JSON')
     .option('--check', `exit ${CHECK_FAILED_EXIT} when any locked material is outdated (0 otherwise), for CI`)
-    .addHelpText('after', '\nExamples:\n  nkledger lock outdated --lock filter.nklock.json\n  nkledger lock outdated --lock filter.nklock.json --check')
+    .addHelpText(
+      'after',
+      '\nExamples:\n  nkledger lock outdated --lock filter.nklock.json\n  nkledger lock outdated --lock filter.nklock.json --check',
+    )
     .action(
       guarded(async (opts: { db?: string; lock: string; json?: boolean; check?: boolean }) => {
         const lockfile = readLockfile(opts.lock);
@@ -69,7 +80,12 @@ export function register(program: Command): void {
         if (opts.check && outdated.length > 0) setExitCode(CHECK_FAILED_EXIT);
         if (opts.json) return printJson(outdated);
         if (outdated.length === 0) return printLines(['every locked material is at its latest approved version']);
-        printLines(formatTable(['locked', 'newer approved', 'latest'], outdated.map((o) => [o.ref, o.newer_approved.map((n) => `@${n}`).join(' '), `${o.slug}@${o.latest_approved}`])));
+        printLines(
+          formatTable(
+            ['locked', 'newer approved', 'latest'],
+            outdated.map((o) => [o.ref, o.newer_approved.map((n) => `@${n}`).join(' '), `${o.slug}@${o.latest_approved}`]),
+          ),
+        );
       }),
     );
 }

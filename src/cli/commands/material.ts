@@ -17,8 +17,9 @@ export function register(program: Command): void {
     .addHelpText('after', '\nExample:\n  nkledger material add sin-pecvd-a --name "PECVD SiNx, recipe A" --tag nitride --tag pecvd')
     .action(
       guarded(async (slug: string, opts: { db?: string; as?: string; name: string; description?: string; tag?: string[]; json?: boolean }) => {
-        const created = await withRegistry(opts, (r) =>
-          createMaterial(r, { slug, name: opts.name, description: opts.description, tags: opts.tag }, actorFrom(opts)),
+        const created = await withRegistry(
+          opts,
+          (r) => createMaterial(r, { slug, name: opts.name, description: opts.description, tags: opts.tag }, actorFrom(opts)),
           { create: 'if-folder-exists' },
         );
         if (opts.json) return printJson(created);
@@ -36,12 +37,21 @@ export function register(program: Command): void {
     .option('--json', 'print the material as JSON, with "changed": the fields that changed')
     .addHelpText('after', '\nExample:\n  nkledger material edit sin-pecvd-a --name "PECVD SiNx, recipe A (300 C)" --tag low-stress --untag draft')
     .action(
-      guarded(async (slug: string, opts: { db?: string; as?: string; name?: string; description?: string; tag?: string[]; untag?: string[]; json?: boolean }) => {
-        const edited = await withRegistry(opts, (r) =>
-          editMaterial(r, slug, { name: opts.name, description: opts.description, addTags: opts.tag, removeTags: opts.untag }, actorFrom(opts)),
-        );
-        if (opts.json) return printJson(edited);
-        printLines([edited.changed.length ? `edited ${edited.slug}: ${edited.changed.join(', ')} changed` : `${edited.slug}: nothing changed (the values given are the current ones)`]);
-      }),
+      guarded(
+        async (
+          slug: string,
+          opts: { db?: string; as?: string; name?: string; description?: string; tag?: string[]; untag?: string[]; json?: boolean },
+        ) => {
+          const edited = await withRegistry(opts, (r) =>
+            editMaterial(r, slug, { name: opts.name, description: opts.description, addTags: opts.tag, removeTags: opts.untag }, actorFrom(opts)),
+          );
+          if (opts.json) return printJson(edited);
+          printLines([
+            edited.changed.length
+              ? `edited ${edited.slug}: ${edited.changed.join(', ')} changed`
+              : `${edited.slug}: nothing changed (the values given are the current ones)`,
+          ]);
+        },
+      ),
     );
 }

@@ -37,7 +37,10 @@ export async function serveUntilSignal(
       // Under `npm start` the flag has to pass through npm: say so, or the advice does not work as typed.
       const other = options.port === 0 ? 0 : options.port + 1;
       const how = cliIo().env.npm_lifecycle_event === 'start' ? `npm start -- --port ${other}` : `--port ${other} (0 picks a free port)`;
-      throw new InputError('serve-listen', `cannot listen on ${options.host}:${options.port}: the port is in use (EADDRINUSE), perhaps by another nkledger server; choose another port: ${how}`);
+      throw new InputError(
+        'serve-listen',
+        `cannot listen on ${options.host}:${options.port}: the port is in use (EADDRINUSE), perhaps by another nkledger server; choose another port: ${how}`,
+      );
     }
     if (code === 'EACCES' || code === 'EADDRNOTAVAIL') {
       throw new InputError('serve-listen', `cannot listen on ${options.host}:${options.port}: ${code}`);
@@ -66,16 +69,29 @@ export function register(program: Command): void {
     .description('serve the registry over HTTP (the API under /api/v1; description at /api/v1/openapi.json)')
     .option('--host <address>', 'address to listen on (use 0.0.0.0 only behind TLS)', DEFAULT_HOST)
     .option('--port <port>', 'TCP port (0 picks a free one)', String(DEFAULT_PORT))
-    .option('--grace <seconds>', 'on SIGTERM/SIGINT, how long open requests may take to finish before their connections are closed', String(DEFAULT_GRACE_SECONDS))
-    .option('--compute-threads <n>', `worker threads for fits and KK checks (default: one per spare core, at least one; here ${defaultComputeThreads()})`)
+    .option(
+      '--grace <seconds>',
+      'on SIGTERM/SIGINT, how long open requests may take to finish before their connections are closed',
+      String(DEFAULT_GRACE_SECONDS),
+    )
+    .option(
+      '--compute-threads <n>',
+      `worker threads for fits and KK checks (default: one per spare core, at least one; here ${defaultComputeThreads()})`,
+    )
     .option('--compute-queue <n>', `fits and checks that may wait for a thread before more are refused with 503 (default ${DEFAULT_COMPUTE_QUEUE})`)
     .action(
       guarded(async (opts: { db?: string; host: string; port: string; grace: string; computeThreads?: string; computeQueue?: string }) => {
         const port = parsePort(opts.port);
         const graceSeconds = parseOptionNumber(opts.grace, '--grace', { min: 0, max: 3600 });
         const compute = {
-          threads: opts.computeThreads === undefined ? undefined : parseOptionNumber(opts.computeThreads, '--compute-threads', { integer: true, min: 1, max: 256 }),
-          maxQueue: opts.computeQueue === undefined ? undefined : parseOptionNumber(opts.computeQueue, '--compute-queue', { integer: true, min: 0, max: 100_000 }),
+          threads:
+            opts.computeThreads === undefined
+              ? undefined
+              : parseOptionNumber(opts.computeThreads, '--compute-threads', { integer: true, min: 1, max: 256 }),
+          maxQueue:
+            opts.computeQueue === undefined
+              ? undefined
+              : parseOptionNumber(opts.computeQueue, '--compute-queue', { integer: true, min: 0, max: 100_000 }),
         };
         const registry = openRegistry(opts.db, { create: 'never' });
         const anonymous = readSettings(registry).anonymous_reads;

@@ -19,14 +19,20 @@ export function register(program: Command): void {
         const v = await withRegistry(opts, (r) => showVersion(r, ref));
         printResolution(v);
         if (opts.json) return printJson(v);
-        const lines = [`${v.ref}  ${v.status}`, `  sha256     ${v.sha256}`, `  content    ${contentSummary(v)}`, ...lifecycleLines(v).map((l) => `  ${l}`)];
+        const lines = [
+          `${v.ref}  ${v.status}`,
+          `  sha256     ${v.sha256}`,
+          `  content    ${contentSummary(v)}`,
+          ...lifecycleLines(v).map((l) => `  ${l}`),
+        ];
         const prov = PROVENANCE_FIELDS.filter((f) => v.provenance[f] !== null).map((f) => {
           const value = v.provenance[f];
           return `    ${f.padEnd(13)} ${Array.isArray(value) ? value.join(', ') : value}`;
         });
-        if (v.provenance.absent_columns) prov.push(`    ${'absent'.padEnd(13)} ${v.provenance.absent_columns.join(', ')} (not in the file; k stored as 0)`);
+        if (v.provenance.absent_columns)
+          prov.push(`    ${'absent'.padEnd(13)} ${v.provenance.absent_columns.join(', ')} (not in the file; k stored as 0)`);
         if (prov.length) lines.push('  provenance', ...prov);
-        if (v.provenance.preamble) lines.push('  preamble (the lines above the file\'s header)', ...v.provenance.preamble.map((l) => `    ${l}`));
+        if (v.provenance.preamble) lines.push("  preamble (the lines above the file's header)", ...v.provenance.preamble.map((l) => `    ${l}`));
         const fit = v.content.fit;
         if (fit) {
           lines.push(`  model      ${fit.model}, valid ${fit.range_nm[0]}–${fit.range_nm[1]} nm`);

@@ -36,7 +36,14 @@ export function register(program: Command): void {
       guarded(async (opts: { db?: string; active?: boolean; json?: boolean }) => {
         const tokens = await withRegistry(opts, (r) => listTokens(r, { activeOnly: opts.active }));
         if (opts.json) return printJson(tokens);
-        const rows = tokens.map((t) => [t.id, t.user, t.role, t.created_at, t.created_by, t.revoked_at ? `revoked ${t.revoked_at} by ${t.revoked_by}` : 'active']);
+        const rows = tokens.map((t) => [
+          t.id,
+          t.user,
+          t.role,
+          t.created_at,
+          t.created_by,
+          t.revoked_at ? `revoked ${t.revoked_at} by ${t.revoked_by}` : 'active',
+        ]);
         printLines(formatTable(['id', 'user', 'role', 'created', 'by', 'state'], rows));
       }),
     );

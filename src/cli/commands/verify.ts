@@ -35,7 +35,9 @@ export function register(program: Command): void {
         if (!report.ok) setExitCode(CHECK_FAILED_EXIT);
         if (opts.json) return printJson(report);
         const problems = [
-          ...report.mismatches.map((m) => `${m.ref}: ${m.reason} (stored ${m.stored_sha256.slice(0, 12)}…, computed ${m.computed_sha256?.slice(0, 12) ?? 'none'}…)`),
+          ...report.mismatches.map(
+            (m) => `${m.ref}: ${m.reason} (stored ${m.stored_sha256.slice(0, 12)}…, computed ${m.computed_sha256?.slice(0, 12) ?? 'none'}…)`,
+          ),
           ...report.missing_versions.map((ref) => `${ref}: the version was assigned but its row is gone`),
           ...report.missing_triggers.map((t) => `trigger ${t} is missing: the database no longer refuses edits by itself`),
           ...report.altered_triggers.map((t) => `trigger ${t} was replaced by one with other SQL: it may no longer refuse anything`),
