@@ -1,8 +1,8 @@
 /**
  * Both sides of every documented import limit: a value exactly on the limit is accepted (or not warned
  * about), the next value past it is refused (or warned about). The limits and their wording are documented
- * in src/io/import-types.ts and README "Reading tables": k ≥ −tolerance (default 1e-3), input size ≤ --max-size
- * (default 20 MiB), a gap warning for spacings over 5× the median spacing.
+ * in src/io/import-types.ts and docs/cli.md "Reading tables": k ≥ −tolerance (default 1e-3), input size ≤ --max-size
+ * (default 20 MiB), a gap warning for spacings over 5× the median spacing, x within 10 nm – 1 mm.
  */
 import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
@@ -73,5 +73,29 @@ describe(`gap warning: a spacing of exactly ${LARGE_GAP_FACTOR}× the median is 
     const warnings = gapWarning(['400,1.5,0', '410,1.5,0', '420,1.5,0', '430,1.5,0', '440,1.5,0', '491,1.5,0', '500,1.5,0', '510,1.5,0']);
     expect(warnings).toHaveLength(1);
     expect(warnings[0]).toMatch(/^1 large gap\(s\) in x \(over 5× the median spacing of 10 nm\); largest 440–491 nm \(lines 6 and 7\)/);
+  });
+});
+
+describe('plausible range: x from 10 nm to 1 mm after unit conversion is accepted, beyond it refused', () => {
+  it('exactly 10 nm and exactly 1 mm (1,000,000 nm) are accepted', () => {
+    expect(parseNkTable(csv(['10,0.9,0.5', '20,0.95,0.4'])).table.wavelengthNm).toEqual([10, 20]);
+    expect(parseNkTable(csv(['500000,3.4,0', '1000000,3.4,0'])).table.wavelengthNm).toEqual([500000, 1000000]);
+  });
+
+  it('9.99 nm and 1,000,100 nm are refused (implausible-range) at their line', () => {
+    const low = refusal(() => parseNkTable(csv(['9.99,0.9,0.5', '20,0.95,0.4']), { file: 'edge.csv' }));
+    expect([low.rule, low.location.line]).toEqual(['implausible-range', 2]);
+    const high = refusal(() => parseNkTable(csv(['500000,3.4,0', '1000100,3.4,0']), { file: 'edge.csv' }));
+    expect([high.rule, high.location.line]).toEqual(['implausible-range', 3]);
+  });
+
+  it('in another unit: 10,000 cm⁻¹ … 10 cm⁻¹ (1 µm … 1 mm) accepted, 9.99 cm⁻¹ (just over 1 mm) refused', () => {
+    const wn = (rows: string[]) => `wavenumber (cm-1),n,k\n${rows.join('\n')}\n`;
+    expect(parseNkTable(wn(['10,3.4,0', '10000,3.4,0'])).table.wavelengthNm).toEqual([1000, 1000000]);
+    expect(refusal(() => parseNkTable(wn(['9.99,3.4,0', '10000,3.4,0']))).rule).toBe('implausible-range');
+  });
+
+  it('--allow-any-range accepts both sides', () => {
+    expect(parseNkTable(csv(['9.99,0.9,0.5', '20,0.95,0.4']), { allowAnyRange: true }).table.wavelengthNm).toEqual([9.99, 20]);
   });
 });
