@@ -128,15 +128,17 @@ async function load(
  * One client uploading continuously (fit + KK per upload) until `stop()`; each upload differs by its
  * notes, so none is refused as a duplicate. Returns the count of uploads that got 201.
  */
+/** Numbers the uploads of the whole run (not per round), so no two carry the same notes. */
+let uploadSerial = 0;
+
 function uploadContinuously(url: string, editorToken: string): { stop(): Promise<{ ok: number; failed: number }> } {
   const table = readFileSync(DATA);
   let running = true;
   let ok = 0;
   let failed = 0;
-  let serial = 0;
   const loop = (async () => {
     while (running) {
-      const notes = `bench upload ${++serial} ${process.pid}`;
+      const notes = `bench upload ${++uploadSerial} ${process.pid}`;
       const res = await fetch(`${url}/api/v1/materials/sinx-pecvd-a/versions?fit=tauc-lorentz&notes=${encodeURIComponent(notes)}`, {
         method: 'POST',
         headers: { 'content-type': 'text/csv', authorization: `Bearer ${editorToken}` },

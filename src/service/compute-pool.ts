@@ -53,6 +53,9 @@ export class ComputePool {
       // Our own bound (inFlight) refuses first; piscina's is the same number, as a backstop.
       maxQueue: this.maxQueue,
       concurrentTasksPerWorker: 1,
+      // Compute threads run at a lower scheduling priority (nice +10, via @napi-rs/nice where it installed),
+      // so on a machine with few cores the event loop that answers reads wins the CPU over a long fit.
+      niceIncrement: 10,
     });
   }
 
