@@ -8,7 +8,7 @@
  *   value </g> … <g class="x-axis"> <g class="x-tick" data-value> … <text class="axis-label"/> </g>
  */
 import { linearScale, niceTicks, tickFormat } from './scale.ts';
-import { element, escapeXml, estimateTextWidth, textElement } from './svg.ts';
+import { element, escapeXml, estimateTextWidth, svgDocument, textElement } from './svg.ts';
 
 export interface ColourStrip {
   label: string;
@@ -114,19 +114,5 @@ export function renderColourStrips(spec: ColourStripSpec): string {
     ...strips,
     axis,
   ];
-  const svg = element(
-    'svg',
-    {
-      xmlns: 'http://www.w3.org/2000/svg',
-      version: '1.1',
-      width: String(width),
-      height: String(height),
-      viewBox: `0 0 ${width} ${height}`,
-      'font-family': 'DejaVu Sans, Arial, Helvetica, sans-serif',
-      'font-size': FONT_PX,
-      fill: '#222222',
-    },
-    body.map((part) => `\n${part}`).concat('\n'),
-  );
-  return `<?xml version="1.0" encoding="UTF-8"?>\n${svg}\n`;
+  return svgDocument(width, height, FONT_PX, body);
 }

@@ -15,7 +15,7 @@
 import { drawSeries, pixelRuns, seriesColour } from './marks.ts';
 import { headroomLegendBox, legendBandHeight, legendSize, placeLegend, renderLegend, type Box, type LegendEntry } from './legend.ts';
 import { linearScale, niceDomain, paddedExtent, tickFormat, type LinearScale } from './scale.ts';
-import { element, escapeXml, estimateTextWidth, textElement, wrapText } from './svg.ts';
+import { element, escapeXml, estimateTextWidth, svgDocument, textElement, wrapText } from './svg.ts';
 
 export type PlotSeriesStyle = 'points' | 'line' | 'dashed';
 
@@ -355,19 +355,5 @@ export function renderSpectrumPlot(spec: PlotSpec): string {
     ...panelSvg,
     renderXAxis(xAxis, x, plotBottom, spec.xLabel, height),
   ];
-  const svg = element(
-    'svg',
-    {
-      xmlns: 'http://www.w3.org/2000/svg',
-      version: '1.1',
-      width: String(width),
-      height: String(height),
-      viewBox: `0 0 ${width} ${height}`,
-      'font-family': 'DejaVu Sans, Arial, Helvetica, sans-serif',
-      'font-size': TICK_FONT_PX,
-      fill: '#222222',
-    },
-    body.map((part) => `\n${part}`).concat('\n'),
-  );
-  return `<?xml version="1.0" encoding="UTF-8"?>\n${svg}\n`;
+  return svgDocument(width, height, TICK_FONT_PX, body);
 }

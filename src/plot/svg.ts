@@ -59,6 +59,28 @@ export function element(name: string, attributes: Attributes = {}, children: str
  * A <text> element. Takes attributes and the raw (unescaped) text; returns the element with the
  * text escaped.
  */
+/**
+ * A whole SVG file: the root element sized width × height px (viewBox in the same units), the plots' font and
+ * default fill, each body part on a line of its own, preceded by the XML declaration.
+ */
+export function svgDocument(width: number, height: number, fontSizePx: number, body: string[]): string {
+  const svg = element(
+    'svg',
+    {
+      xmlns: 'http://www.w3.org/2000/svg',
+      version: '1.1',
+      width: String(width),
+      height: String(height),
+      viewBox: `0 0 ${width} ${height}`,
+      'font-family': 'DejaVu Sans, Arial, Helvetica, sans-serif',
+      'font-size': fontSizePx,
+      fill: '#222222',
+    },
+    body.map((part) => `\n${part}`).concat('\n'),
+  );
+  return `<?xml version="1.0" encoding="UTF-8"?>\n${svg}\n`;
+}
+
 export function textElement(attributes: Attributes, text: string): string {
   return `<text${attributeText(attributes)}>${escapeXml(text)}</text>`;
 }
