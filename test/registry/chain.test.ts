@@ -24,6 +24,21 @@ import {
 } from '../../src/service/registry.ts';
 import { cauchyTable, databaseAtMigration, tempRegistry, type TempRegistry } from './helpers.ts';
 
+/** A version's provenance columns with nothing recorded, for rows written by raw SQL. */
+const NO_PROVENANCE = {
+  sample: null,
+  substrate: null,
+  process: null,
+  instrument: null,
+  method: null,
+  angles_deg: null,
+  measured_on: null,
+  operator: null,
+  source_file: null,
+  source_sha256: null,
+  notes: null,
+};
+
 let t: TempRegistry;
 beforeEach(() => {
   t = tempRegistry();
@@ -92,19 +107,7 @@ describe('verify catches each attack made with raw SQL', () => {
       const row = db.prepare('SELECT * FROM material_versions WHERE number = 1').get() as Record<string, string>;
       const content = JSON.parse(row.content);
       content.table.n[0] += 0.01;
-      const provenance = {
-        sample: null,
-        substrate: null,
-        process: null,
-        instrument: null,
-        method: null,
-        angles_deg: null,
-        measured_on: null,
-        operator: null,
-        source_file: null,
-        source_sha256: null,
-        notes: null,
-      };
+      const provenance = { ...NO_PROVENANCE };
       db.prepare('UPDATE material_versions SET content = ?, sha256 = ? WHERE number = 1').run(
         canonicalJson(content),
         versionSha256(content, provenance),
@@ -206,19 +209,7 @@ describe('a registry written before the chain existed', () => {
     const path = join(dir, 'old.db');
     const db = databaseAtMigration(dir, 'old.db', 5);
     const content = { table: cauchyTable(1.5), fit: null, kk: null };
-    const provenance = {
-      sample: null,
-      substrate: null,
-      process: null,
-      instrument: null,
-      method: null,
-      angles_deg: null,
-      measured_on: null,
-      operator: null,
-      source_file: null,
-      source_sha256: null,
-      notes: null,
-    };
+    const provenance = { ...NO_PROVENANCE };
     const at = '2025-03-01T10:00:00.000Z';
     db.prepare("INSERT INTO materials (slug, name, created_by, created_at, last_version) VALUES ('old-film', 'Old', 'ada', ?, 1)").run(at);
     db.prepare(
