@@ -9,23 +9,35 @@ import { parseWavelengthList } from '../io/wavelength-list.ts';
 import { INTERPOLATION_METHODS } from '../optics/table-eval.ts';
 import { toWavelengthNm, type SpectralUnit } from '../optics/units.ts';
 import { HttpProblem } from './problem.ts';
-import { parseInput } from './validate.ts';
+import { decimalField, parseInput } from './validate.ts';
 
-const finite = (name: string) =>
-  z
+const interpolationField = z
+  .enum(INTERPOLATION_METHODS as [string, ...string[]])
+  .optional()
+  .describe('for table-only versions; model-backed versions evaluate the model');
+
+/** The query of GET …/nk (also the OpenAPI parameters). */
+export const NK_QUERY = z.strictObject({
+  wavelengths_nm: z.string().max(100_000).optional().meta({ example: '450,650', description: 'a list, or start:stop:step items' }),
+  from_nm: decimalField('from_nm').optional(),
+  to_nm: decimalField('to_nm').optional(),
+  step_nm: decimalField('step_nm').optional(),
+  interpolation: interpolationField,
+  at: z
     .string()
-    .regex(/^[+-]?(\d+\.?\d*|\.\d+)([eE][+-]?\d+)?$/, `${name} must be a number`)
-    .transform(Number);
-
-const nkQuery = z.strictObject({
-  wavelengths_nm: z.string().max(100_000).optional(),
-  from_nm: finite('from_nm').optional(),
-  to_nm: finite('to_nm').optional(),
-  step_nm: finite('step_nm').optional(),
-  interpolation: z.enum(INTERPOLATION_METHODS as [string, ...string[]]).optional(),
-  at: z.string().max(100_000).optional(),
-  unit: z.enum(['nm', 'um', 'eV', 'cm-1']).optional(),
-  extrapolate: z.enum(['true', 'false']).optional(),
+    .max(100_000)
+    .optional()
+    .meta({ example: '1.5:4:0.5', description: 'points in `unit` (a list or start:stop:step items), instead of wavelengths_nm' }),
+  unit: z
+    .enum(['nm', 'um', 'eV', 'cm-1'])
+    .optional()
+    .describe('unit of `at`; the answer keeps wavelength_nm and adds the x column in this unit (energy_eV, wavelength_um, wavenumber_cm-1)'),
+  extrapolate: z
+    .enum(['true', 'false'])
+    .optional()
+    .describe(
+      'true: a fitted model is also evaluated beyond its validity range; "extrapolated" marks each value and "warnings" says so. A table never extrapolates',
+    ),
 });
 
 export interface NkRequest {
@@ -37,7 +49,7 @@ export interface NkRequest {
 }
 
 export function parseNkQuery(query: Record<string, string>, maxPoints: number, limits: { maxListChars?: number } = {}): NkRequest {
-  const q = parseInput(limits.maxListChars === Infinity ? nkQuery.extend({ wavelengths_nm: z.string().optional() }) : nkQuery, query, 'query', 400);
+  const q = parseInput(limits.maxListChars === Infinity ? NK_QUERY.extend({ wavelengths_nm: z.string().optional() }) : NK_QUERY, query, 'query', 400);
   const interpolation = q.interpolation as NkRequest['interpolation'];
   const unit = q.unit as SpectralUnit | undefined;
   const extrapolate = q.extrapolate === 'true';
@@ -79,12 +91,13 @@ export function parseNkQuery(query: Record<string, string>, maxPoints: number, l
   return { wavelengthNm: parseWavelengthList(`${from}:${to}:${step}`, 'from_nm/to_nm/step_nm'), interpolation, unit, extrapolate };
 }
 
-const nkBody = z.strictObject({
+/** The JSON body of POST …/nk. */
+export const NK_BODY = z.strictObject({
   wavelengths_nm: z.union([z.array(z.number().finite().positive()).min(1), z.string().max(10_000_000)]).optional(),
   from_nm: z.number().finite().optional(),
   to_nm: z.number().finite().optional(),
   step_nm: z.number().finite().optional(),
-  interpolation: z.enum(INTERPOLATION_METHODS as [string, ...string[]]).optional(),
+  interpolation: interpolationField,
 });
 
 /**
@@ -92,7 +105,7 @@ const nkBody = z.strictObject({
  * `wavelengths_nm` may also be an array of numbers. The same max_nk_points bound.
  */
 export function parseNkBody(body: unknown, maxPoints: number): NkRequest {
-  const b = parseInput(nkBody, body, 'body');
+  const b = parseInput(NK_BODY, body, 'body');
   if (Array.isArray(b.wavelengths_nm)) {
     if (b.from_nm !== undefined || b.to_nm !== undefined || b.step_nm !== undefined) {
       throw new InputError('nk-wavelengths', 'give either wavelengths_nm or from_nm, to_nm and step_nm', {}, 422);

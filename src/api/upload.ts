@@ -11,6 +11,7 @@ import type { ImportOptions } from '../io/parse-table.ts';
 import { importOptionsFrom } from '../io/import-options.ts';
 import { HttpProblem } from './problem.ts';
 import { parseInput, readQuery } from './validate.ts';
+import { problem, type Operation } from './operations.ts';
 
 /** The name an upload gets in messages (`<upload>:12:3: ...`) when the client gave no file name. */
 export const UPLOAD_FILE = '<upload>';
@@ -29,15 +30,48 @@ export interface TableUpload {
 }
 
 const importFields = z.object({
-  input_unit: z.string().max(40).optional(),
-  columns: z.string().max(500).optional(),
+  input_unit: z.string().max(40).optional().describe("unit of the table's x column: nm, um, A, eV, cm-1 (overrides the header)"),
+  columns: z.string().max(500).optional().describe('comma-separated column names, e.g. wavelength,n,k'),
   delimiter: z.string().max(20).optional(),
   decimal_comma: z.enum(['true', 'false']).optional(),
-  k_tolerance: z.string().max(40).optional(),
-  header_line: z.string().max(20).optional(),
-  allow_any_range: z.enum(['true', 'false']).optional(),
+  k_tolerance: z.string().max(40).optional().describe('largest negative k accepted as zero noise'),
+  header_line: z
+    .string()
+    .max(20)
+    .optional()
+    .describe('the header is this physical line (from 1); lines above it are the preamble (default: detected)'),
+  allow_any_range: z.enum(['true', 'false']).optional().describe('true: accept x values outside 10 nm – 1 mm (genuine EUV or THz data)'),
 });
 const IMPORT_FIELD_NAMES = Object.keys(importFields.shape);
+
+const TABLE_TYPES = ['text/csv', 'text/plain', 'text/tab-separated-values'];
+
+/**
+ * An upload route's OpenAPI request: the table as a text body with the fields as query parameters, or as
+ * multipart/form-data with a `table` file part and the fields as form fields. `fields` is the route's own
+ * zod object (beside the import fields every upload takes).
+ */
+export function uploadDescription(fields: z.ZodObject): { query: z.ZodObject; body: NonNullable<Operation['body']> } {
+  const query = z.strictObject({ ...importFields.shape, ...fields.shape });
+  const text = { json: { type: 'string', description: 'the table as delimited text' } };
+  return {
+    query,
+    body: {
+      required: true,
+      content: {
+        ...Object.fromEntries(TABLE_TYPES.map((type) => [type, text])),
+        'multipart/form-data': query.extend({ table: z.string().meta({ format: 'binary', description: 'the table file' }) }),
+      },
+    },
+  };
+}
+
+/** What every upload route can refuse besides its own refusals. */
+export const UPLOAD_ERRORS = {
+  400: problem('a table that cannot be read (the detail names file, line and column), a bad or unknown field, a broken multipart body'),
+  413: problem('the body exceeds the max_body_bytes setting'),
+  415: problem('neither a text table (text/csv, text/plain, text/tab-separated-values) nor multipart/form-data'),
+};
 
 /** Read the table and the fields of an upload; refuses other media types with 415. */
 export async function readTableUpload(c: Context): Promise<TableUpload> {
@@ -57,7 +91,7 @@ export async function readTableUpload(c: Context): Promise<TableUpload> {
       if (typeof value !== 'string') throw new InputError('upload-field', `multipart field "${key}" must be text, not a file`, {}, 400);
       fields[key] = value;
     }
-  } else if (type === 'text/csv' || type === 'text/plain' || type === 'text/tab-separated-values') {
+  } else if (TABLE_TYPES.includes(type)) {
     bytes = new Uint8Array(await c.req.arrayBuffer());
     fields = readQuery(c.req.url);
   } else {

@@ -1,7 +1,20 @@
 /** zod validation of request input, refusing with the same InputError every other front door uses. */
-import type { z } from 'zod';
+import { z } from 'zod';
 import { InputError } from '../errors.ts';
+import { NUMBER_PATTERN } from '../io/numbers.ts';
 import { HttpProblem } from './problem.ts';
+
+/**
+ * A number typed into a query or form field, read with the grammar of table cells and CLI options
+ * (io/numbers.ts: decimal, no hex, no NaN or Infinity) and refused when it overflows a double.
+ */
+export const decimalField = (name: string) =>
+  z
+    .string()
+    .max(64)
+    .regex(NUMBER_PATTERN, `${name} must be a number`)
+    .transform(Number)
+    .refine(Number.isFinite, `${name} overflows a double-precision number`);
 
 /** The value at `path` inside `value`, or undefined. */
 function at(value: unknown, path: PropertyKey[]): unknown {

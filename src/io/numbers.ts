@@ -1,7 +1,9 @@
 /** Reading one numeric cell strictly, with a refusal that names where it is and which rule it broke. */
 import { InputError, type InputLocation } from '../errors.ts';
 
-const NUMBER = /^[+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?$/;
+/** The one decimal grammar of nkledger: table cells, option values, API fields (no hex, no NaN, no empty text). */
+export const NUMBER_PATTERN = /^[+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?$/;
+const NUMBER = NUMBER_PATTERN;
 const NOT_FINITE = /^[+-]?(?:nan|inf|infinity|∞)$/i;
 
 /** True when the cell reads as a number (with the given decimal mark); used to tell headers from data. */

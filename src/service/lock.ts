@@ -34,7 +34,8 @@ const lockEntrySchema = z.strictObject({
   added_at: z.string().optional(),
 });
 const headSchema = z.strictObject({ hash: hex64, sequence: z.number().int().min(1) });
-const lockSchema = z.strictObject({
+/** The lockfile, as read by parseLockfile (exported for the HTTP API's description). */
+export const LOCKFILE_SCHEMA = z.strictObject({
   format: z.literal(LOCK_FORMAT),
   format_version: z.union(READABLE_FORMAT_VERSIONS.map((v) => z.literal(v))),
   registry_head: headSchema.optional(),
@@ -42,7 +43,7 @@ const lockSchema = z.strictObject({
 });
 
 export type LockEntry = z.infer<typeof lockEntrySchema>;
-export type Lockfile = z.infer<typeof lockSchema>;
+export type Lockfile = z.infer<typeof LOCKFILE_SCHEMA>;
 export type LockedHead = z.infer<typeof headSchema>;
 
 export function emptyLockfile(): Lockfile {
@@ -59,7 +60,7 @@ export function parseLockfile(input: string | unknown, file = '<lockfile>'): Loc
       throw new InputError('lock-json', `not JSON: ${(err as Error).message}`, { file });
     }
   }
-  const parsed = lockSchema.safeParse(value);
+  const parsed = LOCKFILE_SCHEMA.safeParse(value);
   if (!parsed.success) {
     const issue = parsed.error.issues[0];
     const where = issue.path.length ? issue.path.join('.') : '(top level)';

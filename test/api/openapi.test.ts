@@ -12,6 +12,8 @@ import { createApp } from '../../src/api/app.ts';
 import { documentedOperations } from '../../src/api/openapi.ts';
 import { emptyLockfile, lockAdd } from '../../src/service/lock.ts';
 import { createToken } from '../../src/service/tokens.ts';
+import { resetSetting, writeSetting } from '../../src/service/settings.ts';
+import { SLUG_PATTERN } from '../../src/registry/refs.ts';
 import { approvedGlass, csv, csvTable, json, startHarness, type ApiHarness } from './harness.ts';
 
 // ajv-formats is CommonJS with a default export; under ESM interop the function may sit one level down.
@@ -302,6 +304,66 @@ describe('OpenAPI document', () => {
       await h.request('/api/v1/settings/no_such_key', { ...json({ value: 1 }), method: 'PUT', as: 'admin' }),
     );
     await answers.check('DELETE', '/api/v1/settings/{key}', await h.request('/api/v1/settings/max_nk_points', { method: 'DELETE', as: 'admin' }));
+  });
+
+  it('takes its limits from the zod schemas the routes validate with', () => {
+    const schemas = doc.components.schemas as Record<string, { properties: Record<string, Record<string, unknown>>; required?: string[] }>;
+    expect(schemas.NewMaterial.required).toEqual(['slug', 'name']);
+    expect(schemas.NewMaterial.properties.slug).toMatchObject({ maxLength: 64, pattern: SLUG_PATTERN.source });
+    expect(schemas.NewMaterial.properties.name).toMatchObject({ maxLength: 200 });
+    expect(schemas.NewMaterial.properties.tags).toMatchObject({ maxItems: 50, items: { maxLength: 40 } });
+    const show = doc.paths['/api/v1/materials/{slug}'].get.responses['200'].content?.['application/json'].schema as {
+      properties: Record<string, unknown>;
+    };
+    expect(show.properties.versions).toEqual({ type: 'array', items: { $ref: '#/components/schemas/Version' } });
+    for (const [path, item] of Object.entries(doc.paths)) {
+      for (const [method, op] of Object.entries(item)) {
+        for (const [status, answer] of Object.entries(op.responses)) {
+          if (Number(status) >= 400) expect(Object.keys(answer.content ?? {}), `${method} ${path} ${status}`).toEqual(['application/problem+json']);
+        }
+      }
+    }
+  });
+
+  it('front-door refusals (400 not JSON, 413 too large, 415 media type) and numbers in fields as documented', async () => {
+    const notJson = await h.request('/api/v1/materials', {
+      method: 'POST',
+      body: '{"slug": ',
+      headers: { 'content-type': 'application/json' },
+      as: 'editor',
+    });
+    expect(notJson.status).toBe(400);
+    await answers.check('POST', '/api/v1/materials', notJson);
+    const textBody = await h.request('/api/v1/materials', {
+      method: 'POST',
+      body: 'slug=x',
+      headers: { 'content-type': 'text/plain' },
+      as: 'editor',
+    });
+    expect(textBody.status).toBe(415);
+    await answers.check('POST', '/api/v1/materials', textBody);
+    writeSetting(h.registry, 'max_body_bytes', 1024, 'test');
+    try {
+      const big = await h.request('/api/v1/materials', { ...json({ slug: 'big', name: 'x'.repeat(2000) }), as: 'editor' });
+      expect(big.status).toBe(413);
+      await answers.check('POST', '/api/v1/materials', big);
+      const bigTable = await h.request('/api/v1/kk', csv(csvTable().repeat(3)));
+      expect(bigTable.status).toBe(413);
+      await answers.check('POST', '/api/v1/kk', bigTable);
+    } finally {
+      resetSetting(h.registry, 'max_body_bytes', 'test');
+    }
+    // Fields that are numbers follow the one decimal grammar: "..", "1e999", "0x10" and "NaN" are refused, never NaN.
+    for (const tolerance of ['..', '1e999', '0x10', 'NaN', '-1']) {
+      const res = await h.request(`/api/v1/kk?tolerance=${encodeURIComponent(tolerance)}`, csv(csvTable()));
+      expect(res.status, tolerance).toBe(400);
+      expect(((await answers.check('POST', '/api/v1/kk', res)) as { detail: string }).detail).toContain('tolerance');
+    }
+    const tolerant = await h.request('/api/v1/kk?tolerance=.02', csv(csvTable()));
+    expect(((await answers.check('POST', '/api/v1/kk', tolerant)) as { report: { tolerance: number } }).report.tolerance).toBe(0.02);
+    const range = await h.request('/api/v1/materials/glass/versions/1/nk?from_nm=400&to_nm=1e999&step_nm=10');
+    expect(range.status).toBe(400);
+    await answers.check('GET', '/api/v1/materials/{slug}/versions/{n}/nk', range);
   });
 
   it('every documented operation was answered above at least once', () => {

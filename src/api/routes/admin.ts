@@ -1,15 +1,86 @@
 /** Admin routes: tokens and server settings (role admin). The same service functions as `nkledger token|settings`. */
 import type { Hono } from 'hono';
 import { z } from 'zod';
-import { createToken, listTokens, revokeToken } from '../../service/tokens.ts';
-import { resetSetting, writeSetting } from '../../service/settings.ts';
+import { createToken, listTokens, revokeToken, type CreatedToken, type TokenInfo } from '../../service/tokens.ts';
+import { resetSetting, SETTING_KEYS, SETTINGS, writeSetting } from '../../service/settings.ts';
 import { TOKEN_ROLES } from '../../registry/schema-auth.ts';
 import { actorOf, type ApiEnv } from '../auth.ts';
 import { parseInput, readJson } from '../validate.ts';
 import type { RouteContext } from '../context.ts';
+import { AUTH_ERRORS, json, WRITE_ERRORS, type Operation } from '../operations.ts';
 
 const tokenRequest = z.strictObject({ user: z.string().min(1).max(64), role: z.enum(TOKEN_ROLES) });
-const settingRequest = z.strictObject({ value: z.unknown() });
+const settingRequest = z.strictObject({ value: z.unknown().describe("the setting's new value, as GET /settings shows it") });
+
+const TOKEN = z
+  .object({
+    id: z.string(),
+    user: z.string(),
+    role: z.enum(TOKEN_ROLES),
+    created_at: z.string().meta({ format: 'date-time' }),
+    created_by: z.string(),
+    revoked_at: z.string().nullable(),
+    revoked_by: z.string().nullable(),
+  })
+  .meta({ id: 'Token' }) satisfies z.ZodType<TokenInfo>;
+const CREATED_TOKEN = TOKEN.extend({ token: z.string().regex(/^nkl_/).describe('the secret, shown only here') }) satisfies z.ZodType<CreatedToken>;
+/** Every setting with its own schema (src/service/settings.ts), as GET /settings answers them. */
+const SETTINGS_ANSWER = z
+  .object({
+    settings: z.strictObject(Object.fromEntries(SETTING_KEYS.map((key) => [key, SETTINGS[key].schema.describe(SETTINGS[key].meaning)]))),
+  })
+  .meta({ id: 'Settings' });
+const settingKey = z.object({ key: z.enum(SETTING_KEYS) });
+
+export const ADMIN_OPERATIONS: Operation[] = [
+  {
+    method: 'get',
+    path: '/api/v1/tokens',
+    summary: 'List tokens (never secrets)',
+    role: 'admin',
+    responses: { 200: json('tokens', z.object({ tokens: z.array(TOKEN) })), ...AUTH_ERRORS },
+  },
+  {
+    method: 'post',
+    path: '/api/v1/tokens',
+    summary: 'Create a token; the secret is in this response only',
+    role: 'admin',
+    body: { required: true, content: { 'application/json': tokenRequest } },
+    responses: { 201: json('the token with its secret', CREATED_TOKEN), ...WRITE_ERRORS },
+  },
+  {
+    method: 'post',
+    path: '/api/v1/tokens/:id/revoke',
+    summary: 'Revoke a token',
+    role: 'admin',
+    params: { path: z.object({ id: z.string() }) },
+    responses: { 200: json('the revoked token', TOKEN), ...WRITE_ERRORS },
+  },
+  {
+    method: 'get',
+    path: '/api/v1/settings',
+    summary: 'Every setting of the registry and the API (the registry rule allow_self_approval included)',
+    role: 'admin',
+    responses: { 200: json('settings', SETTINGS_ANSWER), ...AUTH_ERRORS },
+  },
+  {
+    method: 'put',
+    path: '/api/v1/settings/:key',
+    summary: 'Change a setting',
+    role: 'admin',
+    params: { path: settingKey },
+    body: { required: true, content: { 'application/json': settingRequest } },
+    responses: { 200: json('settings after the change', SETTINGS_ANSWER), ...WRITE_ERRORS },
+  },
+  {
+    method: 'delete',
+    path: '/api/v1/settings/:key',
+    summary: 'Reset a setting to its default',
+    role: 'admin',
+    params: { path: settingKey },
+    responses: { 200: json('settings after the change', SETTINGS_ANSWER), ...WRITE_ERRORS },
+  },
+];
 
 export function registerAdminRoutes(app: Hono<ApiEnv>, ctx: RouteContext): void {
   const admin = ctx.requireRole('admin');

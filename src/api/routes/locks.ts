@@ -1,12 +1,71 @@
 /** POST /api/v1/locks/verify: a design's lockfile (the body) checked against the registry, as `nkledger lock verify` does. */
 import type { Hono } from 'hono';
 import { z } from 'zod';
-import { lockVerify, parseLockfile } from '../../service/lock.ts';
+import { LOCKFILE_SCHEMA, lockVerify, parseLockfile, type LockVerifyReport } from '../../service/lock.ts';
+import { VERSION_STATUSES } from '../../registry/schema.ts';
 import type { ApiEnv } from '../auth.ts';
 import { parseInput, readJson, readQuery } from '../validate.ts';
 import type { RouteContext } from '../context.ts';
+import { AUTH_ERRORS, json, problem, type Operation } from '../operations.ts';
 
-const verifyQuery = z.strictObject({ strict: z.enum(['true', 'false']).optional() });
+const verifyQuery = z.strictObject({
+  strict: z.enum(['true', 'false']).optional().describe('true: retired, draft and withdrawn pins fail instead of warning'),
+});
+
+/** The lockfile a client posts (also inside a stack request). */
+export const LOCKFILE = LOCKFILE_SCHEMA.meta({ id: 'Lockfile', description: 'an nkledger lockfile (docs/registry.md)' });
+
+const head = z.object({ hash: z.string(), sequence: z.number().int() }).nullable();
+const LOCK_VERIFICATION = z
+  .object({
+    ok: z.boolean(),
+    strict: z.boolean(),
+    entries: z.array(
+      z.object({
+        ref: z.string(),
+        slug: z.string(),
+        version: z.number().int(),
+        locked_sha256: z.string(),
+        registry_sha256: z.string().nullable().describe("the hash recomputed from the version's content now"),
+        status: z.enum(VERSION_STATUSES).nullable(),
+        outcome: z.enum(['ok', 'mismatch', 'missing', 'retired', 'draft', 'withdrawn']),
+        failed: z.boolean(),
+        message: z.string(),
+      }),
+    ),
+    history: z
+      .object({
+        outcome: z.enum(['ok', 'rewritten', 'broken', 'not-recorded']),
+        locked_head: head,
+        registry_head: head,
+        failed: z.boolean(),
+        message: z.string(),
+      })
+      .describe("whether the registry's audit chain still contains the lockfile's registry_head (docs/registry.md)"),
+    failures: z.number().int().min(0),
+    warnings: z.number().int().min(0),
+  })
+  .meta({ id: 'LockVerification' }) satisfies z.ZodType<LockVerifyReport>;
+
+export const LOCK_OPERATIONS: Operation[] = [
+  {
+    method: 'post',
+    path: '/api/v1/locks/verify',
+    summary: 'Verify a design lockfile against the registry',
+    description:
+      'Answers 200 with `ok` false when an entry is missing or its hash differs; retired, draft and withdrawn pins are warnings, failures with strict=true.',
+    role: 'reader',
+    params: { query: verifyQuery },
+    body: { required: true, content: { 'application/json': LOCKFILE } },
+    responses: {
+      200: json("per-pin verdicts (each pin's hash recomputed from the content) and `history`", LOCK_VERIFICATION),
+      400: problem('not a lockfile, a body that is not JSON, or a bad query parameter'),
+      413: problem('the body exceeds the max_body_bytes setting'),
+      415: problem('the body is not application/json'),
+      ...AUTH_ERRORS,
+    },
+  },
+];
 
 export function registerLockRoutes(app: Hono<ApiEnv>, ctx: RouteContext): void {
   app.post('/api/v1/locks/verify', ctx.requireRole('reader'), async (c) => {

@@ -15,6 +15,19 @@ import { actorOf, type ApiEnv } from '../auth.ts';
 import { notModified, versionHeaders } from '../caching.ts';
 import { parseInput, readJson, readOptionalJson, readQuery } from '../validate.ts';
 import type { RouteContext } from '../context.ts';
+import { MEASUREMENT_METHODS, VERSION_STATUSES } from '../../registry/schema.ts';
+import type { MaterialRecord, VersionDetail, VersionRecord } from '../../registry/types.ts';
+import {
+  json,
+  READ_ERRORS,
+  AUTH_ERRORS,
+  SLUG,
+  SLUG_PATH,
+  VERSION_NUMBER_PATTERN,
+  VERSION_PATH_PARAMS,
+  WRITE_ERRORS,
+  type Operation,
+} from '../operations.ts';
 
 export const VERSION_PATH = '/api/v1/materials/:slug/versions/:n';
 
@@ -22,7 +35,7 @@ export const VERSION_PATH = '/api/v1/materials/:slug/versions/:n';
 export function versionRef(c: Context): string {
   const slug = checkSlug(c.req.param('slug') ?? '');
   const n = c.req.param('n') ?? '';
-  if (!/^[1-9][0-9]{0,8}$/.test(n)) {
+  if (!VERSION_NUMBER_PATTERN.test(n)) {
     throw new InputError('version-syntax', `"${n}" is not a version number: versions are numbered 1, 2, 3, ...`);
   }
   return `${slug}@${n}`;
@@ -33,20 +46,160 @@ export function versionUrl(ref: string): string {
   return `/api/v1/materials/${slug}/versions/${n}`;
 }
 
-const searchQuery = z.strictObject({ q: z.string().max(200).optional() });
-const newMaterial = z.strictObject({
-  slug: z.string().max(64),
+const searchQuery = z.strictObject({ q: z.string().max(200).optional().describe('search term: slug, name, description or tag') });
+const materialFields = {
   name: z.string().max(200),
-  description: z.string().max(5000).optional(),
-  tags: z.array(z.string().max(40)).max(50).optional(),
-});
+  description: z.string().max(5000),
+  tags: z.array(z.string().max(40)).max(50).describe('the whole tag set'),
+};
+const newMaterial = z
+  .strictObject({ slug: SLUG, name: materialFields.name, description: materialFields.description.optional(), tags: materialFields.tags.optional() })
+  .meta({ id: 'NewMaterial' });
 const materialEdit = z.strictObject({
-  name: z.string().max(200).optional(),
-  description: z.string().max(5000).optional(),
-  tags: z.array(z.string().max(40)).max(50).optional(),
+  name: materialFields.name.optional(),
+  description: materialFields.description.optional(),
+  tags: materialFields.tags.optional(),
 });
-const reasonBody = z.strictObject({ reason: z.string().max(2000) });
-const optionalReasonBody = z.strictObject({ reason: z.string().max(2000).optional() });
+const reasonBody = z.strictObject({ reason: z.string().max(2000) }).meta({ id: 'Reason' });
+const optionalReasonBody = z.strictObject({ reason: z.string().max(2000).optional() }).meta({ id: 'OptionalReason' });
+const noBody = z.strictObject({}).meta({ id: 'NoBody', description: 'empty, or {}' });
+
+const timestamp = z.string().meta({ format: 'date-time' });
+const MATERIAL = z
+  .object({
+    slug: z.string(),
+    name: z.string(),
+    description: z.string(),
+    tags: z.array(z.string()),
+    created_by: z.string(),
+    created_at: timestamp,
+    versions: z.number().int().min(0).describe('number of versions ever created'),
+    latest_approved: z.number().int().nullable().describe('newest approved (not retired) version number'),
+  })
+  .meta({ id: 'Material' }) satisfies z.ZodType<MaterialRecord>;
+const provenanceText = z.string().nullable();
+const PROVENANCE = z.object({
+  sample: provenanceText,
+  substrate: provenanceText,
+  process: provenanceText,
+  instrument: provenanceText,
+  method: z.enum(MEASUREMENT_METHODS).nullable(),
+  angles_deg: z.array(z.number()).nullable(),
+  measured_on: provenanceText,
+  operator: provenanceText,
+  source_file: provenanceText,
+  source_sha256: provenanceText,
+  notes: provenanceText,
+  preamble: z.array(z.string()).optional(),
+  absent_columns: z.array(z.string()).optional(),
+});
+const who = z.string().nullable();
+/** A version without its content: lists, results of writes. */
+export const VERSION_RECORD = z
+  .object({
+    ref: z.string().describe('the pin, slug@N'),
+    slug: z.string(),
+    version: z.number().int().min(1),
+    status: z.enum(VERSION_STATUSES),
+    sha256: z.string().regex(/^[0-9a-f]{64}$/),
+    has_table: z.boolean(),
+    model: z.string().nullable(),
+    kk_verdict: z.string().nullable(),
+    range_nm: z.tuple([z.number(), z.number()]),
+    provenance: PROVENANCE,
+    created_by: z.string(),
+    created_at: timestamp,
+    approved_by: who,
+    approved_at: timestamp.nullable(),
+    self_approved: z.boolean(),
+    retired_by: who,
+    retired_at: timestamp.nullable(),
+    retire_reason: who,
+    withdrawn_by: who,
+    withdrawn_at: timestamp.nullable(),
+    withdraw_reason: who,
+  })
+  .meta({ id: 'Version' }) satisfies z.ZodType<VersionRecord>;
+const VERSION_DETAIL = VERSION_RECORD.extend({
+  content: z
+    .object({
+      table: z
+        .object({ wavelengthNm: z.array(z.number()), n: z.array(z.number()), k: z.array(z.number()) })
+        .nullable()
+        .describe('the normalized table (optional sigmaN, sigmaK, sigmaEps1, sigmaEps2 arrays beside)'),
+      fit: z.object({ model: z.string() }).nullable().describe('the stored fit report'),
+      kk: z.object({ verdict: z.string() }).nullable().describe('the stored Kramers-Kronig report'),
+    })
+    .describe('the hashed content'),
+  notices: z.array(z.string()),
+  warnings: z.array(z.string()),
+}).meta({ id: 'VersionDetail' }) satisfies z.ZodType<Omit<VersionDetail, 'content'>>;
+
+const lifecycle = (what: 'approve' | 'retire' | 'withdraw', summary: string, body: z.ZodType, required: boolean): Operation => ({
+  method: 'post',
+  path: `${VERSION_PATH}/${what}`,
+  summary,
+  role: 'approver',
+  params: { path: VERSION_PATH_PARAMS },
+  body: { required, content: { 'application/json': body } },
+  responses: { 200: json('the version after the change', VERSION_RECORD), ...WRITE_ERRORS },
+});
+
+export const MATERIAL_OPERATIONS: Operation[] = [
+  {
+    method: 'get',
+    path: '/api/v1/materials',
+    summary: 'List materials, optionally filtered by a search term',
+    role: 'reader',
+    params: { query: searchQuery },
+    responses: { 200: json('materials', z.object({ materials: z.array(MATERIAL) })), ...AUTH_ERRORS, 400: READ_ERRORS[400] },
+  },
+  {
+    method: 'post',
+    path: '/api/v1/materials',
+    summary: 'Create a material',
+    role: 'editor',
+    body: { required: true, content: { 'application/json': newMaterial } },
+    responses: { 201: json('the new material (Location header gives its URL)', MATERIAL), ...WRITE_ERRORS },
+  },
+  {
+    method: 'get',
+    path: '/api/v1/materials/:slug',
+    summary: 'One material with all its versions',
+    role: 'reader',
+    params: { path: SLUG_PATH },
+    responses: {
+      200: json('the material and its versions, oldest first', z.object({ material: MATERIAL, versions: z.array(VERSION_RECORD) })),
+      ...READ_ERRORS,
+    },
+  },
+  {
+    method: 'patch',
+    path: '/api/v1/materials/:slug',
+    summary: "Edit a material's name, description or tags (the slug never changes; audit-logged as material.edit)",
+    role: 'editor',
+    params: { path: SLUG_PATH },
+    body: { required: true, content: { 'application/json': materialEdit } },
+    responses: {
+      200: json('the material, with "changed": the fields that changed', MATERIAL.extend({ changed: z.array(z.string()) })),
+      ...WRITE_ERRORS,
+    },
+  },
+  {
+    method: 'get',
+    path: VERSION_PATH,
+    summary: 'One version: content, provenance and reports',
+    description:
+      'Approved and retired versions: ETag = "<sha256>.<status>"; Cache-Control: public, max-age=60 when approved (it may still be retired), public, max-age=31536000, immutable when retired (private instead of public when the request carries a token); If-None-Match gives 304. ' +
+      'Drafts: Cache-Control: no-store. Retired versions carry a Deprecation header (RFC 9745) and a `warnings` entry.',
+    role: 'reader',
+    params: { path: VERSION_PATH_PARAMS, header: z.object({ 'If-None-Match': z.string().optional() }) },
+    responses: { 200: json('the version', VERSION_DETAIL), 304: { description: 'not modified' }, ...READ_ERRORS },
+  },
+  lifecycle('approve', 'Approve a draft (not by its creator, unless the registry allows self-approval)', noBody, false),
+  lifecycle('retire', 'Retire an approved version (reason required)', reasonBody, true),
+  lifecycle('withdraw', 'Withdraw a draft (reason optional)', optionalReasonBody, false),
+];
 
 export function registerMaterialRoutes(app: Hono<ApiEnv>, ctx: RouteContext): void {
   const reader = ctx.requireRole('reader');
@@ -87,7 +240,7 @@ export function registerMaterialRoutes(app: Hono<ApiEnv>, ctx: RouteContext): vo
 
   app.post(`${VERSION_PATH}/approve`, approver, async (c) => {
     const ref = versionRef(c);
-    parseInput(z.strictObject({}), await readOptionalJson(c.req), 'body');
+    parseInput(noBody, await readOptionalJson(c.req), 'body');
     return c.json(approve(ctx.registry, ref, actorOf(c.get('principal'))));
   });
 

@@ -7,18 +7,90 @@
  * status check (ChangeMemo: no SQLite read unless the registry changed) and a map lookup.
  */
 import type { Hono } from 'hono';
+import { z } from 'zod';
 import { evaluateVersion, withUnitColumn } from '../../service/evaluate-version.ts';
 import { versionStatus } from '../../service/version-state.ts';
 import { versionSummary } from '../../service/versions.ts';
 import { exportTable } from '../../io/export.ts';
 import type { ApiEnv } from '../auth.ts';
 import { isImmutable, notModified, versionHeaders } from '../caching.ts';
-import { negotiateNkFormat, parseNkBody, parseNkQuery, type NkRequest } from '../nk-query.ts';
+import { NK_BODY, NK_QUERY, negotiateNkFormat, parseNkBody, parseNkQuery, type NkRequest } from '../nk-query.ts';
+import { READ_ERRORS, VERSION_PATH_PARAMS, problem, type Answer, type Operation } from '../operations.ts';
+import { VERSION_STATUSES } from '../../registry/schema.ts';
+import type { VersionEvaluation } from '../../service/evaluate-version.ts';
 import { RepresentationCache } from '../representation-cache.ts';
 import { ChangeMemo } from '../registry-changes.ts';
 import type { RouteContext } from '../context.ts';
 import { readJson, readQuery } from '../validate.ts';
 import { VERSION_PATH, versionRef } from './materials.ts';
+
+const NK_VALUES = z
+  .object({
+    ref: z.string(),
+    sha256: z.string(),
+    status: z.enum(VERSION_STATUSES),
+    source: z.enum(['model', 'table']),
+    model: z.string().nullable(),
+    interpolation: z.enum(['linear', 'monotone-cubic']).nullable(),
+    range_nm: z.tuple([z.number(), z.number()]),
+    wavelength_nm: z.array(z.number()),
+    n: z.array(z.number()),
+    k: z.array(z.number()),
+    extrapolated: z.array(z.boolean()).optional(),
+    notices: z.array(z.string()),
+    warnings: z.array(z.string()),
+  })
+  .meta({
+    id: 'NkValues',
+    description: 'with `unit`, also the x column in that unit (energy_eV, wavelength_um, wavenumber_cm-1)',
+  }) satisfies z.ZodType<VersionEvaluation>;
+const nkAnswer: Answer = {
+  description: 'n,k at the asked wavelengths',
+  content: { 'application/json': NK_VALUES, 'text/csv': { json: { type: 'string' } } },
+};
+const nkErrors = {
+  ...READ_ERRORS,
+  406: problem('Accept names neither JSON nor CSV'),
+};
+
+export const NK_OPERATIONS: Operation[] = [
+  {
+    method: 'get',
+    path: `${VERSION_PATH}/nk`,
+    summary: 'n and k of a version at a list or a range of wavelengths',
+    description:
+      'Give wavelengths_nm (a list, or start:stop:step items), or from_nm, to_nm and step_nm, or at with unit; at most max_nk_points. ' +
+      'JSON by default; text/csv when Accept prefers it. Model-backed versions evaluate inside the validity range, table-only versions inside the measured range.',
+    role: 'reader',
+    params: { path: VERSION_PATH_PARAMS, query: NK_QUERY, header: z.object({ 'If-None-Match': z.string().optional() }) },
+    responses: {
+      200: nkAnswer,
+      304: { description: 'not modified' },
+      ...nkErrors,
+      400: problem('bad wavelengths or too many points (setting max_nk_points), or a malformed slug or version number'),
+      431: problem('the URL is too long: use POST with a JSON body'),
+    },
+  },
+  {
+    method: 'post',
+    path: `${VERSION_PATH}/nk`,
+    summary: 'n and k of a version at wavelengths given in a JSON body (lists too long for a URL)',
+    description:
+      'The fields of the GET query as JSON; wavelengths_nm may be an array of numbers or the same text as in the query. At most max_nk_points. ' +
+      'The answer is the GET answer with Cache-Control: no-store.',
+    role: 'reader',
+    params: { path: VERSION_PATH_PARAMS },
+    body: { required: true, content: { 'application/json': NK_BODY }, example: { wavelengths_nm: [450, 550, 650] } },
+    responses: {
+      200: nkAnswer,
+      ...nkErrors,
+      400: problem('too many points (setting max_nk_points), a body that is not JSON, or a malformed slug or version number'),
+      413: problem('the body exceeds the max_body_bytes setting'),
+      415: problem('the body is not application/json'),
+      422: problem('bad wavelengths'),
+    },
+  },
+];
 
 const CONTENT_TYPES = { csv: 'text/csv; charset=utf-8; header=present', json: 'application/json' };
 

@@ -11,20 +11,113 @@ import { InputError } from '../../errors.ts';
 import { parseWavelengthList } from '../../io/wavelength-list.ts';
 import { parseLockfile } from '../../service/lock.ts';
 import { parseStackOptions, resolveStackDesign, stackWork, STACK_POLARIZATIONS } from '../../service/stack.ts';
-import { parseStackDesign } from '../../service/stack-design.ts';
+import { parseStackDesign, STACK_DESIGN_SCHEMA } from '../../service/stack-design.ts';
 import { renderStackPlot } from '../../service/stack-plot.ts';
 import type { ApiEnv } from '../auth.ts';
 import type { RouteContext } from '../context.ts';
 import { HttpProblem } from '../problem.ts';
 import { parseInput, readJson } from '../validate.ts';
+import { AUTH_ERRORS, BUSY, problem, type Operation } from '../operations.ts';
+import { LOCKFILE } from './locks.ts';
 
 const stackQuery = z.strictObject({
-  at: z.string().min(1).max(100_000),
-  angle: z.string().max(2000).optional(),
+  at: z.string().min(1).max(100_000).meta({ example: '380:780:5', description: 'wavelengths in nm: a list and/or start:stop:step grids, as --at' }),
+  angle: z.string().max(2000).optional().meta({ example: '0,45,70', description: 'angles of incidence, degrees, comma-separated (default 0)' }),
   polarization: z.enum(STACK_POLARIZATIONS).optional(),
-  sweep: z.string().max(200).optional(),
-  extrapolate: z.enum(['true', 'false']).optional(),
+  sweep: z
+    .string()
+    .max(200)
+    .optional()
+    .meta({ example: '1=0:600:5', description: 'LAYER=START:STOP:STEP: colour against the thickness (nm) of a layer (1-based)' }),
+  extrapolate: z.enum(['true', 'false']).optional().describe('evaluate model sources outside their validity range'),
 });
+
+const STACK_DESIGN = STACK_DESIGN_SCHEMA.meta({ id: 'StackDesign', description: 'a stack design (schemas/stack-design.schema.json)' });
+const numbers = z.array(z.number());
+const COLOUR = z
+  .object({
+    ...Object.fromEntries(['X', 'Y', 'Z', 'x', 'y', 'L', 'a', 'b'].map((k) => [k, z.number().nullable()])),
+    srgb_hex: z.string().regex(/^#[0-9a-f]{6}$/),
+    in_gamut: z.boolean(),
+  })
+  .partial()
+  .meta({ id: 'Colour', description: 'CIE 1931 2° under D65: XYZ, xy, CIELAB, sRGB' });
+const STACK_ANSWER = z.object({
+  design: z.object({}),
+  materials: z.array(
+    z
+      .object({
+        role: z.string(),
+        source: z.enum(['registry', 'file', 'constant', 'model']),
+        ref: z.string().nullable(),
+        sha256: z.string().nullable(),
+      })
+      .partial(),
+  ),
+  notes: z.array(z.string()).optional(),
+  warnings: z.array(z.string()).optional(),
+  results: z.array(
+    z
+      .object({
+        angle_deg: z.number(),
+        wavelength_nm: numbers,
+        R: numbers,
+        T: numbers,
+        A: numbers,
+        Rs: numbers,
+        Rp: numbers,
+        Ts: numbers,
+        Tp: numbers,
+        psi_deg: numbers,
+        delta_deg: numbers,
+        colour: z.object({ reflected: COLOUR, transmitted: COLOUR }).partial().nullable(),
+        sweep: z
+          .object({
+            layer: z.number().int(),
+            rows: z.array(z.object({ thickness_nm: z.number(), reflected: COLOUR, transmitted: COLOUR }).partial()),
+          })
+          .partial(),
+      })
+      .partial(),
+  ),
+});
+
+export const STACK_OPERATIONS: Operation[] = [
+  {
+    method: 'post',
+    path: '/api/v1/stack',
+    summary: 'Reflectance, transmittance, absorptance, Ψ/Δ and colour of a thin-film stack design; nothing is stored',
+    description:
+      'The body is a stack design (the JSON Schema of schemas/stack-design.schema.json), or {"design": DESIGN, "lock": LOCKFILE} to resolve ' +
+      'its registry refs through a lockfile (refused when they disagree). {"file": …} sources are refused: the server\'s disk is not the client\'s. ' +
+      'The work, layers × wavelengths × angles × sweep steps (each at least 1), is capped by the max_stack_work setting. ' +
+      'R, T, A are fractions 0–1; colour is CIE 1931 2° under D65 on 380–780 nm at 5 nm, null (with a warning) when a material does not cover it. ' +
+      "Ψ, Δ: Azzam & Bashara, N = n − ik (registry k ≥ 0), Δ in [0, 360); they ignore an incoherent substrate's back surface. " +
+      'Accept: image/svg+xml answers the plot of `nkledger stack --plot` instead of JSON.',
+    role: 'reader',
+    params: { query: stackQuery },
+    body: {
+      required: true,
+      content: {
+        'application/json': z.union([STACK_DESIGN, z.strictObject({ design: STACK_DESIGN, lock: LOCKFILE.optional() })]),
+      },
+    },
+    responses: {
+      200: {
+        description: 'one result per angle',
+        content: { 'application/json': STACK_ANSWER, 'image/svg+xml': { json: { type: 'string' } } },
+      },
+      400: problem('bad design, option or wavelengths; a file source; a material that does not cover a wavelength; work over max_stack_work'),
+      ...AUTH_ERRORS,
+      404: problem('unknown material or version'),
+      406: problem('Accept names neither JSON nor SVG'),
+      413: problem('the body exceeds the max_body_bytes setting'),
+      415: problem('the body is not application/json'),
+      422: problem('the body is not a design'),
+      ...BUSY,
+    },
+  },
+];
 
 const BODY = '<request body>';
 

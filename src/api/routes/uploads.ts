@@ -12,30 +12,121 @@ import { PROVENANCE_FIELDS } from '../../registry/types.ts';
 import { storeMeasurement } from '../../service/import-measurement.ts';
 import { actorOf, type ApiEnv } from '../auth.ts';
 import { FIT_OPTION_FIELDS, fitOptionsFromFields, givenFitFields } from '../fit-fields.ts';
-import { readTableUpload } from '../upload.ts';
-import { parseInput } from '../validate.ts';
+import { readTableUpload, UPLOAD_ERRORS, uploadDescription } from '../upload.ts';
+import { decimalField, parseInput } from '../validate.ts';
 import type { RouteContext } from '../context.ts';
+import { AUTH_ERRORS, BUSY, json, problem, SLUG_PATH, WRITE_ERRORS, type Operation } from '../operations.ts';
 import { versionUrl } from './materials.ts';
+import { VERSION_STATUSES } from '../../registry/schema.ts';
 
 const booleanText = z.enum(['true', 'false']).transform((t) => t === 'true');
-const modelSpec = z.string().min(1).max(100);
+const modelSpec = z.string().min(1).max(100).meta({ example: 'tauc-lorentz', description: 'model spec, e.g. tauc-lorentz or sellmeier:3' });
 
 /**
  * Provenance as form fields. source_sha256 is always computed from the uploaded bytes; source_file
  * defaults to the multipart file name (a raw text/csv body has none: give source_file=NAME).
  */
 const provenanceFields = Object.fromEntries(
-  PROVENANCE_FIELDS.filter((f) => f !== 'source_sha256').map((f) => [f, z.string().max(20_000).optional()]),
+  PROVENANCE_FIELDS.filter((f) => f !== 'source_sha256').map((f) => [
+    f,
+    z
+      .string()
+      .max(20_000)
+      .optional()
+      .describe(f === 'source_file' ? 'default: the file part name' : `provenance: ${f}`),
+  ]),
 );
-const versionFields = z.strictObject({ fit: modelSpec.optional(), ...FIT_OPTION_FIELDS, ...provenanceFields, kk: booleanText.optional() });
+const versionFields = z.strictObject({
+  fit: modelSpec.optional().describe('model spec to fit and store with the version; the other fit fields need it'),
+  ...FIT_OPTION_FIELDS,
+  ...provenanceFields,
+  kk: booleanText.optional().describe('false: skip the Kramers-Kronig check'),
+});
 const fitOnlyFields = z.strictObject({ model: modelSpec, ...FIT_OPTION_FIELDS });
 const kkFields = z.strictObject({
-  tolerance: z
-    .string()
-    .regex(/^[0-9.eE+-]+$/)
-    .transform(Number)
-    .optional(),
+  tolerance: decimalField('tolerance')
+    .refine((v) => v > 0, 'tolerance must be positive (a misfit in n, e.g. 0.005)')
+    .optional()
+    .describe('largest acceptable systematic misfit in n'),
 });
+
+const CREATED_VERSION = z
+  .object({ ref: z.string().meta({ example: 'sin-pecvd-a@3' }), version: z.number().int(), sha256: z.string(), status: z.enum(VERSION_STATUSES) })
+  .meta({ id: 'CreatedVersion' });
+const FIT_REPORT = z
+  .object({
+    model: z.string(),
+    parameters: z.record(z.string(), z.object({ value: z.number(), stderr: z.number().nullable().optional(), unit: z.string() })),
+    statistics: z.object({ points: z.number().int() }),
+    warnings: z.array(z.string()),
+    kk_consistent: z.boolean(),
+    range_nm: z.tuple([z.number(), z.number()]).describe("the fitted rows' wavelength range: the model's validity range"),
+  })
+  .meta({ id: 'FitReport' });
+const KK_REPORT = z
+  .object({
+    verdict: z.enum(['consistent', 'inconsistent', 'uninformative']),
+    summary: z.string(),
+    tolerance: z.number(),
+    rms_dn: z.number(),
+    max_dn: z.number(),
+    worst_nm: z.number(),
+    points: z.number().int(),
+    range_nm: z.tuple([z.number(), z.number()]),
+    bands: z.array(z.object({ band: z.unknown(), points: z.number().int() })),
+  })
+  .meta({ id: 'KkReport' });
+const withWarnings = (report: z.ZodType) => z.object({ report, warnings: z.array(z.string()).describe("the uploaded table's import warnings") });
+
+const versionUpload = uploadDescription(versionFields);
+const fitUpload = uploadDescription(fitOnlyFields);
+const kkUpload = uploadDescription(kkFields);
+
+export const UPLOAD_OPERATIONS: Operation[] = [
+  {
+    method: 'post',
+    path: '/api/v1/materials/:slug/versions',
+    summary: 'Upload a table as a new draft version (optionally fitted with a model)',
+    description:
+      'The fields go in the query with a text body, or as form fields beside the `table` part of a multipart body. Unknown fields are refused.',
+    role: 'editor',
+    params: { path: SLUG_PATH, query: versionUpload.query },
+    body: versionUpload.body,
+    responses: {
+      201: json('the new draft (Location header gives its URL)', CREATED_VERSION),
+      ...WRITE_ERRORS,
+      ...UPLOAD_ERRORS,
+      422: problem('the fit or the Kramers-Kronig check could not produce a trustworthy result'),
+      ...BUSY,
+    },
+  },
+  {
+    method: 'post',
+    path: '/api/v1/fit',
+    summary: 'Fit a dispersion model to an uploaded table; nothing is stored',
+    description: 'The fields go in the query with a text body, or as form fields beside the `table` part of a multipart body.',
+    role: 'reader',
+    params: { query: fitUpload.query },
+    body: fitUpload.body,
+    responses: {
+      200: json('fit report', withWarnings(FIT_REPORT)),
+      ...UPLOAD_ERRORS,
+      422: problem('the fit failed'),
+      ...AUTH_ERRORS,
+      ...BUSY,
+    },
+  },
+  {
+    method: 'post',
+    path: '/api/v1/kk',
+    summary: 'Kramers-Kronig consistency check of an uploaded table; nothing is stored',
+    description: 'The fields go in the query with a text body, or as form fields beside the `table` part of a multipart body.',
+    role: 'reader',
+    params: { query: kkUpload.query },
+    body: kkUpload.body,
+    responses: { 200: json('KK report', withWarnings(KK_REPORT)), ...UPLOAD_ERRORS, 422: problem('the check failed'), ...AUTH_ERRORS, ...BUSY },
+  },
+];
 
 export function registerUploadRoutes(app: Hono<ApiEnv>, ctx: RouteContext): void {
   const reader = ctx.requireRole('reader');
