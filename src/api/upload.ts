@@ -1,14 +1,16 @@
 /**
  * Reading an uploaded n,k table: the raw body (text/csv or any delimited text), or multipart/form-data
- * with a `table` file part and text fields. The import flags are the CLI's, spelled snake_case
- * (input_unit, columns, delimiter, decimal_comma, k_tolerance, header_line, allow_any_range) and mapped by the CLI's own
- * io's importOptionsFrom, so both front doors read a table identically and each names the option its own way.
+ * with a `table` file part and text fields. The import fields come from the one table of import options
+ * (IMPORT_OPTIONS, io/import-options.ts) the CLI's input flags come from, and are parsed by the same
+ * importOptionsFrom, so both front doors read a table identically and each names the option its own way.
  */
 import type { Context } from 'hono';
 import { z } from 'zod';
 import { InputError } from '../errors.ts';
 import type { ImportOptions } from '../io/parse-table.ts';
-import { importOptionsFrom } from '../io/import-options.ts';
+import { IMPORT_OPTIONS, importOptionsFrom } from '../io/import-options.ts';
+import { fieldSpelling, valuesFromFields } from '../io/option-spec.ts';
+import { optionFields } from './option-fields.ts';
 import { HttpProblem } from './problem.ts';
 import { parseInput, readQuery } from './validate.ts';
 import { problem, type Operation } from './operations.ts';
@@ -29,19 +31,7 @@ export interface TableUpload {
   fieldsIn: 'query' | 'body';
 }
 
-const importFields = z.object({
-  input_unit: z.string().max(40).optional().describe("unit of the table's x column: nm, um, A, eV, cm-1 (overrides the header)"),
-  columns: z.string().max(500).optional().describe('comma-separated column names, e.g. wavelength,n,k'),
-  delimiter: z.string().max(20).optional(),
-  decimal_comma: z.enum(['true', 'false']).optional(),
-  k_tolerance: z.string().max(40).optional().describe('largest negative k accepted as zero noise'),
-  header_line: z
-    .string()
-    .max(20)
-    .optional()
-    .describe('the header is this physical line (from 1); lines above it are the preamble (default: detected)'),
-  allow_any_range: z.enum(['true', 'false']).optional().describe('true: accept x values outside 10 nm – 1 mm (genuine EUV or THz data)'),
-});
+const importFields = z.object(optionFields(IMPORT_OPTIONS));
 const IMPORT_FIELD_NAMES = Object.keys(importFields.shape);
 
 const TABLE_TYPES = ['text/csv', 'text/plain', 'text/tab-separated-values'];
@@ -106,18 +96,7 @@ export async function readTableUpload(c: Context): Promise<TableUpload> {
   const flags = parseInput(importFields, pick(fields, IMPORT_FIELD_NAMES), fieldsIn, 400);
   const file = clientFileName ?? UPLOAD_FILE;
   const importOptions: ImportOptions = {
-    ...importOptionsFrom(
-      {
-        inputUnit: flags.input_unit,
-        columns: flags.columns,
-        delimiter: flags.delimiter,
-        decimalComma: flags.decimal_comma === undefined ? undefined : flags.decimal_comma === 'true',
-        kTolerance: flags.k_tolerance,
-        headerLine: flags.header_line,
-        allowAnyRange: flags.allow_any_range === 'true',
-      },
-      (key) => key.replace(/[A-Z]/g, (c) => `_${c.toLowerCase()}`),
-    ),
+    ...importOptionsFrom(valuesFromFields(IMPORT_OPTIONS, flags), fieldSpelling(IMPORT_OPTIONS)),
     file,
   };
   return { bytes, file, clientFileName, importOptions, fields: omit(fields, IMPORT_FIELD_NAMES), fieldsIn };

@@ -5,6 +5,7 @@
 import { InputError } from '../errors.ts';
 import { parseOptionNumber } from '../io/numbers.ts';
 import type { FitOptions, FitTarget } from '../fit/types.ts';
+import type { OptionSpec } from '../io/option-spec.ts';
 
 export const FIT_TARGETS: readonly FitTarget[] = ['nk', 'n', 'k', 'eps'];
 
@@ -28,19 +29,40 @@ export interface FitOptionText {
 export const FIT_WEIGHTS = ['auto', 'relative'] as const;
 
 export type FitOptionName = keyof FitOptionText;
-export const FIT_OPTION_NAMES: readonly FitOptionName[] = [
-  'terms',
-  'urbach',
-  'target',
-  'range',
-  'fix',
-  'init',
-  'bounds',
-  'free',
-  'starts',
-  'seed',
-  'weights',
+
+/**
+ * The fit options, once: the flags of `nkledger fit` and `nkledger import --fit` (cli/fit-options.ts), the fit
+ * fields of the API's uploads and POST /fit with their OpenAPI entries (api/fit-fields.ts), parsed by
+ * parseFitOptions below. A new option: a row here, its FitOptionText member and its case in parseFitOptions.
+ */
+export const FIT_OPTIONS: readonly (OptionSpec & { name: FitOptionName })[] = [
+  { name: 'terms', argument: '<N>', description: 'number of Sellmeier terms / oscillators for models that accept it' },
+  { name: 'urbach', description: 'Cauchy: add the Urbach absorption tail' },
+  { name: 'target', argument: '<what>', description: `quantities fitted: ${FIT_TARGETS.join(', ')} (default nk: n and k; eps: ε1 and ε2)` },
+  { name: 'range', field: 'range_nm', argument: '<min:max>', description: 'fit only wavelengths in this window (nm)' },
+  { name: 'fix', argument: '<P=V>', repeatable: true, description: 'hold parameter P fixed at V (repeatable)' },
+  { name: 'init', argument: '<P=V>', repeatable: true, description: 'start parameter P at V instead of the automatic guess (repeatable)' },
+  { name: 'bounds', argument: '<P=LO:HI>', repeatable: true, description: 'bounds of parameter P (repeatable)' },
+  {
+    name: 'free',
+    argument: '<P>',
+    repeatable: true,
+    description: 'fit a parameter the model fixes by default (Sellmeier A, Urbach Eb) (repeatable)',
+  },
+  {
+    name: 'starts',
+    argument: '<N>',
+    description: 'number of starts: the automatic guess plus N − 1 random perturbations of it (default 1)',
+  },
+  { name: 'seed', argument: '<N>', description: 'seed of the multi-start perturbations (default 1)' },
+  {
+    name: 'weights',
+    argument: '<how>',
+    description:
+      'auto (default: the sigma columns, else the n/k noise ratio) or relative (σ ∝ |value|, for noise that grows with the value; see docs/fitting.md)',
+  },
 ];
+export const FIT_OPTION_NAMES: readonly FitOptionName[] = FIT_OPTIONS.map((o) => o.name);
 
 /** How a front door names an option in messages: `--fix` on the command line, `fix` or `range_nm` in the API. */
 export type OptionLabel = (name: FitOptionName) => string;

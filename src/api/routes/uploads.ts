@@ -135,7 +135,7 @@ export function registerUploadRoutes(app: Hono<ApiEnv>, ctx: RouteContext): void
     const slug = checkSlug(c.req.param('slug'));
     const upload = await readTableUpload(c);
     const { fit, kk, ...fields } = parseInput(versionFields, upload.fields, upload.fieldsIn, 400);
-    const fitFields = Object.fromEntries(Object.entries(fields).filter(([k]) => k in FIT_OPTION_FIELDS));
+    const fitFields = Object.fromEntries(Object.entries(fields).filter(([k]) => k in FIT_OPTION_FIELDS)) as Record<string, string | undefined>;
     const provenance = Object.fromEntries(Object.entries(fields).filter(([k]) => !(k in FIT_OPTION_FIELDS))) as Record<string, string | undefined>;
     const unused = fit === undefined ? givenFitFields(fitFields) : [];
     if (unused.length) throw new InputError('bad-option', `${unused.join(', ')} configure a fit: add fit=MODEL`);
