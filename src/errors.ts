@@ -105,18 +105,6 @@ export class NumericalError extends InputError {
 }
 
 /**
- * Stored content that no longer matches its SHA-256: the database was edited outside nkledger. Not the
- * user's input, but reported the same way (no stack trace; the CLI exits 2), as HTTP 500 since the
- * fault is the server's data. Raised on read so a tampered version is never served as if it were good.
- */
-export class IntegrityError extends InputError {
-  constructor(message: string, rule = 'integrity-hash-mismatch') {
-    super(rule, message, {}, 500);
-    this.name = 'IntegrityError';
-  }
-}
-
-/**
  * The service cannot take more work now (every compute thread busy, queue full). Nothing was done; the
  * same request may succeed after `retryAfterSeconds`. HTTP 503 with Retry-After.
  */
@@ -160,4 +148,16 @@ export function formatLocation(loc: InputLocation): string {
   if (loc.line !== undefined) parts.push(String(loc.line));
   if (loc.line !== undefined && loc.column !== undefined) parts.push(String(loc.column));
   return parts.length ? `${parts.join(':')}: ` : '';
+}
+
+/**
+ * Stored content that no longer matches its SHA-256: the database was edited outside nkledger. A fault of the
+ * registry's data, not of the user's input: the CLI exits 4 as for a corrupt registry, the API answers 500 (a
+ * retry will not help). Raised on read so a tampered version is never served as if it were good.
+ */
+export class IntegrityError extends EnvironmentError {
+  constructor(message: string, rule = 'integrity-hash-mismatch') {
+    super(rule, message, {}, 500);
+    this.name = 'IntegrityError';
+  }
 }

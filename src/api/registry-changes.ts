@@ -15,12 +15,11 @@
  *   at the next request; under load about 20 requests share a turn here, and a turn can last
  *   milliseconds (libuv reads more than 1024 ready sockets in one turn).
  */
-import type { Statement } from 'better-sqlite3';
+import { changeCounters } from '../registry/hot-reads.ts';
 import type { Registry } from '../registry/open.ts';
 
 export class RegistryChanges {
-  private readonly ownChanges: Statement<[], number>;
-  private readonly dataVersion: Statement<[], number>;
+  private readonly counters: ReturnType<typeof changeCounters>;
   private own = -1;
   private other = -1;
   private otherCheckedThisTurn = false;
@@ -30,16 +29,15 @@ export class RegistryChanges {
   };
 
   constructor(registry: Registry) {
-    this.ownChanges = registry.sqlite.prepare<[], number>('SELECT total_changes()').pluck();
-    this.dataVersion = registry.sqlite.prepare<[], number>('PRAGMA data_version').pluck();
+    this.counters = changeCounters(registry);
   }
 
   /** A number that is different from every earlier one as soon as a change is seen (see above). */
   current(): number {
-    const own = this.ownChanges.get() as number;
+    const own = this.counters.own();
     let other = this.other;
     if (!this.otherCheckedThisTurn) {
-      other = this.dataVersion.get() as number;
+      other = this.counters.other();
       this.otherCheckedThisTurn = true;
       setImmediate(this.endTurn);
     }

@@ -50,9 +50,12 @@ export interface OpenOptions {
   readonly?: boolean;
 }
 
-/** The database path: the argument (`--db`), else NKLEDGER_DB, else ./nkledger.db. */
+/**
+ * The database path: the argument, else ./nkledger.db. The caller passes what its user chose; the CLI fills
+ * `--db` from its run's NKLEDGER_DB (cli/run.ts), so the registry never reads the process environment.
+ */
 export function registryPath(path?: string): string {
-  return path ?? process.env.NKLEDGER_DB ?? 'nkledger.db';
+  return path ?? 'nkledger.db';
 }
 
 function identityOf(file: string): FileIdentity | null {

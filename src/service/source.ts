@@ -35,7 +35,10 @@ export async function loadTable(source: string, options: ImportOptions = {}, std
   return parseNkTable(bytes, { ...options, file, maxBytes });
 }
 
-/** The raw bytes of a file path or "-" (`stdin`, default the process's), within the size limit, and the name errors should give it. */
+/**
+ * The raw bytes of a file path or "-" (`stdin`, passed in by the front door that has one), within the size limit,
+ * and the name errors should give it. Without a `stdin`, "-" is refused: a server has no standard input to read.
+ */
 export async function readSource(
   source: string,
   options: ImportOptions = {},
@@ -43,7 +46,9 @@ export async function readSource(
 ): Promise<{ bytes: Uint8Array; file: string; maxBytes: number }> {
   const maxBytes = options.maxBytes ?? DEFAULT_MAX_BYTES;
   const file = options.file ?? (source === STDIN_SOURCE ? '<stdin>' : source);
-  const bytes = source === STDIN_SOURCE ? await readStdin(stdin ?? process.stdin, maxBytes, file) : await readLimitedFile(source, maxBytes, file);
+  if (source !== STDIN_SOURCE) return { bytes: await readLimitedFile(source, maxBytes, file), file, maxBytes };
+  if (!stdin) throw new InputError('stdin-unavailable', '"-" (standard input) cannot be read here; name a file', { file });
+  const bytes = await readStdin(stdin, maxBytes, file);
   return { bytes, file, maxBytes };
 }
 

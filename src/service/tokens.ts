@@ -5,10 +5,10 @@
  */
 import { randomBytes } from 'node:crypto';
 import { eq, isNull } from 'drizzle-orm';
-import type { Statement } from 'better-sqlite3';
 import { apiTokens, TOKEN_ROLES, type TokenRole } from '../registry/schema-auth.ts';
 import type { Registry } from '../registry/open.ts';
 import { sha256Hex } from '../registry/canonical.ts';
+import { activeToken } from '../registry/hot-reads.ts';
 import { appendAudit, nowIso, writeTransaction } from '../registry/records.ts';
 import { InputError, NotFoundError, ConflictError } from '../errors.ts';
 import { checkActor } from './actor.ts';
@@ -108,19 +108,11 @@ export function revokeToken(registry: Registry, id: string, actor: string): Toke
   return toInfo({ ...row, revokedAt, revokedBy });
 }
 
-const LOOKUP_SQL = 'SELECT id AS tokenId, user, role FROM api_tokens WHERE token_sha256 = ? AND revoked_at IS NULL';
-
 /**
- * Every API request authenticates, so the lookup is one plain prepared statement per registry
- * (drizzle's prepared query with result mapping cost about twice as much on this path); the server
- * also remembers the answer until the registry changes (src/api/auth.ts).
+ * Every API request authenticates, so the lookup is one plain prepared statement (registry/hot-reads.ts); the
+ * server also remembers the answer until the registry changes (src/api/auth.ts).
  */
-const lookups = new WeakMap<Registry, Statement<[string], Principal>>();
-
-/** The principal for a presented token, or undefined for an unknown or revoked token. */
 export function authenticateToken(registry: Registry, token: string): Principal | undefined {
   if (!token.startsWith(TOKEN_PREFIX)) return undefined;
-  let lookup = lookups.get(registry);
-  if (!lookup) lookups.set(registry, (lookup = registry.sqlite.prepare(LOOKUP_SQL)));
-  return lookup.get(sha256Hex(token));
+  return activeToken(registry, sha256Hex(token));
 }

@@ -56,4 +56,36 @@ describe('layers import only downward', () => {
     expect(imports).toBeGreaterThan(200); // the scan saw the tree
     expect(upward).toEqual([]);
   });
+
+  it('below the front doors nothing reads the process: environment, standard streams, exit code (passed in by CLI and API)', () => {
+    // Sanctioned: the process id in temporary file names, and the working directory a design read from stdin resolves against.
+    const SANCTIONED = /process\.(pid|cwd\(\))/g;
+    const found: string[] = [];
+    for (const file of sources(SRC)) {
+      const layer = layerOf(file);
+      if (layer === 'api' || layer === 'cli' || layer === 'web') continue;
+      readFileSync(file, 'utf8')
+        .split('\n')
+        .forEach((line, i) => {
+          const code = line.replace(/\/\/.*$|^\s*\*.*$/, '').replace(SANCTIONED, '');
+          if (/\bprocess\.\w/.test(code)) found.push(`${relative(SRC, file)}:${i + 1}: ${line.trim()}`);
+        });
+    }
+    expect(found).toEqual([]);
+  });
+
+  it('SQL is written in the registry layer only: service, api and cli call registry/ functions', () => {
+    const found: string[] = [];
+    for (const file of sources(SRC)) {
+      if (!['service', 'api', 'cli', 'web'].includes(layerOf(file) ?? '')) continue;
+      readFileSync(file, 'utf8')
+        .split('\n')
+        .forEach((line, i) => {
+          const code = /^\s*(\*|\/\/|\/\*)/.test(line) ? '' : line;
+          if (/\.sqlite\.(prepare|exec|pragma)\(|\bsql`|\b(SELECT|PRAGMA)\s+[a-z_]+/.test(code))
+            found.push(`${relative(SRC, file)}:${i + 1}: ${line.trim()}`);
+        });
+    }
+    expect(found).toEqual([]);
+  });
 });

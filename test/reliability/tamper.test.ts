@@ -128,7 +128,7 @@ describe('edits made directly in the database file', { timeout: 90_000 }, () => 
     expect((await fetch(`${server.url}${nkPath('intact@1')}`)).status).toBe(200);
   });
 
-  it('are refused by the CLI (show, eval, export, diff: exit 2, nothing on stdout) and failed by verify (exit 3)', async () => {
+  it('are refused by the CLI as a corrupt registry (show, eval, export, diff: exit 4, nothing on stdout) and failed by verify (exit 3)', async () => {
     const [show, evaluated, exported, diffed, verified] = await Promise.all([
       cli(['show', 'tamper@1', '--json', '--db', db], 'ada'),
       cli(['eval', 'tamper@2', '--at', '500', '--json', '--db', db], 'ada'),
@@ -137,7 +137,7 @@ describe('edits made directly in the database file', { timeout: 90_000 }, () => 
       cli(['verify', '--db', db], 'ada'),
     ]);
     for (const r of [show, evaluated, exported, diffed]) {
-      expect(r.code, r.err).toBe(2);
+      expect(r.code, r.err).toBe(4);
       expect(r.out).toBe('');
       expect(r.err).toMatch(/no longer matches its SHA-256.*\[integrity-hash-mismatch\]/);
       expect(r.err).not.toMatch(/\n\s+at /); // no stack trace
