@@ -1,16 +1,21 @@
 #!/usr/bin/env node
 /**
- * Build: bundle the CLI (src/cli/main.ts) with esbuild into dist/, one flat folder. Each command module that
- * src/cli/commands/index.ts loads with import() becomes its own chunk, so a command loads only its code and the
- * parts of its dependencies it uses (tree-shaken; loading drizzle-orm's ~400 files one by one cost more than the
- * whole start-up budget). better-sqlite3 (native addon) and piscina (it finds its own worker file by __dirname) stay imports; the other packages are bundled.
+ * Build: bundle the CLI with esbuild into dist/, one flat folder (tree-shaken; loading drizzle-orm's ~400 files
+ * one by one cost more than the whole start-up budget). better-sqlite3 (native addon) and piscina (it finds its
+ * own worker file by __dirname) stay imports; the other packages are bundled.
+ *   - nkledger.js, the process (bin/nkledger.js imports it): reads the command's name and imports only
+ *     cmd-<module>.js, one self-contained file per command of src/cli/commands/index.ts (cmd-none.js for
+ *     `--help`, `--version` and unknown words). Node 20's ESM loader costs a few milliseconds per file, so
+ *     one file per command starts faster than shared chunks.
+ *   - run.js: `run(argv, io)` with every command, split by esbuild into chunks (each command's loaded only when
+ *     it runs), for programs that drive the CLI in-process; the worker-thread entries.
  *
  * Paths found relative to a module's own file: every `new URL('<relative>', import.meta.url)` in src/ is
  * rebased to dist/ (all output files sit directly in dist/), so `../../drizzle` in src/registry/open.ts reads
  * the same folder from dist/. A `new URL('./x.ts', import.meta.url)` (a worker-thread entry) also makes x.ts an
  * entry point of its own and points at its output. Runs as `npm run build`, from `prepare` (npm install, npm ci)
  * and before the tests (vitest globalSetup), so the bin never runs older code than the sources under test.
- * Plain JavaScript so it needs nothing but esbuild; about a second.
+ * Plain JavaScript so it needs nothing but esbuild; a few seconds.
  */
 import { readdirSync, readFileSync, renameSync, rmSync } from 'node:fs';
 import { dirname, join, relative, resolve } from 'node:path';
@@ -19,8 +24,8 @@ import { fileURLToPath } from 'node:url';
 const ROOT = fileURLToPath(new URL('..', import.meta.url));
 const SRC = join(ROOT, 'src');
 const OUT = join(ROOT, 'dist');
-const MAIN = join(SRC, 'cli', 'main.ts');
 const RUN = join(SRC, 'cli', 'run.ts');
+const COMMAND_INDEX = join(SRC, 'cli', 'commands', 'index.ts');
 const URL_REF = /new URL\((['"])(\.\.?\/[^'"]*)\1,\s*import\.meta\.url\)/g;
 
 function sources(dir) {
@@ -43,21 +48,81 @@ function urlEntries() {
   return [...found];
 }
 
-const rebaseUrls = {
-  name: 'rebase-import-meta-urls',
-  setup(build) {
-    build.onLoad({ filter: /\.ts$/ }, (args) => {
-      const text = readFileSync(args.path, 'utf8').replace(URL_REF, (_all, quote, ref) => {
-        const target = resolve(dirname(args.path), ref);
-        const rebased = ref.endsWith('.ts')
-          ? `./${entryName(target)}.js`
-          : relative(OUT, target).split(/[\\/]/).join('/') + (ref.endsWith('/') ? '/' : '');
-        return `new URL(${quote}${rebased.startsWith('.') ? rebased : `./${rebased}`}${quote}, import.meta.url)`;
+/** esbuild plugin: rebase the `new URL(...)` references (see above). */
+function rebaseUrls() {
+  return {
+    name: 'rebase-import-meta-urls',
+    setup(build) {
+      build.onLoad({ filter: /\.ts$/ }, (args) => {
+        const text = readFileSync(args.path, 'utf8').replace(URL_REF, (_all, quote, ref) => {
+          const target = resolve(dirname(args.path), ref);
+          const rebased = ref.endsWith('.ts')
+            ? `./${entryName(target)}.js`
+            : relative(OUT, target).split(/[\\/]/).join('/') + (ref.endsWith('/') ? '/' : '');
+          return `new URL(${quote}${rebased.startsWith('.') ? rebased : `./${rebased}`}${quote}, import.meta.url)`;
+        });
+        return { contents: text, loader: 'ts' };
       });
-      return { contents: text, loader: 'ts' };
-    });
-  },
-};
+    },
+  };
+}
+
+/**
+ * The commands of src/cli/commands/index.ts: name and module file, from its entries
+ * `{ name: 'eval', summary: '…', load: () => import('./eval.ts') }`.
+ */
+function commandModules() {
+  const text = readFileSync(COMMAND_INDEX, 'utf8');
+  const found = [...text.matchAll(/name: '([a-z-]+)',[\s\S]*?load: \(\) => import\('\.\/([a-z-]+)\.ts'\)/g)].map((m) => ({
+    name: m[1],
+    module: m[2],
+  }));
+  const loaders = text.match(/import\('\.\//g)?.length ?? 0;
+  if (found.length === 0 || found.length !== loaders)
+    throw new Error(`build: read ${found.length} of the ${loaders} command entries of ${COMMAND_INDEX}`);
+  return found;
+}
+
+/**
+ * esbuild plugin for the command bundles: entry `nk-command:eval` is run.ts with the eval module preloaded
+ * (commands/index.ts `preloadCommand`), and the loaders in commands/index.ts stay unbundled dynamic imports that
+ * are never called (run.ts takes the preloaded module; the dispatcher picks the bundle by the same command name).
+ */
+function commandEntries(commands) {
+  return {
+    name: 'command-entries',
+    setup(build) {
+      build.onResolve({ filter: /^nk-command:/ }, (args) => ({ path: args.path.slice('nk-command:'.length), namespace: 'nk-command' }));
+      build.onLoad({ filter: /.*/, namespace: 'nk-command' }, (args) => ({
+        contents:
+          args.path === 'none'
+            ? "export { run } from './run.ts';\n"
+            : `import * as command from './commands/${args.path}.ts';\nimport { preloadCommand } from './commands/index.ts';\n` +
+              `preloadCommand(${JSON.stringify(commands.find((c) => c.module === args.path).name)}, command);\nexport { run } from './run.ts';\n`,
+        resolveDir: join(SRC, 'cli'),
+        loader: 'ts',
+      }));
+      build.onResolve({ filter: /^\.\/[a-z-]+\.ts$/ }, (args) =>
+        args.importer === COMMAND_INDEX && args.kind === 'dynamic-import' ? { path: args.path, external: true } : undefined,
+      );
+    },
+  };
+}
+
+/**
+ * dist/nkledger.js, the process: it reads the command's name with run.ts's own rule (command-name.ts) and
+ * imports only that command's bundle (or the one without any command, for `--help`, `--version` and
+ * unknown words), so a command loads one file instead of a few dozen chunks.
+ */
+function dispatcher(commands) {
+  const bundles = Object.fromEntries(commands.map((c) => [c.name, `./cmd-${c.module}.js`]));
+  return `import { commandName } from './command-name.ts';
+import { runProcess } from './process-main.ts';
+const BUNDLES = ${JSON.stringify(bundles)};
+const bundle = new URL(BUNDLES[commandName(process.argv.slice(2))] ?? './cmd-none.js', import.meta.url).href;
+await runProcess(async (argv) => (await import(bundle)).run(argv));
+`;
+}
 
 export async function build({ quiet = false } = {}) {
   let esbuild;
@@ -67,25 +132,48 @@ export async function build({ quiet = false } = {}) {
     throw new Error('esbuild is not installed: run `npm install` (it is a devDependency of nkledger)');
   }
   const temp = join(ROOT, `dist.building-${process.pid}`);
-  // nkledger.js: the process (bin/nkledger.js imports it); run.js: run(argv, io) for a program that drives the CLI in-process.
-  const entryPoints = { nkledger: MAIN, run: RUN, ...Object.fromEntries(urlEntries().map((f) => [entryName(f), f])) };
+  const common = {
+    outdir: temp,
+    bundle: true,
+    external: ['better-sqlite3', 'piscina'],
+    platform: 'node',
+    format: 'esm',
+    target: 'node20',
+    sourcemap: 'linked',
+    logLevel: 'warning',
+    // Bundled CommonJS packages (commander, papaparse) call require() for Node's own modules.
+    banner: { js: "import { createRequire as __nkCreateRequire } from 'node:module'; const require = __nkCreateRequire(import.meta.url);" },
+  };
+  const commands = commandModules();
   try {
-    await esbuild.build({
-      entryPoints,
-      outdir: temp,
-      bundle: true,
-      splitting: true,
-      chunkNames: '[name]-[hash]',
-      external: ['better-sqlite3', 'piscina'],
-      platform: 'node',
-      format: 'esm',
-      target: 'node20',
-      sourcemap: 'linked',
-      logLevel: 'warning',
-      // Bundled CommonJS packages (commander, papaparse) call require() for Node's own modules.
-      banner: { js: "import { createRequire as __nkCreateRequire } from 'node:module'; const require = __nkCreateRequire(import.meta.url);" },
-      plugins: [rebaseUrls],
-    });
+    await Promise.all([
+      // run.js: run(argv, io) with every command, for a program that drives the CLI in-process; worker-thread
+      // entries. Split, so that run.js loads each command's code only when it runs.
+      esbuild.build({
+        ...common,
+        entryPoints: { run: RUN, ...Object.fromEntries(urlEntries().map((f) => [entryName(f), f])) },
+        splitting: true,
+        chunkNames: '[name]-[hash]',
+        plugins: [rebaseUrls()],
+      }),
+      // One self-contained bundle per command (run.ts with that command preloaded) and one with none. Each process
+      // loads one of them: Node 20's ESM loader pays a few milliseconds per file, which for `nkledger eval` split
+      // into ~25 chunks cost more than the code itself.
+      esbuild.build({
+        ...common,
+        entryPoints: Object.fromEntries([...commands.map((c) => c.module), 'none'].map((m) => [`cmd-${m}`, `nk-command:${m}`])),
+        plugins: [commandEntries(commands), rebaseUrls()],
+        // No source maps: 23 maps of a bundle each tripled the build time; the bundles are not minified and
+        // name each source file in a comment, and run.js (the same code, split) keeps its maps.
+        sourcemap: false,
+      }),
+      esbuild.build({
+        ...common,
+        stdin: { contents: dispatcher(commands), resolveDir: join(SRC, 'cli'), sourcefile: 'nkledger.ts', loader: 'ts' },
+        outfile: join(temp, 'nkledger.js'),
+        outdir: undefined,
+      }),
+    ]);
   } catch (err) {
     rmSync(temp, { recursive: true, force: true });
     throw err;
@@ -99,7 +187,7 @@ export async function build({ quiet = false } = {}) {
   }
   renameSync(temp, OUT);
   rmSync(old, { recursive: true, force: true });
-  if (!quiet) console.log(`nkledger: built ${Object.keys(entryPoints).join(', ')} into dist/`);
+  if (!quiet) console.log(`nkledger: built the process, ${commands.length} command bundles, run.js and the worker entries into dist/`);
 }
 
 if (process.argv[1] && fileURLToPath(import.meta.url) === resolve(process.argv[1])) {

@@ -1,12 +1,9 @@
-/** The `nkledger` process: run the CLI (run.ts) on the process's arguments and streams, and exit with its code. */
+/**
+ * The `nkledger` process from the sources (`npm run dev`): run the CLI (run.ts) on the process's arguments and
+ * streams, and exit with its code. The build replaces this entry with one that loads only the bundle of the
+ * command being run (scripts/build.js).
+ */
+import { runProcess } from './process-main.ts';
 import { run } from './run.ts';
 
-// `nkledger ... | head` closes the pipe early: stop quietly, as other command-line tools do, not with a stack trace.
-for (const stream of [process.stdout, process.stderr]) {
-  stream.on('error', (err: NodeJS.ErrnoException) => {
-    if (err.code === 'EPIPE') process.exit(0);
-    throw err;
-  });
-}
-
-process.exitCode = await run(process.argv.slice(2));
+await runProcess(run);

@@ -7,17 +7,12 @@
  * placeholders with their one-line summary, for the top-level help and commander's "did you mean".
  */
 import { Command, CommanderError } from 'commander';
-import { COMMANDS, findCommand } from './commands/index.ts';
+import { commandName } from './command-name.ts';
+import { COMMANDS, findCommand, loadCommand } from './commands/index.ts';
 import { reportFailure } from './failure.ts';
 import { processIo, setExitCode, withIo, type CliIo } from './io.ts';
 
 export const VERSION = '0.1.0';
-
-/** The command argv names: the first word that is not an option (`help CMD` names CMD). */
-function commandName(argv: string[]): string | undefined {
-  const words = argv.filter((a) => !a.startsWith('-'));
-  return words[0] === 'help' ? words[1] : words[0];
-}
 
 async function buildProgram(argv: string[], io: CliIo): Promise<Command> {
   const program = new Command();
@@ -36,7 +31,7 @@ async function buildProgram(argv: string[], io: CliIo): Promise<Command> {
   const wanted = findCommand(commandName(argv));
   for (const entry of COMMANDS) {
     if (entry === wanted) {
-      (await entry.load()).register(program);
+      (await loadCommand(entry)).register(program);
       program.commands[program.commands.length - 1].summary(entry.summary);
     } else {
       program.command(entry.name).summary(entry.summary);

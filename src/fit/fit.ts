@@ -14,6 +14,7 @@ import { breuschPagan, chi2Survival, runsTest } from './tests.ts';
 import type { FitDiagnostic, FitOptions, FitReport, ParameterReport } from './types.ts';
 
 export type { FitDiagnostic, FitOptions, FitReport, FitTarget } from './types.ts';
+export { evaluateFitReport } from './evaluate.ts';
 
 /** Default cap on Levenberg-Marquardt iterations per start. */
 export const DEFAULT_MAX_ITERATIONS = 300;
@@ -445,11 +446,4 @@ function singularError(solution: FitSolution, err: SingularCovariance): Numerica
       : `${list} cannot be determined separately by these data: fix one of them at a known value, or use fewer terms`,
     err.kind === 'dead' ? 'parameter-undetermined' : 'parameters-degenerate',
   );
-}
-
-/** n and k of a fitted model at the given wavelengths (nm). Outside report.range_nm the model is extrapolated. */
-export function evaluateFitReport(report: FitReport, wavelengthsNm: number[]): { n: number[]; k: number[] } {
-  const model = buildModel(report.model, { terms: report.options.terms, urbach: report.options.urbach });
-  const values = Object.fromEntries(Object.entries(report.parameters).map(([name, p]) => [name, p.value]));
-  return model.nk(wavelengthsNm, values);
 }

@@ -5,9 +5,8 @@
 import Database from 'better-sqlite3';
 import { drizzle, type BetterSQLite3Database } from 'drizzle-orm/better-sqlite3';
 import { migrate } from 'drizzle-orm/better-sqlite3/migrator';
-import { readMigrationFiles } from 'drizzle-orm/migrator';
-import { accessSync, constants, existsSync, statSync } from 'node:fs';
-import { dirname, resolve } from 'node:path';
+import { accessSync, constants, existsSync, readFileSync, statSync } from 'node:fs';
+import { dirname, join, resolve } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { EnvironmentError, InputError } from '../errors.ts';
 import { ensureGenesis } from './chain.ts';
@@ -142,8 +141,13 @@ export function stillSameFile(registry: Registry): boolean {
   }
 }
 
+/**
+ * Time stamp of the newest committed migration, from drizzle's journal (the `when` that drizzle's migrator
+ * reads as `folderMillis`): one small JSON file, not every SQL file read and hashed as `readMigrationFiles` does.
+ */
 function newestMigration(): number {
-  return Math.max(...readMigrationFiles({ migrationsFolder: MIGRATIONS_FOLDER }).map((m) => m.folderMillis));
+  const journal = JSON.parse(readFileSync(join(MIGRATIONS_FOLDER, 'meta', '_journal.json'), 'utf8')) as { entries: { when: number }[] };
+  return journal.entries.reduce((newest, entry) => Math.max(newest, entry.when), 0);
 }
 
 /** A read-only registry cannot be migrated: refuse one whose schema is older than this nkledger. */
@@ -167,6 +171,10 @@ function requireCurrentSchema(sqlite: Database.Database, file: string): void {
 function applyMigrations(db: BetterSQLite3Database, sqlite: Database.Database): void {
   const config = { migrationsFolder: MIGRATIONS_FOLDER };
   const newest = newestMigration();
+  // Up to date (drizzle's own test: the newest applied time stamp is not older than the newest migration):
+  // nothing to apply, so skip drizzle's migrator, which reads and hashes every migration file and takes the
+  // write lock for an empty transaction on every open. A fresh file (no migration table yet) migrates.
+  if (appliedUpTo(sqlite, true) >= newest) return;
   for (let attempt = 1; ; attempt++) {
     try {
       migrate(db, config);
@@ -179,7 +187,12 @@ function applyMigrations(db: BetterSQLite3Database, sqlite: Database.Database): 
   }
 }
 
-function appliedUpTo(sqlite: Database.Database): number {
+/** The newest applied migration's time stamp; with `missingIsZero`, 0 when the migration table does not exist yet. */
+function appliedUpTo(sqlite: Database.Database, missingIsZero = false): number {
+  if (missingIsZero) {
+    const table = sqlite.prepare("SELECT 1 FROM sqlite_master WHERE type = 'table' AND name = '__drizzle_migrations'").get();
+    if (!table) return 0;
+  }
   const row = sqlite.prepare('SELECT MAX(created_at) AS at FROM __drizzle_migrations').get() as { at: number | null };
   return Number(row.at ?? 0);
 }

@@ -4,7 +4,8 @@
  * measured range (evaluateTable). Outside, the refusal names the range.
  */
 import { InputError } from '../errors.ts';
-import { evaluateFitReport, type FitReport } from '../fit/fit.ts';
+import { evaluateFitReport } from '../fit/evaluate.ts';
+import type { FitReport } from '../fit/types.ts';
 import type { InterpolationMethod } from '../optics/interpolate.ts';
 import { evaluateTable } from '../optics/table-eval.ts';
 import type { Registry } from '../registry/open.ts';

@@ -7,7 +7,7 @@ import { existsSync } from 'node:fs';
 import { readFile, stat } from 'node:fs/promises';
 import { InputError } from '../errors.ts';
 import { checkSize } from '../io/decode.ts';
-import { DEFAULT_MAX_BYTES, parseNkTable, type ImportOptions, type ImportResult } from '../io/parse-table.ts';
+import { DEFAULT_MAX_BYTES, type ImportOptions, type ImportResult } from '../io/import-types.ts';
 import { parseRef } from '../registry/refs.ts';
 
 export const STDIN_SOURCE = '-';
@@ -32,6 +32,9 @@ export function isRegistrySource(source: string): boolean {
 /** Read and import a table from a file path or "-" (stdin). Errors are InputErrors naming the source. */
 export async function loadTable(source: string, options: ImportOptions = {}, stdin?: StdinStream): Promise<ImportResult> {
   const { bytes, file, maxBytes } = await readSource(source, options, stdin);
+  // Loaded here, not at the top: a command given a registry ref (`nkledger eval slug@2`) never loads the
+  // import pipeline and papaparse, a noticeable share of its start-up.
+  const { parseNkTable } = await import('../io/parse-table.ts');
   return parseNkTable(bytes, { ...options, file, maxBytes });
 }
 

@@ -7,7 +7,8 @@
 import { createHash } from 'node:crypto';
 import { dirname, resolve as resolvePath } from 'node:path';
 import { InputError, NotFoundError } from '../errors.ts';
-import { evaluateFitReport, type FitReport } from '../fit/fit.ts';
+import { evaluateFitReport } from '../fit/evaluate.ts';
+import type { FitReport } from '../fit/types.ts';
 import { parseNkTable } from '../io/parse-table.ts';
 import { parseOptionNumber } from '../io/numbers.ts';
 import { buildModel } from '../models/catalogue.ts';

@@ -4,6 +4,7 @@
  * (Closed pipes: pipe.test.ts; concurrent processes: registry-cli.test.ts and test/reliability.)
  */
 import { spawnSync } from 'node:child_process';
+import { readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
 import { COMMANDS } from '../../src/cli/commands/index.ts';
 import { ROOT } from './run-cli.ts';
@@ -40,21 +41,28 @@ describe('nkledger as a process', () => {
     expect(r.stdout).toBe('0.1.0\n');
   });
 
-  it('every command loads from the build and shows its help (one process: dist/run.js)', () => {
+  it('every command loads from the build and shows its help: from its own bundle and from dist/run.js (one process)', () => {
+    // The process (dist/nkledger.js) imports the bundle its table names for the command; run.js holds them all, split.
+    const table = JSON.parse(readFileSync(`${ROOT}dist/nkledger.js`, 'utf8').match(/BUNDLES = (\{.*\});/)![1]) as Record<string, string>;
+    expect(Object.keys(table)).toEqual(COMMANDS.map((c) => c.name));
+    const bundles = COMMANDS.map((c) => ({ name: c.name, file: `${ROOT}dist/${table[c.name]}` }));
     const script = `
-      import { run } from ${JSON.stringify(`${ROOT}dist/run.js`)};
       const out = [];
-      for (const name of ${JSON.stringify(COMMANDS.map((c) => c.name))}) {
+      const runs = [...${JSON.stringify(bundles)}, ...${JSON.stringify(COMMANDS.map((c) => ({ name: c.name, file: `${ROOT}dist/run.js` })))}];
+      for (const { name, file } of runs) {
+        const { run } = await import(file);
         let text = '';
         const code = await run([name, '--help'], { stdout: { write: (s) => (text += s) }, stderr: { write: (s) => (text += s) } });
-        out.push({ name, code, usage: text.split('\\n')[0] });
+        out.push({ name, file, code, usage: text.split('\\n')[0] });
       }
       process.stdout.write(JSON.stringify(out));`;
     const r = spawnSync(process.execPath, ['--input-type=module', '-e', script], { cwd: ROOT, encoding: 'utf8', timeout: 60_000 });
     expect(r.stderr).toBe('');
-    for (const { name, code, usage } of JSON.parse(r.stdout)) {
-      expect(code, name).toBe(0);
-      expect(usage).toMatch(new RegExp(`^Usage: nkledger ${name} `));
+    const out = JSON.parse(r.stdout) as { name: string; file: string; code: number; usage: string }[];
+    expect(out).toHaveLength(2 * COMMANDS.length);
+    for (const { name, file, code, usage } of out) {
+      expect(code, `${name} from ${file}`).toBe(0);
+      expect(usage, `${name} from ${file}`).toMatch(new RegExp(`^Usage: nkledger ${name} `));
     }
   });
 });

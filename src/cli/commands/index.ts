@@ -50,3 +50,18 @@ export const COMMANDS: CommandEntry[] = [
 export function findCommand(name: string | undefined): CommandEntry | undefined {
   return COMMANDS.find((c) => c.name === name);
 }
+
+const preloaded = new Map<string, CommandModule>();
+
+/**
+ * A command module already loaded, to be used instead of its entry's `load`: each per-command bundle of the
+ * build (scripts/build.js) holds its one command this way, so that it never imports another file.
+ */
+export function preloadCommand(name: string, module: CommandModule): void {
+  preloaded.set(name, module);
+}
+
+/** The module of `entry`: the preloaded one that registers its command, else loaded by `entry.load`. */
+export async function loadCommand(entry: CommandEntry): Promise<CommandModule> {
+  return preloaded.get(entry.name) ?? entry.load();
+}
