@@ -14,8 +14,8 @@ import type { ApiEnv } from './auth.ts';
 import { ComputePool, type ComputePoolOptions } from '../service/compute-pool.ts';
 
 export interface ServerOptions extends Omit<AppOptions, 'loopback' | 'compute'> {
-  /** Size of the compute pool (worker threads for fits and KK checks) and of its queue. */
-  compute?: ComputePoolOptions;
+  /** Size of the compute pool (worker threads for fits and KK checks) and of its queue, or the pool itself (closed with the server). */
+  compute?: ComputePoolOptions | ComputePool;
   /** Address to bind; default 127.0.0.1. */
   host?: string;
   /** TCP port; 0 picks a free one. Default 8787. */
@@ -73,7 +73,7 @@ function answerClientError(err: NodeJS.ErrnoException, socket: Duplex): void {
 export function startServer(options: ServerOptions): Promise<RunningServer> {
   const host = options.host ?? DEFAULT_HOST;
   const port = options.port ?? DEFAULT_PORT;
-  const compute = new ComputePool(options.compute);
+  const compute = options.compute instanceof ComputePool ? options.compute : new ComputePool(options.compute);
   const app = createApp({ ...options, compute, loopback: isLoopbackHost(host) });
   options.extend?.(app);
   return new Promise((resolve, reject) => {

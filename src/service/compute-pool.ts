@@ -6,7 +6,7 @@
  */
 import { availableParallelism } from 'node:os';
 import { Piscina } from 'piscina';
-import { BusyError } from '../errors.ts';
+import { BusyError, InputError } from '../errors.ts';
 import { unwrapOutcome, type ComputeOutcome, type ComputeResult, type ComputeTask } from './compute.ts';
 
 export interface ComputePoolOptions {
@@ -35,11 +35,24 @@ export function computeWorkerEntry(): string {
   return worker.endsWith('.ts') ? new URL('./compute-worker-tsx.mjs', import.meta.url).href : worker;
 }
 
+/**
+ * The task was stopped because whoever asked for it no longer waits (the HTTP client disconnected): a
+ * running task's thread is ended, a waiting one leaves the queue. Not a fault; nobody is left to answer.
+ */
+export class TaskAbandonedError extends InputError {
+  constructor() {
+    super('request-abandoned', 'the request was cancelled before its fit or check finished (the client went away); its work was stopped', {}, 400);
+    this.name = 'TaskAbandonedError';
+  }
+}
+
 export class ComputePool {
   readonly threads: number;
   readonly maxQueue: number;
   private readonly pool: Piscina;
   private inFlight = 0;
+  /** Tasks stopped because their requester went away (see `run`). */
+  abandoned = 0;
 
   constructor(options: ComputePoolOptions = {}) {
     this.threads = options.threads ?? defaultComputeThreads();
@@ -64,8 +77,12 @@ export class ComputePool {
     return this.inFlight;
   }
 
-  /** Run a task on a worker thread; BusyError when all threads are busy and the queue is full. */
-  async run<T extends ComputeTask>(task: T): Promise<ComputeResult<T>> {
+  /**
+   * Run a task on a worker thread; BusyError when all threads are busy and the queue is full. When `signal`
+   * aborts (the client disconnected), the task leaves the queue or its thread is ended (piscina replaces it),
+   * and the call rejects with TaskAbandonedError: a fit nobody waits for must not hold a thread for minutes.
+   */
+  async run<T extends ComputeTask>(task: T, signal?: AbortSignal): Promise<ComputeResult<T>> {
     if (this.inFlight >= this.threads + this.maxQueue) {
       throw new BusyError(
         `the server is busy with ${this.inFlight} fits and checks (${this.threads} compute threads, ${this.maxQueue} waiting at most); try again shortly`,
@@ -74,7 +91,13 @@ export class ComputePool {
     }
     this.inFlight++;
     try {
-      return unwrapOutcome<ComputeResult<T>>((await this.pool.run(task)) as ComputeOutcome);
+      return unwrapOutcome<ComputeResult<T>>((await this.pool.run(task, { signal })) as ComputeOutcome);
+    } catch (err) {
+      if (signal?.aborted && (err as Error).name === 'AbortError') {
+        this.abandoned++;
+        throw new TaskAbandonedError();
+      }
+      throw err;
     } finally {
       this.inFlight--;
     }

@@ -156,7 +156,7 @@ export function registerStackRoute(app: Hono<ApiEnv>, ctx: RouteContext): void {
     }
     const lock = lockValue === undefined ? undefined : { lockfile: parseLockfile(lockValue, `${BODY} lock`), file: 'the posted lock' };
     const resolved = await resolveStackDesign(design, { registry: ctx.registry, designFile: BODY, designText: null, allowFiles: false, lock });
-    const report = await ctx.compute.run({ kind: 'stack', design: resolved, options });
+    const report = await ctx.compute.run({ kind: 'stack', design: resolved, options }, c.req.raw.signal);
     c.header('cache-control', 'no-store');
     if (svg) return c.body(renderStackPlot(report), 200, { 'content-type': 'image/svg+xml' });
     if (accept && !/json|\*\/\*/.test(accept))

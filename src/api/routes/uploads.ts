@@ -147,8 +147,8 @@ export function registerUploadRoutes(app: Hono<ApiEnv>, ctx: RouteContext): void
       fit: fit ? { ...fitOptionsFromFields(fitFields), model: fit } : undefined,
       kk,
     };
-    // Parse, fit and KK on a worker thread; only the write transaction runs here.
-    const prepared = await ctx.compute.run({ kind: 'measurement', input });
+    // Parse, fit and KK on a worker thread (stopped if the client disconnects); only the write transaction runs here.
+    const prepared = await ctx.compute.run({ kind: 'measurement', input }, c.req.raw.signal);
     const result = storeMeasurement(ctx.registry, { slug, file: upload.file, provenance }, prepared, actor);
     c.header('location', versionUrl(result.ref));
     return c.json(result, 201);
@@ -158,7 +158,10 @@ export function registerUploadRoutes(app: Hono<ApiEnv>, ctx: RouteContext): void
     const upload = await readTableUpload(c);
     const { model, ...fitFields } = parseInput(fitOnlyFields, upload.fields, upload.fieldsIn, 400);
     const fitOptions = { ...fitOptionsFromFields(fitFields), model };
-    const result = await ctx.compute.run({ kind: 'fit', bytes: upload.bytes, importOptions: upload.importOptions, fit: fitOptions });
+    const result = await ctx.compute.run(
+      { kind: 'fit', bytes: upload.bytes, importOptions: upload.importOptions, fit: fitOptions },
+      c.req.raw.signal,
+    );
     c.header('cache-control', 'no-store');
     return c.json(result);
   });
@@ -166,7 +169,10 @@ export function registerUploadRoutes(app: Hono<ApiEnv>, ctx: RouteContext): void
   app.post('/api/v1/kk', reader, async (c) => {
     const upload = await readTableUpload(c);
     const { tolerance } = parseInput(kkFields, upload.fields, upload.fieldsIn, 400);
-    const result = await ctx.compute.run({ kind: 'kk', bytes: upload.bytes, importOptions: upload.importOptions, kk: { tolerance } });
+    const result = await ctx.compute.run(
+      { kind: 'kk', bytes: upload.bytes, importOptions: upload.importOptions, kk: { tolerance } },
+      c.req.raw.signal,
+    );
     c.header('cache-control', 'no-store');
     return c.json(result);
   });
