@@ -7,6 +7,7 @@ import { checkSlug, formatRef } from '../registry/refs.ts';
 import { auditLog, materials, materialVersions } from '../registry/schema.ts';
 import type { AuditEntry, MaterialRecord, VersionRecord } from '../registry/types.ts';
 import { checkActor } from './actor.ts';
+import { hiddenLookAlike } from './look-alike.ts';
 
 export interface NewMaterial {
   slug: string;
@@ -44,7 +45,37 @@ function checkTags(given: string[]): string[] {
   return tags;
 }
 
-/** Create a material (no versions yet). Refuses a taken slug with ConflictError. */
+/**
+ * Refuse a slug or display name that reads like another material's but is not the same text (confusable
+ * letters, other Unicode forms, width variants, invisible characters; look-alike.ts): a lab that finds two
+ * "SiO2" entries cannot tell which one its designs pin. `except` is the material being renamed.
+ */
+function refuseLookAlikes(registry: Registry, slug: string | undefined, name: string | undefined, except?: string): void {
+  const others = registry.db.select({ slug: materials.slug, name: materials.name }).from(materials).all();
+  for (const other of others) {
+    if (other.slug === except) continue;
+    if (slug !== undefined && hiddenLookAlike(slug, other.slug)) {
+      throw new InputError(
+        'material-look-alike',
+        `the slug "${slug}" reads like that of the existing material ${other.slug} (they differ only in look-alike characters); choose a slug that reads differently`,
+        {},
+        409,
+        { option: 'slug', value: slug },
+      );
+    }
+    if (name !== undefined && hiddenLookAlike(name, other.name)) {
+      throw new InputError(
+        'material-look-alike',
+        `the name ${JSON.stringify(name)} reads like ${JSON.stringify(other.name)}, the name of ${other.slug}, but is not the same text (look-alike letters, another Unicode form or width, or invisible characters); use the same name or one that reads differently`,
+        {},
+        409,
+        { option: 'name', value: name },
+      );
+    }
+  }
+}
+
+/** Create a material (no versions yet). Refuses a taken slug with ConflictError, and a look-alike slug or name. */
 export function createMaterial(registry: Registry, input: NewMaterial, actor: string): MaterialRecord {
   const who = checkActor(actor);
   const slug = checkSlug(input.slug);
@@ -54,6 +85,7 @@ export function createMaterial(registry: Registry, input: NewMaterial, actor: st
   return writeTransaction(registry, () => {
     const taken = registry.db.select({ id: materials.id }).from(materials).where(eq(materials.slug, slug)).get();
     if (taken) throw new ConflictError(`material "${slug}" already exists`, 'material-exists');
+    refuseLookAlikes(registry, slug, name);
     const row = registry.db
       .insert(materials)
       .values({ slug, name, description, tags: JSON.stringify(tags), createdBy: who, createdAt: nowIso() })
@@ -87,6 +119,7 @@ export function editMaterial(registry: Registry, slugText: string, edit: Materia
   const added = checkTags(edit.addTags ?? []);
   return writeTransaction(registry, () => {
     const row = findMaterial(registry, slug);
+    if (name !== undefined) refuseLookAlikes(registry, undefined, name, slug);
     const before = { name: row.name, description: row.description, tags: JSON.parse(row.tags) as string[] };
     const removed = new Set((edit.removeTags ?? []).map((t) => t.trim()));
     const unknown = [...removed].find((t) => !(edit.tags ?? before.tags).includes(t) && !added.includes(t));
