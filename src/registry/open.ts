@@ -24,7 +24,7 @@ export interface Registry {
   readonly path: string;
   readonly db: BetterSQLite3Database;
   readonly sqlite: Database.Database;
-  /** Opened read-only (asked for, or the file is not writable): reads work, writes are refused. */
+  /** Opened read-only (asked for, or the file or its folder is not writable): reads work, writes are refused. */
   readonly readonly: boolean;
   /** True when this open created the database file. */
   readonly created: boolean;
@@ -97,10 +97,12 @@ export function openRegistry(path?: string, options: OpenOptions = {}): Registry
       { file },
     );
   }
-  const readonly = options.readonly === true || (exists && !memory && !writable(file));
+  // A file in a folder that may not be written cannot be written either: SQLite must create its -wal/-shm
+  // (or -journal) files beside it.
+  const readonly = options.readonly === true || (exists && !memory && (!writable(file) || !writable(dirname(resolve(file)))));
   let sqlite: Database.Database;
   try {
-    sqlite = new Database(file, readonly ? { readonly: true, fileMustExist: true } : {});
+    sqlite = readonly ? openReadOnly(file) : new Database(file);
   } catch (err) {
     throw environmentFault(err, file) ?? new InputError('registry-open', `cannot open the registry database: ${(err as Error).message}`, { file });
   }
@@ -124,6 +126,44 @@ export function openRegistry(path?: string, options: OpenOptions = {}): Registry
     }
     throw environmentFault(err, file) ?? err;
   }
+}
+
+/**
+ * Open read-only. A registry in WAL mode is read through its -shm index file, which SQLite creates if it does
+ * not exist: in a folder that may not be written (a read-only share, a mounted snapshot) that fails with
+ * SQLITE_READONLY_DIRECTORY or _CANTOPEN, and SQLite offers no other way in through better-sqlite3 (no URI
+ * `immutable` option in its build). Then, when no -wal file holds changes the main file lacks, the file's
+ * bytes are read whole and opened as an in-memory copy (marked as rollback-journal mode in the copy's header,
+ * which in-memory databases need); nobody can commit to the file meanwhile, since a writer would need that
+ * folder too. With a non-empty -wal the copy would miss its changes: refused, saying why.
+ */
+function openReadOnly(file: string): Database.Database {
+  const sqlite = new Database(file, { readonly: true, fileMustExist: true });
+  try {
+    sqlite.prepare('SELECT 1 FROM sqlite_master LIMIT 1').get(); // the first read opens the WAL index
+    return sqlite;
+  } catch (err) {
+    sqlite.close();
+    const code = (err as { code?: string }).code;
+    if ((code !== 'SQLITE_READONLY_DIRECTORY' && code !== 'SQLITE_CANTOPEN') || writable(dirname(resolve(file)))) throw err;
+  }
+  let walBytes = 0;
+  try {
+    walBytes = statSync(`${file}-wal`).size;
+  } catch {
+    // no -wal file: everything committed is in the main file
+  }
+  if (walBytes > 0) {
+    throw new EnvironmentError(
+      'registry-read-only',
+      `registry ${file}: its folder is read-only and ${file}-wal holds changes not yet in the main file, which SQLite cannot read without creating ${file}-shm there; ` +
+        'open it once from an account that may write the folder (closing it folds the changes in), or copy the registry with its -wal file elsewhere (nothing was written)',
+    );
+  }
+  const bytes = readFileSync(file);
+  // Header bytes 18 and 19 (file format write and read versions, sqlite.org/fileformat.html §1.3.4): 2 = WAL, 1 = rollback.
+  if (bytes.length >= 100 && bytes[18] === 2 && bytes[19] === 2) bytes[18] = bytes[19] = 1;
+  return new Database(bytes, { readonly: true });
 }
 
 /**

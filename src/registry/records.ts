@@ -45,7 +45,10 @@ export function nowIso(): string {
  */
 export function writeTransaction<T>(registry: Registry, write: () => T): T {
   if (registry.readonly) {
-    throw new EnvironmentError('registry-read-only', `registry ${registry.path} is open read-only (the file is not writable); nothing was written`);
+    throw new EnvironmentError(
+      'registry-read-only',
+      `registry ${registry.path} is open read-only (asked for, or the file or its folder is not writable); nothing was written`,
+    );
   }
   if (!stillSameFile(registry)) {
     throw new EnvironmentError(

@@ -7,7 +7,19 @@
  */
 import Database from 'better-sqlite3';
 import { execFile } from 'node:child_process';
-import { chmodSync, copyFileSync, existsSync, mkdtempSync, openSync, readFileSync, renameSync, rmSync, writeSync, closeSync } from 'node:fs';
+import {
+  chmodSync,
+  copyFileSync,
+  existsSync,
+  mkdirSync,
+  mkdtempSync,
+  openSync,
+  readFileSync,
+  renameSync,
+  rmSync,
+  writeSync,
+  closeSync,
+} from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
@@ -159,6 +171,53 @@ describe('a read-only registry file', () => {
     expect(write.code).toBe(4);
     expect(write.err).toMatch(/read-only.*nothing was written \[registry-read-only\]/);
     expect(write.err).not.toMatch(/internal error|\n\s+at /);
+  });
+
+  it('in WAL mode in a folder the user may not write: reads exit 0, writes exit 4; a -wal with changes there is refused clearly (exit 4)', async (ctx) => {
+    const uid = process.getuid?.() === 0 ? 65534 : undefined;
+    if (uid === undefined) return ctx.skip('needs root, to run the CLI as an unprivileged user who may not write the folder');
+    const probe = await run(['--version'], { uid });
+    if (probe.code !== 0) return ctx.skip(`cannot run the CLI as uid ${uid}: ${probe.err.slice(0, 200)}`);
+    const folder = join(dir, 'read-only-folder');
+    mkdirSync(folder, { mode: 0o755 }); // owned by root: uid 65534 may read, not create files
+    const path = join(folder, 'wal.db');
+    copyFileSync(base, path);
+    const wal = new Database(path);
+    wal.pragma('journal_mode = WAL'); // closing checkpoints and removes -wal and -shm: only the main file stays
+    wal.close();
+    chmodSync(path, 0o644);
+    expect(existsSync(`${path}-shm`)).toBe(false);
+    const [show, evaluated, verified, write] = await Promise.all([
+      run(['show', 'film@1', '--db', path], { uid }),
+      run(['eval', 'film@1', '--at', '500', '--json', '--db', path], { uid }),
+      run(['verify', '--db', path], { uid }),
+      run(['approve', 'film@2', '--db', path, '--as', 'bob'], { uid }),
+    ]);
+    expect(show.code, show.err).toBe(0);
+    expect(show.out).toMatch(/film@1\s+approved/);
+    expect(evaluated.code, evaluated.err).toBe(0);
+    expect(JSON.parse(evaluated.out)).toMatchObject({ ref: 'film@1', wavelength_nm: [500] });
+    expect(verified.code, verified.err).toBe(0);
+    expect(write.code).toBe(4);
+    expect(write.err).toMatch(/read-only.*folder.*nothing was written \[registry-read-only\]/);
+    expect(existsSync(`${path}-shm`) || existsSync(`${path}-wal`)).toBe(false);
+
+    // A writer's -wal copied along without its -shm: the main file alone would be stale, so it is not served.
+    const live = join(dir, 'live.db');
+    copyFileSync(base, live);
+    const writer = new Database(live);
+    try {
+      writer.pragma('journal_mode = WAL');
+      writer.pragma('wal_autocheckpoint = 0');
+      writer.exec('CREATE TABLE scratch (x); INSERT INTO scratch VALUES (1)');
+      copyFileSync(live, join(folder, 'stale.db'));
+      copyFileSync(`${live}-wal`, join(folder, 'stale.db-wal'));
+    } finally {
+      writer.close();
+    }
+    const stale = await run(['show', 'film@1', '--db', join(folder, 'stale.db')], { uid });
+    expect(stale.code).toBe(4);
+    expect(stale.err).toMatch(/stale\.db-wal holds changes not yet in the main file.*nothing was written\) \[registry-read-only\]/);
   });
 
   it('over HTTP: reads 200, writes 503 registry-read-only', async () => {
