@@ -7,6 +7,10 @@ export default defineConfig({
     include: ['test/**/*.test.ts'],
     exclude: ['test/reliability/**', '**/node_modules/**'],
     globalSetup: ['test/build-before-tests.ts'],
+    // Test files share their worker process's module cache instead of re-importing the sources for each of the
+    // ~80 files (about half the wall time of a run on 2 cores). Safe because no test mocks modules, stubs
+    // globals or leaves process.env changed; the one chdir (test/docs) is undone in a finally.
+    isolate: false,
     testTimeout: 60_000,
     hookTimeout: 60_000,
   },

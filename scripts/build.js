@@ -17,7 +17,8 @@
  * and before the tests (vitest globalSetup), so the bin never runs older code than the sources under test.
  * Plain JavaScript so it needs nothing but esbuild; a few seconds.
  */
-import { readdirSync, readFileSync, renameSync, rmSync } from 'node:fs';
+import { createHash } from 'node:crypto';
+import { existsSync, readdirSync, readFileSync, renameSync, rmSync, writeFileSync } from 'node:fs';
 import { dirname, join, relative, resolve } from 'node:path';
 import { fileURLToPath } from 'node:url';
 
@@ -124,7 +125,47 @@ await runProcess(async (argv) => (await import(bundle)).run(argv));
 `;
 }
 
-export async function build({ quiet = false } = {}) {
+/** The inputs of a build: every file under src/, this script, the package manifests (bundled dependency versions) and tsconfig.json (read by esbuild). */
+function inputsDigest() {
+  const hash = createHash('sha256');
+  const files = [
+    ...filesUnder(SRC),
+    fileURLToPath(import.meta.url),
+    ...['package.json', 'package-lock.json', 'tsconfig.json'].map((f) => join(ROOT, f)),
+  ];
+  for (const file of files.sort()) {
+    hash.update(`${relative(ROOT, file)}\0`);
+    try {
+      hash.update(readFileSync(file));
+    } catch {
+      hash.update('(missing)');
+    }
+    hash.update('\0');
+  }
+  return hash.digest('hex');
+}
+
+function filesUnder(dir) {
+  return readdirSync(dir, { withFileTypes: true }).flatMap((e) => (e.isDirectory() ? filesUnder(join(dir, e.name)) : [join(dir, e.name)]));
+}
+
+const DIGEST_FILE = 'inputs.sha256';
+
+/**
+ * Build dist/. With `ifChanged`, skip the build when dist/ was built from exactly the current inputs (the
+ * digest of every source file, this script and the package manifests is kept in dist/inputs.sha256): the
+ * tests' globalSetup uses it, so a test run after `npm install` or an earlier run does not rebuild the same
+ * bundles, and a changed source is always rebuilt.
+ */
+export async function build({ quiet = false, ifChanged = false } = {}) {
+  const digest = inputsDigest();
+  if (ifChanged) {
+    try {
+      if (readFileSync(join(OUT, DIGEST_FILE), 'utf8') === digest && existsSync(join(OUT, 'nkledger.js'))) return;
+    } catch {
+      // no digest: build
+    }
+  }
   let esbuild;
   try {
     esbuild = await import('esbuild');
@@ -178,6 +219,7 @@ export async function build({ quiet = false } = {}) {
     rmSync(temp, { recursive: true, force: true });
     throw err;
   }
+  writeFileSync(join(temp, DIGEST_FILE), digest);
   // Swap in the new tree whole, so a command started during a build sees the old tree or the new one.
   const old = join(ROOT, `dist.old-${process.pid}`);
   try {
@@ -191,7 +233,7 @@ export async function build({ quiet = false } = {}) {
 }
 
 if (process.argv[1] && fileURLToPath(import.meta.url) === resolve(process.argv[1])) {
-  build().catch((err) => {
+  build({ ifChanged: process.argv.includes('--if-changed') }).catch((err) => {
     console.error(`nkledger build failed: ${err.message}`);
     process.exit(1);
   });
