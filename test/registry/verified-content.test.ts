@@ -1,0 +1,48 @@
+/**
+ * A version's content is served only after its SHA-256 is recomputed (verifiedContentOf). The stored text is
+ * the content's canonical JSON, so the hash is taken over it as stored; content rewritten outside nkledger
+ * is refused, and content stored as other but equivalent JSON text is still recognised by re-serializing it.
+ */
+import { afterEach, beforeEach, describe, expect, it } from 'vitest';
+import { IntegrityError } from '../../src/errors.ts';
+import { canonicalJson } from '../../src/registry/canonical.ts';
+import { contentOf, findMaterial, findVersion, verifiedContentOf } from '../../src/registry/records.ts';
+import { createMaterial, importVersion } from '../../src/service/registry.ts';
+import { cauchyTable, tempRegistry, type TempRegistry } from './helpers.ts';
+
+let t: TempRegistry;
+beforeEach(() => {
+  t = tempRegistry();
+  createMaterial(t.registry, { slug: 'film', name: 'Film' }, 'ada');
+  importVersion(t.registry, { slug: 'film', table: cauchyTable() }, 'ada');
+});
+afterEach(() => t.cleanup());
+
+const row = () => findVersion(t.registry, findMaterial(t.registry, 'film'), 1);
+
+/** Rewrite the stored content text, as someone with sqlite3 could after dropping the immutability trigger. */
+function rewrite(text: string): void {
+  t.registry.sqlite.exec('DROP TRIGGER material_versions_content_immutable');
+  t.registry.sqlite.prepare('UPDATE material_versions SET content = ? WHERE number = 1').run(text);
+}
+
+describe('verified content', () => {
+  it('is stored as its canonical JSON and served as it was stored', () => {
+    const stored = row();
+    expect(stored.content).toBe(canonicalJson(contentOf(stored)));
+    expect(verifiedContentOf(stored, 'film@1')).toEqual(contentOf(stored));
+  });
+
+  it('rewritten with the same meaning in other JSON text: still recognised', () => {
+    const content = contentOf(row());
+    rewrite(JSON.stringify(content, null, 2));
+    expect(verifiedContentOf(row(), 'film@1')).toEqual(content);
+  });
+
+  it('changed outside nkledger: refused', () => {
+    const content = contentOf(row());
+    content.table!.n[0] += 1e-6;
+    rewrite(canonicalJson(content));
+    expect(() => verifiedContentOf(row(), 'film@1')).toThrow(IntegrityError);
+  });
+});
