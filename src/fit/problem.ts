@@ -5,7 +5,7 @@
  */
 import { InputError } from '../errors.ts';
 import type { ModelQuantity, ModelValues } from '../models/catalogue.ts';
-import { guessData } from '../models/grid.ts';
+import { guessData } from '../models/guess-data.ts';
 import type { GuessData, SpectralGrid } from '../models/types.ts';
 import type { NkTable } from '../table.ts';
 import type { FitTarget } from './types.ts';

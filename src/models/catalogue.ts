@@ -9,7 +9,6 @@ import { HC_EV_NM } from '../optics/units.ts';
 import { cauchy } from './cauchy.ts';
 import { drude } from './drude.ts';
 import { clamp, spectralGrid } from './grid.ts';
-import { linearLeastSquares } from './least-squares.ts';
 import { lorentz } from './lorentz.ts';
 import { sellmeier } from './sellmeier.ts';
 import { taucLorentz } from './tauc-lorentz.ts';
@@ -268,7 +267,7 @@ export function buildModel(spec: string, options: ModelOptions = {}): Dispersion
       });
       if (solveInf) columns.push([...data.eps1.map(() => 1), ...data.eps2.map(() => 0)]);
       const y = [...data.eps1.map((x, i) => x - base.re[i]), ...data.eps2.map((x, i) => x - base.im[i])];
-      const coefficients = linearLeastSquares(columns, y);
+      const coefficients = data.leastSquares(columns, y);
       const negative = free.findIndex((_, j) => !(coefficients[j] > 0));
       free.forEach((a, j) => {
         if (coefficients[j] > 0) values[a.index] = clamp(a.power === 2 ? Math.sqrt(coefficients[j]) : coefficients[j], parameters[a.index].bounds);

@@ -5,7 +5,6 @@
  * n and k are independent empirical functions, so the model is NOT Kramers-Kronig consistent.
  */
 import { clamp } from './grid.ts';
-import { linearLeastSquares } from './least-squares.ts';
 import type { GuessData, ModelTerm, ParameterSpec, SpectralGrid, TermOptions, TermOutput } from './types.ts';
 import { maxOf } from '../optics/extremes.ts';
 
@@ -71,7 +70,7 @@ function evaluate(grid: SpectralGrid, p: Float64Array, options: TermOptions, out
 function guess(data: GuessData, options: TermOptions): number[] {
   const inv2 = Array.from(data.wavelengthUm, (um) => 1 / (um * um));
   const ones = inv2.map(() => 1);
-  const [a, b, c] = linearLeastSquares([ones, inv2, inv2.map((v) => v * v)], data.n);
+  const [a, b, c] = data.leastSquares([ones, inv2, inv2.map((v) => v * v)], data.n);
   const index = [clamp(a, INDEX_PARAMETERS[0].bounds), clamp(b, INDEX_PARAMETERS[1].bounds), clamp(c, INDEX_PARAMETERS[2].bounds)];
   if (!options.urbach) return index;
   const eb = maxOf(data.energyEv);
@@ -80,7 +79,7 @@ function guess(data: GuessData, options: TermOptions): number[] {
   let eu = 0.1;
   if (absorbing.length >= 2) {
     const e = absorbing.map((i) => data.energyEv[i] - eb);
-    const [lnK0, slope] = linearLeastSquares(
+    const [lnK0, slope] = data.leastSquares(
       [e.map(() => 1), e],
       absorbing.map((i) => Math.log(data.k[i])),
     );

@@ -1,6 +1,6 @@
 /** Building the spectral grid and the guess data a model works on (pure). */
 import { HC_EV_NM } from '../optics/units.ts';
-import type { GuessData, SpectralGrid } from './types.ts';
+import type { SpectralGrid } from './types.ts';
 import { maxOf } from '../optics/extremes.ts';
 
 /** Grid with wavelength in nm and µm and photon energy E[eV] = hc/λ (CODATA 2018). */
@@ -14,19 +14,6 @@ export function spectralGrid(wavelengthNm: ArrayLike<number>): SpectralGrid {
     ev[i] = HC_EV_NM / nm[i];
   }
   return { wavelengthNm: nm, wavelengthUm: um, energyEv: ev };
-}
-
-/** Guess data: the grid plus n, k and ε1 = n² − k², ε2 = 2nk (ε = N², common practice). */
-export function guessData(wavelengthNm: ArrayLike<number>, n: ArrayLike<number>, k: ArrayLike<number>): GuessData {
-  const grid = spectralGrid(wavelengthNm);
-  const count = wavelengthNm.length;
-  const eps1 = new Float64Array(count);
-  const eps2 = new Float64Array(count);
-  for (let i = 0; i < count; i++) {
-    eps1[i] = n[i] * n[i] - k[i] * k[i];
-    eps2[i] = 2 * n[i] * k[i];
-  }
-  return { ...grid, n: Float64Array.from(n), k: Float64Array.from(k), eps1, eps2 };
 }
 
 /** Indices of local maxima of y (3-point moving average to ride over noise), highest first. */

@@ -6,7 +6,6 @@
  * consistent (k = 0 there).
  */
 import { clamp } from './grid.ts';
-import { linearLeastSquares } from './least-squares.ts';
 import type { GuessData, ModelTerm, ParameterSpec, SpectralGrid, TermOptions, TermOutput } from './types.ts';
 
 const A_SPEC: ParameterSpec = {
@@ -54,7 +53,7 @@ function guess(data: GuessData, options: TermOptions): number[] {
   const um = data.wavelengthUm;
   const c = resonanceWavelengthsUm(um[0], um[um.length - 1], options.terms).map((l) => l * l);
   const columns = c.map((ci) => Array.from(um, (l) => (l * l) / (l * l - ci)));
-  const b = linearLeastSquares(
+  const b = data.leastSquares(
     columns,
     Array.from(data.n, (n) => n * n - 1),
   );

@@ -11,7 +11,6 @@
  * O(1) per evaluation instead of O(points).
  */
 import { clamp, halfWidth, oscillatorName, peakIndices } from './grid.ts';
-import { linearLeastSquares } from './least-squares.ts';
 import type { Amplitude, GuessData, ModelTerm, ParameterSpec, SpectralGrid, TermOptions, TermOutput } from './types.ts';
 import { maxOf, minOf } from '../optics/extremes.ts';
 
@@ -200,7 +199,7 @@ function guessGapEv(data: GuessData, peakEnergy: number, eps2Max: number): numbe
   });
   if (edge.length >= 3) {
     const e = edge.map((i) => data.energyEv[i]);
-    const [b, slope] = linearLeastSquares(
+    const [b, slope] = data.leastSquares(
       [e.map(() => 1), e],
       edge.map((i) => Math.sqrt(data.eps2[i])),
     );

@@ -36,6 +36,11 @@ export interface GuessData extends SpectralGrid {
   k: Float64Array;
   eps1: Float64Array;
   eps2: Float64Array;
+  /**
+   * Linear least squares (least-squares.ts, on ml-matrix), handed in with the data by guess-data.ts: only a
+   * fit guesses, so evaluating a stored model (`nkledger eval`) never loads the matrix library.
+   */
+  leastSquares(columns: ArrayLike<number>[], y: ArrayLike<number>): number[];
 }
 
 /** Options that change a term's parameter list. */
