@@ -6,7 +6,7 @@ import { cpSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:f
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { MIGRATIONS_FOLDER } from '../../src/registry/open.ts';
-import { openRegistry, type Registry } from '../../src/service/registry.ts';
+import { createMaterial, importVersion, openRegistry, type Registry } from '../../src/service/registry.ts';
 import type { NkTable } from '../../src/table.ts';
 
 export interface TempRegistry {
@@ -29,6 +29,14 @@ export function tempRegistry(): TempRegistry {
       rmSync(dir, { recursive: true, force: true });
     },
   };
+}
+
+/** A temp registry holding material "film" with one draft version (cauchyTable), created by "ada". */
+export function tempRegistryWithDraft(): TempRegistry {
+  const t = tempRegistry();
+  createMaterial(t.registry, { slug: 'film', name: 'Film' }, 'ada');
+  importVersion(t.registry, { slug: 'film', table: cauchyTable() }, 'ada');
+  return t;
 }
 
 /**

@@ -6,10 +6,10 @@
  * differing only in case stay allowed, as before.
  */
 import { afterEach, beforeEach, describe, expect, it } from 'vitest';
-import { InputError } from '../../src/errors.ts';
 import { hiddenLookAlike, lookAlikeKey } from '../../src/service/look-alike.ts';
 import { createMaterial, editMaterial, listMaterials } from '../../src/service/registry.ts';
 import { runCli } from '../cli/run-cli.ts';
+import { refusal } from '../io/refusal.ts';
 import { tempRegistry, type TempRegistry } from './helpers.ts';
 
 let t: TempRegistry;
@@ -19,16 +19,6 @@ beforeEach(() => {
   createMaterial(t.registry, { slug: 'al2o3-ald', name: 'Al2O3 ALD' }, 'ada');
 });
 afterEach(() => t.cleanup());
-
-function refusal(fn: () => unknown): InputError {
-  try {
-    fn();
-  } catch (err) {
-    expect(err).toBeInstanceOf(InputError);
-    return err as InputError;
-  }
-  throw new Error('not refused');
-}
 
 describe('look-alike material names', () => {
   it('the skeleton erases what a reader cannot see, and nothing a reader can', () => {

@@ -9,13 +9,11 @@ import { InputError } from '../../src/errors.ts';
 import { approve, checkActor, createMaterial, importVersion, sameUser } from '../../src/service/registry.ts';
 import { createToken } from '../../src/service/tokens.ts';
 import { startHarness, type ApiHarness } from '../api/harness.ts';
-import { cauchyTable, tempRegistry, type TempRegistry } from './helpers.ts';
+import { cauchyTable, tempRegistryWithDraft, type TempRegistry } from './helpers.ts';
 
 let t: TempRegistry;
 beforeEach(() => {
-  t = tempRegistry();
-  createMaterial(t.registry, { slug: 'film', name: 'Film' }, 'ada');
-  importVersion(t.registry, { slug: 'film', table: cauchyTable() }, 'ada');
+  t = tempRegistryWithDraft();
 });
 afterEach(() => t.cleanup());
 

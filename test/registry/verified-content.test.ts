@@ -7,14 +7,11 @@ import { afterEach, beforeEach, describe, expect, it } from 'vitest';
 import { IntegrityError } from '../../src/errors.ts';
 import { canonicalJson } from '../../src/registry/canonical.ts';
 import { contentOf, findMaterial, findVersion, verifiedContentOf } from '../../src/registry/records.ts';
-import { createMaterial, importVersion } from '../../src/service/registry.ts';
-import { cauchyTable, tempRegistry, type TempRegistry } from './helpers.ts';
+import { tempRegistryWithDraft, type TempRegistry } from './helpers.ts';
 
 let t: TempRegistry;
 beforeEach(() => {
-  t = tempRegistry();
-  createMaterial(t.registry, { slug: 'film', name: 'Film' }, 'ada');
-  importVersion(t.registry, { slug: 'film', table: cauchyTable() }, 'ada');
+  t = tempRegistryWithDraft();
 });
 afterEach(() => t.cleanup());
 
