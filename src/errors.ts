@@ -47,6 +47,8 @@ export interface InputErrorFields {
   value?: string;
   /** Options that get past the refusal, in order of likelihood. */
   remedies?: Remedy[];
+  /** More structured members for the API's problem document (e.g. the review summary of a refused approval). */
+  extensions?: Record<string, unknown>;
 }
 
 /** A refusal of user input: bad file, bad flag, bad reference. Maps to exit code 2 / HTTP 4xx. */
@@ -58,6 +60,7 @@ export class InputError extends Error {
   readonly option?: string;
   readonly value?: string;
   readonly remedies: Remedy[];
+  readonly extensions: Record<string, unknown>;
 
   constructor(rule: string, message: string, location: InputLocation = {}, status = 400, fields: InputErrorFields = {}) {
     super(message);
@@ -68,6 +71,7 @@ export class InputError extends Error {
     if (fields.option !== undefined) this.option = fields.option;
     if (fields.value !== undefined) this.value = fields.value;
     this.remedies = fields.remedies ?? [];
+    this.extensions = fields.extensions ?? {};
   }
 
   /**

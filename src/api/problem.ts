@@ -57,6 +57,8 @@ export function problemFromError(err: unknown): { problem: ProblemDocument; head
   if (err instanceof InputError) {
     const status = TITLES[err.status] ? err.status : 400;
     const problem: ProblemDocument = {
+      // Extension members first, so they can never replace a standard member.
+      ...err.extensions,
       type: problemType(err.rule),
       title: TITLES[status],
       status,

@@ -6,10 +6,12 @@
 import { and, eq } from 'drizzle-orm';
 import { ConflictError, InputError } from '../errors.ts';
 import type { Registry } from '../registry/open.ts';
-import { appendAudit, nowIso, versionRecord, writeTransaction, type VersionRow } from '../registry/records.ts';
+import { appendAudit, nowIso, verifiedContentOf, versionRecord, writeTransaction, type VersionRow } from '../registry/records.ts';
+import { formatRef } from '../registry/refs.ts';
 import { materialVersions } from '../registry/schema.ts';
 import type { VersionRecord, VersionStatus } from '../registry/types.ts';
 import { checkActor, sameUser } from './actor.ts';
+import { reviewOf, type ReviewSummary } from './review.ts';
 import { readSettings } from './settings.ts';
 import { resolveRow } from './versions.ts';
 
@@ -37,12 +39,31 @@ function transition(registry: Registry, row: VersionRow, from: VersionStatus, se
   return updated;
 }
 
+/** What `approve` may be given besides the ref: the reason for approving despite blocking review findings. */
+export interface ApproveOptions {
+  /** Why the approver accepts a KK-inconsistent or unconverged version; recorded in the hashed audit event. */
+  acceptWarnings?: string;
+}
+
+/** An approved version with the review summary the approver was shown and the findings they accepted. */
+export interface ApprovalResult extends VersionRecord {
+  review: ReviewSummary;
+  /** Null when nothing was accepted; else the reason and the rules of the blocking findings it covered. */
+  accepted_warnings: { reason: string; findings: string[] } | null;
+}
+
+/** Rule of an approval refused for blocking review findings not accepted with a reason. */
+export const UNACCEPTED_WARNINGS = 'approval-warnings-unaccepted';
+
 /**
  * Approve a draft. The approver must not be its creator unless `allow_self_approval` is on;
- * then the version records `self_approved: true`.
+ * then the version records `self_approved: true`. A version whose KK check is inconsistent or whose fit
+ * did not converge (review.ts `blocking`) is refused unless `acceptWarnings` gives a reason, which goes
+ * into the audit event (part of its hashed document). The refusal carries the review summary.
  */
-export function approve(registry: Registry, ref: string, actor: string): VersionRecord {
+export function approve(registry: Registry, ref: string, actor: string, options: ApproveOptions = {}): ApprovalResult {
   const who = checkActor(actor);
+  const reason = options.acceptWarnings === undefined ? null : requireReason(options.acceptWarnings, 'approve it despite its warnings', 'accept_warnings');
   return writeTransaction(registry, () => {
     const { material, row } = lockedVersion(registry, ref, 'draft', 'approve');
     const self = sameUser(row.createdBy, who);
@@ -52,6 +73,18 @@ export function approve(registry: Registry, ref: string, actor: string): Version
         'two-person-rule',
       );
     }
+    const review = reviewOf(material.slug, row, verifiedContentOf(row, formatRef(material.slug, row.number)));
+    if (review.blocking.length > 0 && reason === null) {
+      const first = review.blocking[0];
+      throw new InputError(
+        UNACCEPTED_WARNINGS,
+        `${review.ref} was not approved: ${review.blocking.map((b) => b.message).join('; ')}; to approve it anyway after reviewing it, give the reason`,
+        { field: first.field },
+        409,
+        { option: 'accept_warnings', value: first.value, remedies: [{ option: 'accept_warnings', value: 'REASON' }], extensions: { blocking: review.blocking, review } },
+      );
+    }
+    const accepted = reason === null ? null : { reason, findings: review.blocking.map((b) => b.rule) };
     const updated = transition(registry, row, 'draft', { status: 'approved', approvedBy: who, approvedAt: nowIso(), selfApproved: self });
     appendAudit(registry, {
       actor: who,
@@ -59,9 +92,9 @@ export function approve(registry: Registry, ref: string, actor: string): Version
       materialId: material.id,
       versionId: row.id,
       ...versionEvent(material.slug, row, 'approved'),
-      detail: { ref: `${material.slug}@${row.number}`, sha256: row.sha256, self_approved: self },
+      detail: { ref: `${material.slug}@${row.number}`, sha256: row.sha256, self_approved: self, ...(accepted && { accepted_warnings: accepted }) },
     });
-    return versionRecord(material.slug, updated);
+    return { ...versionRecord(material.slug, updated), review: { ...review, status: updated.status }, accepted_warnings: accepted };
   });
 }
 
@@ -70,17 +103,18 @@ function versionEvent(slug: string, row: VersionRow, to: VersionStatus) {
   return { material: slug, version: row.number, contentSha256: row.sha256, status: { from: row.status, to } };
 }
 
-function requireReason(reason: string | undefined, verb: string): string {
+function requireReason(reason: string | undefined, verb: string, option = 'reason'): string {
   const text = (reason ?? '').trim();
-  if (text === '') throw new InputError('reason-required', `say why you ${verb} it (--reason)`);
-  if (text.length > 2000) throw new InputError('reason-too-long', 'the reason is longer than 2000 characters');
+  if (text === '')
+    throw new InputError('reason-required', `say why you ${verb}`, { field: option }, 400, { option, value: reason ?? '', remedies: [{ option, value: 'TEXT' }] });
+  if (text.length > 2000) throw new InputError('reason-too-long', 'the reason is longer than 2000 characters', { field: option }, 400, { option });
   return text;
 }
 
 /** Retire an approved version. It still resolves (pins never break) but warns wherever used. */
 export function retire(registry: Registry, ref: string, reason: string, actor: string): VersionRecord {
   const who = checkActor(actor);
-  const why = requireReason(reason, 'retire');
+  const why = requireReason(reason, 'retire it');
   return writeTransaction(registry, () => {
     const { material, row } = lockedVersion(registry, ref, 'approved', 'retire');
     const updated = transition(registry, row, 'approved', { status: 'retired', retiredBy: who, retiredAt: nowIso(), retireReason: why });
@@ -99,7 +133,7 @@ export function retire(registry: Registry, ref: string, reason: string, actor: s
 /** Withdraw a draft nobody should use (it is kept, never deleted). The reason is optional. */
 export function withdraw(registry: Registry, ref: string, actor: string, reason?: string): VersionRecord {
   const who = checkActor(actor);
-  const why = reason === undefined || reason.trim() === '' ? null : requireReason(reason, 'withdraw');
+  const why = reason === undefined || reason.trim() === '' ? null : requireReason(reason, 'withdraw it');
   return writeTransaction(registry, () => {
     const { material, row } = lockedVersion(registry, ref, 'draft', 'withdraw');
     const updated = transition(registry, row, 'draft', { status: 'withdrawn', withdrawnBy: who, withdrawnAt: nowIso(), withdrawReason: why });

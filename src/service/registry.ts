@@ -13,7 +13,19 @@ export { checkActor, sameUser, userKey } from './actor.ts';
 export { normalizeProvenance, parseMetaPairs, type ProvenanceInput } from './provenance.ts';
 export { createMaterial, editMaterial, listMaterials, getMaterial, history, type NewMaterial, type MaterialEdit } from './materials.ts';
 export { importVersion, resolveRef, showVersion, versionSummary, type NewVersion, type ImportedVersion, type ResolvedRef } from './versions.ts';
-export { approve, retire, withdraw } from './lifecycle.ts';
+export { approve, retire, withdraw, UNACCEPTED_WARNINGS, type ApproveOptions, type ApprovalResult } from './lifecycle.ts';
+export {
+  reviewVersion,
+  reviewQueue,
+  reviewOf,
+  STRONG_CORRELATION,
+  type ReviewSummary,
+  type ReviewQueue,
+  type ReviewQueueEntry,
+  type Reviewer,
+  type BlockingFinding,
+  type ReviewKkVerdict,
+} from './review.ts';
 export {
   readSettings,
   writeSetting,

@@ -9,6 +9,7 @@ import { createMaterial, editMaterial, getMaterial } from '../../service/materia
 import { searchMaterials } from '../../service/material-search.ts';
 import { showVersion } from '../../service/versions.ts';
 import { approve, retire, withdraw } from '../../service/lifecycle.ts';
+import { reviewQueue, reviewVersion } from '../../service/review.ts';
 import { checkSlug } from '../../registry/refs.ts';
 import { InputError } from '../../errors.ts';
 import { actorOf, type ApiEnv } from '../auth.ts';
@@ -26,8 +27,10 @@ import {
   VERSION_NUMBER_PATTERN,
   VERSION_PATH_PARAMS,
   WRITE_ERRORS,
+  problem,
   type Operation,
 } from '../operations.ts';
+import type { ReviewQueue, ReviewSummary } from '../../service/review.ts';
 
 export const VERSION_PATH = '/api/v1/materials/:slug/versions/:n';
 
@@ -62,7 +65,15 @@ const materialEdit = z.strictObject({
 });
 const reasonBody = z.strictObject({ reason: z.string().max(2000) }).meta({ id: 'Reason' });
 const optionalReasonBody = z.strictObject({ reason: z.string().max(2000).optional() }).meta({ id: 'OptionalReason' });
-const noBody = z.strictObject({}).meta({ id: 'NoBody', description: 'empty, or {}' });
+const approveBody = z
+  .strictObject({
+    accept_warnings: z
+      .string()
+      .max(2000)
+      .optional()
+      .describe('why the version is approved despite an inconsistent KK check or an unconverged fit; stored in the hashed audit event'),
+  })
+  .meta({ id: 'ApproveBody', description: 'empty, {}, or the reason for accepting blocking review findings' });
 
 const timestamp = z.string().meta({ format: 'date-time' });
 const MATERIAL = z
@@ -135,6 +146,79 @@ const VERSION_DETAIL = VERSION_RECORD.extend({
   warnings: z.array(z.string()),
 }).meta({ id: 'VersionDetail' }) satisfies z.ZodType<Omit<VersionDetail, 'content'>>;
 
+const REVIEW_SUMMARY = z
+  .object({
+    ref: z.string(),
+    status: z.enum(VERSION_STATUSES),
+    sha256: z.string(),
+    kk: z.object({
+      verdict: z.enum(['consistent', 'inconsistent', 'uninformative', 'not-run']),
+      summary: z.string().nullable(),
+      misfit: z
+        .object({
+          tolerance: z.number().nullable(),
+          rms_dn: z.number(),
+          max_dn: z.number().nullable(),
+          systematic_max_dn: z.number().nullable(),
+          worst_nm: z.number().nullable(),
+        })
+        .nullable()
+        .describe('misfit in n between the data and the KK-consistent representation'),
+    }),
+    fit: z
+      .object({
+        model: z.string(),
+        converged: z.boolean(),
+        iterations: z.number().int().nullable(),
+        rms_n: z.number().nullable(),
+        rms_k: z.number().nullable(),
+        reduced_chi2: z.number().nullable(),
+        diagnostics: z.array(
+          z.object({
+            rule: z.string(),
+            message: z.string(),
+            advice: z.string().optional(),
+            option: z.enum(['fix', 'bounds', 'init', 'terms', 'range', 'weights', 'starts']).optional(),
+            parameters: z.array(z.string()).optional(),
+            value: z.number().optional(),
+          }),
+        ),
+      })
+      .nullable(),
+    correlations: z.object({
+      threshold: z.number().describe('pairs with |r| at or above it are listed'),
+      pairs: z.array(z.object({ a: z.string(), b: z.string(), r: z.number() })),
+    }),
+    provenance: z.object({
+      sample: provenanceText,
+      instrument: provenanceText,
+      method: provenanceText,
+      measured_on: provenanceText,
+      operator: provenanceText,
+      source_file: provenanceText,
+      source_sha256: provenanceText,
+      created_by: z.string(),
+      created_at: timestamp,
+    }),
+    blocking: z
+      .array(z.object({ rule: z.enum(['kk-inconsistent', 'fit-not-converged']), field: z.string(), value: z.string(), message: z.string() }))
+      .describe('findings that need accept_warnings before approval'),
+  })
+  .meta({ id: 'ReviewSummary' }) satisfies z.ZodType<ReviewSummary>;
+const REVIEW_QUEUE = z
+  .object({
+    user: z.string(),
+    may_approve: z.boolean(),
+    reason: z.string().nullable(),
+    own_drafts: z.number().int().min(0),
+    drafts: z.array(REVIEW_SUMMARY.extend({ self: z.boolean() })),
+  })
+  .meta({ id: 'ReviewQueue' }) satisfies z.ZodType<ReviewQueue>;
+const APPROVAL = VERSION_RECORD.extend({
+  review: REVIEW_SUMMARY,
+  accepted_warnings: z.object({ reason: z.string(), findings: z.array(z.string()) }).nullable(),
+}).meta({ id: 'Approval' });
+
 const lifecycle = (what: 'approve' | 'retire' | 'withdraw', summary: string, body: z.ZodType, required: boolean): Operation => ({
   method: 'post',
   path: `${VERSION_PATH}/${what}`,
@@ -196,7 +280,41 @@ export const MATERIAL_OPERATIONS: Operation[] = [
     params: { path: VERSION_PATH_PARAMS, header: z.object({ 'If-None-Match': z.string().optional() }) },
     responses: { 200: json('the version', VERSION_DETAIL), 304: { description: 'not modified' }, ...READ_ERRORS },
   },
-  lifecycle('approve', 'Approve a draft (not by its creator, unless the registry allows self-approval)', noBody, false),
+  {
+    method: 'post',
+    path: `${VERSION_PATH}/approve`,
+    summary: 'Approve a draft (not by its creator, unless the registry allows self-approval), after its review',
+    description:
+      'A version whose Kramers-Kronig check is inconsistent or whose fit did not converge is refused (409, rule approval-warnings-unaccepted, ' +
+      'with field, value, `blocking` and the `review`) unless accept_warnings says why; the reason is stored in the hashed audit event.',
+    role: 'approver',
+    params: { path: VERSION_PATH_PARAMS },
+    body: { required: false, content: { 'application/json': approveBody } },
+    responses: {
+      200: json('the approved version, the review its approver was shown and the findings accepted', APPROVAL),
+      ...WRITE_ERRORS,
+      409: problem(
+        'the two-person rule, a version that is not a draft, or blocking review findings without accept_warnings (then with review and blocking)',
+      ),
+    },
+  },
+  {
+    method: 'get',
+    path: `${VERSION_PATH}/review`,
+    summary: "A version's review summary: KK verdict and misfit, fit convergence and diagnostics, strong correlations, provenance",
+    description: 'Read from the stored record (nothing is re-fitted); the summary approve shows.',
+    role: 'reader',
+    params: { path: VERSION_PATH_PARAMS },
+    responses: { 200: json('the review summary', REVIEW_SUMMARY), ...READ_ERRORS },
+  },
+  {
+    method: 'get',
+    path: '/api/v1/review',
+    summary: "The drafts the token's user may approve (not their own), each with its review summary",
+    description: 'Needs a token (who asks decides the list); a role below approver gets may_approve false and no drafts.',
+    role: 'reader',
+    responses: { 200: json('the drafts to review', REVIEW_QUEUE), ...AUTH_ERRORS },
+  },
   lifecycle('retire', 'Retire an approved version (reason required)', reasonBody, true),
   lifecycle('withdraw', 'Withdraw a draft (reason optional)', optionalReasonBody, false),
 ];
@@ -240,8 +358,21 @@ export function registerMaterialRoutes(app: Hono<ApiEnv>, ctx: RouteContext): vo
 
   app.post(`${VERSION_PATH}/approve`, approver, async (c) => {
     const ref = versionRef(c);
-    parseInput(noBody, await readOptionalJson(c.req), 'body');
-    return c.json(approve(ctx.registry, ref, actorOf(c.get('principal'))));
+    const body = parseInput(approveBody, await readOptionalJson(c.req), 'body');
+    return c.json(approve(ctx.registry, ref, actorOf(c.get('principal')), { acceptWarnings: body.accept_warnings }));
+  });
+
+  // The drafts the token's user may approve, with their review summaries (the CLI's `nkledger review`).
+  app.get('/api/v1/review', reader, (c) => {
+    const principal = c.get('principal');
+    c.header('cache-control', 'no-store');
+    return c.json(reviewQueue(ctx.registry, { user: actorOf(principal), role: principal?.role ?? null }));
+  });
+
+  // One version's review summary, any status (what approve shows).
+  app.get(`${VERSION_PATH}/review`, reader, (c) => {
+    c.header('cache-control', 'no-cache');
+    return c.json(reviewVersion(ctx.registry, versionRef(c)));
   });
 
   app.post(`${VERSION_PATH}/retire`, approver, async (c) => {

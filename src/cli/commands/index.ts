@@ -37,6 +37,11 @@ export const COMMANDS: CommandEntry[] = [
     summary: 'approve a draft version (someone other than its creator, unless self-approval is on)',
     load: () => import('./approve.ts'),
   },
+  {
+    name: 'review',
+    summary: 'drafts you may approve, with KK verdict, fit convergence, warnings and strong correlations',
+    load: () => import('./review.ts'),
+  },
   { name: 'retire', summary: 'retire an approved version: pins keep resolving, with a warning', load: () => import('./retire.ts') },
   { name: 'withdraw', summary: 'withdraw a draft nobody should use (its number is never reused)', load: () => import('./withdraw.ts') },
   { name: 'lock', summary: "a design's lockfile: pin, verify and check for newer versions", load: () => import('./lock.ts') },
