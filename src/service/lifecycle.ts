@@ -94,7 +94,7 @@ export function approve(registry: Registry, ref: string, actor: string, options:
       ...versionEvent(material.slug, row, 'approved'),
       detail: { ref: `${material.slug}@${row.number}`, sha256: row.sha256, self_approved: self, ...(accepted && { accepted_warnings: accepted }) },
     });
-    return { ...versionRecord(material.slug, updated), review: { ...review, status: updated.status }, accepted_warnings: accepted };
+    return { ...versionRecord(material.slug, updated), review, accepted_warnings: accepted };
   });
 }
 

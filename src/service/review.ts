@@ -116,7 +116,7 @@ export function reviewOf(slug: string, row: VersionRow, content: VersionContent)
       rule: 'kk-inconsistent',
       field: 'content.kk.verdict',
       value: 'inconsistent',
-      message: `the Kramers-Kronig check found n and k inconsistent${kk?.summary ? ` (${kk.summary})` : ''}`,
+      message: 'the Kramers-Kronig check found n and k inconsistent',
     });
   }
   if (fit && !converged) {

@@ -6,6 +6,13 @@ import { guarded } from '../failure.ts';
 import { formatTable, printJson, printLines } from '../output.ts';
 import { shortTime } from '../registry-output.ts';
 
+/** The reason an audit event records: a retirement's or withdrawal's, or the one given for accepting review warnings. */
+function auditNote(detail: Record<string, unknown>): string {
+  if (detail.reason) return `  (${detail.reason})`;
+  const accepted = detail.accepted_warnings as { reason: string; findings: string[] } | undefined;
+  return accepted ? `  (accepted ${accepted.findings.join(', ') || 'warnings'}: ${accepted.reason})` : '';
+}
+
 export function register(program: Command): void {
   addDbOption(program.command('history'))
     .description("a material's versions and its audit log")
@@ -25,7 +32,7 @@ export function register(program: Command): void {
           v.approved_by ?? '',
         ]);
         // Columns as wide as their longest entry, so a long user name never runs into the action.
-        const cells = h.audit.map((a) => [shortTime(a.at), a.actor, a.action, `${a.ref ?? ''}${a.detail.reason ? `  (${a.detail.reason})` : ''}`]);
+        const cells = h.audit.map((a) => [shortTime(a.at), a.actor, a.action, `${a.ref ?? ''}${auditNote(a.detail)}`]);
         const widths = [0, 1, 2].map((i) => Math.max(0, ...cells.map((c) => c[i].length)));
         const audit = cells.map((c) =>
           c
