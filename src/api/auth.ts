@@ -1,10 +1,10 @@
 /**
  * Bearer-token authentication and role checks. `authenticate` resolves the Authorization header to
- * a principal (or none) before any handler runs; `requireRole` guards one route. Both refuse with
+ * a principal (or none) before any handler runs, refuses an expired token and notes its use (coarsely); `requireRole` guards one route. Both refuse with
  * a problem document and run before the handler, so a refused request never reaches a write.
  */
 import type { MiddlewareHandler } from 'hono';
-import { authenticateToken, roleAllows, type Principal } from '../service/tokens.ts';
+import { authenticateToken, recordTokenUse, roleAllows, tokenExpired, type Principal } from '../service/tokens.ts';
 import type { Registry } from '../registry/open.ts';
 import type { TokenRole } from '../registry/schema-auth.ts';
 import { HttpProblem } from './problem.ts';
@@ -42,6 +42,15 @@ export function authenticate(registry: Registry, changes: RegistryChanges): Midd
         'www-authenticate': `${CHALLENGE}, error="invalid_token"`,
       });
     }
+    if (tokenExpired(principal)) {
+      throw new HttpProblem(
+        401,
+        'auth-token-expired',
+        `token ${principal.tokenId} (${principal.user}) expired at ${principal.expiresAt}; an admin makes a new one with \`nkledger token create --user ${principal.user} --role ${principal.role}\``,
+        { 'www-authenticate': `${CHALLENGE}, error="invalid_token", error_description="the token has expired"` },
+      );
+    }
+    recordTokenUse(registry, principal);
     c.set('principal', principal);
     return next();
   };

@@ -31,14 +31,42 @@ export function versionStatus(registry: Registry, slug: string, number: number):
   return statusOf(registry).get(slug, number)?.status;
 }
 
+/** An unrevoked token as authentication needs it (expiry is checked by the caller, so it can say the token expired). */
+export interface ActiveToken {
+  tokenId: string;
+  user: string;
+  role: TokenRole;
+  expiresAt: string | null;
+  lastUsedAt: string | null;
+}
+
 const tokenBy = preparedPer(
-  (registry): Statement<[string], { tokenId: string; user: string; role: TokenRole }> =>
-    registry.sqlite.prepare('SELECT id AS tokenId, user, role FROM api_tokens WHERE token_sha256 = ? AND revoked_at IS NULL'),
+  (registry): Statement<[string], ActiveToken> =>
+    registry.sqlite.prepare(
+      'SELECT id AS tokenId, user, role, expires_at AS expiresAt, last_used_at AS lastUsedAt FROM api_tokens WHERE token_sha256 = ? AND revoked_at IS NULL',
+    ),
 );
 
 /** The unrevoked token whose secret hashes to `sha256`, or undefined. */
-export function activeToken(registry: Registry, sha256: string): { tokenId: string; user: string; role: TokenRole } | undefined {
+export function activeToken(registry: Registry, sha256: string): ActiveToken | undefined {
   return tokenBy(registry).get(sha256);
+}
+
+/**
+ * Write a token's last use without waiting for the write lock: busy_timeout is 0 for this one statement, so a
+ * registry busy with another writer skips the note instead of stalling the server's event loop. Never throws:
+ * last use is a convenience, never a reason to refuse a request.
+ */
+export function noteTokenUse(registry: Registry, tokenId: string, at: string): void {
+  const busyTimeout = registry.sqlite.pragma('busy_timeout', { simple: true }) as number;
+  try {
+    registry.sqlite.pragma('busy_timeout = 0');
+    registry.sqlite.prepare('UPDATE api_tokens SET last_used_at = ? WHERE id = ?').run(at, tokenId);
+  } catch {
+    // busy, full or read-only: skipped
+  } finally {
+    registry.sqlite.pragma(`busy_timeout = ${busyTimeout}`);
+  }
 }
 
 /**

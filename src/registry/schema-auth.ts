@@ -11,7 +11,7 @@ export type TokenRole = (typeof TOKEN_ROLES)[number];
 
 /**
  * One bearer token. Only the SHA-256 of the secret is stored: a copied database hands out no
- * working tokens. `revokedAt` set means the token is refused; the row stays for the audit trail.
+ * working tokens. `revokedAt` set, or `expiresAt` past, means the token is refused; the row stays for the audit trail.
  */
 export const apiTokens = sqliteTable('api_tokens', {
   id: text('id').primaryKey(),
@@ -24,4 +24,8 @@ export const apiTokens = sqliteTable('api_tokens', {
   createdBy: text('created_by').notNull(),
   revokedAt: text('revoked_at'),
   revokedBy: text('revoked_by'),
+  /** ISO 8601 UTC after which the token is refused (401 auth-token-expired); null: it never expires (tokens made before expiry existed). */
+  expiresAt: text('expires_at'),
+  /** ISO 8601 UTC of the last request that presented it, written at most once an hour per token (src/service/tokens.ts). */
+  lastUsedAt: text('last_used_at'),
 });

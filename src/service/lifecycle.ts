@@ -63,7 +63,8 @@ export const UNACCEPTED_WARNINGS = 'approval-warnings-unaccepted';
  */
 export function approve(registry: Registry, ref: string, actor: string, options: ApproveOptions = {}): ApprovalResult {
   const who = checkActor(actor);
-  const reason = options.acceptWarnings === undefined ? null : requireReason(options.acceptWarnings, 'approve it despite its warnings', 'accept_warnings');
+  const reason =
+    options.acceptWarnings === undefined ? null : requireReason(options.acceptWarnings, 'approve it despite its warnings', 'accept_warnings');
   return writeTransaction(registry, () => {
     const { material, row } = lockedVersion(registry, ref, 'draft', 'approve');
     const self = sameUser(row.createdBy, who);
@@ -81,7 +82,12 @@ export function approve(registry: Registry, ref: string, actor: string, options:
         `${review.ref} was not approved: ${review.blocking.map((b) => b.message).join('; ')}; to approve it anyway after reviewing it, give the reason`,
         { field: first.field },
         409,
-        { option: 'accept_warnings', value: first.value, remedies: [{ option: 'accept_warnings', value: 'REASON' }], extensions: { blocking: review.blocking, review } },
+        {
+          option: 'accept_warnings',
+          value: first.value,
+          remedies: [{ option: 'accept_warnings', value: 'REASON' }],
+          extensions: { blocking: review.blocking, review },
+        },
       );
     }
     const accepted = reason === null ? null : { reason, findings: review.blocking.map((b) => b.rule) };
@@ -106,7 +112,11 @@ function versionEvent(slug: string, row: VersionRow, to: VersionStatus) {
 function requireReason(reason: string | undefined, verb: string, option = 'reason'): string {
   const text = (reason ?? '').trim();
   if (text === '')
-    throw new InputError('reason-required', `say why you ${verb}`, { field: option }, 400, { option, value: reason ?? '', remedies: [{ option, value: 'TEXT' }] });
+    throw new InputError('reason-required', `say why you ${verb}`, { field: option }, 400, {
+      option,
+      value: reason ?? '',
+      remedies: [{ option, value: 'TEXT' }],
+    });
   if (text.length > 2000) throw new InputError('reason-too-long', 'the reason is longer than 2000 characters', { field: option }, 400, { option });
   return text;
 }

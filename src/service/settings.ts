@@ -32,6 +32,19 @@ function onOff(text: string): unknown {
   return text;
 }
 
+/** Longest lifetime a token may be given: ten years (a token meant to live for ever says "never"). */
+const MAX_LIFETIME_HOURS = 3650 * 24;
+export const LIFETIME_FORM = 'a lifetime is a whole number of days or hours, e.g. 90d or 12h (at most 3650d), or "never"';
+
+/** Hours in a token lifetime "90d" / "12h"; null for "never"; undefined when the text is not a lifetime. */
+export function lifetimeHours(text: string): number | null | undefined {
+  if (text === 'never') return null;
+  const m = /^([1-9][0-9]{0,6})([dh])$/.exec(text);
+  if (!m) return undefined;
+  const hours = Number(m[1]) * (m[2] === 'd' ? 24 : 1);
+  return hours <= MAX_LIFETIME_HOURS ? hours : undefined;
+}
+
 export const SETTINGS = {
   allow_self_approval: {
     schema: z.boolean({ error: 'say on or off' }),
@@ -77,6 +90,12 @@ export const SETTINGS = {
     meaning: 'most work one POST /stack may ask for: layers × wavelengths × angles × sweep steps (each at least 1)',
     parseText: (t: string) => Number(t),
   } satisfies SettingDefinition<number>,
+  token_lifetime: {
+    schema: z.string().refine((t) => lifetimeHours(t) !== undefined, LIFETIME_FORM),
+    default: '90d',
+    meaning: 'how long a new bearer token works when its creator names no lifetime: days or hours (90d, 12h, at most 3650d), or never',
+    parseText: (t: string) => t.trim(),
+  } satisfies SettingDefinition<string>,
 };
 
 export type SettingKey = keyof typeof SETTINGS;

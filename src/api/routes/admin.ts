@@ -9,7 +9,11 @@ import { parseInput, readJson } from '../validate.ts';
 import type { RouteContext } from '../context.ts';
 import { AUTH_ERRORS, json, WRITE_ERRORS, type Operation } from '../operations.ts';
 
-const tokenRequest = z.strictObject({ user: z.string().min(1).max(64), role: z.enum(TOKEN_ROLES) });
+const tokenRequest = z.strictObject({
+  user: z.string().min(1).max(64),
+  role: z.enum(TOKEN_ROLES),
+  expires: z.string().max(20).optional().describe('lifetime: days or hours (90d, 12h, at most 3650d) or never; default the token_lifetime setting'),
+});
 const settingRequest = z.strictObject({ value: z.unknown().describe("the setting's new value, as GET /settings shows it") });
 
 const TOKEN = z
@@ -21,6 +25,9 @@ const TOKEN = z
     created_by: z.string(),
     revoked_at: z.string().nullable(),
     revoked_by: z.string().nullable(),
+    expires_at: z.string().meta({ format: 'date-time' }).nullable().describe('null: never expires'),
+    expired: z.boolean(),
+    last_used_at: z.string().meta({ format: 'date-time' }).nullable().describe('recorded at most once an hour per token'),
   })
   .meta({ id: 'Token' }) satisfies z.ZodType<TokenInfo>;
 const CREATED_TOKEN = TOKEN.extend({ token: z.string().regex(/^nkl_/).describe('the secret, shown only here') }) satisfies z.ZodType<CreatedToken>;

@@ -22,7 +22,7 @@ interface ApproveFlags {
 export function register(program: Command): void {
   addAsOption(addDbOption(program.command('approve')))
     .description(
-      'show a draft\'s review summary (KK verdict, fit convergence and warnings, strong correlations, provenance), then approve it; ' +
+      "show a draft's review summary (KK verdict, fit convergence and warnings, strong correlations, provenance), then approve it; " +
         'the approver must not be its creator (a one-person lab: `nkledger settings set allow_self_approval on`); ' +
         'a KK-inconsistent or unconverged version needs --accept-warnings REASON',
     )

@@ -42,7 +42,7 @@ function buildDemo(paths: DemoPaths): string[] {
   try {
     const summary = buildDemoRegistry(registry, DEMO_DATA_DIR, paths.lock);
     const tokens = Object.fromEntries(
-      TOKEN_ROLES.map((role) => [role, createToken(registry, { user: `demo-${role}`, role, createdBy: 'nkledger demo' }).token]),
+      TOKEN_ROLES.map((role) => [role, createToken(registry, { user: `demo-${role}`, role, createdBy: 'nkledger demo', expires: 'never' }).token]),
     );
     // Demo only: the secrets are kept in clear here so every `npm start` can print them again.
     writeFileSync(

@@ -11,7 +11,7 @@ export function register(program: Command): void {
   addAsOption(addDbOption(program.command('review')))
     .description(
       'list the drafts you may approve (not your own: two-person rule) with their KK verdict, fit convergence, warnings and ' +
-        'strong correlations; --long adds each draft\'s full review summary',
+        "strong correlations; --long adds each draft's full review summary",
     )
     .option('--long', 'print the full review summary of every draft')
     .option('--json', 'print {"user", "may_approve", "own_drafts", "drafts": [review summaries]} as JSON')
@@ -37,7 +37,12 @@ export function register(program: Command): void {
           d.correlations.pairs.length ? d.correlations.pairs.map((p) => `${p.a}/${p.b}`).join(',') : '–',
           d.blocking.length ? `accept: ${d.blocking.map((b) => b.rule).join(', ')}` : 'ok',
         ]);
-        printLines(formatTable(['version', 'created by', 'created', 'KK', 'fit', 'warnings', `|r| ≥ ${queue.drafts[0].correlations.threshold}`, 'to approve'], rows));
+        printLines(
+          formatTable(
+            ['version', 'created by', 'created', 'KK', 'fit', 'warnings', `|r| ≥ ${queue.drafts[0].correlations.threshold}`, 'to approve'],
+            rows,
+          ),
+        );
       }),
     );
 }

@@ -5,6 +5,7 @@ import { TOKEN_ROLES } from '../../registry/schema-auth.ts';
 import { guarded } from '../failure.ts';
 import { formatTable, printJson, printLines } from '../output.ts';
 import { actorFrom, addAsOption, addDbOption, withRegistry } from '../admin-options.ts';
+import { shortTime } from '../registry-output.ts';
 
 export function register(program: Command): void {
   const token = program.command('token').description('manage bearer tokens for the HTTP API (`nkledger serve`)');
@@ -13,15 +14,25 @@ export function register(program: Command): void {
     .description(`create a token for a user with a role (${TOKEN_ROLES.join(' < ')}); prints the token once`)
     .requiredOption('--user <name>', 'the person or tool the token is for')
     .requiredOption('--role <role>', `one of ${TOKEN_ROLES.join(', ')}`)
-    .option('--json', 'print {"token", "id", "user", "role", ...} as JSON')
+    .option(
+      '--expires <lifetime>',
+      'how long it works: days or hours (90d, 12h, at most 3650d) or never (default: the token_lifetime setting, 90d unless changed)',
+    )
+    .option('--json', 'print {"token", "id", "user", "role", "expires_at", ...} as JSON')
+    .addHelpText(
+      'after',
+      '\nExamples:\n  nkledger token create --user anna --role editor\n  nkledger token create --user design-tool --role reader --expires 365d',
+    )
     .action(
-      guarded(async (opts: { db?: string; as?: string; user: string; role: string; json?: boolean }) => {
-        const created = await withRegistry(opts, (r) => createToken(r, { user: opts.user, role: opts.role, createdBy: actorFrom(opts) }));
+      guarded(async (opts: { db?: string; as?: string; user: string; role: string; expires?: string; json?: boolean }) => {
+        const created = await withRegistry(opts, (r) =>
+          createToken(r, { user: opts.user, role: opts.role, createdBy: actorFrom(opts), expires: opts.expires }),
+        );
         if (opts.json) return printJson(created);
         printLines([
           created.token,
           '',
-          `token ${created.id} for ${created.user} (role ${created.role}).`,
+          `token ${created.id} for ${created.user} (role ${created.role}), ${created.expires_at ? `expires ${shortTime(created.expires_at)}` : 'never expires'}.`,
           'This is the only time the token is shown: the registry keeps only its SHA-256.',
           'Send it as the header "Authorization: Bearer <token>".',
         ]);
@@ -29,8 +40,8 @@ export function register(program: Command): void {
     );
 
   addDbOption(token.command('list'))
-    .description('list tokens (never their secrets); revoked ones show when and by whom')
-    .option('--active', 'only tokens that are not revoked')
+    .description('list tokens (never their secrets): expiry, last use (to within an hour), and when and by whom revoked ones were')
+    .option('--active', 'only tokens that work: neither revoked nor expired')
     .option('--json', 'print JSON')
     .action(
       guarded(async (opts: { db?: string; active?: boolean; json?: boolean }) => {
@@ -40,11 +51,13 @@ export function register(program: Command): void {
           t.id,
           t.user,
           t.role,
-          t.created_at,
+          shortTime(t.created_at),
           t.created_by,
-          t.revoked_at ? `revoked ${t.revoked_at} by ${t.revoked_by}` : 'active',
+          t.expires_at ? shortTime(t.expires_at) : 'never',
+          t.last_used_at ? shortTime(t.last_used_at) : 'never',
+          t.revoked_at ? `revoked ${t.revoked_at} by ${t.revoked_by}` : t.expired ? 'expired' : 'active',
         ]);
-        printLines(formatTable(['id', 'user', 'role', 'created', 'by', 'state'], rows));
+        printLines(formatTable(['id', 'user', 'role', 'created', 'by', 'expires', 'last used', 'state'], rows));
       }),
     );
 
