@@ -34,7 +34,15 @@ const auditRows = (t: TempRegistry) =>
 
 describe('settings', () => {
   it('one catalogue holds the registry rule and the API settings, with defaults', () => {
-    expect(SETTING_KEYS).toEqual(['allow_self_approval', 'anonymous_reads', 'cors_origins', 'max_body_bytes', 'max_nk_points', 'max_stack_work']);
+    expect(SETTING_KEYS).toEqual([
+      'allow_self_approval',
+      'anonymous_reads',
+      'cors_origins',
+      'max_body_bytes',
+      'max_nk_points',
+      'max_stack_work',
+      'token_lifetime',
+    ]);
     expect(readSettings(t.registry)).toEqual({
       allow_self_approval: false,
       anonymous_reads: 'auto',
@@ -42,6 +50,7 @@ describe('settings', () => {
       max_body_bytes: 8 * 1024 * 1024,
       max_nk_points: 10_000,
       max_stack_work: 2_000_000,
+      token_lifetime: '90d',
     });
   });
 
