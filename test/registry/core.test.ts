@@ -150,7 +150,7 @@ describe('lifecycle and the two-person rule', () => {
     expect(approve(t.registry, 'sio2-thermal@1', 'bob')).toMatchObject({ status: 'approved', approved_by: 'bob', self_approved: false });
     expect(() => approve(t.registry, 'sio2-thermal@1', 'cy')).toThrow(/it is approved/);
     expect(() => withdraw(t.registry, 'sio2-thermal@1', 'bob')).toThrow(ConflictError);
-    expect(() => retire(t.registry, 'sio2-thermal@1', '  ', 'bob')).toThrow(/--reason/);
+    expect(() => retire(t.registry, 'sio2-thermal@1', '  ', 'bob')).toThrow(/say why you retire it/);
     expect(() => retire(t.registry, 'sio2-thermal@2', 'bad', 'bob')).toThrow(/it is draft, and only an approved version can be retired/);
     const r = retire(t.registry, 'sio2-thermal@1', 'substrate model was wrong', 'bob');
     expect(r).toMatchObject({ status: 'retired', retired_by: 'bob', retire_reason: 'substrate model was wrong' });
