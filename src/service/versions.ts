@@ -107,7 +107,9 @@ export function importVersion(registry: Registry, input: NewVersion, actor: stri
   const sha256 = versionSha256(content, provenance);
   const warnings: string[] = [];
   if (content.kk && content.kk.verdict === 'inconsistent') {
-    warnings.push('the Kramers-Kronig check found n and k inconsistent: approvers should look at the KK report');
+    warnings.push(
+      'the Kramers-Kronig check found n and k inconsistent: an approver sees it in the review and must give a reason to approve this version',
+    );
   }
 
   return writeTransaction(registry, () => {
