@@ -14,6 +14,10 @@ import { emptyLockfile, lockAdd } from '../../src/service/lock.ts';
 import { createToken } from '../../src/service/tokens.ts';
 import { resetSetting, writeSetting } from '../../src/service/settings.ts';
 import { SLUG_PATTERN } from '../../src/registry/refs.ts';
+import { createMaterial } from '../../src/service/materials.ts';
+import { importVersion } from '../../src/service/versions.ts';
+import type { StoredKkReport } from '../../src/registry/types.ts';
+import { cauchyTable } from '../registry/helpers.ts';
 import { approvedGlass, csv, csvTable, json, startHarness, type ApiHarness } from './harness.ts';
 
 // ajv-formats is CommonJS with a default export; under ESM interop the function may sit one level down.
@@ -253,6 +257,33 @@ describe('OpenAPI document', () => {
     );
   });
 
+  it("review: the queue, one version's summary, and approve with and without accept_warnings", async () => {
+    const base = '/api/v1/materials/{slug}/versions/{n}';
+    createMaterial(h.registry, { slug: 'film', name: 'Film' }, 'editor');
+    const kk = { verdict: 'inconsistent', summary: 'n is not what k implies', tolerance: 0.005, rms_dn: 0.003, max_dn: 0.01, worst_nm: 700 };
+    importVersion(h.registry, { slug: 'film', table: cauchyTable(1.7), kk: kk as StoredKkReport }, 'editor');
+    const queue = await h.request('/api/v1/review', { as: 'approver' });
+    expect(queue.status).toBe(200);
+    expect(await answers.check('GET', '/api/v1/review', queue)).toMatchObject({ may_approve: true });
+    await answers.check('GET', '/api/v1/review', await h.request('/api/v1/review', { as: 'editor' }));
+    await answers.check('GET', '/api/v1/review', await h.request('/api/v1/review', { token: 'nkl_unknown' }));
+    const one = await h.request('/api/v1/materials/film/versions/1/review', { as: 'reader' });
+    expect(one.status).toBe(200);
+    await answers.check('GET', `${base}/review`, one);
+    await answers.check('GET', `${base}/review`, await h.request('/api/v1/materials/film/versions/9/review', { as: 'reader' }));
+    const refused = await h.request('/api/v1/materials/film/versions/1/approve', { method: 'POST', as: 'approver' });
+    expect(refused.status).toBe(409);
+    await answers.check('POST', `${base}/approve`, refused);
+    await answers.check(
+      'POST',
+      `${base}/approve`,
+      await h.request('/api/v1/materials/film/versions/1/approve', { ...json({ accept_warnings: '' }), as: 'approver' }),
+    );
+    const accepted = await h.request('/api/v1/materials/film/versions/1/approve', { ...json({ accept_warnings: 'known artefact' }), as: 'approver' });
+    expect(accepted.status).toBe(200);
+    expect(await answers.check('POST', `${base}/approve`, accepted)).toMatchObject({ accepted_warnings: { findings: ['kk-inconsistent'] } });
+  });
+
   it('locks, fit and KK: answers and refusals', async () => {
     const lock = lockAdd(h.registry, emptyLockfile(), 'glass@1').lock;
     expect(await answers.check('POST', '/api/v1/locks/verify', await h.request('/api/v1/locks/verify', json(lock)))).toMatchObject({ ok: true });
@@ -281,7 +312,7 @@ describe('OpenAPI document', () => {
   it('tokens and settings: admin answers and refusals', async () => {
     await answers.check('GET', '/api/v1/tokens', await h.request('/api/v1/tokens', { as: 'admin' }));
     await answers.check('GET', '/api/v1/tokens', await h.request('/api/v1/tokens', { as: 'reader' }));
-    const created = await h.request('/api/v1/tokens', { ...json({ user: 'lab-tech', role: 'reader' }), as: 'admin' });
+    const created = await h.request('/api/v1/tokens', { ...json({ user: 'lab-tech', role: 'reader', expires: '30d' }), as: 'admin' });
     expect(created.status).toBe(201);
     expect(String(((await answers.check('POST', '/api/v1/tokens', created)) as { token: string }).token)).toMatch(/^nkl_/);
     await answers.check('POST', '/api/v1/tokens', await h.request('/api/v1/tokens', { ...json({ user: 'x', role: 'overlord' }), as: 'admin' }));
