@@ -103,6 +103,18 @@ export function residualsAt(
   return { r, jacobian };
 }
 
+/**
+ * Whitened residuals r = (y − model)/σ and the Jacobian columns ∂(model/σ)/∂p of the `free` parameters at `q`
+ * (full parameter order): what minimize needs of any least-squares problem. Non-finite values mark a point
+ * the minimizer must not move to.
+ */
+export type ResidualFunction = (q: Float64Array, free: number[], withJacobian: boolean) => { r: Float64Array; jacobian: Float64Array[] };
+
+/** The residual function of a dispersion-model fit to a table. */
+function tableResiduals(problem: FitProblem, model: DispersionModel): ResidualFunction {
+  return (q, free, withJacobian) => residualsAt(problem, model, q, free, withJacobian);
+}
+
 function sumSquares(r: Float64Array): number {
   let s = 0;
   for (let i = 0; i < r.length; i++) s += r[i] * r[i];
@@ -248,16 +260,29 @@ export function minimize(
   bounds: [number, number][],
   maxIterations: number,
 ): LmResult {
+  return minimizeResiduals(tableResiduals(problem, model), start, free, bounds, maxIterations, (p) =>
+    nonFiniteMessage(model, p, 'at the start values'),
+  );
+}
+
+/**
+ * minimize() on any residual function (the table fit above, the ellipsometric Ψ/Δ fit). `nonFinite` words
+ * the refusal when the residuals are not finite at the start.
+ */
+export function minimizeResiduals(
+  residuals: ResidualFunction,
+  start: Float64Array,
+  free: number[],
+  bounds: [number, number][],
+  maxIterations: number,
+  nonFinite: (p: Float64Array) => string,
+): LmResult {
   const p = Float64Array.from(start);
-  // derivatives of the free parameters and the fitted parts only
-  const request = { columns: free, re: problem.useRe, im: problem.useIm };
-  let { r, jacobian } = residualsAt(problem, model, p, free, true);
+  let { r, jacobian } = residuals(p, free, true);
   let chi2 = sumSquares(r);
-  if (!Number.isFinite(chi2)) throw new NumericalError(nonFiniteMessage(model, p, 'at the start values'));
+  if (!Number.isFinite(chi2)) throw new NumericalError(nonFinite(p));
   const chi2Start = chi2;
   const tolerance = Math.max(1e-28 * chi2, 1e-300);
-  const yWhite = new Float64Array(problem.y.length);
-  for (let i = 0; i < yWhite.length; i++) yWhite[i] = problem.y[i] * problem.invSigma[i];
   // the library's data: the p + 1 rows of the QR-reduced problem (reduce()), y = 0 so its residual is c
   const reducedIndex = Array.from({ length: free.length + 1 }, (_, i) => i);
   const reducedY = new Array<number>(free.length + 1).fill(0);
@@ -278,9 +303,8 @@ export function minimize(
     /** Model, residuals and Jacobian at a library point, in one model pass; χ² is NaN when anything is not finite. */
     const evaluateAt = (x: number[]): Point => {
       const q = full(x);
-      const w = whitenedModel(problem, model.evaluate(problem.grid, q, problem.quantity, request), free);
-      const rr = new Float64Array(yWhite.length);
-      for (let i = 0; i < rr.length; i++) rr[i] = yWhite[i] - w.model[i];
+      const w = residuals(q, free, true);
+      const rr = w.r;
       let c = sumSquares(rr);
       // a NaN in JᵀJ surfaces in the library as "Matrix is not symmetric" (NaN ≠ NaN): never move there
       for (const col of w.jacobian) if (!Number.isFinite(sumSquares(col))) c = NaN;
@@ -399,16 +423,30 @@ export function minimizeWithBounds(
   bounds: [number, number][],
   maxIterations: number,
 ): LmResult {
+  return minimizeResidualsWithBounds(tableResiduals(problem, model), start, free, bounds, maxIterations, (p) =>
+    nonFiniteMessage(model, p, 'at the start values'),
+  );
+}
+
+/** minimizeWithBounds() on any residual function. */
+export function minimizeResidualsWithBounds(
+  residuals: ResidualFunction,
+  start: Float64Array,
+  free: number[],
+  bounds: [number, number][],
+  maxIterations: number,
+  nonFinite: (p: Float64Array) => string,
+): LmResult {
   const held = new Set<number>();
   let p: Float64Array = Float64Array.from(start);
   let iterations = 0;
   let result: LmResult | undefined;
   for (let round = 0; round < 3 * free.length + 3; round++) {
     const movable = free.filter((i) => !held.has(i));
-    result = minimize(problem, model, p, movable, bounds, Math.max(1, maxIterations - iterations));
+    result = minimizeResiduals(residuals, p, movable, bounds, Math.max(1, maxIterations - iterations), nonFinite);
     iterations += result.iterations;
     p = result.values;
-    const { r, jacobian } = residualsAt(problem, model, p, free, true);
+    const { r, jacobian } = residuals(p, free, true);
     let changed = false;
     let release = -1;
     let pull = 0;
@@ -441,7 +479,7 @@ export function minimizeWithBounds(
   if (held.size === 0) return { ...final, iterations };
   const movable = free.filter((i) => !held.has(i));
   // the Jacobian of the parameters left free, at the final point (the last minimize may predate the last hold)
-  const { r, jacobian } = residualsAt(problem, model, p, movable, true);
+  const { r, jacobian } = residuals(p, movable, true);
   return {
     values: p,
     chi2: sumSquares(r),
