@@ -41,6 +41,18 @@ const modelSource = z
   })
   .describe('a dispersion model of the catalogue with given parameters');
 
+const layerSource = z
+  .strictObject({
+    layer: z
+      .number()
+      .int()
+      .min(1)
+      .describe(
+        'number of another layer of the design (from 1 on the ambient side) whose material this is, e.g. the film a roughness layer roughens',
+      ),
+  })
+  .describe("another layer's material (its fitted parameters feed this source too)");
+
 // A mixture names two sources, which may be mixtures themselves: the getter makes the schema recursive (zod 4).
 const mixSource = z
   .strictObject({
@@ -62,7 +74,7 @@ const mixSource = z
   .describe('an effective-medium mixture of two materials');
 
 export const MATERIAL_SOURCE_SCHEMA: z.ZodType<MaterialSourceInput> = z
-  .union([refSource, fileSource, constantSource, modelSource, mixSource])
+  .union([refSource, fileSource, constantSource, modelSource, mixSource, layerSource])
   .meta({ id: 'MaterialSource', description: "where a medium's n, k come from" });
 
 type MaterialSourceInput =
@@ -70,6 +82,7 @@ type MaterialSourceInput =
   | z.infer<typeof fileSource>
   | z.infer<typeof constantSource>
   | z.infer<typeof modelSource>
+  | z.infer<typeof layerSource>
   | { mix: EmaRule; materials: MaterialSourceInput[]; fraction: number };
 
 const SOURCE_BRANCHES: Array<[string, z.ZodType]> = [
@@ -77,6 +90,7 @@ const SOURCE_BRANCHES: Array<[string, z.ZodType]> = [
   ['file', fileSource],
   ['model', modelSource],
   ['mix', mixSource],
+  ['layer', layerSource],
   ['n', constantSource],
 ];
 
@@ -94,7 +108,17 @@ export const STACK_DESIGN_SCHEMA = z
         z.strictObject({
           name: z.string().max(200).optional().describe('label of the layer'),
           material: MATERIAL_SOURCE_SCHEMA,
-          thickness_nm: z.number().min(0).describe('physical thickness in nm'),
+          thickness_nm: z.number().min(0).describe('physical thickness in nm (the start value when fitted)'),
+          fit: z
+            .array(z.string().min(1))
+            .optional()
+            .describe(
+              'ellipsometry fit: the free parameters of this layer: "thickness_nm", parameters of its model source (e.g. "A", "E0", "C", "Eg", "eps_inf"), or "fraction" of its mixture; ignored by the stack command',
+            ),
+          bounds: z
+            .record(z.string(), z.tuple([z.number(), z.number()]))
+            .optional()
+            .describe('ellipsometry fit: [low, high] per free parameter, e.g. {"thickness_nm": [0, 500]}; default the model catalogue\'s bounds'),
         }),
       )
       .max(1000)
@@ -174,7 +198,7 @@ function describeIssue(schema: z.ZodType, value: unknown): { path: Array<string 
     return {
       path,
       message:
-        'a material source is one of {"ref": "slug@N"}, {"file": "table.csv"}, {"n": 1.38, "k": 0}, {"model": "sellmeier", "parameters": {…}} or {"mix": "bruggeman", "materials": [SOURCE, SOURCE], "fraction": 0.5}',
+        'a material source is one of {"ref": "slug@N"}, {"file": "table.csv"}, {"n": 1.38, "k": 0}, {"model": "sellmeier", "parameters": {…}} or {"mix": "bruggeman", "materials": [SOURCE, SOURCE], "fraction": 0.5} or {"layer": 2}',
     };
   }
   if (issue.code === 'unrecognized_keys')

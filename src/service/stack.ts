@@ -133,6 +133,8 @@ export interface ResolvedMaterial {
   table?: NkTable;
   constant?: { n: number; k: number };
   model?: { spec: string; terms: number; urbach: boolean; parameters: Record<string, number>; range_nm: [number, number] | null };
+  /** A {"layer": N} source: the material of layer N (1-based), copied here; the fit substitutes it on every change. */
+  fromLayer?: number;
   /** An effective-medium mixture: the second material at volume fraction `fraction` in the first. */
   mix?: { rule: EmaRule; fraction: number; materials: [ResolvedMaterial, ResolvedMaterial] };
 }
@@ -142,7 +144,14 @@ export interface ResolvedDesign {
   notes: string | null;
   file: string | null;
   ambient: ResolvedMaterial;
-  layers: Array<{ name: string | null; thickness_nm: number; material: ResolvedMaterial }>;
+  layers: Array<{
+    name: string | null;
+    thickness_nm: number;
+    material: ResolvedMaterial;
+    /** Ellipsometry fit: the layer's free parameters and their bounds, as the design lists them. */
+    fit?: string[];
+    bounds?: Record<string, [number, number]>;
+  }>;
   substrate: { material: ResolvedMaterial; thickness_mm: number | null; incoherent: boolean };
   notices: string[];
   warnings: string[];
@@ -197,6 +206,7 @@ export async function resolveStackDesign(design: StackDesign, ctx: ResolveContex
   const warnings: string[] = [];
   const resolved = new Map<Slot, ResolvedMaterial>();
   const every = slots.flatMap(withParts);
+  checkLayerSources(design, every, where);
 
   for (const slot of every) {
     const base = { role: slot.role, field: slot.path.join('.') };
@@ -307,6 +317,16 @@ export async function resolveStackDesign(design: StackDesign, ctx: ResolveContex
 
   const get = (slot: Slot): ResolvedMaterial => {
     const src = slot.source;
+    if ('layer' in src) {
+      const target = get(slots[src.layer]); // slots[0] is the ambient, so layer N is slots[N]
+      return {
+        ...target,
+        role: slot.role,
+        field: slot.path.join('.'),
+        fromLayer: src.layer,
+        describe: `layer ${src.layer}'s material (${target.ref ?? target.describe})`,
+      };
+    }
     if (!('mix' in src)) return resolved.get(slot)!;
     const parts = slot.parts!.map(get) as [ResolvedMaterial, ResolvedMaterial];
     const describe = `${src.mix} mixture: ${src.fraction} of ${parts[1].ref ?? parts[1].describe} in ${parts[0].ref ?? parts[0].describe}`;
@@ -330,11 +350,52 @@ export async function resolveStackDesign(design: StackDesign, ctx: ResolveContex
     notes: design.notes ?? null,
     file: ctx.designFile,
     ambient: get(slots[0]),
-    layers: design.layers.map((l, i) => ({ name: l.name ?? null, thickness_nm: l.thickness_nm, material: get(slots[i + 1]) })),
+    layers: design.layers.map((l, i) => ({
+      name: l.name ?? null,
+      thickness_nm: l.thickness_nm,
+      material: get(slots[i + 1]),
+      ...(l.fit && { fit: l.fit }),
+      ...(l.bounds && { bounds: l.bounds as Record<string, [number, number]> }),
+    })),
     substrate: { material: get(slots[slots.length - 1]), thickness_mm: sub.thickness_mm ?? null, incoherent },
     notices,
     warnings,
   };
+}
+
+/**
+ * {"layer": N} sources: N names an existing layer other than the one the source sits in, and that layer's
+ * material holds no {"layer"} source itself (no chains, so no cycles).
+ */
+function checkLayerSources(
+  design: StackDesign,
+  every: Slot[],
+  where: (path: Array<string | number>, extra?: string[]) => { file: string; line?: number; column?: number; field: string },
+): void {
+  const holdsLayer = (src: MaterialSource): boolean => 'layer' in src || ('mix' in src && src.materials.some(holdsLayer));
+  for (const slot of every) {
+    const src = slot.source;
+    if (!('layer' in src)) continue;
+    const at = where(slot.path, ['layer']);
+    const count = design.layers.length;
+    if (src.layer > count) {
+      throw new InputError(
+        'design-layer-source',
+        `${slot.role}: {"layer": ${src.layer}} names no layer (the design has ${count}, numbered from 1 on the ambient side)`,
+        at,
+      );
+    }
+    if (slot.path[0] === 'layers' && slot.path[1] === src.layer - 1) {
+      throw new InputError('design-layer-source', `${slot.role}: {"layer": ${src.layer}} names the layer it sits in`, at);
+    }
+    if (holdsLayer(design.layers[src.layer - 1].material)) {
+      throw new InputError(
+        'design-layer-source',
+        `${slot.role}: layer ${src.layer} is itself made from another layer's material; name that layer directly`,
+        at,
+      );
+    }
+  }
 }
 
 /** A design ref read through the lockfile: the locked version of its material, refused when the two disagree. */
@@ -456,10 +517,10 @@ export interface StackReport {
   results: StackResult[];
 }
 
-class OutOfRange extends InputError {}
+export class OutOfRange extends InputError {}
 
 /** n, k of a material on a grid, refusing wavelengths it does not cover (named with its range). */
-function materialNk(m: ResolvedMaterial, wl: number[], extrapolate: boolean, purpose: string): StackMedium {
+export function materialNk(m: ResolvedMaterial, wl: number[], extrapolate: boolean, purpose: string): StackMedium {
   const size = wl.length;
   let n: number[], k: number[];
   const refuse = (range: [number, number], what: string, hint: string) => {

@@ -49,6 +49,11 @@ export const COMMANDS: CommandEntry[] = [
   { name: 'backup', summary: 'copy the registry to a new file while it stays in use', load: () => import('./backup.ts') },
   { name: 'diff', summary: 'compare two versions: parameters, largest |Δn| and |Δk|, provenance', load: () => import('./diff.ts') },
   { name: 'export', summary: 'export a version as CSV or JSON', load: () => import('./export.ts') },
+  {
+    name: 'ellipsometry',
+    summary: 'fit layer thicknesses and dispersion models to measured Ψ/Δ; keep the film as a draft version',
+    load: () => import('./ellipsometry.ts'),
+  },
   { name: 'stack', summary: 'R, T, A, Ψ/Δ and colour of a thin-film stack design from pinned materials', load: () => import('./stack.ts') },
 ];
 
