@@ -28,6 +28,7 @@ import { registerNkRoute } from './routes/nk.ts';
 import { ChangeMemo, RegistryChanges } from './registry-changes.ts';
 import { ComputePool } from '../service/compute-pool.ts';
 import { registerStackRoute } from './routes/stack.ts';
+import { registerEllipsometryRoute } from './routes/ellipsometry.ts';
 
 export interface AppOptions {
   registry: Registry;
@@ -125,5 +126,6 @@ export function createApp(options: AppOptions): Hono<ApiEnv> {
   registerLockRoutes(app, ctx);
   registerAdminRoutes(app, ctx);
   registerStackRoute(app, ctx);
+  registerEllipsometryRoute(app, ctx);
   return app;
 }

@@ -63,32 +63,45 @@ export const UPLOAD_ERRORS = {
   415: problem('neither a text table (text/csv, text/plain, text/tab-separated-values) nor multipart/form-data'),
 };
 
-/** Read the table and the fields of an upload; refuses other media types with 415. */
-export async function readTableUpload(c: Context): Promise<TableUpload> {
+/**
+ * Read the table and the fields of an upload; refuses other media types with 415. `part` names the file part of a
+ * multipart body (default "table"); `textParts` are further parts read as text whether sent as files or fields
+ * (the ellipsometry fit's sample description); `multipartOnly` refuses a raw body.
+ */
+export async function readTableUpload(
+  c: Context,
+  { part: partName = 'table', textParts = [], multipartOnly = false }: { part?: string; textParts?: string[]; multipartOnly?: boolean } = {},
+): Promise<TableUpload> {
   const type = (c.req.header('content-type') ?? '').split(';')[0].trim().toLowerCase();
   let bytes: Uint8Array;
   let clientFileName: string | null = null;
   let fields: Record<string, string>;
   if (type === 'multipart/form-data') {
     const form = await readForm(c);
-    const part = form.get('table');
-    if (!(part instanceof File)) throw new InputError('upload-no-table', 'multipart upload needs a file part named "table"', {}, 400);
+    const part = form.get(partName);
+    if (!(part instanceof File)) throw new InputError('upload-no-table', `multipart upload needs a file part named "${partName}"`, {}, 400);
     bytes = new Uint8Array(await part.arrayBuffer());
     clientFileName = part.name && part.name !== 'blob' ? part.name.replace(/^.*[\\/]/, '') : null;
     fields = {};
     for (const [key, value] of form.entries()) {
-      if (key === 'table') continue;
+      if (key === partName) continue;
+      if (textParts.includes(key) && value instanceof File) {
+        fields[key] = new TextDecoder().decode(await value.arrayBuffer());
+        continue;
+      }
       if (typeof value !== 'string') throw new InputError('upload-field', `multipart field "${key}" must be text, not a file`, {}, 400);
       fields[key] = value;
     }
-  } else if (TABLE_TYPES.includes(type)) {
+  } else if (!multipartOnly && TABLE_TYPES.includes(type)) {
     bytes = new Uint8Array(await c.req.arrayBuffer());
     fields = readQuery(c.req.url);
   } else {
     throw new HttpProblem(
       415,
       'upload-media-type',
-      `send the table as text/csv (or text/plain) or as multipart/form-data with a "table" file, not "${type || 'no content type'}"`,
+      multipartOnly
+        ? `send multipart/form-data with a "${partName}" file part${textParts.map((t) => ` and a "${t}" part`).join('')}, not "${type || 'no content type'}"`
+        : `send the table as text/csv (or text/plain) or as multipart/form-data with a "table" file, not "${type || 'no content type'}"`,
     );
   }
   if (bytes.length === 0) throw new InputError('upload-empty', 'the uploaded table is empty', { file: clientFileName ?? UPLOAD_FILE }, 400);

@@ -12,19 +12,23 @@ import type { KkOptions } from '../kk/check.ts';
 import { fitOptionsForAbsentK, kkCheck, type KkAnswer } from './absent-k.ts';
 import { parseNkTable, type ImportOptions } from '../io/parse-table.ts';
 import { prepareMeasurement, type MeasurementImport, type PreparedMeasurement } from './import-measurement.ts';
+import { type EllipsometryOptions, type EllipsometryReport, fitEllipsometry, type ResolvedSample } from './ellipsometry.ts';
+import type { PsiDeltaData } from '../io/parse-psi-delta.ts';
 import { computeStack, type ResolvedDesign, type StackOptions, type StackReport } from './stack.ts';
 
 export type ComputeTask =
   | { kind: 'fit'; bytes: Uint8Array; importOptions: ImportOptions; fit: FitOptions }
   | { kind: 'kk'; bytes: Uint8Array; importOptions: ImportOptions; kk: KkOptions }
   | { kind: 'measurement'; input: Omit<MeasurementImport, 'slug' | 'provenance'> }
-  | { kind: 'stack'; design: ResolvedDesign; options: StackOptions };
+  | { kind: 'stack'; design: ResolvedDesign; options: StackOptions }
+  | { kind: 'ellipsometry'; sample: ResolvedSample; data: PsiDeltaData; options: EllipsometryOptions };
 
 export interface ComputeResults {
   fit: { warnings: string[]; report: FitReport };
   kk: { warnings: string[]; report: KkAnswer };
   measurement: PreparedMeasurement;
   stack: StackReport;
+  ellipsometry: EllipsometryReport;
 }
 
 export type ComputeResult<T extends ComputeTask> = ComputeResults[T['kind']];
@@ -56,6 +60,8 @@ function compute(task: ComputeTask): unknown {
       return prepareMeasurement(task.input);
     case 'stack':
       return computeStack(task.design, task.options);
+    case 'ellipsometry':
+      return fitEllipsometry(task.sample, task.data, task.options);
   }
 }
 
