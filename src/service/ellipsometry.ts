@@ -163,32 +163,61 @@ export interface EllipsometryReport {
   curves: EllipsometryCurve[];
 }
 
+/**
+ * Material objects of earlier evaluations, reused while their parameters are unchanged, so the n, k cache (keyed
+ * by object) holds across evaluations: a thickness step recomputes only the stack, not the materials.
+ */
+interface DesignMemo {
+  layers: Map<number, { key: string; material: ResolvedMaterial }>;
+  followed: WeakMap<ResolvedMaterial, { from: ResolvedMaterial[]; material: ResolvedMaterial }>;
+}
+
+const newMemo = (): DesignMemo => ({ layers: new Map(), followed: new WeakMap() });
+
 /** The design with the parameter vector q applied: changed layers get new material objects, the rest keep theirs. */
-function designAt(sample: ResolvedSample, q: ArrayLike<number>): ResolvedDesign {
+function designAt(sample: ResolvedSample, q: ArrayLike<number>, memo: DesignMemo = newMemo()): ResolvedDesign {
   const base = sample.design;
   const layers = base.layers.map((l) => ({ ...l }));
-  const changed = new Map<number, ResolvedMaterial>();
+  const values = new Map<number, Array<[string, number]>>();
   sample.parameters.forEach((p, j) => {
-    const layer = layers[p.layer];
-    if (p.param === 'thickness_nm') {
-      layer.thickness_nm = q[j];
-      return;
-    }
-    const m = changed.get(p.layer) ?? { ...layer.material };
-    if (p.param === 'fraction') m.mix = { ...m.mix!, fraction: q[j] };
-    else m.model = { ...m.model!, parameters: { ...m.model!.parameters, [p.param]: q[j] } };
-    changed.set(p.layer, m);
-    layer.material = m;
+    if (p.param === 'thickness_nm') layers[p.layer].thickness_nm = q[j];
+    else values.set(p.layer, [...(values.get(p.layer) ?? []), [p.param, q[j]]]);
   });
+  const changed = new Map<number, ResolvedMaterial>();
+  for (const [index, list] of values) {
+    const key = JSON.stringify(list);
+    let entry = memo.layers.get(index);
+    if (entry?.key !== key) {
+      const m = { ...base.layers[index].material };
+      for (const [param, value] of list) {
+        if (param === 'fraction') m.mix = { ...m.mix!, fraction: value };
+        else m.model = { ...m.model!, parameters: { ...m.model!.parameters, [param]: value } };
+      }
+      entry = { key, material: m };
+      memo.layers.set(index, entry);
+    }
+    changed.set(index, entry.material);
+    layers[index].material = entry.material;
+  }
   if (!changed.size) return { ...base, layers };
-  // {"layer": N} sources follow their layer's new material
+  // {"layer": N} sources follow their layer's new material (the same object while it is unchanged)
   const follow = (m: ResolvedMaterial): ResolvedMaterial => {
     if (m.fromLayer !== undefined && changed.has(m.fromLayer - 1)) {
-      return { ...changed.get(m.fromLayer - 1)!, role: m.role, field: m.field, fromLayer: m.fromLayer, describe: m.describe };
+      const from = changed.get(m.fromLayer - 1)!;
+      const known = memo.followed.get(m);
+      if (known && known.from[0] === from) return known.material;
+      const material = { ...from, role: m.role, field: m.field, fromLayer: m.fromLayer, describe: m.describe };
+      memo.followed.set(m, { from: [from], material });
+      return material;
     }
     if (m.mix) {
       const parts = m.mix.materials.map(follow) as [ResolvedMaterial, ResolvedMaterial];
-      if (parts[0] !== m.mix.materials[0] || parts[1] !== m.mix.materials[1]) return { ...m, mix: { ...m.mix, materials: parts } };
+      if (parts[0] === m.mix.materials[0] && parts[1] === m.mix.materials[1]) return m;
+      const known = memo.followed.get(m);
+      if (known && known.from[0] === parts[0] && known.from[1] === parts[1]) return known.material;
+      const material = { ...m, mix: { ...m.mix, materials: parts } };
+      memo.followed.set(m, { from: parts, material });
+      return material;
     }
     return m;
   };
@@ -301,12 +330,13 @@ export function fitEllipsometry(sample: ResolvedSample, data: PsiDeltaData, opti
   const groups = groupsOf(data);
   const count = data.wavelengthNm.length;
   const cache = new WeakMap<ResolvedMaterial, StackMedium>();
+  const memo = newMemo();
   const start = Float64Array.from(sample.parameters, (p) => p.start);
   // at the start values, refusals (a material not covering the data, an absorbing ambient) reach the user as they are
   modelPsiDelta(designAt(sample, start), groups, count, options.extrapolate, cache);
   const model = (q: Float64Array) => {
     try {
-      return modelPsiDelta(designAt(sample, q), groups, count, options.extrapolate, cache);
+      return modelPsiDelta(designAt(sample, q, memo), groups, count, options.extrapolate, cache);
     } catch (err) {
       if (err instanceof InputError && (err.rule === 'stack-nk-invalid' || err.rule === 'stack-out-of-range')) return null;
       throw err;

@@ -19,10 +19,10 @@ export interface CorpusFile {
   bytes: Uint8Array;
 }
 
-/** The valid tables (truth.json and the headerless fixture, which needs --columns, left out). */
+/** The valid tables (truth.json, the headerless fixture, which needs --columns, and the Ψ/Δ demo files left out). */
 export const CORPUS: CorpusFile[] = DIRS.flatMap((dir) =>
   readdirSync(join(ROOT, dir))
-    .filter((f) => !f.endsWith('.json') && f !== 'headerless.csv')
+    .filter((f) => !f.endsWith('.json') && f !== 'headerless.csv' && !f.includes('.psi-delta.'))
     .sort()
     .map((f) => ({ name: `${dir}/${f}`, bytes: new Uint8Array(readFileSync(join(ROOT, dir, f))) })),
 );
