@@ -7,7 +7,7 @@
  */
 import { createHash } from 'node:crypto';
 import { InputError } from '../errors.ts';
-import { fitPsiDelta, type PsiDeltaParameter, type PsiDeltaWarning } from '../fit/ellipsometry.ts';
+import { fitPsiDelta, screenStarts, type PsiDeltaParameter, type PsiDeltaWarning } from '../fit/ellipsometry.ts';
 import { parsePsiDelta, type PsiDeltaData, type PsiDeltaImport, type PsiDeltaOptions } from '../io/parse-psi-delta.ts';
 import type { Registry } from '../registry/open.ts';
 import { buildModel } from '../models/catalogue.ts';
@@ -155,10 +155,12 @@ export interface EllipsometryReport {
   warnings: PsiDeltaWarning[];
   materials: Array<{ role: string; ref: string | null; sha256: string | null; describe: string }>;
   weights: { sigma_psi_deg: number | 'file'; sigma_delta_deg: number | 'file' };
+  /** Thickness starts screened with the other parameters at their starting values, and the one the full fit started from. */
   multistart: {
     parameter: string | null;
     period_nm: number | null;
-    runs: Array<{ start: number | null; value: number | null; chi2: number; converged: boolean }>;
+    screened: Array<{ start: number; value: number | null; chi2: number | null }>;
+    best_start: number | null;
   };
   curves: EllipsometryCurve[];
 }
@@ -356,19 +358,29 @@ export function fitEllipsometry(sample: ResolvedSample, data: PsiDeltaData, opti
         });
   const params: PsiDeltaParameter[] = sample.parameters.map((p) => ({ name: p.name, unit: p.unit, bounds: p.bounds, scale: p.scale }));
   const thin = sample.parameters.find((p) => p.param === 'thickness_nm' && !sample.design.layers[p.layer].material.mix);
-  const fit = fitPsiDelta({ psiDeg: data.psiDeg, deltaDeg: data.deltaDeg, sigmaPsiDeg, sigmaDeltaDeg }, model, params, startVectors, {
+  const target = { psiDeg: data.psiDeg, deltaDeg: data.deltaDeg, sigmaPsiDeg, sigmaDeltaDeg };
+  // Several thickness starts are screened by fitting the thickness alone (cheap); the full fit then runs from the
+  // best of them. A full fit from every start would spend most of its time on starts a period away.
+  const screened = startVectors.length > 1 ? screenStarts(target, model, params, startVectors, multi.index) : [];
+  let from = startVectors[0];
+  const best = screened.reduce<number>((b, r, i) => (r && (b < 0 || r.chi2 < screened[b]!.chi2) ? i : b), -1);
+  if (best >= 0) {
+    from = Float64Array.from(startVectors[best]);
+    from[multi.index] = screened[best]!.value;
+  }
+  const fit = fitPsiDelta(target, model, params, [from], {
     thinFilm: thin ? { parameter: thin.name, thresholdNm: THIN_FILM_NM } : undefined,
   });
-  if (multi.index >= 0) {
-    const best = fit.values[multi.index];
-    const others = fit.runs.filter((r) => Math.abs(r.values[multi.index] - best) > 1 && r.chi2 < 1.5 * fit.chi2 && r.chi2 > fit.chi2);
+  if (best >= 0) {
+    const value = fit.values[multi.index];
+    const others = screened.filter((r) => r && Math.abs(r.value - screened[best]!.value) > 1 && r.chi2 < 1.5 * screened[best]!.chi2);
     if (others.length) {
-      const alt = others.reduce((a, b) => (b.chi2 < a.chi2 ? b : a));
+      const alt = others.reduce((a, b) => (b!.chi2 < a!.chi2 ? b : a))!;
       fit.warnings.push({
         rule: 'ambiguous-thickness',
-        message: `another start ended at ${params[multi.index].name} = ${alt.values[multi.index].toFixed(2)} nm with χ² only ${((alt.chi2 / fit.chi2 - 1) * 100).toFixed(0)} % higher: the data barely tell the two apart`,
+        message: `with the other parameters at their starting values, ${params[multi.index].name} = ${alt.value.toFixed(2)} nm fits nearly as well as ${value.toFixed(2)} nm (χ² ${((alt.chi2 / screened[best]!.chi2 - 1) * 100).toFixed(0)} % higher): check the result against another measurement`,
         parameter: params[multi.index].name,
-        value: alt.values[multi.index],
+        value: alt.value,
       });
     }
   }
@@ -400,12 +412,12 @@ export function fitEllipsometry(sample: ResolvedSample, data: PsiDeltaData, opti
     multistart: {
       parameter: multi.index >= 0 ? params[multi.index].name : null,
       period_nm: multi.period,
-      runs: fit.runs.map((r) => ({
-        start: multi.index >= 0 ? r.start[multi.index] : null,
-        value: multi.index >= 0 ? r.values[multi.index] : null,
-        chi2: r.chi2,
-        converged: r.converged,
+      screened: screened.map((r, i) => ({
+        start: startVectors[i][multi.index],
+        value: r?.value ?? null,
+        chi2: r?.chi2 ?? null,
       })),
+      best_start: best >= 0 ? startVectors[best][multi.index] : multi.index >= 0 ? startVectors[0][multi.index] : null,
     },
     curves: groups.angles.map((g) => ({
       angle_deg: g.angle,

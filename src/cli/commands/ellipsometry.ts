@@ -116,12 +116,13 @@ function textReport(a: EllipsometryAnswer, seconds: number, plot: string | undef
   lines.push(
     `weights: σΨ ${w.sigma_psi_deg === 'file' ? 'from the file' : `${w.sigma_psi_deg}° (default)`}, σΔ ${w.sigma_delta_deg === 'file' ? 'from the file' : `${w.sigma_delta_deg}° (default)`}`,
   );
-  if (a.multistart.parameter && a.multistart.runs.length > 1) {
-    const ends = a.multistart.runs.map((r) => `${r.start!.toFixed(1)}→${r.value!.toFixed(2)}`).join(', ');
+  if (a.multistart.parameter && a.multistart.screened.length > 1) {
+    const ends = a.multistart.screened.map((r) => `${r.start.toFixed(1)}→${r.value === null ? '—' : r.value.toFixed(2)}`).join(', ');
     lines.push(
-      `${a.multistart.runs.length} starts of ${a.multistart.parameter} across one interference period (${a.multistart.period_nm!.toFixed(1)} nm): ${ends} nm; ${seconds.toFixed(2)} s`,
+      `${a.multistart.screened.length} starts of ${a.multistart.parameter} across one interference period (${a.multistart.period_nm!.toFixed(1)} nm), screened with the other parameters fixed: ${ends} nm; full fit from ${a.multistart.best_start!.toFixed(1)} nm`,
     );
   }
+  lines.push(`fit time ${seconds.toFixed(2)} s`);
   if (a.correlations.high.length) {
     lines.push('strong correlations:', ...a.correlations.high.map((h) => `  ${h.a} ~ ${h.b}: r = ${h.r.toFixed(3)}`));
   }
