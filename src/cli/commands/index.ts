@@ -51,7 +51,7 @@ export const COMMANDS: CommandEntry[] = [
   { name: 'export', summary: 'export a version as CSV or JSON', load: () => import('./export.ts') },
   {
     name: 'ellipsometry',
-    summary: 'fit layer thicknesses and dispersion models to measured Ψ/Δ; keep the film as a draft version',
+    summary: 'fit layer thicknesses and dispersion models to measured Ψ/Δ; --store keeps the film',
     load: () => import('./ellipsometry.ts'),
   },
   { name: 'stack', summary: 'R, T, A, Ψ/Δ and colour of a thin-film stack design from pinned materials', load: () => import('./stack.ts') },
