@@ -12,7 +12,7 @@
  * Uncertainty: cov = s²(JᵀWJ)⁻¹, s² = χ²/(N − p), as for the table fits (statistics.ts).
  */
 import { NumericalError } from '../errors.ts';
-import { minimizeResidualsWithBounds, type LmResult } from './lm.ts';
+import { minimizeWithBounds, type LmResult } from './lm.ts';
 import { CORRELATION_THRESHOLD, rms, SingularCovariance, uncertainty } from './statistics.ts';
 
 export interface PsiDeltaTarget {
@@ -146,7 +146,7 @@ export function screenStarts(
   const bounds = parameters.map((p) => p.bounds);
   return starts.map((start) => {
     try {
-      const r = minimizeResidualsWithBounds(residuals, start, [index], bounds, maxIterations, () => 'not finite at the start');
+      const r = minimizeWithBounds(residuals, start, [index], bounds, maxIterations, () => 'not finite at the start');
       return { start: start[index], value: r.values[index], chi2: r.chi2, converged: r.converged };
     } catch (err) {
       if (err instanceof NumericalError) return null;
@@ -174,7 +174,7 @@ export function fitPsiDelta(
   let lastError: unknown;
   for (const start of starts) {
     try {
-      const result = minimizeResidualsWithBounds(residuals, start, free, bounds, maxIterations, (p) => {
+      const result = minimizeWithBounds(residuals, start, free, bounds, maxIterations, (p) => {
         const list = parameters.map((s, i) => `${s.name}=${p[i]}`).join(', ');
         return `the model Ψ, Δ cannot be computed at the start values (${list}); check the sample description's starting values and materials`;
       });

@@ -6,7 +6,7 @@
 import { InputError, NumericalError } from '../errors.ts';
 import { buildModel, type DispersionModel } from '../models/catalogue.ts';
 import type { NkTable } from '../table.ts';
-import { minimizeWithBounds, type LmResult } from './lm.ts';
+import { minimizeWithBounds, nonFiniteMessage, tableResiduals, type LmResult } from './lm.ts';
 import { seededRandom } from './random.ts';
 import { buildProblem, noiseFromSecondDifferences, whitenedModel, type FitProblem } from './problem.ts';
 import { CORRELATION_THRESHOLD, informationCriteria, rms, SingularCovariance, uncertainty } from './statistics.ts';
@@ -187,9 +187,11 @@ export function solveFit(prepared: PreparedFit): FitSolution {
   const random = seededRandom(prepared.seed);
   const runs: LmResult[] = [];
   let skipped = 0;
+  const residuals = tableResiduals(problem, model);
+  const nonFinite = (p: Float64Array) => nonFiniteMessage(model, p, 'at the start values');
   for (let s = 0; s < prepared.startCount; s++) {
     if (s === 0) {
-      runs.push(minimizeWithBounds(problem, model, start, free, bounds, maxIterations));
+      runs.push(minimizeWithBounds(residuals, start, free, bounds, maxIterations, nonFinite));
       continue;
     }
     // a perturbed start outside the model's domain or where it is not finite is skipped, never fatal
@@ -199,7 +201,7 @@ export function solveFit(prepared: PreparedFit): FitSolution {
       continue;
     }
     try {
-      runs.push(minimizeWithBounds(problem, model, from, free, bounds, maxIterations));
+      runs.push(minimizeWithBounds(residuals, from, free, bounds, maxIterations, nonFinite));
     } catch (err) {
       if (!(err instanceof NumericalError)) throw err;
       skipped++;

@@ -111,7 +111,7 @@ export function residualsAt(
 export type ResidualFunction = (q: Float64Array, free: number[], withJacobian: boolean) => { r: Float64Array; jacobian: Float64Array[] };
 
 /** The residual function of a dispersion-model fit to a table. */
-function tableResiduals(problem: FitProblem, model: DispersionModel): ResidualFunction {
+export function tableResiduals(problem: FitProblem, model: DispersionModel): ResidualFunction {
   return (q, free, withJacobian) => residualsAt(problem, model, q, free, withJacobian);
 }
 
@@ -249,27 +249,11 @@ function projectedCosine(
 }
 
 /**
- * Minimize χ² over the free parameters from `start`, within `bounds` (full parameter order).
- * Throws NumericalError when the model is not finite at the start or the library fails.
+ * Minimize χ² over the free parameters from `start`, within `bounds` (full parameter order), for any residual
+ * function (a table fit, the ellipsometric Ψ/Δ fit). `nonFinite` words the refusal when the residuals are not
+ * finite at the start. Throws NumericalError then or when the library fails.
  */
 export function minimize(
-  problem: FitProblem,
-  model: DispersionModel,
-  start: Float64Array,
-  free: number[],
-  bounds: [number, number][],
-  maxIterations: number,
-): LmResult {
-  return minimizeResiduals(tableResiduals(problem, model), start, free, bounds, maxIterations, (p) =>
-    nonFiniteMessage(model, p, 'at the start values'),
-  );
-}
-
-/**
- * minimize() on any residual function (the table fit above, the ellipsometric Ψ/Δ fit). `nonFinite` words
- * the refusal when the residuals are not finite at the start.
- */
-export function minimizeResiduals(
   residuals: ResidualFunction,
   start: Float64Array,
   free: number[],
@@ -416,20 +400,6 @@ export function minimizeResiduals(
  * Karush-Kuhn-Tucker condition for the box.
  */
 export function minimizeWithBounds(
-  problem: FitProblem,
-  model: DispersionModel,
-  start: Float64Array,
-  free: number[],
-  bounds: [number, number][],
-  maxIterations: number,
-): LmResult {
-  return minimizeResidualsWithBounds(tableResiduals(problem, model), start, free, bounds, maxIterations, (p) =>
-    nonFiniteMessage(model, p, 'at the start values'),
-  );
-}
-
-/** minimizeWithBounds() on any residual function. */
-export function minimizeResidualsWithBounds(
   residuals: ResidualFunction,
   start: Float64Array,
   free: number[],
@@ -443,7 +413,7 @@ export function minimizeResidualsWithBounds(
   let result: LmResult | undefined;
   for (let round = 0; round < 3 * free.length + 3; round++) {
     const movable = free.filter((i) => !held.has(i));
-    result = minimizeResiduals(residuals, p, movable, bounds, Math.max(1, maxIterations - iterations), nonFinite);
+    result = minimize(residuals, p, movable, bounds, Math.max(1, maxIterations - iterations), nonFinite);
     iterations += result.iterations;
     p = result.values;
     const { r, jacobian } = residuals(p, free, true);

@@ -14,7 +14,7 @@ import { InputError } from '../errors.ts';
 import { toWavelengthNm, type SpectralUnit } from '../optics/units.ts';
 import { type RecognizedColumn, recognizeColumn } from './columns.ts';
 import { type DelimitedText, readDelimited, readRows, resolveXUnit, unitsRowOf, WHITESPACE, withUnitsRow } from './delimited.ts';
-import type { ImportOptions } from './import-types.ts';
+import type { DetectedFormat, ImportOptions } from './import-types.ts';
 import type { ParsedRow } from './normalize.ts';
 import { checkPlausibleRange } from './plausible.ts';
 
@@ -36,20 +36,13 @@ export interface PsiDeltaData {
   line: number[];
 }
 
-export interface PsiDeltaFormat {
+/** How the file was read: the n,k import's detection fields, and the layout, angles and Δ convention. */
+export interface PsiDeltaFormat
+  extends Pick<DetectedFormat, 'bom' | 'lineEnding' | 'delimiter' | 'decimalComma' | 'header' | 'headerLine' | 'preamble' | 'columns' | 'xUnit'> {
   encoding: string;
-  bom: boolean;
-  lineEnding: 'LF' | 'CRLF' | 'CR';
-  delimiter: string;
-  decimalComma: boolean;
-  header: boolean;
-  headerLine?: number;
-  preamble: string[];
-  columns: string[];
   /** Role per column: x, angle, psi, delta, sigma_psi, sigma_delta (wide: psi@65 …), ignore. */
   roles: string[];
   layout: 'long' | 'wide';
-  xUnit: SpectralUnit;
   /** How Δ was written: "0-360", "-180-180", or "either" when every value lies in 0…180. */
   deltaConvention: '0-360' | '-180-180' | 'either';
   anglesDeg: number[];
