@@ -11,6 +11,7 @@ import { LOCK_OPERATIONS } from './routes/locks.ts';
 import { MATERIAL_OPERATIONS } from './routes/materials.ts';
 import { NK_OPERATIONS } from './routes/nk.ts';
 import { STACK_OPERATIONS } from './routes/stack.ts';
+import { ELLIPSOMETRY_OPERATIONS } from './routes/ellipsometry.ts';
 import { UPLOAD_OPERATIONS } from './routes/uploads.ts';
 import { json, type BodySchema, type Operation } from './operations.ts';
 
@@ -31,6 +32,7 @@ export const API_OPERATIONS: Operation[] = [
   ...LOCK_OPERATIONS,
   ...ADMIN_OPERATIONS,
   ...STACK_OPERATIONS,
+  ...ELLIPSOMETRY_OPERATIONS,
 ];
 
 type JsonSchema = Record<string, unknown>;

@@ -31,7 +31,8 @@ export interface TableUpload {
   fieldsIn: 'query' | 'body';
 }
 
-const importFields = z.object(optionFields(IMPORT_OPTIONS));
+/** The import fields every upload takes (input_unit, columns, …), as the CLI's input flags. */
+export const importFields = z.object(optionFields(IMPORT_OPTIONS));
 const IMPORT_FIELD_NAMES = Object.keys(importFields.shape);
 
 const TABLE_TYPES = ['text/csv', 'text/plain', 'text/tab-separated-values'];

@@ -307,6 +307,18 @@ describe('OpenAPI document', () => {
       '/api/v1/stack',
       await h.request('/api/v1/stack?at=550', json({ layers: [], substrate: { material: { file: 'x.csv' } } })),
     );
+    const psiDelta = (sample: object) => {
+      const body = new FormData();
+      body.set('data', new Blob(['wavelength_nm,angle,psi,delta\n400,70,20,120\n500,70,22,110\n600,70,24,100\n']), 'run.csv');
+      body.set('sample', JSON.stringify(sample));
+      body.set('starts', '1');
+      return { method: 'POST', body };
+    };
+    const film = { layers: [{ material: { n: 1.46 }, thickness_nm: 100, fit: ['thickness_nm'] }], substrate: { material: { n: 3.9, k: 0.02 } } };
+    const fitted = await h.request('/api/v1/ellipsometry/fit', psiDelta(film));
+    expect(fitted.status, await fitted.clone().text()).toBe(200);
+    expect(await answers.check('POST', '/api/v1/ellipsometry/fit', fitted)).toHaveProperty('parameters.thickness_nm');
+    await answers.check('POST', '/api/v1/ellipsometry/fit', await h.request('/api/v1/ellipsometry/fit', psiDelta({ ...film, layers: [] })));
   });
 
   it('tokens and settings: admin answers and refusals', async () => {
