@@ -327,8 +327,16 @@ function thicknessStarts(
   return { index: first, period, values };
 }
 
-/** The whole fit: the ONE CPU-heavy call behind the CLI and the API. */
-export function fitEllipsometry(sample: ResolvedSample, data: PsiDeltaData, options: EllipsometryOptions): EllipsometryReport {
+/** Where a long fit is: called before each screened start, then every 20 model evaluations of the full fit. */
+export type EllipsometryProgress = (step: { phase: 'screening' | 'fit'; done: number; total: number; evaluations: number }) => void;
+
+/** The whole fit: the ONE CPU-heavy call behind the CLI and the API. `onProgress` (in-process callers only) hears where it is. */
+export function fitEllipsometry(
+  sample: ResolvedSample,
+  data: PsiDeltaData,
+  options: EllipsometryOptions,
+  onProgress?: EllipsometryProgress,
+): EllipsometryReport {
   const groups = groupsOf(data);
   const count = data.wavelengthNm.length;
   const cache = new WeakMap<ResolvedMaterial, StackMedium>();
@@ -336,7 +344,10 @@ export function fitEllipsometry(sample: ResolvedSample, data: PsiDeltaData, opti
   const start = Float64Array.from(sample.parameters, (p) => p.start);
   // at the start values, refusals (a material not covering the data, an absorbing ambient) reach the user as they are
   modelPsiDelta(designAt(sample, start), groups, count, options.extrapolate, cache);
+  let evaluations = 0;
+  let phase: { phase: 'screening' | 'fit'; done: number; total: number } = { phase: 'screening', done: 0, total: 1 };
   const model = (q: Float64Array) => {
+    if (onProgress && ++evaluations % 20 === 0) onProgress({ ...phase, evaluations });
     try {
       return modelPsiDelta(designAt(sample, q, memo), groups, count, options.extrapolate, cache);
     } catch (err) {
@@ -361,7 +372,16 @@ export function fitEllipsometry(sample: ResolvedSample, data: PsiDeltaData, opti
   const target = { psiDeg: data.psiDeg, deltaDeg: data.deltaDeg, sigmaPsiDeg, sigmaDeltaDeg };
   // Several thickness starts are screened by fitting the thickness alone (cheap); the full fit then runs from the
   // best of them. A full fit from every start would spend most of its time on starts a period away.
-  const screened = startVectors.length > 1 ? screenStarts(target, model, params, startVectors, multi.index) : [];
+  const screened =
+    startVectors.length > 1
+      ? startVectors.flatMap((v, i) => {
+          phase = { phase: 'screening', done: i, total: startVectors.length };
+          onProgress?.({ ...phase, evaluations });
+          return screenStarts(target, model, params, [v], multi.index);
+        })
+      : [];
+  phase = { phase: 'fit', done: 0, total: 1 };
+  onProgress?.({ ...phase, evaluations });
   let from = startVectors[0];
   const best = screened.reduce<number>((b, r, i) => (r && (b < 0 || r.chi2 < screened[b]!.chi2) ? i : b), -1);
   if (best >= 0) {

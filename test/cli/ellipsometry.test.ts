@@ -22,6 +22,7 @@ describe('nkledger ellipsometry fit', () => {
     const plot = join(dir, 'fit.svg');
     const r = await runCli(['ellipsometry', 'fit', DATA, '--sample', SAMPLE, '--json', '--starts', '2', '--plot', plot]);
     expect(r.code, r.stderr).toBe(0);
+    expect(r.stderr).not.toContain('\r'); // progress only on a terminal
     const out = JSON.parse(r.stdout);
     expect(Object.keys(out.parameters)).toEqual(['thickness_nm', 'B1']);
     expect(out.parameters.thickness_nm).toMatchObject({ unit: 'nm', at_bound: false });

@@ -91,7 +91,18 @@ describe('Ψ, Δ forward values against the numpy reference', () => {
 describe('recovery from synthetic data with noise', () => {
   it('thermal SiO2 (Malitson 1965) on a tabulated substrate: thickness within 0.2 nm, n(632.8 nm) within 1e-3', async () => {
     const p = await prepared('sio2-malitson');
-    const report = fitEllipsometry(p.sample, p.data.data, { starts: 5, extrapolate: false });
+    const steps: Array<{ phase: string; done: number }> = [];
+    const report = fitEllipsometry(p.sample, p.data.data, { starts: 5, extrapolate: false }, (s) => steps.push(s));
+    // progress: each screened start announced in order, then the full fit
+    const announced = steps.filter((s, i) => i === 0 || s.phase !== steps[i - 1].phase || s.done !== steps[i - 1].done);
+    expect(announced.map((s) => `${s.phase} ${s.done}`)).toEqual([
+      'screening 0',
+      'screening 1',
+      'screening 2',
+      'screening 3',
+      'screening 4',
+      'fit 0',
+    ]);
     const truth = REF.cases['sio2-malitson'];
     const t = report.parameters.thickness_nm;
     expect(Math.abs(t.value - truth.thickness_nm)).toBeLessThan(0.2);

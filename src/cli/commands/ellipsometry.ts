@@ -12,6 +12,8 @@ import {
   DEFAULT_SIGMA_PSI_DEG,
   DEFAULT_STARTS,
   type EllipsometryAnswer,
+  type EllipsometryProgress,
+  type EllipsometryReport,
   fitEllipsometry,
   MAX_STARTS,
   prepareEllipsometry,
@@ -75,7 +77,13 @@ export function register(program: Command): void {
           resolve: { db: opts.db, allowFiles: true },
         });
         const started = performance.now();
-        const report = fitEllipsometry(prepared.sample, prepared.data.data, { starts, extrapolate: opts.extrapolate ?? false });
+        const progress = progressLine(started);
+        let report: EllipsometryReport;
+        try {
+          report = fitEllipsometry(prepared.sample, prepared.data.data, { starts, extrapolate: opts.extrapolate ?? false }, progress.update);
+        } finally {
+          progress.clear();
+        }
         const seconds = (performance.now() - started) / 1000;
         const answer = answerOf(prepared, report);
         printWarnings(answer.import_warnings);
@@ -90,6 +98,28 @@ export function register(program: Command): void {
         printLines(textReport(answer, seconds, opts.plot, stored));
       }),
     );
+}
+
+/**
+ * Progress of a fit that has run longer than a second, on one line of standard error, only when that is a terminal
+ * (a log file or a pipe gets nothing). The fit is synchronous, so the line is written from its own callbacks.
+ */
+function progressLine(started: number): { update: EllipsometryProgress | undefined; clear: () => void } {
+  const stderr = cliIo().stderr as { write(text: string): unknown; isTTY?: boolean };
+  if (stderr.isTTY !== true) return { update: undefined, clear: () => {} };
+  let shown = false;
+  return {
+    update: (step) => {
+      const elapsed = (performance.now() - started) / 1000;
+      if (elapsed < 1) return;
+      const where = step.phase === 'screening' ? `screening thickness start ${step.done + 1} of ${step.total}` : 'full fit';
+      stderr.write(`\r\x1b[Kellipsometry fit: ${where}, ${step.evaluations} model evaluations, ${elapsed.toFixed(1)} s`);
+      shown = true;
+    },
+    clear: () => {
+      if (shown) stderr.write('\r\x1b[K');
+    },
+  };
 }
 
 const fmt = (v: number | null, digits = 5) => (v === null ? '—' : Math.abs(v) >= 1e-3 || v === 0 ? v.toPrecision(digits) : v.toExponential(2));
