@@ -128,13 +128,21 @@ function textReport(a: EllipsometryAnswer, seconds: number, plot: string | undef
   const lines = [
     `${a.data.file}: ${a.data.points} points at ${a.data.angles_deg.join(', ')}°, ${a.data.wavelength_range_nm[0]}–${a.data.wavelength_range_nm[1]} nm`,
   ];
+  const roleWidth = Math.max(10, ...a.materials.map((m) => m.role.length)); // mixture parts have long roles
   for (const m of a.materials)
-    lines.push(`  ${m.role.padEnd(10)} ${m.describe}${m.ref ? `, ${m.ref}` : ''}${m.sha256 ? ` sha256:${m.sha256.slice(0, 12)}…` : ''}`);
+    lines.push(`  ${m.role.padEnd(roleWidth)} ${m.describe}${m.ref ? `, ${m.ref}` : ''}${m.sha256 ? ` sha256:${m.sha256.slice(0, 12)}…` : ''}`);
   lines.push('', 'fitted parameters (± 1σ):');
+  const anyAtBound = Object.values(a.parameters).some((p) => p.at_bound);
   lines.push(
     ...formatTable(
-      ['parameter', 'value', '± 1σ', 'unit', ''],
-      Object.entries(a.parameters).map(([name, p]) => [name, fmt(p.value, 6), fmt(p.stderr, 2), p.unit, p.at_bound ? 'at bound' : '']),
+      ['parameter', 'value', '± 1σ', 'unit', ...(anyAtBound ? [''] : [])],
+      Object.entries(a.parameters).map(([name, p]) => [
+        name,
+        fmt(p.value, 6),
+        fmt(p.stderr, 2),
+        p.unit,
+        ...(anyAtBound ? [p.at_bound ? 'at bound' : ''] : []),
+      ]),
     ),
   );
   const s = a.statistics;
