@@ -571,6 +571,13 @@ export function storeFittedFilm(
     statistics: report.statistics,
     correlations: report.correlations,
     warnings: report.warnings.map((w) => w.message),
+    // as data too, so the review summary (service/review.ts) reads convergence and the rules
+    diagnostics: report.warnings.map((w) => ({
+      rule: w.rule,
+      message: w.message,
+      ...((w.parameters ?? w.parameter) && { parameters: w.parameters ?? [w.parameter!] }),
+      ...(w.value !== undefined && { value: w.value }),
+    })),
     kk_consistent: model.kkConsistent,
     table: 'derived: n, k evaluated from this fitted model on the measured wavelengths, not measured',
     ellipsometry,

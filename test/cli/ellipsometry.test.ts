@@ -61,6 +61,7 @@ describe('nkledger ellipsometry fit', () => {
     expect(v.provenance.notes).toContain('derived from the fitted sellmeier model');
     expect(v.content.fit.model).toBe('sellmeier');
     expect(v.content.fit.table).toMatch(/^derived/);
+    expect(v.content.fit.diagnostics.map((d: { rule: string }) => d.rule)).toContain('strong-correlation'); // read by review
     expect(v.content.fit.ellipsometry.thickness_nm.value).toBeCloseTo(102.3, 1);
     expect(v.content.fit.ellipsometry.materials[0]).toMatchObject({ role: 'substrate', ref: 'si-like-substrate.csv' });
     expect(v.content.table.wavelengthNm).toHaveLength(141);

@@ -103,12 +103,15 @@ export function registerEllipsometryRoute(app: Hono<ApiEnv>, ctx: RouteContext):
       sample: { text: fields.sample, file: SAMPLE },
       resolve: { registry: ctx.registry, allowFiles: false },
     });
-    const report = await ctx.compute.run({
-      kind: 'ellipsometry',
-      sample: prepared.sample,
-      data: prepared.data.data,
-      options: { starts, extrapolate: fields.extrapolate === 'true' },
-    });
+    const report = await ctx.compute.run(
+      {
+        kind: 'ellipsometry',
+        sample: prepared.sample,
+        data: prepared.data.data,
+        options: { starts, extrapolate: fields.extrapolate === 'true' },
+      },
+      c.req.raw.signal,
+    );
     c.header('cache-control', 'no-store');
     if (svg)
       return c.body(renderEllipsometryPlot(report, `${upload.file}: ${prepared.sample.design.name ?? 'sample'}`), 200, {
