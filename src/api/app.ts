@@ -29,6 +29,7 @@ import { ChangeMemo, RegistryChanges } from './registry-changes.ts';
 import { ComputePool } from '../service/compute-pool.ts';
 import { registerStackRoute } from './routes/stack.ts';
 import { registerEllipsometryRoute } from './routes/ellipsometry.ts';
+import { registerRefRoutes } from './routes/refs.ts';
 
 export interface AppOptions {
   registry: Registry;
@@ -127,5 +128,6 @@ export function createApp(options: AppOptions): Hono<ApiEnv> {
   registerAdminRoutes(app, ctx);
   registerStackRoute(app, ctx);
   registerEllipsometryRoute(app, ctx);
+  registerRefRoutes(app, ctx);
   return app;
 }

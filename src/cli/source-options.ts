@@ -3,8 +3,9 @@
  * version. One argument description, one set of flags (the input flags and --db) and one loader for all of them.
  */
 import type { Command } from 'commander';
-import { loadTableOrVersion, type LoadedSource } from '../service/table-source.ts';
-import { addDbOption } from './admin-options.ts';
+import { isRegistrySource } from '../service/source.ts';
+import { ignoredFlagsNotice, loadTableOrVersion, type LoadedSource } from '../service/table-source.ts';
+import { addRegistryOptions, registryOps, serverUrlOf, type RegistryFlags } from './registry-access.ts';
 import { cliIo } from './io.ts';
 import { importOptionsFrom, type ImportFlags } from '../io/import-options.ts';
 import { addImportOptions, cliOptionName } from './import-options.ts';
@@ -13,13 +14,11 @@ import { printResolution } from './registry-output.ts';
 export const SOURCE_ARGUMENT_HELP =
   'table file, - for standard input, or a registry version: slug@N, slug@sha256:PREFIX, or a bare slug (its latest approved version)';
 
-export interface SourceFlags extends ImportFlags {
-  db?: string;
-}
+export interface SourceFlags extends ImportFlags, RegistryFlags {}
 
-/** The input flags of a file and --db for a registry version. */
+/** The input flags of a file, and --db or --server for a registry version. */
 export function addSourceOptions(cmd: Command): Command {
-  return addDbOption(addImportOptions(cmd), 'registry database for a version reference');
+  return addRegistryOptions(addImportOptions(cmd), 'registry database for a version reference');
 }
 
 /**
@@ -27,7 +26,13 @@ export function addSourceOptions(cmd: Command): Command {
  * its warnings (import warnings; retired, withdrawn or draft status) to stderr.
  */
 export async function loadSource(source: string, opts: SourceFlags, { printWarnings = true } = {}): Promise<LoadedSource> {
-  const loaded = await loadTableOrVersion(source, { db: opts.db, importOptions: importOptionsFrom(opts, cliOptionName), stdin: cliIo().stdin });
+  const importOptions = importOptionsFrom(opts, cliOptionName);
+  let loaded: LoadedSource;
+  // In server mode a registry version is fetched from the server and computed on here; files stay local.
+  if (isRegistrySource(source) && serverUrlOf(opts) !== undefined) {
+    loaded = await registryOps(opts).loadVersion(source);
+    loaded.notices.push(...ignoredFlagsNotice(loaded, importOptions, source));
+  } else loaded = await loadTableOrVersion(source, { db: opts.db, importOptions, stdin: cliIo().stdin });
   printResolution({ notices: loaded.notices, warnings: printWarnings ? loaded.warnings : [] });
   return loaded;
 }

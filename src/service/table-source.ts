@@ -69,12 +69,17 @@ export async function loadTableOrVersion(source: string, options: SourceOptions 
     };
   }
   const loaded = options.registry ? loadVersion(options.registry, source) : withExistingRegistry(source, options.db, (r) => loadVersion(r, source));
-  const flags = Object.keys(importOptions).filter((k) => k !== 'file');
-  if (flags.length)
-    loaded.notices.push(
-      `the input flags (${flags.join(', ')}) read files; ${loaded.detected.source === 'registry' ? loaded.detected.ref : source} is a stored version, so they were ignored`,
-    );
+  loaded.notices.push(...ignoredFlagsNotice(loaded, importOptions, source));
   return loaded;
+}
+
+/** The notice that input flags given with a stored version were ignored (they read files), or none. */
+export function ignoredFlagsNotice(loaded: LoadedSource, importOptions: ImportOptions, source: string): string[] {
+  const flags = Object.keys(importOptions).filter((k) => k !== 'file');
+  if (!flags.length) return [];
+  return [
+    `the input flags (${flags.join(', ')}) read files; ${loaded.detected.source === 'registry' ? loaded.detected.ref : source} is a stored version, so they were ignored`,
+  ];
 }
 
 /** The table of a loaded source, or a refusal saying why a model-only version cannot serve `purpose`. */

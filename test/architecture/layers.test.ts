@@ -1,6 +1,7 @@
 /**
- * Layers import only downward: optics < models < plot < fit, kk, stack < io < registry < service < api, cli
- * (errors.ts and table.ts are shared by all). A relative import into a higher layer, or sideways between
+ * Layers import only downward: optics < models < plot < fit, kk, stack < io < registry < service < client < api, cli
+ * (errors.ts and table.ts are shared by all). client (server mode's HTTP client) sits below cli, which uses it, and
+ * never imports api: it speaks to a server only through HTTP. A relative import into a higher layer, or sideways between
  * layers of one rank, fails here. The one sanctioned sideways import: the CLI's `serve` and `demo` commands
  * start the HTTP server (src/api/server.ts).
  */
@@ -19,6 +20,7 @@ const RANK: Record<string, number> = {
   io: 4,
   registry: 5,
   service: 6,
+  client: 6.5,
   api: 7,
   cli: 7,
   web: 7,

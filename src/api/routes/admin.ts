@@ -1,10 +1,19 @@
-/** Admin routes: tokens and server settings (role admin). The same service functions as `nkledger token|settings`. */
+/**
+ * Admin routes: tokens, server settings, the registry check and backups (role admin), and who a token is. The
+ * same service functions as `nkledger token|settings|verify|backup`.
+ */
+import { createReadStream, mkdtempSync, rmSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { Readable } from 'node:stream';
 import type { Hono } from 'hono';
 import { z } from 'zod';
 import { createToken, listTokens, revokeToken, type CreatedToken, type TokenInfo } from '../../service/tokens.ts';
-import { resetSetting, SETTING_KEYS, SETTINGS, writeSetting } from '../../service/settings.ts';
+import { resetSetting, SETTING_KEYS, SETTINGS, writeSetting, writeSettingText } from '../../service/settings.ts';
+import { backup, verifyRegistry } from '../../service/registry-admin.ts';
 import { TOKEN_ROLES } from '../../registry/schema-auth.ts';
 import { actorOf, type ApiEnv } from '../auth.ts';
+import { HttpProblem } from '../problem.ts';
 import { parseInput, readJson } from '../validate.ts';
 import type { RouteContext } from '../context.ts';
 import { AUTH_ERRORS, json, WRITE_ERRORS, type Operation } from '../operations.ts';
@@ -14,7 +23,11 @@ const tokenRequest = z.strictObject({
   role: z.enum(TOKEN_ROLES),
   expires: z.string().max(20).optional().describe('lifetime: days or hours (90d, 12h, at most 3650d) or never; default the token_lifetime setting'),
 });
-const settingRequest = z.strictObject({ value: z.unknown().describe("the setting's new value, as GET /settings shows it") });
+/** A typed value (`{"value": true}`), or the text a person types on the command line (`{"text": "on"}`). */
+const settingRequest = z.union([
+  z.strictObject({ value: z.unknown().describe("the setting's new value, as GET /settings shows it") }),
+  z.strictObject({ text: z.string().max(5000).describe('the value as typed on a command line (`on`, `a,b`, `1048576`), parsed as `nkledger settings set` does') }),
+]);
 
 const TOKEN = z
   .object({
@@ -107,12 +120,47 @@ export function registerAdminRoutes(app: Hono<ApiEnv>, ctx: RouteContext): void 
 
   app.put('/api/v1/settings/:key', admin, async (c) => {
     const body = parseInput(settingRequest, await readJson(c.req), 'body');
-    writeSetting(ctx.registry, c.req.param('key'), body.value, actorOf(c.get('principal')));
+    const actor = actorOf(c.get('principal'));
+    if ('text' in body) writeSettingText(ctx.registry, c.req.param('key'), body.text, actor);
+    else writeSetting(ctx.registry, c.req.param('key'), body.value, actor);
     return c.json({ settings: ctx.settings() });
   });
 
   app.delete('/api/v1/settings/:key', admin, (c) => {
     resetSetting(ctx.registry, c.req.param('key'), actorOf(c.get('principal')));
     return c.json({ settings: ctx.settings() });
+  });
+
+  // Who the presented token stands for (`nkledger login` checks a token with it before saving it).
+  app.get('/api/v1/whoami', (c) => {
+    const principal = c.get('principal');
+    if (!principal)
+      throw new HttpProblem(401, 'auth-required', 'send a bearer token to learn whose it is', { 'www-authenticate': 'Bearer realm="nkledger"' });
+    c.header('cache-control', 'no-store');
+    return c.json({ user: principal.user, role: principal.role, token_id: principal.tokenId });
+  });
+
+  // `nkledger verify` in server mode: the check runs here, on the server's own file.
+  app.get('/api/v1/verify', admin, (c) => {
+    c.header('cache-control', 'no-store');
+    return c.json(verifyRegistry(ctx.registry));
+  });
+
+  // `nkledger backup` in server mode: one consistent snapshot (SQLite online backup to a private temporary
+  // file), streamed to the client, which links it into place only when complete.
+  app.get('/api/v1/backup', admin, async () => {
+    const dir = mkdtempSync(join(tmpdir(), 'nkledger-backup-'));
+    const cleanup = () => rmSync(dir, { recursive: true, force: true });
+    try {
+      const { path, pages } = await backup(ctx.registry, join(dir, 'snapshot.db'));
+      const stream = createReadStream(path);
+      stream.once('close', cleanup);
+      return new Response(Readable.toWeb(stream) as ReadableStream, {
+        headers: { 'content-type': 'application/vnd.sqlite3', 'cache-control': 'no-store', 'x-nkledger-pages': String(pages) },
+      });
+    } catch (err) {
+      cleanup();
+      throw err;
+    }
   });
 }

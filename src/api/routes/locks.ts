@@ -1,7 +1,7 @@
 /** POST /api/v1/locks/verify: a design's lockfile (the body) checked against the registry, as `nkledger lock verify` does. */
 import type { Hono } from 'hono';
 import { z } from 'zod';
-import { LOCKFILE_SCHEMA, lockVerify, parseLockfile, type LockVerifyReport } from '../../service/lock.ts';
+import { LOCKFILE_SCHEMA, lockAdd, lockOutdated, lockVerify, parseLockfile, type LockVerifyReport } from '../../service/lock.ts';
 import { VERSION_STATUSES } from '../../registry/schema.ts';
 import type { ApiEnv } from '../auth.ts';
 import { parseInput, readJson, readQuery } from '../validate.ts';
@@ -74,5 +74,21 @@ export function registerLockRoutes(app: Hono<ApiEnv>, ctx: RouteContext): void {
     c.header('cache-control', 'no-store');
     // 200 whatever the verdict: the request succeeded; `ok` and each entry's `outcome` carry the answer.
     return c.json(lockVerify(ctx.registry, lock, { strict: strict === 'true' }));
+  });
+
+  // `nkledger lock add` in server mode: the posted lockfile with REF pinned and the chain head recorded;
+  // the client writes the file (nothing is stored on the server).
+  app.post('/api/v1/locks/add', ctx.requireRole('reader'), async (c) => {
+    const { ref } = parseInput(z.strictObject({ ref: z.string().min(1).max(200) }), readQuery(c.req.url), 'query', 400);
+    const lock = parseLockfile(await readJson(c.req), '<request body>');
+    c.header('cache-control', 'no-store');
+    return c.json(lockAdd(ctx.registry, lock, ref));
+  });
+
+  app.post('/api/v1/locks/outdated', ctx.requireRole('reader'), async (c) => {
+    parseInput(z.strictObject({}), readQuery(c.req.url), 'query', 400);
+    const lock = parseLockfile(await readJson(c.req), '<request body>');
+    c.header('cache-control', 'no-store');
+    return c.json({ outdated: lockOutdated(ctx.registry, lock) });
   });
 }

@@ -5,7 +5,7 @@
  */
 import type { Context, Hono } from 'hono';
 import { z } from 'zod';
-import { createMaterial, editMaterial, getMaterial } from '../../service/materials.ts';
+import { createMaterial, editMaterial, getMaterial, history } from '../../service/materials.ts';
 import { searchMaterials } from '../../service/material-search.ts';
 import { showVersion } from '../../service/versions.ts';
 import { approve, retire, withdraw } from '../../service/lifecycle.ts';
@@ -62,6 +62,8 @@ const materialEdit = z.strictObject({
   name: materialFields.name.optional(),
   description: materialFields.description.optional(),
   tags: materialFields.tags.optional(),
+  add_tags: z.array(z.string().max(40)).max(50).optional().describe('tags to add, after `tags` (the CLI’s --tag)'),
+  remove_tags: z.array(z.string().max(40)).max(50).optional().describe('tags to remove, after `tags` (the CLI’s --untag)'),
 });
 const reasonBody = z.strictObject({ reason: z.string().max(2000) }).meta({ id: 'Reason' });
 const optionalReasonBody = z.strictObject({ reason: z.string().max(2000).optional() }).meta({ id: 'OptionalReason' });
@@ -338,13 +340,19 @@ export function registerMaterialRoutes(app: Hono<ApiEnv>, ctx: RouteContext): vo
   });
 
   app.patch('/api/v1/materials/:slug', editor, async (c) => {
-    const body = parseInput(materialEdit, await readJson(c.req), 'body');
-    return c.json(editMaterial(ctx.registry, c.req.param('slug'), body, actorOf(c.get('principal'))));
+    const { add_tags, remove_tags, ...body } = parseInput(materialEdit, await readJson(c.req), 'body');
+    const edit = { ...body, addTags: add_tags, removeTags: remove_tags };
+    return c.json(editMaterial(ctx.registry, c.req.param('slug'), edit, actorOf(c.get('principal'))));
   });
 
   app.get('/api/v1/materials/:slug', reader, (c) => {
     c.header('cache-control', 'no-cache');
     return c.json(getMaterial(ctx.registry, c.req.param('slug')));
+  });
+
+  app.get('/api/v1/materials/:slug/history', reader, (c) => {
+    c.header('cache-control', 'no-cache');
+    return c.json(history(ctx.registry, c.req.param('slug')));
   });
 
   app.get(VERSION_PATH, reader, (c) => {

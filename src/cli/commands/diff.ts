@@ -1,9 +1,8 @@
 /** `nkledger diff REF REF`: parameter changes, largest |Δn| and |Δk| and where, provenance changes. */
 import { writeFile } from 'node:fs/promises';
 import type { Command } from 'commander';
-import { diffVersions } from '../../service/diff.ts';
 import { renderDiffPlot } from '../../service/diff-plot.ts';
-import { addDbOption, withRegistry } from '../admin-options.ts';
+import { addRegistryOptions, registryOps, type RegistryFlags } from '../registry-access.ts';
 import { guarded } from '../failure.ts';
 import { formatTable, printJson, printLines } from '../output.ts';
 import { printResolution } from '../registry-output.ts';
@@ -12,7 +11,7 @@ const fmt = (v: number | null, digits = 5) =>
   v === null ? '-' : Math.abs(v) !== 0 && (Math.abs(v) < 1e-3 || Math.abs(v) >= 1e5) ? v.toExponential(3) : v.toFixed(digits);
 
 export function register(program: Command): void {
-  addDbOption(program.command('diff'))
+  addRegistryOptions(program.command('diff'))
     .description('compare two versions: model parameters, the largest |Δn| and |Δk| over their common range and where, provenance')
     .argument('<a>', 'first version (slug@N, slug@sha256:PREFIX or bare slug)')
     .argument('<b>', 'second version')
@@ -20,8 +19,8 @@ export function register(program: Command): void {
     .option('--plot <file.svg>', 'write an SVG of n, k and Δn, Δk over the common range')
     .addHelpText('after', '\nΔ is always b − a. Example:\n  nkledger diff sin-pecvd-a@2 sin-pecvd-a@3 --plot sin-a-2-vs-3.svg')
     .action(
-      guarded(async (a: string, b: string, opts: { db?: string; json?: boolean; plot?: string }) => {
-        const diff = await withRegistry(opts, (r) => diffVersions(r, a, b));
+      guarded(async (a: string, b: string, opts: RegistryFlags & { json?: boolean; plot?: string }) => {
+        const diff = await registryOps(opts).diff(a, b);
         printResolution(diff);
         if (opts.plot) await writeFile(opts.plot, renderDiffPlot(diff));
         const { curves: _curves, notices: _n, warnings: _w, ...summary } = diff;

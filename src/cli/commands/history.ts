@@ -1,7 +1,6 @@
 /** `nkledger history SLUG`: a material's versions and its audit log (who did what, when). */
 import type { Command } from 'commander';
-import { history } from '../../service/materials.ts';
-import { addDbOption, withRegistry } from '../admin-options.ts';
+import { addRegistryOptions, registryOps, type RegistryFlags } from '../registry-access.ts';
 import { guarded } from '../failure.ts';
 import { formatTable, printJson, printLines } from '../output.ts';
 import { shortTime } from '../registry-output.ts';
@@ -14,14 +13,14 @@ function auditNote(detail: Record<string, unknown>): string {
 }
 
 export function register(program: Command): void {
-  addDbOption(program.command('history'))
+  addRegistryOptions(program.command('history'))
     .description("a material's versions and its audit log")
     .argument('<slug>', 'material slug')
     .option('--json', 'print {"material", "versions", "audit"} as JSON')
     .addHelpText('after', '\nExample:\n  nkledger history sin-pecvd-a')
     .action(
-      guarded(async (slug: string, opts: { db?: string; json?: boolean }) => {
-        const h = await withRegistry(opts, (r) => history(r, slug));
+      guarded(async (slug: string, opts: RegistryFlags & { json?: boolean }) => {
+        const h = await registryOps(opts).history(slug);
         if (opts.json) return printJson(h);
         const versions = h.versions.map((v) => [
           v.ref,

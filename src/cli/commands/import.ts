@@ -1,9 +1,10 @@
 /** `nkledger import FILE --material SLUG`: store a measured table (and optionally a fitted model) as a new draft. */
 import type { Command } from 'commander';
-import { importMeasurements, type MeasurementImport } from '../../service/import-measurement.ts';
 import { parseMetaPairs } from '../../service/provenance.ts';
 import { readSource, STDIN_SOURCE } from '../../service/source.ts';
-import { actorFrom, addAsOption, addDbOption, withRegistry } from '../admin-options.ts';
+import { addAsOption } from '../admin-options.ts';
+import { addRegistryOptions, registryOps, type RegistryFlags } from '../registry-access.ts';
+import type { ImportFile } from '../../client/operations.ts';
 import { InputError } from '../../errors.ts';
 import { givenFitOptions, parseFitOptions, type FitOptionText } from '../../service/fit-options.ts';
 import { guarded } from '../failure.ts';
@@ -13,9 +14,7 @@ import { importOptionsFrom, type ImportFlags } from '../../io/import-options.ts'
 import { addImportOptions, cliOptionName } from '../import-options.ts';
 import { printJson, printLines, printWarnings } from '../output.ts';
 
-interface ImportCliOptions extends ImportFlags, FitOptionText {
-  db?: string;
-  as?: string;
+interface ImportCliOptions extends ImportFlags, FitOptionText, RegistryFlags {
   material: string;
   note?: string;
   meta?: string[];
@@ -25,7 +24,7 @@ interface ImportCliOptions extends ImportFlags, FitOptionText {
 }
 
 export function register(program: Command): void {
-  const command = addAsOption(addDbOption(program.command('import')))
+  const command = addAsOption(addRegistryOptions(program.command('import')))
     .description(
       'store measured n,k tables as new draft versions of a material, with provenance and a Kramers-Kronig report (several files: one draft each, all or none)',
     )
@@ -63,13 +62,20 @@ export function register(program: Command): void {
         if (opts.fit === undefined && fitFlags.length)
           throw new InputError('bad-option', `${fitFlags.map((f) => `--${f}`).join(', ')} configure a fit: add --fit MODEL`);
         if (files.filter((f) => f === STDIN_SOURCE).length > 1) throw new InputError('bad-option', 'standard input (-) can be read once');
-        const fit = opts.fit === undefined ? undefined : { ...parseFitOptions(opts), model: opts.fit };
-        const inputs: MeasurementImport[] = [];
+        if (opts.fit !== undefined) parseFitOptions(opts); // refuse a bad flag before any file is read or sent
+        const inputs: ImportFile[] = [];
         for (const file of files) {
           const { bytes, file: name } = await readSource(file, importOptions, cliIo().stdin);
-          inputs.push({ slug: opts.material, bytes, file: name, importOptions, fit, kk: opts.kk, provenance });
+          inputs.push({ bytes, file: name });
         }
-        const stored = await withRegistry(opts, (r) => importMeasurements(r, inputs, actorFrom(opts)), { create: 'if-folder-exists' });
+        const stored = await registryOps(opts).importMeasurements({
+          slug: opts.material,
+          files: inputs,
+          importFlags: opts,
+          fit: opts.fit === undefined ? undefined : { model: opts.fit, options: opts },
+          kk: opts.kk,
+          provenance,
+        });
         const reports = stored.map((v, i) => ({
           ref: v.ref,
           sha256: v.sha256,

@@ -27,6 +27,12 @@ export const COMMANDS: CommandEntry[] = [
   { name: 'serve', summary: 'serve the registry over HTTP (API under /api/v1)', load: () => import('./serve.ts') },
   { name: 'token', summary: 'create, list and revoke bearer tokens for the HTTP API', load: () => import('./token.ts') },
   { name: 'settings', summary: 'show and change the registry and API settings', load: () => import('./settings.ts') },
+  {
+    name: 'login',
+    summary: 'save your token for an nkledger server (server mode: --server URL or NKLEDGER_SERVER)',
+    load: () => import('./login.ts'),
+  },
+  { name: 'logout', summary: 'forget the saved token of an nkledger server', load: () => import('./logout.ts') },
   { name: 'material', summary: 'create and edit materials in the registry', load: () => import('./material.ts') },
   { name: 'import', summary: 'store a measured table as a new draft version of a material', load: () => import('./import.ts') },
   { name: 'show', summary: 'show a version: status, hash, content, provenance, fit, KK verdict', load: () => import('./show.ts') },

@@ -1,25 +1,19 @@
 /** `nkledger list`: every material with its version count and latest approved version. */
 import type { Command } from 'commander';
-import { listMaterials } from '../../service/materials.ts';
-import { searchMaterials } from '../../service/material-search.ts';
-import { addDbOption, withRegistry } from '../admin-options.ts';
+import { addRegistryOptions, registryOps, type RegistryFlags } from '../registry-access.ts';
 import { guarded } from '../failure.ts';
 import { formatTable, printJson, printLines } from '../output.ts';
 
 export function register(program: Command): void {
-  addDbOption(program.command('list'))
+  addRegistryOptions(program.command('list'))
     .description('list the materials in the registry')
     .option('--tag <tag>', 'only materials with this tag')
     .option('--search <text>', "only materials whose slug, name, description or tags contain every word of TEXT (case-insensitive; the API's q)")
     .option('--json', 'print [{"slug", "name", "tags", "versions", "latest_approved", ...}] as JSON')
     .addHelpText('after', '\nExamples:\n  nkledger list --tag nitride\n  nkledger list --search "silicon nitride"')
     .action(
-      guarded(async (opts: { db?: string; tag?: string; search?: string; json?: boolean }) => {
-        const list = await withRegistry(opts, (r) =>
-          (opts.search === undefined ? listMaterials(r) : searchMaterials(r, opts.search)).filter(
-            (m) => opts.tag === undefined || m.tags.includes(opts.tag),
-          ),
-        );
+      guarded(async (opts: RegistryFlags & { tag?: string; search?: string; json?: boolean }) => {
+        const list = (await registryOps(opts).materials(opts.search)).filter((m) => opts.tag === undefined || m.tags.includes(opts.tag));
         if (opts.json) return printJson(list);
         if (list.length === 0)
           return printLines([

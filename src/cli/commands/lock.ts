@@ -1,7 +1,7 @@
 /** `nkledger lock add|verify|outdated --lock FILE`: a design's lockfile of pinned material versions. */
 import type { Command } from 'commander';
-import { lockAdd, lockOutdated, lockVerify, readLockfile, writeLockfile } from '../../service/lock.ts';
-import { addDbOption, withRegistry } from '../admin-options.ts';
+import { readLockfile, writeLockfile } from '../../service/lock.ts';
+import { addRegistryOptions, registryOps, type RegistryFlags } from '../registry-access.ts';
 import { guarded } from '../failure.ts';
 import { cliIo, setExitCode } from '../io.ts';
 import { formatTable, printJson, printLines } from '../output.ts';
@@ -13,7 +13,7 @@ export const CHECK_FAILED_EXIT = 3;
 export function register(program: Command): void {
   const lock = program.command('lock').description("a design's lockfile: the exact version and content hash of every material it uses");
 
-  addDbOption(lock.command('add'))
+  addRegistryOptions(lock.command('add'))
     .description(
       "pin a version in the lockfile (created if missing; replaces another version of the same material) and record the registry's audit-chain head",
     )
@@ -22,9 +22,9 @@ export function register(program: Command): void {
     .option('--json', 'print {"ref", "sha256", "replaced", "registry_head"} as JSON')
     .addHelpText('after', '\nExample:\n  nkledger lock add sin-pecvd-a@3 --lock filter.nklock.json')
     .action(
-      guarded(async (ref: string, opts: { db?: string; lock: string; json?: boolean }) => {
+      guarded(async (ref: string, opts: RegistryFlags & { lock: string; json?: boolean }) => {
         const current = readLockfile(opts.lock, { allowMissing: true });
-        const result = await withRegistry(opts, (r) => lockAdd(r, current, ref));
+        const result = await registryOps(opts).lockAdd(current, ref);
         writeLockfile(opts.lock, result.lock);
         printResolution(result);
         if (opts.json)
@@ -38,7 +38,7 @@ export function register(program: Command): void {
       }),
     );
 
-  addDbOption(lock.command('verify'))
+  addRegistryOptions(lock.command('verify'))
     .description(
       `check every entry's content still hashes to the locked SHA-256 (recomputed from the content) and that the registry's history still contains the audit-chain head the lockfile recorded (exit 0), else name each problem (exit ${CHECK_FAILED_EXIT})`,
     )
@@ -47,9 +47,9 @@ export function register(program: Command): void {
     .option('--json', 'print {"ok", "entries": [{"ref", "outcome", "message", ...}], "history": {"outcome", "message", ...}, ...} as JSON')
     .addHelpText('after', '\nExample:\n  nkledger lock verify --lock filter.nklock.json --strict')
     .action(
-      guarded(async (opts: { db?: string; lock: string; strict?: boolean; json?: boolean }) => {
+      guarded(async (opts: RegistryFlags & { lock: string; strict?: boolean; json?: boolean }) => {
         const lockfile = readLockfile(opts.lock);
-        const report = await withRegistry(opts, (r) => lockVerify(r, lockfile, { strict: opts.strict }));
+        const report = await registryOps(opts).lockVerify(lockfile, { strict: opts.strict });
         if (!report.ok) setExitCode(CHECK_FAILED_EXIT);
         if (opts.json) return printJson(report);
         // Every entry's line goes to stdout (so `lock verify > report` keeps which entry failed); the summary to stderr.
@@ -64,7 +64,7 @@ export function register(program: Command): void {
       }),
     );
 
-  addDbOption(lock.command('outdated'))
+  addRegistryOptions(lock.command('outdated'))
     .description('list locked materials that have newer approved versions')
     .requiredOption('--lock <file>', 'lockfile path')
     .option('--json', 'print [{"ref", "locked_version", "newer_approved", "latest_approved"}] as JSON')
@@ -74,9 +74,9 @@ export function register(program: Command): void {
       '\nExamples:\n  nkledger lock outdated --lock filter.nklock.json\n  nkledger lock outdated --lock filter.nklock.json --check',
     )
     .action(
-      guarded(async (opts: { db?: string; lock: string; json?: boolean; check?: boolean }) => {
+      guarded(async (opts: RegistryFlags & { lock: string; json?: boolean; check?: boolean }) => {
         const lockfile = readLockfile(opts.lock);
-        const outdated = await withRegistry(opts, (r) => lockOutdated(r, lockfile));
+        const outdated = await registryOps(opts).lockOutdated(lockfile);
         if (opts.check && outdated.length > 0) setExitCode(CHECK_FAILED_EXIT);
         if (opts.json) return printJson(outdated);
         if (outdated.length === 0) return printLines(['every locked material is at its latest approved version']);

@@ -1,13 +1,13 @@
 /** `nkledger material add|edit SLUG`: create a material in the registry (versions come from `import`) or edit its description fields. */
 import type { Command } from 'commander';
-import { createMaterial, editMaterial } from '../../service/materials.ts';
-import { actorFrom, addAsOption, addDbOption, withRegistry } from '../admin-options.ts';
+import { addAsOption } from '../admin-options.ts';
+import { addRegistryOptions, registryOps, type RegistryFlags } from '../registry-access.ts';
 import { guarded } from '../failure.ts';
 import { printJson, printLines } from '../output.ts';
 
 export function register(program: Command): void {
   const material = program.command('material').description('materials in the registry (each holds numbered versions)');
-  addAsOption(addDbOption(material.command('add')))
+  addAsOption(addRegistryOptions(material.command('add')))
     .description('create a material; its slug (lowercase letters, digits, hyphens) is how designs name it')
     .argument('<slug>', 'e.g. sin-pecvd-a')
     .requiredOption('--name <text>', 'display name, e.g. "PECVD silicon nitride, recipe A"')
@@ -16,18 +16,14 @@ export function register(program: Command): void {
     .option('--json', 'print the material as JSON')
     .addHelpText('after', '\nExample:\n  nkledger material add sin-pecvd-a --name "PECVD SiNx, recipe A" --tag nitride --tag pecvd')
     .action(
-      guarded(async (slug: string, opts: { db?: string; as?: string; name: string; description?: string; tag?: string[]; json?: boolean }) => {
-        const created = await withRegistry(
-          opts,
-          (r) => createMaterial(r, { slug, name: opts.name, description: opts.description, tags: opts.tag }, actorFrom(opts)),
-          { create: 'if-folder-exists' },
-        );
+      guarded(async (slug: string, opts: RegistryFlags & { name: string; description?: string; tag?: string[]; json?: boolean }) => {
+        const created = await registryOps(opts).createMaterial({ slug, name: opts.name, description: opts.description, tags: opts.tag });
         if (opts.json) return printJson(created);
         printLines([`created material ${created.slug} (${created.name}); add versions with: nkledger import FILE --material ${created.slug}`]);
       }),
     );
 
-  addAsOption(addDbOption(material.command('edit')))
+  addAsOption(addRegistryOptions(material.command('edit')))
     .description("change a material's name, description or tags (audit-logged; the slug never changes)")
     .argument('<slug>', 'the material, e.g. sin-pecvd-a')
     .option('--name <text>', 'new display name')
@@ -38,13 +34,13 @@ export function register(program: Command): void {
     .addHelpText('after', '\nExample:\n  nkledger material edit sin-pecvd-a --name "PECVD SiNx, recipe A (300 C)" --tag low-stress --untag draft')
     .action(
       guarded(
-        async (
-          slug: string,
-          opts: { db?: string; as?: string; name?: string; description?: string; tag?: string[]; untag?: string[]; json?: boolean },
-        ) => {
-          const edited = await withRegistry(opts, (r) =>
-            editMaterial(r, slug, { name: opts.name, description: opts.description, addTags: opts.tag, removeTags: opts.untag }, actorFrom(opts)),
-          );
+        async (slug: string, opts: RegistryFlags & { name?: string; description?: string; tag?: string[]; untag?: string[]; json?: boolean }) => {
+          const edited = await registryOps(opts).editMaterial(slug, {
+            name: opts.name,
+            description: opts.description,
+            addTags: opts.tag,
+            removeTags: opts.untag,
+          });
           if (opts.json) return printJson(edited);
           printLines([
             edited.changed.length

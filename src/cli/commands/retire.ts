@@ -1,6 +1,5 @@
 /** `nkledger retire REF --reason TEXT`: retire an approved version (it still resolves, with a warning). */
 import type { Command } from 'commander';
-import { retire } from '../../service/lifecycle.ts';
 import { lifecycleCommand } from '../lifecycle-command.ts';
 
 export function register(program: Command): void {
@@ -9,6 +8,6 @@ export function register(program: Command): void {
     'retire',
     'retire an approved version: pins to it keep resolving, but every use warns',
     'nkledger retire sin-pecvd-a@2 --reason "substrate model was wrong; use @3"',
-    (registry, ref, actor, opts) => retire(registry, ref, opts.reason ?? '', actor),
+    (registry, ref, opts) => registry.retire(ref, opts.reason ?? ''),
   ).requiredOption('--reason <text>', 'why it is retired (shown wherever it is used)');
 }

@@ -1,9 +1,10 @@
 /** `nkledger settings show|set|reset`: every setting of the registry and its HTTP API (self-approval, anonymous reads, CORS, limits). */
 import type { Command } from 'commander';
-import { readSettings, resetSetting, SETTING_KEYS, SETTINGS, writeSettingText, type Settings } from '../../service/settings.ts';
+import { SETTING_KEYS, SETTINGS, type Settings } from '../../service/settings.ts';
 import { guarded } from '../failure.ts';
 import { formatTable, printJson, printLines } from '../output.ts';
-import { actorFrom, addAsOption, addDbOption, withRegistry } from '../admin-options.ts';
+import { addAsOption } from '../admin-options.ts';
+import { addRegistryOptions, registryOps, type RegistryFlags } from '../registry-access.ts';
 
 function printSettings(settings: Settings, json?: boolean): void {
   if (json) return printJson(settings);
@@ -22,29 +23,27 @@ export function register(program: Command): void {
         '  nkledger settings show\n  nkledger settings set allow_self_approval on\n  nkledger settings set cors_origins https://design.example.org\n  nkledger settings reset cors_origins',
     );
 
-  addDbOption(settings.command('show'))
+  addRegistryOptions(settings.command('show'))
     .description('print every setting with its value and meaning')
     .option('--json', 'print JSON')
-    .action(guarded(async (opts: { db?: string; json?: boolean }) => printSettings(await withRegistry(opts, readSettings), opts.json)));
+    .action(guarded(async (opts: RegistryFlags & { json?: boolean }) => printSettings(await registryOps(opts).settings(), opts.json)));
 
-  addAsOption(addDbOption(settings.command('set')))
+  addAsOption(addRegistryOptions(settings.command('set')))
     .description(`set a setting: ${SETTING_KEYS.join(', ')} (lists comma-separated)`)
     .argument('<key>', 'setting name')
     .argument('<value>', 'e.g. on | off | https://design.example.org,https://tools.example.org | 1048576')
     .option('--json', 'print JSON')
     .action(
-      guarded(async (key: string, value: string, opts: { db?: string; as?: string; json?: boolean }) =>
-        printSettings(await withRegistry(opts, (r) => writeSettingText(r, key, value, actorFrom(opts))), opts.json),
+      guarded(async (key: string, value: string, opts: RegistryFlags & { json?: boolean }) =>
+        printSettings(await registryOps(opts).setSetting(key, value), opts.json),
       ),
     );
 
-  addAsOption(addDbOption(settings.command('reset')))
+  addAsOption(addRegistryOptions(settings.command('reset')))
     .description('forget a stored value so the default applies again')
     .argument('<key>', 'setting name')
     .option('--json', 'print JSON')
     .action(
-      guarded(async (key: string, opts: { db?: string; as?: string; json?: boolean }) =>
-        printSettings(await withRegistry(opts, (r) => resetSetting(r, key, actorFrom(opts))), opts.json),
-      ),
+      guarded(async (key: string, opts: RegistryFlags & { json?: boolean }) => printSettings(await registryOps(opts).resetSetting(key), opts.json)),
     );
 }

@@ -2,21 +2,20 @@
 import type { Command } from 'commander';
 import { buildModel } from '../../models/catalogue.ts';
 import { PROVENANCE_FIELDS, type StoredFitReport } from '../../registry/types.ts';
-import { showVersion } from '../../service/versions.ts';
-import { addDbOption, withRegistry } from '../admin-options.ts';
+import { addRegistryOptions, registryOps, type RegistryFlags } from '../registry-access.ts';
 import { guarded } from '../failure.ts';
 import { printJson, printLines } from '../output.ts';
 import { contentSummary, lifecycleLines, printResolution } from '../registry-output.ts';
 
 export function register(program: Command): void {
-  addDbOption(program.command('show'))
+  addRegistryOptions(program.command('show'))
     .description('show a version: status, content hash, what it holds, provenance, fit parameters and KK verdict')
     .argument('<ref>', 'slug@N, slug@sha256:PREFIX, or a bare slug (latest approved)')
     .option('--json', 'print {"ref", "status", "sha256", "provenance", "content", ...} as JSON')
     .addHelpText('after', '\nExample:\n  nkledger show sin-pecvd-a@2')
     .action(
-      guarded(async (ref: string, opts: { db?: string; json?: boolean }) => {
-        const v = await withRegistry(opts, (r) => showVersion(r, ref));
+      guarded(async (ref: string, opts: RegistryFlags & { json?: boolean }) => {
+        const v = await registryOps(opts).version(ref);
         printResolution(v);
         if (opts.json) return printJson(v);
         const lines = [

@@ -1,37 +1,21 @@
 /** `nkledger verify`: recompute every stored hash; name each version whose content no longer matches. */
 import type { Command } from 'commander';
-import { EnvironmentError } from '../../errors.ts';
-import { verifyRegistry } from '../../service/registry-admin.ts';
-import { addDbOption, withRegistry } from '../admin-options.ts';
+import { addRegistryOptions, registryOps, type RegistryFlags } from '../registry-access.ts';
 import { ENVIRONMENT_FAULT_EXIT, guarded } from '../failure.ts';
 import { printJson, printLines } from '../output.ts';
 import { CHECK_FAILED_EXIT } from './lock.ts';
 import { cliIo, setExitCode } from '../io.ts';
 
-/**
- * Open read-only first, so a damaged file is only read (its integrity check then reports the damage, exit 3)
- * and nothing is migrated or written; a registry from an older nkledger is opened writable to bring its
- * schema up to date (and start its audit chain) before it is checked.
- */
-async function verifyFile(opts: { db?: string }) {
-  try {
-    return await withRegistry(opts, verifyRegistry, { readonly: true });
-  } catch (err) {
-    if (!(err instanceof EnvironmentError && err.rule === 'registry-needs-upgrade')) throw err;
-    return withRegistry(opts, verifyRegistry);
-  }
-}
-
 export function register(program: Command): void {
-  addDbOption(program.command('verify'))
+  addRegistryOptions(program.command('verify'))
     .description(
       `check the registry: SQLite's integrity check, every version's SHA-256 recomputed, numbering, the triggers by their SQL, the audit hash chain, and every version's status and approver against it (exit ${CHECK_FAILED_EXIT} on any problem, ${ENVIRONMENT_FAULT_EXIT} when the file cannot be read)`,
     )
     .option('--json', 'print {"ok", "checked_versions", "chain": {"head"}, "mismatches", "state_mismatches", ...} as JSON')
     .addHelpText('after', '\nExample:\n  nkledger verify --db /srv/nkledger/lab.db')
     .action(
-      guarded(async (opts: { db?: string; json?: boolean }) => {
-        const report = await verifyFile(opts);
+      guarded(async (opts: RegistryFlags & { json?: boolean }) => {
+        const report = await registryOps(opts).verify();
         if (!report.ok) setExitCode(CHECK_FAILED_EXIT);
         if (opts.json) return printJson(report);
         const problems = [
