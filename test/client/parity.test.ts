@@ -1,0 +1,129 @@
+/**
+ * The acceptance test of server mode: one script of registry commands, run in file mode (the CLI on its own copy
+ * of the starting registry, acting as NKLEDGER_USER) and in server mode (the CLI against a server on another copy,
+ * acting through each person's token). Every command must give the same exit code, stdout and stderr, once
+ * times, audit-chain head hashes and the scratch folder are masked.
+ */
+import { mkdirSync } from 'node:fs';
+import { join } from 'node:path';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { runCli, type CliResult } from '../cli/run-cli.ts';
+import { startLab, type Lab, type Person } from './lab-server.ts';
+
+const D = 'data/marrowick';
+
+/** [who, arguments]; `{work}` is the mode's scratch folder. */
+const SCRIPT: [Person, string[]][] = [
+  ['alice', ['material', 'add', 'sinx', '--name', 'PECVD SiNx', '--tag', 'nitride']],
+  ['alice', ['material', 'add', 'sio2', '--name', 'Thermal oxide', '--description', 'wet oxide', '--json']],
+  ['alice', ['material', 'add', 'bump', '--name', 'Invented inconsistent table']],
+  ['alice', ['material', 'add', 'sinx', '--name', 'again']],
+  [
+    'alice',
+    [
+      'import',
+      `${D}/sinx-pecvd-recipe-a.csv`,
+      '--material',
+      'sinx',
+      '--fit',
+      'tauc-lorentz',
+      '--meta',
+      'instrument=MO-SE 640',
+      'angles=65,70,75',
+      'measured_on=2024-04-18',
+      '--note',
+      'wafer 7',
+    ],
+  ],
+  ['alice', ['import', `${D}/sio2-thermal.csv`, '--material', 'sio2', '--fit', 'sellmeier', '--terms', '1', '--range', '300:1600', '--json']],
+  ['alice', ['import', `${D}/sinx-pecvd-recipe-a.csv`, '--material', 'sinx', '--fit', 'tauc-lorentz']],
+  ['alice', ['import', 'test/fixtures/import/bad/non-numeric.csv', '--material', 'sinx']],
+  ['alice', ['import', `${D}/sinx-pecvd-recipe-b.csv`, '--material', 'sinx', '--fix', 'A=1']],
+  ['alice', ['import', `${D}/sinx-pecvd-recipe-b.csv`, '--material', 'sinx', '--no-kk']],
+  ['alice', ['import', 'test/fixtures/kk/lorentz-bump.csv', '--material', 'bump', '--no-kk']],
+  ['alice', ['approve', 'sinx@1']],
+  ['bob', ['approve', 'sinx@1']],
+  ['bob', ['approve', 'sio2@1', '--json']],
+  ['bob', ['approve', 'nosuch@1']],
+  ['bob', ['approve', 'sinx@1']],
+  ['bob', ['withdraw', 'sinx@2', '--reason', 'wrong sample']],
+  ['alice', ['import', `${D}/sinx-pecvd-recipe-b.csv`, '--material', 'sinx', '--fit', 'tauc-lorentz', '--json']],
+  ['bob', ['approve', 'sinx@3']],
+  ['bob', ['retire', 'sinx@1', '--reason', 'recipe changed; use @3']],
+  ['alice', ['list']],
+  ['alice', ['list', '--json']],
+  ['alice', ['list', '--search', 'oxide']],
+  ['alice', ['list', '--tag', 'nitride']],
+  ['alice', ['show', 'sinx@1']],
+  ['alice', ['show', 'sinx', '--json']],
+  ['alice', ['show', 'sinx@9']],
+  ['alice', ['history', 'sinx']],
+  ['alice', ['history', 'sinx', '--json']],
+  ['alice', ['diff', 'sinx@1', 'sinx@3']],
+  ['alice', ['diff', 'sinx@1', 'sinx@3', '--json']],
+  ['alice', ['export', 'sinx@3', '--format', 'csv']],
+  ['alice', ['export', 'sinx@1', '--format', 'json', '-o', '{work}/sinx-1.json']],
+  ['alice', ['eval', 'sinx@3', '--at', '400:800:100', '--json']],
+  ['alice', ['eval', 'sinx', '--at', '632.8']],
+  ['alice', ['inspect', 'sinx@1']],
+  ['alice', ['kk', 'sinx@3']],
+  ['alice', ['kk', 'bump@1']],
+  ['alice', ['fit', 'sio2@1', '--model', 'cauchy']],
+  ['alice', ['lock', 'add', 'sinx@3', '--lock', '{work}/design.lock.json']],
+  ['alice', ['lock', 'add', 'sio2', '--lock', '{work}/design.lock.json', '--json']],
+  ['alice', ['lock', 'add', 'sinx@2', '--lock', '{work}/design.lock.json']],
+  ['alice', ['lock', 'verify', '--lock', '{work}/design.lock.json']],
+  ['alice', ['lock', 'outdated', '--lock', '{work}/design.lock.json', '--json']],
+  ['alice', ['material', 'edit', 'sio2', '--description', 'dry oxide', '--tag', 'oxide', '--json']],
+  ['ada', ['verify']],
+  ['ada', ['settings', 'set', 'allow_self_approval', 'on']],
+  ['ada', ['settings', 'set', 'max_nk_points', 'lots']],
+  ['ada', ['settings', 'reset', 'allow_self_approval', '--json']],
+  ['ada', ['backup', '{work}/backup.db']],
+  ['ada', ['backup', '{work}/backup.db']],
+  ['ada', ['settings', 'show', '--json']],
+  ['ada', ['token', 'list']],
+];
+
+const mask = (text: string, work: string) =>
+  text
+    .split(work)
+    .join('<work>')
+    .replace(/\d{4}-\d\d-\d\dT\d\d:\d\d:\d\d(\.\d+)?Z/g, '<time>')
+    .replace(/\d{4}-\d\d-\d\d \d\d:\d\d UTC/g, '<time>')
+    .replace(/audit chain head [0-9a-f]{64}/g, 'audit chain head <head>')
+    .replace(/(event \d+) \([0-9a-f]{12}…\)/g, '$1 (<head>)')
+    .replace(/("registry_head": \{\s*"hash": ")[0-9a-f]{64}/g, '$1<head>');
+
+describe('server mode gives what file mode gives', () => {
+  let lab: Lab;
+  beforeAll(async () => {
+    lab = await startLab();
+  });
+  afterAll(() => lab?.stop());
+
+  it(`the same ${SCRIPT.length} commands: same exit codes, same text, same JSON`, { timeout: 120_000 }, async () => {
+    const outputs: Record<'file' | 'server', CliResult[]> = { file: [], server: [] };
+    for (const mode of ['file', 'server'] as const) {
+      const work = join(lab.dir, mode);
+      mkdirSync(work);
+      for (const [person, args] of SCRIPT) {
+        const r = await runCli(
+          args.map((a) => a.replace('{work}', work)),
+          { env: lab.env(mode, person) },
+        );
+        outputs[mode].push({ code: r.code, stdout: mask(r.stdout, work), stderr: mask(r.stderr, work) });
+      }
+    }
+    SCRIPT.forEach(([person, args], i) => {
+      const label = `${person}: nkledger ${args.join(' ')}`;
+      expect(outputs.server[i], label).toEqual(outputs.file[i]);
+    });
+    // The script exercised what it should: refusals (2), a failed check (3) and successes.
+    const codes = outputs.file.map((r) => r.code);
+    expect(codes.filter((c) => c === 0).length).toBeGreaterThan(30);
+    expect(codes).toContain(2);
+    expect(codes).toContain(3);
+    expect(outputs.file[12].stdout).toMatch(/approved .* by bob/);
+  });
+});
