@@ -14,6 +14,7 @@ import { bodyLimit } from 'hono/body-limit';
 import { HTTPException } from 'hono/http-exception';
 import { EnvironmentError, InputError } from '../errors.ts';
 import { environmentFault } from '../registry/faults.ts';
+import { markServerProcess } from '../registry/records.ts';
 import { readSettings, type Settings } from '../service/settings.ts';
 import type { Registry } from '../registry/open.ts';
 import { authenticate, requireRole, type ApiEnv } from './auth.ts';
@@ -53,6 +54,8 @@ export interface AppOptions {
 
 export function createApp(options: AppOptions): Hono<ApiEnv> {
   const { registry } = options;
+  // This process is the registry's server: with the setting writes=server-only, its writes are the only ones allowed.
+  markServerProcess(registry);
   const changes = new RegistryChanges(registry);
   // Settings are re-read when the registry changes, so `nkledger settings set` in another process
   // (or another server on the same file) takes effect from this server's next turn of the event loop.

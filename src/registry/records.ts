@@ -3,7 +3,7 @@
  * write goes through (BEGIN IMMEDIATE, audit row inside the same transaction).
  */
 import { and, eq, sql } from 'drizzle-orm';
-import { EnvironmentError, IntegrityError, NotFoundError } from '../errors.ts';
+import { ConflictError, EnvironmentError, IntegrityError, NotFoundError } from '../errors.ts';
 import { tableRangeNm } from '../table.ts';
 import { canonicalJson, canonicalSha256, sha256Hex } from './canonical.ts';
 import { appendEvent, type NewEvent } from './chain.ts';
@@ -37,11 +37,38 @@ export function nowIso(): string {
   return new Date().toISOString();
 }
 
+/** Registries opened by a server process (`nkledger serve`): the writers the setting writes=server-only allows. */
+const servedRegistries = new WeakSet<Registry>();
+
+/** Mark `registry` as the one a server writes through (src/api/app.ts). Other processes' writes are then direct writes. */
+export function markServerProcess(registry: Registry): void {
+  servedRegistries.add(registry);
+}
+
+export function isServerProcess(registry: Registry): boolean {
+  return servedRegistries.has(registry);
+}
+
+/**
+ * The setting `writes` (src/service/settings.ts) read with plain SQL, inside the write transaction: with
+ * "server-only" only the server process writes, so the two-person rule rests on tokens, not on names a
+ * command line may choose.
+ */
+function refuseDirectWrite(registry: Registry): void {
+  if (servedRegistries.has(registry)) return;
+  const row = registry.sqlite.prepare("SELECT value FROM registry_settings WHERE key = 'writes'").get() as { value: string } | undefined;
+  if (row && JSON.parse(row.value) === 'server-only')
+    throw new ConflictError(
+      `registry ${registry.path} takes writes only through its server (setting writes=server-only), so who acts comes from a token; give --server URL (or set NKLEDGER_SERVER) and log in; nothing was written`,
+      'writes-server-only',
+    );
+}
+
 /**
  * Run `write` as one BEGIN IMMEDIATE transaction: it sees and holds the write lock from its first statement.
  * Refused before it starts when the registry is read-only or its file was removed or replaced since it was
- * opened; SQLite's faults (full disk, I/O error, corruption) become EnvironmentErrors, the transaction
- * rolled back whole.
+ * opened, and at its start when the registry takes writes only through its server and this is not the server;
+ * SQLite's faults (full disk, I/O error, corruption) become EnvironmentErrors, the transaction rolled back whole.
  */
 export function writeTransaction<T>(registry: Registry, write: () => T): T {
   if (registry.readonly) {
@@ -56,7 +83,14 @@ export function writeTransaction<T>(registry: Registry, write: () => T): T {
       `registry ${registry.path} was removed or replaced since this process opened it; writes would be lost, so nothing was written (restart the server to use the file now at that path)`,
     );
   }
-  return translateFaults(registry.path, () => registry.sqlite.transaction(write).immediate());
+  return translateFaults(registry.path, () =>
+    registry.sqlite
+      .transaction(() => {
+        refuseDirectWrite(registry);
+        return write();
+      })
+      .immediate(),
+  );
 }
 
 /** Append an audit event to the hash chain (src/registry/chain.ts); call inside `writeTransaction`. */

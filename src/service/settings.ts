@@ -7,9 +7,9 @@
 import { eq } from 'drizzle-orm';
 import { z } from 'zod';
 import { registrySettings } from '../registry/schema.ts';
-import { InputError } from '../errors.ts';
+import { ConflictError, InputError } from '../errors.ts';
 import type { Registry } from '../registry/open.ts';
-import { appendAudit, nowIso, writeTransaction } from '../registry/records.ts';
+import { appendAudit, isServerProcess, nowIso, writeTransaction } from '../registry/records.ts';
 import { checkActor } from './actor.ts';
 
 interface SettingDefinition<T> {
@@ -96,6 +96,13 @@ export const SETTINGS = {
     meaning: 'how long a new bearer token works when its creator names no lifetime: days or hours (90d, 12h, at most 3650d), or never',
     parseText: (t: string) => t.trim(),
   } satisfies SettingDefinition<string>,
+  writes: {
+    schema: z.enum(['any', 'server-only']),
+    default: 'any',
+    meaning:
+      'who may write to the registry file: "any" process that can open it, or "server-only" (only `nkledger serve`: people write through --server with their own token, which enforces the two-person rule); changed only through the server by an admin',
+    parseText: (t: string) => t,
+  } satisfies SettingDefinition<'any' | 'server-only'>,
 };
 
 export type SettingKey = keyof typeof SETTINGS;
@@ -105,6 +112,15 @@ export const SETTING_KEYS = Object.keys(SETTINGS) as SettingKey[];
 export function parseSettingKey(key: string): SettingKey {
   if (key in SETTINGS) return key as SettingKey;
   throw new InputError('setting-unknown', `unknown setting "${key}": known settings are ${SETTING_KEYS.join(', ')}`, {}, 404);
+}
+
+/** `writes` decides who may write at all, so it is changed only through the server, where a token says who is asking. */
+function refuseDirectWritesChange(registry: Registry, key: SettingKey): void {
+  if (key === 'writes' && !isServerProcess(registry))
+    throw new ConflictError(
+      'the setting "writes" is changed only through the server, by an admin: nkledger settings set writes VALUE --server URL',
+      'writes-setting-server',
+    );
 }
 
 function validate(key: SettingKey, value: unknown): unknown {
@@ -128,6 +144,7 @@ export function writeSetting(registry: Registry, key: string, value: unknown, ac
   const updatedBy = checkActor(actor);
   const k = parseSettingKey(key);
   const json = JSON.stringify(validate(k, value));
+  refuseDirectWritesChange(registry, k);
   const updatedAt = nowIso();
   writeTransaction(registry, () => {
     registry.db
@@ -150,6 +167,7 @@ export function writeSettingText(registry: Registry, key: string, text: string, 
 export function resetSetting(registry: Registry, key: string, actor: string): Settings {
   const updatedBy = checkActor(actor);
   const k = parseSettingKey(key);
+  refuseDirectWritesChange(registry, k);
   writeTransaction(registry, () => {
     registry.db.delete(registrySettings).where(eq(registrySettings.key, k)).run();
     appendAudit(registry, { actor: updatedBy, action: 'setting.reset', detail: { key: k } });
