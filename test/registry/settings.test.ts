@@ -42,6 +42,7 @@ describe('settings', () => {
       'max_nk_points',
       'max_stack_work',
       'token_lifetime',
+      'writes',
     ]);
     expect(readSettings(t.registry)).toEqual({
       allow_self_approval: false,
@@ -51,6 +52,7 @@ describe('settings', () => {
       max_nk_points: 10_000,
       max_stack_work: 2_000_000,
       token_lifetime: '90d',
+      writes: 'any',
     });
   });
 
