@@ -18,8 +18,19 @@ import { problem, type Operation } from './operations.ts';
 /** The name an upload gets in messages (`<upload>:12:3: ...`) when the client gave no file name. */
 export const UPLOAD_FILE = '<upload>';
 
-export interface TableUpload {
+/** One uploaded table: its bytes and the names it goes by. */
+export interface UploadedTable {
   bytes: Uint8Array;
+  /** File name for messages and provenance: the multipart file name, else "<upload>". */
+  file: string;
+  /** The client's own file name, when multipart gave one. */
+  clientFileName: string | null;
+}
+
+export interface TableUpload {
+  /** The first (for single-table routes: the only) table; `tables` holds every one. */
+  bytes: Uint8Array;
+  tables: UploadedTable[];
   /** File name for messages and provenance: the multipart file name, else "<upload>". */
   file: string;
   /** The client's own file name, when multipart gave one. */
@@ -67,22 +78,33 @@ export const UPLOAD_ERRORS = {
 /**
  * Read the table and the fields of an upload; refuses other media types with 415. `part` names the file part of a
  * multipart body (default "table"); `textParts` are further parts read as text whether sent as files or fields
- * (the ellipsometry fit's sample description); `multipartOnly` refuses a raw body.
+ * (the ellipsometry fit's sample description); `multipartOnly` refuses a raw body. A multipart body may carry
+ * several file parts only where the route says so (`several`), e.g. an all-or-none import of several files.
  */
 export async function readTableUpload(
   c: Context,
-  { part: partName = 'table', textParts = [], multipartOnly = false }: { part?: string; textParts?: string[]; multipartOnly?: boolean } = {},
+  {
+    part: partName = 'table',
+    textParts = [],
+    multipartOnly = false,
+    several = false,
+  }: { part?: string; textParts?: string[]; multipartOnly?: boolean; several?: boolean } = {},
 ): Promise<TableUpload> {
   const type = (c.req.header('content-type') ?? '').split(';')[0].trim().toLowerCase();
-  let bytes: Uint8Array;
-  let clientFileName: string | null = null;
+  let tables: UploadedTable[];
   let fields: Record<string, string>;
   if (type === 'multipart/form-data') {
     const form = await readForm(c);
-    const part = form.get(partName);
-    if (!(part instanceof File)) throw new InputError('upload-no-table', `multipart upload needs a file part named "${partName}"`, {}, 400);
-    bytes = new Uint8Array(await part.arrayBuffer());
-    clientFileName = part.name && part.name !== 'blob' ? part.name.replace(/^.*[\\/]/, '') : null;
+    const parts = form.getAll(partName);
+    if (parts.length === 0 || !parts.every((p) => p instanceof File))
+      throw new InputError('upload-no-table', `multipart upload needs a file part named "${partName}"`, {}, 400);
+    if (parts.length > 1 && !several)
+      throw new InputError('upload-one-table', `this route stores one table per request, not ${parts.length} "${partName}" parts`, {}, 400);
+    tables = [];
+    for (const part of parts as File[]) {
+      const clientFileName = part.name && part.name !== 'blob' ? part.name.replace(/^.*[\\/]/, '') : null;
+      tables.push({ bytes: new Uint8Array(await part.arrayBuffer()), clientFileName, file: clientFileName ?? UPLOAD_FILE });
+    }
     fields = {};
     for (const [key, value] of form.entries()) {
       if (key === partName) continue;
@@ -94,7 +116,7 @@ export async function readTableUpload(
       fields[key] = value;
     }
   } else if (!multipartOnly && TABLE_TYPES.includes(type)) {
-    bytes = new Uint8Array(await c.req.arrayBuffer());
+    tables = [{ bytes: new Uint8Array(await c.req.arrayBuffer()), clientFileName: null, file: UPLOAD_FILE }];
     fields = readQuery(c.req.url);
   } else {
     throw new HttpProblem(
@@ -105,15 +127,15 @@ export async function readTableUpload(
         : `send the table as text/csv (or text/plain) or as multipart/form-data with a "table" file, not "${type || 'no content type'}"`,
     );
   }
-  if (bytes.length === 0) throw new InputError('upload-empty', 'the uploaded table is empty', { file: clientFileName ?? UPLOAD_FILE }, 400);
+  for (const t of tables) if (t.bytes.length === 0) throw new InputError('upload-empty', 'the uploaded table is empty', { file: t.file }, 400);
   const fieldsIn = type === 'multipart/form-data' ? 'body' : 'query';
   const flags = parseInput(importFields, pick(fields, IMPORT_FIELD_NAMES), fieldsIn, 400);
-  const file = clientFileName ?? UPLOAD_FILE;
+  const [{ bytes, file, clientFileName }] = tables;
   const importOptions: ImportOptions = {
     ...importOptionsFrom(valuesFromFields(IMPORT_OPTIONS, flags), fieldSpelling(IMPORT_OPTIONS)),
     file,
   };
-  return { bytes, file, clientFileName, importOptions, fields: omit(fields, IMPORT_FIELD_NAMES), fieldsIn };
+  return { bytes, tables, file, clientFileName, importOptions, fields: omit(fields, IMPORT_FIELD_NAMES), fieldsIn };
 }
 
 /** The multipart form, or a 400 when the body is not multipart as its Content-Type says (bad boundary, truncated, garbage). */

@@ -85,14 +85,9 @@ export function serverRegistry(client: ServerClient, options: ServerRegistryOpti
       const body = { name: edit.name, description: edit.description, tags: edit.tags, add_tags: edit.addTags, remove_tags: edit.removeTags };
       return client.json('PATCH', `/materials/${enc(slug)}`, { json: body });
     },
-    async importMeasurements(request) {
+    importMeasurements(request) {
       refuseActor();
-      if (request.files.length !== 1)
-        throw new InputError(
-          'server-multi-file',
-          `server mode imports one file per command (${request.files.length} given): run one import per file, or import them together in file mode`,
-        );
-      return [await uploadOne(client, request)];
+      return upload(client, request);
     },
     approve: (ref) => lifecycle(ref, 'approve'),
     retire: (ref, reason) => lifecycle(ref, 'retire', { reason }),
@@ -158,17 +153,26 @@ export function uploadFields(flags: ImportFlags, fit: { model: string; options: 
   return Object.fromEntries(Object.entries(out).filter((e): e is [string, string] => e[1] !== undefined));
 }
 
-async function uploadOne(client: ServerClient, request: ImportRequest): Promise<MeasurementImported> {
-  const [{ bytes, file }] = request.files;
+/** One file: the version upload route; several: the all-or-none import route (one "table" part each). */
+async function upload(client: ServerClient, request: ImportRequest): Promise<MeasurementImported[]> {
+  if (request.files.length === 0) throw new InputError('no-files', 'no files to import');
+  const form = new FormData();
   // The server stores (and names in its messages) the last path component, as file mode does; messages
   // about the upload are renamed back to the name the user gave.
-  const name = file === '<stdin>' ? 'stdin' : basename(file);
-  const form = new FormData();
-  form.set('table', new Blob([bytes as Uint8Array<ArrayBuffer>]), name);
+  const fileNames: Record<string, string> = {};
+  for (const { bytes, file } of request.files) {
+    const name = file === '<stdin>' ? 'stdin' : basename(file);
+    fileNames[name] ??= file;
+    form.append('table', new Blob([bytes as Uint8Array<ArrayBuffer>]), name);
+  }
   for (const [k, v] of Object.entries(uploadFields(request.importFlags, request.fit, request.kk))) form.set(k, v);
   for (const [k, v] of Object.entries(request.provenance)) if (v !== undefined && v !== null) form.set(k, String(v));
-  if (file === '<stdin>' && request.provenance.source_file === undefined) form.set('source_file', file);
-  return client.json('POST', `/materials/${enc(request.slug)}/versions`, { body: form, fileNames: { [name]: file, '<upload>': file } });
+  const onlyStdin = request.files.length === 1 && request.files[0].file === '<stdin>';
+  if (onlyStdin && request.provenance.source_file === undefined) form.set('source_file', '<stdin>');
+  const slug = enc(request.slug);
+  if (request.files.length === 1)
+    return [await client.json('POST', `/materials/${slug}/versions`, { body: form, fileNames: { ...fileNames, '<upload>': request.files[0].file } })];
+  return (await client.json<{ versions: MeasurementImported[] }>('POST', `/materials/${slug}/imports`, { body: form, fileNames })).versions;
 }
 
 /**

@@ -135,6 +135,15 @@ export function importMeasurement(registry: Registry, input: MeasurementImport, 
  */
 export function importMeasurements(registry: Registry, inputs: MeasurementImport[], actor: string): MeasurementImported[] {
   if (inputs.length === 0) throw new InputError('no-files', 'no files to import');
-  const prepared = inputs.map(prepareMeasurement);
+  return storeMeasurements(registry, inputs, inputs.map(prepareMeasurement), actor);
+}
+
+/** Store prepared measurements as drafts in one transaction: all or none (the API prepares them on its compute threads). */
+export function storeMeasurements(
+  registry: Registry,
+  inputs: Pick<MeasurementImport, 'slug' | 'file' | 'provenance'>[],
+  prepared: PreparedMeasurement[],
+  actor: string,
+): MeasurementImported[] {
   return writeTransaction(registry, () => inputs.map((input, i) => storeMeasurement(registry, input, prepared[i], actor)));
 }

@@ -4,7 +4,7 @@
  * acting through each person's token). Every command must give the same exit code, stdout and stderr, once
  * times, audit-chain head hashes and the scratch folder are masked.
  */
-import { mkdirSync } from 'node:fs';
+import { mkdirSync, readFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { runCli, type CliResult } from '../cli/run-cli.ts';
@@ -12,8 +12,8 @@ import { startLab, type Lab, type Person } from './lab-server.ts';
 
 const D = 'data/marrowick';
 
-/** [who, arguments]; `{work}` is the mode's scratch folder. */
-const SCRIPT: [Person, string[]][] = [
+/** [who, arguments, standard input]; `{work}` is the mode's scratch folder. */
+const SCRIPT: [Person, string[], string?][] = [
   ['alice', ['material', 'add', 'sinx', '--name', 'PECVD SiNx', '--tag', 'nitride']],
   ['alice', ['material', 'add', 'sio2', '--name', 'Thermal oxide', '--description', 'wet oxide', '--json']],
   ['alice', ['material', 'add', 'bump', '--name', 'Invented inconsistent table']],
@@ -41,6 +41,21 @@ const SCRIPT: [Person, string[]][] = [
   ['alice', ['import', `${D}/sinx-pecvd-recipe-b.csv`, '--material', 'sinx', '--fix', 'A=1']],
   ['alice', ['import', `${D}/sinx-pecvd-recipe-b.csv`, '--material', 'sinx', '--no-kk']],
   ['alice', ['import', 'test/fixtures/kk/lorentz-bump.csv', '--material', 'bump', '--no-kk']],
+  ['alice', ['material', 'add', 'coat', '--name', 'Coating materials']],
+  ['alice', ['import', `${D}/al2o3-ald.csv`, `${D}/mgf2-evaporated.csv`, '--material', 'coat', '--meta', 'operator=alice', '--json']],
+  ['alice', ['import', `${D}/ito-sputtered.tsv`, 'test/fixtures/import/bad/n-negative.csv', '--material', 'coat']],
+  [
+    'alice',
+    ['import', '-', '--material', 'coat', '--columns', 'wavelength,n,k', '--input-unit', 'nm', '--fit', 'cauchy'],
+    readFileSync('test/fixtures/import/good/headerless.csv', 'utf8'),
+  ],
+  [
+    'alice',
+    ['import', '-', '--material', 'coat', '--columns', 'wavelength,n,k', '--no-kk', '--meta', 'sample=W3'],
+    readFileSync('test/fixtures/import/good/headerless.csv', 'utf8'),
+  ],
+  ['alice', ['import', 'test/fixtures/import/good/export-preamble.csv', '--material', 'coat', '--no-kk', '--json']],
+  ['alice', ['history', 'coat']],
   ['alice', ['approve', 'sinx@1']],
   ['bob', ['approve', 'sinx@1']],
   ['bob', ['approve', 'sio2@1', '--json']],
@@ -107,10 +122,10 @@ describe('server mode gives what file mode gives', () => {
     for (const mode of ['file', 'server'] as const) {
       const work = join(lab.dir, mode);
       mkdirSync(work);
-      for (const [person, args] of SCRIPT) {
+      for (const [person, args, input] of SCRIPT) {
         const r = await runCli(
           args.map((a) => a.replace('{work}', work)),
-          { env: lab.env(mode, person) },
+          { env: lab.env(mode, person), input },
         );
         outputs[mode].push({ code: r.code, stdout: mask(r.stdout, work), stderr: mask(r.stderr, work) });
       }
@@ -124,6 +139,7 @@ describe('server mode gives what file mode gives', () => {
     expect(codes.filter((c) => c === 0).length).toBeGreaterThan(30);
     expect(codes).toContain(2);
     expect(codes).toContain(3);
-    expect(outputs.file[12].stdout).toMatch(/approved .* by bob/);
+    expect(outputs.file[15]).toMatchObject({ code: 0, stdout: expect.stringMatching(/^stored coat@3 \(draft\)/) });
+    expect(outputs.file[19].stdout).toMatch(/approved .* by bob/);
   });
 });

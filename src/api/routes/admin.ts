@@ -26,7 +26,9 @@ const tokenRequest = z.strictObject({
 /** A typed value (`{"value": true}`), or the text a person types on the command line (`{"text": "on"}`). */
 const settingRequest = z.union([
   z.strictObject({ value: z.unknown().describe("the setting's new value, as GET /settings shows it") }),
-  z.strictObject({ text: z.string().max(5000).describe('the value as typed on a command line (`on`, `a,b`, `1048576`), parsed as `nkledger settings set` does') }),
+  z.strictObject({
+    text: z.string().max(5000).describe('the value as typed on a command line (`on`, `a,b`, `1048576`), parsed as `nkledger settings set` does'),
+  }),
 ]);
 
 const TOKEN = z

@@ -9,10 +9,10 @@ import { z } from 'zod';
 import { InputError } from '../../errors.ts';
 import { checkSlug } from '../../registry/refs.ts';
 import { PROVENANCE_FIELDS } from '../../registry/types.ts';
-import { storeMeasurement } from '../../service/import-measurement.ts';
+import { storeMeasurement, storeMeasurements } from '../../service/import-measurement.ts';
 import { actorOf, type ApiEnv } from '../auth.ts';
 import { FIT_OPTION_FIELDS, fitOptionsFromFields, givenFitFields } from '../fit-fields.ts';
-import { readTableUpload, UPLOAD_ERRORS, uploadDescription } from '../upload.ts';
+import { readTableUpload, UPLOAD_ERRORS, uploadDescription, type TableUpload } from '../upload.ts';
 import { decimalField, parseInput } from '../validate.ts';
 import type { RouteContext } from '../context.ts';
 import { AUTH_ERRORS, BUSY, json, problem, SLUG_PATH, WRITE_ERRORS, type Operation } from '../operations.ts';
@@ -128,30 +128,50 @@ export const UPLOAD_OPERATIONS: Operation[] = [
   },
 ];
 
+/** The fields of a version upload: fit options, KK switch and provenance, refused together as the CLI refuses its flags. */
+function measurementFields(upload: TableUpload) {
+  const { fit, kk, ...fields } = parseInput(versionFields, upload.fields, upload.fieldsIn, 400);
+  const fitFields = Object.fromEntries(Object.entries(fields).filter(([k]) => k in FIT_OPTION_FIELDS)) as Record<string, string | undefined>;
+  const provenance = Object.fromEntries(Object.entries(fields).filter(([k]) => !(k in FIT_OPTION_FIELDS))) as Record<string, string | undefined>;
+  const unused = fit === undefined ? givenFitFields(fitFields) : [];
+  if (unused.length) throw new InputError('bad-option', `${unused.join(', ')} configure a fit: add fit=MODEL`);
+  return { fit: fit ? { ...fitOptionsFromFields(fitFields), model: fit } : undefined, kk, provenance };
+}
+
 export function registerUploadRoutes(app: Hono<ApiEnv>, ctx: RouteContext): void {
   const reader = ctx.requireRole('reader');
 
   app.post('/api/v1/materials/:slug/versions', ctx.requireRole('editor'), async (c) => {
     const slug = checkSlug(c.req.param('slug'));
     const upload = await readTableUpload(c);
-    const { fit, kk, ...fields } = parseInput(versionFields, upload.fields, upload.fieldsIn, 400);
-    const fitFields = Object.fromEntries(Object.entries(fields).filter(([k]) => k in FIT_OPTION_FIELDS)) as Record<string, string | undefined>;
-    const provenance = Object.fromEntries(Object.entries(fields).filter(([k]) => !(k in FIT_OPTION_FIELDS))) as Record<string, string | undefined>;
-    const unused = fit === undefined ? givenFitFields(fitFields) : [];
-    if (unused.length) throw new InputError('bad-option', `${unused.join(', ')} configure a fit: add fit=MODEL`);
+    const { fit, kk, provenance } = measurementFields(upload);
     const actor = actorOf(c.get('principal'));
-    const input = {
-      bytes: upload.bytes,
-      file: upload.file,
-      importOptions: upload.importOptions,
-      fit: fit ? { ...fitOptionsFromFields(fitFields), model: fit } : undefined,
-      kk,
-    };
+    const input = { bytes: upload.bytes, file: upload.file, importOptions: upload.importOptions, fit, kk };
     // Parse, fit and KK on a worker thread (stopped if the client disconnects); only the write transaction runs here.
     const prepared = await ctx.compute.run({ kind: 'measurement', input }, c.req.raw.signal);
     const result = storeMeasurement(ctx.registry, { slug, file: upload.file, provenance }, prepared, actor);
     c.header('location', versionUrl(result.ref));
     return c.json(result, 201);
+  });
+
+  // Several tables (multipart, one "table" part each) as drafts of one material, all or none, as
+  // `nkledger import A B C` does: each is parsed, fitted and checked first (in order, on the compute threads;
+  // a refusal names its file), then all are stored in one transaction.
+  app.post('/api/v1/materials/:slug/imports', ctx.requireRole('editor'), async (c) => {
+    const slug = checkSlug(c.req.param('slug'));
+    const upload = await readTableUpload(c, { several: true });
+    const { fit, kk, provenance } = measurementFields(upload);
+    const actor = actorOf(c.get('principal'));
+    const prepared = [];
+    for (const t of upload.tables)
+      prepared.push(
+        await ctx.compute.run(
+          { kind: 'measurement', input: { bytes: t.bytes, file: t.file, importOptions: { ...upload.importOptions, file: t.file }, fit, kk } },
+          c.req.raw.signal,
+        ),
+      );
+    const inputs = upload.tables.map((t) => ({ slug, file: t.file, provenance }));
+    return c.json({ versions: storeMeasurements(ctx.registry, inputs, prepared, actor) }, 201);
   });
 
   app.post('/api/v1/fit', reader, async (c) => {
