@@ -6,7 +6,7 @@
  */
 import { createHash } from 'node:crypto';
 import { dirname, resolve as resolvePath } from 'node:path';
-import { InputError, NotFoundError } from '../errors.ts';
+import { InputError, NotFoundError, type InputLocation } from '../errors.ts';
 import { evaluateFitReport } from '../fit/evaluate.ts';
 import type { FitReport } from '../fit/types.ts';
 import { parseNkTable } from '../io/parse-table.ts';
@@ -26,7 +26,7 @@ import { cieTables } from './cie.ts';
 import type { Lockfile } from './lock.ts';
 import { readSource } from './source.ts';
 import { locateField, type MaterialSource, type StackDesign } from './stack-design.ts';
-import { loadVersion, withExistingRegistry } from './table-source.ts';
+import { loadVersion, withExistingRegistry, type LoadedSource } from './table-source.ts';
 
 export const STACK_POLARIZATIONS = ['unpolarized', 's', 'p'] as const;
 export type StackPolarization = (typeof STACK_POLARIZATIONS)[number];
@@ -161,6 +161,8 @@ export interface ResolveContext {
   /** An open registry (the API); else `db` is opened if a ref needs it (never created). */
   registry?: Registry;
   db?: string;
+  /** How to load a registry ref instead of a registry or `db`: the CLI's server mode fetches it from the server. */
+  loadVersion?: (ref: string) => Promise<LoadedSource>;
   /** Name of the design file in messages, and the base of relative file sources. */
   designFile: string;
   /** The design text, for line and column in refusals (null when the design came as parsed JSON). */
@@ -265,46 +267,37 @@ export async function resolveStackDesign(design: StackDesign, ctx: ResolveContex
 
   const refSlots = every.filter((s) => 'ref' in s.source);
   if (refSlots.length) {
-    const useRegistry = (registry: Registry) => {
-      for (const slot of refSlots) {
-        const text = (slot.source as { ref: string }).ref;
-        const at = where(slot.path, ['ref']);
-        const { ref, lockedSha } = ctx.lock ? throughLock(text, ctx.lock, slot.role, at) : { ref: text, lockedSha: null };
-        let loaded;
+    // Every ref is looked up first (through the lockfile when one is given), then each is checked in order.
+    const plan = refSlots.map((slot) => {
+      const at = where(slot.path, ['ref']);
+      const text = (slot.source as { ref: string }).ref;
+      return { slot, at, ...(ctx.lock ? throughLock(text, ctx.lock, slot.role, at) : { ref: text, lockedSha: null }) };
+    });
+    const inSlot = (slot: Slot, at: InputLocation, err: unknown) =>
+      err instanceof InputError ? new InputError(err.rule, `${slot.role}: ${err.message}`, at, err.status) : err;
+    const loadedVersions: LoadedSource[] = [];
+    const loadAll = (registry: Registry) => {
+      for (const { slot, at, ref } of plan) {
         try {
-          loaded = loadVersion(registry, ref);
+          loadedVersions.push(loadVersion(registry, ref));
         } catch (err) {
-          if (err instanceof InputError) throw new InputError(err.rule, `${slot.role}: ${err.message}`, at, err.status);
-          throw err;
+          throw inSlot(slot, at, err);
         }
-        const origin = loaded.detected as { ref: string; sha256: string; status: VersionStatus; model: string | null };
-        if (lockedSha && origin.sha256 !== lockedSha) {
-          throw new InputError(
-            'stack-lock-mismatch',
-            `${slot.role}: ${origin.ref} in the registry has sha256 ${origin.sha256.slice(0, 12)}…, the lockfile ${ctx.lock!.file} pins ${lockedSha.slice(0, 12)}… (run \`nkledger lock verify --lock ${ctx.lock!.file}\`)`,
-            at,
-          );
-        }
-        notices.push(...loaded.notices.map((n) => `${slot.role}: ${n}`));
-        warnings.push(...loaded.warnings.map((w) => `${slot.role}: ${w}`));
-        const describe = loaded.content!.fit ? `fitted ${loaded.content!.fit.model} model` : 'measured table';
-        resolved.set(slot, {
-          role: slot.role,
-          field: slot.path.join('.'),
-          source: 'registry',
-          ref: origin.ref,
-          sha256: origin.sha256,
-          status: origin.status,
-          describe,
-          content: loaded.content!,
-        });
       }
     };
-    if (ctx.registry) useRegistry(ctx.registry);
+    if (ctx.loadVersion) {
+      for (const { slot, at, ref } of plan) {
+        try {
+          loadedVersions.push(await ctx.loadVersion(ref));
+        } catch (err) {
+          throw inSlot(slot, at, err);
+        }
+      }
+    } else if (ctx.registry) loadAll(ctx.registry);
     else {
       const refs = refSlots.map((s) => (s.source as { ref: string }).ref).join(', ');
       try {
-        withExistingRegistry(refs, ctx.db, useRegistry);
+        withExistingRegistry(refs, ctx.db, loadAll);
       } catch (err) {
         if (!(err instanceof NotFoundError && err.rule === 'source-not-found')) throw err;
         throw new NotFoundError(
@@ -313,6 +306,30 @@ export async function resolveStackDesign(design: StackDesign, ctx: ResolveContex
         );
       }
     }
+    plan.forEach(({ slot, at, lockedSha }, i) => {
+      const loaded = loadedVersions[i];
+      const origin = loaded.detected as { ref: string; sha256: string; status: VersionStatus; model: string | null };
+      if (lockedSha && origin.sha256 !== lockedSha) {
+        throw new InputError(
+          'stack-lock-mismatch',
+          `${slot.role}: ${origin.ref} in the registry has sha256 ${origin.sha256.slice(0, 12)}…, the lockfile ${ctx.lock!.file} pins ${lockedSha.slice(0, 12)}… (run \`nkledger lock verify --lock ${ctx.lock!.file}\`)`,
+          at,
+        );
+      }
+      notices.push(...loaded.notices.map((n) => `${slot.role}: ${n}`));
+      warnings.push(...loaded.warnings.map((w) => `${slot.role}: ${w}`));
+      const describe = loaded.content!.fit ? `fitted ${loaded.content!.fit.model} model` : 'measured table';
+      resolved.set(slot, {
+        role: slot.role,
+        field: slot.path.join('.'),
+        source: 'registry',
+        ref: origin.ref,
+        sha256: origin.sha256,
+        status: origin.status,
+        describe,
+        content: loaded.content!,
+      });
+    });
   }
 
   const get = (slot: Slot): ResolvedMaterial => {

@@ -4,7 +4,7 @@
  * acting through each person's token). Every command must give the same exit code, stdout and stderr, once
  * times, audit-chain head hashes and the scratch folder are masked.
  */
-import { mkdirSync, readFileSync } from 'node:fs';
+import { mkdirSync, readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { runCli, type CliResult } from '../cli/run-cli.ts';
@@ -89,6 +89,9 @@ const SCRIPT: [Person, string[], string?][] = [
   ['alice', ['lock', 'add', 'sinx@2', '--lock', '{work}/design.lock.json']],
   ['alice', ['lock', 'verify', '--lock', '{work}/design.lock.json']],
   ['alice', ['lock', 'outdated', '--lock', '{work}/design.lock.json', '--json']],
+  ['alice', ['stack', '{design}', '--at', '400:700:100', '--lock', '{work}/design.lock.json']],
+  ['alice', ['stack', '{design}', '--at', '550', '--angle', '0,45', '--json']],
+  ['alice', ['stack', '{bad-design}', '--at', '550']],
   ['alice', ['material', 'edit', 'sio2', '--description', 'dry oxide', '--tag', 'oxide', '--json']],
   ['ada', ['verify']],
   ['ada', ['settings', 'set', 'allow_self_approval', 'on']],
@@ -104,16 +107,33 @@ const mask = (text: string, work: string) =>
   text
     .split(work)
     .join('<work>')
+    .split(DESIGN.slice(0, DESIGN.lastIndexOf('/')))
+    .join('<dir>')
     .replace(/\d{4}-\d\d-\d\dT\d\d:\d\d:\d\d(\.\d+)?Z/g, '<time>')
     .replace(/\d{4}-\d\d-\d\d \d\d:\d\d UTC/g, '<time>')
     .replace(/audit chain head [0-9a-f]{64}/g, 'audit chain head <head>')
     .replace(/(event \d+) \([0-9a-f]{12}…\)/g, '$1 (<head>)')
     .replace(/("registry_head": \{\s*"hash": ")[0-9a-f]{64}/g, '$1<head>');
 
+let DESIGN: string;
+let BAD_DESIGN: string;
+
 describe('server mode gives what file mode gives', () => {
   let lab: Lab;
   beforeAll(async () => {
     lab = await startLab();
+    DESIGN = join(lab.dir, 'v-coat.stack.json');
+    BAD_DESIGN = join(lab.dir, 'bad.stack.json');
+    const design = (high: string) => ({
+      name: 'two-layer test coating',
+      layers: [
+        { material: { ref: 'sio2' }, thickness_nm: 90 },
+        { material: { ref: high }, thickness_nm: 30 },
+      ],
+      substrate: { material: { n: 1.46 } },
+    });
+    writeFileSync(DESIGN, JSON.stringify(design('sinx@3'), null, 2));
+    writeFileSync(BAD_DESIGN, JSON.stringify(design('sinx@7'), null, 2));
   });
   afterAll(() => lab?.stop());
 
@@ -124,7 +144,7 @@ describe('server mode gives what file mode gives', () => {
       mkdirSync(work);
       for (const [person, args, input] of SCRIPT) {
         const r = await runCli(
-          args.map((a) => a.replace('{work}', work)),
+          args.map((a) => a.replace('{work}', work).replace('{design}', DESIGN).replace('{bad-design}', BAD_DESIGN)),
           { env: lab.env(mode, person), input },
         );
         outputs[mode].push({ code: r.code, stdout: mask(r.stdout, work), stderr: mask(r.stderr, work) });
@@ -140,6 +160,9 @@ describe('server mode gives what file mode gives', () => {
     expect(codes).toContain(2);
     expect(codes).toContain(3);
     expect(outputs.file[15]).toMatchObject({ code: 0, stdout: expect.stringMatching(/^stored coat@3 \(draft\)/) });
+    const codesOf = (command: string) => SCRIPT.flatMap(([, a], i) => (a[0] === command ? [outputs.file[i].code] : []));
+    expect(codesOf('stack')).toEqual([0, 0, 2]);
+    expect(codesOf('backup')).toEqual([0, 2]);
     expect(outputs.file[19].stdout).toMatch(/approved .* by bob/);
   });
 });

@@ -8,14 +8,14 @@ import { computeStack, parseStackOptions, resolveStackDesign, STACK_POLARIZATION
 import { parseStackDesign } from '../../service/stack-design.ts';
 import { renderStackPlot } from '../../service/stack-plot.ts';
 import type { Colour } from '../../stack/colour.ts';
-import { addDbOption } from '../admin-options.ts';
+import { addRegistryOptions, registryOps, serverUrlOf, type RegistryFlags } from '../registry-access.ts';
 import { guarded } from '../failure.ts';
 import { cliIo } from '../io.ts';
 import { formatTable, printJson, printLines } from '../output.ts';
 import { printResolution } from '../registry-output.ts';
 import { parseWavelengthList } from '../../io/wavelength-list.ts';
 
-interface StackFlags {
+interface StackFlags extends RegistryFlags {
   at: string;
   angle?: string;
   polarization?: string;
@@ -24,11 +24,10 @@ interface StackFlags {
   plot?: string;
   sweep?: string;
   extrapolate?: boolean;
-  db?: string;
 }
 
 export function register(program: Command): void {
-  addDbOption(program.command('stack'), "registry database for the design's registry refs")
+  addRegistryOptions(program.command('stack'), "registry database for the design's registry refs")
     .description('reflectance, transmittance, absorptance, ellipsometric Ψ/Δ and colour of a thin-film stack design (transfer-matrix method)')
     .argument('<design>', 'stack design file (JSON; schema in schemas/stack-design.schema.json), or - for standard input')
     .requiredOption('--at <nm>', 'wavelengths in nm: a list 450,550 and/or grids start:stop:step such as 380:780:1')
@@ -63,7 +62,9 @@ export function register(program: Command): void {
         const text = Buffer.from(bytes).toString('utf8');
         const design = parseStackDesign(text, file);
         const lock = opts.lock ? { lockfile: readLockfile(opts.lock), file: opts.lock } : undefined;
-        const resolved = await resolveStackDesign(design, { db: opts.db, designFile: file, designText: text, allowFiles: true, lock });
+        // In server mode the design's registry refs are fetched from the server; the stack is computed here.
+        const loadVersion = serverUrlOf(opts) === undefined ? undefined : registryOps(opts).loadVersion;
+        const resolved = await resolveStackDesign(design, { db: opts.db, loadVersion, designFile: file, designText: text, allowFiles: true, lock });
         const report = computeStack(resolved, options);
         printResolution({ notices: report.notices, warnings: report.warnings });
         if (opts.plot) await writeFile(opts.plot, renderStackPlot(report));
