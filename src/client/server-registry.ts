@@ -7,7 +7,8 @@
 import { existsSync, linkSync, rmSync } from 'node:fs';
 import { open } from 'node:fs/promises';
 import { basename } from 'node:path';
-import { ConflictError, EnvironmentError, InputError } from '../errors.ts';
+import { ConflictError, EnvironmentError, InputError, IntegrityError } from '../errors.ts';
+import { versionSha256 } from '../registry/records.ts';
 import type { ImportFlags } from '../io/import-options.ts';
 import type { VersionDetail, VersionRecord } from '../registry/types.ts';
 import type { FitOptionText } from '../service/fit-options.ts';
@@ -55,6 +56,11 @@ export function serverRegistry(client: ServerClient, options: ServerRegistryOpti
     version: (ref) => client.json('GET', `/refs/${enc(ref)}`),
     async loadVersion(ref): Promise<LoadedSource> {
       const v = await client.json<VersionDetail>('GET', `/refs/${enc(ref)}`);
+      // What is computed on here must be the content the hash names: recomputed, as the server's own reads do.
+      if (versionSha256(v.content, v.provenance) !== v.sha256)
+        throw new IntegrityError(
+          `${v.ref}: the content received from ${client.url} does not hash to its SHA-256 ${v.sha256.slice(0, 12)}…; it was altered on the way (a proxy?) or on the server; nothing was computed`,
+        );
       return {
         table: v.content.table,
         content: v.content,

@@ -118,6 +118,27 @@ describe('server mode: clear failures', () => {
     }
   });
 
+  it('content altered on the way (it no longer hashes to its SHA-256): refused before anything is computed (exit 2)', async () => {
+    const alice = lab.env('server', 'alice');
+    await runCli(['material', 'add', 'glass', '--name', 'Glass'], { env: alice });
+    expect((await runCli(['import', 'data/marrowick/sio2-thermal.csv', '--material', 'glass', '--no-kk'], { env: alice })).code).toBe(0);
+    const version = await (await fetch(`${lab.url}/api/v1/refs/glass@1`, { headers: { authorization: `Bearer ${lab.tokens.alice}` } })).json();
+    version.content.table.n[0] += 0.001;
+    const proxy = await fakeServer((res) => {
+      res.writeHead(200, { 'content-type': 'application/json' });
+      res.end(JSON.stringify(version));
+    });
+    try {
+      const r = await runCli(['eval', 'glass@1', '--at', '600', '--server', proxy.url], { env: CLEAN_ENV });
+      expect(r.code).toBe(2);
+      oneLine(r.stderr);
+      expect(r.stderr).toContain(`glass@1: the content received from ${proxy.url} does not hash to its SHA-256`);
+      expect(r.stderr).toContain('[integrity-hash-mismatch]');
+    } finally {
+      await close(proxy.server);
+    }
+  });
+
   it('a URL that is not http(s): refused as input (exit 2)', async () => {
     const r = await runCli(['list', '--server', 'ftp://lab-server'], { env: CLEAN_ENV });
     expect(r.code).toBe(2);
