@@ -58,6 +58,19 @@ const WRITES: WriteCase[] = [
     },
   },
   {
+    name: 'import several tables',
+    role: 'editor',
+    success: 201,
+    prepare: (h) => {
+      const slug = `many-${++counter}`;
+      createMaterial(h.registry, { slug, name: 'Batch target' }, 'lab-editor');
+      const form = new FormData();
+      form.append('table', new Blob([csvTable(2.1 + counter / 1000)]), 'a.csv');
+      form.append('table', new Blob([csvTable(2.2 + counter / 1000)]), 'b.csv');
+      return { path: `/api/v1/materials/${slug}/imports`, init: { method: 'POST', body: form } };
+    },
+  },
+  {
     name: 'approve',
     role: 'approver',
     success: 200,
