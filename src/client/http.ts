@@ -70,10 +70,6 @@ export class ServerClient {
     this.options = { timeoutMs: DEFAULT_TIMEOUT_MS, busyRetries: 3, maxRetryWaitMs: 5000, ...options };
   }
 
-  get hasToken(): boolean {
-    return this.options.token !== undefined;
-  }
-
   /** GET/POST/… `/api/v1` + path and parse the JSON answer; any failure is thrown as described above. */
   async json<T>(method: string, path: string, options: RequestOptions = {}): Promise<T> {
     const response = await this.request(method, path, options);

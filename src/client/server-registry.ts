@@ -32,7 +32,7 @@ export function serverRegistry(client: ServerClient, options: ServerRegistryOpti
     if (options.actorGiven === undefined) return;
     throw new InputError(
       'identity-from-token',
-      `${options.actorGiven}: in server mode the server records who acts from the token (${client.hasToken ? 'yours' : 'none given'}), so a name cannot be chosen; remove it (each person logs in with their own token: nkledger login ${client.url})`,
+      `${options.actorGiven}: in server mode the server records who acts from the token sent, so a name cannot be chosen; remove it (each person logs in with their own token: nkledger login ${client.url})`,
       {},
       400,
       { option: 'as' },

@@ -99,8 +99,7 @@ export const SETTINGS = {
   writes: {
     schema: z.enum(['any', 'server-only']),
     default: 'any',
-    meaning:
-      'who may write to the registry file: "any" process that can open it, or "server-only" (only `nkledger serve`: people write through --server with their own token, which enforces the two-person rule); changed only through the server by an admin',
+    meaning: 'who writes the registry file: "any" process, or "server-only" (only `nkledger serve`; people use --server and their own token)',
     parseText: (t: string) => t,
   } satisfies SettingDefinition<'any' | 'server-only'>,
 };
