@@ -26,6 +26,20 @@ describe('server mode: verify and backup (admin)', () => {
     expect(notAdmin.stderr).toContain('this request needs admin or above [auth-forbidden]');
   });
 
+  it('token create, list and revoke go through the server, as the admin of the token sent', async () => {
+    const created = await runCli(['token', 'create', '--user', 'carla', '--role', 'editor', '--json'], { env: lab.env('server', 'ada') });
+    expect(created.code).toBe(0);
+    const token = JSON.parse(created.stdout);
+    expect(token).toMatchObject({ user: 'carla', role: 'editor', created_by: 'ada' });
+    const revoked = await runCli(['token', 'revoke', token.id], { env: lab.env('server', 'ada') });
+    expect(revoked.stdout).toMatch(new RegExp(`^revoked ${token.id} \\(carla, editor\\)`));
+    const active = JSON.parse((await runCli(['token', 'list', '--active', '--json'], { env: lab.env('server', 'ada') })).stdout);
+    expect(active.map((t: { user: string }) => t.user).sort()).toEqual(['ada', 'alice', 'bob', 'rita']);
+    const refused = await runCli(['token', 'create', '--user', 'eve', '--role', 'admin'], { env: lab.env('server', 'alice') });
+    expect(refused.code).toBe(2);
+    expect(refused.stderr).toContain('[auth-forbidden]');
+  });
+
   it('backup: the snapshot is a registry that verifies; an existing file is never overwritten; no partial file is left', async () => {
     const file = join(lab.dir, 'snap', 'lab.db');
     const missingFolder = await runCli(['backup', file], { env: lab.env('server', 'ada') });
