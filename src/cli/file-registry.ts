@@ -7,9 +7,27 @@
 import type { RegistryOperations } from '../client/operations.ts';
 import { EnvironmentError } from '../errors.ts';
 import { importOptionsFrom } from '../io/import-options.ts';
-import { registryPath, type OpenOptions, type Registry } from '../registry/open.ts';
-import { actorFrom, withRegistry } from './admin-options.ts';
+import { environmentFault } from '../registry/faults.ts';
+import { openRegistry, type OpenOptions, type Registry } from '../registry/open.ts';
+import { actorFrom } from './admin-options.ts';
 import { cliOptionName } from './import-options.ts';
+import { cliIo } from './io.ts';
+
+/**
+ * Open the registry named by --db, run `use`, and close it whatever happens. A missing registry is refused
+ * (exit 2, naming the path) unless `open.create` allows creating it; creating one is said on stderr.
+ */
+export async function withRegistry<T>(opts: { db?: string }, use: (registry: Registry) => T | Promise<T>, open: OpenOptions = {}): Promise<T> {
+  const registry = openRegistry(opts.db, { create: 'never', ...open });
+  if (registry.created) cliIo().stderr.write(`nkledger: created a new registry at ${registry.path}\n`);
+  try {
+    return await use(registry);
+  } catch (err) {
+    throw environmentFault(err, registry.path) ?? err;
+  } finally {
+    registry.close();
+  }
+}
 
 export function fileRegistry(opts: { db?: string; as?: string }): RegistryOperations {
   const use = <T>(fn: (r: Registry) => T | Promise<T>, open: OpenOptions = {}) => withRegistry(opts, fn, open);
@@ -22,7 +40,6 @@ export function fileRegistry(opts: { db?: string; as?: string }): RegistryOperat
   const settings = () => import('../service/settings.ts');
   const admin = () => import('../service/registry-admin.ts');
   return {
-    where: registryPath(opts.db),
     async materials(search) {
       const { listMaterials } = await materials();
       const { searchMaterials } = await import('../service/material-search.ts');

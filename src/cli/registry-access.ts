@@ -10,7 +10,6 @@ import type { RegistryOperations } from '../client/operations.ts';
 import { serverRegistry } from '../client/server-registry.ts';
 import { parseOptionNumber } from '../io/numbers.ts';
 import { addDbOption } from './admin-options.ts';
-import { fileRegistry } from './file-registry.ts';
 import { cliIo } from './io.ts';
 
 export interface RegistryFlags {
@@ -46,8 +45,23 @@ export function serverClient(url: string, token = tokenFor(cliIo().env, url)): S
 
 export function registryOps(opts: RegistryFlags): RegistryOperations {
   const url = serverUrlOf(opts);
-  if (url === undefined) return fileRegistry(opts);
+  if (url === undefined) return fileMode(opts);
   const user = cliIo().env.NKLEDGER_USER;
   const actorGiven = opts.as !== undefined ? `--as ${opts.as}` : user ? `NKLEDGER_USER=${user}` : undefined;
   return serverRegistry(serverClient(url), { actorGiven });
+}
+
+/**
+ * File mode's operations, loaded on first use: the database code (drizzle, better-sqlite3, the service layer) is
+ * then never loaded by a command in server mode.
+ */
+function fileMode(opts: RegistryFlags): RegistryOperations {
+  const ops = import('./file-registry.ts').then((m) => m.fileRegistry(opts));
+  ops.catch(() => {}); // a failed load is reported by the call that awaits it
+  return new Proxy({} as RegistryOperations, {
+    get:
+      (_target, name: keyof RegistryOperations) =>
+      async (...args: unknown[]) =>
+        ((await ops)[name] as (...a: unknown[]) => unknown)(...args),
+  });
 }

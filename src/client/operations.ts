@@ -43,8 +43,6 @@ export interface ImportRequest {
 }
 
 export interface RegistryOperations {
-  /** Where the registry is, for messages: the file path or the server URL. */
-  readonly where: string;
   materials(search?: string): Promise<MaterialRecord[]>;
   history(slug: string): Promise<MaterialHistory>;
   version(ref: string): Promise<VersionDetail>;

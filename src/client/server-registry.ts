@@ -50,7 +50,6 @@ export function serverRegistry(client: ServerClient, options: ServerRegistryOpti
   };
 
   return {
-    where: client.url,
     materials: async (search) => (await client.json<{ materials: [] }>('GET', '/materials', { query: { q: search } })).materials,
     history: (slug) => client.json('GET', `/materials/${enc(slug)}/history`),
     version: (ref) => client.json('GET', `/refs/${enc(ref)}`),

@@ -2,7 +2,7 @@
 import { asc, eq } from 'drizzle-orm';
 import { ConflictError, InputError } from '../errors.ts';
 import type { Registry } from '../registry/open.ts';
-import { appendAudit, findMaterial, materialRecord, nowIso, versionRecord, writeTransaction } from '../registry/records.ts';
+import { appendAudit, findMaterial, latestApprovedNumbers, materialRecord, nowIso, versionRecord, writeTransaction } from '../registry/records.ts';
 import { checkSlug, formatRef } from '../registry/refs.ts';
 import { auditLog, materials, materialVersions } from '../registry/schema.ts';
 import type { AuditEntry, MaterialRecord, VersionRecord } from '../registry/types.ts';
@@ -155,7 +155,8 @@ export function editMaterial(registry: Registry, slugText: string, edit: Materia
 /** All materials, by slug; optionally only those carrying `tag`. */
 export function listMaterials(registry: Registry, filter: { tag?: string } = {}): MaterialRecord[] {
   const rows = registry.db.select().from(materials).orderBy(asc(materials.slug)).all();
-  return rows.map((row) => materialRecord(registry, row)).filter((m) => filter.tag === undefined || m.tags.includes(filter.tag));
+  const latest = latestApprovedNumbers(registry);
+  return rows.map((row) => materialRecord(registry, row, latest)).filter((m) => filter.tag === undefined || m.tags.includes(filter.tag));
 }
 
 /** The version rows of a material, oldest first. */
