@@ -94,7 +94,7 @@ export function tokenFor(env: Env, url: string): string | undefined {
   const saved = data.servers[url];
   if (!saved) return undefined;
   const mode = statSync(path).mode & 0o077;
-  if (mode !== 0 && process.platform !== 'win32')
+  if (mode !== 0)
     throw new InputError(
       'credentials-too-open',
       `${path} can be read by other users (mode ${(statSync(path).mode & 0o777).toString(8)}); run chmod 600 ${path}, and if others could read it, have an admin revoke the token and log in again`,

@@ -193,6 +193,8 @@ export class ServerClient {
         return new EnvironmentError('server-busy', `the nkledger server at ${this.url} stayed busy (${message}); try again later`);
       return new EnvironmentError(p.rule, `the server at ${this.url}: ${message}`, location, p.status);
     }
+    // A stored version that no longer matches its hash (IntegrityError): a fault of the server's data, as in file mode.
+    if (p.status === 500) return new EnvironmentError(p.rule, message, location, p.status);
     let text = message;
     if (p.status === 401) text = `${message}; log in with \`nkledger login ${this.url}\` or set NKLEDGER_TOKEN`;
     return new InputError(p.rule, text, location, p.status, {

@@ -9,9 +9,10 @@ import { open } from 'node:fs/promises';
 import { basename } from 'node:path';
 import { ConflictError, EnvironmentError, InputError, IntegrityError } from '../errors.ts';
 import { versionSha256 } from '../registry/records.ts';
-import type { ImportFlags } from '../io/import-options.ts';
+import { IMPORT_OPTIONS, type ImportFlags } from '../io/import-options.ts';
+import { fieldsFromValues } from '../io/option-spec.ts';
 import type { VersionDetail, VersionRecord } from '../registry/types.ts';
-import type { FitOptionText } from '../service/fit-options.ts';
+import { FIT_OPTIONS, type FitOptionText } from '../service/fit-options.ts';
 import type { MeasurementImported } from '../service/import-measurement.ts';
 import type { LoadedSource } from '../service/table-source.ts';
 import type { ServerClient } from './http.ts';
@@ -126,36 +127,13 @@ export function serverRegistry(client: ServerClient, options: ServerRegistryOpti
   };
 }
 
-/** The import and fit flags as the upload route's fields (the CLI's flags, snake_case; lists comma-separated). */
+/** The import and fit flags as the upload route's fields: the option tables both front doors are made from, spelled for HTTP. */
 export function uploadFields(flags: ImportFlags, fit: { model: string; options: FitOptionText } | undefined, kk: boolean): Record<string, string> {
-  const out: Record<string, string | undefined> = {
-    input_unit: flags.inputUnit,
-    columns: flags.columns,
-    delimiter: flags.delimiter,
-    decimal_comma: flags.decimalComma === undefined ? undefined : String(flags.decimalComma),
-    k_tolerance: flags.kTolerance,
-    header_line: flags.headerLine,
-    allow_any_range: flags.allowAnyRange ? 'true' : undefined,
-    kk: kk ? undefined : 'false',
+  return {
+    ...fieldsFromValues(IMPORT_OPTIONS, { ...flags }),
+    ...(kk ? {} : { kk: 'false' }),
+    ...(fit && { fit: fit.model, ...fieldsFromValues(FIT_OPTIONS, { ...fit.options }) }),
   };
-  if (fit) {
-    const o = fit.options;
-    Object.assign(out, {
-      fit: fit.model,
-      terms: o.terms,
-      urbach: o.urbach ? 'true' : undefined,
-      target: o.target,
-      range_nm: o.range,
-      fix: o.fix?.join(','),
-      init: o.init?.join(','),
-      bounds: o.bounds?.join(','),
-      free: o.free?.join(','),
-      starts: o.starts,
-      seed: o.seed,
-      weights: o.weights,
-    });
-  }
-  return Object.fromEntries(Object.entries(out).filter((e): e is [string, string] => e[1] !== undefined));
 }
 
 /** One file: the version upload route; several: the all-or-none import route (one "table" part each). */

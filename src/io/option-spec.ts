@@ -61,3 +61,20 @@ export function valuesFromFields(specs: readonly OptionSpec[], fields: Record<st
   }
   return out;
 }
+
+/**
+ * The inverse of valuesFromFields: values keyed as the command line's parsed flags → API fields (text), for a
+ * client that sends what a person typed to a server (src/client). Switches that are off and absent values are left
+ * out; command-line-only options are never sent.
+ */
+export function fieldsFromValues(specs: readonly OptionSpec[], values: Record<string, unknown>): Record<string, string> {
+  const out: Record<string, string> = {};
+  for (const spec of specs) {
+    const value = values[keyOf(spec)];
+    if (value === undefined || spec.cliOnly) continue;
+    if (spec.argument === undefined) {
+      if (value === true || (value === false && spec.negation)) out[fieldOf(spec)] = String(value);
+    } else out[fieldOf(spec)] = Array.isArray(value) ? value.join(',') : String(value);
+  }
+  return out;
+}

@@ -118,7 +118,7 @@ describe('server mode: clear failures', () => {
     }
   });
 
-  it('content altered on the way (it no longer hashes to its SHA-256): refused before anything is computed (exit 2)', async () => {
+  it('content altered on the way (it no longer hashes to its SHA-256): refused before anything is computed (exit 4)', async () => {
     const alice = lab.env('server', 'alice');
     await runCli(['material', 'add', 'glass', '--name', 'Glass'], { env: alice });
     expect((await runCli(['import', 'data/marrowick/sio2-thermal.csv', '--material', 'glass', '--no-kk'], { env: alice })).code).toBe(0);
@@ -130,7 +130,7 @@ describe('server mode: clear failures', () => {
     });
     try {
       const r = await runCli(['eval', 'glass@1', '--at', '600', '--server', proxy.url], { env: CLEAN_ENV });
-      expect(r.code).toBe(2);
+      expect(r.code).toBe(4);
       oneLine(r.stderr);
       expect(r.stderr).toContain(`glass@1: the content received from ${proxy.url} does not hash to its SHA-256`);
       expect(r.stderr).toContain('[integrity-hash-mismatch]');
