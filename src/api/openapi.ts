@@ -13,6 +13,7 @@ import { NK_OPERATIONS } from './routes/nk.ts';
 import { STACK_OPERATIONS } from './routes/stack.ts';
 import { ELLIPSOMETRY_OPERATIONS } from './routes/ellipsometry.ts';
 import { UPLOAD_OPERATIONS } from './routes/uploads.ts';
+import { REF_OPERATIONS } from './routes/refs.ts';
 import { json, type BodySchema, type Operation } from './operations.ts';
 
 /** The document's own route (served by routes/openapi.ts). */
@@ -33,6 +34,7 @@ export const API_OPERATIONS: Operation[] = [
   ...ADMIN_OPERATIONS,
   ...STACK_OPERATIONS,
   ...ELLIPSOMETRY_OPERATIONS,
+  ...REF_OPERATIONS,
 ];
 
 type JsonSchema = Record<string, unknown>;

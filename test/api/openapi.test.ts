@@ -409,6 +409,67 @@ describe('OpenAPI document', () => {
     await answers.check('GET', '/api/v1/materials/{slug}/versions/{n}/nk', range);
   });
 
+  it('server-mode routes: refs, export, diff, history, several-table import, lock add and outdated, whoami, verify, backup', async () => {
+    const ref = (await answers.check('GET', '/api/v1/refs/{ref}', await h.request('/api/v1/refs/glass', { as: 'reader' }))) as {
+      ref: string;
+      sha256: string;
+    };
+    expect(ref.ref).toBe('glass@1');
+    await answers.check('GET', '/api/v1/refs/{ref}', await h.request(`/api/v1/refs/${encodeURIComponent(`glass@sha256:${ref.sha256.slice(0, 8)}`)}`));
+    await answers.check('GET', '/api/v1/refs/{ref}', await h.request('/api/v1/refs/glass@9'));
+    await answers.check('GET', '/api/v1/refs/{ref}', await h.request('/api/v1/refs/glass@1?extra=1'));
+    const exported = await h.request('/api/v1/refs/glass@1/export?format=csv&x_unit=eV');
+    expect(((await answers.check('GET', '/api/v1/refs/{ref}/export', exported)) as { text: string }).text).toMatch(/^# nkledger glass@1/);
+    await answers.check('GET', '/api/v1/refs/{ref}/export', await h.request('/api/v1/refs/glass@1/export?format=xml'));
+    await answers.check('GET', '/api/v1/refs/{ref}/export', await h.request('/api/v1/refs/glass@1/export?format=json', { token: 'nkl_nope' }));
+    await answers.check('GET', '/api/v1/diff', await h.request('/api/v1/diff?a=glass@1&b=glass@1'));
+    await answers.check('GET', '/api/v1/diff', await h.request('/api/v1/diff?a=glass@1'));
+    await answers.check('GET', '/api/v1/diff', await h.request('/api/v1/diff?a=glass@1&b=glass@5'));
+    await answers.check('GET', '/api/v1/materials/{slug}/history', await h.request('/api/v1/materials/glass/history'));
+    await answers.check('GET', '/api/v1/materials/{slug}/history', await h.request('/api/v1/materials/no-such/history'));
+
+    const form = (second: string) => {
+      const f = new FormData();
+      f.append('table', new Blob([csvTable(1.41)]), 'a.csv');
+      f.append('table', new Blob([second]), 'b.csv');
+      return f;
+    };
+    const imported = await h.request('/api/v1/materials/mgf2/imports', { method: 'POST', body: form(csvTable(1.42)), as: 'editor' });
+    expect(imported.status).toBe(201);
+    await answers.check('POST', '/api/v1/materials/{slug}/imports', imported);
+    await answers.check(
+      'POST',
+      '/api/v1/materials/{slug}/imports',
+      await h.request('/api/v1/materials/mgf2/imports', { method: 'POST', body: form('wavelength_nm,n,k\n400,x,0\n'), as: 'editor' }),
+    );
+    await answers.check(
+      'POST',
+      '/api/v1/materials/{slug}/imports',
+      await h.request('/api/v1/materials/mgf2/imports', { ...csv(csvTable()), as: 'reader' }),
+    );
+
+    const added = await h.request('/api/v1/locks/add?ref=glass', json(emptyLockfile()));
+    const lock = ((await answers.check('POST', '/api/v1/locks/add', added)) as { lock: unknown }).lock;
+    await answers.check('POST', '/api/v1/locks/add', await h.request('/api/v1/locks/add?ref=glass@8', json(emptyLockfile())));
+    await answers.check('POST', '/api/v1/locks/add', await h.request('/api/v1/locks/add', json(emptyLockfile())));
+    await answers.check('POST', '/api/v1/locks/outdated', await h.request('/api/v1/locks/outdated', json(lock)));
+    await answers.check('POST', '/api/v1/locks/outdated', await h.request('/api/v1/locks/outdated', json({ format: 'other' })));
+
+    expect(await answers.check('GET', '/api/v1/whoami', await h.request('/api/v1/whoami', { as: 'approver' }))).toMatchObject({ user: 'approver' });
+    await answers.check('GET', '/api/v1/whoami', await h.request('/api/v1/whoami'));
+    expect(await answers.check('GET', '/api/v1/verify', await h.request('/api/v1/verify', { as: 'admin' }))).toMatchObject({ ok: true });
+    await answers.check('GET', '/api/v1/verify', await h.request('/api/v1/verify', { as: 'approver' }));
+    const backup = await h.request('/api/v1/backup', { as: 'admin' });
+    expect(Number(backup.headers.get('x-nkledger-pages'))).toBeGreaterThan(0);
+    expect(
+      Buffer.from(await backup.clone().arrayBuffer())
+        .subarray(0, 15)
+        .toString(),
+    ).toBe('SQLite format 3');
+    await answers.check('GET', '/api/v1/backup', backup);
+    await answers.check('GET', '/api/v1/backup', await h.request('/api/v1/backup'));
+  });
+
   it('every documented operation was answered above at least once', () => {
     expect([...answers.answered].sort()).toEqual(documentedOperations());
   });

@@ -16,7 +16,7 @@ import { actorOf, type ApiEnv } from '../auth.ts';
 import { HttpProblem } from '../problem.ts';
 import { parseInput, readJson } from '../validate.ts';
 import type { RouteContext } from '../context.ts';
-import { AUTH_ERRORS, json, WRITE_ERRORS, type Operation } from '../operations.ts';
+import { AUTH_ERRORS, json, problem, WRITE_ERRORS, type Operation } from '../operations.ts';
 
 const tokenRequest = z.strictObject({
   user: z.string().min(1).max(64),
@@ -54,7 +54,52 @@ const SETTINGS_ANSWER = z
   .meta({ id: 'Settings' });
 const settingKey = z.object({ key: z.enum(SETTING_KEYS) });
 
+const VERIFY_REPORT = z
+  .object({
+    ok: z.boolean(),
+    checked_versions: z.number().int(),
+    mismatches: z.array(z.object({ ref: z.string(), stored_sha256: z.string(), computed_sha256: z.string().nullable(), reason: z.string() })),
+    missing_versions: z.array(z.string()),
+    missing_triggers: z.array(z.string()),
+    altered_triggers: z.array(z.string()),
+    unexpected_triggers: z.array(z.string()),
+    chain: z.object({ head: z.object({ hash: z.string(), sequence: z.number().int() }).nullable(), problems: z.array(z.string()) }),
+    state_mismatches: z.array(z.object({ ref: z.string(), problem: z.string() })),
+    integrity: z.array(z.string()),
+  })
+  .meta({ id: 'VerifyReport' });
+
 export const ADMIN_OPERATIONS: Operation[] = [
+  {
+    method: 'get',
+    path: '/api/v1/whoami',
+    summary: 'Who the token sent stands for (`nkledger login` checks a token with it)',
+    responses: {
+      200: json('the token’s user and role', z.object({ user: z.string(), role: z.enum(TOKEN_ROLES), token_id: z.string() })),
+      401: problem('no token, a malformed Authorization header, or an unknown or revoked token'),
+    },
+  },
+  {
+    method: 'get',
+    path: '/api/v1/verify',
+    summary: "Check the server's registry file as `nkledger verify` does (200 whatever the verdict: see `ok`)",
+    role: 'admin',
+    responses: { 200: json('the report', VERIFY_REPORT), ...AUTH_ERRORS },
+  },
+  {
+    method: 'get',
+    path: '/api/v1/backup',
+    summary: 'A consistent snapshot of the registry (SQLite online backup), streamed (`nkledger backup`)',
+    role: 'admin',
+    responses: {
+      200: {
+        description: 'the SQLite database file',
+        content: { 'application/vnd.sqlite3': { json: { type: 'string', format: 'binary' } } },
+        headers: { 'X-Nkledger-Pages': { description: 'pages copied', schema: { type: 'integer' } } },
+      },
+      ...AUTH_ERRORS,
+    },
+  },
   {
     method: 'get',
     path: '/api/v1/tokens',

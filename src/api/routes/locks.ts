@@ -47,7 +47,61 @@ const LOCK_VERIFICATION = z
   })
   .meta({ id: 'LockVerification' }) satisfies z.ZodType<LockVerifyReport>;
 
+const lockAddQuery = z.strictObject({ ref: z.string().min(1).max(200).describe('the version to pin: slug@N, slug@sha256:PREFIX or a bare slug') });
+const LOCK_ENTRY = z.object({ version: z.number().int(), sha256: z.string(), added_at: z.string().meta({ format: 'date-time' }) });
+const LOCK_ADDED = z
+  .object({
+    lock: LOCKFILE,
+    ref: z.string(),
+    entry: LOCK_ENTRY,
+    replaced: LOCK_ENTRY.nullable().describe('the entry of another version of the same material it replaced'),
+    notices: z.array(z.string()),
+    warnings: z.array(z.string()),
+  })
+  .meta({ id: 'LockAdded' });
+const OUTDATED = z
+  .object({
+    outdated: z.array(
+      z.object({
+        ref: z.string(),
+        slug: z.string(),
+        locked_version: z.number().int(),
+        newer_approved: z.array(z.number().int()),
+        latest_approved: z.number().int().nullable(),
+      }),
+    ),
+  })
+  .meta({ id: 'LockOutdated' });
+const LOCK_BODY_ERRORS = {
+  400: problem('not a lockfile, a body that is not JSON, or a bad query parameter'),
+  413: problem('the body exceeds the max_body_bytes setting'),
+  415: problem('the body is not application/json'),
+  ...AUTH_ERRORS,
+};
+
 export const LOCK_OPERATIONS: Operation[] = [
+  {
+    method: 'post',
+    path: '/api/v1/locks/add',
+    summary: 'Pin a version in a posted lockfile and record the chain head (`nkledger lock add`); nothing is stored',
+    role: 'reader',
+    params: { query: lockAddQuery },
+    body: { required: true, content: { 'application/json': LOCKFILE } },
+    responses: {
+      200: json('the lockfile with the pin, for the client to write', LOCK_ADDED),
+      ...LOCK_BODY_ERRORS,
+      404: problem('unknown material or version'),
+      409: problem('the version was withdrawn: a design must not pin it'),
+    },
+  },
+  {
+    method: 'post',
+    path: '/api/v1/locks/outdated',
+    summary: 'Locked materials with newer approved versions (`nkledger lock outdated`)',
+    role: 'reader',
+    body: { required: true, content: { 'application/json': LOCKFILE } },
+    responses: { 200: json('the outdated entries', OUTDATED), ...LOCK_BODY_ERRORS },
+  },
   {
     method: 'post',
     path: '/api/v1/locks/verify',

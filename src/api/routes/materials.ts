@@ -133,7 +133,7 @@ export const VERSION_RECORD = z
     withdraw_reason: who,
   })
   .meta({ id: 'Version' }) satisfies z.ZodType<VersionRecord>;
-const VERSION_DETAIL = VERSION_RECORD.extend({
+export const VERSION_DETAIL = VERSION_RECORD.extend({
   content: z
     .object({
       table: z
@@ -269,6 +269,33 @@ export const MATERIAL_OPERATIONS: Operation[] = [
     responses: {
       200: json('the material, with "changed": the fields that changed', MATERIAL.extend({ changed: z.array(z.string()) })),
       ...WRITE_ERRORS,
+    },
+  },
+  {
+    method: 'get',
+    path: '/api/v1/materials/:slug/history',
+    summary: "A material's versions and its audit log, oldest first (`nkledger history`)",
+    role: 'reader',
+    params: { path: SLUG_PATH },
+    responses: {
+      200: json(
+        'the material, its versions and its audit events',
+        z.object({
+          material: MATERIAL,
+          versions: z.array(VERSION_RECORD),
+          audit: z.array(
+            z.object({
+              id: z.number().int(),
+              at: timestamp,
+              actor: z.string(),
+              action: z.string().describe('e.g. version.import, version.approve'),
+              ref: z.string().nullable(),
+              detail: z.record(z.string(), z.unknown()),
+            }),
+          ),
+        }),
+      ),
+      ...READ_ERRORS,
     },
   },
   {

@@ -102,6 +102,30 @@ export const UPLOAD_OPERATIONS: Operation[] = [
   },
   {
     method: 'post',
+    path: '/api/v1/materials/:slug/imports',
+    summary: 'Upload several tables as new drafts of one material, all or none (`nkledger import A B C`)',
+    description:
+      'multipart/form-data with one `table` part per file and the upload fields once (they apply to every table). Each table is parsed, fitted and checked first; a refusal names its file and nothing is stored.',
+    role: 'editor',
+    params: { path: SLUG_PATH },
+    body: {
+      required: true,
+      content: {
+        'multipart/form-data': versionUpload.query.extend({
+          table: z.array(z.string().meta({ format: 'binary' })).describe('the table files, one part each'),
+        }),
+      },
+    },
+    responses: {
+      201: json('the new drafts, in the order of the parts', z.object({ versions: z.array(CREATED_VERSION) })),
+      ...WRITE_ERRORS,
+      ...UPLOAD_ERRORS,
+      422: problem('a fit or a Kramers-Kronig check could not produce a trustworthy result'),
+      ...BUSY,
+    },
+  },
+  {
+    method: 'post',
     path: '/api/v1/fit',
     summary: 'Fit a dispersion model to an uploaded table; nothing is stored',
     description: 'The fields go in the query with a text body, or as form fields beside the `table` part of a multipart body.',
