@@ -90,9 +90,13 @@ export function fileRegistry(opts: { db?: string; as?: string }): RegistryOperat
       }));
       return use((r) => importMeasurements(r, inputs, actor()), creating);
     },
-    approve: async (ref) => {
+    approve: async (ref, o) => {
       const { approve } = await lifecycle();
-      return use((r) => approve(r, ref, actor()));
+      return use((r) => approve(r, ref, actor(), o));
+    },
+    review: async () => {
+      const { reviewQueue } = await import('../service/review.ts');
+      return use((r) => reviewQueue(r, { user: actor(), role: null }));
     },
     retire: async (ref, reason) => {
       const { retire } = await lifecycle();

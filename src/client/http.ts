@@ -197,13 +197,19 @@ export class ServerClient {
     if (p.status === 500) return new EnvironmentError(p.rule, message, location, p.status);
     let text = message;
     if (p.status === 401) text = `${message}; log in with \`nkledger login ${this.url}\` or set NKLEDGER_TOKEN`;
+    // Extension members (e.g. the `review` of a refused approval) go back where the service put them.
+    const extensions = Object.fromEntries(Object.entries(p).filter(([k]) => !STANDARD_MEMBERS.has(k)));
     return new InputError(p.rule, text, location, p.status, {
+      ...(Object.keys(extensions).length > 0 && { extensions }),
       ...(p.option !== undefined && { option: p.option }),
       ...(p.value !== undefined && { value: p.value }),
       ...(p.remedies !== undefined && { remedies: p.remedies }),
     });
   }
 }
+
+/** Members of a problem document that are not extensions (src/api/problem.ts). */
+const STANDARD_MEMBERS = new Set(['type', 'title', 'status', 'detail', 'rule', 'file', 'line', 'column', 'field', 'option', 'value', 'remedies']);
 
 interface ProblemFields {
   status: number;

@@ -7,6 +7,8 @@
 import type { ImportFlags } from '../io/import-options.ts';
 import type { AuditEntry, MaterialRecord, VersionDetail, VersionRecord } from '../registry/types.ts';
 import type { VersionDiff } from '../service/diff.ts';
+import type { ApprovalResult } from '../service/lifecycle.ts';
+import type { ReviewQueue } from '../service/review.ts';
 import type { VersionExport, VersionExportFormat } from '../service/export-version.ts';
 import type { FitOptionText } from '../service/fit-options.ts';
 import type { MeasurementImported } from '../service/import-measurement.ts';
@@ -53,7 +55,10 @@ export interface RegistryOperations {
   createMaterial(input: NewMaterial): Promise<MaterialRecord>;
   editMaterial(slug: string, edit: MaterialEdit): Promise<MaterialRecord & { changed: string[] }>;
   importMeasurements(request: ImportRequest): Promise<MeasurementImported[]>;
-  approve(ref: string): Promise<VersionRecord>;
+  /** Approve a draft; `acceptWarnings` is the reason for approving one with blocking review findings. */
+  approve(ref: string, options: { acceptWarnings?: string }): Promise<ApprovalResult>;
+  /** The drafts the acting user may approve, with their review summaries. */
+  review(): Promise<ReviewQueue>;
   retire(ref: string, reason: string): Promise<VersionRecord>;
   withdraw(ref: string, reason?: string): Promise<VersionRecord>;
   lockAdd(lock: Lockfile, ref: string): Promise<LockAddResult>;
@@ -62,7 +67,7 @@ export interface RegistryOperations {
   verify(): Promise<VerifyReport>;
   /** A consistent snapshot written to `file` (never overwritten; no partial file on failure). */
   backup(file: string): Promise<{ path: string; pages: number }>;
-  createToken(input: { user: string; role: string }): Promise<CreatedToken>;
+  createToken(input: { user: string; role: string; expires?: string }): Promise<CreatedToken>;
   listTokens(options: { activeOnly?: boolean }): Promise<TokenInfo[]>;
   revokeToken(id: string): Promise<TokenInfo>;
   settings(): Promise<Settings>;

@@ -15,6 +15,7 @@ import type { VersionDetail, VersionRecord } from '../registry/types.ts';
 import { FIT_OPTIONS, type FitOptionText } from '../service/fit-options.ts';
 import type { MeasurementImported } from '../service/import-measurement.ts';
 import type { LoadedSource } from '../service/table-source.ts';
+import type { TokenInfo } from '../service/tokens.ts';
 import type { ServerClient } from './http.ts';
 import type { ImportRequest, RegistryOperations } from './operations.ts';
 
@@ -45,9 +46,9 @@ export function serverRegistry(client: ServerClient, options: ServerRegistryOpti
     if (!pin) pin = PINNED.exec((await client.json<VersionDetail>('GET', `/refs/${enc(ref)}`)).ref);
     return `/materials/${pin![1]}/versions/${pin![2]}`;
   };
-  const lifecycle = async (ref: string, action: string, body?: unknown) => {
+  const lifecycle = async <T = VersionRecord>(ref: string, action: string, body?: unknown) => {
     refuseActor();
-    return client.json<VersionRecord>('POST', `${await versionPath(ref)}/${action}`, { json: body ?? {} });
+    return client.json<T>('POST', `${await versionPath(ref)}/${action}`, { json: body ?? {} });
   };
 
   return {
@@ -95,7 +96,11 @@ export function serverRegistry(client: ServerClient, options: ServerRegistryOpti
       refuseActor();
       return upload(client, request);
     },
-    approve: (ref) => lifecycle(ref, 'approve'),
+    approve: (ref, o) => lifecycle(ref, 'approve', o.acceptWarnings === undefined ? {} : { accept_warnings: o.acceptWarnings }),
+    review() {
+      refuseActor(); // whose queue it is comes from the token
+      return client.json('GET', '/review');
+    },
     retire: (ref, reason) => lifecycle(ref, 'retire', { reason }),
     withdraw: (ref, reason) => lifecycle(ref, 'withdraw', reason === undefined ? {} : { reason }),
     lockAdd: (lock, ref) => client.json('POST', '/locks/add', { query: { ref }, json: lock }),
@@ -108,8 +113,9 @@ export function serverRegistry(client: ServerClient, options: ServerRegistryOpti
       return client.json('POST', '/tokens', { json: input });
     },
     listTokens: async (o) => {
-      const { tokens } = await client.json<{ tokens: { revoked_at: string | null }[] }>('GET', '/tokens');
-      return (o.activeOnly ? tokens.filter((t) => t.revoked_at === null) : tokens) as never;
+      // "active" as the service means it: neither revoked nor expired.
+      const { tokens } = await client.json<{ tokens: TokenInfo[] }>('GET', '/tokens');
+      return o.activeOnly ? tokens.filter((t) => t.revoked_at === null && !t.expired) : tokens;
     },
     revokeToken(id) {
       refuseActor();

@@ -4,23 +4,22 @@
  */
 import type { Command } from 'commander';
 import { InputError } from '../../errors.ts';
-import { approve, UNACCEPTED_WARNINGS } from '../../service/lifecycle.ts';
+import { UNACCEPTED_WARNINGS } from '../../service/lifecycle.ts';
 import type { ReviewSummary } from '../../service/review.ts';
-import { actorFrom, addAsOption, addDbOption, withRegistry } from '../admin-options.ts';
+import { addAsOption } from '../admin-options.ts';
+import { addRegistryOptions, registryOps, type RegistryFlags } from '../registry-access.ts';
 import { guarded } from '../failure.ts';
 import { printJson, printLines } from '../output.ts';
 import { printVersionBrief } from '../registry-output.ts';
 import { reviewLines } from '../review-output.ts';
 
-interface ApproveFlags {
-  db?: string;
-  as?: string;
+interface ApproveFlags extends RegistryFlags {
   json?: boolean;
   acceptWarnings?: string;
 }
 
 export function register(program: Command): void {
-  addAsOption(addDbOption(program.command('approve')))
+  addAsOption(addRegistryOptions(program.command('approve')))
     .description(
       "show a draft's review summary (KK verdict, fit convergence and warnings, strong correlations, provenance), then approve it; " +
         'the approver must not be its creator (a one-person lab: `nkledger settings set allow_self_approval on`); ' +
@@ -36,7 +35,7 @@ export function register(program: Command): void {
     .action(
       guarded(async (ref: string, opts: ApproveFlags) => {
         try {
-          const v = await withRegistry(opts, (r) => approve(r, ref, actorFrom(opts), { acceptWarnings: opts.acceptWarnings }));
+          const v = await registryOps(opts).approve(ref, { acceptWarnings: opts.acceptWarnings });
           if (opts.json) return printJson(v);
           printLines([...reviewLines(v.review), '']);
           printVersionBrief(v);

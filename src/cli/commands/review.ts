@@ -1,14 +1,14 @@
 /** `nkledger review`: the drafts the acting user may approve (not their own), each with its review summary. */
 import type { Command } from 'commander';
-import { reviewQueue } from '../../service/review.ts';
-import { actorFrom, addAsOption, addDbOption, withRegistry } from '../admin-options.ts';
+import { addAsOption } from '../admin-options.ts';
+import { addRegistryOptions, registryOps, type RegistryFlags } from '../registry-access.ts';
 import { guarded } from '../failure.ts';
 import { formatTable, printJson, printLines } from '../output.ts';
 import { shortTime } from '../registry-output.ts';
 import { reviewLines } from '../review-output.ts';
 
 export function register(program: Command): void {
-  addAsOption(addDbOption(program.command('review')))
+  addAsOption(addRegistryOptions(program.command('review')))
     .description(
       'list the drafts you may approve (not your own: two-person rule) with their KK verdict, fit convergence, warnings and ' +
         "strong correlations; --long adds each draft's full review summary",
@@ -17,8 +17,8 @@ export function register(program: Command): void {
     .option('--json', 'print {"user", "may_approve", "own_drafts", "drafts": [review summaries]} as JSON')
     .addHelpText('after', '\nExamples:\n  nkledger review --as m.lindqvist\n  nkledger review --as m.lindqvist --long')
     .action(
-      guarded(async (opts: { db?: string; as?: string; long?: boolean; json?: boolean }) => {
-        const queue = await withRegistry(opts, (r) => reviewQueue(r, { user: actorFrom(opts), role: null }));
+      guarded(async (opts: RegistryFlags & { long?: boolean; json?: boolean }) => {
+        const queue = await registryOps(opts).review();
         if (opts.json) return printJson(queue);
         const own = queue.own_drafts > 0 ? ` (${queue.own_drafts} of your own left out: someone else approves those)` : '';
         if (queue.drafts.length === 0) return printLines([`no drafts for ${queue.user} to review${own}`]);

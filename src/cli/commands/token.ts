@@ -1,16 +1,16 @@
 /** `nkledger token create|list|revoke`: bearer tokens for the HTTP API. The secret is printed once; only its hash is kept. */
 import type { Command } from 'commander';
-import { createToken, listTokens, revokeToken } from '../../service/tokens.ts';
 import { TOKEN_ROLES } from '../../registry/schema-auth.ts';
 import { guarded } from '../failure.ts';
 import { formatTable, printJson, printLines } from '../output.ts';
-import { actorFrom, addAsOption, addDbOption, withRegistry } from '../admin-options.ts';
+import { addAsOption } from '../admin-options.ts';
+import { addRegistryOptions, registryOps, type RegistryFlags } from '../registry-access.ts';
 import { shortTime } from '../registry-output.ts';
 
 export function register(program: Command): void {
   const token = program.command('token').description('manage bearer tokens for the HTTP API (`nkledger serve`)');
 
-  addAsOption(addDbOption(token.command('create')))
+  addAsOption(addRegistryOptions(token.command('create')))
     .description(`create a token for a user with a role (${TOKEN_ROLES.join(' < ')}); prints the token once`)
     .requiredOption('--user <name>', 'the person or tool the token is for')
     .requiredOption('--role <role>', `one of ${TOKEN_ROLES.join(', ')}`)
@@ -24,10 +24,8 @@ export function register(program: Command): void {
       '\nExamples:\n  nkledger token create --user anna --role editor\n  nkledger token create --user design-tool --role reader --expires 365d',
     )
     .action(
-      guarded(async (opts: { db?: string; as?: string; user: string; role: string; expires?: string; json?: boolean }) => {
-        const created = await withRegistry(opts, (r) =>
-          createToken(r, { user: opts.user, role: opts.role, createdBy: actorFrom(opts), expires: opts.expires }),
-        );
+      guarded(async (opts: RegistryFlags & { user: string; role: string; expires?: string; json?: boolean }) => {
+        const created = await registryOps(opts).createToken({ user: opts.user, role: opts.role, expires: opts.expires });
         if (opts.json) return printJson(created);
         printLines([
           created.token,
@@ -39,13 +37,13 @@ export function register(program: Command): void {
       }),
     );
 
-  addDbOption(token.command('list'))
+  addRegistryOptions(token.command('list'))
     .description('list tokens (never their secrets): expiry, last use (to within an hour), and when and by whom revoked ones were')
     .option('--active', 'only tokens that work: neither revoked nor expired')
     .option('--json', 'print JSON')
     .action(
-      guarded(async (opts: { db?: string; active?: boolean; json?: boolean }) => {
-        const tokens = await withRegistry(opts, (r) => listTokens(r, { activeOnly: opts.active }));
+      guarded(async (opts: RegistryFlags & { active?: boolean; json?: boolean }) => {
+        const tokens = await registryOps(opts).listTokens({ activeOnly: opts.active });
         if (opts.json) return printJson(tokens);
         const rows = tokens.map((t) => [
           t.id,
@@ -61,13 +59,13 @@ export function register(program: Command): void {
       }),
     );
 
-  addAsOption(addDbOption(token.command('revoke')))
+  addAsOption(addRegistryOptions(token.command('revoke')))
     .description('revoke a token by id (see `token list`); it is refused from then on')
     .argument('<id>', 'token id, e.g. tok_1a2b3c4d5e6f')
     .option('--json', 'print JSON')
     .action(
-      guarded(async (id: string, opts: { db?: string; as?: string; json?: boolean }) => {
-        const revoked = await withRegistry(opts, (r) => revokeToken(r, id, actorFrom(opts)));
+      guarded(async (id: string, opts: RegistryFlags & { json?: boolean }) => {
+        const revoked = await registryOps(opts).revokeToken(id);
         if (opts.json) return printJson(revoked);
         printLines([`revoked ${revoked.id} (${revoked.user}, ${revoked.role}) at ${revoked.revoked_at}`]);
       }),
