@@ -7,7 +7,8 @@
 import { existsSync, linkSync, rmSync } from 'node:fs';
 import { open } from 'node:fs/promises';
 import { basename } from 'node:path';
-import { ConflictError, EnvironmentError, InputError, IntegrityError } from '../errors.ts';
+import { ConflictError, EnvironmentError, InputError, IntegrityError, NotFoundError } from '../errors.ts';
+import { checkSlug, parseRef } from '../registry/refs.ts';
 import { versionSha256 } from '../registry/records.ts';
 import { IMPORT_OPTIONS, type ImportFlags } from '../io/import-options.ts';
 import { fieldsFromValues } from '../io/option-spec.ts';
@@ -56,7 +57,18 @@ export function serverRegistry(client: ServerClient, options: ServerRegistryOpti
     history: (slug) => client.json('GET', `/materials/${enc(slug)}/history`),
     version: (ref) => client.json('GET', `/refs/${enc(ref)}`),
     async loadVersion(ref): Promise<LoadedSource> {
-      const v = await client.json<VersionDetail>('GET', `/refs/${enc(ref)}`);
+      let v: VersionDetail;
+      try {
+        v = await client.json<VersionDetail>('GET', `/refs/${enc(ref)}`);
+      } catch (err) {
+        // A bare word that is neither a file nor a material is most likely a mistyped file name: say both, as file mode does.
+        if (err instanceof InputError && err.rule === 'material-unknown' && parseRef(ref).kind === 'latest')
+          throw new NotFoundError(
+            `no file "${ref}" and no material "${ref}" in the registry ${client.url} (see \`nkledger list\`)`,
+            'source-not-found',
+          );
+        throw err;
+      }
       // What is computed on here must be the content the hash names: recomputed, as the server's own reads do.
       if (versionSha256(v.content, v.provenance) !== v.sha256)
         throw new IntegrityError(
@@ -85,6 +97,7 @@ export function serverRegistry(client: ServerClient, options: ServerRegistryOpti
       }),
     createMaterial(input) {
       refuseActor();
+      checkSlug(input.slug); // refused here with the service's own words (the route's schema words it for HTTP)
       return client.json('POST', '/materials', { json: input });
     },
     editMaterial(slug, edit) {

@@ -19,6 +19,8 @@ const SCRIPT: [Person, string[], string?][] = [
   ['alice', ['material', 'add', 'sio2', '--name', 'Thermal oxide', '--description', 'wet oxide', '--json']],
   ['alice', ['material', 'add', 'bump', '--name', 'Invented inconsistent table']],
   ['alice', ['material', 'add', 'sinx', '--name', 'again']],
+  ['alice', ['material', 'add', 'Bad_Slug', '--name', 'refused']],
+  ['alice', ['eval', 'no-such-thing', '--at', '500']],
   [
     'alice',
     [
@@ -109,8 +111,11 @@ const SCRIPT: [Person, string[], string?][] = [
   ['ada', ['settings', 'show', '--json']],
 ];
 
-const mask = (text: string, work: string) =>
+/** The registry is named by its path in file mode and by its URL in server mode. */
+const mask = (text: string, work: string, registry: string) =>
   text
+    .split(registry)
+    .join('<registry>')
     .split(work)
     .join('<work>')
     .split(DESIGN.slice(0, DESIGN.lastIndexOf('/')))
@@ -153,7 +158,8 @@ describe('server mode gives what file mode gives', () => {
           args.map((a) => a.replace('{work}', work).replace('{design}', DESIGN).replace('{bad-design}', BAD_DESIGN)),
           { env: lab.env(mode, person), input },
         );
-        outputs[mode].push({ code: r.code, stdout: mask(r.stdout, work), stderr: mask(r.stderr, work) });
+        const registry = mode === 'file' ? lab.fileDb : lab.url;
+        outputs[mode].push({ code: r.code, stdout: mask(r.stdout, work, registry), stderr: mask(r.stderr, work, registry) });
       }
     }
     SCRIPT.forEach(([person, args], i) => {
