@@ -40,7 +40,14 @@ writeTransaction(registry, () => {
     const slug = `material-${String(i).padStart(4, '0')}`;
     const row = registry.db
       .insert(materials)
-      .values({ slug, name: `Invented material ${i}`, description: 'bench', tags: '["bench"]', createdBy: 'bench', createdAt: new Date().toISOString() })
+      .values({
+        slug,
+        name: `Invented material ${i}`,
+        description: 'bench',
+        tags: '["bench"]',
+        createdBy: 'bench',
+        createdAt: new Date().toISOString(),
+      })
       .returning()
       .get();
     appendAudit(registry, { actor: 'bench', action: 'material.create', materialId: row.id, material: slug, detail: { slug } });
