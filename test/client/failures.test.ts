@@ -3,7 +3,10 @@
  * trace: nothing listening, a wrong URL, an HTML page from a proxy, no answer in time (exit 4); a busy server
  * retried, then reported (exit 4); a URL that is not http(s) (exit 2).
  */
+import { mkdtempSync, readdirSync, rmSync } from 'node:fs';
 import { createServer, type Server } from 'node:http';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { runCli } from '../cli/run-cli.ts';
 import { CLEAN_ENV, closedPort, startLab, type Lab } from './lab-server.ts';
@@ -136,6 +139,26 @@ describe('server mode: clear failures', () => {
       expect(r.stderr).toContain('[integrity-hash-mismatch]');
     } finally {
       await close(proxy.server);
+    }
+  });
+
+  it('a backup whose connection breaks midway: exit 4, and neither the file nor a partial file is left', async () => {
+    const cut = await fakeServer((res) => {
+      res.writeHead(200, { 'content-type': 'application/vnd.sqlite3', 'x-nkledger-pages': '9', 'content-length': '40960' });
+      res.write(Buffer.alloc(4096, 1));
+      setTimeout(() => res.socket?.destroy(), 50);
+    });
+    const dir = mkdtempSync(join(tmpdir(), 'nkledger-backup-cut-'));
+    try {
+      const r = await runCli(['backup', join(dir, 'lab.db'), '--server', cut.url], { env: CLEAN_ENV });
+      expect(r.code).toBe(4);
+      oneLine(r.stderr);
+      expect(r.stderr).toContain(`the connection to ${cut.url} broke during the backup`);
+      expect(r.stderr).toContain('nothing was kept, try again [backup-interrupted]');
+      expect(readdirSync(dir)).toEqual([]);
+    } finally {
+      await close(cut.server);
+      rmSync(dir, { recursive: true, force: true });
     }
   });
 
