@@ -21,13 +21,16 @@ import {
 } from '../../service/ellipsometry.ts';
 import { renderEllipsometryPlot } from '../../service/ellipsometry-plot.ts';
 import { readSource } from '../../service/source.ts';
-import { actorFrom, addAsOption, addDbOption, withRegistry } from '../admin-options.ts';
+import { actorFrom, addAsOption } from '../admin-options.ts';
+import { withRegistry } from '../file-registry.ts';
+import { addRegistryOptions, registryOps, serverUrlOf, type RegistryFlags } from '../registry-access.ts';
+import { InputError } from '../../errors.ts';
 import { guarded } from '../failure.ts';
 import { addImportOptions, cliOptionName } from '../import-options.ts';
 import { cliIo } from '../io.ts';
 import { formatTable, printJson, printLines, printWarnings } from '../output.ts';
 
-interface EllipsometryFlags extends ImportFlags {
+interface EllipsometryFlags extends ImportFlags, RegistryFlags {
   sample: string;
   json?: boolean;
   plot?: string;
@@ -57,7 +60,7 @@ export function register(program: Command): void {
     .option('--plot <file.svg>', 'write an SVG of measured (points) and modelled (lines) Ψ and Δ per angle')
     .option('--store <material>', 'keep the fitted film as a new draft version of MATERIAL (its model, and n,k on the measured grid marked derived)')
     .option('--extrapolate', 'evaluate model sources outside their validity range (tables are never extrapolated)');
-  addAsOption(addDbOption(addImportOptions(fit), "registry database for the sample's refs and for --store"))
+  addAsOption(addRegistryOptions(addImportOptions(fit), "registry database for the sample's refs and for --store"))
     .addHelpText(
       'after',
       `\nWeights: 1/σ² from the file's σ columns, else σΨ = ${DEFAULT_SIGMA_PSI_DEG}° and σΔ = ${DEFAULT_SIGMA_DELTA_DEG}°. Δ residuals are taken modulo 360°.\n` +
@@ -71,10 +74,20 @@ export function register(program: Command): void {
         const data = await readSource(dataPath, {}, dataPath === '-' ? cliIo().stdin : undefined);
         const sampleSource = await readSource(opts.sample, { maxBytes: 8 * 1024 * 1024 });
         const sampleText = Buffer.from(sampleSource.bytes).toString('utf8');
+        // In server mode the sample's registry refs are fetched from the server; the fit runs here.
+        const server = serverUrlOf(opts) !== undefined;
+        if (server && opts.store)
+          throw new InputError(
+            'server-mode-store',
+            '--store is not available in server mode yet (the server would have to repeat the fit to trust it): store with --db on the registry file, or import the fitted n,k with nkledger import',
+            {},
+            400,
+            { option: 'store' },
+          );
         const prepared = await prepareEllipsometry({
           data: { bytes: data.bytes, file: data.file, importOptions: importOptionsFrom(opts, cliOptionName) },
           sample: { text: sampleText, file: sampleSource.file },
-          resolve: { db: opts.db, allowFiles: true },
+          resolve: { db: opts.db, allowFiles: true, ...(server && { loadVersion: registryOps(opts).loadVersion }) },
         });
         const started = performance.now();
         const progress = progressLine(started);
