@@ -9,7 +9,6 @@ import { open } from 'node:fs/promises';
 import { basename } from 'node:path';
 import { ConflictError, EnvironmentError, InputError, IntegrityError, NotFoundError } from '../errors.ts';
 import { checkSlug, parseRef } from '../registry/refs.ts';
-import { versionSha256 } from '../registry/records.ts';
 import { IMPORT_OPTIONS, type ImportFlags } from '../io/import-options.ts';
 import { fieldsFromValues } from '../io/option-spec.ts';
 import type { VersionDetail, VersionRecord } from '../registry/types.ts';
@@ -70,6 +69,8 @@ export function serverRegistry(client: ServerClient, options: ServerRegistryOpti
         throw err;
       }
       // What is computed on here must be the content the hash names: recomputed, as the server's own reads do.
+      // (Loaded here: the registry's record code is not needed by the commands that only print what the server says.)
+      const { versionSha256 } = await import('../registry/records.ts');
       if (versionSha256(v.content, v.provenance) !== v.sha256)
         throw new IntegrityError(
           `${v.ref}: the content received from ${client.url} does not hash to its SHA-256 ${v.sha256.slice(0, 12)}…; it was altered on the way (a proxy?) or on the server; nothing was computed`,
