@@ -6,6 +6,7 @@
 import { readFileSync, statSync } from 'node:fs';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { createToken } from '../../src/service/tokens.ts';
 import { runCli } from '../cli/run-cli.ts';
 import { CLEAN_ENV, startLab, type Lab } from './lab-server.ts';
 
@@ -58,6 +59,16 @@ describe('server mode: identity from the token', () => {
     const reader = await runCli(['approve', 'sinx@3'], { env: lab.env('server', 'rita') });
     expect(reader.code).toBe(2);
     expect(reader.stderr).toContain('has role reader; this request needs approver or above [auth-forbidden]');
+  });
+
+  it('an expired token: 401 with its own rule (exit 2), one line naming the token and what to do', async () => {
+    const expiring = createToken(lab.registry, { user: 'temp', role: 'approver', createdBy: 'setup', expires: '1h' });
+    lab.registry.sqlite.prepare('UPDATE api_tokens SET expires_at = ? WHERE id = ?').run(new Date(Date.now() - 1000).toISOString(), expiring.id);
+    const r = await runCli(['list'], { env: { ...CLEAN_ENV, NKLEDGER_SERVER: lab.url, NKLEDGER_TOKEN: expiring.token } });
+    expect(r.code).toBe(2);
+    expect(r.stderr.trim().split('\n')).toHaveLength(1);
+    expect(r.stderr).toContain(`token ${expiring.id} (temp) expired at`);
+    expect(r.stderr).toContain('[auth-token-expired]');
   });
 
   it('login reads the token from standard input, checks it, saves it with mode 0600; logout forgets it', async () => {
