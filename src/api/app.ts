@@ -15,7 +15,7 @@ import { HTTPException } from 'hono/http-exception';
 import { EnvironmentError, InputError } from '../errors.ts';
 import { environmentFault } from '../registry/faults.ts';
 import { markServerProcess } from '../registry/records.ts';
-import { readSettings, type Settings } from '../service/settings.ts';
+import { anonymousReadsAllowed, readSettings, type Settings } from '../service/settings.ts';
 import type { Registry } from '../registry/open.ts';
 import { authenticate, requireRole, type ApiEnv } from './auth.ts';
 import { HttpProblem, problemResponse } from './problem.ts';
@@ -61,10 +61,7 @@ export function createApp(options: AppOptions): Hono<ApiEnv> {
   // (or another server on the same file) takes effect from this server's next turn of the event loop.
   const settingsMemo = new ChangeMemo<Settings>(changes, 1);
   const currentSettings = (): Settings => settingsMemo.get('settings', () => ({ ...readSettings(registry), ...options.settings }));
-  const anonymousReads = () => {
-    const mode = currentSettings().anonymous_reads;
-    return mode === 'on' || (mode === 'auto' && options.loopback === true);
-  };
+  const anonymousReads = () => anonymousReadsAllowed(currentSettings(), options.loopback === true);
   const ctx: RouteContext = {
     registry,
     changes,

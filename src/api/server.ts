@@ -20,8 +20,11 @@ export interface ServerOptions extends Omit<AppOptions, 'loopback' | 'compute'> 
   host?: string;
   /** TCP port; 0 picks a free one. Default 8787. */
   port?: number;
-  /** Add routes to the app before it listens (the benchmark's constant route). */
-  extend?: (app: Hono<ApiEnv>) => void;
+  /**
+   * Add routes to the app before it listens (the benchmark's constant route, the web pages), given what
+   * the server shares with them: its compute pool and whether it listens on loopback only.
+   */
+  extend?: (app: Hono<ApiEnv>, shared: { compute: ComputePool; loopback: boolean }) => void;
 }
 
 export interface RunningServer {
@@ -74,8 +77,9 @@ export function startServer(options: ServerOptions): Promise<RunningServer> {
   const host = options.host ?? DEFAULT_HOST;
   const port = options.port ?? DEFAULT_PORT;
   const compute = options.compute instanceof ComputePool ? options.compute : new ComputePool(options.compute);
-  const app = createApp({ ...options, compute, loopback: isLoopbackHost(host) });
-  options.extend?.(app);
+  const loopback = isLoopbackHost(host);
+  const app = createApp({ ...options, compute, loopback });
+  options.extend?.(app, { compute, loopback });
   return new Promise((resolve, reject) => {
     const server = serve({ fetch: app.fetch, hostname: host, port }) as Server;
     server.on('clientError', answerClientError);

@@ -3,7 +3,7 @@
  * their own migration; drizzle-kit picks both up through the glob "./src/registry/schema*.ts". Settings,
  * the API's included, live in one table: `registry_settings` in schema.ts.
  */
-import { sqliteTable, text } from 'drizzle-orm/sqlite-core';
+import { blob, sqliteTable, text } from 'drizzle-orm/sqlite-core';
 
 /** Roles in increasing power; each role may do everything the roles before it may. */
 export const TOKEN_ROLES = ['reader', 'editor', 'approver', 'admin'] as const;
@@ -28,4 +28,37 @@ export const apiTokens = sqliteTable('api_tokens', {
   expiresAt: text('expires_at'),
   /** ISO 8601 UTC of the last request that presented it, written at most once an hour per token (src/service/tokens.ts). */
   lastUsedAt: text('last_used_at'),
+});
+
+/**
+ * A browser session of the web pages (src/web): made when a person pastes a token once, so several
+ * servers on one registry share it. Only the SHA-256 of the cookie's secret is stored. The session ends
+ * at `expiresAt`, on sign-out (row deleted) and when its token is revoked (the lookup joins api_tokens).
+ * `csrf` is the per-session secret every state-changing form must carry.
+ */
+export const webSessions = sqliteTable('web_sessions', {
+  idSha256: text('id_sha256').primaryKey(),
+  tokenId: text('token_id')
+    .notNull()
+    .references(() => apiTokens.id),
+  csrf: text('csrf').notNull(),
+  createdAt: text('created_at').notNull(),
+  expiresAt: text('expires_at').notNull(),
+});
+
+/**
+ * An uploaded table waiting for its preview to be confirmed (web pages): visible only to its session,
+ * removed when stored, discarded, or an hour old.
+ */
+export const webPendingUploads = sqliteTable('web_pending_uploads', {
+  id: text('id').primaryKey(),
+  sessionSha256: text('session_sha256')
+    .notNull()
+    .references(() => webSessions.idSha256, { onDelete: 'cascade' }),
+  slug: text('slug').notNull(),
+  fileName: text('file_name').notNull(),
+  bytes: blob('bytes', { mode: 'buffer' }).notNull(),
+  /** ImportOptions as JSON (unit, columns … as chosen in the form). */
+  importOptions: text('import_options').notNull(),
+  createdAt: text('created_at').notNull(),
 });

@@ -1,6 +1,6 @@
 /**
  * The CPU-heavy work of the HTTP API as plain tasks: a fit, a Kramers-Kronig check, or the heavy stage of
- * an upload, each from the uploaded bytes (parsing a large table is heavy too). Tasks and outcomes are
+ * an upload, or the reading of a file for a preview, each from the uploaded bytes (parsing a large table is heavy too). Tasks and outcomes are
  * plain data (structured-clone safe), so `runComputeTask` runs the same on the server's worker threads
  * (compute-worker.ts, through compute-pool.ts) and in-process. Refusals travel as data and are rebuilt as
  * the same error classes on the other side (`rethrow`), so the front doors word them as before.
@@ -14,6 +14,8 @@ import { parseNkTable, type ImportOptions } from '../io/parse-table.ts';
 import { prepareMeasurement, type MeasurementImport, type PreparedMeasurement } from './import-measurement.ts';
 import { type EllipsometryOptions, type EllipsometryReport, fitEllipsometry, type ResolvedSample } from './ellipsometry.ts';
 import type { PsiDeltaData } from '../io/parse-psi-delta.ts';
+import { inspectReport, type InspectReport } from './inspect.ts';
+import type { NkTable } from '../table.ts';
 import { computeStack, type ResolvedDesign, type StackOptions, type StackReport } from './stack.ts';
 
 export type ComputeTask =
@@ -21,7 +23,8 @@ export type ComputeTask =
   | { kind: 'kk'; bytes: Uint8Array; importOptions: ImportOptions; kk: KkOptions }
   | { kind: 'measurement'; input: Omit<MeasurementImport, 'slug' | 'provenance'> }
   | { kind: 'stack'; design: ResolvedDesign; options: StackOptions }
-  | { kind: 'ellipsometry'; sample: ResolvedSample; data: PsiDeltaData; options: EllipsometryOptions };
+  | { kind: 'ellipsometry'; sample: ResolvedSample; data: PsiDeltaData; options: EllipsometryOptions }
+  | { kind: 'inspect'; bytes: Uint8Array; importOptions: ImportOptions };
 
 export interface ComputeResults {
   fit: { warnings: string[]; report: FitReport };
@@ -29,6 +32,7 @@ export interface ComputeResults {
   measurement: PreparedMeasurement;
   stack: StackReport;
   ellipsometry: EllipsometryReport;
+  inspect: { report: InspectReport; table: NkTable };
 }
 
 export type ComputeResult<T extends ComputeTask> = ComputeResults[T['kind']];
@@ -62,6 +66,11 @@ function compute(task: ComputeTask): unknown {
       return computeStack(task.design, task.options);
     case 'ellipsometry':
       return fitEllipsometry(task.sample, task.data, task.options);
+    case 'inspect': {
+      // What a file reads as, before anything is stored (the web upload's preview).
+      const imported = parseNkTable(task.bytes, task.importOptions);
+      return { report: inspectReport(imported), table: imported.table };
+    }
   }
 }
 

@@ -1,7 +1,8 @@
 /**
  * Export of a registry version. CSV: the measured table (or, for a model-only version, the model on a
  * regular grid over its validity range) with `#` header lines naming the pin and hash — the
- * importer skips them, so an export imports back. JSON: the record with content and provenance, from
+ * importer skips them, so an export imports back. With `source: 'model'`, the fitted model on that grid even when
+ * the version also holds a table. JSON: the record with content and provenance, from
  * which anyone can recompute the SHA-256 (DEVELOPERS.md, "Canonical serialization and hashing").
  */
 import { InputError } from '../errors.ts';
@@ -41,14 +42,17 @@ export function exportVersion(
   registry: Registry,
   ref: string,
   format: VersionExportFormat,
-  options: { xUnit?: SpectralUnit; stepNm?: number } = {},
+  options: { xUnit?: SpectralUnit; stepNm?: number; source?: 'table' | 'model' } = {},
 ): VersionExport {
   const v = showVersion(registry, ref);
   const base = { ref: v.ref, sha256: v.sha256, notices: v.notices, warnings: v.warnings };
   if (format === 'json') return { ...base, text: `${JSON.stringify(v, null, 2)}\n` };
   let table: NkTable;
   let origin: string;
-  if (v.content.table) {
+  if (options.source === 'model' && !v.content.fit) {
+    throw new InputError('export-no-model', `${v.ref} holds no fitted model: export its table instead`, {}, 404, { option: 'source' });
+  }
+  if (v.content.table && options.source !== 'model') {
     table = v.content.table;
     origin = 'measured table';
   } else {

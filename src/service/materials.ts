@@ -1,11 +1,11 @@
 /** Materials: create, list, and the history of one (its versions and audit log). */
-import { asc, eq } from 'drizzle-orm';
+import { asc, count, eq } from 'drizzle-orm';
 import { ConflictError, InputError } from '../errors.ts';
 import type { Registry } from '../registry/open.ts';
 import { appendAudit, findMaterial, latestApprovedNumbers, materialRecord, nowIso, versionRecord, writeTransaction } from '../registry/records.ts';
 import { checkSlug, formatRef } from '../registry/refs.ts';
 import { auditLog, materials, materialVersions } from '../registry/schema.ts';
-import type { AuditEntry, MaterialRecord, VersionRecord } from '../registry/types.ts';
+import type { AuditEntry, MaterialRecord, VersionRecord, VersionStatus } from '../registry/types.ts';
 import { checkActor } from './actor.ts';
 import { hiddenLookAlike } from './look-alike.ts';
 
@@ -157,6 +157,23 @@ export function listMaterials(registry: Registry, filter: { tag?: string } = {})
   const rows = registry.db.select().from(materials).orderBy(asc(materials.slug)).all();
   const latest = latestApprovedNumbers(registry);
   return rows.map((row) => materialRecord(registry, row, latest)).filter((m) => filter.tag === undefined || m.tags.includes(filter.tag));
+}
+
+/** How many versions of each material are in each status (one query; materials without versions are absent). */
+export function versionStatusCounts(registry: Registry): Map<string, Record<VersionStatus, number>> {
+  const rows = registry.db
+    .select({ slug: materials.slug, status: materialVersions.status, count: count() })
+    .from(materialVersions)
+    .innerJoin(materials, eq(materials.id, materialVersions.materialId))
+    .groupBy(materials.slug, materialVersions.status)
+    .all();
+  const counts = new Map<string, Record<VersionStatus, number>>();
+  for (const row of rows) {
+    let entry = counts.get(row.slug);
+    if (!entry) counts.set(row.slug, (entry = { draft: 0, approved: 0, retired: 0, withdrawn: 0 }));
+    entry[row.status] = row.count;
+  }
+  return counts;
 }
 
 /** The version rows of a material, oldest first. */

@@ -131,6 +131,14 @@ function validate(key: SettingKey, value: unknown): unknown {
   return result.data;
 }
 
+/**
+ * Whether reads without a token (or a signed-in session) are allowed: the `anonymous_reads` setting, where
+ * "auto" means only on a server bound to a loopback address. Shared by the API, the web pages and `serve`.
+ */
+export function anonymousReadsAllowed(settings: Pick<Settings, 'anonymous_reads'>, loopback: boolean): boolean {
+  return settings.anonymous_reads === 'on' || (settings.anonymous_reads === 'auto' && loopback);
+}
+
 /** All settings, stored values over defaults. */
 export function readSettings(registry: Registry): Settings {
   const settings = Object.fromEntries(SETTING_KEYS.map((k) => [k, SETTINGS[k].default])) as Record<string, unknown>;

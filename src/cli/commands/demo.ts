@@ -71,6 +71,7 @@ function usage(url: string, tokens: Record<TokenRole, string>, lockPath: string)
   const api = `${url}/api/v1`;
   return [
     '',
+    `nkledger demo pages at ${url}/   (open in a browser; sign in with a token below to review or upload)`,
     `nkledger demo API at ${api}   (OpenAPI: ${api}/openapi.json)`,
     'Demo tokens (send as "Authorization: Bearer <token>"):',
     ...TOKEN_ROLES.map((role) => `  ${role.padEnd(8)} ${tokens[role]}`),

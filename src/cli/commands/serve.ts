@@ -5,7 +5,8 @@ import { parseOptionNumber } from '../../io/numbers.ts';
 import { openRegistry, type Registry } from '../../registry/open.ts';
 import { DEFAULT_HOST, DEFAULT_PORT, isLoopbackHost, startServer, type RunningServer } from '../../api/server.ts';
 import type { Settings } from '../../service/settings.ts';
-import { readSettings } from '../../service/settings.ts';
+import { createWebPages, forwardToPages } from '../../web/app.tsx';
+import { anonymousReadsAllowed, readSettings } from '../../service/settings.ts';
 import { guarded } from '../failure.ts';
 import { cliIo } from '../io.ts';
 import { addDbOption } from '../admin-options.ts';
@@ -29,7 +30,11 @@ export async function serveUntilSignal(
 ): Promise<void> {
   let server: RunningServer;
   try {
-    server = await startServer({ registry, ...options });
+    server = await startServer({
+      registry,
+      ...options,
+      extend: (app, shared) => app.all('*', forwardToPages(createWebPages({ registry, ...shared, settings: options.settings }))),
+    });
   } catch (err) {
     registry.close();
     const code = (err as { code?: string }).code;
@@ -96,8 +101,8 @@ export function register(program: Command): void {
         const registry = openRegistry(opts.db, { create: 'never' });
         const anonymous = readSettings(registry).anonymous_reads;
         await serveUntilSignal(registry, { host: opts.host, port, graceSeconds, compute }, (server) => {
-          const open = anonymous === 'on' || (anonymous === 'auto' && isLoopbackHost(opts.host));
-          cliIo().stdout.write(`nkledger serving ${registry.path} at ${server.url}/api/v1/materials\n`);
+          const open = anonymousReadsAllowed({ anonymous_reads: anonymous }, isLoopbackHost(opts.host));
+          cliIo().stdout.write(`nkledger serving ${registry.path} at ${server.url}/ (pages) and ${server.url}/api/v1/materials (API)\n`);
           cliIo().stdout.write(`  OpenAPI: ${server.url}/api/v1/openapi.json\n`);
           cliIo().stdout.write(`  reads without a token: ${open ? 'allowed' : 'refused'} (setting anonymous_reads = ${anonymous})\n`);
           if (registry.readonly) cliIo().stdout.write('  the registry file is read-only: reads are served, writes are refused (503)\n');

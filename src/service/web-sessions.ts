@@ -1,0 +1,162 @@
+/**
+ * Browser sessions of the web pages and the uploads they hold for preview. A session is made by
+ * presenting an API token once (src/service/tokens.ts decides who it stands for); the browser then
+ * carries only a random session secret in a cookie. The registry keeps the secret's SHA-256, so sessions
+ * are shared by every server on one registry file and a copied database hands out no working cookie.
+ * A session ends at its expiry, on sign-out, or as soon as its token is revoked (every lookup joins
+ * api_tokens). Each session has its own CSRF secret that state-changing forms must echo.
+ */
+import { randomBytes, timingSafeEqual } from 'node:crypto';
+import { and, asc, eq, lt } from 'drizzle-orm';
+import { InputError, NotFoundError } from '../errors.ts';
+import type { ImportOptions } from '../io/parse-table.ts';
+import { sha256Hex } from '../registry/canonical.ts';
+import type { Registry } from '../registry/open.ts';
+import { nowIso, writeTransaction } from '../registry/records.ts';
+import { webPendingUploads, webSessions } from '../registry/schema-auth.ts';
+import { authenticateToken, type Principal } from './tokens.ts';
+
+/** How long a session lasts from sign-in: a working day and a bit, then the token is pasted again. */
+export const SESSION_HOURS = 12;
+/** How long an uploaded table waits for its preview to be confirmed. */
+export const PENDING_UPLOAD_MINUTES = 60;
+/** Most uploads one session may hold for preview at once (the oldest goes first). */
+export const PENDING_UPLOADS_PER_SESSION = 4;
+
+export interface WebSession {
+  principal: Principal;
+  /** The per-session secret forms echo (hidden field `csrf`). */
+  csrf: string;
+  /** SHA-256 of the cookie secret: the session's key in the registry. */
+  key: string;
+  expiresAt: string;
+}
+
+const SESSION_SQL = `SELECT s.id_sha256 AS key, s.csrf, s.expires_at AS expiresAt, t.id AS tokenId, t.user, t.role
+  FROM web_sessions s JOIN api_tokens t ON t.id = s.token_id
+  WHERE s.id_sha256 = ? AND t.revoked_at IS NULL AND s.expires_at > ?`;
+
+/** Sign in: `token` must be a live API token. Returns the cookie secret (shown to the browser only) and the session. */
+export function startSession(registry: Registry, token: string): { secret: string; session: WebSession } {
+  const principal = authenticateToken(registry, token.trim());
+  if (!principal) {
+    throw new InputError('sign-in-token', 'that token is unknown or has been revoked: paste the whole token (it starts with nkl_)', {}, 401, {
+      option: 'token',
+    });
+  }
+  const secret = randomBytes(32).toString('base64url');
+  const key = sha256Hex(secret);
+  const csrf = randomBytes(24).toString('base64url');
+  const now = new Date();
+  const expiresAt = new Date(now.getTime() + SESSION_HOURS * 3600_000).toISOString();
+  writeTransaction(registry, () => {
+    // Expired sessions are removed here, so the table holds only live ones (and their pending uploads go with them).
+    registry.db.delete(webSessions).where(lt(webSessions.expiresAt, now.toISOString())).run();
+    registry.db.insert(webSessions).values({ idSha256: key, tokenId: principal.tokenId, csrf, createdAt: now.toISOString(), expiresAt }).run();
+  });
+  return { secret, session: { principal, csrf, key, expiresAt } };
+}
+
+/** The live session a cookie secret stands for, or undefined (unknown, expired, signed out, token revoked). */
+export function findSession(registry: Registry, secret: string): WebSession | undefined {
+  if (!/^[A-Za-z0-9_-]{43}$/.test(secret)) return undefined;
+  const row = registry.sqlite.prepare(SESSION_SQL).get(sha256Hex(secret), nowIso()) as
+    | { key: string; csrf: string; expiresAt: string; tokenId: string; user: string; role: Principal['role'] }
+    | undefined;
+  if (!row) return undefined;
+  return { key: row.key, csrf: row.csrf, expiresAt: row.expiresAt, principal: { tokenId: row.tokenId, user: row.user, role: row.role } };
+}
+
+/** Sign out: the session row goes (and the uploads it held). */
+export function endSession(registry: Registry, session: WebSession): void {
+  writeTransaction(registry, () => {
+    registry.db.delete(webSessions).where(eq(webSessions.idSha256, session.key)).run();
+  });
+}
+
+/** True when `presented` equals the session's CSRF secret (compared in constant time). */
+export function csrfMatches(expected: string, presented: unknown): boolean {
+  if (typeof presented !== 'string') return false;
+  const a = Buffer.from(expected);
+  const b = Buffer.from(presented);
+  return a.length === b.length && timingSafeEqual(a, b);
+}
+
+export interface PendingUpload {
+  id: string;
+  slug: string;
+  fileName: string;
+  bytes: Uint8Array;
+  importOptions: ImportOptions;
+  createdAt: string;
+}
+
+const cutoff = () => new Date(Date.now() - PENDING_UPLOAD_MINUTES * 60_000).toISOString();
+
+/** Keep an uploaded table for its session until it is stored or discarded (or an hour passes). */
+export function putPendingUpload(
+  registry: Registry,
+  session: WebSession,
+  upload: { slug: string; fileName: string; bytes: Uint8Array; importOptions: ImportOptions },
+): PendingUpload {
+  const id = randomBytes(12).toString('base64url');
+  const createdAt = nowIso();
+  writeTransaction(registry, () => {
+    registry.db.delete(webPendingUploads).where(lt(webPendingUploads.createdAt, cutoff())).run();
+    const held = registry.db
+      .select({ id: webPendingUploads.id })
+      .from(webPendingUploads)
+      .where(eq(webPendingUploads.sessionSha256, session.key))
+      .orderBy(asc(webPendingUploads.createdAt))
+      .all();
+    for (const old of held.slice(0, Math.max(0, held.length - PENDING_UPLOADS_PER_SESSION + 1))) {
+      registry.db.delete(webPendingUploads).where(eq(webPendingUploads.id, old.id)).run();
+    }
+    registry.db
+      .insert(webPendingUploads)
+      .values({
+        id,
+        sessionSha256: session.key,
+        slug: upload.slug,
+        fileName: upload.fileName,
+        bytes: Buffer.from(upload.bytes),
+        importOptions: JSON.stringify(upload.importOptions),
+        createdAt,
+      })
+      .run();
+  });
+  return { id, createdAt, ...upload };
+}
+
+/** A pending upload of this session; another session's, an expired or an unknown one is "not found". */
+export function getPendingUpload(registry: Registry, session: WebSession, id: string): PendingUpload {
+  const row = registry.db
+    .select()
+    .from(webPendingUploads)
+    .where(and(eq(webPendingUploads.id, id), eq(webPendingUploads.sessionSha256, session.key)))
+    .get();
+  if (!row || row.createdAt < cutoff()) {
+    throw new NotFoundError(
+      `no pending upload "${id}" in this session (uploads wait ${PENDING_UPLOAD_MINUTES} minutes for a decision)`,
+      'upload-not-pending',
+    );
+  }
+  return {
+    id: row.id,
+    slug: row.slug,
+    fileName: row.fileName,
+    bytes: new Uint8Array(row.bytes),
+    importOptions: JSON.parse(row.importOptions) as ImportOptions,
+    createdAt: row.createdAt,
+  };
+}
+
+/** Forget a pending upload of this session (after storing it, or when the person discards it). */
+export function dropPendingUpload(registry: Registry, session: WebSession, id: string): void {
+  writeTransaction(registry, () => {
+    registry.db
+      .delete(webPendingUploads)
+      .where(and(eq(webPendingUploads.id, id), eq(webPendingUploads.sessionSha256, session.key)))
+      .run();
+  });
+}

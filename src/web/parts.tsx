@@ -1,0 +1,158 @@
+/** @jsxImportSource hono/jsx */
+/** Parts shared by the version and review pages: the path's version, the fit and KK sections, the lifecycle forms. */
+import type { FitReport } from '../fit/types.ts';
+import type { KkReport } from '../kk/check.ts';
+import { checkSlug } from '../registry/refs.ts';
+import type { VersionDetail, VersionRecord } from '../registry/types.ts';
+import { InputError } from '../errors.ts';
+import type { WebContext } from './context.ts';
+import { fmt, Note, Notes, Plot, versionPath } from './layout.tsx';
+import { fitPlot, kkPlot } from './plots.ts';
+
+/** `slug@N` from the path, refusing a malformed slug or number (404: no such page). */
+export function pathRef(c: WebContext): string {
+  const slug = checkSlug(c.req.param('slug') ?? '');
+  const n = c.req.param('n') ?? '';
+  if (!/^[1-9][0-9]{0,8}$/.test(n)) throw new InputError('version-syntax', `"${n}" is not a version number (versions are 1, 2, 3, …)`, {}, 404);
+  return `${slug}@${n}`;
+}
+
+/** Reasons are kept in the audit log; the API allows the same length. */
+export const MAX_REASON = 2000;
+
+/** The lifecycle forms a version's status allows (an approver's view). */
+export function LifecycleForms({ version, csrf, back }: { version: Pick<VersionRecord, 'ref' | 'status'>; csrf: string; back: string }) {
+  const action = (verb: string) => `${versionPath(version.ref)}/${verb}`;
+  const id = version.ref.replace(/[^A-Za-z0-9]/g, '-');
+  const hidden = (
+    <>
+      <input type="hidden" name="csrf" value={csrf} />
+      <input type="hidden" name="back" value={back} />
+    </>
+  );
+  if (version.status === 'draft') {
+    return (
+      <div class="actions">
+        <form method="post" action={action('approve')}>
+          {hidden}
+          <button type="submit">Approve {version.ref}</button>
+        </form>
+        <form method="post" action={action('withdraw')}>
+          {hidden}
+          <label for={`withdraw-reason-${id}`}>Reason for withdrawing (optional)</label>
+          <input type="text" id={`withdraw-reason-${id}`} name="reason" maxlength={MAX_REASON} />{' '}
+          <button class="danger" type="submit">
+            Withdraw {version.ref}
+          </button>
+        </form>
+      </div>
+    );
+  }
+  if (version.status === 'approved') {
+    return (
+      <div class="actions">
+        <form method="post" action={action('retire')}>
+          {hidden}
+          <label for={`retire-reason-${id}`}>Reason for retiring (required, kept in the audit log)</label>
+          <input type="text" id={`retire-reason-${id}`} name="reason" required maxlength={MAX_REASON} />{' '}
+          <button class="danger" type="submit">
+            Retire {version.ref}
+          </button>
+        </form>
+      </div>
+    );
+  }
+  return null;
+}
+
+export function FitSection({ v, fit }: { v: Pick<VersionDetail, 'ref' | 'content'>; fit: FitReport | null }) {
+  if (!fit) {
+    return (
+      <>
+        <h2>Model</h2>
+        <p class="muted">No model was fitted to this version: its table is interpolated.</p>
+      </>
+    );
+  }
+  return (
+    <>
+      <h2>Model: {fit.model}</h2>
+      {v.content.table && (
+        <Plot
+          svg={fitPlot(v.content.table, fit, `${v.ref}: measured vs ${fit.model}, with residuals`)}
+          label={`Measured n and k against the ${fit.model} model, and residuals`}
+        />
+      )}
+      <FitDetails fit={fit} />
+    </>
+  );
+}
+
+/** Parameters ± 1σ, statistics, correlation and fit warnings: the same report the CLI prints. */
+export function FitDetails({ fit }: { fit: FitReport }) {
+  const s = fit.statistics;
+  return (
+    <>
+      <Notes kind="warn" items={fit.warnings ?? []} />
+      <table>
+        <caption>Fitted parameters (± 1σ standard error)</caption>
+        <thead>
+          <tr>
+            <th scope="col">Parameter</th>
+            <th scope="col" class="num">
+              Value
+            </th>
+            <th scope="col" class="num">
+              ± 1σ
+            </th>
+            <th scope="col">Unit</th>
+            <th scope="col">Note</th>
+          </tr>
+        </thead>
+        <tbody>
+          {Object.entries(fit.parameters).map(([name, p]) => (
+            <tr>
+              <th scope="row">
+                <code>{name}</code>
+              </th>
+              <td class="num">{fmt(p.value)}</td>
+              <td class="num">{p.stderr === null || p.stderr === undefined ? '—' : fmt(p.stderr, 2)}</td>
+              <td>{p.unit}</td>
+              <td>{p.at_bound ? 'ended on a bound (no error bar)' : p.stderr === null ? 'held fixed' : ''}</td>
+            </tr>
+          ))}
+        </tbody>
+      </table>
+      {s && (
+        <p class="muted">
+          {s.points} residuals; RMS n {fmt(s.rms_n, 3)}, RMS k {fmt(s.rms_k, 3)}
+          {s.reduced_chi2 !== null && s.reduced_chi2 !== undefined && `; reduced χ² ${fmt(s.reduced_chi2, 3)}`}; fitted over {fmt(fit.range_nm[0])}–
+          {fmt(fit.range_nm[1])} nm.
+        </p>
+      )}
+    </>
+  );
+}
+
+const VERDICT_NOTE: Record<string, 'good' | 'bad' | 'warn'> = { consistent: 'good', inconsistent: 'bad' };
+
+export function KkSection({ kk }: { kk: KkReport | null }) {
+  if (!kk) {
+    return (
+      <>
+        <h2>Kramers-Kronig check</h2>
+        <p class="muted">No Kramers-Kronig check is stored with this version.</p>
+      </>
+    );
+  }
+  const plot = kkPlot(kk);
+  return (
+    <>
+      <h2>Kramers-Kronig check</h2>
+      <Note kind={VERDICT_NOTE[kk.verdict] ?? 'warn'}>
+        <span class="verdict">verdict {kk.verdict}.</span> {kk.summary}
+      </Note>
+      {plot && <Plot svg={plot} label="Measured n against the n reconstructed from k by Kramers-Kronig, and their difference" />}
+    </>
+  );
+}

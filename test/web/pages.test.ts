@@ -1,0 +1,318 @@
+/**
+ * The web pages in-process (hono's app.request, no sockets): status codes, escaping of user text, sign-in
+ * cookie flags, the origin and CSRF checks on every form, reading rules, downloads, the two-person rule and
+ * the upload preview. The real-browser scenario is test/browser (npm run test:browser).
+ */
+import { gunzipSync } from 'node:zlib';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { ComputePool } from '../../src/service/compute-pool.ts';
+import { exportVersion } from '../../src/service/export-version.ts';
+import { approve } from '../../src/service/lifecycle.ts';
+import { createMaterial } from '../../src/service/materials.ts';
+import { createToken, revokeToken } from '../../src/service/tokens.ts';
+import { importVersion, showVersion } from '../../src/service/versions.ts';
+import { writeSetting } from '../../src/service/settings.ts';
+import { importMeasurement } from '../../src/service/import-measurement.ts';
+import { createWebPages } from '../../src/web/app.tsx';
+import { cauchyTable, tempRegistry, type TempRegistry } from '../registry/helpers.ts';
+import { signIn, type Browser, browserFor } from './browser-session.ts';
+
+const XSS = '<script>alert("x")</script>';
+const ORIGIN = 'http://localhost';
+
+let temp: TempRegistry;
+let compute: ComputePool;
+let app: ReturnType<typeof createWebPages>;
+const tokens: Record<string, string> = {};
+
+beforeAll(() => {
+  temp = tempRegistry();
+  const r = temp.registry;
+  for (const [user, role] of [
+    ['ada', 'editor'],
+    ['ben', 'approver'],
+    ['cy', 'reader'],
+  ] as const) {
+    tokens[user] = createToken(r, { user, role, createdBy: 'setup' }).token;
+  }
+  createMaterial(r, { slug: 'film', name: `Film ${XSS}`, description: `made by ${XSS}`, tags: ['oxide', 'test'] }, 'ada');
+  createMaterial(r, { slug: 'other', name: 'Other coating', tags: ['nitride'] }, 'ada');
+  importVersion(r, { slug: 'film', table: cauchyTable(), provenance: { sample: XSS, notes: `"quoted" & <b>bold</b>` } }, 'ada');
+  approve(r, 'film@1', 'ben');
+  importVersion(r, { slug: 'film', table: cauchyTable(1.46) }, 'ada');
+  compute = new ComputePool({ threads: 1 });
+  app = createWebPages({ registry: r, compute, loopback: true });
+});
+
+afterAll(async () => {
+  await compute.close();
+  temp.cleanup();
+});
+
+const get = async (path: string, b?: Browser) => {
+  const res = await app.request(path, { headers: b ? { cookie: b.cookie() } : {} });
+  return { res, body: await res.text() };
+};
+
+describe('reading pages', () => {
+  it('answers the index, a material, a version and a comparison with 200; unknown ones with a 404 page', async () => {
+    for (const path of ['/', '/?q=film', '/?tag=oxide', '/materials/film', '/materials/film/versions/1', '/compare?a=film@1&b=film@2']) {
+      const { res, body } = await get(path);
+      expect(res.status, path).toBe(200);
+      expect(res.headers.get('content-type')).toMatch(/^text\/html/);
+      expect(body.startsWith('<!doctype html>')).toBe(true);
+    }
+    const missing = await get('/materials/nothing-here');
+    expect(missing.res.status).toBe(404);
+    expect(missing.body).toContain('no material');
+    expect((await get('/materials/film/versions/9')).res.status).toBe(404);
+    expect((await get('/materials/film/versions/x')).res.status).toBe(404);
+  });
+
+  it('search and tag filter pick materials by name, slug, tags and description', async () => {
+    expect((await get('/?q=coating')).body).toContain('/materials/other');
+    expect((await get('/?q=coating')).body).not.toContain('/materials/film"');
+    const byTag = (await get('/?tag=nitride')).body;
+    expect(byTag).toContain('/materials/other');
+    expect(byTag).not.toContain('href="/materials/film"');
+    // Latest approved and counts by status.
+    const index = (await get('/')).body;
+    expect(index).toContain('film@1');
+    expect(index).toContain('1 draft, 1 approved');
+  });
+
+  it('escapes user text everywhere it is shown', async () => {
+    for (const path of ['/', '/materials/film', '/materials/film/versions/1', '/compare?a=film@1&b=film@2', `/?q=${encodeURIComponent(XSS)}`]) {
+      const { body } = await get(path);
+      expect(body, path).not.toContain('<script>alert');
+      expect(body, path).not.toContain('<b>bold</b>');
+    }
+    expect((await get('/materials/film/versions/1')).body).toContain('&lt;script&gt;alert(');
+  });
+
+  it('sends a strict Content-Security-Policy and no-store on pages, long caching on assets', async () => {
+    const { res, body } = await get('/');
+    expect(res.headers.get('content-security-policy')).toContain("script-src 'self'");
+    expect(res.headers.get('content-security-policy')).toContain("frame-ancestors 'none'");
+    expect(res.headers.get('cache-control')).toBe('no-store');
+    const css = /href="(\/assets\/[^"]+\.css)"/.exec(body)![1];
+    const asset = await app.request(css);
+    expect(asset.status).toBe(200);
+    expect(asset.headers.get('cache-control')).toContain('immutable');
+    expect(body).not.toMatch(/https?:\/\/(?!localhost)[a-z]/i); // nothing from another host
+  });
+
+  it('downloads are the bytes of `nkledger export`', async () => {
+    const csv = await app.request('/materials/film/versions/1/table.csv');
+    expect(csv.headers.get('content-disposition')).toContain('attachment');
+    expect(await csv.text()).toBe(exportVersion(temp.registry, 'film@1', 'csv').text);
+    expect(await (await app.request('/materials/film/versions/1/record.json')).text()).toBe(exportVersion(temp.registry, 'film@1', 'json').text);
+    expect((await app.request('/materials/film/versions/1/model.csv')).status).toBe(404); // a table-only version has no model
+  });
+
+  it('refuses anonymous reading when the settings say so, but still serves the sign-in page', async () => {
+    const closed = createWebPages({ registry: temp.registry, compute, loopback: false });
+    const res = await closed.request('/');
+    expect(res.status).toBe(401);
+    expect(await res.text()).toContain('/sign-in?next=');
+    expect((await closed.request('/sign-in')).status).toBe(200);
+    const open = createWebPages({ registry: temp.registry, compute, loopback: false, settings: { anonymous_reads: 'on' } });
+    expect((await open.request('/')).status).toBe(200);
+  });
+});
+
+describe('sign-in and its cookie', () => {
+  it('sets an HttpOnly, SameSite=Strict session cookie (Secure behind HTTPS) and signs out', async () => {
+    const b = browserFor(app);
+    const res = await signIn(b, tokens.cy);
+    expect(res.status).toBe(303);
+    const cookie = res.headers.getSetCookie().find((c) => c.startsWith('nkl_session='))!;
+    expect(cookie).toMatch(/HttpOnly/);
+    expect(cookie).toMatch(/SameSite=Strict/);
+    expect(cookie).toMatch(/Path=\//);
+    expect(cookie).not.toMatch(/Secure/);
+    expect((await get('/', b)).body).toContain('Signed in as <strong>cy</strong>');
+
+    const secure = browserFor(app, { 'x-forwarded-proto': 'https' }, 'https://localhost');
+    const tls = await signIn(secure, tokens.cy);
+    expect(tls.headers.getSetCookie().find((c) => c.startsWith('nkl_session='))).toMatch(/Secure/);
+
+    const out = await b.post('/sign-out', { csrf: b.csrf() });
+    expect(out.status).toBe(303);
+    const after = await get('/', b);
+    expect(after.body).not.toContain('Signed in as');
+  });
+
+  it('refuses an unknown token, and ends the session when its token is revoked', async () => {
+    const b = browserFor(app);
+    const bad = await signIn(b, 'nkl_not-a-real-token');
+    expect(bad.status).toBe(401);
+    const t = createToken(temp.registry, { user: 'dee', role: 'approver', createdBy: 'setup' });
+    const d = browserFor(app);
+    await signIn(d, t.token);
+    expect((await get('/review', d)).res.status).toBe(200);
+    revokeToken(temp.registry, t.id, 'setup');
+    expect((await get('/review', d)).res.status).toBe(401);
+  });
+
+  it('refuses a sign-in form without its one-off secret or from another origin', async () => {
+    const b = browserFor(app);
+    const form = new URLSearchParams({ token: tokens.cy, sign_in: 'guess' });
+    const noSecret = await app.request('/sign-in', { method: 'POST', body: form, headers: { origin: ORIGIN } });
+    expect(noSecret.status).toBe(403);
+    const page = await b.get('/sign-in');
+    const secret = /name="sign_in" value="([^"]+)"/.exec(await page.text())![1];
+    const crossSite = await app.request('/sign-in', {
+      method: 'POST',
+      body: new URLSearchParams({ token: tokens.cy, sign_in: secret }),
+      headers: { origin: 'https://elsewhere.example', cookie: b.cookie() },
+    });
+    expect(crossSite.status).toBe(403);
+  });
+});
+
+describe('forms are refused from other sites and without the session secret', () => {
+  it('approve needs the same origin and the CSRF secret; refused attempts change nothing', async () => {
+    const ben = browserFor(app);
+    await signIn(ben, tokens.ben);
+    const path = '/materials/film/versions/2/approve';
+    const tries = [
+      await app.request(path, { method: 'POST', body: new URLSearchParams({ csrf: ben.csrf() }), headers: { cookie: ben.cookie() } }),
+      await app.request(path, {
+        method: 'POST',
+        body: new URLSearchParams({ csrf: ben.csrf() }),
+        headers: { cookie: ben.cookie(), origin: 'https://evil.example' },
+      }),
+      await app.request(path, { method: 'POST', body: new URLSearchParams({ csrf: 'wrong' }), headers: { cookie: ben.cookie(), origin: ORIGIN } }),
+      await app.request(path, { method: 'POST', body: new URLSearchParams({}), headers: { cookie: ben.cookie(), origin: ORIGIN } }),
+    ];
+    expect(tries.map((r) => r.status)).toEqual([403, 403, 403, 403]);
+    expect(showVersion(temp.registry, 'film@2').status).toBe('draft');
+  });
+
+  it('an editor may not approve; the two-person rule refuses approving one’s own draft', async () => {
+    const ada = browserFor(app);
+    await signIn(ada, tokens.ada);
+    expect((await ada.post('/materials/film/versions/2/approve', { csrf: ada.csrf() })).status).toBe(403);
+    expect((await get('/review', ada)).res.status).toBe(403);
+
+    createToken(temp.registry, { user: 'ada', role: 'approver', createdBy: 'setup' });
+    const own = createToken(temp.registry, { user: 'ada', role: 'approver', createdBy: 'setup' });
+    const adaApprover = browserFor(app);
+    await signIn(adaApprover, own.token);
+    const review = await get('/review', adaApprover);
+    expect(review.body).not.toContain('Approve film@2');
+    const refused = await adaApprover.post('/materials/film/versions/2/approve', { csrf: adaApprover.csrf() });
+    expect(refused.status).toBe(409);
+    expect(showVersion(temp.registry, 'film@2').status).toBe('draft');
+  });
+
+  it('an approver sees the draft under review with its checks, and approves it', async () => {
+    const ben = browserFor(app);
+    await signIn(ben, tokens.ben);
+    const review = await get('/review', ben);
+    expect(review.body).toContain('Approve film@2');
+    expect(review.body).toContain('Kramers-Kronig');
+    const ok = await ben.post('/materials/film/versions/2/approve', { csrf: ben.csrf(), back: '/review' });
+    expect(ok.status).toBe(303);
+    expect(ok.headers.get('location')).toBe('/review');
+    expect(showVersion(temp.registry, 'film@2').status).toBe('approved');
+    // Only local paths are followed after a form.
+    const retire = await ben.post('/materials/film/versions/1/retire', { csrf: ben.csrf(), reason: 'superseded by @2', back: '//evil.example/' });
+    expect(retire.headers.get('location')).toBe('/materials/film/versions/1');
+    expect((await ben.post('/materials/film/versions/2/retire', { csrf: ben.csrf(), reason: '' })).status).toBe(400);
+  });
+});
+
+describe('upload with a preview', () => {
+  it('reads the file, shows what was read, tries a fit, then stores a draft with provenance', async () => {
+    const ada = browserFor(app);
+    await signIn(ada, tokens.ada);
+    // Invented numbers (a Cauchy curve) under an instrument-style preamble.
+    const rows = Array.from({ length: 41 }, (_, i) => 400 + 10 * i).map((nm) => `${nm},${(1.45 + 0.0036 / (nm / 1000) ** 2).toFixed(6)},0`);
+    const file = ['Marrowick Optics test export (invented)', 'Sample: TA-0412', 'Operator: R. Okafor', 'Wavelength (nm),n,k', ...rows].join('\n');
+    const form = new FormData();
+    form.set('csrf', ada.csrf());
+    form.set('material', 'other');
+    form.set('table', new File([file], 'export-preamble.csv', { type: 'text/csv' }));
+    const posted = await ada.post('/upload', form);
+    expect(posted.status).toBe(303);
+    const preview = posted.headers.get('location')!;
+    const shown = await get(preview, ada);
+    expect(shown.body).toContain('Sample: TA-0412'); // the preamble
+    expect(shown.body).toContain('Wavelength (nm)');
+    // Another session cannot see it.
+    const cy = browserFor(app);
+    await signIn(cy, tokens.ada);
+    expect((await get(preview, cy)).res.status).toBe(404);
+
+    const fitted = await ada.post(`${preview}/fit`, { csrf: ada.csrf(), model: 'cauchy' });
+    expect(fitted.status).toBe(200);
+    expect(await fitted.text()).toContain('Trial fit: cauchy');
+
+    const stored = await ada.post(`${preview}/store`, {
+      csrf: ada.csrf(),
+      model: 'cauchy',
+      kk: 'on',
+      sample: 'MO-77 wafer 2',
+      method: 'spectroscopic-ellipsometry',
+    });
+    expect(stored.status).toBe(303);
+    expect(stored.headers.get('location')).toBe('/materials/other/versions/1');
+    const v = showVersion(temp.registry, 'other@1');
+    expect(v.status).toBe('draft');
+    expect(v.created_by).toBe('ada');
+    expect(v.provenance.sample).toBe('MO-77 wafer 2');
+    expect(v.provenance.source_file).toBe('export-preamble.csv');
+    expect(v.provenance.preamble).toContain('Sample: TA-0412');
+    expect(v.content.fit?.model).toBe('cauchy');
+    expect((await get(preview, ada)).res.status).toBe(404); // gone once stored
+  });
+
+  it('shows a file that does not read as a refusal on the form, storing nothing', async () => {
+    const ada = browserFor(app);
+    await signIn(ada, tokens.ada);
+    const form = new FormData();
+    form.set('csrf', ada.csrf());
+    form.set('material', 'other');
+    form.set('table', new File(['just words\nno numbers here\n'], 'words.csv', { type: 'text/csv' }));
+    const res = await ada.post('/upload', form);
+    expect(res.status).toBeGreaterThanOrEqual(400);
+    expect(res.status).toBeLessThan(500);
+    expect(await res.text()).toContain('words.csv');
+  });
+});
+
+describe('page weight', () => {
+  it('a version page of a 2,000-point table is under 150 KB gzip-compressed', async () => {
+    const r = temp.registry;
+    createMaterial(r, { slug: 'dense', name: 'Dense table' }, 'ada');
+    const lines = ['wavelength_nm,n,k'];
+    for (let i = 0; i < 2000; i++) {
+      const nm = 300 + i * 0.5;
+      const um = nm / 1000;
+      lines.push(`${nm},${(1.9 + 0.02 / um ** 2 + 1e-4 * Math.sin(i)).toFixed(6)},${(0.02 * Math.exp(-(nm - 300) / 50)).toFixed(6)}`);
+    }
+    importMeasurement(r, { slug: 'dense', bytes: new TextEncoder().encode(lines.join('\n')), file: 'dense.csv', fit: { model: 'cauchy' } }, 'ada');
+    for (const path of ['/', '/materials/dense/versions/1']) {
+      const res = await app.request(path, { headers: { 'accept-encoding': 'gzip' } });
+      expect(res.headers.get('content-encoding')).toBe('gzip');
+      const gz = Buffer.from(await res.arrayBuffer());
+      expect(gz.length, path).toBeLessThan(150 * 1024);
+      expect(gunzipSync(gz).toString()).toContain('</html>');
+    }
+  });
+});
+
+describe('settings', () => {
+  it('self-approval allowed: one’s own draft is listed for review', async () => {
+    const r = temp.registry;
+    importVersion(r, { slug: 'film', table: cauchyTable(1.47) }, 'ben');
+    const ben = browserFor(app);
+    await signIn(ben, tokens.ben);
+    expect((await get('/review', ben)).body).not.toContain('Approve film@3');
+    writeSetting(r, 'allow_self_approval', true, 'setup');
+    expect((await get('/review', ben)).body).toContain('Approve film@3');
+    writeSetting(r, 'allow_self_approval', false, 'setup');
+  });
+});
