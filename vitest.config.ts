@@ -1,11 +1,14 @@
 import { defineConfig } from 'vitest/config';
 
-/** `npm test`: every suite but the long reliability runs (`npm run test:reliability`, vitest.reliability.config.ts). */
+/**
+ * `npm test`: every suite but the long reliability runs (`npm run test:reliability`, vitest.reliability.config.ts)
+ * and the real-browser tests (`npm run test:browser`, vitest.browser.config.ts).
+ */
 export default defineConfig({
   test: {
     setupFiles: ['test/fast-check-seed.ts'],
     include: ['test/**/*.test.ts'],
-    exclude: ['test/reliability/**', '**/node_modules/**'],
+    exclude: ['test/reliability/**', 'test/browser/**', '**/node_modules/**'],
     globalSetup: ['test/build-before-tests.ts'],
     // Test files share their worker process's module cache instead of re-importing the sources for each of the
     // ~80 files (about half the wall time of a run on 2 cores). Safe because no test mocks modules, stubs

@@ -11,7 +11,6 @@ export interface Browser {
   csrf(): string;
 }
 
-// biome-ignore lint/suspicious/noExplicitAny: any hono app
 export function browserFor(app: Hono<any>, extraHeaders: Record<string, string> = {}, origin = 'http://localhost'): Browser {
   const jar = new Map<string, string>();
   let csrf = '';
