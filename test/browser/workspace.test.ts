@@ -105,7 +105,6 @@ describe.skipIf(!HAVE_CHROMIUM)('the browser workspace in chromium', () => {
   async function check(page: Page, name: string): Promise<void> {
     await page.evaluate(AXE_SOURCE);
     const violations = await page.evaluate(async () => {
-      // biome-ignore lint/suspicious/noExplicitAny: axe is injected into the page
       const axe = (window as any).axe;
       const result = await axe.run(document, { resultTypes: ['violations'] });
       return result.violations
