@@ -150,6 +150,25 @@ export function fmt(value: number | null | undefined, digits = 6): string {
   return value.toExponential(Math.max(0, digits - 1)).replace(/\.?0+e/, 'e');
 }
 
+/** A table's header row: column names; a name ending in "#" is numeric (right-aligned). */
+export function Head({ columns }: { columns: string[] }) {
+  return (
+    <thead>
+      <tr>
+        {columns.map((c) =>
+          c.endsWith('#') ? (
+            <th scope="col" class="num">
+              {c.slice(0, -1)}
+            </th>
+          ) : (
+            <th scope="col">{c}</th>
+          ),
+        )}
+      </tr>
+    </thead>
+  );
+}
+
 /** A date-time as stored (ISO 8601 UTC), shown to the minute, in a <time> element. */
 export function When({ at }: { at: string | null }) {
   if (!at) return <span class="muted">—</span>;

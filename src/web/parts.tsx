@@ -6,7 +6,7 @@ import { checkSlug } from '../registry/refs.ts';
 import type { VersionDetail, VersionRecord } from '../registry/types.ts';
 import { InputError } from '../errors.ts';
 import type { WebContext } from './context.ts';
-import { fmt, Note, Notes, Plot, versionPath } from './layout.tsx';
+import { fmt, Head, Note, Notes, Plot, versionPath } from './layout.tsx';
 import { fitPlot, kkPlot } from './plots.ts';
 
 /** `slug@N` from the path, refusing a malformed slug or number (404: no such page). */
@@ -96,19 +96,7 @@ export function FitDetails({ fit }: { fit: FitReport }) {
       <Notes kind="warn" items={fit.warnings ?? []} />
       <table>
         <caption>Fitted parameters (± 1σ standard error)</caption>
-        <thead>
-          <tr>
-            <th scope="col">Parameter</th>
-            <th scope="col" class="num">
-              Value
-            </th>
-            <th scope="col" class="num">
-              ± 1σ
-            </th>
-            <th scope="col">Unit</th>
-            <th scope="col">Note</th>
-          </tr>
-        </thead>
+        <Head columns={['Parameter', 'Value#', '± 1σ#', 'Unit', 'Note']} />
         <tbody>
           {Object.entries(fit.parameters).map(([name, p]) => (
             <tr>

@@ -4,7 +4,7 @@ import type { Hono } from 'hono';
 import { diffVersions, type VersionDiff } from '../../service/diff.ts';
 import { renderDiffPlot } from '../../service/diff-plot.ts';
 import type { PageContext, WebEnv } from '../context.ts';
-import { fmt, Note, Notes, page, Plot, Status, versionPath } from '../layout.tsx';
+import { fmt, Head, Note, Notes, page, Plot, Status, versionPath } from '../layout.tsx';
 import { decimatedRows } from '../plots.ts';
 import { requireReader } from '../session.ts';
 
@@ -84,16 +84,7 @@ function DiffView({ diff }: { diff: VersionDiff }) {
       <Notes kind="warn" items={diff.warnings} />
       <Notes kind="info" items={diff.notices} />
       <table>
-        <thead>
-          <tr>
-            <th scope="col">Side</th>
-            <th scope="col">Version</th>
-            <th scope="col">Status</th>
-            <th scope="col">Model</th>
-            <th scope="col">Range</th>
-            <th scope="col">Content hash</th>
-          </tr>
-        </thead>
+        <Head columns={['Side', 'Version', 'Status', 'Model', 'Range', 'Content hash']} />
         <tbody>
           {side('a', diff.a)}
           {side('b', diff.b)}
@@ -127,24 +118,7 @@ function DiffView({ diff }: { diff: VersionDiff }) {
       {diff.parameters.length > 0 && (
         <table>
           <caption>Model parameters (Δ = b − a; Δ/σ uses both standard errors)</caption>
-          <thead>
-            <tr>
-              <th scope="col">Parameter</th>
-              <th scope="col" class="num">
-                a
-              </th>
-              <th scope="col" class="num">
-                b
-              </th>
-              <th scope="col" class="num">
-                Δ
-              </th>
-              <th scope="col" class="num">
-                Δ/σ
-              </th>
-              <th scope="col">Unit</th>
-            </tr>
-          </thead>
+          <Head columns={['Parameter', 'a#', 'b#', 'Δ#', 'Δ/σ#', 'Unit']} />
           <tbody>
             {diff.parameters.map((p) => (
               <tr>
@@ -166,13 +140,7 @@ function DiffView({ diff }: { diff: VersionDiff }) {
         <p>Same provenance.</p>
       ) : (
         <table>
-          <thead>
-            <tr>
-              <th scope="col">Field</th>
-              <th scope="col">a</th>
-              <th scope="col">b</th>
-            </tr>
-          </thead>
+          <Head columns={['Field', 'a', 'b']} />
           <tbody>
             {diff.provenance.map((p) => (
               <tr>

@@ -7,7 +7,7 @@ import { evaluateVersion } from '../../service/evaluate-version.ts';
 import { VERSION_STATUSES } from '../../registry/schema.ts';
 import type { AuditEntry, MaterialRecord, VersionRecord } from '../../registry/types.ts';
 import type { PageContext, WebEnv } from '../context.ts';
-import { fmt, Note, page, Plot, Status, versionPath, When } from '../layout.tsx';
+import { fmt, Head, Note, page, Plot, Status, versionPath, When } from '../layout.tsx';
 import { curveGrid, nkPlot } from '../plots.ts';
 import { requireReader } from '../session.ts';
 
@@ -136,14 +136,7 @@ function MaterialTable({ materials, counts }: { materials: MaterialRecord[]; cou
   return (
     <table>
       <caption class="muted">Materials, by slug</caption>
-      <thead>
-        <tr>
-          <th scope="col">Material</th>
-          <th scope="col">Tags</th>
-          <th scope="col">Latest approved</th>
-          <th scope="col">Versions by status</th>
-        </tr>
-      </thead>
+      <Head columns={['Material', 'Tags', 'Latest approved', 'Versions by status']} />
       <tbody>
         {materials.map((m) => {
           const byStatus = counts.get(m.slug);
@@ -187,17 +180,7 @@ function MaterialTable({ materials, counts }: { materials: MaterialRecord[]; cou
 export function VersionTable({ versions }: { versions: VersionRecord[] }) {
   return (
     <table>
-      <thead>
-        <tr>
-          <th scope="col">Version</th>
-          <th scope="col">Status</th>
-          <th scope="col">Model</th>
-          <th scope="col">KK check</th>
-          <th scope="col">Created</th>
-          <th scope="col">Approved</th>
-          <th scope="col">Retired / withdrawn</th>
-        </tr>
-      </thead>
+      <Head columns={['Version', 'Status', 'Model', 'KK check', 'Created', 'Approved', 'Retired / withdrawn']} />
       <tbody>
         {versions.map((v) => (
           <tr>
