@@ -13,7 +13,8 @@ import { createToken, revokeToken } from '../../src/service/tokens.ts';
 import { importVersion, showVersion } from '../../src/service/versions.ts';
 import { writeSetting } from '../../src/service/settings.ts';
 import { importMeasurement } from '../../src/service/import-measurement.ts';
-import { createWebPages } from '../../src/web/app.tsx';
+import { createApp } from '../../src/api/app.ts';
+import { createWebPages, forwardToPages } from '../../src/web/app.tsx';
 import { cauchyTable, tempRegistry, type TempRegistry } from '../registry/helpers.ts';
 import { signIn, type Browser, browserFor } from './browser-session.ts';
 
@@ -269,6 +270,21 @@ describe('upload with a preview', () => {
     expect((await get(preview, ada)).res.status).toBe(404); // gone once stored
   });
 
+  it('escapes the uploaded file name on the preview (it reaches the page text and the plot titles)', async () => {
+    const ada = browserFor(app);
+    await signIn(ada, tokens.ada);
+    const form = new FormData();
+    form.set('csrf', ada.csrf());
+    form.set('material', 'other');
+    const rows = Array.from({ length: 12 }, (_, i) => `${400 + 20 * i},1.5,0`);
+    form.set('table', new File([['wavelength_nm,n,k', ...rows].join('\n')], '<img src=x onerror=alert(1)>.csv', { type: 'text/csv' }));
+    const posted = await ada.post('/upload', form);
+    expect(posted.status).toBe(303);
+    const { body } = await get(posted.headers.get('location')!, ada);
+    expect(body).toContain('&lt;img src=x onerror=alert(1)&gt;.csv');
+    expect(body).not.toContain('<img src=x');
+  });
+
   it('shows a file that does not read as a refusal on the form, storing nothing', async () => {
     const ada = browserFor(app);
     await signIn(ada, tokens.ada);
@@ -301,6 +317,28 @@ describe('page weight', () => {
       expect(gz.length, path).toBeLessThan(150 * 1024);
       expect(gunzipSync(gz).toString()).toContain('</html>');
     }
+  });
+});
+
+describe('beside the API', () => {
+  it('the API answers first; other paths go to the pages; unknown /api/ paths keep the API 404', async () => {
+    const api = createApp({ registry: temp.registry, compute, loopback: true });
+    api.all('*', forwardToPages(app));
+    const page = await api.request('/');
+    expect(page.headers.get('content-type')).toMatch(/^text\/html/);
+    const list = await api.request('/api/v1/materials');
+    expect(list.headers.get('content-type')).toMatch(/^application\/json/);
+    expect(list.headers.get('content-security-policy')).toBeNull(); // the pages' middleware stays off the API
+    const missing = await api.request('/api/v1/nothing');
+    expect(missing.status).toBe(404);
+    expect(missing.headers.get('content-type')).toMatch(/problem\+json/);
+    // A browser-style POST to the API with a bearer token is the API's business, not the pages' form guard.
+    const created = await api.request('/api/v1/materials', {
+      method: 'POST',
+      headers: { authorization: `Bearer ${tokens.ada}`, 'content-type': 'application/json' },
+      body: JSON.stringify({ slug: 'via-api', name: 'Via the API' }),
+    });
+    expect(created.status).toBe(201);
   });
 });
 
