@@ -270,6 +270,21 @@ describe('upload with a preview', () => {
     expect((await get(preview, ada)).res.status).toBe(404); // gone once stored
   });
 
+  it('an editor creates a material from the upload page; a bad slug is refused on the page', async () => {
+    const ada = browserFor(app);
+    await signIn(ada, tokens.ada);
+    const made = await ada.post('/materials', { csrf: ada.csrf(), slug: 'tio2-ebeam', name: 'E-beam TiO2', tags: 'oxide, high-index' });
+    expect(made.status).toBe(303);
+    expect(made.headers.get('location')).toBe('/upload?material=tio2-ebeam');
+    expect((await get('/materials/tio2-ebeam')).body).toContain('high-index');
+    const bad = await ada.post('/materials', { csrf: ada.csrf(), slug: 'Not A Slug', name: 'x' });
+    expect(bad.status).toBe(400);
+    expect(await bad.text()).toContain('Not A Slug');
+    const cy = browserFor(app);
+    await signIn(cy, tokens.cy);
+    expect((await cy.post('/materials', { csrf: cy.csrf(), slug: 'readers-cannot', name: 'x' })).status).toBe(403);
+  });
+
   it('escapes the uploaded file name on the preview (it reaches the page text and the plot titles)', async () => {
     const ada = browserFor(app);
     await signIn(ada, tokens.ada);

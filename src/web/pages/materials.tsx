@@ -5,6 +5,7 @@ import { history, versionStatusCounts } from '../../service/materials.ts';
 import { searchMaterials } from '../../service/material-search.ts';
 import { evaluateVersion } from '../../service/evaluate-version.ts';
 import { VERSION_STATUSES } from '../../registry/schema.ts';
+import { roleAllows } from '../../service/tokens.ts';
 import type { AuditEntry, MaterialRecord, VersionRecord } from '../../registry/types.ts';
 import type { PageContext, WebEnv } from '../context.ts';
 import { fmt, Head, Note, page, Plot, Status, versionPath, When } from '../layout.tsx';
@@ -78,6 +79,8 @@ export function registerMaterialPages(app: Hono<WebEnv>, ctx: PageContext): void
       );
     }
     const newestFirst = [...versions].reverse();
+    const role = c.get('session')?.principal.role;
+    const canUpload = role !== undefined && roleAllows(role, 'editor');
     return c.html(
       page({
         title: material.name,
@@ -109,6 +112,11 @@ export function registerMaterialPages(app: Hono<WebEnv>, ctx: PageContext): void
               <Note kind="warn">no version of this material is approved yet: drafts below are not for use in designs.</Note>
             )}
             <h2>Versions</h2>
+            {canUpload && (
+              <p>
+                <a href={`/upload?material=${encodeURIComponent(material.slug)}`}>Upload a new measurement of this material</a>
+              </p>
+            )}
             <VersionTable versions={newestFirst} />
             {versions.length >= 2 && <CompareForm versions={newestFirst} />}
             <h2>History</h2>

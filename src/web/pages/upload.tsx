@@ -17,7 +17,7 @@ import { MEASUREMENT_METHODS } from '../../registry/schema.ts';
 import { parseFitOptions } from '../../service/fit-options.ts';
 import { storeMeasurement } from '../../service/import-measurement.ts';
 import type { InspectReport } from '../../service/inspect.ts';
-import { getMaterial, listMaterials } from '../../service/materials.ts';
+import { createMaterial, getMaterial, listMaterials } from '../../service/materials.ts';
 import type { WebSession } from '../../service/web-sessions.ts';
 import { dropPendingUpload, getPendingUpload, putPendingUpload, type PendingUpload } from '../../service/web-sessions.ts';
 import type { NkTable } from '../../table.ts';
@@ -79,6 +79,26 @@ export function registerUploadPages(app: Hono<WebEnv>, ctx: PageContext): void {
   app.get('/upload', (c) => {
     const session = requireSession(c, 'editor');
     return c.html(uploadFormPage(ctx, session, { material: c.req.query('material') ?? '' }));
+  });
+
+  app.post('/materials', async (c) => {
+    const session = requireSession(c, 'editor');
+    const form = textFields(await c.req.parseBody());
+    try {
+      const tags = (form.tags ?? '')
+        .split(',')
+        .map((t) => t.trim())
+        .filter(Boolean);
+      const material = createMaterial(
+        ctx.registry,
+        { slug: form.slug ?? '', name: form.name ?? '', description: form.description, tags },
+        session.principal.user,
+      );
+      return c.redirect(`/upload?material=${encodeURIComponent(material.slug)}`, 303);
+    } catch (err) {
+      if (!(err instanceof InputError) || err.status >= 500) throw err;
+      return c.html(uploadFormPage(ctx, session, form, err), err.status as 400);
+    }
   });
 
   app.post('/upload', async (c) => {
@@ -220,6 +240,32 @@ function uploadFormPage(ctx: PageContext, session: WebSession, form: Form, error
           </fieldset>
           <p>
             <button type="submit">Read the file</button>
+          </p>
+        </form>
+        <h2>A material not listed yet?</h2>
+        <form method="post" action="/materials">
+          <input type="hidden" name="csrf" value={session.csrf} />
+          <div class="row">
+            <div>
+              <label for="new-slug">Slug</label>
+              <input type="text" id="new-slug" name="slug" required maxlength={64} value={form.slug ?? ''} aria-describedby="slug-hint" />
+              <p class="hint" id="slug-hint">
+                lower-case letters, digits and hyphens, e.g. tio2-ebeam; it names the material in pins (slug@N) for good
+              </p>
+            </div>
+            <div>
+              <label for="new-name">Name</label>
+              <input type="text" id="new-name" name="name" required maxlength={200} value={form.name ?? ''} />
+            </div>
+          </div>
+          <label for="new-description">Description</label>
+          <input type="text" id="new-description" name="description" maxlength={5000} value={form.description ?? ''} />
+          <label for="new-tags">Tags (comma-separated)</label>
+          <input type="text" id="new-tags" name="tags" maxlength={500} value={form.tags ?? ''} />
+          <p>
+            <button type="submit" class="quiet">
+              Create the material
+            </button>
           </p>
         </form>
       </>
