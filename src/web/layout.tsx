@@ -35,6 +35,7 @@ export function Layout({ title, session, current, children }: LayoutProps) {
         <meta charset="utf-8" />
         <meta name="viewport" content="width=device-width, initial-scale=1" />
         <title>{`${title} · nkledger`}</title>
+        <link rel="icon" href="data:," />
         <link rel="stylesheet" href={STYLESHEET_PATH} />
         <script src={SCRIPT_PATH} defer></script>
       </head>

@@ -78,8 +78,20 @@ describe.skipIf(!HAVE_CHROMIUM)('the browser workspace in chromium', () => {
     if (Object.keys(weights).length) console.log('first-load bytes transferred per page:', weights);
   });
 
+  /** Errors thrown by the pages' script or refused by the Content-Security-Policy, in any context. */
+  const pageErrors: string[] = [];
+
   /** A fresh context (cookies of its own); bypassCSP only so the test can inject axe-core. */
-  const context = () => browser.newContext({ bypassCSP: true, acceptDownloads: true, viewport: { width: 1200, height: 900 } });
+  const context = async () => {
+    const ctx = await browser.newContext({ bypassCSP: true, acceptDownloads: true, viewport: { width: 1200, height: 900 } });
+    ctx.on('page', (page) => {
+      page.on('pageerror', (err) => pageErrors.push(`${page.url()}: ${err.message}`));
+      page.on('console', (msg) => {
+        if (msg.type() === 'error') pageErrors.push(`${page.url()}: ${msg.text()}`);
+      });
+    });
+    return ctx;
+  };
 
   /** Go to a page, counting every byte transferred for it (bodies as sent, compressed), then check and photograph it. */
   async function visit(page: Page, path: string, name: string): Promise<void> {
@@ -193,6 +205,9 @@ describe.skipIf(!HAVE_CHROMIUM)('the browser workspace in chromium', () => {
     await check(rd, 'compare');
 
     await visit(rd, '/materials/sinx-pecvd/versions/3', 'version');
+    // The script's plot readout: the wavelength under the pointer.
+    await rd.locator('figure.plot svg').first().hover();
+    expect(await rd.locator('.plot-readout').first().textContent()).toMatch(/^\d+(\.\d)? nm$/);
     const [download] = await Promise.all([rd.waitForEvent('download'), rd.getByRole('link', { name: /CSV: the measured table/ }).click()]);
     const saved = join(dir, 'downloaded.csv');
     await download.saveAs(saved);
@@ -202,6 +217,7 @@ describe.skipIf(!HAVE_CHROMIUM)('the browser workspace in chromium', () => {
     await visit(rd, '/materials/sinx-pecvd/versions/2', 'version-recipe-b');
     await visit(rd, '/materials/a-si-h/versions/1', 'version-a-si-h');
     for (const c of [editor, approver, reader]) await c.close();
+    expect(pageErrors).toEqual([]);
   }, 120_000);
 
   it('every control is reachable by keyboard, starting with the skip link', async () => {
