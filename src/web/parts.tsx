@@ -7,7 +7,8 @@ import type { VersionDetail, VersionRecord } from '../registry/types.ts';
 import { InputError } from '../errors.ts';
 import type { WebContext } from './context.ts';
 import { fmt, Head, Note, Notes, Plot, versionPath } from './layout.tsx';
-import { fitPlot, kkPlot } from './plots.ts';
+import { curveGrid, decimateTable, fitPlot, kkPlot, nkPlot } from './plots.ts';
+import { evaluateFitReport } from '../fit/fit.ts';
 
 /** `slug@N` from the path, refusing a malformed slug or number (404: no such page). */
 export function pathRef(c: WebContext): string {
@@ -66,21 +67,39 @@ export function LifecycleForms({ version, csrf, back }: { version: Pick<VersionR
 }
 
 export function FitSection({ v, fit }: { v: Pick<VersionDetail, 'ref' | 'content'>; fit: FitReport | null }) {
+  const table = v.content.table;
   if (!fit) {
+    const shown = table && decimateTable(table);
     return (
       <>
-        <h2>Model</h2>
-        <p class="muted">No model was fitted to this version: its table is interpolated.</p>
+        <h2>Measured table</h2>
+        <p class="muted">No model was fitted to this version: between its wavelengths the table is interpolated.</p>
+        {shown && (
+          <Plot
+            svg={nkPlot(`${v.ref}: measured n and k`, { wavelength_nm: shown.wavelengthNm, n: shown.n, k: shown.k }, 'measured')}
+            label={`Measured n and k of ${v.ref} against wavelength`}
+          />
+        )}
       </>
     );
   }
+  const [lo, hi] = fit.range_nm;
   return (
     <>
       <h2>Model: {fit.model}</h2>
-      {v.content.table && (
+      {table ? (
         <Plot
-          svg={fitPlot(v.content.table, fit, `${v.ref}: measured vs ${fit.model}, with residuals`)}
+          svg={fitPlot(table, fit, `${v.ref}: measured vs ${fit.model}, with residuals`)}
           label={`Measured n and k against the ${fit.model} model, and residuals`}
+        />
+      ) : (
+        <Plot
+          svg={nkPlot(
+            `${v.ref}: the ${fit.model} model (no table stored)`,
+            { wavelength_nm: curveGrid(lo, hi), ...evaluateFitReport(fit, curveGrid(lo, hi)) },
+            fit.model,
+          )}
+          label={`n and k of the ${fit.model} model of ${v.ref} against wavelength`}
         />
       )}
       <FitDetails fit={fit} />

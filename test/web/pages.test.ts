@@ -5,6 +5,7 @@
  */
 import { gunzipSync } from 'node:zlib';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { fitTable } from '../../src/fit/fit.ts';
 import { ComputePool } from '../../src/service/compute-pool.ts';
 import { exportVersion } from '../../src/service/export-version.ts';
 import { approve } from '../../src/service/lifecycle.ts';
@@ -68,6 +69,25 @@ describe('reading pages', () => {
     expect(missing.body).toContain('no material');
     expect((await get('/materials/film/versions/9')).res.status).toBe(404);
     expect((await get('/materials/film/versions/x')).res.status).toBe(404);
+  });
+
+  it('plots what a version holds: a table only, or a model only', async () => {
+    const tableOnly = (await get('/materials/film/versions/1')).body;
+    expect(tableOnly).toContain('<h2>Measured table</h2>');
+    expect(tableOnly).toMatch(/<figure class="plot"><svg role="img"/);
+    createMaterial(temp.registry, { slug: 'model-only', name: 'Model only' }, 'ada');
+    importVersion(temp.registry, { slug: 'model-only', fit: fitTable(cauchyTable(), { model: 'cauchy' }) }, 'ada');
+    const modelOnly = await get('/materials/model-only/versions/1');
+    expect(modelOnly.res.status).toBe(200);
+    expect(modelOnly.body).toContain('the cauchy model (no table stored)');
+    const csv = await (await app.request('/materials/model-only/versions/1/model.csv?step_nm=50')).text();
+    expect(
+      csv
+        .trim()
+        .split('\r\n')
+        .slice(3)
+        .map((l) => Number(l.split(',')[0])),
+    ).toEqual([400, 450, 500, 550, 600, 650, 700, 750, 800]);
   });
 
   it('search and tag filter pick materials by name, slug, tags and description', async () => {

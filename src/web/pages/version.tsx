@@ -135,7 +135,6 @@ function VersionView({ v, origin, actions }: { v: VersionDetail; origin: string;
           <code>sha256:{v.sha256}</code>
         </dd>
       </dl>
-      {actions}
 
       <h2>Pin it</h2>
       <p>
@@ -209,6 +208,13 @@ function VersionView({ v, origin, actions }: { v: VersionDetail; origin: string;
 
       <FitSection v={v} fit={fit} />
       <KkSection kk={kk} />
+      {actions && (
+        <>
+          <h2>Decide</h2>
+          <p>The checks above are what the decision rests on; every decision is kept in the audit log under your name.</p>
+          {actions}
+        </>
+      )}
     </>
   );
 }
