@@ -24,7 +24,7 @@ footer{max-width:1100px;margin:0 auto;padding:12px 24px 32px;color:var(--muted);
 h1{font-size:1.6rem;margin:.4em 0 .2em}h2{font-size:1.2rem;margin:1.6em 0 .5em;border-bottom:1px solid var(--line);padding-bottom:3px}
 caption{text-align:left}
 table{border-collapse:collapse;width:100%;font-size:.93rem}
-th,td{text-align:left;padding:5px 8px;border-bottom:1px solid var(--line);vertical-align:top}
+th,td{text-align:left;padding:5px 8px;border-bottom:1px solid var(--line);vertical-align:top;overflow-wrap:anywhere}
 th{background:var(--panel);font-weight:600}
 td.num,th.num{text-align:right;font-variant-numeric:tabular-nums}
 code,.mono{font-family:ui-monospace,"DejaVu Sans Mono",monospace;font-size:.9em;overflow-wrap:anywhere}
