@@ -71,7 +71,7 @@ export async function serveUntilSignal(
 
 export function register(program: Command): void {
   addDbOption(program.command('serve'))
-    .description('serve the registry over HTTP (the API under /api/v1; description at /api/v1/openapi.json)')
+    .description('serve the registry over HTTP: browser pages at /, the API under /api/v1 (description at /api/v1/openapi.json)')
     .option('--host <address>', 'address to listen on (use 0.0.0.0 only behind TLS)', DEFAULT_HOST)
     .option('--port <port>', 'TCP port (0 picks a free one)', String(DEFAULT_PORT))
     .option(
