@@ -24,7 +24,7 @@ export const COMMANDS: CommandEntry[] = [
   { name: 'convert', summary: 'rewrite a table in any accepted dialect as clean CSV or JSON', load: () => import('./convert.ts') },
   { name: 'fit', summary: 'fit a dispersion model to an n,k table (or compare several by AIC/BIC)', load: () => import('./fit.ts') },
   { name: 'kk', summary: 'Kramers-Kronig consistency of an n,k table (exit 3 if inconsistent)', load: () => import('./kk.ts') },
-  { name: 'serve', summary: 'serve the registry over HTTP (API under /api/v1)', load: () => import('./serve.ts') },
+  { name: 'serve', summary: 'serve the registry over HTTP (pages at /, API under /api/v1)', load: () => import('./serve.ts') },
   { name: 'token', summary: 'create, list and revoke bearer tokens for the HTTP API', load: () => import('./token.ts') },
   { name: 'settings', summary: 'show and change the registry and API settings', load: () => import('./settings.ts') },
   {
