@@ -1,8 +1,8 @@
 /** Materials: create, list, and the history of one (its versions and audit log). */
-import { asc, count, eq, getTableColumns, sql } from 'drizzle-orm';
+import { asc, count, eq } from 'drizzle-orm';
 import { ConflictError, InputError } from '../errors.ts';
 import type { Registry } from '../registry/open.ts';
-import { appendAudit, findMaterial, latestApprovedNumbers, materialRecord, nowIso, versionRecord, writeTransaction, type VersionRow } from '../registry/records.ts';
+import { appendAudit, findMaterial, latestApprovedNumbers, materialRecord, nowIso, versionRecord, versionSummaryRows, writeTransaction } from '../registry/records.ts';
 import { checkSlug, formatRef } from '../registry/refs.ts';
 import { auditLog, materials, materialVersions } from '../registry/schema.ts';
 import type { AuditEntry, MaterialRecord, VersionRecord, VersionStatus } from '../registry/types.ts';
@@ -176,39 +176,16 @@ export function versionStatusCounts(registry: Registry): Map<string, Record<Vers
   return counts;
 }
 
-/**
- * What a version's record needs of its content (has a table and its range, the model and its range, the KK
- * verdict), cut out by SQLite: listing a material's versions then never parses whole tables and KK reports in
- * JavaScript (for 50 versions of 300 rows, about 30 ms less per list on this machine: scripts/bench-web.ts).
- */
-const CONTENT_SUMMARY = sql<string>`json_object(
-  'table', CASE WHEN json_type(content, '$.table') = 'object'
-    THEN json_object('wavelengthNm', json_array(content ->> '$.table.wavelengthNm[0]', content ->> '$.table.wavelengthNm[#-1]'), 'n', json_array(), 'k', json_array()) END,
-  'fit', CASE WHEN json_type(content, '$.fit') = 'object'
-    THEN json_object('model', content ->> '$.fit.model', 'range_nm', content -> '$.fit.range_nm', 'parameters', json_object()) END,
-  'kk', CASE WHEN json_type(content, '$.kk') = 'object' THEN json_object('verdict', content ->> '$.kk.verdict') END)`;
-
-/** The version rows of a material, oldest first, with `content` cut down to CONTENT_SUMMARY (enough for versionRecord). */
-function versionRows(registry: Registry, materialId: number): VersionRow[] {
-  const { content: _content, ...columns } = getTableColumns(materialVersions);
-  return registry.db
-    .select({ ...columns, content: CONTENT_SUMMARY })
-    .from(materialVersions)
-    .where(eq(materialVersions.materialId, materialId))
-    .orderBy(asc(materialVersions.number))
-    .all();
-}
-
 /** One material with all its versions (oldest first). */
 export function getMaterial(registry: Registry, slug: string): { material: MaterialRecord; versions: VersionRecord[] } {
   const row = findMaterial(registry, checkSlug(slug));
-  return { material: materialRecord(registry, row), versions: versionRows(registry, row.id).map((v) => versionRecord(row.slug, v)) };
+  return { material: materialRecord(registry, row), versions: versionSummaryRows(registry, row.id).map((v) => versionRecord(row.slug, v)) };
 }
 
 /** A material's versions and its audit log, oldest first. */
 export function history(registry: Registry, slug: string): { material: MaterialRecord; versions: VersionRecord[]; audit: AuditEntry[] } {
   const row = findMaterial(registry, checkSlug(slug));
-  const rows = versionRows(registry, row.id);
+  const rows = versionSummaryRows(registry, row.id);
   const numberById = new Map(rows.map((v) => [v.id, v.number]));
   const audit = registry.db
     .select()

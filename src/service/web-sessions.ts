@@ -7,13 +7,13 @@
  * api_tokens). Each session has its own CSRF secret that state-changing forms must echo.
  */
 import { randomBytes, timingSafeEqual } from 'node:crypto';
-import { and, asc, eq, lt } from 'drizzle-orm';
+import { and, asc, eq, gt, isNull, lt } from 'drizzle-orm';
 import { InputError, NotFoundError } from '../errors.ts';
 import type { ImportOptions } from '../io/parse-table.ts';
 import { sha256Hex } from '../registry/canonical.ts';
 import type { Registry } from '../registry/open.ts';
 import { nowIso, writeTransaction } from '../registry/records.ts';
-import { webPendingUploads, webSessions } from '../registry/schema-auth.ts';
+import { apiTokens, webPendingUploads, webSessions } from '../registry/schema-auth.ts';
 import { authenticateToken, type Principal } from './tokens.ts';
 
 /** How long a session lasts from sign-in: a working day and a bit, then the token is pasted again. */
@@ -31,10 +31,6 @@ export interface WebSession {
   key: string;
   expiresAt: string;
 }
-
-const SESSION_SQL = `SELECT s.id_sha256 AS key, s.csrf, s.expires_at AS expiresAt, t.id AS tokenId, t.user, t.role
-  FROM web_sessions s JOIN api_tokens t ON t.id = s.token_id
-  WHERE s.id_sha256 = ? AND t.revoked_at IS NULL AND s.expires_at > ?`;
 
 /** Sign in: `token` must be a live API token. Returns the cookie secret (shown to the browser only) and the session. */
 export function startSession(registry: Registry, token: string): { secret: string; session: WebSession } {
@@ -60,9 +56,19 @@ export function startSession(registry: Registry, token: string): { secret: strin
 /** The live session a cookie secret stands for, or undefined (unknown, expired, signed out, token revoked). */
 export function findSession(registry: Registry, secret: string): WebSession | undefined {
   if (!/^[A-Za-z0-9_-]{43}$/.test(secret)) return undefined;
-  const row = registry.sqlite.prepare(SESSION_SQL).get(sha256Hex(secret), nowIso()) as
-    | { key: string; csrf: string; expiresAt: string; tokenId: string; user: string; role: Principal['role'] }
-    | undefined;
+  const row = registry.db
+    .select({
+      key: webSessions.idSha256,
+      csrf: webSessions.csrf,
+      expiresAt: webSessions.expiresAt,
+      tokenId: apiTokens.id,
+      user: apiTokens.user,
+      role: apiTokens.role,
+    })
+    .from(webSessions)
+    .innerJoin(apiTokens, eq(apiTokens.id, webSessions.tokenId))
+    .where(and(eq(webSessions.idSha256, sha256Hex(secret)), isNull(apiTokens.revokedAt), gt(webSessions.expiresAt, nowIso())))
+    .get();
   if (!row) return undefined;
   return { key: row.key, csrf: row.csrf, expiresAt: row.expiresAt, principal: { tokenId: row.tokenId, user: row.user, role: row.role } };
 }

@@ -1,6 +1,6 @@
 /**
- * Listing a material's versions reads only a summary of each content out of SQLite (materials.ts
- * CONTENT_SUMMARY); the records must equal those built from the whole parsed content.
+ * Listing a material's versions reads only a summary of each content out of SQLite (registry/records.ts
+ * versionSummaryRows); the records must equal those built from the whole parsed content.
  */
 import { afterAll, beforeAll, expect, it } from 'vitest';
 import { versionRecord, type VersionRow } from '../../src/registry/records.ts';
