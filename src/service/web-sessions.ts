@@ -3,18 +3,18 @@
  * presenting an API token once (src/service/tokens.ts decides who it stands for); the browser then
  * carries only a random session secret in a cookie. The registry keeps the secret's SHA-256, so sessions
  * are shared by every server on one registry file and a copied database hands out no working cookie.
- * A session ends at its expiry, on sign-out, or as soon as its token is revoked (every lookup joins
- * api_tokens). Each session has its own CSRF secret that state-changing forms must echo.
+ * A session ends at its expiry, on sign-out, or as soon as its token is revoked or expires (every lookup
+ * joins api_tokens). Each session has its own CSRF secret that state-changing forms must echo.
  */
 import { randomBytes, timingSafeEqual } from 'node:crypto';
-import { and, asc, eq, gt, isNull, lt } from 'drizzle-orm';
+import { and, asc, eq, gt, isNull, lt, or } from 'drizzle-orm';
 import { InputError, NotFoundError } from '../errors.ts';
 import type { ImportOptions } from '../io/parse-table.ts';
 import { sha256Hex } from '../registry/canonical.ts';
 import type { Registry } from '../registry/open.ts';
 import { nowIso, writeTransaction } from '../registry/records.ts';
 import { apiTokens, webPendingUploads, webSessions } from '../registry/schema-auth.ts';
-import { authenticateToken, type Principal } from './tokens.ts';
+import { authenticateToken, recordTokenUse, tokenExpired, type Principal } from './tokens.ts';
 
 /** How long a session lasts from sign-in: a working day and a bit, then the token is pasted again. */
 export const SESSION_HOURS = 12;
@@ -40,11 +40,18 @@ export function startSession(registry: Registry, token: string): { secret: strin
       option: 'token',
     });
   }
+  if (tokenExpired(principal)) {
+    throw new InputError('auth-token-expired', `that token expired at ${principal.expiresAt}: ask an administrator for a new one`, {}, 401, {
+      option: 'token',
+    });
+  }
   const secret = randomBytes(32).toString('base64url');
   const key = sha256Hex(secret);
   const csrf = randomBytes(24).toString('base64url');
   const now = new Date();
-  const expiresAt = new Date(now.getTime() + SESSION_HOURS * 3600_000).toISOString();
+  // A session never outlives its token.
+  const sessionEnd = new Date(now.getTime() + SESSION_HOURS * 3600_000).toISOString();
+  const expiresAt = principal.expiresAt !== null && principal.expiresAt < sessionEnd ? principal.expiresAt : sessionEnd;
   writeTransaction(registry, () => {
     // Expired sessions are removed here, so the table holds only live ones (and their pending uploads go with them).
     registry.db.delete(webSessions).where(lt(webSessions.expiresAt, now.toISOString())).run();
@@ -53,9 +60,10 @@ export function startSession(registry: Registry, token: string): { secret: strin
   return { secret, session: { principal, csrf, key, expiresAt } };
 }
 
-/** The live session a cookie secret stands for, or undefined (unknown, expired, signed out, token revoked). */
+/** The live session a cookie secret stands for, or undefined (unknown, expired, signed out, token revoked or expired). */
 export function findSession(registry: Registry, secret: string): WebSession | undefined {
   if (!/^[A-Za-z0-9_-]{43}$/.test(secret)) return undefined;
+  const now = nowIso();
   const row = registry.db
     .select({
       key: webSessions.idSha256,
@@ -64,13 +72,25 @@ export function findSession(registry: Registry, secret: string): WebSession | un
       tokenId: apiTokens.id,
       user: apiTokens.user,
       role: apiTokens.role,
+      tokenExpiresAt: apiTokens.expiresAt,
+      lastUsedAt: apiTokens.lastUsedAt,
     })
     .from(webSessions)
     .innerJoin(apiTokens, eq(apiTokens.id, webSessions.tokenId))
-    .where(and(eq(webSessions.idSha256, sha256Hex(secret)), isNull(apiTokens.revokedAt), gt(webSessions.expiresAt, nowIso())))
+    .where(
+      and(
+        eq(webSessions.idSha256, sha256Hex(secret)),
+        isNull(apiTokens.revokedAt),
+        gt(webSessions.expiresAt, now),
+        or(isNull(apiTokens.expiresAt), gt(apiTokens.expiresAt, now)),
+      ),
+    )
     .get();
   if (!row) return undefined;
-  return { key: row.key, csrf: row.csrf, expiresAt: row.expiresAt, principal: { tokenId: row.tokenId, user: row.user, role: row.role } };
+  const principal: Principal = { tokenId: row.tokenId, user: row.user, role: row.role, expiresAt: row.tokenExpiresAt, lastUsedAt: row.lastUsedAt };
+  // A page request is a use of the token, recorded as coarsely as the API records it.
+  recordTokenUse(registry, principal);
+  return { key: row.key, csrf: row.csrf, expiresAt: row.expiresAt, principal };
 }
 
 /** Sign out: the session row goes (and the uploads it held). */

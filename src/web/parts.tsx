@@ -4,9 +4,10 @@ import type { FitReport } from '../fit/types.ts';
 import type { KkReport } from '../kk/check.ts';
 import { checkSlug } from '../registry/refs.ts';
 import type { VersionDetail, VersionRecord } from '../registry/types.ts';
+import type { BlockingFinding, ReviewSummary } from '../service/review.ts';
 import { InputError } from '../errors.ts';
 import type { WebContext } from './context.ts';
-import { fmt, Head, Note, Notes, Plot, versionPath } from './layout.tsx';
+import { fmt, Head, Note, Notes, Plot, versionPath, When } from './layout.tsx';
 import { curveGrid, decimateTable, fitPlot, kkPlot, nkPlot } from './plots.ts';
 import { evaluateFitReport } from '../fit/fit.ts';
 
@@ -22,7 +23,18 @@ export function pathRef(c: WebContext): string {
 export const MAX_REASON = 2000;
 
 /** The lifecycle forms a version's status allows (an approver's view). */
-export function LifecycleForms({ version, csrf, back }: { version: Pick<VersionRecord, 'ref' | 'status'>; csrf: string; back: string }) {
+export function LifecycleForms({
+  version,
+  csrf,
+  back,
+  blocking = [],
+}: {
+  version: Pick<VersionRecord, 'ref' | 'status'>;
+  csrf: string;
+  back: string;
+  /** Review findings that need a reason before approval (service/review.ts); the form then asks for one. */
+  blocking?: BlockingFinding[];
+}) {
   const action = (verb: string) => `${versionPath(version.ref)}/${verb}`;
   const id = version.ref.replace(/[^A-Za-z0-9]/g, '-');
   const hidden = (
@@ -36,6 +48,17 @@ export function LifecycleForms({ version, csrf, back }: { version: Pick<VersionR
       <div class="actions">
         <form method="post" action={action('approve')}>
           {hidden}
+          {blocking.length > 0 && (
+            <>
+              {blocking.map((f) => (
+                <Note kind="bad">
+                  {f.message} [{f.rule}]
+                </Note>
+              ))}
+              <label for={`accept-${id}`}>Reason for approving despite these findings (required, kept in the audit log)</label>
+              <input type="text" id={`accept-${id}`} name="accept_warnings" required maxlength={MAX_REASON} />{' '}
+            </>
+          )}
           <button type="submit">Approve {version.ref}</button>
         </form>
         <form method="post" action={action('withdraw')}>
@@ -108,11 +131,11 @@ export function FitSection({ v, fit }: { v: Pick<VersionDetail, 'ref' | 'content
 }
 
 /** Parameters ± 1σ, statistics, correlation and fit warnings: the same report the CLI prints. */
-export function FitDetails({ fit }: { fit: FitReport }) {
+export function FitDetails({ fit, warnings = true }: { fit: FitReport; warnings?: boolean }) {
   const s = fit.statistics;
   return (
     <>
-      <Notes kind="warn" items={fit.warnings ?? []} />
+      {warnings && <Notes kind="warn" items={fit.warnings ?? []} />}
       <table>
         <caption>Fitted parameters (± 1σ standard error)</caption>
         <Head columns={['Parameter', 'Value#', '± 1σ#', 'Unit', 'Note']} />
@@ -160,6 +183,48 @@ export function KkSection({ kk }: { kk: KkReport | null }) {
         <span class="verdict">verdict {kk.verdict}.</span> {kk.summary}
       </Note>
       {plot && <Plot svg={plot} label="Measured n against the n reconstructed from k by Kramers-Kronig, and their difference" />}
+    </>
+  );
+}
+
+/** What a reviewer must see before deciding (service/review.ts `ReviewSummary`), in the service's words. */
+export function ReviewFindings({ review }: { review: ReviewSummary }) {
+  const kk = review.kk;
+  const kkKind = kk.verdict === 'consistent' ? 'good' : kk.verdict === 'inconsistent' ? 'bad' : 'warn';
+  const p = review.provenance;
+  return (
+    <>
+      <p>
+        By {p.created_by}, <When at={p.created_at} />. Sample {p.sample ?? 'not recorded'}; instrument {p.instrument ?? 'not recorded'}; method{' '}
+        {p.method ?? 'not recorded'}; measured {p.measured_on ?? 'on an unrecorded date'} by {p.operator ?? 'an unrecorded operator'}; source file{' '}
+        {p.source_file ?? 'not recorded'}.
+      </p>
+      <Note kind={kkKind}>
+        <span class="verdict">Kramers-Kronig verdict {kk.verdict}.</span> {kk.summary ?? 'No Kramers-Kronig check is stored with this version.'}
+      </Note>
+      {review.fit ? (
+        <>
+          <Note kind={review.fit.converged ? 'good' : 'bad'}>
+            the {review.fit.model} fit {review.fit.converged ? 'converged' : 'did not converge'}
+            {review.fit.iterations !== null && ` (${review.fit.iterations} iterations)`}; RMS n {fmt(review.fit.rms_n, 3)}, RMS k{' '}
+            {fmt(review.fit.rms_k, 3)}.
+          </Note>
+          {review.fit.diagnostics.map((d) => (
+            <Note kind="warn">
+              {d.message}
+              {d.advice && ` — ${d.advice}`}
+            </Note>
+          ))}
+        </>
+      ) : (
+        <Note kind="info">no model was fitted: the table is interpolated.</Note>
+      )}
+      {review.correlations.pairs.length > 0 && (
+        <Note kind="warn">
+          strongly correlated (|r| ≥ {review.correlations.threshold}):{' '}
+          {review.correlations.pairs.map((c) => `${c.a}/${c.b} r = ${fmt(c.r, 3)}`).join('; ')} — their separate values are poorly determined.
+        </Note>
+      )}
     </>
   );
 }

@@ -245,6 +245,43 @@ describe('forms are refused from other sites and without the session secret', ()
   });
 });
 
+describe('review findings that need a reason', () => {
+  it('a KK-inconsistent draft shows its finding and is approved only with a reason, which the audit log keeps', async () => {
+    const r = temp.registry;
+    const kk = { verdict: 'inconsistent', summary: 'invented for the test: n does not follow from k', tolerance: 0.005, rms_dn: 0.02, max_dn: 0.05 };
+    createMaterial(r, { slug: 'kk-bad', name: 'KK-inconsistent film' }, 'ada');
+    const { ref } = importVersion(r, { slug: 'kk-bad', table: cauchyTable(1.6), kk }, 'ada');
+    const ben = browserFor(app);
+    await signIn(ben, tokens.ben);
+    const review = (await get('/review', ben)).body;
+    expect(review).toContain('[kk-inconsistent]');
+    expect(review).toContain('name="accept_warnings"');
+    const path = `/materials/kk-bad/versions/${ref.split('@')[1]}/approve`;
+    const refused = await ben.post(path, { csrf: ben.csrf() });
+    expect(refused.status).toBeGreaterThanOrEqual(400);
+    expect(await refused.text()).toContain('approval-warnings-unaccepted');
+    expect(showVersion(r, ref).status).toBe('draft');
+    const ok = await ben.post(path, { csrf: ben.csrf(), accept_warnings: 'checked against the prism-coupler value at 633 nm' });
+    expect(ok.status).toBe(303);
+    expect(showVersion(r, ref).status).toBe('approved');
+    expect((await get('/materials/kk-bad')).body).toContain('checked against the prism-coupler value at 633 nm');
+  });
+
+  it('an expired token cannot sign in, and its sessions end when it expires', async () => {
+    const r = temp.registry;
+    const short = createToken(r, { user: 'eve', role: 'reader', createdBy: 'setup', expires: '1h' });
+    const b = browserFor(app);
+    expect((await signIn(b, short.token)).status).toBe(303);
+    expect((await get('/', b)).body).toContain('Signed in as <strong>eve</strong>');
+    r.sqlite.prepare('UPDATE api_tokens SET expires_at = ? WHERE id = ?').run('2000-01-01T00:00:00.000Z', short.id);
+    expect((await get('/', b)).body).not.toContain('Signed in as');
+    const again = browserFor(app);
+    const res = await signIn(again, short.token);
+    expect(res.status).toBe(401);
+    expect(await res.text()).toContain('auth-token-expired');
+  });
+});
+
 describe('upload with a preview', () => {
   it('reads the file, shows what was read, tries a fit, then stores a draft with provenance', async () => {
     const ada = browserFor(app);

@@ -269,7 +269,13 @@ function HistoryList({ audit }: { audit: AuditEntry[] }) {
   return (
     <ol class="history">
       {[...audit].reverse().map((e) => {
-        const reason = typeof e.detail.reason === 'string' ? e.detail.reason : null;
+        const accepted = e.detail.accepted_warnings as { reason?: unknown; findings?: unknown } | undefined;
+        const reason =
+          typeof e.detail.reason === 'string'
+            ? e.detail.reason
+            : typeof accepted?.reason === 'string'
+              ? `accepted ${Array.isArray(accepted.findings) ? accepted.findings.join(', ') : 'review findings'}: ${accepted.reason}`
+              : null;
         return (
           <li>
             <When at={e.at} /> — <strong>{e.actor}</strong>: {e.action}

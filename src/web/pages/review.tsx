@@ -6,30 +6,19 @@
  */
 import type { Hono } from 'hono';
 import type { FitReport } from '../../fit/types.ts';
-import type { KkReport } from '../../kk/check.ts';
-import type { VersionDetail, VersionRecord } from '../../registry/types.ts';
-import { sameUser } from '../../service/actor.ts';
 import { approve, retire, withdraw } from '../../service/lifecycle.ts';
-import { listMaterials, getMaterial } from '../../service/materials.ts';
+import { reviewQueue, type ReviewQueueEntry } from '../../service/review.ts';
 import { showVersion } from '../../service/versions.ts';
 import { InputError } from '../../errors.ts';
 import type { PageContext, WebEnv } from '../context.ts';
-import { fmt, Note, Notes, page, Status, versionPath, When } from '../layout.tsx';
+import { page, Status, versionPath } from '../layout.tsx';
 import { localPath, requireSession } from '../session.ts';
-import { FitDetails, LifecycleForms, MAX_REASON, pathRef } from '../parts.tsx';
-
-/** Drafts `user` may approve: not their own, unless the registry allows self-approval. */
-function reviewableDrafts(ctx: PageContext, user: string): VersionRecord[] {
-  const selfAllowed = ctx.currentSettings().allow_self_approval;
-  return listMaterials(ctx.registry)
-    .flatMap((m) => (m.versions > 0 ? getMaterial(ctx.registry, m.slug).versions : []))
-    .filter((v) => v.status === 'draft' && (selfAllowed || !sameUser(v.created_by, user)));
-}
+import { FitDetails, LifecycleForms, MAX_REASON, pathRef, ReviewFindings } from '../parts.tsx';
 
 export function registerReviewPages(app: Hono<WebEnv>, ctx: PageContext): void {
   app.get('/review', (c) => {
     const session = requireSession(c, 'approver');
-    const drafts = reviewableDrafts(ctx, session.principal.user).map((d) => showVersion(ctx.registry, d.ref));
+    const queue = reviewQueue(ctx.registry, { user: session.principal.user, role: session.principal.role });
     return c.html(
       page({
         title: 'Review',
@@ -39,12 +28,13 @@ export function registerReviewPages(app: Hono<WebEnv>, ctx: PageContext): void {
           <>
             <h1>Drafts waiting for review</h1>
             <p>
-              {drafts.length === 0
-                ? 'No draft is waiting for you: your own drafts need another approver.'
-                : `${drafts.length} draft(s) you may approve (your own drafts need another approver). Read the checks before deciding.`}
+              {queue.drafts.length === 0
+                ? 'No draft is waiting for you.'
+                : `${queue.drafts.length} draft(s) you may approve, oldest first. Read the checks before deciding.`}
+              {queue.own_drafts > 0 && ` ${queue.own_drafts} draft(s) of your own are left out: someone else must approve them.`}
             </p>
-            {drafts.map((v) => (
-              <ReviewItem v={v} csrf={session.csrf} />
+            {queue.drafts.map((entry) => (
+              <ReviewItem entry={entry} fit={showVersion(ctx.registry, entry.ref).content.fit as unknown as FitReport | null} csrf={session.csrf} />
             ))}
           </>
         ),
@@ -59,7 +49,8 @@ export function registerReviewPages(app: Hono<WebEnv>, ctx: PageContext): void {
       const form = await c.req.parseBody();
       const reason = typeof form.reason === 'string' ? form.reason.trim().slice(0, MAX_REASON) : '';
       const user = session.principal.user;
-      if (verb === 'approve') approve(ctx.registry, ref, user);
+      const accept = typeof form.accept_warnings === 'string' && form.accept_warnings.trim() ? form.accept_warnings.slice(0, MAX_REASON) : undefined;
+      if (verb === 'approve') approve(ctx.registry, ref, user, { acceptWarnings: accept });
       else if (verb === 'withdraw') withdraw(ctx.registry, ref, user, reason || undefined);
       else {
         if (!reason)
@@ -73,29 +64,17 @@ export function registerReviewPages(app: Hono<WebEnv>, ctx: PageContext): void {
   act('retire');
 }
 
-function ReviewItem({ v, csrf }: { v: VersionDetail; csrf: string }) {
-  const fit = v.content.fit as unknown as FitReport | null;
-  const kk = v.content.kk as unknown as KkReport | null;
-  const p = v.provenance;
-  const kkKind = kk?.verdict === 'consistent' ? 'good' : kk?.verdict === 'inconsistent' ? 'bad' : 'warn';
+function ReviewItem({ entry, fit, csrf }: { entry: ReviewQueueEntry; fit: FitReport | null; csrf: string }) {
+  const [slug, n] = entry.ref.split('@');
   return (
-    <section class="review-item" aria-labelledby={`h-${v.slug}-${v.version}`}>
-      <h2 id={`h-${v.slug}-${v.version}`}>
-        <a href={versionPath(v.ref)}>{v.ref}</a> <Status status={v.status} />
+    <section class="review-item" aria-labelledby={`h-${slug}-${n}`}>
+      <h2 id={`h-${slug}-${n}`}>
+        <a href={versionPath(entry.ref)}>{entry.ref}</a> <Status status={entry.status} />
+        {entry.self && ' (your own: self-approval is allowed on this registry)'}
       </h2>
-      <p>
-        By {v.created_by}, <When at={v.created_at} />. {v.model ? `${v.model} model` : 'table only'} over {fmt(v.range_nm[0])}–{fmt(v.range_nm[1])}{' '}
-        nm. Sample {p.sample ?? 'not recorded'}; instrument {p.instrument ?? 'not recorded'}; source file {p.source_file ?? 'not recorded'}.
-      </p>
-      {kk ? (
-        <Note kind={kkKind}>
-          <span class="verdict">Kramers-Kronig verdict {kk.verdict}.</span> {kk.summary}
-        </Note>
-      ) : (
-        <Note kind="warn">no Kramers-Kronig check is stored with this version.</Note>
-      )}
-      {fit ? <FitDetails fit={fit} /> : <Notes kind="info" items={['no model was fitted: the table is interpolated.']} />}
-      <LifecycleForms version={v} csrf={csrf} back="/review" />
+      <ReviewFindings review={entry} />
+      {fit && <FitDetails fit={fit} warnings={false} />}
+      <LifecycleForms version={entry} csrf={csrf} back="/review" blocking={entry.blocking} />
     </section>
   );
 }

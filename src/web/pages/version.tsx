@@ -8,6 +8,7 @@ import type { FitReport } from '../../fit/types.ts';
 import type { KkReport } from '../../kk/check.ts';
 import { PROVENANCE_FIELDS, type VersionDetail } from '../../registry/types.ts';
 import { exportVersion } from '../../service/export-version.ts';
+import { reviewVersion } from '../../service/review.ts';
 import { showVersion } from '../../service/versions.ts';
 import { roleAllows } from '../../service/tokens.ts';
 import type { PageContext, WebContext, WebEnv } from '../context.ts';
@@ -44,7 +45,16 @@ export function registerVersionPages(app: Hono<WebEnv>, ctx: PageContext): void 
           <VersionView
             v={v}
             origin={serverOrigin(c)}
-            actions={canAct && session ? <LifecycleForms version={v} csrf={session.csrf} back={versionPath(v.ref)} /> : null}
+            actions={
+              canAct && session ? (
+                <LifecycleForms
+                  version={v}
+                  csrf={session.csrf}
+                  back={versionPath(v.ref)}
+                  blocking={v.status === 'draft' ? reviewVersion(ctx.registry, v.ref).blocking : []}
+                />
+              ) : null
+            }
           />
         ),
       }),
