@@ -219,7 +219,8 @@ export function ReviewFindings({ review }: { review: ReviewSummary }) {
       ) : (
         <Note kind="info">no model was fitted: the table is interpolated.</Note>
       )}
-      {review.correlations.pairs.length > 0 && (
+      {/* The fit's own diagnostics usually already name the correlated pairs; say it once. */}
+      {review.correlations.pairs.length > 0 && !review.fit?.diagnostics.some((d) => d.rule.includes('correlat')) && (
         <Note kind="warn">
           strongly correlated (|r| ≥ {review.correlations.threshold}):{' '}
           {review.correlations.pairs.map((c) => `${c.a}/${c.b} r = ${fmt(c.r, 3)}`).join('; ')} — their separate values are poorly determined.
