@@ -69,6 +69,7 @@ describe('reading pages', () => {
     expect(missing.body).toContain('no material');
     expect((await get('/materials/film/versions/9')).res.status).toBe(404);
     expect((await get('/materials/film/versions/x')).res.status).toBe(404);
+    expect((await get('/compare')).body).toContain('<option value="film@2">'); // suggestions for the two fields
   });
 
   it('plots what a version holds: a table only, or a model only', async () => {

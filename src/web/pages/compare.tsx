@@ -3,6 +3,7 @@
 import type { Hono } from 'hono';
 import { diffVersions, type VersionDiff } from '../../service/diff.ts';
 import { renderDiffPlot } from '../../service/diff-plot.ts';
+import { listMaterials } from '../../service/materials.ts';
 import type { PageContext, WebEnv } from '../context.ts';
 import { fmt, Head, Note, Notes, page, Plot, Status, versionPath } from '../layout.tsx';
 import { decimatedRows } from '../plots.ts';
@@ -10,6 +11,8 @@ import { requireReader } from '../session.ts';
 
 /** Points of the comparison curves drawn (the summary uses every point of the service's grid). */
 const COMPARE_PLOT_POINTS = 500;
+/** Most version refs offered as suggestions in the compare fields. */
+const MAX_SUGGESTIONS = 2000;
 
 export function registerComparePage(app: Hono<WebEnv>, ctx: PageContext): void {
   app.get('/compare', (c) => {
@@ -17,6 +20,10 @@ export function registerComparePage(app: Hono<WebEnv>, ctx: PageContext): void {
     const a = (c.req.query('a') ?? '').trim().slice(0, 200);
     const b = (c.req.query('b') ?? '').trim().slice(0, 200);
     const diff = a && b ? diffVersions(ctx.registry, a, b) : null;
+    // Suggestions for the two fields: every version of every material, newest first (at most MAX_SUGGESTIONS).
+    const refs = listMaterials(ctx.registry)
+      .flatMap((m) => Array.from({ length: m.versions }, (_, i) => `${m.slug}@${m.versions - i}`))
+      .slice(0, MAX_SUGGESTIONS);
     return c.html(
       page({
         title: diff ? `${diff.a.ref} vs ${diff.b.ref}` : 'Compare',
@@ -28,16 +35,21 @@ export function registerComparePage(app: Hono<WebEnv>, ctx: PageContext): void {
             <form method="get" action="/compare" class="row">
               <div>
                 <label for="a">First version (a)</label>
-                <input type="text" id="a" name="a" value={a} required placeholder="sinx-pecvd@1" aria-describedby="ref-hint" />
+                <input type="text" id="a" name="a" value={a} required placeholder="sinx-pecvd@1" aria-describedby="ref-hint" list="version-refs" />
               </div>
               <div>
                 <label for="b">Second version (b)</label>
-                <input type="text" id="b" name="b" value={b} required placeholder="sinx-pecvd@2" aria-describedby="ref-hint" />
+                <input type="text" id="b" name="b" value={b} required placeholder="sinx-pecvd@2" aria-describedby="ref-hint" list="version-refs" />
               </div>
               <div>
                 <button type="submit">Compare</button>
               </div>
             </form>
+            <datalist id="version-refs">
+              {refs.map((r) => (
+                <option value={r} />
+              ))}
+            </datalist>
             <p class="hint" id="ref-hint">
               A version is written slug@N (or slug@sha256:PREFIX); the two may belong to different materials. Differences are b − a.
             </p>
