@@ -2,7 +2,16 @@
 import { asc, count, eq } from 'drizzle-orm';
 import { ConflictError, InputError } from '../errors.ts';
 import type { Registry } from '../registry/open.ts';
-import { appendAudit, findMaterial, latestApprovedNumbers, materialRecord, nowIso, versionRecord, versionSummaryRows, writeTransaction } from '../registry/records.ts';
+import {
+  appendAudit,
+  findMaterial,
+  latestApprovedNumbers,
+  materialRecord,
+  nowIso,
+  versionRecord,
+  versionSummaryRows,
+  writeTransaction,
+} from '../registry/records.ts';
 import { checkSlug, formatRef } from '../registry/refs.ts';
 import { auditLog, materials, materialVersions } from '../registry/schema.ts';
 import type { AuditEntry, MaterialRecord, VersionRecord, VersionStatus } from '../registry/types.ts';
