@@ -11,7 +11,7 @@ import { fitPsiDelta, screenStarts, type PsiDeltaParameter, type PsiDeltaWarning
 import { parsePsiDelta, type PsiDeltaData, type PsiDeltaImport, type PsiDeltaOptions } from '../io/parse-psi-delta.ts';
 import type { Registry } from '../registry/open.ts';
 import { buildModel } from '../models/catalogue.ts';
-import { solveStack, type StackMedium } from '../stack/transfer-matrix.ts';
+import { type PsiDeltaSetup, psiDeltaInto, psiDeltaSetup, type StackMedium } from '../stack/transfer-matrix.ts';
 import { locateField, parseStackDesign, type StackDesign } from './stack-design.ts';
 import { type ImportedVersion, importVersion } from './versions.ts';
 import { materialNk, type ResolveContext, type ResolvedDesign, type ResolvedMaterial, resolveStackDesign } from './stack.ts';
@@ -250,49 +250,55 @@ function groupsOf(data: PsiDeltaData): Groups {
   };
 }
 
-/** Ψ, Δ of a design at every measured point; materials unchanged since the last call come from `cache`. */
+/** What the model evaluations share: the n, k of materials (by object) and the per-angle engine setups (by ambient and substrate). */
+interface ModelCache {
+  nk: WeakMap<ResolvedMaterial, StackMedium>;
+  setups: WeakMap<StackMedium, WeakMap<StackMedium, PsiDeltaSetup[]>>;
+  /** Let a {"layer": N} source take layer N's n, k (the same material by construction) instead of evaluating it again. */
+  shareLayers: boolean;
+}
+
+const newCache = (shareLayers: boolean): ModelCache => ({ nk: new WeakMap(), setups: new WeakMap(), shareLayers });
+
+/** Ψ, Δ of a design at every measured point; materials and setups unchanged since the last call come from `cache`. */
 function modelPsiDelta(
   design: ResolvedDesign,
   groups: Groups,
   count: number,
   extrapolate: boolean,
-  cache: WeakMap<ResolvedMaterial, StackMedium>,
+  cache: ModelCache,
 ): { psiDeg: Float64Array; deltaDeg: Float64Array } {
-  const nk = (m: ResolvedMaterial) => {
-    let v = cache.get(m);
+  const nk = (m: ResolvedMaterial): StackMedium => {
+    if (cache.shareLayers && m.fromLayer !== undefined && design.layers[m.fromLayer - 1]?.material.fromLayer === undefined) {
+      return nk(design.layers[m.fromLayer - 1].material);
+    }
+    let v = cache.nk.get(m);
     if (!v) {
-      v = materialNk(m, groups.grid, extrapolate, 'measured wavelengths');
-      cache.set(m, v);
+      v = materialNk(m, groups.grid, extrapolate, 'measured wavelengths', nk);
+      cache.nk.set(m, v);
     }
     return v;
   };
   const ambient = nk(design.ambient);
-  if (Array.from(ambient.k).some((k) => k !== 0)) {
-    throw new InputError('stack-ambient-absorbing', 'the ambient must be lossless (k = 0)', { field: design.ambient.field });
+  let byAmbient = cache.setups.get(ambient);
+  if (!byAmbient) {
+    if (Array.from(ambient.k).some((k) => k !== 0)) {
+      throw new InputError('stack-ambient-absorbing', 'the ambient must be lossless (k = 0)', { field: design.ambient.field });
+    }
+    byAmbient = new WeakMap();
+    cache.setups.set(ambient, byAmbient);
   }
-  const layers = design.layers.map((l) => nk(l.material));
+  const layers = design.layers.map((l) => ({ ...nk(l.material), thicknessNm: l.thickness_nm }));
   const substrate = nk(design.substrate.material);
+  let setups = byAmbient.get(substrate);
+  if (!setups) {
+    setups = groups.angles.map((g) => psiDeltaSetup(g.wavelengthNm, g.gridIndex, ambient, substrate, g.angle));
+    byAmbient.set(substrate, setups);
+  }
   const psiDeg = new Float64Array(count);
   const deltaDeg = new Float64Array(count);
-  const whole = (g: Groups['angles'][number]) => g.gridIndex.length === groups.grid.length;
-  const pick = (m: StackMedium, g: Groups['angles'][number]): StackMedium =>
-    whole(g) ? m : { n: g.gridIndex.map((i) => m.n[i]), k: g.gridIndex.map((i) => m.k[i]) };
-  for (const g of groups.angles) {
-    const s = solveStack(
-      {
-        wavelengthNm: g.wavelengthNm,
-        ambient: pick(ambient, g),
-        layers: design.layers.map((l, i) => ({ ...pick(layers[i], g), thicknessNm: l.thickness_nm })),
-        substrate: pick(substrate, g),
-        // Ψ, Δ describe the front surface alone (the engine leaves the back surface out of them)
-      },
-      g.angle,
-    );
-    g.points.forEach((p, i) => {
-      psiDeg[p] = s.psiDeg[i];
-      deltaDeg[p] = s.deltaDeg[i];
-    });
-  }
+  // Ψ, Δ describe the front surface alone (the engine leaves the back surface out of them)
+  groups.angles.forEach((g, a) => psiDeltaInto(setups[a], layers, psiDeg, deltaDeg, g.points));
   return { psiDeg, deltaDeg };
 }
 
@@ -339,11 +345,12 @@ export function fitEllipsometry(
 ): EllipsometryReport {
   const groups = groupsOf(data);
   const count = data.wavelengthNm.length;
-  const cache = new WeakMap<ResolvedMaterial, StackMedium>();
+  const cache = newCache(true);
   const memo = newMemo();
   const start = Float64Array.from(sample.parameters, (p) => p.start);
-  // at the start values, refusals (a material not covering the data, an absorbing ambient) reach the user as they are
-  modelPsiDelta(designAt(sample, start), groups, count, options.extrapolate, cache);
+  // at the start values, refusals (a material not covering the data, an absorbing ambient) reach the user as they are,
+  // each material evaluated as itself so that a refusal names the role it has in the description
+  modelPsiDelta(designAt(sample, start), groups, count, options.extrapolate, newCache(false));
   let evaluations = 0;
   let phase: { phase: 'screening' | 'fit'; done: number; total: number } = { phase: 'screening', done: 0, total: 1 };
   const model = (q: Float64Array) => {

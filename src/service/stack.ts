@@ -12,13 +12,13 @@ import type { FitReport } from '../fit/types.ts';
 import { parseNkTable } from '../io/parse-table.ts';
 import { parseOptionNumber } from '../io/numbers.ts';
 import { buildModel } from '../models/catalogue.ts';
-import { epsFromNk, nkFromEps } from '../optics/permittivity.ts';
+import { nkFromEps } from '../optics/permittivity.ts';
 import { evaluateTable } from '../optics/table-eval.ts';
 import type { Registry } from '../registry/open.ts';
 import { usableRangeNm } from '../registry/records.ts';
 import { formatRef, parseRef } from '../registry/refs.ts';
 import type { VersionContent, VersionStatus } from '../registry/types.ts';
-import { mixPermittivity, type EmaRule } from '../stack/effective-medium.ts';
+import { bruggemanInto, mixPermittivity, type EmaRule } from '../stack/effective-medium.ts';
 import { colourOf, COLOUR_GRID_NM, type CieTables, type Colour } from '../stack/colour.ts';
 import { solveStack, type StackMedium, type StackSpectra } from '../stack/transfer-matrix.ts';
 import type { NkTable } from '../table.ts';
@@ -537,7 +537,17 @@ export interface StackReport {
 export class OutOfRange extends InputError {}
 
 /** n, k of a material on a grid, refusing wavelengths it does not cover (named with its range). */
-export function materialNk(m: ResolvedMaterial, wl: number[], extrapolate: boolean, purpose: string): StackMedium {
+/**
+ * n, k of a material on the grid `wl`. `partNk` gives the n, k of a mixture's parts (default: this function), so a caller
+ * that already has a part's n, k (the fitted film a roughness layer mixes with void) does not evaluate it again.
+ */
+export function materialNk(
+  m: ResolvedMaterial,
+  wl: number[],
+  extrapolate: boolean,
+  purpose: string,
+  partNk: (part: ResolvedMaterial) => StackMedium = (part) => materialNk(part, wl, extrapolate, purpose),
+): StackMedium {
   const size = wl.length;
   let n: number[], k: number[];
   const refuse = (range: [number, number], what: string, hint: string) => {
@@ -551,7 +561,7 @@ export function materialNk(m: ResolvedMaterial, wl: number[], extrapolate: boole
     }
   };
   if (m.mix) {
-    ({ n, k } = mixNk(m.mix, wl, extrapolate, purpose));
+    ({ n, k } = mixNk(m.mix, wl.length, partNk));
   } else if (m.constant) {
     n = new Array(size).fill(m.constant.n);
     k = new Array(size).fill(m.constant.k);
@@ -583,18 +593,31 @@ export function materialNk(m: ResolvedMaterial, wl: number[], extrapolate: boole
 }
 
 /** n, k of a mixture: each part on the grid, mixed as permittivities ε = (n + ik)², k ≥ 0 (see src/stack/effective-medium.ts). */
-function mixNk(mix: NonNullable<ResolvedMaterial['mix']>, wl: number[], extrapolate: boolean, purpose: string): { n: number[]; k: number[] } {
-  const [a, b] = mix.materials.map((p) => materialNk(p, wl, extrapolate, purpose));
-  const n: number[] = [],
-    k: number[] = [];
-  for (let i = 0; i < wl.length; i++) {
-    const ea = epsFromNk(a.n[i], a.k[i]);
-    const eb = epsFromNk(b.n[i], b.k[i]);
-    const e = mixPermittivity(mix.rule, { re: ea.eps1, im: ea.eps2 }, { re: eb.eps1, im: eb.eps2 }, mix.fraction);
+function mixNk(
+  mix: NonNullable<ResolvedMaterial['mix']>,
+  size: number,
+  partNk: (part: ResolvedMaterial) => StackMedium,
+): { n: number[]; k: number[] } {
+  const [a, b] = mix.materials.map(partNk);
+  const n: number[] = new Array(size),
+    k: number[] = new Array(size);
+  const e = new Float64Array(2);
+  for (let i = 0; i < size; i++) {
+    // ε = (n + ik)² = n² − k² + 2ink (src/optics/permittivity.ts)
+    const aRe = a.n[i] * a.n[i] - a.k[i] * a.k[i],
+      aIm = 2 * a.n[i] * a.k[i];
+    const bRe = b.n[i] * b.n[i] - b.k[i] * b.k[i],
+      bIm = 2 * b.n[i] * b.k[i];
+    if (mix.rule === 'bruggeman') bruggemanInto(aRe, aIm, bRe, bIm, mix.fraction, e);
+    else {
+      const m = mixPermittivity(mix.rule, { re: aRe, im: aIm }, { re: bRe, im: bIm }, mix.fraction);
+      e[0] = m.re;
+      e[1] = m.im;
+    }
     // A lossless mixture can come out with Im ε of rounding size below zero; that is k = 0, not a refusal.
-    const nk = nkFromEps(e.re, e.im < 0 && -e.im <= 1e-13 * Math.abs(e.re) ? 0 : e.im);
-    n.push(nk.n);
-    k.push(nk.k);
+    const nk = nkFromEps(e[0], e[1] < 0 && -e[1] <= 1e-13 * Math.abs(e[0]) ? 0 : e[1]);
+    n[i] = nk.n;
+    k[i] = nk.k;
   }
   return { n, k };
 }

@@ -26,18 +26,6 @@ function div(a: Complex, b: Complex): Complex {
   const d = b.re * b.re + b.im * b.im;
   return { re: (a.re * b.re + a.im * b.im) / d, im: (a.im * b.re - a.re * b.im) / d };
 }
-/** Principal complex square root (Re ≥ 0), written without cancellation. */
-function sqrt(a: Complex): Complex {
-  const m = Math.hypot(a.re, a.im);
-  if (m === 0) return { re: 0, im: 0 };
-  if (a.re >= 0) {
-    const re = Math.sqrt((m + a.re) / 2);
-    return { re, im: a.im / (2 * re) };
-  }
-  const im = Math.sqrt((m - a.re) / 2) * (a.im < 0 ? -1 : 1);
-  return { re: a.im / (2 * im), im };
-}
-
 /**
  * Maxwell Garnett: inclusions of permittivity `inclusion` at volume fraction f in `host` (Aspnes 1982):
  *   (ε − εh)/(ε + 2εh) = f (εi − εh)/(εi + 2εh)
@@ -60,13 +48,41 @@ export function maxwellGarnett(host: Complex, inclusion: Complex, f: number): Co
  * so the rule gives the pure material at both ends.
  */
 export function bruggeman(eps1: Complex, eps2: Complex, f: number): Complex {
-  const b = add(scale(eps1, 2 - 3 * f), scale(eps2, 3 * f - 1));
-  const root = sqrt(add(mul(b, b), scale(mul(eps1, eps2), 8)));
-  const plus = scale(add(b, root), 0.25);
-  const minus = scale(sub(b, root), 0.25);
-  const size = Math.max(Math.hypot(plus.re, plus.im), Math.hypot(minus.re, minus.im));
-  if (Math.abs(plus.im - minus.im) <= 1e-12 * size) return plus.re >= minus.re ? plus : minus;
-  return plus.im > minus.im ? plus : minus;
+  const out = new Float64Array(2);
+  bruggemanInto(eps1.re, eps1.im, eps2.re, eps2.im, f, out);
+  return { re: out[0], im: out[1] };
+}
+
+/** bruggeman() on plain numbers, the result (re, im) written into `out`: no allocation, for whole spectra. */
+export function bruggemanInto(aRe: number, aIm: number, bRe: number, bIm: number, f: number, out: Float64Array): void {
+  // b = (2 − 3f)ε1 + (3f − 1)ε2; root = √(b² + 8ε1ε2)
+  const wa = 2 - 3 * f,
+    wb = 3 * f - 1;
+  const sRe = wa * aRe + wb * bRe,
+    sIm = wa * aIm + wb * bIm;
+  const zRe = sRe * sRe - sIm * sIm + 8 * (aRe * bRe - aIm * bIm),
+    zIm = 2 * sRe * sIm + 8 * (aRe * bIm + aIm * bRe);
+  // principal √ (Re ≥ 0) written without cancellation (Numerical Recipes §5.4)
+  const m = Math.sqrt(zRe * zRe + zIm * zIm);
+  let rRe = 0,
+    rIm = 0;
+  if (m !== 0) {
+    if (zRe >= 0) {
+      rRe = Math.sqrt((m + zRe) / 2);
+      rIm = zIm / (2 * rRe);
+    } else {
+      rIm = Math.sqrt((m - zRe) / 2) * (zIm < 0 ? -1 : 1);
+      rRe = zIm / (2 * rIm);
+    }
+  }
+  const pRe = 0.25 * (sRe + rRe),
+    pIm = 0.25 * (sIm + rIm);
+  const mRe = 0.25 * (sRe - rRe),
+    mIm = 0.25 * (sIm - rIm);
+  const size = Math.sqrt(Math.max(pRe * pRe + pIm * pIm, mRe * mRe + mIm * mIm));
+  const plus = Math.abs(pIm - mIm) <= 1e-12 * size ? pRe >= mRe : pIm > mIm;
+  out[0] = plus ? pRe : mRe;
+  out[1] = plus ? pIm : mIm;
 }
 
 /** The mixture of two permittivities by `rule`, the second at volume fraction f (for Maxwell Garnett the first is the host). */

@@ -328,3 +328,196 @@ function applyLayer(v: Float64Array, cdRe: number, cdIm: number, sdRe: number, s
   v[2] = gRe * bRe - gIm * bIm + cdRe * cRe - cdIm * cIm;
   v[3] = gRe * bIm + gIm * bRe + cdRe * cIm + cdIm * cRe;
 }
+
+/**
+ * What a Ψ/Δ evaluation needs that does not depend on the layers: per measured point of one angle, the wavelength, the
+ * invariant a² = (n₀ sin θ₀)², the ambient's admittances η₀s = n₀cosθ₀, η₀p = n₀/cosθ₀ and the substrate's η_s = q_s,
+ * η_p = N_s²/q_s (the same formulas as solveStack). Built once per angle and reused by every fit evaluation.
+ */
+export interface PsiDeltaSetup {
+  count: number;
+  wavelengthNm: Float64Array;
+  /** Index into the layers' n, k grid per point (the media are given on a wavelength grid shared by the angles). */
+  gridIndex: Int32Array;
+  a2: Float64Array;
+  eta0s: Float64Array;
+  eta0p: Float64Array;
+  subSRe: Float64Array;
+  subSIm: Float64Array;
+  subPRe: Float64Array;
+  subPIm: Float64Array;
+}
+
+/**
+ * The parameter-independent part of psiDeltaInto for one angle: `wavelengthNm` per point, `gridIndex` its index into
+ * the grid on which ambient, substrate and (later) the layers give n, k. Throws RangeError as solveStack does.
+ */
+export function psiDeltaSetup(
+  wavelengthNm: ArrayLike<number>,
+  gridIndex: ArrayLike<number>,
+  ambient: StackMedium,
+  substrate: StackMedium,
+  angleDeg: number,
+): PsiDeltaSetup {
+  if (!(angleDeg >= 0 && angleDeg < 90)) throw new RangeError(`angle of incidence must be in [0, 90) degrees, got ${angleDeg}`);
+  const count = wavelengthNm.length;
+  if (gridIndex.length !== count) throw new RangeError('one grid index per point');
+  const sinT = Math.sin(angleDeg * DEG);
+  const cosT = Math.cos(angleDeg * DEG);
+  const s: PsiDeltaSetup = {
+    count,
+    wavelengthNm: Float64Array.from(wavelengthNm),
+    gridIndex: Int32Array.from(gridIndex),
+    a2: new Float64Array(count),
+    eta0s: new Float64Array(count),
+    eta0p: new Float64Array(count),
+    subSRe: new Float64Array(count),
+    subSIm: new Float64Array(count),
+    subPRe: new Float64Array(count),
+    subPIm: new Float64Array(count),
+  };
+  const root = new Float64Array(2);
+  for (let i = 0; i < count; i++) {
+    const g = s.gridIndex[i];
+    if (!(g >= 0 && g < ambient.n.length && g < substrate.n.length)) throw new RangeError('grid index outside the media');
+    if (ambient.k[g] !== 0) throw new RangeError('the ambient medium must be lossless (k = 0)');
+    const n0 = ambient.n[g];
+    const a = n0 * sinT;
+    s.a2[i] = a * a;
+    const q0 = n0 * cosT;
+    s.eta0s[i] = q0;
+    s.eta0p[i] = (n0 * n0) / q0;
+    const ns = substrate.n[g],
+      ks = -substrate.k[g];
+    const n2Re = ns * ns - ks * ks,
+      n2Im = 2 * ns * ks;
+    physicalSqrtInto(n2Re - s.a2[i], n2Im, root);
+    const qq = root[0] * root[0] + root[1] * root[1];
+    s.subSRe[i] = root[0];
+    s.subSIm[i] = root[1];
+    s.subPRe[i] = (n2Re * root[0] + n2Im * root[1]) / qq;
+    s.subPIm[i] = (n2Im * root[0] - n2Re * root[1]) / qq;
+  }
+  return s;
+}
+
+/**
+ * Ψ and Δ only (degrees, Δ in [0, 360)) of the layers on a prepared angle: the coherent front-surface part of
+ * solveStack, with the same formulas and conventions (Azzam & Bashara's rp = −r_p of Macleod), on plain numbers:
+ * both polarisations go through each layer's characteristic matrix together and nothing is allocated per point.
+ * Layers give n, k on the setup's grid. Point i is written at out index `at[i]` (i when absent).
+ */
+export function psiDeltaInto(setup: PsiDeltaSetup, layers: StackLayer[], psiDeg: Float64Array, deltaDeg: Float64Array, at?: ArrayLike<number>): void {
+  const { count, wavelengthNm: wl, gridIndex, a2, eta0s, eta0p, subSRe, subSIm, subPRe, subPIm } = setup;
+  const L = layers.length;
+  const root = new Float64Array(2);
+  for (let i = 0; i < count; i++) {
+    const g = gridIndex[i];
+    // [B; C] per polarisation, from the substrate: [1; η_sub]
+    let bsRe = 1,
+      bsIm = 0,
+      csRe = subSRe[i],
+      csIm = subSIm[i];
+    let bpRe = 1,
+      bpIm = 0,
+      cpRe = subPRe[i],
+      cpIm = subPIm[i];
+    const phase = (2 * Math.PI) / wl[i];
+    for (let j = L - 1; j >= 0; j--) {
+      const layer = layers[j];
+      const n = layer.n[g],
+        k = -layer.k[g]; // N = n − ik
+      const n2Re = n * n - k * k,
+        n2Im = 2 * n * k;
+      physicalSqrtInto(n2Re - a2[i], n2Im, root);
+      const qRe = root[0],
+        qIm = root[1];
+      const f = phase * layer.thicknessNm;
+      const dRe = f * qRe,
+        dIm = f * qIm;
+      let ch = 1,
+        sh = 0; // see solveStack: lossless layers need no exponential, opaque ones are capped
+      if (dIm !== 0) {
+        const ex = Math.exp(Math.max(-MAX_DECAY, Math.min(MAX_DECAY, dIm))),
+          exi = 1 / ex;
+        ch = 0.5 * (ex + exi);
+        sh = 0.5 * (ex - exi);
+      }
+      const cr = Math.cos(dRe),
+        sr = Math.sin(dRe);
+      const cdRe = cr * ch,
+        cdIm = -sr * sh;
+      // i sin δ
+      const isRe = -cr * sh,
+        isIm = sr * ch;
+      // s: η = q; i sin δ / q and i q sin δ
+      const qq = qRe * qRe + qIm * qIm;
+      const asRe = (isRe * qRe + isIm * qIm) / qq,
+        asIm = (isIm * qRe - isRe * qIm) / qq;
+      const gsRe = isRe * qRe - isIm * qIm,
+        gsIm = isRe * qIm + isIm * qRe;
+      // p: η = N²/q; i sin δ / η and iη sin δ
+      const epRe = (n2Re * qRe + n2Im * qIm) / qq,
+        epIm = (n2Im * qRe - n2Re * qIm) / qq;
+      const ee = epRe * epRe + epIm * epIm;
+      const apRe = (isRe * epRe + isIm * epIm) / ee,
+        apIm = (isIm * epRe - isRe * epIm) / ee;
+      const gpRe = isRe * epRe - isIm * epIm,
+        gpIm = isRe * epIm + isIm * epRe;
+      let t0 = cdRe * bsRe - cdIm * bsIm + asRe * csRe - asIm * csIm;
+      let t1 = cdRe * bsIm + cdIm * bsRe + asRe * csIm + asIm * csRe;
+      let t2 = gsRe * bsRe - gsIm * bsIm + cdRe * csRe - cdIm * csIm;
+      let t3 = gsRe * bsIm + gsIm * bsRe + cdRe * csIm + cdIm * csRe;
+      // rescale as solveStack does (several opaque layers); Ψ, Δ depend only on ratios
+      if (Math.abs(t0) + Math.abs(t1) + Math.abs(t2) + Math.abs(t3) >= BIG) {
+        t0 /= BIG;
+        t1 /= BIG;
+        t2 /= BIG;
+        t3 /= BIG;
+      }
+      bsRe = t0;
+      bsIm = t1;
+      csRe = t2;
+      csIm = t3;
+      t0 = cdRe * bpRe - cdIm * bpIm + apRe * cpRe - apIm * cpIm;
+      t1 = cdRe * bpIm + cdIm * bpRe + apRe * cpIm + apIm * cpRe;
+      t2 = gpRe * bpRe - gpIm * bpIm + cdRe * cpRe - cdIm * cpIm;
+      t3 = gpRe * bpIm + gpIm * bpRe + cdRe * cpIm + cdIm * cpRe;
+      if (Math.abs(t0) + Math.abs(t1) + Math.abs(t2) + Math.abs(t3) >= BIG) {
+        t0 /= BIG;
+        t1 /= BIG;
+        t2 /= BIG;
+        t3 /= BIG;
+      }
+      bpRe = t0;
+      bpIm = t1;
+      cpRe = t2;
+      cpIm = t3;
+    }
+    // r = (η0B − C)/(η0B + C), η0 real
+    const es = eta0s[i],
+      ep = eta0p[i];
+    let numRe = es * bsRe - csRe,
+      numIm = es * bsIm - csIm;
+    let denRe = es * bsRe + csRe,
+      denIm = es * bsIm + csIm;
+    let den2 = denRe * denRe + denIm * denIm;
+    const rsRe = (numRe * denRe + numIm * denIm) / den2,
+      rsIm = (numIm * denRe - numRe * denIm) / den2;
+    numRe = ep * bpRe - cpRe;
+    numIm = ep * bpIm - cpIm;
+    denRe = ep * bpRe + cpRe;
+    denIm = ep * bpIm + cpIm;
+    den2 = denRe * denRe + denIm * denIm;
+    // Azzam & Bashara's rp = −r_p(Macleod)
+    const rpRe = -(numRe * denRe + numIm * denIm) / den2,
+      rpIm = -(numIm * denRe - numRe * denIm) / den2;
+    const o = at ? at[i] : i;
+    // ρ = rp/rs = tan Ψ e^{iΔ}; √ instead of Math.hypot (several times slower in V8; no overflow at optical magnitudes)
+    psiDeg[o] = Math.atan2(Math.sqrt(rpRe * rpRe + rpIm * rpIm), Math.sqrt(rsRe * rsRe + rsIm * rsIm)) / DEG;
+    let delta = Math.atan2(rpIm * rsRe - rpRe * rsIm, rpRe * rsRe + rpIm * rsIm) / DEG;
+    if (delta < 0) delta += 360;
+    if (delta >= 360) delta -= 360;
+    deltaDeg[o] = delta;
+  }
+}
