@@ -11,7 +11,7 @@ import { fitPsiDelta, screenStarts, type PsiDeltaParameter, type PsiDeltaWarning
 import { parsePsiDelta, type PsiDeltaData, type PsiDeltaImport, type PsiDeltaOptions } from '../io/parse-psi-delta.ts';
 import type { Registry } from '../registry/open.ts';
 import { buildModel } from '../models/catalogue.ts';
-import { type PsiDeltaSetup, psiDeltaInto, psiDeltaSetup, type StackMedium } from '../stack/transfer-matrix.ts';
+import { type PreparedLayer, prepareLayer, type PsiDeltaSetup, psiDeltaInto, psiDeltaSetup, type StackMedium } from '../stack/transfer-matrix.ts';
 import { locateField, parseStackDesign, type StackDesign } from './stack-design.ts';
 import { type ImportedVersion, importVersion } from './versions.ts';
 import { materialNk, type ResolveContext, type ResolvedDesign, type ResolvedMaterial, resolveStackDesign } from './stack.ts';
@@ -254,11 +254,13 @@ function groupsOf(data: PsiDeltaData): Groups {
 interface ModelCache {
   nk: WeakMap<ResolvedMaterial, StackMedium>;
   setups: WeakMap<StackMedium, WeakMap<StackMedium, PsiDeltaSetup[]>>;
+  /** A layer medium prepared per angle (q, admittances), for the setups it was prepared on. */
+  prepared: WeakMap<StackMedium, { setups: PsiDeltaSetup[]; layers: PreparedLayer[] }>;
   /** Let a {"layer": N} source take layer N's n, k (the same material by construction) instead of evaluating it again. */
   shareLayers: boolean;
 }
 
-const newCache = (shareLayers: boolean): ModelCache => ({ nk: new WeakMap(), setups: new WeakMap(), shareLayers });
+const newCache = (shareLayers: boolean): ModelCache => ({ nk: new WeakMap(), setups: new WeakMap(), prepared: new WeakMap(), shareLayers });
 
 /** Ψ, Δ of a design at every measured point; materials and setups unchanged since the last call come from `cache`. */
 function modelPsiDelta(
@@ -288,17 +290,28 @@ function modelPsiDelta(
     byAmbient = new WeakMap();
     cache.setups.set(ambient, byAmbient);
   }
-  const layers = design.layers.map((l) => ({ ...nk(l.material), thicknessNm: l.thickness_nm }));
+  const media = design.layers.map((l) => nk(l.material));
   const substrate = nk(design.substrate.material);
   let setups = byAmbient.get(substrate);
   if (!setups) {
     setups = groups.angles.map((g) => psiDeltaSetup(g.wavelengthNm, g.gridIndex, ambient, substrate, g.angle));
     byAmbient.set(substrate, setups);
   }
+  const prepared = media.map((m) => {
+    let p = cache.prepared.get(m);
+    if (p?.setups !== setups) {
+      p = { setups: setups!, layers: setups!.map((s) => prepareLayer(s, m)) };
+      cache.prepared.set(m, p);
+    }
+    return p.layers;
+  });
   const psiDeg = new Float64Array(count);
   const deltaDeg = new Float64Array(count);
   // Ψ, Δ describe the front surface alone (the engine leaves the back surface out of them)
-  groups.angles.forEach((g, a) => psiDeltaInto(setups[a], layers, psiDeg, deltaDeg, g.points));
+  groups.angles.forEach((g, a) => {
+    const layers = design.layers.map((l, j) => ({ prepared: prepared[j][a], thicknessNm: l.thickness_nm }));
+    psiDeltaInto(setups[a], layers, psiDeg, deltaDeg, g.points);
+  });
   return { psiDeg, deltaDeg };
 }
 

@@ -402,17 +402,79 @@ export function psiDeltaSetup(
 }
 
 /**
- * Ψ and Δ only (degrees, Δ in [0, 360)) of the layers on a prepared angle: the coherent front-surface part of
- * solveStack, with the same formulas and conventions (Azzam & Bashara's rp = −r_p of Macleod), on plain numbers:
- * both polarisations go through each layer's characteristic matrix together and nothing is allocated per point.
- * Layers give n, k on the setup's grid. Point i is written at out index `at[i]` (i when absent).
+ * What does not depend on a layer's thickness, per point of a prepared angle: q = N cos θ = √(N² − a²) on the physical
+ * branch, the admittances η_s = q and η_p = N²/q and their inverses (as in solveStack). Built once per material and
+ * angle, so a thickness step of the fit costs only the phases and the matrix products.
  */
-export function psiDeltaInto(setup: PsiDeltaSetup, layers: StackLayer[], psiDeg: Float64Array, deltaDeg: Float64Array, at?: ArrayLike<number>): void {
-  const { count, wavelengthNm: wl, gridIndex, a2, eta0s, eta0p, subSRe, subSIm, subPRe, subPIm } = setup;
-  const L = layers.length;
+export interface PreparedLayer {
+  qRe: Float64Array;
+  qIm: Float64Array;
+  /** 1/η_s = 1/q */
+  iqRe: Float64Array;
+  iqIm: Float64Array;
+  /** η_p = N²/q */
+  epRe: Float64Array;
+  epIm: Float64Array;
+  /** 1/η_p = q/N² */
+  iepRe: Float64Array;
+  iepIm: Float64Array;
+}
+
+/** A layer's n, k (on the setup's grid) prepared for psiDeltaInto at the setup's angle. */
+export function prepareLayer(setup: PsiDeltaSetup, medium: StackMedium): PreparedLayer {
+  const { count, gridIndex, a2 } = setup;
+  const arrays = () => new Float64Array(count);
+  const p: PreparedLayer = {
+    qRe: arrays(),
+    qIm: arrays(),
+    iqRe: arrays(),
+    iqIm: arrays(),
+    epRe: arrays(),
+    epIm: arrays(),
+    iepRe: arrays(),
+    iepIm: arrays(),
+  };
   const root = new Float64Array(2);
   for (let i = 0; i < count; i++) {
     const g = gridIndex[i];
+    if (!(g < medium.n.length && g < medium.k.length)) throw new RangeError('every medium needs n and k on the whole wavelength grid');
+    const n = medium.n[g],
+      k = -medium.k[g]; // N = n − ik
+    const n2Re = n * n - k * k,
+      n2Im = 2 * n * k;
+    physicalSqrtInto(n2Re - a2[i], n2Im, root);
+    const qRe = root[0],
+      qIm = root[1];
+    const qq = qRe * qRe + qIm * qIm;
+    const n2n2 = n2Re * n2Re + n2Im * n2Im;
+    p.qRe[i] = qRe;
+    p.qIm[i] = qIm;
+    p.iqRe[i] = qRe / qq;
+    p.iqIm[i] = -qIm / qq;
+    p.epRe[i] = (n2Re * qRe + n2Im * qIm) / qq;
+    p.epIm[i] = (n2Im * qRe - n2Re * qIm) / qq;
+    p.iepRe[i] = (qRe * n2Re + qIm * n2Im) / n2n2;
+    p.iepIm[i] = (qIm * n2Re - qRe * n2Im) / n2n2;
+  }
+  return p;
+}
+
+/**
+ * Ψ and Δ only (degrees, Δ in [0, 360)) of prepared layers (from the ambient side) on a prepared angle: the coherent
+ * front-surface part of solveStack, with the same formulas and conventions (Azzam & Bashara's rp = −r_p of Macleod),
+ * on plain numbers: both polarisations go through each layer's characteristic matrix together and nothing is
+ * allocated per point. Point i is written at out index `at[i]` (i when absent).
+ */
+export function psiDeltaInto(
+  setup: PsiDeltaSetup,
+  layers: Array<{ prepared: PreparedLayer; thicknessNm: number }>,
+  psiDeg: Float64Array,
+  deltaDeg: Float64Array,
+  at?: ArrayLike<number>,
+): void {
+  const { count, wavelengthNm: wl, eta0s, eta0p, subSRe, subSIm, subPRe, subPIm } = setup;
+  const L = layers.length;
+  for (let i = 0; i < count; i++) {
     // [B; C] per polarisation, from the substrate: [1; η_sub]
     let bsRe = 1,
       bsIm = 0,
@@ -424,15 +486,11 @@ export function psiDeltaInto(setup: PsiDeltaSetup, layers: StackLayer[], psiDeg:
       cpIm = subPIm[i];
     const phase = (2 * Math.PI) / wl[i];
     for (let j = L - 1; j >= 0; j--) {
-      const layer = layers[j];
-      const n = layer.n[g],
-        k = -layer.k[g]; // N = n − ik
-      const n2Re = n * n - k * k,
-        n2Im = 2 * n * k;
-      physicalSqrtInto(n2Re - a2[i], n2Im, root);
-      const qRe = root[0],
-        qIm = root[1];
-      const f = phase * layer.thicknessNm;
+      const { prepared: p, thicknessNm } = layers[j];
+      const qRe = p.qRe[i],
+        qIm = p.qIm[i];
+      // δ = 2π q d / λ
+      const f = phase * thicknessNm;
       const dRe = f * qRe,
         dIm = f * qIm;
       let ch = 1,
@@ -450,20 +508,21 @@ export function psiDeltaInto(setup: PsiDeltaSetup, layers: StackLayer[], psiDeg:
       // i sin δ
       const isRe = -cr * sh,
         isIm = sr * ch;
-      // s: η = q; i sin δ / q and i q sin δ
-      const qq = qRe * qRe + qIm * qIm;
-      const asRe = (isRe * qRe + isIm * qIm) / qq,
-        asIm = (isIm * qRe - isRe * qIm) / qq;
+      // characteristic matrix [[cos δ, i sin δ/η], [iη sin δ, cos δ]] per polarisation
+      let e = p.iqRe[i],
+        ei = p.iqIm[i];
+      const asRe = isRe * e - isIm * ei,
+        asIm = isRe * ei + isIm * e;
       const gsRe = isRe * qRe - isIm * qIm,
         gsIm = isRe * qIm + isIm * qRe;
-      // p: η = N²/q; i sin δ / η and iη sin δ
-      const epRe = (n2Re * qRe + n2Im * qIm) / qq,
-        epIm = (n2Im * qRe - n2Re * qIm) / qq;
-      const ee = epRe * epRe + epIm * epIm;
-      const apRe = (isRe * epRe + isIm * epIm) / ee,
-        apIm = (isIm * epRe - isRe * epIm) / ee;
-      const gpRe = isRe * epRe - isIm * epIm,
-        gpIm = isRe * epIm + isIm * epRe;
+      e = p.iepRe[i];
+      ei = p.iepIm[i];
+      const apRe = isRe * e - isIm * ei,
+        apIm = isRe * ei + isIm * e;
+      e = p.epRe[i];
+      ei = p.epIm[i];
+      const gpRe = isRe * e - isIm * ei,
+        gpIm = isRe * ei + isIm * e;
       let t0 = cdRe * bsRe - cdIm * bsIm + asRe * csRe - asIm * csIm;
       let t1 = cdRe * bsIm + cdIm * bsRe + asRe * csIm + asIm * csRe;
       let t2 = gsRe * bsRe - gsIm * bsIm + cdRe * csRe - cdIm * csIm;

@@ -1,12 +1,12 @@
 /**
- * The engine's Ψ/Δ-only path (psiDeltaSetup + psiDeltaInto, used by the ellipsometry fit) against the same independent
+ * The engine's Ψ/Δ-only path (psiDeltaSetup, prepareLayer and psiDeltaInto, used by the ellipsometry fit) against the same independent
  * numpy fixture as solveStack (scripts/stack_numpy.py, numpy 2.4.6, written by scripts/make-stack-reference.py):
  * multilayer, absorbing, incoherent-substrate (Ψ, Δ of the front surface) and frustrated-TIR cases, with the points
  * read through a grid index and written through an output index as the fit does.
  */
 import { readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
-import { psiDeltaInto, psiDeltaSetup } from '../../src/stack/transfer-matrix.ts';
+import { prepareLayer, psiDeltaInto, psiDeltaSetup } from '../../src/stack/transfer-matrix.ts';
 
 interface Medium {
   n: number[];
@@ -40,7 +40,7 @@ describe(`Ψ/Δ path of the stack engine against ${fixture.source}`, () => {
         );
         const psi = new Float64Array(wl.length);
         const delta = new Float64Array(wl.length);
-        const layers = c.layers.map((l) => ({ n: l.n, k: l.k, thicknessNm: l.thickness_nm }));
+        const layers = c.layers.map((l) => ({ prepared: prepareLayer(setup, l), thicknessNm: l.thickness_nm }));
         psiDeltaInto(setup, layers, psi, delta, grid); // written back in grid order
         for (let i = 0; i < wl.length; i++) {
           expect(Math.abs(psi[i] - ref.psi_deg[i])).toBeLessThan(1e-8);
