@@ -406,34 +406,15 @@ export function psiDeltaSetup(
  * branch, the admittances η_s = q and η_p = N²/q and their inverses (as in solveStack). Built once per material and
  * angle, so a thickness step of the fit costs only the phases and the matrix products.
  */
-export interface PreparedLayer {
-  qRe: Float64Array;
-  qIm: Float64Array;
-  /** 1/η_s = 1/q */
-  iqRe: Float64Array;
-  iqIm: Float64Array;
-  /** η_p = N²/q */
-  epRe: Float64Array;
-  epIm: Float64Array;
-  /** 1/η_p = q/N² */
-  iepRe: Float64Array;
-  iepIm: Float64Array;
-}
+export type PreparedLayer = Float64Array;
+
+/** Entries per point in a PreparedLayer: q, 1/q, η_p, 1/η_p as (re, im) pairs, interleaved (one allocation per layer). */
+const PREPARED = 8;
 
 /** A layer's n, k (on the setup's grid) prepared for psiDeltaInto at the setup's angle. */
 export function prepareLayer(setup: PsiDeltaSetup, medium: StackMedium): PreparedLayer {
   const { count, gridIndex, a2 } = setup;
-  const arrays = () => new Float64Array(count);
-  const p: PreparedLayer = {
-    qRe: arrays(),
-    qIm: arrays(),
-    iqRe: arrays(),
-    iqIm: arrays(),
-    epRe: arrays(),
-    epIm: arrays(),
-    iepRe: arrays(),
-    iepIm: arrays(),
-  };
+  const p = new Float64Array(PREPARED * count);
   const root = new Float64Array(2);
   for (let i = 0; i < count; i++) {
     const g = gridIndex[i];
@@ -447,14 +428,15 @@ export function prepareLayer(setup: PsiDeltaSetup, medium: StackMedium): Prepare
       qIm = root[1];
     const qq = qRe * qRe + qIm * qIm;
     const n2n2 = n2Re * n2Re + n2Im * n2Im;
-    p.qRe[i] = qRe;
-    p.qIm[i] = qIm;
-    p.iqRe[i] = qRe / qq;
-    p.iqIm[i] = -qIm / qq;
-    p.epRe[i] = (n2Re * qRe + n2Im * qIm) / qq;
-    p.epIm[i] = (n2Im * qRe - n2Re * qIm) / qq;
-    p.iepRe[i] = (qRe * n2Re + qIm * n2Im) / n2n2;
-    p.iepIm[i] = (qIm * n2Re - qRe * n2Im) / n2n2;
+    const o = PREPARED * i;
+    p[o] = qRe;
+    p[o + 1] = qIm;
+    p[o + 2] = qRe / qq; // 1/q
+    p[o + 3] = -qIm / qq;
+    p[o + 4] = (n2Re * qRe + n2Im * qIm) / qq; // η_p = N²/q
+    p[o + 5] = (n2Im * qRe - n2Re * qIm) / qq;
+    p[o + 6] = (qRe * n2Re + qIm * n2Im) / n2n2; // 1/η_p = q/N²
+    p[o + 7] = (qIm * n2Re - qRe * n2Im) / n2n2;
   }
   return p;
 }
@@ -487,8 +469,9 @@ export function psiDeltaInto(
     const phase = (2 * Math.PI) / wl[i];
     for (let j = L - 1; j >= 0; j--) {
       const { prepared: p, thicknessNm } = layers[j];
-      const qRe = p.qRe[i],
-        qIm = p.qIm[i];
+      const o = PREPARED * i;
+      const qRe = p[o],
+        qIm = p[o + 1];
       // δ = 2π q d / λ
       const f = phase * thicknessNm;
       const dRe = f * qRe,
@@ -509,18 +492,18 @@ export function psiDeltaInto(
       const isRe = -cr * sh,
         isIm = sr * ch;
       // characteristic matrix [[cos δ, i sin δ/η], [iη sin δ, cos δ]] per polarisation
-      let e = p.iqRe[i],
-        ei = p.iqIm[i];
+      let e = p[o + 2],
+        ei = p[o + 3];
       const asRe = isRe * e - isIm * ei,
         asIm = isRe * ei + isIm * e;
       const gsRe = isRe * qRe - isIm * qIm,
         gsIm = isRe * qIm + isIm * qRe;
-      e = p.iepRe[i];
-      ei = p.iepIm[i];
+      e = p[o + 6];
+      ei = p[o + 7];
       const apRe = isRe * e - isIm * ei,
         apIm = isRe * ei + isIm * e;
-      e = p.epRe[i];
-      ei = p.epIm[i];
+      e = p[o + 4];
+      ei = p[o + 5];
       const gpRe = isRe * e - isIm * ei,
         gpIm = isRe * ei + isIm * e;
       let t0 = cdRe * bsRe - cdIm * bsIm + asRe * csRe - asIm * csIm;
