@@ -549,7 +549,8 @@ export function materialNk(
   partNk: (part: ResolvedMaterial) => StackMedium = (part) => materialNk(part, wl, extrapolate, purpose),
 ): StackMedium {
   const size = wl.length;
-  let n: number[], k: number[];
+  let n: ArrayLike<number>, k: ArrayLike<number>;
+  let fresh = false; // n, k are new arrays of this call, no copy needed
   const refuse = (range: [number, number], what: string, hint: string) => {
     const outside = wl.find((w) => w < range[0] * (1 - 1e-12) || w > range[1] * (1 + 1e-12));
     if (outside !== undefined) {
@@ -562,6 +563,7 @@ export function materialNk(
   };
   if (m.mix) {
     ({ n, k } = mixNk(m.mix, wl.length, partNk));
+    fresh = true;
   } else if (m.constant) {
     n = new Array(size).fill(m.constant.n);
     k = new Array(size).fill(m.constant.k);
@@ -589,7 +591,7 @@ export function materialNk(
       );
     }
   }
-  return { n: Float64Array.from(n), k: Float64Array.from(k) };
+  return fresh ? { n, k } : { n: Float64Array.from(n), k: Float64Array.from(k) };
 }
 
 /** n, k of a mixture: each part on the grid, mixed as permittivities ε = (n + ik)², k ≥ 0 (see src/stack/effective-medium.ts). */
@@ -597,10 +599,10 @@ function mixNk(
   mix: NonNullable<ResolvedMaterial['mix']>,
   size: number,
   partNk: (part: ResolvedMaterial) => StackMedium,
-): { n: number[]; k: number[] } {
+): StackMedium & { n: Float64Array; k: Float64Array } {
   const [a, b] = mix.materials.map(partNk);
-  const n: number[] = new Array(size),
-    k: number[] = new Array(size);
+  const n = new Float64Array(size),
+    k = new Float64Array(size);
   const e = new Float64Array(2);
   for (let i = 0; i < size; i++) {
     // ε = (n + ik)² = n² − k² + 2ink (src/optics/permittivity.ts)
