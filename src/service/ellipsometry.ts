@@ -255,7 +255,7 @@ interface ModelCache {
   nk: WeakMap<ResolvedMaterial, StackMedium>;
   setups: WeakMap<StackMedium, WeakMap<StackMedium, PsiDeltaSetup[]>>;
   /** A layer medium prepared per angle (q, admittances), for the setups it was prepared on. */
-  prepared: WeakMap<StackMedium, { setups: PsiDeltaSetup[]; layers: PreparedLayer[] }>;
+  prepared: WeakMap<StackMedium, { setups: PsiDeltaSetup[]; layers: PreparedLayer[] | null }>;
   /** Let a {"layer": N} source take layer N's n, k (the same material by construction) instead of evaluating it again. */
   shareLayers: boolean;
 }
@@ -297,19 +297,21 @@ function modelPsiDelta(
     setups = groups.angles.map((g) => psiDeltaSetup(g.wavelengthNm, g.gridIndex, ambient, substrate, g.angle));
     byAmbient.set(substrate, setups);
   }
+  // A medium is prepared (q, admittances per angle) the second time it is used: most are used once (a trial point, a
+  // dispersion column of the Jacobian), while a thickness step reuses its layers' media.
   const prepared = media.map((m) => {
     let p = cache.prepared.get(m);
     if (p?.setups !== setups) {
-      p = { setups: setups!, layers: setups!.map((s) => prepareLayer(s, m)) };
+      p = { setups: setups!, layers: null };
       cache.prepared.set(m, p);
-    }
+    } else if (!p.layers) p.layers = setups!.map((s) => prepareLayer(s, m));
     return p.layers;
   });
   const psiDeg = new Float64Array(count);
   const deltaDeg = new Float64Array(count);
   // Ψ, Δ describe the front surface alone (the engine leaves the back surface out of them)
   groups.angles.forEach((g, a) => {
-    const layers = design.layers.map((l, j) => ({ prepared: prepared[j][a], thicknessNm: l.thickness_nm }));
+    const layers = design.layers.map((l, j) => ({ prepared: prepared[j]?.[a], medium: media[j], thicknessNm: l.thickness_nm }));
     psiDeltaInto(setups[a], layers, psiDeg, deltaDeg, g.points);
   });
   return { psiDeg, deltaDeg };

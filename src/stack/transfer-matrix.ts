@@ -419,43 +419,54 @@ export function prepareLayer(setup: PsiDeltaSetup, medium: StackMedium): Prepare
   for (let i = 0; i < count; i++) {
     const g = gridIndex[i];
     if (!(g < medium.n.length && g < medium.k.length)) throw new RangeError('every medium needs n and k on the whole wavelength grid');
-    const n = medium.n[g],
-      k = -medium.k[g]; // N = n − ik
-    const n2Re = n * n - k * k,
-      n2Im = 2 * n * k;
-    physicalSqrtInto(n2Re - a2[i], n2Im, root);
-    const qRe = root[0],
-      qIm = root[1];
-    const qq = qRe * qRe + qIm * qIm;
-    const n2n2 = n2Re * n2Re + n2Im * n2Im;
-    const o = PREPARED * i;
-    p[o] = qRe;
-    p[o + 1] = qIm;
-    p[o + 2] = qRe / qq; // 1/q
-    p[o + 3] = -qIm / qq;
-    p[o + 4] = (n2Re * qRe + n2Im * qIm) / qq; // η_p = N²/q
-    p[o + 5] = (n2Im * qRe - n2Re * qIm) / qq;
-    p[o + 6] = (qRe * n2Re + qIm * n2Im) / n2n2; // 1/η_p = q/N²
-    p[o + 7] = (qIm * n2Re - qRe * n2Im) / n2n2;
+    layerPoint(medium.n[g], medium.k[g], a2[i], p, PREPARED * i, root);
   }
   return p;
+}
+
+/** One point of a PreparedLayer, written into `out` at `o`: q, 1/q, η_p = N²/q, 1/η_p = q/N² for N = n − ik. */
+function layerPoint(n: number, kPositive: number, a2: number, out: Float64Array, o: number, root: Float64Array): void {
+  const k = -kPositive; // N = n − ik
+  const n2Re = n * n - k * k,
+    n2Im = 2 * n * k;
+  physicalSqrtInto(n2Re - a2, n2Im, root);
+  const qRe = root[0],
+    qIm = root[1];
+  const qq = qRe * qRe + qIm * qIm;
+  const n2n2 = n2Re * n2Re + n2Im * n2Im;
+  out[o] = qRe;
+  out[o + 1] = qIm;
+  out[o + 2] = qRe / qq;
+  out[o + 3] = -qIm / qq;
+  out[o + 4] = (n2Re * qRe + n2Im * qIm) / qq;
+  out[o + 5] = (n2Im * qRe - n2Re * qIm) / qq;
+  out[o + 6] = (qRe * n2Re + qIm * n2Im) / n2n2;
+  out[o + 7] = (qIm * n2Re - qRe * n2Im) / n2n2;
 }
 
 /**
  * Ψ and Δ only (degrees, Δ in [0, 360)) of prepared layers (from the ambient side) on a prepared angle: the coherent
  * front-surface part of solveStack, with the same formulas and conventions (Azzam & Bashara's rp = −r_p of Macleod),
  * on plain numbers: both polarisations go through each layer's characteristic matrix together and nothing is
- * allocated per point. Point i is written at out index `at[i]` (i when absent).
+ * allocated per point. A layer without `prepared` is prepared point by point on the way (a medium used once need not
+ * be kept). Point i is written at out index `at[i]` (i when absent).
  */
 export function psiDeltaInto(
   setup: PsiDeltaSetup,
-  layers: Array<{ prepared: PreparedLayer; thicknessNm: number }>,
+  layers: Array<{ prepared?: PreparedLayer; medium: StackMedium; thicknessNm: number }>,
   psiDeg: Float64Array,
   deltaDeg: Float64Array,
   at?: ArrayLike<number>,
 ): void {
-  const { count, wavelengthNm: wl, eta0s, eta0p, subSRe, subSIm, subPRe, subPIm } = setup;
+  const { count, wavelengthNm: wl, gridIndex, a2, eta0s, eta0p, subSRe, subSIm, subPRe, subPIm } = setup;
   const L = layers.length;
+  for (const l of layers) {
+    if (!l.prepared && (l.medium.n.length <= maxOf(gridIndex) || l.medium.k.length <= maxOf(gridIndex))) {
+      throw new RangeError('every medium needs n and k on the whole wavelength grid');
+    }
+  }
+  const scratch = new Float64Array(PREPARED);
+  const root = new Float64Array(2);
   for (let i = 0; i < count; i++) {
     // [B; C] per polarisation, from the substrate: [1; η_sub]
     let bsRe = 1,
@@ -468,8 +479,13 @@ export function psiDeltaInto(
       cpIm = subPIm[i];
     const phase = (2 * Math.PI) / wl[i];
     for (let j = L - 1; j >= 0; j--) {
-      const { prepared: p, thicknessNm } = layers[j];
-      const o = PREPARED * i;
+      const { prepared, medium, thicknessNm } = layers[j];
+      let p: PreparedLayer = scratch,
+        o = 0;
+      if (prepared) {
+        p = prepared;
+        o = PREPARED * i;
+      } else layerPoint(medium.n[gridIndex[i]], medium.k[gridIndex[i]], a2[i], scratch, 0, root);
       const qRe = p[o],
         qIm = p[o + 1];
       // δ = 2π q d / λ
@@ -562,4 +578,10 @@ export function psiDeltaInto(
     if (delta >= 360) delta -= 360;
     deltaDeg[o] = delta;
   }
+}
+
+function maxOf(v: Int32Array): number {
+  let m = -1;
+  for (let i = 0; i < v.length; i++) if (v[i] > m) m = v[i];
+  return m;
 }

@@ -40,8 +40,20 @@ describe(`Ψ/Δ path of the stack engine against ${fixture.source}`, () => {
         );
         const psi = new Float64Array(wl.length);
         const delta = new Float64Array(wl.length);
-        const layers = c.layers.map((l) => ({ prepared: prepareLayer(setup, l), thicknessNm: l.thickness_nm }));
+        const layers = c.layers.map((l) => ({ prepared: prepareLayer(setup, l), medium: l, thicknessNm: l.thickness_nm }));
         psiDeltaInto(setup, layers, psi, delta, grid); // written back in grid order
+        const psiOnTheWay = new Float64Array(wl.length);
+        const deltaOnTheWay = new Float64Array(wl.length);
+        // the same layers prepared point by point on the way: the same numbers
+        psiDeltaInto(
+          setup,
+          layers.map(({ medium, thicknessNm }) => ({ medium, thicknessNm })),
+          psiOnTheWay,
+          deltaOnTheWay,
+          grid,
+        );
+        expect(Array.from(psiOnTheWay)).toEqual(Array.from(psi));
+        expect(Array.from(deltaOnTheWay)).toEqual(Array.from(delta));
         for (let i = 0; i < wl.length; i++) {
           expect(Math.abs(psi[i] - ref.psi_deg[i])).toBeLessThan(1e-8);
           expect(angleGap(delta[i], ref.delta_deg[i])).toBeLessThan(1e-8);
