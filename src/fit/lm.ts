@@ -30,6 +30,8 @@ export interface LmResult {
   converged: boolean;
   /** Whitened Jacobian columns of the free parameters at `values` (for the covariance). */
   jacobian: Float64Array[];
+  /** Whitened residuals at `values`. */
+  r: Float64Array;
   /** The parameters that were free in the end (minimizeWithBounds leaves out those held at a bound). */
   free: number[];
   /** Parameters held at a bound at the optimum (the gradient pushes them outward), full parameter order. */
@@ -386,7 +388,7 @@ export function minimize(
   }
   // no decrease over several restarts with χ² down at rounding level (noise-free data): that is the minimum
   if (!converged && stalls >= 4 && chi2 <= 1e-16 * chi2Start) converged = true;
-  return { values: p, chi2, iterations, converged, jacobian, free, atBound: [] };
+  return { values: p, chi2, iterations, converged, jacobian, r, free, atBound: [] };
 }
 
 /**
@@ -416,7 +418,8 @@ export function minimizeWithBounds(
     result = minimize(residuals, p, movable, bounds, Math.max(1, maxIterations - iterations), nonFinite);
     iterations += result.iterations;
     p = result.values;
-    const { r, jacobian } = residuals(p, free, true);
+    // residuals and Jacobian at p: minimize's own when it had every free parameter (the first round, or none held)
+    const { r, jacobian } = movable.length === free.length ? result : residuals(p, free, true);
     let changed = false;
     let release = -1;
     let pull = 0;
@@ -456,6 +459,7 @@ export function minimizeWithBounds(
     iterations,
     converged: final.converged,
     jacobian,
+    r,
     free: movable,
     atBound: free.filter((i) => held.has(i)),
   };
