@@ -10,7 +10,73 @@
  *   proxy (`server-not-nkledger`), a route the server does not have (`server-wrong-url`).
  * - A 503 with Retry-After from a busy server (its compute threads full) is retried a bounded number of times.
  */
+import { type IncomingMessage, request as httpRequest } from 'node:http';
+import { request as httpsRequest } from 'node:https';
 import { EnvironmentError, FIELD_WORDING, InputError, formatLocation, type Remedy } from '../errors.ts';
+
+/**
+ * A server's answer: the few parts of the Fetch API's Response the client uses. Requests go through node:http
+ * rather than fetch: in a fresh process Node 20's fetch cost about 200 ms more than node:http for one request
+ * (`npx tsx scripts/bench-server-mode.ts`), which is most of a server-mode command's budget.
+ */
+export interface ServerAnswer {
+  readonly ok: boolean;
+  readonly status: number;
+  readonly headers: { get(name: string): string | null };
+  /** The body as it arrives (backups stream it into a file). */
+  readonly body: AsyncIterable<Uint8Array>;
+  text(): Promise<string>;
+}
+
+/**
+ * The body's chunks. A connection that breaks or ends before the whole answer arrived is an error without an
+ * errno code, so a caller writing the body to a file can tell it from a failed write.
+ */
+async function* chunksOf(res: IncomingMessage): AsyncGenerator<Uint8Array> {
+  try {
+    for await (const chunk of res) yield chunk as Buffer;
+  } catch (err) {
+    if ((err as Error).name === 'AbortError') throw err;
+    throw new Error(`the connection broke: ${(err as Error).message}`);
+  }
+  if (!res.complete) throw new Error('the answer ended early');
+}
+
+function answerOf(res: IncomingMessage): ServerAnswer {
+  const status = res.statusCode ?? 0;
+  return {
+    ok: status >= 200 && status < 300,
+    status,
+    headers: {
+      get: (name) => {
+        const value = res.headers[name.toLowerCase()];
+        return value === undefined ? null : Array.isArray(value) ? value.join(', ') : String(value);
+      },
+    },
+    body: chunksOf(res),
+    async text() {
+      const chunks: Uint8Array[] = [];
+      for await (const chunk of this.body) chunks.push(chunk);
+      return Buffer.concat(chunks).toString('utf8');
+    },
+  };
+}
+
+/** One HTTP exchange; redirects are not followed (a redirect is reported as not an nkledger answer). */
+function exchange(
+  target: URL,
+  method: string,
+  headers: Record<string, string>,
+  body: Uint8Array | string | undefined,
+  signal: AbortSignal,
+): Promise<ServerAnswer> {
+  return new Promise((resolve, reject) => {
+    const send = target.protocol === 'https:' ? httpsRequest : httpRequest;
+    const req = send(target, { method, headers, signal }, (res) => resolve(answerOf(res)));
+    req.on('error', reject);
+    req.end(body);
+  });
+}
 
 export interface ServerClientOptions {
   /** Bearer token (NKLEDGER_TOKEN or the credentials file); none for anonymous reads. */
@@ -82,7 +148,7 @@ export class ServerClient {
   }
 
   /** The answer as a Response, once it is known to be a success (2xx) from an nkledger server. */
-  async request(method: string, path: string, options: RequestOptions = {}): Promise<Response> {
+  async request(method: string, path: string, options: RequestOptions = {}): Promise<ServerAnswer> {
     for (let attempt = 0; ; attempt++) {
       const response = await this.send(method, path, options);
       if (response.ok) {
@@ -100,25 +166,31 @@ export class ServerClient {
     }
   }
 
-  private async send(method: string, path: string, options: RequestOptions): Promise<Response> {
+  private async send(method: string, path: string, options: RequestOptions): Promise<ServerAnswer> {
     const target = new URL(`${this.url}/api/v1${path}`);
     for (const [k, v] of Object.entries(options.query ?? {})) if (v !== undefined) target.searchParams.set(k, v);
     const headers: Record<string, string> = { accept: options.accept ?? 'application/json' };
     if (this.options.token !== undefined) headers.authorization = `Bearer ${this.options.token}`;
-    let body = options.body;
+    let body: Uint8Array | string | undefined;
     if (options.json !== undefined) {
       headers['content-type'] = 'application/json';
       body = JSON.stringify(options.json);
+    } else if (options.body !== undefined) {
+      // A multipart form: the Fetch API's Response encodes it and names its boundary.
+      const encoded = new Response(options.body);
+      const type = encoded.headers.get('content-type');
+      if (type) headers['content-type'] = type;
+      body = new Uint8Array(await encoded.arrayBuffer());
     }
     try {
-      return await fetch(target, { method, headers, body, signal: AbortSignal.timeout(this.options.timeoutMs), redirect: 'manual' });
+      return await exchange(target, method, headers, body, AbortSignal.timeout(this.options.timeoutMs));
     } catch (err) {
       throw this.transportError(err);
     }
   }
 
   /** Read a body within the time limit (a server may stall after the headers). */
-  async readBody(response: Response, method: string, path: string): Promise<string> {
+  async readBody(response: ServerAnswer, method: string, path: string): Promise<string> {
     try {
       return await response.text();
     } catch (err) {
@@ -149,7 +221,7 @@ export class ServerClient {
     return new EnvironmentError('server-unreachable', `cannot reach ${where}: ${reason}`);
   }
 
-  private notNkledger(response: Response, method: string, path: string): EnvironmentError {
+  private notNkledger(response: ServerAnswer, method: string, path: string): EnvironmentError {
     const type = (response.headers.get('content-type') ?? 'no content type').split(';')[0];
     const what = type === 'text/html' ? 'an HTML page' : type;
     return new EnvironmentError(
@@ -159,7 +231,7 @@ export class ServerClient {
   }
 
   /** The problem document of a failed answer, or an EnvironmentError when it is not one. */
-  private async problemOf(response: Response, method: string, path: string): Promise<ProblemFields> {
+  private async problemOf(response: ServerAnswer, method: string, path: string): Promise<ProblemFields> {
     const type = response.headers.get('content-type') ?? '';
     const text = await this.readBody(response, method, path);
     if (!type.startsWith('application/problem+json')) throw this.notNkledger(response, method, path);
