@@ -106,6 +106,10 @@ describe('POST /api/v1/stack', () => {
     expect(await res.json()).toMatchObject({ rule: 'design-format', field: 'layers.0.thickness_nm' });
     const q = await h.request('/api/v1/stack?at=550&colour=yes', { ...json(bareGlass), as: 'reader' });
     expect((await q.json()).rule).toBe('invalid-query');
+    // A field given twice is refused, as on every other route (not silently the first value).
+    const twice = await h.request('/api/v1/stack?at=550&at=650', { ...json(bareGlass), as: 'reader' });
+    expect(twice.status).toBe(400);
+    expect((await twice.json()).rule).toBe('query-duplicate');
   });
 
   it('answers the plot as SVG when Accept asks for image/svg+xml', async () => {

@@ -16,7 +16,7 @@ import { renderStackPlot } from '../../service/stack-plot.ts';
 import type { ApiEnv } from '../auth.ts';
 import type { RouteContext } from '../context.ts';
 import { HttpProblem } from '../problem.ts';
-import { parseInput, readJson } from '../validate.ts';
+import { parseInput, readJson, readQuery } from '../validate.ts';
 import { AUTH_ERRORS, BUSY, problem, type Operation } from '../operations.ts';
 import { LOCKFILE } from './locks.ts';
 
@@ -123,7 +123,7 @@ const BODY = '<request body>';
 
 export function registerStackRoute(app: Hono<ApiEnv>, ctx: RouteContext): void {
   app.post('/api/v1/stack', ctx.requireRole('reader'), async (c) => {
-    const q = parseInput(stackQuery, c.req.query(), 'query', 400);
+    const q = parseInput(stackQuery, readQuery(c.req.url), 'query', 400);
     const accept = c.req.header('accept') ?? '';
     const svg = /image\/svg\+xml/.test(accept) && !/application\/json/.test(accept);
     const body = await readJson(c.req);
