@@ -192,8 +192,12 @@ async function downloadBackup(client: ServerClient, file: string): Promise<{ pat
   let out: Awaited<ReturnType<typeof open>> | undefined;
   try {
     out = await open(partial, 'wx');
-    if (!response.body) throw new Error('empty answer');
-    for await (const chunk of response.body as unknown as AsyncIterable<Uint8Array>) await out.write(chunk);
+    let bytes = 0;
+    for await (const chunk of response.body) {
+      bytes += chunk.length;
+      await out.write(chunk);
+    }
+    if (bytes === 0) throw new Error('empty answer');
     await out.sync();
     await out.close();
     out = undefined;
