@@ -6,6 +6,9 @@
 -- RAISE(ABORT) as SQLITE_CONSTRAINT_TRIGGER). `verify` still recomputes every hash, which catches edits made
 -- after someone drops or disables these triggers.
 --
+-- No rows to seed: SQLite's migrations insert none into a new registry (0003 only carried over a table that
+-- never exists here); the chain's genesis event is appended by nkledger when it opens the registry.
+--
 -- Only PostgreSQL has TRUNCATE, which skips row-level DELETE triggers: the *_no_truncate triggers refuse it
 -- with the message of the matching *_no_delete trigger.
 --
