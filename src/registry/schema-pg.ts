@@ -20,10 +20,13 @@
  * `SELECT nkledger_write_lock()` (migration 0001_immutability.sql): a transaction-scoped advisory lock on one
  * fixed key, held until COMMIT or ROLLBACK, so writers from any number of servers queue exactly as on SQLite.
  * That single lock also keeps the audit hash chain linear (each event links to the head it read) and makes
- * "read the state, decide, write" race-free under READ COMMITTED. The database defends itself as well, should
- * a writer skip the lock: the unique index (material_id, number) refuses a duplicate number,
- * `materials_identity_immutable` refuses a `last_version` that goes down, and the unique index on
- * `audit_log.prev_hash` refuses a fork of the chain.
+ * "read the state, decide, write" race-free. Writers must run at READ COMMITTED (PostgreSQL's default), where each
+ * statement after the lock sees every earlier writer's commit; under REPEATABLE READ or SERIALIZABLE the snapshot
+ * would be taken by the lock's own SELECT, before the wait, and the writer would read a stale `last_version`.
+ * (Readers that want one consistent view, such as `verify`, use REPEATABLE READ, READ ONLY.)
+ * The database defends itself as well, should a writer skip the lock: the unique index (material_id, number)
+ * refuses a duplicate number, `materials_identity_immutable` refuses a `last_version` that goes down, and the
+ * unique index on `audit_log.prev_hash` refuses a fork of the chain.
  */
 import { sql } from 'drizzle-orm';
 import { boolean, check, customType, index, integer, pgTable, text, uniqueIndex } from 'drizzle-orm/pg-core';
