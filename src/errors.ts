@@ -1,11 +1,12 @@
 /**
  * Errors that reach a user. Every refusal of input is a value with a place:
  * the file, the 1-based line and column (as an editor shows them) and the rule broken.
- * The CLI maps these to exit code 2, the HTTP API to an RFC 9457 problem document.
+ * The CLI maps these to exit code 2, the API to an RFC 9457 problem document. The errors carry no answer
+ * code of any protocol: each front door decides it from the class and the rule.
  */
 
 export interface InputLocation {
-  /** File name as the user gave it ("-" or "<stdin>" for standard input, "<upload>" for HTTP). */
+  /** File name as the user gave it ("-" or "<stdin>" for standard input, "<upload>" for an upload). */
   file?: string;
   /** 1-based line number. */
   line?: number;
@@ -51,23 +52,20 @@ export interface InputErrorFields {
   extensions?: Record<string, unknown>;
 }
 
-/** A refusal of user input: bad file, bad flag, bad reference. Maps to exit code 2 / HTTP 4xx. */
+/** A refusal of user input: bad file, bad flag, bad reference. Maps to exit code 2. */
 export class InputError extends Error {
   readonly rule: string;
   readonly location: InputLocation;
-  /** HTTP status an API should answer with (400 bad request by default). */
-  readonly status: number;
   readonly option?: string;
   readonly value?: string;
   readonly remedies: Remedy[];
   readonly extensions: Record<string, unknown>;
 
-  constructor(rule: string, message: string, location: InputLocation = {}, status = 400, fields: InputErrorFields = {}) {
+  constructor(rule: string, message: string, location: InputLocation = {}, fields: InputErrorFields = {}) {
     super(message);
     this.name = 'InputError';
     this.rule = rule;
     this.location = location;
-    this.status = status;
     if (fields.option !== undefined) this.option = fields.option;
     if (fields.value !== undefined) this.value = fields.value;
     this.remedies = fields.remedies ?? [];
@@ -82,40 +80,49 @@ export class InputError extends Error {
     const remedies = this.remedies.length ? `: use ${this.remedies.map(wording).join(' or ')}` : '';
     return `${formatLocation(this.location)}${this.message}${remedies} [${this.rule}]`;
   }
+
+  /** The same refusal (same class, rule and fields) with another message and place, e.g. prefixed with where it arose. */
+  rephrase(message: string, location: InputLocation = this.location): this {
+    const copy = Object.create(Object.getPrototypeOf(this)) as this;
+    Object.assign(copy, this, { location });
+    Object.defineProperty(copy, 'message', { value: message, writable: true, configurable: true });
+    Object.defineProperty(copy, 'stack', { value: `${this.name}: ${message}`, writable: true, configurable: true });
+    return copy;
+  }
 }
 
-/** A thing that was asked for by name and does not exist (unknown material, version). HTTP 404. */
+/** A thing that was asked for by name and does not exist (unknown material, version). */
 export class NotFoundError extends InputError {
-  constructor(message: string, rule = 'not-found') {
-    super(rule, message, {}, 404);
+  constructor(message: string, rule = 'not-found', location: InputLocation = {}, fields: InputErrorFields = {}) {
+    super(rule, message, location, fields);
     this.name = 'NotFoundError';
   }
 }
 
-/** A request that conflicts with the registry's rules (approve your own draft, change an approved version). HTTP 409. */
+/** A request that conflicts with the registry's rules (approve your own draft, change an approved version). */
 export class ConflictError extends InputError {
-  constructor(message: string, rule = 'conflict') {
-    super(rule, message, {}, 409);
+  constructor(message: string, rule = 'conflict', location: InputLocation = {}, fields: InputErrorFields = {}) {
+    super(rule, message, location, fields);
     this.name = 'ConflictError';
   }
 }
 
 /** A numerical computation that could not produce a trustworthy result (singular matrix, divergence). */
 export class NumericalError extends InputError {
-  constructor(message: string, rule = 'numerical-failure') {
-    super(rule, message, {}, 422);
+  constructor(message: string, rule = 'numerical-failure', location: InputLocation = {}, fields: InputErrorFields = {}) {
+    super(rule, message, location, fields);
     this.name = 'NumericalError';
   }
 }
 
 /**
  * The service cannot take more work now (every compute thread busy, queue full). Nothing was done; the
- * same request may succeed after `retryAfterSeconds`. HTTP 503 with Retry-After.
+ * same request may succeed after `retryAfterSeconds` (the API's Retry-After).
  */
 export class BusyError extends InputError {
   readonly retryAfterSeconds: number;
   constructor(message: string, retryAfterSeconds: number, rule = 'server-busy') {
-    super(rule, message, {}, 503);
+    super(rule, message);
     this.name = 'BusyError';
     this.retryAfterSeconds = retryAfterSeconds;
   }
@@ -124,20 +131,17 @@ export class BusyError extends InputError {
 /**
  * A fault of the environment, not of the input nor of nkledger: the disk is full, the registry file is
  * read-only, corrupt, or was removed or replaced under a running server. The CLI exits 4; the API answers
- * 503 (507 for a full disk). The message says what happened and whether anything was written.
+ * that the service is unavailable. The message says what happened and whether anything was written.
  */
 export class EnvironmentError extends Error {
   readonly rule: string;
   readonly location: InputLocation;
-  /** HTTP status an API should answer with: 503 by default, 507 Insufficient Storage for a full disk. */
-  readonly status: number;
 
-  constructor(rule: string, message: string, location: InputLocation = {}, status = 503) {
+  constructor(rule: string, message: string, location: InputLocation = {}) {
     super(message);
     this.name = 'EnvironmentError';
     this.rule = rule;
     this.location = location;
-    this.status = status;
   }
 
   /** "file: message [rule]", as InputError.describe() writes it. */
@@ -156,12 +160,12 @@ export function formatLocation(loc: InputLocation): string {
 
 /**
  * Stored content that no longer matches its SHA-256: the database was edited outside nkledger. A fault of the
- * registry's data, not of the user's input: the CLI exits 4 as for a corrupt registry, the API answers 500 (a
- * retry will not help). Raised on read so a tampered version is never served as if it were good.
+ * registry's data, not of the user's input: the CLI exits 4 as for a corrupt registry, the API answers that
+ * the server failed (a retry will not help). Raised on read so a tampered version is never served as if it were good.
  */
 export class IntegrityError extends EnvironmentError {
   constructor(message: string, rule = 'integrity-hash-mismatch') {
-    super(rule, message, {}, 500);
+    super(rule, message);
     this.name = 'IntegrityError';
   }
 }

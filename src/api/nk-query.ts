@@ -65,8 +65,7 @@ export function parseNkQuery(query: Record<string, string>, maxPoints: number, l
     const list = parseWavelengthList(q.at, 'at');
     if (list.length > maxPoints)
       throw new InputError('nk-too-many-points', `${list.length} points asked for; at most ${maxPoints} per request (setting max_nk_points)`);
-    if (list.some((v) => !(v > 0)))
-      throw new InputError('nk-wavelengths', 'every value of at must be positive', {}, 400, { option: 'at', value: q.at });
+    if (list.some((v) => !(v > 0))) throw new InputError('nk-wavelengths', 'every value of at must be positive', {}, { option: 'at', value: q.at });
     return { wavelengthNm: list.map((v) => toWavelengthNm(v, unit ?? 'nm')), interpolation, unit, extrapolate };
   }
   const tooMany = (count: number) =>
@@ -108,7 +107,7 @@ export function parseNkBody(body: unknown, maxPoints: number): NkRequest {
   const b = parseInput(NK_BODY, body, 'body');
   if (Array.isArray(b.wavelengths_nm)) {
     if (b.from_nm !== undefined || b.to_nm !== undefined || b.step_nm !== undefined) {
-      throw new InputError('nk-wavelengths', 'give either wavelengths_nm or from_nm, to_nm and step_nm', {}, 422);
+      throw new HttpProblem(422, 'nk-wavelengths', 'give either wavelengths_nm or from_nm, to_nm and step_nm');
     }
     if (b.wavelengths_nm.length > maxPoints) {
       throw new InputError(

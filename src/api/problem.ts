@@ -6,6 +6,9 @@
  */
 import { HTTPException } from 'hono/http-exception';
 import { BusyError, EnvironmentError, FIELD_WORDING, InputError } from '../errors.ts';
+import { HttpProblem, statusOf } from '../http-status.ts';
+
+export { HttpProblem, statusOf };
 
 export const PROBLEM_CONTENT_TYPE = 'application/problem+json';
 
@@ -43,19 +46,9 @@ const TITLES: Record<number, string> = {
   507: 'Insufficient Storage',
 };
 
-/** An error the API raises itself (auth, content negotiation); carried to the error handler like InputError. */
-export class HttpProblem extends InputError {
-  readonly headers: Record<string, string>;
-  constructor(status: number, rule: string, message: string, headers: Record<string, string> = {}) {
-    super(rule, message, {}, status);
-    this.name = 'HttpProblem';
-    this.headers = headers;
-  }
-}
-
 export function problemFromError(err: unknown): { problem: ProblemDocument; headers: Record<string, string> } {
   if (err instanceof InputError) {
-    const status = TITLES[err.status] ? err.status : 400;
+    const status = TITLES[statusOf(err)] ? statusOf(err) : 400;
     const problem: ProblemDocument = {
       // Extension members first, so they can never replace a standard member.
       ...err.extensions,
@@ -76,7 +69,7 @@ export function problemFromError(err: unknown): { problem: ProblemDocument; head
   }
   if (err instanceof EnvironmentError) {
     // A fault of the server's environment (disk full, read-only, corrupt, replaced registry file): say what.
-    const status = TITLES[err.status] ? err.status : 503;
+    const status = TITLES[statusOf(err)] ? statusOf(err) : 503;
     const problem: ProblemDocument = { type: problemType(err.rule), title: TITLES[status], status, detail: err.describe(), rule: err.rule };
     return { problem, headers: status === 503 ? { 'retry-after': '60' } : {} };
   }

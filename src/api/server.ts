@@ -6,7 +6,7 @@ import type { Server } from 'node:http';
 import type { AddressInfo } from 'node:net';
 import type { Duplex } from 'node:stream';
 import { InputError } from '../errors.ts';
-import { PROBLEM_CONTENT_TYPE, problemFromError } from './problem.ts';
+import { HttpProblem, PROBLEM_CONTENT_TYPE, problemFromError } from './problem.ts';
 import { serve } from '@hono/node-server';
 import type { Hono } from 'hono';
 import { createApp, type AppOptions } from './app.ts';
@@ -58,13 +58,12 @@ function answerClientError(err: NodeJS.ErrnoException, socket: Duplex): void {
   }
   const problem =
     err.code === 'HPE_HEADER_OVERFLOW'
-      ? new InputError(
+      ? new HttpProblem(
+          431,
           'request-too-long',
           "the request line and headers exceed the server's 16 KiB limit; send long wavelength lists as POST /api/v1/materials/{slug}/versions/{n}/nk with a JSON body",
-          {},
-          431,
         )
-      : new InputError('http-malformed', `the request is not valid HTTP/1.1 (${err.code ?? 'parse error'})`, {}, 400);
+      : new InputError('http-malformed', `the request is not valid HTTP/1.1 (${err.code ?? 'parse error'})`);
   const { problem: doc } = problemFromError(problem);
   const body = JSON.stringify(doc);
   socket.end(

@@ -97,9 +97,9 @@ export async function readTableUpload(
     const form = await readForm(c);
     const parts = form.getAll(partName);
     if (parts.length === 0 || !parts.every((p) => p instanceof File))
-      throw new InputError('upload-no-table', `multipart upload needs a file part named "${partName}"`, {}, 400);
+      throw new InputError('upload-no-table', `multipart upload needs a file part named "${partName}"`, {});
     if (parts.length > 1 && !several)
-      throw new InputError('upload-one-table', `this route stores one table per request, not ${parts.length} "${partName}" parts`, {}, 400);
+      throw new InputError('upload-one-table', `this route stores one table per request, not ${parts.length} "${partName}" parts`, {});
     tables = [];
     for (const part of parts as File[]) {
       const clientFileName = part.name && part.name !== 'blob' ? part.name.replace(/^.*[\\/]/, '') : null;
@@ -112,7 +112,7 @@ export async function readTableUpload(
         fields[key] = new TextDecoder().decode(await value.arrayBuffer());
         continue;
       }
-      if (typeof value !== 'string') throw new InputError('upload-field', `multipart field "${key}" must be text, not a file`, {}, 400);
+      if (typeof value !== 'string') throw new InputError('upload-field', `multipart field "${key}" must be text, not a file`, {});
       fields[key] = value;
     }
   } else if (!multipartOnly && TABLE_TYPES.includes(type)) {
@@ -127,7 +127,7 @@ export async function readTableUpload(
         : `send the table as text/csv (or text/plain) or as multipart/form-data with a "table" file, not "${type || 'no content type'}"`,
     );
   }
-  for (const t of tables) if (t.bytes.length === 0) throw new InputError('upload-empty', 'the uploaded table is empty', { file: t.file }, 400);
+  for (const t of tables) if (t.bytes.length === 0) throw new InputError('upload-empty', 'the uploaded table is empty', { file: t.file });
   const fieldsIn = type === 'multipart/form-data' ? 'body' : 'query';
   const flags = parseInput(importFields, pick(fields, IMPORT_FIELD_NAMES), fieldsIn, 400);
   const [{ bytes, file, clientFileName }] = tables;
@@ -149,7 +149,6 @@ async function readForm(c: Context): Promise<FormData> {
       'upload-multipart',
       `the multipart/form-data body cannot be read (${err.message}); check the boundary in Content-Type and the body's part delimiters`,
       { file: UPLOAD_FILE },
-      400,
     );
   }
 }

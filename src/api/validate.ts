@@ -39,7 +39,7 @@ export function parseInput<T>(schema: z.ZodType<T>, value: unknown, where: 'body
     if (i.code === 'invalid_type' && at(value, i.path) === undefined) return `${name}: required`;
     return `${name}: ${i.message}`;
   });
-  throw new InputError(`invalid-${where}`, issues.join('; '), {}, status);
+  throw new HttpProblem(status, `invalid-${where}`, issues.join('; '));
 }
 
 interface BodyRequest {
@@ -60,7 +60,7 @@ function parseJsonText(text: string): unknown {
   try {
     return JSON.parse(text);
   } catch (err) {
-    throw new InputError('invalid-json', `request body is not JSON: ${(err as Error).message}`, { file: '<request body>' }, 400);
+    throw new InputError('invalid-json', `request body is not JSON: ${(err as Error).message}`, { file: '<request body>' });
   }
 }
 
@@ -98,20 +98,15 @@ export function readQuery(url: string): Record<string, string> {
       try {
         return decodeURIComponent(part.replace(/\+/g, ' '));
       } catch {
-        throw new InputError(
-          'query-encoding',
-          `query parameter "${pair.slice(0, 60)}": malformed percent-encoding or bytes that are not UTF-8`,
-          {},
-          400,
-        );
+        throw new InputError('query-encoding', `query parameter "${pair.slice(0, 60)}": malformed percent-encoding or bytes that are not UTF-8`);
       }
     };
     const name = decode(eq < 0 ? pair : pair.slice(0, eq));
     const value = decode(eq < 0 ? '' : pair.slice(eq + 1));
     if (CONTROL.test(name) || CONTROL.test(value)) {
-      throw new InputError('query-control', `query parameter "${name.replace(CONTROL, '?')}": control characters (such as %00) are refused`, {}, 400);
+      throw new InputError('query-control', `query parameter "${name.replace(CONTROL, '?')}": control characters (such as %00) are refused`, {});
     }
-    if (Object.hasOwn(out, name)) throw new InputError('query-duplicate', `query parameter "${name}" is given more than once; give it once`, {}, 400);
+    if (Object.hasOwn(out, name)) throw new InputError('query-duplicate', `query parameter "${name}" is given more than once; give it once`, {});
     out[name] = value;
   }
   return out;

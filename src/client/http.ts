@@ -12,7 +12,7 @@
  */
 import { type IncomingMessage, request as httpRequest } from 'node:http';
 import { request as httpsRequest } from 'node:https';
-import { EnvironmentError, FIELD_WORDING, InputError, formatLocation, type Remedy } from '../errors.ts';
+import { EnvironmentError, FIELD_WORDING, InputError, IntegrityError, formatLocation, type Remedy } from '../errors.ts';
 
 /**
  * A server's answer: the few parts of the Fetch API's Response the client uses. Requests go through node:http
@@ -111,18 +111,28 @@ export function normalizeServerUrl(text: string): string {
   try {
     url = new URL(text.trim());
   } catch {
-    throw new InputError('server-url', `"${text}" is not a URL: give the server's address, e.g. http://lab-server:8787`, {}, 400, {
-      option: 'server',
-      value: text,
-    });
+    throw new InputError(
+      'server-url',
+      `"${text}" is not a URL: give the server's address, e.g. http://lab-server:8787`,
+      {},
+      {
+        option: 'server',
+        value: text,
+      },
+    );
   }
   if (url.protocol !== 'http:' && url.protocol !== 'https:')
-    throw new InputError('server-url', `"${text}" is not an http:// or https:// address`, {}, 400, { option: 'server', value: text });
+    throw new InputError('server-url', `"${text}" is not an http:// or https:// address`, {}, { option: 'server', value: text });
   if (url.search || url.hash || url.username || url.password)
-    throw new InputError('server-url', `"${text}": give the server's address only, without query, fragment or credentials`, {}, 400, {
-      option: 'server',
-      value: text,
-    });
+    throw new InputError(
+      'server-url',
+      `"${text}": give the server's address only, without query, fragment or credentials`,
+      {},
+      {
+        option: 'server',
+        value: text,
+      },
+    );
   const path = url.pathname.replace(/\/+$/, '').replace(/\/api\/v1$/, '');
   return `${url.protocol}//${url.host}${path}`;
 }
@@ -263,15 +273,15 @@ export class ServerClient {
     if (p.status === 503 || p.status === 507) {
       if (p.rule === 'server-busy')
         return new EnvironmentError('server-busy', `the nkledger server at ${this.url} stayed busy (${message}); try again later`);
-      return new EnvironmentError(p.rule, `the server at ${this.url}: ${message}`, location, p.status);
+      return new EnvironmentError(p.rule, `the server at ${this.url}: ${message}`, location);
     }
     // A stored version that no longer matches its hash (IntegrityError): a fault of the server's data, as in file mode.
-    if (p.status === 500) return new EnvironmentError(p.rule, message, location, p.status);
+    if (p.status === 500) return new IntegrityError(message, p.rule);
     let text = message;
     if (p.status === 401) text = `${message}; log in with \`nkledger login ${this.url}\` or set NKLEDGER_TOKEN`;
     // Extension members (e.g. the `review` of a refused approval) go back where the service put them.
     const extensions = Object.fromEntries(Object.entries(p).filter(([k]) => !STANDARD_MEMBERS.has(k)));
-    return new InputError(p.rule, text, location, p.status, {
+    return new InputError(p.rule, text, location, {
       ...(Object.keys(extensions).length > 0 && { extensions }),
       ...(p.option !== undefined && { option: p.option }),
       ...(p.value !== undefined && { value: p.value }),

@@ -36,7 +36,6 @@ export function serverRegistry(client: ServerClient, options: ServerRegistryOpti
       'identity-from-token',
       `${options.actorGiven}: in server mode the server records who acts from the token sent, so a name cannot be chosen; remove it (each person logs in with their own token: nkledger login ${client.url})`,
       {},
-      400,
       { option: 'as' },
     );
   };

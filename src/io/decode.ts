@@ -25,7 +25,6 @@ export function checkSize(bytes: number, maxBytes: number, file: string | undefi
       'file-too-large',
       `input is ${formatMiB(bytes)}, over the size limit of ${formatMiB(maxBytes)}; raise the limit (in MiB) if the file is really a table`,
       { file },
-      413,
       { remedies: [{ option: 'max_size', value: String(Math.ceil(bytes / 1024 / 1024)) }] },
     );
   }

@@ -73,10 +73,15 @@ export function readDelimited(
       ? normalizeDelimiter(options.delimiter)
       : detectDelimiter(lines.slice(0, DIALECT_SAMPLE_LINES).map((l) => l.text));
   if (options.decimalComma && delimiter === ',') {
-    throw new InputError('bad-option', 'decimal commas need a separator other than a comma', { file }, 400, {
-      option: 'decimal_comma',
-      value: 'true',
-    });
+    throw new InputError(
+      'bad-option',
+      'decimal commas need a separator other than a comma',
+      { file },
+      {
+        option: 'decimal_comma',
+        value: 'true',
+      },
+    );
   }
   const rows = splitFields(lines, delimiter, file);
   const decimalComma = options.decimalComma ?? detectDecimalComma(rows.slice(header ? 1 : 0), delimiter);
@@ -88,7 +93,6 @@ export function readDelimited(
       'no-header',
       'the first line is data, not a header: name the columns (and the unit of x)',
       { file, line: lines[0].line },
-      400,
       {
         remedies: [
           { option: 'columns', value: example },
@@ -216,7 +220,6 @@ export function resolveXUnit(
     'missing-unit',
     `the wavelength column has no unit and values ${lo}–${hi} are not plausibly nm${guess ? `; they look like ${guess.label}` : ''}`,
     where,
-    400,
     { remedies: [{ option: 'input_unit', value: guess?.unit ?? 'um' }] },
   );
 }

@@ -76,7 +76,6 @@ export function locateHeader(lines: ContentLine[], headerLine: number | undefine
         'bad-header-line',
         `line ${headerLine} is not a content line of the file (it is blank, a # comment or past the end)`,
         { file },
-        400,
         {
           option: 'header_line',
           value: String(headerLine),

@@ -114,7 +114,6 @@ function toPoint(row: ParsedRow, ctx: NormalizeContext): Point {
       'negative-k',
       `k = ${k}${via} is below −${ctx.kTolerance}, the tolerance for noise (raise it if the instrument is that noisy)`,
       at(kRole),
-      400,
       { remedies: [{ option: 'k_tolerance', value: String(+(-k * 1.5).toPrecision(1)) }] },
     );
   }

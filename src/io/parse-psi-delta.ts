@@ -197,7 +197,6 @@ function layoutOf(columns: PsiColumn[], names: string[], where: { file?: string;
       'no-x-column',
       `no wavelength or photon-energy column among ${names.map((n) => `"${n}"`).join(', ')}. Accepted names (any case) are ${PSI_DELTA_NAMES_SUMMARY}`,
       where,
-      400,
       { remedies: [{ option: 'columns', value: 'wavelength (nm),angle,psi,delta' }] },
     );
   }

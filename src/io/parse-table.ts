@@ -20,10 +20,15 @@ export function parseNkTable(input: string | Uint8Array, options: ImportOptions 
   const file = options.file;
   const kTolerance = options.kTolerance ?? DEFAULT_K_TOLERANCE;
   if (!(kTolerance >= 0))
-    throw new InputError('bad-option', `k tolerance ${kTolerance} must be a number ≥ 0`, {}, 400, {
-      option: 'k_tolerance',
-      value: String(kTolerance),
-    });
+    throw new InputError(
+      'bad-option',
+      `k tolerance ${kTolerance} must be a number ≥ 0`,
+      {},
+      {
+        option: 'k_tolerance',
+        value: String(kTolerance),
+      },
+    );
   const text = readDelimited(input, options, (name) => recognizeColumn(name).role !== undefined, 'wavelength (nm),n,k');
   const { decoded, lineEnding, located, delimiter, decimalComma, header, headerLine, unitsLine, names } = text;
 
@@ -99,7 +104,6 @@ function columnLayout(names: string[], where: { file?: string; line?: number }):
       `no wavelength, energy or wavenumber column among ${names.map((n) => `"${n}"`).join(', ')}. Accepted names (any case) are ${ACCEPTED_NAMES_SUMMARY}. ` +
         'Name the columns in order yourself, or say which line is the header',
       where,
-      400,
       {
         remedies: [
           { option: 'columns', value: 'wavelength (nm),n,k' },

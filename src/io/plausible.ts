@@ -71,7 +71,6 @@ export function checkPlausibleRange(rows: ParsedRow[], ctx: { file?: string; xUn
     `x values ${lo}–${hi} read as ${unit} are ${nmText(Math.min(a, b))} – ${nmText(Math.max(a, b))}, outside the range an optical-constants table plausibly covers ` +
       `(${nmText(min)} – ${nmText(max)})${guess ? `; ${lo}–${hi} looks like ${guess.label}` : ''}`,
     { file: ctx.file, line: outside.line, column: ctx.column },
-    400,
     { remedies: [...(guess ? [{ option: 'input_unit', value: guess.unit }] : []), { option: 'allow_any_range' }] },
   );
 }

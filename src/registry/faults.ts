@@ -7,19 +7,18 @@ import { EnvironmentError } from '../errors.ts';
 
 interface Fault {
   rule: string;
-  status: number;
   what: string;
 }
 
 /** SQLite result codes (sqlite.org/rescode.html) by prefix; extended codes share their primary's meaning. */
 const FAULTS: [prefix: string, fault: Fault][] = [
-  ['SQLITE_FULL', { rule: 'registry-disk-full', status: 507, what: 'the disk (or the database size limit) is full' }],
-  ['SQLITE_READONLY', { rule: 'registry-read-only', status: 503, what: 'the database file or its folder is read-only' }],
-  ['SQLITE_CORRUPT', { rule: 'registry-corrupt', status: 503, what: 'the database file is corrupt (restore it from a backup)' }],
-  ['SQLITE_NOTADB', { rule: 'registry-corrupt', status: 503, what: 'the database file is corrupt (restore it from a backup)' }],
-  ['SQLITE_IOERR', { rule: 'registry-io-error', status: 503, what: 'the operating system failed to read or write the database file' }],
-  ['SQLITE_CANTOPEN', { rule: 'registry-cannot-open', status: 503, what: 'the database file (or its -wal/-shm companion) cannot be opened' }],
-  ['SQLITE_BUSY', { rule: 'registry-busy', status: 503, what: 'another process held the registry locked for too long' }],
+  ['SQLITE_FULL', { rule: 'registry-disk-full', what: 'the disk (or the database size limit) is full' }],
+  ['SQLITE_READONLY', { rule: 'registry-read-only', what: 'the database file or its folder is read-only' }],
+  ['SQLITE_CORRUPT', { rule: 'registry-corrupt', what: 'the database file is corrupt (restore it from a backup)' }],
+  ['SQLITE_NOTADB', { rule: 'registry-corrupt', what: 'the database file is corrupt (restore it from a backup)' }],
+  ['SQLITE_IOERR', { rule: 'registry-io-error', what: 'the operating system failed to read or write the database file' }],
+  ['SQLITE_CANTOPEN', { rule: 'registry-cannot-open', what: 'the database file (or its -wal/-shm companion) cannot be opened' }],
+  ['SQLITE_BUSY', { rule: 'registry-busy', what: 'another process held the registry locked for too long' }],
 ];
 
 /** The EnvironmentError for a SQLite fault of the environment, or null for anything else. */
@@ -29,8 +28,8 @@ export function environmentFault(err: unknown, file: string): EnvironmentError |
   if (typeof code !== 'string') return null;
   const found = FAULTS.find(([prefix]) => code === prefix || code.startsWith(`${prefix}_`));
   if (!found) return null;
-  const { rule, status, what } = found[1];
-  return new EnvironmentError(rule, `registry ${file}: ${what} (${code}: ${(err as Error).message}); nothing was written`, {}, status);
+  const { rule, what } = found[1];
+  return new EnvironmentError(rule, `registry ${file}: ${what} (${code}: ${(err as Error).message}); nothing was written`);
 }
 
 /** Rethrow SQLite's environment faults as EnvironmentErrors; other errors pass unchanged. */

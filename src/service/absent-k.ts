@@ -51,10 +51,15 @@ function isAbsorbing(options: FitOptions): boolean {
 export function fitOptionsForAbsentK(options: FitOptions, kAbsent: boolean): { options: FitOptions; notices: string[] } {
   if (!kAbsent) return { options, notices: [] };
   if (options.target === 'k' || options.target === 'eps') {
-    throw new InputError('no-k-column', `the fit target ${options.target} needs k, and the file has no k column`, {}, 400, {
-      option: 'target',
-      value: options.target,
-    });
+    throw new InputError(
+      'no-k-column',
+      `the fit target ${options.target} needs k, and the file has no k column`,
+      {},
+      {
+        option: 'target',
+        value: options.target,
+      },
+    );
   }
   if (!isAbsorbing(options) || options.target === 'n') return { options, notices: [] };
   return {

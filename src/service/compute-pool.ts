@@ -41,7 +41,7 @@ export function computeWorkerEntry(): string {
  */
 export class TaskAbandonedError extends InputError {
   constructor() {
-    super('request-abandoned', 'the request was cancelled before its fit or check finished (the client went away); its work was stopped', {}, 400);
+    super('request-abandoned', 'the request was cancelled before its fit or check finished (the client went away); its work was stopped');
     this.name = 'TaskAbandonedError';
   }
 }

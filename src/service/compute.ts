@@ -5,7 +5,7 @@
  * (compute-worker.ts, through compute-pool.ts) and in-process. Refusals travel as data and are rebuilt as
  * the same error classes on the other side (`rethrow`), so the front doors word them as before.
  */
-import { InputError, NumericalError, type InputErrorFields, type InputLocation } from '../errors.ts';
+import { ConflictError, InputError, NotFoundError, NumericalError, type InputErrorFields, type InputLocation } from '../errors.ts';
 import { fitTable, type FitOptions } from '../fit/fit.ts';
 import type { FitReport } from '../fit/types.ts';
 import type { KkOptions } from '../kk/check.ts';
@@ -43,7 +43,6 @@ interface RefusalData {
   rule: string;
   message: string;
   location: InputLocation;
-  status: number;
   fields: InputErrorFields;
 }
 
@@ -81,14 +80,22 @@ export function runComputeTask(task: ComputeTask): ComputeOutcome {
   } catch (err) {
     if (!(err instanceof InputError)) throw err;
     const fields: InputErrorFields = { option: err.option, value: err.value, remedies: err.remedies };
-    return { ok: false, refusal: { name: err.name, rule: err.rule, message: err.message, location: err.location, status: err.status, fields } };
+    return { ok: false, refusal: { name: err.name, rule: err.rule, message: err.message, location: err.location, fields } };
   }
 }
+
+/** The subclasses a refusal is rebuilt as, by name (a BusyError never comes out of a task: the pool raises it). */
+const REFUSAL_CLASSES: Record<string, typeof NotFoundError | typeof ConflictError | typeof NumericalError> = {
+  NotFoundError,
+  ConflictError,
+  NumericalError,
+};
 
 /** The value of an outcome, or its refusal thrown again as the error class it was. */
 export function unwrapOutcome<T>(outcome: ComputeOutcome): T {
   if (outcome.ok) return outcome.value as T;
   const r = outcome.refusal;
-  if (r.name === 'NumericalError') throw new NumericalError(r.message, r.rule);
-  throw new InputError(r.rule, r.message, r.location, r.status, r.fields);
+  const Subclass = REFUSAL_CLASSES[r.name];
+  if (Subclass) throw new Subclass(r.message, r.rule, r.location, r.fields);
+  throw new InputError(r.rule, r.message, r.location, r.fields);
 }

@@ -58,13 +58,9 @@ export function evaluateContent(
       return { ...evaluateTable(content.table!, wavelengthsNm, method), source: 'table', extrapolated: wavelengthsNm.map(() => false) };
     } catch (err) {
       if (extrapolate && err instanceof InputError && err.rule === 'outside-range') {
-        throw new InputError(
-          'table-no-extrapolation',
-          `${err.message}; ${label} holds a table only, and a table never extrapolates`,
-          err.location,
-          400,
-          { option: 'extrapolate' },
-        );
+        throw new InputError('table-no-extrapolation', `${err.message}; ${label} holds a table only, and a table never extrapolates`, err.location, {
+          option: 'extrapolate',
+        });
       }
       throw err;
     }
@@ -78,7 +74,6 @@ export function evaluateContent(
         'outside-validity-range',
         `${w} nm is outside the validity range of ${label}'s ${content.fit!.model} model, ${lo}–${hi} nm (the range it was fitted over); values beyond it are an extrapolation of the model, not backed by data`,
         {},
-        400,
         { remedies: [{ option: 'extrapolate' }] },
       );
     }

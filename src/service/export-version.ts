@@ -50,7 +50,7 @@ export function exportVersion(
   let table: NkTable;
   let origin: string;
   if (options.source === 'model' && !v.content.fit) {
-    throw new InputError('export-no-model', `${v.ref} holds no fitted model: export its table instead`, {}, 404, { option: 'source' });
+    throw new InputError('export-no-model', `${v.ref} holds no fitted model: export its table instead`, {}, { option: 'source' });
   }
   if (v.content.table && options.source !== 'model') {
     table = v.content.table;

@@ -71,7 +71,6 @@ export function kkReportFor(table: NkTable, options: KkOptions = {}, kAbsent = f
         'kk-not-possible',
         `the Kramers-Kronig check cannot run on this table (${err.message}); store it without a KK report`,
         err.location,
-        400,
         { remedies: [{ option: 'kk', value: false }] },
       );
     }

@@ -81,7 +81,6 @@ export function approve(registry: Registry, ref: string, actor: string, options:
         UNACCEPTED_WARNINGS,
         `${review.ref} was not approved: ${review.blocking.map((b) => b.message).join('; ')}; to approve it anyway after reviewing it, give the reason`,
         { field: first.field },
-        409,
         {
           option: 'accept_warnings',
           value: first.value,
@@ -112,12 +111,17 @@ function versionEvent(slug: string, row: VersionRow, to: VersionStatus) {
 function requireReason(reason: string | undefined, verb: string, option = 'reason'): string {
   const text = (reason ?? '').trim();
   if (text === '')
-    throw new InputError('reason-required', `say why you ${verb}`, { field: option }, 400, {
-      option,
-      value: reason ?? '',
-      remedies: [{ option, value: 'TEXT' }],
-    });
-  if (text.length > 2000) throw new InputError('reason-too-long', 'the reason is longer than 2000 characters', { field: option }, 400, { option });
+    throw new InputError(
+      'reason-required',
+      `say why you ${verb}`,
+      { field: option },
+      {
+        option,
+        value: reason ?? '',
+        remedies: [{ option, value: 'TEXT' }],
+      },
+    );
+  if (text.length > 2000) throw new InputError('reason-too-long', 'the reason is longer than 2000 characters', { field: option }, { option });
   return text;
 }
 

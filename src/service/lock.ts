@@ -94,7 +94,7 @@ export function readLockfile(path: string, options: { allowMissing?: boolean } =
   } catch (err) {
     if ((err as NodeJS.ErrnoException).code === 'ENOENT') {
       if (options.allowMissing) return emptyLockfile();
-      throw new InputError('lock-missing', `no lockfile ${path} (start one with \`nkledger lock add REF --lock ${path}\`)`, { file: path }, 404);
+      throw new InputError('lock-missing', `no lockfile ${path} (start one with \`nkledger lock add REF --lock ${path}\`)`, { file: path });
     }
     throw new InputError('lock-read', `cannot read the lockfile: ${(err as Error).message}`, { file: path });
   }

@@ -31,14 +31,14 @@ const TAG_PATTERN = /^[\p{L}\p{N}][\p{L}\p{N}._+-]{0,39}$/u;
 function checkName(text: string | undefined): string {
   const name = text?.trim() ?? '';
   if (name === '' || name.length > 200)
-    throw new InputError('material-name', 'a material needs a display name, at most 200 characters', {}, 400, { option: 'name' });
+    throw new InputError('material-name', 'a material needs a display name, at most 200 characters', {}, { option: 'name' });
   return name;
 }
 
 function checkDescription(text: string | undefined): string {
   const description = (text ?? '').trim();
   if (description.length > 5000)
-    throw new InputError('material-description', 'the description is longer than 5000 characters', {}, 400, { option: 'description' });
+    throw new InputError('material-description', 'the description is longer than 5000 characters', {}, { option: 'description' });
   return description;
 }
 
@@ -46,10 +46,15 @@ function checkTags(given: string[]): string[] {
   const tags = [...new Set(given.map((t) => t.trim()).filter(Boolean))].sort();
   for (const tag of tags) {
     if (!TAG_PATTERN.test(tag))
-      throw new InputError('material-tag', `"${tag}" is not a tag (letters, digits, . _ + -, at most 40 characters)`, {}, 400, {
-        option: 'tag',
-        value: tag,
-      });
+      throw new InputError(
+        'material-tag',
+        `"${tag}" is not a tag (letters, digits, . _ + -, at most 40 characters)`,
+        {},
+        {
+          option: 'tag',
+          value: tag,
+        },
+      );
   }
   return tags;
 }
@@ -68,7 +73,6 @@ function refuseLookAlikes(registry: Registry, slug: string | undefined, name: st
         'material-look-alike',
         `the slug "${slug}" reads like that of the existing material ${other.slug} (they differ only in look-alike characters); choose a slug that reads differently`,
         {},
-        409,
         { option: 'slug', value: slug },
       );
     }
@@ -77,7 +81,6 @@ function refuseLookAlikes(registry: Registry, slug: string | undefined, name: st
         'material-look-alike',
         `the name ${JSON.stringify(name)} reads like ${JSON.stringify(other.name)}, the name of ${other.slug}, but is not the same text (look-alike letters, another Unicode form or width, or invisible characters); use the same name or one that reads differently`,
         {},
-        409,
         { option: 'name', value: name },
       );
     }
@@ -133,10 +136,15 @@ export function editMaterial(registry: Registry, slugText: string, edit: Materia
     const removed = new Set((edit.removeTags ?? []).map((t) => t.trim()));
     const unknown = [...removed].find((t) => !(edit.tags ?? before.tags).includes(t) && !added.includes(t));
     if (unknown !== undefined)
-      throw new InputError('material-tag', `${slug} has no tag "${unknown}" to remove (its tags: ${before.tags.join(', ') || 'none'})`, {}, 400, {
-        option: 'untag',
-        value: unknown,
-      });
+      throw new InputError(
+        'material-tag',
+        `${slug} has no tag "${unknown}" to remove (its tags: ${before.tags.join(', ') || 'none'})`,
+        {},
+        {
+          option: 'untag',
+          value: unknown,
+        },
+      );
     const after = {
       name: name ?? before.name,
       description: description ?? before.description,

@@ -110,7 +110,7 @@ export const SETTING_KEYS = Object.keys(SETTINGS) as SettingKey[];
 
 export function parseSettingKey(key: string): SettingKey {
   if (key in SETTINGS) return key as SettingKey;
-  throw new InputError('setting-unknown', `unknown setting "${key}": known settings are ${SETTING_KEYS.join(', ')}`, {}, 404);
+  throw new InputError('setting-unknown', `unknown setting "${key}": known settings are ${SETTING_KEYS.join(', ')}`, {});
 }
 
 /** `writes` decides who may write at all, so it is changed only through the server, where a token says who is asking. */
@@ -126,7 +126,7 @@ function validate(key: SettingKey, value: unknown): unknown {
   const result = SETTINGS[key].schema.safeParse(value);
   if (!result.success) {
     const why = result.error.issues.map((i) => i.message).join('; ');
-    throw new InputError('setting-value', `bad value for setting ${key}: ${why}`, {}, 422);
+    throw new InputError('setting-value', `bad value for setting ${key}: ${why}`, {});
   }
   return result.data;
 }

@@ -64,7 +64,7 @@ async function readLimitedFile(path: string, maxBytes: number, file: string): Pr
   } catch (err) {
     if (err instanceof InputError) throw err;
     const code = (err as NodeJS.ErrnoException).code;
-    if (code === 'ENOENT') throw new InputError('file-not-found', `no such file: ${path}`, { file }, 404);
+    if (code === 'ENOENT') throw new InputError('file-not-found', `no such file: ${path}`, { file });
     throw new InputError('unreadable-file', `cannot read ${path} (${code ?? String(err)})`, { file });
   }
   checkSize(size, maxBytes, file);

@@ -227,7 +227,7 @@ export async function resolveStackDesign(design: StackDesign, ctx: ResolveContex
       try {
         bytes = (await readSource(path, { file: src.file })).bytes;
       } catch (err) {
-        if (err instanceof InputError) throw new InputError(err.rule, `${slot.role}: ${err.message}`, where(slot.path, ['file']), err.status);
+        if (err instanceof InputError) throw err.rephrase(`${slot.role}: ${err.message}`, where(slot.path, ['file']));
         throw err;
       }
       const imported = parseNkTable(bytes, { file: src.file });
@@ -274,7 +274,7 @@ export async function resolveStackDesign(design: StackDesign, ctx: ResolveContex
       return { slot, at, ...(ctx.lock ? throughLock(text, ctx.lock, slot.role, at) : { ref: text, lockedSha: null }) };
     });
     const inSlot = (slot: Slot, at: InputLocation, err: unknown) =>
-      err instanceof InputError ? new InputError(err.rule, `${slot.role}: ${err.message}`, at, err.status) : err;
+      err instanceof InputError ? err.rephrase(`${slot.role}: ${err.message}`, at) : err;
     const loadedVersions: LoadedSource[] = [];
     const loadAll = (registry: Registry) => {
       for (const { slot, at, ref } of plan) {

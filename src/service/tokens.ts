@@ -78,7 +78,7 @@ function toInfo(row: typeof apiTokens.$inferSelect, now = Date.now()): TokenInfo
 export function parseTokenLifetime(text: string, option = 'expires'): number | null {
   const hours = lifetimeHours(text.trim());
   if (hours === undefined)
-    throw new InputError('token-lifetime', `"${text}" is not a token lifetime: ${LIFETIME_FORM}`, { field: option }, 400, { option, value: text });
+    throw new InputError('token-lifetime', `"${text}" is not a token lifetime: ${LIFETIME_FORM}`, { field: option }, { option, value: text });
   return hours;
 }
 

@@ -36,14 +36,24 @@ export interface WebSession {
 export function startSession(registry: Registry, token: string): { secret: string; session: WebSession } {
   const principal = authenticateToken(registry, token.trim());
   if (!principal) {
-    throw new InputError('sign-in-token', 'that token is unknown or has been revoked: paste the whole token (it starts with nkl_)', {}, 401, {
-      option: 'token',
-    });
+    throw new InputError(
+      'sign-in-token',
+      'that token is unknown or has been revoked: paste the whole token (it starts with nkl_)',
+      {},
+      {
+        option: 'token',
+      },
+    );
   }
   if (tokenExpired(principal)) {
-    throw new InputError('auth-token-expired', `that token expired at ${principal.expiresAt}: ask an administrator for a new one`, {}, 401, {
-      option: 'token',
-    });
+    throw new InputError(
+      'auth-token-expired',
+      `that token expired at ${principal.expiresAt}: ask an administrator for a new one`,
+      {},
+      {
+        option: 'token',
+      },
+    );
   }
   const secret = randomBytes(32).toString('base64url');
   const key = sha256Hex(secret);

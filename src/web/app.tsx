@@ -10,6 +10,7 @@ import { bodyLimit } from 'hono/body-limit';
 import { compress } from 'hono/compress';
 import { HTTPException } from 'hono/http-exception';
 import { EnvironmentError, InputError } from '../errors.ts';
+import { HttpProblem, statusOf } from '../http-status.ts';
 import { environmentFault } from '../registry/faults.ts';
 import { endSession, startSession } from '../service/web-sessions.ts';
 import { SCRIPT, SCRIPT_PATH, STYLESHEET, STYLESHEET_PATH } from './assets.ts';
@@ -67,10 +68,10 @@ export function createWebPages(options: WebOptions & { logFault?: (err: unknown)
     let message = 'something went wrong inside nkledger; the error was logged on the server';
     if (fault) {
       console.error(`nkledger serve: ${fault.describe()}`);
-      status = fault.status;
+      status = statusOf(fault);
       message = fault.message;
     } else if (err instanceof InputError || err instanceof EnvironmentError) {
-      status = err.status;
+      status = statusOf(err);
       message = err instanceof InputError ? err.describe(PAGE_WORDING) : err.message;
     } else if (err instanceof HTTPException) {
       status = err.status;
@@ -124,7 +125,7 @@ export function createWebPages(options: WebOptions & { logFault?: (err: unknown)
     return bodyLimit({
       maxSize,
       onError: () => {
-        throw new InputError('body-too-large', `the form is larger than ${maxSize} bytes (setting max_body_bytes)`, {}, 413);
+        throw new HttpProblem(413, 'body-too-large', `the form is larger than ${maxSize} bytes (setting max_body_bytes)`);
       },
     })(c, next);
   });
@@ -174,12 +175,7 @@ export function createWebPages(options: WebOptions & { logFault?: (err: unknown)
   app.post('/sign-in', async (c) => {
     const form = await c.req.parseBody();
     if (!signInSecretMatches(c, form.sign_in)) {
-      throw new InputError(
-        'csrf-mismatch',
-        'the sign-in form is out of date (or did not come from this server): open the sign-in page again',
-        {},
-        403,
-      );
+      throw new HttpProblem(403, 'csrf-mismatch', 'the sign-in form is out of date (or did not come from this server): open the sign-in page again');
     }
     const { secret } = startSession(options.registry, typeof form.token === 'string' ? form.token : '');
     setSessionCookie(c, secret);

@@ -5,7 +5,7 @@ import type { KkReport } from '../kk/check.ts';
 import { checkSlug } from '../registry/refs.ts';
 import type { VersionDetail, VersionRecord } from '../registry/types.ts';
 import type { BlockingFinding, ReviewSummary } from '../service/review.ts';
-import { InputError } from '../errors.ts';
+import { HttpProblem } from '../http-status.ts';
 import type { WebContext } from './context.ts';
 import { fmt, Head, Note, Notes, Plot, versionPath, When } from './layout.tsx';
 import { curveGrid, decimateTable, fitPlot, kkPlot, nkPlot } from './plots.ts';
@@ -15,7 +15,7 @@ import { evaluateFitReport } from '../fit/fit.ts';
 export function pathRef(c: WebContext): string {
   const slug = checkSlug(c.req.param('slug') ?? '');
   const n = c.req.param('n') ?? '';
-  if (!/^[1-9][0-9]{0,8}$/.test(n)) throw new InputError('version-syntax', `"${n}" is not a version number (versions are 1, 2, 3, …)`, {}, 404);
+  if (!/^[1-9][0-9]{0,8}$/.test(n)) throw new HttpProblem(404, 'version-syntax', `"${n}" is not a version number (versions are 1, 2, 3, …)`);
   return `${slug}@${n}`;
 }
 

@@ -11,7 +11,7 @@
 import { randomBytes } from 'node:crypto';
 import type { MiddlewareHandler } from 'hono';
 import { getCookie, setCookie, deleteCookie } from 'hono/cookie';
-import { InputError } from '../errors.ts';
+import { HttpProblem } from '../http-status.ts';
 import type { TokenRole } from '../registry/schema-auth.ts';
 import { roleAllows } from '../service/tokens.ts';
 import { csrfMatches, findSession, SESSION_HOURS, type WebSession } from '../service/web-sessions.ts';
@@ -86,21 +86,20 @@ export function guardForms(): MiddlewareHandler<WebEnv> {
     if (c.req.method === 'GET' || c.req.method === 'HEAD') return next();
     const origin = requestOrigin(c);
     if (origin !== serverOrigin(c)) {
-      throw new InputError(
+      throw new HttpProblem(
+        403,
         'cross-site-form',
         origin === undefined
           ? 'this form was sent without an Origin header, so the server cannot tell it came from its own page; nothing was changed'
           : `this form was sent from ${origin}, not from this server's pages; nothing was changed`,
-        {},
-        403,
       );
     }
     if (c.req.path === '/sign-in') return next(); // its own one-off secret, checked by the handler
     const session = c.get('session');
     const form = await c.req.parseBody();
-    if (!session) throw new InputError('sign-in-required', 'your session has ended (signed out, expired or token revoked): sign in again', {}, 401);
+    if (!session) throw new HttpProblem(401, 'sign-in-required', 'your session has ended (signed out, expired or token revoked): sign in again');
     if (!csrfMatches(session.csrf, form.csrf)) {
-      throw new InputError('csrf-mismatch', 'this form is out of date or did not come from this session: reload the page and try again', {}, 403);
+      throw new HttpProblem(403, 'csrf-mismatch', 'this form is out of date or did not come from this session: reload the page and try again');
     }
     return next();
   };
@@ -109,13 +108,12 @@ export function guardForms(): MiddlewareHandler<WebEnv> {
 /** The signed-in session with at least `role`; else a refusal the error page words (401 to sign in, 403 too weak a role). */
 export function requireSession(c: WebContext, role: TokenRole): WebSession {
   const session = c.get('session');
-  if (!session) throw new InputError('sign-in-required', `this page needs you to sign in with a token of role ${role} or above`, {}, 401);
+  if (!session) throw new HttpProblem(401, 'sign-in-required', `this page needs you to sign in with a token of role ${role} or above`);
   if (!roleAllows(session.principal.role, role)) {
-    throw new InputError(
+    throw new HttpProblem(
+      403,
       'role-too-weak',
       `you are signed in as ${session.principal.user} with role ${session.principal.role}; this needs ${role} or above`,
-      {},
-      403,
     );
   }
   return session;
@@ -124,7 +122,7 @@ export function requireSession(c: WebContext, role: TokenRole): WebSession {
 /** Reading pages: allowed to anyone signed in, and to anonymous readers when the settings say so. */
 export function requireReader(ctx: PageContext, c: WebContext): void {
   if (c.get('session') || ctx.anonymousReads()) return;
-  throw new InputError('sign-in-required', 'this server allows reading only to signed-in people (setting anonymous_reads): sign in', {}, 401);
+  throw new HttpProblem(401, 'sign-in-required', 'this server allows reading only to signed-in people (setting anonymous_reads): sign in');
 }
 
 /** A path on this server to go to after a form (never another site: no scheme, no //host, no backslash). */

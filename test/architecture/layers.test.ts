@@ -77,6 +77,24 @@ describe('layers import only downward', () => {
     expect(found).toEqual([]);
   });
 
+  it('the core answers in no protocol: errors.ts and the layers below the front doors carry no HTTP status', () => {
+    // The status table (src/http-status.ts) is read by api and web only; the client speaks HTTP by nature.
+    const found: string[] = [];
+    const errors = readFileSync(join(SRC, 'errors.ts'), 'utf8');
+    if (/\bstatus\b|\bHTTP\b/.test(errors)) found.push('errors.ts mentions a status or HTTP');
+    for (const file of sources(SRC)) {
+      const layer = layerOf(file);
+      if (layer === undefined || layer === 'api' || layer === 'web' || layer === 'cli' || layer === 'client') continue;
+      const text = readFileSync(file, 'utf8');
+      if (/from '[./]+\/http-status\.ts'|from '[./]+\/api\//.test(text)) found.push(`${relative(SRC, file)}: imports the HTTP status table`);
+      // A status number passed to an error: `new XError(..., 404)` or a status line in a multi-line call.
+      for (const m of text.matchAll(/new \w*(?:Error|Problem)\(((?:[^;]|;(?!\s*\n))*?)\);/g))
+        if (/(?:,|^)\s*[1-5]\d\d\s*(?:,|$)/.test(m[1].replace(/`[^`]*`|'[^']*'/g, "''")))
+          found.push(`${relative(SRC, file)}: ${m[0].slice(0, 80)}`);
+    }
+    expect(found).toEqual([]);
+  });
+
   it('SQL is written in the registry layer only: service, api and cli call registry/ functions', () => {
     const found: string[] = [];
     for (const file of sources(SRC)) {

@@ -50,7 +50,7 @@ describe('size limit: input of exactly --max-size bytes is read, one byte more i
   it('in memory (API uploads, stdin already read)', () => {
     expect(parseNkTable(text, { maxBytes: size }).table.n).toHaveLength(3);
     const err = refusal(() => parseNkTable(text, { file: 'big.csv', maxBytes: size - 1 }));
-    expect([err.rule, err.status]).toEqual(['file-too-large', 413]);
+    expect(err.rule).toBe('file-too-large');
   });
 
   it('from a file (checked on its size before it is read)', async () => {

@@ -93,7 +93,7 @@ export function registerEllipsometryRoute(app: Hono<ApiEnv>, ctx: RouteContext):
       throw new HttpProblem(406, 'not-acceptable', `an ellipsometry fit answer is application/json or image/svg+xml, not "${accept}"`);
     const upload = await readTableUpload(c, { part: 'data', textParts: ['sample'], multipartOnly: true });
     if (upload.fields.sample === undefined) {
-      throw new InputError('upload-no-sample', 'the multipart body needs a "sample" part: the sample description (JSON)', { field: 'sample' }, 400);
+      throw new InputError('upload-no-sample', 'the multipart body needs a "sample" part: the sample description (JSON)', { field: 'sample' });
     }
     const fields = parseInput(ELLIPSOMETRY_FIELDS, upload.fields, upload.fieldsIn, 400);
     const starts =

@@ -130,13 +130,14 @@ export function registerStackRoute(app: Hono<ApiEnv>, ctx: RouteContext): void {
     const wrapped = body !== null && typeof body === 'object' && 'design' in body && !('layers' in body);
     const { design: designValue, lock: lockValue, ...rest } = (wrapped ? body : { design: body }) as Record<string, unknown>;
     if (Object.keys(rest).length)
-      throw new InputError(
+      throw new HttpProblem(
+        422,
         'invalid-body',
         `body: unknown field${Object.keys(rest).length > 1 ? 's' : ''} ${Object.keys(rest)
           .map((k) => `"${k}"`)
           .join(', ')} beside "design" (known: design, lock)`,
+        {},
         { field: 'body' },
-        422,
       );
     const design = parseStackDesign(designValue, BODY);
     const wavelengths = parseWavelengthList(q.at, 'at');

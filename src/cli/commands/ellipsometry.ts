@@ -81,7 +81,6 @@ export function register(program: Command): void {
             'server-mode-store',
             '--store is not available in server mode yet (the server would have to repeat the fit to trust it): store with --db on the registry file, or import the fitted n,k with nkledger import',
             {},
-            400,
             { option: 'store' },
           );
         const prepared = await prepareEllipsometry({

@@ -78,7 +78,7 @@ export function register(program: Command): void {
         if (loaded.kAbsent) {
           // k = 0 stored for a file without a k column is not a measurement: nothing to check n against.
           const answer = noKColumnReport(table);
-          if (opts.plot) throw new InputError('no-k-column', `${label} has no k column: there is no KK check to plot`, {}, 400, { option: 'plot' });
+          if (opts.plot) throw new InputError('no-k-column', `${label} has no k column: there is no KK check to plot`, {}, { option: 'plot' });
           if (opts.json) printJson(answer);
           else printLines([`${label}: UNINFORMATIVE (${answer.reason})`, `  ${answer.summary}`]);
           return;

@@ -54,7 +54,7 @@ export function registerReviewPages(app: Hono<WebEnv>, ctx: PageContext): void {
       else if (verb === 'withdraw') withdraw(ctx.registry, ref, user, reason || undefined);
       else {
         if (!reason)
-          throw new InputError('retire-reason', 'say why the version is retired: the reason is kept in the audit log', {}, 400, { option: 'reason' });
+          throw new InputError('retire-reason', 'say why the version is retired: the reason is kept in the audit log', {}, { option: 'reason' });
         retire(ctx.registry, ref, reason, user);
       }
       return c.redirect(localPath(form.back, versionPath(ref)), 303);

@@ -7,6 +7,7 @@
  */
 import type { Hono } from 'hono';
 import { InputError } from '../../errors.ts';
+import { statusOf } from '../../http-status.ts';
 import type { FitReport } from '../../fit/types.ts';
 import { importOptionsFrom } from '../../io/import-options.ts';
 import type { ImportOptions } from '../../io/parse-table.ts';
@@ -96,8 +97,8 @@ export function registerUploadPages(app: Hono<WebEnv>, ctx: PageContext): void {
       );
       return c.redirect(`/upload?material=${encodeURIComponent(material.slug)}`, 303);
     } catch (err) {
-      if (!(err instanceof InputError) || err.status >= 500) throw err;
-      return c.html(uploadFormPage(ctx, session, form, err), err.status as 400);
+      if (!(err instanceof InputError) || statusOf(err) >= 500) throw err;
+      return c.html(uploadFormPage(ctx, session, form, err), statusOf(err) as 400);
     }
   });
 
@@ -108,7 +109,7 @@ export function registerUploadPages(app: Hono<WebEnv>, ctx: PageContext): void {
     try {
       const file = body.table;
       if (!(file instanceof File) || file.size === 0)
-        throw new InputError('upload-no-table', 'choose a file to upload (CSV or TSV)', {}, 400, { option: 'table' });
+        throw new InputError('upload-no-table', 'choose a file to upload (CSV or TSV)', {}, { option: 'table' });
       const slug = checkSlug(form.material ?? '');
       getMaterial(ctx.registry, slug); // an unknown material is refused now, not after the preview
       const fileName = file.name.replace(/^.*[\\/]/, '') || 'upload.csv';
@@ -118,8 +119,8 @@ export function registerUploadPages(app: Hono<WebEnv>, ctx: PageContext): void {
       const pending = putPendingUpload(ctx.registry, session, { slug, fileName, bytes, importOptions });
       return c.redirect(`/upload/${pending.id}`, 303);
     } catch (err) {
-      if (!(err instanceof InputError) || err.status >= 500) throw err;
-      return c.html(uploadFormPage(ctx, session, form, err), err.status as 400);
+      if (!(err instanceof InputError) || statusOf(err) >= 500) throw err;
+      return c.html(uploadFormPage(ctx, session, form, err), statusOf(err) as 400);
     }
   });
 
@@ -135,12 +136,12 @@ export function registerUploadPages(app: Hono<WebEnv>, ctx: PageContext): void {
     const form = textFields(await c.req.parseBody());
     try {
       const fit = fitOptionsOf(form);
-      if (!fit) throw new InputError('fit-model', 'pick a model to fit', {}, 400, { option: 'model' });
+      if (!fit) throw new InputError('fit-model', 'pick a model to fit', {}, { option: 'model' });
       const result = await ctx.compute.run({ kind: 'fit', bytes: pending.bytes, importOptions: pending.importOptions, fit });
       return c.html(await previewPage(ctx, session, pending, form, { report: result.report, warnings: result.warnings }));
     } catch (err) {
-      if (!(err instanceof InputError) || err.status >= 500) throw err;
-      return c.html(await previewPage(ctx, session, pending, form, undefined, err), err.status as 400);
+      if (!(err instanceof InputError) || statusOf(err) >= 500) throw err;
+      return c.html(await previewPage(ctx, session, pending, form, undefined, err), statusOf(err) as 400);
     }
   });
 
@@ -164,8 +165,8 @@ export function registerUploadPages(app: Hono<WebEnv>, ctx: PageContext): void {
       dropPendingUpload(ctx.registry, session, pending.id);
       return c.redirect(versionPath(stored.ref), 303);
     } catch (err) {
-      if (!(err instanceof InputError) || err.status >= 500) throw err;
-      return c.html(await previewPage(ctx, session, pending, form, undefined, err), err.status as 400);
+      if (!(err instanceof InputError) || statusOf(err) >= 500) throw err;
+      return c.html(await previewPage(ctx, session, pending, form, undefined, err), statusOf(err) as 400);
     }
   });
 
