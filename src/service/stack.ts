@@ -11,6 +11,7 @@ import { evaluateFitReport } from '../fit/evaluate.ts';
 import type { FitReport } from '../fit/types.ts';
 import { parseNkTable } from '../io/parse-table.ts';
 import { parseOptionNumber } from '../io/numbers.ts';
+import { parseWavelengthList } from '../io/wavelength-list.ts';
 import { buildModel } from '../models/catalogue.ts';
 import { nkFromEps } from '../optics/permittivity.ts';
 import { evaluateTable } from '../optics/table-eval.ts';
@@ -25,7 +26,7 @@ import type { NkTable } from '../table.ts';
 import { cieTables } from './cie.ts';
 import type { Lockfile } from './lock.ts';
 import { readSource } from './source.ts';
-import { locateField, type MaterialSource, type StackDesign } from './stack-design.ts';
+import { locateField, parseStackDesign, type MaterialSource, type StackDesign } from './stack-design.ts';
 import { loadVersion, withExistingRegistry, type LoadedSource } from './table-source.ts';
 
 export const STACK_POLARIZATIONS = ['unpolarized', 's', 'p'] as const;
@@ -760,4 +761,49 @@ export function computeStack(design: ResolvedDesign, options: StackOptions, cie:
     warnings,
     results,
   };
+}
+
+/** A stack request as a front door read it: the design and the options still as given. */
+export interface StackRequest {
+  /** The design: its JSON text (a file; refusals then carry line and column) or a parsed value (a request body). */
+  design: string | unknown;
+  /** Name of the design in messages, and the base of its relative file sources. */
+  designFile: string;
+  /** The wavelengths as given (`--at`, `at`). */
+  at: string;
+  options: StackOptionText;
+  /** How the front door names its options in refusals (default: the command line's flags). */
+  names?: { at: string; angle: string; polarization: string; sweep: string };
+  /** Where registry refs come from and whether file sources are allowed (ResolveContext without the design). */
+  resolve: Omit<ResolveContext, 'designFile' | 'designText' | 'lock'>;
+  /** The lockfile the refs resolve through, read only once the design and options passed (so they are refused first). */
+  lock?: () => { lockfile: Lockfile; file: string } | undefined;
+  /** The most work (layers × wavelengths × angles × sweep steps) allowed, checked before anything is resolved. */
+  maxWork?: { limit: number; setting: string; field: string };
+  /** Runs the compute: by default here; the API passes its worker pool (with the request's abort signal). */
+  compute?: (design: ResolvedDesign, options: StackOptions) => Promise<StackReport> | StackReport;
+}
+
+/**
+ * A stack from request to report, for every front door (the `stack` command, POST /api/v1/stack): parse the
+ * design and the options, cap the work, resolve the materials (through the lockfile if given), compute.
+ */
+export async function runStackRequest(request: StackRequest): Promise<StackReport> {
+  const names = request.names ?? { at: '--at', angle: '--angle', polarization: '--polarization', sweep: '--sweep' };
+  const designText = typeof request.design === 'string' ? request.design : null;
+  const design = parseStackDesign(request.design, request.designFile);
+  const options = parseStackOptions(request.options, parseWavelengthList(request.at, names.at), names);
+  if (request.maxWork) {
+    const { limit, setting, field } = request.maxWork;
+    const work = stackWork(design, options);
+    if (work > limit) {
+      throw new InputError(
+        'stack-too-much-work',
+        `this request asks for ${work} units of work (layers × wavelengths × angles × sweep steps); at most ${limit} per request (setting ${setting})`,
+        { field },
+      );
+    }
+  }
+  const resolved = await resolveStackDesign(design, { ...request.resolve, designFile: request.designFile, designText, lock: request.lock?.() });
+  return (request.compute ?? computeStack)(resolved, options);
 }

@@ -2,16 +2,15 @@
  * POST /api/v1/stack: R, T, A, Ψ, Δ and colour of a design, as `nkledger stack --json` prints them. The body is
  * a design, or {"design": DESIGN, "lock": LOCKFILE} to resolve its registry refs through a lockfile; the CLI's
  * options are query fields. File sources are refused (the server's disk is not the client's); the work is
- * capped by the max_stack_work setting before anything is resolved. The compute, computeStack, runs on the
- * server's compute pool (a worker thread), never on the event loop; a full pool answers 503.
+ * capped by the max_stack_work setting before anything is resolved. One service function, runStackRequest, does
+ * the work as for the CLI; its compute runs on the server's compute pool (a worker thread), never on the event
+ * loop; a full pool answers 503.
  */
 import type { Hono } from 'hono';
 import { z } from 'zod';
-import { InputError } from '../../errors.ts';
-import { parseWavelengthList } from '../../io/wavelength-list.ts';
 import { parseLockfile } from '../../service/lock.ts';
-import { parseStackOptions, resolveStackDesign, stackWork, STACK_POLARIZATIONS } from '../../service/stack.ts';
-import { parseStackDesign, STACK_DESIGN_SCHEMA } from '../../service/stack-design.ts';
+import { runStackRequest, STACK_POLARIZATIONS } from '../../service/stack.ts';
+import { STACK_DESIGN_SCHEMA } from '../../service/stack-design.ts';
 import { renderStackPlot } from '../../service/stack-plot.ts';
 import type { ApiEnv } from '../auth.ts';
 import type { RouteContext } from '../context.ts';
@@ -139,25 +138,18 @@ export function registerStackRoute(app: Hono<ApiEnv>, ctx: RouteContext): void {
         {},
         { field: 'body' },
       );
-    const design = parseStackDesign(designValue, BODY);
-    const wavelengths = parseWavelengthList(q.at, 'at');
-    const options = parseStackOptions(
-      { angle: q.angle, polarization: q.polarization, sweep: q.sweep, extrapolate: q.extrapolate === 'true' },
-      wavelengths,
-      { angle: 'angle', polarization: 'polarization', sweep: 'sweep' },
-    );
-    const cap = ctx.settings().max_stack_work;
-    const work = stackWork(design, options);
-    if (work > cap) {
-      throw new InputError(
-        'stack-too-much-work',
-        `this request asks for ${work} units of work (layers × wavelengths × angles × sweep steps); at most ${cap} per request (setting max_stack_work)`,
-        { field: 'at' },
-      );
-    }
-    const lock = lockValue === undefined ? undefined : { lockfile: parseLockfile(lockValue, `${BODY} lock`), file: 'the posted lock' };
-    const resolved = await resolveStackDesign(design, { registry: ctx.registry, designFile: BODY, designText: null, allowFiles: false, lock });
-    const report = await ctx.compute.run({ kind: 'stack', design: resolved, options }, c.req.raw.signal);
+    const report = await runStackRequest({
+      design: designValue,
+      designFile: BODY,
+      at: q.at,
+      options: { angle: q.angle, polarization: q.polarization, sweep: q.sweep, extrapolate: q.extrapolate === 'true' },
+      names: { at: 'at', angle: 'angle', polarization: 'polarization', sweep: 'sweep' },
+      resolve: { registry: ctx.registry, allowFiles: false },
+      lock: () => (lockValue === undefined ? undefined : { lockfile: parseLockfile(lockValue, `${BODY} lock`), file: 'the posted lock' }),
+      maxWork: { limit: ctx.settings().max_stack_work, setting: 'max_stack_work', field: 'at' },
+      // The CPU-heavy part on the compute pool; a client that goes away stops it.
+      compute: (design, options) => ctx.compute.run({ kind: 'stack', design, options }, c.req.raw.signal),
+    });
     c.header('cache-control', 'no-store');
     if (svg) return c.body(renderStackPlot(report), 200, { 'content-type': 'image/svg+xml' });
     if (accept && !/json|\*\/\*/.test(accept))

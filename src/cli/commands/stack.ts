@@ -4,8 +4,7 @@ import type { Command } from 'commander';
 import { Option } from 'commander';
 import { readLockfile } from '../../service/lock.ts';
 import { readSource } from '../../service/source.ts';
-import { computeStack, parseStackOptions, resolveStackDesign, STACK_POLARIZATIONS, type StackReport } from '../../service/stack.ts';
-import { parseStackDesign } from '../../service/stack-design.ts';
+import { runStackRequest, STACK_POLARIZATIONS, type StackReport } from '../../service/stack.ts';
 import { renderStackPlot } from '../../service/stack-plot.ts';
 import type { Colour } from '../../stack/colour.ts';
 import { addRegistryOptions, registryOps, serverUrlOf, type RegistryFlags } from '../registry-access.ts';
@@ -13,7 +12,6 @@ import { guarded } from '../failure.ts';
 import { cliIo } from '../io.ts';
 import { formatTable, printJson, printLines } from '../output.ts';
 import { printResolution } from '../registry-output.ts';
-import { parseWavelengthList } from '../../io/wavelength-list.ts';
 
 interface StackFlags extends RegistryFlags {
   at: string;
@@ -53,19 +51,17 @@ export function register(program: Command): void {
     )
     .action(
       guarded(async (designPath: string, opts: StackFlags) => {
-        const wavelengths = parseWavelengthList(opts.at);
-        const options = parseStackOptions(
-          { angle: opts.angle, polarization: opts.polarization, sweep: opts.sweep, extrapolate: opts.extrapolate },
-          wavelengths,
-        );
         const { bytes, file } = await readSource(designPath, { maxBytes: 8 * 1024 * 1024 }, designPath === '-' ? cliIo().stdin : undefined);
-        const text = Buffer.from(bytes).toString('utf8');
-        const design = parseStackDesign(text, file);
-        const lock = opts.lock ? { lockfile: readLockfile(opts.lock), file: opts.lock } : undefined;
         // In server mode the design's registry refs are fetched from the server; the stack is computed here.
         const loadVersion = serverUrlOf(opts) === undefined ? undefined : registryOps(opts).loadVersion;
-        const resolved = await resolveStackDesign(design, { db: opts.db, loadVersion, designFile: file, designText: text, allowFiles: true, lock });
-        const report = computeStack(resolved, options);
+        const report = await runStackRequest({
+          design: Buffer.from(bytes).toString('utf8'),
+          designFile: file,
+          at: opts.at,
+          options: { angle: opts.angle, polarization: opts.polarization, sweep: opts.sweep, extrapolate: opts.extrapolate },
+          resolve: { db: opts.db, loadVersion, allowFiles: true },
+          lock: () => (opts.lock ? { lockfile: readLockfile(opts.lock), file: opts.lock } : undefined),
+        });
         printResolution({ notices: report.notices, warnings: report.warnings });
         if (opts.plot) await writeFile(opts.plot, renderStackPlot(report));
         if (opts.json) return printJson(report);
