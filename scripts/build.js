@@ -6,7 +6,8 @@
  *   - nkledger.js, the process (bin/nkledger.js imports it): reads the command's name and imports only
  *     cmd-<module>.js, one self-contained file per command of src/cli/commands/index.ts (cmd-none.js for
  *     `--help`, `--version` and unknown words). Node 20's ESM loader costs a few milliseconds per file, so
- *     one file per command starts faster than shared chunks.
+ *     one file per command starts faster than shared chunks; the commands of SPLIT_COMMANDS (eval) keep their
+ *     dynamic imports in chunks of their own (cmd-eval-*.js), loaded only when a run calls them.
  *   - run.js: `run(argv, io)` with every command, split by esbuild into chunks (each command's loaded only when
  *     it runs), for programs that drive the CLI in-process; the worker-thread entries.
  *
@@ -27,6 +28,8 @@ const SRC = join(ROOT, 'src');
 const OUT = join(ROOT, 'dist');
 const RUN = join(SRC, 'cli', 'run.ts');
 const COMMAND_INDEX = join(SRC, 'cli', 'commands', 'index.ts');
+/** Commands whose bundle keeps its dynamic imports as chunks of its own (see build()): those with a start-up target. */
+const SPLIT_COMMANDS = ['eval'];
 const URL_REF = /new URL\((['"])(\.\.?\/[^'"]*)\1,\s*import\.meta\.url\)/g;
 
 function sources(dir) {
@@ -199,15 +202,31 @@ export async function build({ quiet = false, ifChanged = false } = {}) {
       }),
       // One self-contained bundle per command (run.ts with that command preloaded) and one with none. Each process
       // loads one of them: Node 20's ESM loader pays a few milliseconds per file, which for `nkledger eval` split
-      // into ~25 chunks cost more than the code itself.
+      // into ~25 chunks shared between commands cost more than the code itself.
       esbuild.build({
         ...common,
-        entryPoints: Object.fromEntries([...commands.map((c) => c.module), 'none'].map((m) => [`cmd-${m}`, `nk-command:${m}`])),
+        entryPoints: Object.fromEntries(
+          [...commands.map((c) => c.module).filter((m) => !SPLIT_COMMANDS.includes(m)), 'none'].map((m) => [`cmd-${m}`, `nk-command:${m}`]),
+        ),
         plugins: [commandEntries(commands), rebaseUrls()],
         // No source maps: 23 maps of a bundle each tripled the build time; the bundles are not minified and
         // name each source file in a comment, and run.js (the same code, split) keeps its maps.
         sourcemap: false,
       }),
+      // The commands with a start-up target, each built on its own with its dynamic imports (file mode's
+      // operations, the service modules behind them, their zod schemas) in chunks of that command
+      // (cmd-<module>-*.js), read and compiled only when a run calls them: compiling the whole one-file bundle was
+      // most of `eval`'s start-up. A build of its own per command costs build time, so only these.
+      ...SPLIT_COMMANDS.map((m) =>
+        esbuild.build({
+          ...common,
+          entryPoints: { [`cmd-${m}`]: `nk-command:${m}` },
+          splitting: true,
+          chunkNames: `cmd-${m}-[name]-[hash]`,
+          plugins: [commandEntries(commands), rebaseUrls()],
+          sourcemap: false,
+        }),
+      ),
       esbuild.build({
         ...common,
         stdin: { contents: dispatcher(commands), resolveDir: join(SRC, 'cli'), sourcefile: 'nkledger.ts', loader: 'ts' },

@@ -10,8 +10,7 @@
  *   proxy (`server-not-nkledger`), a route the server does not have (`server-wrong-url`).
  * - A 503 with Retry-After from a busy server (its compute threads full) is retried a bounded number of times.
  */
-import { type IncomingMessage, request as httpRequest } from 'node:http';
-import { request as httpsRequest } from 'node:https';
+import type { IncomingMessage } from 'node:http';
 import { EnvironmentError, FIELD_WORDING, InputError, IntegrityError, formatLocation, type Remedy } from '../errors.ts';
 
 /**
@@ -62,16 +61,19 @@ function answerOf(res: IncomingMessage): ServerAnswer {
   };
 }
 
-/** One HTTP exchange; redirects are not followed (a redirect is reported as not an nkledger answer). */
-function exchange(
+/**
+ * One HTTP exchange; redirects are not followed (a redirect is reported as not an nkledger answer). node:http and
+ * node:https are loaded on the first exchange: about 14 ms that a command in file mode never pays.
+ */
+async function exchange(
   target: URL,
   method: string,
   headers: Record<string, string>,
   body: Uint8Array | string | undefined,
   signal: AbortSignal,
 ): Promise<ServerAnswer> {
+  const { request: send } = target.protocol === 'https:' ? await import('node:https') : await import('node:http');
   return new Promise((resolve, reject) => {
-    const send = target.protocol === 'https:' ? httpsRequest : httpRequest;
     const req = send(target, { method, headers, signal }, (res) => resolve(answerOf(res)));
     req.on('error', reject);
     req.end(body);
