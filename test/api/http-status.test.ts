@@ -40,7 +40,13 @@ describe('the status of each error', () => {
   });
 
   it('the core errors carry no status of their own', () => {
-    for (const err of [new InputError('r', 'm'), new NotFoundError('m'), new BusyError('m', 1), new EnvironmentError('r', 'm'), new IntegrityError('m')])
+    for (const err of [
+      new InputError('r', 'm'),
+      new NotFoundError('m'),
+      new BusyError('m', 1),
+      new EnvironmentError('r', 'm'),
+      new IntegrityError('m'),
+    ])
       expect(Object.keys(err)).not.toContain('status');
   });
 

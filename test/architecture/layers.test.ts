@@ -89,8 +89,7 @@ describe('layers import only downward', () => {
       if (/from '[./]+\/http-status\.ts'|from '[./]+\/api\//.test(text)) found.push(`${relative(SRC, file)}: imports the HTTP status table`);
       // A status number passed to an error: `new XError(..., 404)` or a status line in a multi-line call.
       for (const m of text.matchAll(/new \w*(?:Error|Problem)\(((?:[^;]|;(?!\s*\n))*?)\);/g))
-        if (/(?:,|^)\s*[1-5]\d\d\s*(?:,|$)/.test(m[1].replace(/`[^`]*`|'[^']*'/g, "''")))
-          found.push(`${relative(SRC, file)}: ${m[0].slice(0, 80)}`);
+        if (/(?:,|^)\s*[1-5]\d\d\s*(?:,|$)/.test(m[1].replace(/`[^`]*`|'[^']*'/g, "''"))) found.push(`${relative(SRC, file)}: ${m[0].slice(0, 80)}`);
     }
     expect(found).toEqual([]);
   });
