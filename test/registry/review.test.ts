@@ -18,6 +18,7 @@ import {
   type StoredKkReport,
 } from '../../src/service/registry.ts';
 import { InputError } from '../../src/errors.ts';
+import { statusOf } from '../../src/http-status.ts';
 import { cauchyTable, tempRegistry, type TempRegistry } from './helpers.ts';
 
 let t: TempRegistry;
@@ -168,11 +169,11 @@ describe('approve with blocking findings', () => {
     expect(err).toBeInstanceOf(InputError);
     expect(err).toMatchObject({
       rule: 'approval-warnings-unaccepted',
-      status: 409,
       option: 'accept_warnings',
       value: 'inconsistent',
       location: { field: 'content.kk.verdict' },
     });
+    expect(statusOf(err!)).toBe(409); // the API's answer (src/http-status.ts): RFC 9110 §15.5.10 Conflict
     expect(err?.remedies).toEqual([{ option: 'accept_warnings', value: 'REASON' }]);
     expect((err?.extensions.review as { ref: string }).ref).toBe('film@1');
     expect(err?.describe()).toMatch(
