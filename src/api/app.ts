@@ -60,8 +60,10 @@ export function createApp(options: AppOptions): Hono<ApiEnv> {
   // Settings are re-read when the registry changes, so `nkledger settings set` in another process
   // (or another server on the same file) takes effect from this server's next turn of the event loop.
   const settingsMemo = new ChangeMemo<Settings>(changes, 1);
-  const currentSettings = (): Settings => settingsMemo.get('settings', () => ({ ...readSettings(registry), ...options.settings }));
-  const anonymousReads = () => anonymousReadsAllowed(currentSettings(), options.loopback === true);
+  const currentSettings = (): Promise<Settings> =>
+    settingsMemo.get('settings', async () => ({ ...(await readSettings(registry)), ...options.settings }));
+  const anonymousReads = async () => anonymousReadsAllowed(await currentSettings(), options.loopback === true);
+
   const ctx: RouteContext = {
     registry,
     changes,
@@ -87,14 +89,15 @@ export function createApp(options: AppOptions): Hono<ApiEnv> {
   app.notFound((c) => problemResponse(new HttpProblem(404, 'route-not-found', `no route for ${c.req.method} ${c.req.path}`)));
 
   const corsMiddleware = cors({
-    origin: (origin) => (currentSettings().cors_origins.includes(origin) ? origin : null),
+    origin: async (origin) => ((await currentSettings()).cors_origins.includes(origin) ? origin : null),
     allowMethods: ['GET', 'POST', 'PUT', 'DELETE', 'OPTIONS'],
     allowHeaders: ['Authorization', 'Content-Type', 'If-None-Match', 'Accept'],
     exposeHeaders: ['ETag', 'Location', 'Deprecation'],
     maxAge: 600,
   });
-  const bodyLimited: MiddlewareHandler<ApiEnv> = (c, next) => {
-    const maxSize = currentSettings().max_body_bytes;
+  const bodyLimited: MiddlewareHandler<ApiEnv> = async (c, next) => {
+    const maxSize = (await currentSettings()).max_body_bytes;
+
     return bodyLimit({
       maxSize,
       onError: () => {

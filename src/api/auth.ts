@@ -23,7 +23,7 @@ const CHALLENGE = 'Bearer realm="nkledger"';
  */
 export function authenticate(registry: Registry, changes: RegistryChanges): MiddlewareHandler<ApiEnv> {
   const principals = new ChangeMemo<Principal | undefined>(changes);
-  return (c, next) => {
+  return async (c, next) => {
     const header = c.req.header('authorization');
     if (header === undefined) {
       c.set('principal', null);
@@ -36,7 +36,7 @@ export function authenticate(registry: Registry, changes: RegistryChanges): Midd
       });
     }
     const token = match[1];
-    const principal = principals.get(token, () => authenticateToken(registry, token));
+    const principal = await principals.get(token, () => authenticateToken(registry, token));
     if (!principal) {
       throw new HttpProblem(401, 'auth-invalid-token', 'the bearer token is unknown or has been revoked', {
         'www-authenticate': `${CHALLENGE}, error="invalid_token"`,
@@ -50,7 +50,8 @@ export function authenticate(registry: Registry, changes: RegistryChanges): Midd
         { 'www-authenticate': `${CHALLENGE}, error="invalid_token", error_description="the token has expired"` },
       );
     }
-    recordTokenUse(registry, principal);
+    await recordTokenUse(registry, principal);
+
     c.set('principal', principal);
     return next();
   };
@@ -60,11 +61,11 @@ export function authenticate(registry: Registry, changes: RegistryChanges): Midd
  * Allow the route for principals whose role is at least `role` (reader < editor < approver < admin).
  * Without a token, only reads pass, and only while `anonymousReads()` says so.
  */
-export function requireRole(role: TokenRole, anonymousReads: () => boolean): MiddlewareHandler<ApiEnv> {
-  return (c, next) => {
+export function requireRole(role: TokenRole, anonymousReads: () => Promise<boolean>): MiddlewareHandler<ApiEnv> {
+  return async (c, next) => {
     const principal = c.get('principal');
     if (!principal) {
-      if (role === 'reader' && anonymousReads()) return next();
+      if (role === 'reader' && (await anonymousReads())) return next();
       throw new HttpProblem(
         401,
         'auth-required',

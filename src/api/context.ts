@@ -17,6 +17,6 @@ export interface RouteContext {
    * The settings in force (stored values over defaults, then the factory's overrides), re-read
    * whenever the registry has changed (a change by this server, the CLI or another server).
    */
-  settings(): Settings;
+  settings(): Promise<Settings>;
   requireRole(role: TokenRole): MiddlewareHandler<ApiEnv>;
 }

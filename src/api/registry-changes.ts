@@ -53,6 +53,7 @@ export class RegistryChanges {
 /**
  * Values computed from the registry, kept until it changes. At most `maxEntries` are kept: when full
  * the memo starts afresh, so keys chosen by clients (unknown tokens, made-up slugs) cannot grow it.
+ * A value whose computation saw the registry change meanwhile is returned but not kept; a failed one is not kept.
  */
 export class ChangeMemo<V> {
   private readonly values = new Map<string, V>();
@@ -63,18 +64,20 @@ export class ChangeMemo<V> {
     private readonly maxEntries = 1024,
   ) {}
 
-  get(key: string, compute: () => V): V {
+  async get(key: string, compute: () => Promise<V>): Promise<V> {
     const stamp = this.changes.current();
     if (stamp !== this.stamp) {
       this.values.clear();
       this.stamp = stamp;
     }
     if (this.values.has(key)) return this.values.get(key) as V;
-    const value = compute();
+    const value = await compute();
+    if (this.stamp !== stamp || this.changes.current() !== stamp) return value;
     if (this.values.size >= this.maxEntries) this.values.clear();
     this.values.set(key, value);
     return value;
   }
+
 
   get size(): number {
     return this.values.size;

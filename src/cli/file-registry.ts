@@ -18,7 +18,7 @@ import { cliIo } from './io.ts';
  * (exit 2, naming the path) unless `open.create` allows creating it; creating one is said on stderr.
  */
 export async function withRegistry<T>(opts: { db?: string }, use: (registry: Registry) => T | Promise<T>, open: OpenOptions = {}): Promise<T> {
-  const registry = openRegistry(opts.db, { create: 'never', ...open });
+  const registry = await openRegistry(opts.db, { create: 'never', ...open });
   if (registry.created) cliIo().stderr.write(`nkledger: created a new registry at ${registry.path}\n`);
   try {
     return await use(registry);

@@ -13,9 +13,12 @@
  * (prev_hash null) whose details list every version stored at that time (hash, status, approver…) and a
  * digest of the audit rows written before the chain existed, so an upgraded registry is covered too.
  */
+import { sql } from 'drizzle-orm';
 import { canonicalJson, sha256Hex } from './canonical.ts';
 import type { Registry } from './open.ts';
 import { formatRef } from './refs.ts';
+import { execute, queryRow, queryRows } from './sql.ts';
+import { immediateTransaction } from './transaction.ts';
 
 export const GENESIS_TYPE = 'chain.genesis';
 /** The actor of events nkledger writes by itself (the genesis event). */
@@ -95,21 +98,15 @@ export function eventHash(row: AuditRow): string {
   return sha256Hex(canonicalJson(doc));
 }
 
-const HEAD_SQL = 'SELECT hash FROM audit_log ORDER BY id DESC LIMIT 1';
-const INSERT_SQL = `INSERT INTO audit_log (at, actor, action, material_id, version_id, detail, material, version_number,
-  content_sha256, status_from, status_to, prev_hash, hash)
-  VALUES (@at, @actor, @action, @material_id, @version_id, @detail, @material, @version_number,
-  @content_sha256, @status_from, @status_to, @prev_hash, @hash)`;
-
 /** Hash of the newest event (null when the chain has not started). Call inside the write transaction. */
-function headHash(registry: Registry): string | null {
-  const row = registry.sqlite.prepare(HEAD_SQL).get() as { hash: string | null } | undefined;
-  return row?.hash ?? null;
+async function headHash(registry: Registry): Promise<string | null> {
+  const head = await queryRow<{ hash: string | null }>(registry, sql`SELECT hash FROM audit_log ORDER BY id DESC LIMIT 1`);
+  return head?.hash ?? null;
 }
 
 /** Append an event at the head of the chain. Must run inside the write transaction of the change it records. */
-export function appendEvent(registry: Registry, event: NewEvent): void {
-  const row: Omit<AuditRow, 'id'> = {
+export async function appendEvent(registry: Registry, event: NewEvent): Promise<void> {
+  const r: Omit<AuditRow, 'id'> = {
     at: new Date().toISOString(),
     actor: event.actor,
     action: event.action,
@@ -121,24 +118,30 @@ export function appendEvent(registry: Registry, event: NewEvent): void {
     content_sha256: event.contentSha256 ?? null,
     status_from: event.status?.from ?? null,
     status_to: event.status?.to ?? null,
-    prev_hash: headHash(registry),
+    prev_hash: await headHash(registry),
     hash: null,
   };
-  row.hash = eventHash({ id: 0, ...row });
-  registry.sqlite.prepare(INSERT_SQL).run(row);
+  r.hash = eventHash({ id: 0, ...r });
+  await execute(
+    registry,
+    sql`INSERT INTO audit_log (at, actor, action, material_id, version_id, detail, material, version_number,
+      content_sha256, status_from, status_to, prev_hash, hash)
+      VALUES (${r.at}, ${r.actor}, ${r.action}, ${r.material_id}, ${r.version_id}, ${r.detail}, ${r.material}, ${r.version_number},
+      ${r.content_sha256}, ${r.status_from}, ${r.status_to}, ${r.prev_hash}, ${r.hash})`,
+  );
 }
 
 /** The newest event's hash and place in the chain, or null before the genesis. */
-export function chainHead(registry: Registry): ChainHead | null {
-  const head = registry.sqlite.prepare(HEAD_SQL).get() as { hash: string | null } | undefined;
-  if (!head?.hash) return null;
-  const { n } = registry.sqlite.prepare('SELECT count(*) AS n FROM audit_log WHERE hash IS NOT NULL').get() as { n: number };
-  return { hash: head.hash, sequence: n };
+export async function chainHead(registry: Registry): Promise<ChainHead | null> {
+  const hash = await headHash(registry);
+  if (!hash) return null;
+  const counted = await queryRow<{ n: number }>(registry, sql`SELECT count(*) AS n FROM audit_log WHERE hash IS NOT NULL`);
+  return { hash, sequence: Number(counted?.n ?? 0) };
 }
 
 /** Every audit row, oldest first. */
-export function readAuditRows(registry: Registry): AuditRow[] {
-  return registry.sqlite.prepare('SELECT * FROM audit_log ORDER BY id').all() as AuditRow[];
+export async function readAuditRows(registry: Registry): Promise<AuditRow[]> {
+  return queryRows<AuditRow>(registry, sql`SELECT * FROM audit_log ORDER BY id`);
 }
 
 /** Digest of the rows written before the chain existed, as the genesis event records it. */
@@ -180,25 +183,25 @@ interface StoredVersionState {
   withdrawn_by: string | null;
 }
 
-const VERSIONS_SQL = `SELECT m.slug, v.number, v.sha256, v.status, v.created_by, v.approved_by, v.retired_by, v.withdrawn_by
-  FROM material_versions v JOIN materials m ON m.id = v.material_id ORDER BY m.slug, v.number`;
-
 /** Every version's stored hash, status and lifecycle actors, by slug then number. */
-export function storedVersionStates(registry: Registry): StoredVersionState[] {
-  return registry.sqlite.prepare(VERSIONS_SQL).all() as StoredVersionState[];
+export async function storedVersionStates(registry: Registry): Promise<StoredVersionState[]> {
+  return queryRows<StoredVersionState>(
+    registry,
+    sql`SELECT m.slug, v.number, v.sha256, v.status, v.created_by, v.approved_by, v.retired_by, v.withdrawn_by
+      FROM material_versions v JOIN materials m ON m.id = v.material_id ORDER BY m.slug, v.number`,
+  );
 }
 
 /**
  * Start the chain if it has not started: on a fresh registry and on one upgraded from before the chain.
  * One write transaction, re-checked inside, so concurrent first opens append one genesis only.
  */
-export function ensureGenesis(registry: Registry): void {
-  if (headHash(registry) !== null) return;
-  registry.sqlite
-    .transaction(() => {
-      if (headHash(registry) !== null) return;
-      const earlier = readAuditRows(registry);
-      const versions: ChainedVersion[] = storedVersionStates(registry).map((v) => ({
+export async function ensureGenesis(registry: Registry): Promise<void> {
+  if ((await headHash(registry)) !== null) return;
+  await immediateTransaction(registry, async () => {
+    if ((await headHash(registry)) !== null) return;
+    const earlier = await readAuditRows(registry);
+    const versions: ChainedVersion[] = (await storedVersionStates(registry)).map((v) => ({
         ref: formatRef(v.slug, v.number),
         sha256: v.sha256,
         status: v.status,
@@ -207,13 +210,12 @@ export function ensureGenesis(registry: Registry): void {
         retired_by: v.retired_by,
         withdrawn_by: v.withdrawn_by,
       }));
-      appendEvent(registry, {
-        actor: SYSTEM_ACTOR,
-        action: GENESIS_TYPE,
-        detail: { versions, earlier_events: earlier.length, earlier_events_sha256: earlierEventsSha256(earlier) },
-      });
-    })
-    .immediate();
+    await appendEvent(registry, {
+      actor: SYSTEM_ACTOR,
+      action: GENESIS_TYPE,
+      detail: { versions, earlier_events: earlier.length, earlier_events_sha256: earlierEventsSha256(earlier) },
+    });
+  });
 }
 
 /** What walking the chain found. */

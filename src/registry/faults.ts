@@ -33,9 +33,9 @@ export function environmentFault(err: unknown, file: string): EnvironmentError |
 }
 
 /** Rethrow SQLite's environment faults as EnvironmentErrors; other errors pass unchanged. */
-export function translateFaults<T>(file: string, run: () => T): T {
+export async function translateFaults<T>(file: string, run: () => T | Promise<T>): Promise<T> {
   try {
-    return run();
+    return await run();
   } catch (err) {
     throw environmentFault(err, file) ?? err;
   }

@@ -1,7 +1,8 @@
 /**
  * Plain prepared statements on the better-sqlite3 handle for the API's hot read paths, where drizzle's result
  * mapping doubled the cost (9 µs → 22 µs measured for the status lookup). One statement per registry, prepared
- * on first use. Everything else reads through drizzle.
+ * on first use. Everything else reads through drizzle. Asynchronous like every registry read (the statements
+ * themselves run at once), so another backend can answer them its own way.
  */
 import type { Statement } from 'better-sqlite3';
 import type { Registry } from './open.ts';
@@ -27,7 +28,7 @@ const statusOf = preparedPer(
 );
 
 /** Status of slug@number, or undefined when there is no such version. */
-export function versionStatus(registry: Registry, slug: string, number: number): VersionStatus | undefined {
+export async function versionStatus(registry: Registry, slug: string, number: number): Promise<VersionStatus | undefined> {
   return statusOf(registry).get(slug, number)?.status;
 }
 
@@ -48,7 +49,7 @@ const tokenBy = preparedPer(
 );
 
 /** The unrevoked token whose secret hashes to `sha256`, or undefined. */
-export function activeToken(registry: Registry, sha256: string): ActiveToken | undefined {
+export async function activeToken(registry: Registry, sha256: string): Promise<ActiveToken | undefined> {
   return tokenBy(registry).get(sha256);
 }
 
@@ -57,7 +58,7 @@ export function activeToken(registry: Registry, sha256: string): ActiveToken | u
  * registry busy with another writer skips the note instead of stalling the server's event loop. Never throws:
  * last use is a convenience, never a reason to refuse a request.
  */
-export function noteTokenUse(registry: Registry, tokenId: string, at: string): void {
+export async function noteTokenUse(registry: Registry, tokenId: string, at: string): Promise<void> {
   const busyTimeout = registry.sqlite.pragma('busy_timeout', { simple: true }) as number;
   try {
     registry.sqlite.pragma('busy_timeout = 0');
@@ -73,6 +74,7 @@ export function noteTokenUse(registry: Registry, tokenId: string, at: string): v
  * Two counters that move when the registry changes: `own()`, commits on this connection (`SELECT
  * total_changes()`, no lock, about 0.1 µs); `other()`, commits by any other connection (`PRAGMA data_version`,
  * https://sqlite.org/pragma.html#pragma_data_version; a read transaction, about 5 µs under WAL).
+ * SQLite only, and synchronous on purpose: it runs on every cached request (src/api/registry-changes.ts).
  */
 export function changeCounters(registry: Registry): { own: () => number; other: () => number } {
   const own = registry.sqlite.prepare<[], number>('SELECT total_changes()').pluck();

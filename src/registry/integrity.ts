@@ -3,7 +3,9 @@
  * (compared by their full SQL, so a same-named trigger that does nothing is caught), and SQLite's
  * `PRAGMA integrity_check`.
  */
+import { sql as sqlText } from 'drizzle-orm';
 import { readMigrationFiles } from 'drizzle-orm/migrator';
+import { queryRows } from './sql.ts';
 import type { Registry } from './open.ts';
 import { MIGRATIONS_FOLDER } from './open.ts';
 
@@ -53,12 +55,9 @@ export interface TriggerCheck {
   unexpected: string[];
 }
 
-export function checkTriggers(registry: Registry): TriggerCheck {
-  const actual = new Map(
-    (registry.sqlite.prepare("SELECT name, sql FROM sqlite_master WHERE type = 'trigger'").all() as { name: string; sql: string | null }[]).map(
-      (t) => [t.name, t.sql ?? ''],
-    ),
-  );
+export async function checkTriggers(registry: Registry): Promise<TriggerCheck> {
+  const triggers = await queryRows<{ name: string; sql: string | null }>(registry, sqlText`SELECT name, sql FROM sqlite_master WHERE type = 'trigger'`);
+  const actual = new Map(triggers.map((t) => [t.name, t.sql ?? '']));
   const want = expectedTriggers();
   const missing: string[] = [];
   const altered: string[] = [];
@@ -72,7 +71,7 @@ export function checkTriggers(registry: Registry): TriggerCheck {
 }
 
 /** SQLite's own structural check: an empty list when it says "ok", else its findings (at most 100). */
-export function integrityCheck(registry: Registry): string[] {
+export async function integrityCheck(registry: Registry): Promise<string[]> {
   const rows = registry.sqlite.pragma('integrity_check(100)') as { integrity_check: string }[];
   const lines = rows.map((r) => r.integrity_check);
   return lines.length === 1 && lines[0] === 'ok' ? [] : lines;

@@ -78,7 +78,7 @@ function writable(file: string): boolean {
  * loses the race to another process is re-checked and skipped. A file that is not writable is opened
  * read-only: it serves reads, and writes are refused.
  */
-export function openRegistry(path?: string, options: OpenOptions = {}): Registry {
+export async function openRegistry(path?: string, options: OpenOptions = {}): Promise<Registry> {
   const file = registryPath(path);
   const memory = file === ':memory:';
   const exists = memory || existsSync(file);
@@ -117,7 +117,7 @@ export function openRegistry(path?: string, options: OpenOptions = {}): Registry
       applyMigrations(db, sqlite);
     }
     const registry: Registry = { path: file, db, sqlite, readonly, created: !exists, identity: identityOf(file), close: () => sqlite.close() };
-    if (!readonly) ensureGenesis(registry);
+    if (!readonly) await ensureGenesis(registry);
     return registry;
   } catch (err) {
     sqlite.close();
@@ -179,6 +179,14 @@ export function stillSameFile(registry: Registry): boolean {
   } catch {
     return false;
   }
+}
+
+/**
+ * Copy the live database to `file` with SQLite's online backup API, every page in one step (see
+ * service/registry-admin.ts `backup`). SQLite only.
+ */
+export async function onlineBackup(registry: Registry, file: string, pagesPerStep: number): Promise<{ totalPages: number }> {
+  return registry.sqlite.backup(file, { progress: () => pagesPerStep });
 }
 
 /**

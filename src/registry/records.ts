@@ -8,6 +8,8 @@ import { tableRangeNm } from '../table.ts';
 import { canonicalJson, canonicalSha256, sha256Hex } from './canonical.ts';
 import { appendEvent, type NewEvent } from './chain.ts';
 import { translateFaults } from './faults.ts';
+import { first, queryRow, queryRows } from './sql.ts';
+import { immediateTransaction } from './transaction.ts';
 import { stillSameFile, type Registry } from './open.ts';
 import { formatRef } from './refs.ts';
 import { materials, materialVersions } from './schema.ts';
@@ -54,9 +56,9 @@ export function isServerProcess(registry: Registry): boolean {
  * "server-only" only the server process writes, so the two-person rule rests on tokens, not on names a
  * command line may choose.
  */
-function refuseDirectWrite(registry: Registry): void {
+async function refuseDirectWrite(registry: Registry): Promise<void> {
   if (servedRegistries.has(registry)) return;
-  const row = registry.sqlite.prepare("SELECT value FROM registry_settings WHERE key = 'writes'").get() as { value: string } | undefined;
+  const row = await queryRow<{ value: string }>(registry, sql`SELECT value FROM registry_settings WHERE key = 'writes'`);
   if (row && JSON.parse(row.value) === 'server-only')
     throw new ConflictError(
       `registry ${registry.path} takes writes only through its server (setting writes=server-only), so who acts comes from a token; give --server URL (or set NKLEDGER_SERVER) and log in; nothing was written`,
@@ -66,11 +68,15 @@ function refuseDirectWrite(registry: Registry): void {
 
 /**
  * Run `write` as one BEGIN IMMEDIATE transaction: it sees and holds the write lock from its first statement.
- * Refused before it starts when the registry is read-only or its file was removed or replaced since it was
- * opened, and at its start when the registry takes writes only through its server and this is not the server;
- * SQLite's faults (full disk, I/O error, corruption) become EnvironmentErrors, the transaction rolled back whole.
+ * Write transactions of one Registry run one at a time (an async mutex, src/registry/transaction.ts); one
+ * started inside another's callback joins it as a savepoint instead of waiting for it.
+ * `write` must await only database work on this registry (no network, no worker pool): the lock is held
+ * meanwhile. Refused before it starts when the registry is read-only or its file was removed or replaced
+ * since it was opened, and at its start when the registry takes writes only through its server and this is
+ * not the server; SQLite's faults (full disk, I/O error, corruption) become EnvironmentErrors, the
+ * transaction rolled back whole.
  */
-export function writeTransaction<T>(registry: Registry, write: () => T): T {
+export async function writeTransaction<T>(registry: Registry, write: () => Promise<T>): Promise<T> {
   if (registry.readonly) {
     throw new EnvironmentError(
       'registry-read-only',
@@ -84,22 +90,20 @@ export function writeTransaction<T>(registry: Registry, write: () => T): T {
     );
   }
   return translateFaults(registry.path, () =>
-    registry.sqlite
-      .transaction(() => {
-        refuseDirectWrite(registry);
-        return write();
-      })
-      .immediate(),
+    immediateTransaction(registry, async () => {
+      await refuseDirectWrite(registry);
+      return write();
+    }),
   );
 }
 
 /** Append an audit event to the hash chain (src/registry/chain.ts); call inside `writeTransaction`. */
-export function appendAudit(registry: Registry, entry: NewEvent): void {
-  appendEvent(registry, entry);
+export async function appendAudit(registry: Registry, entry: NewEvent): Promise<void> {
+  await appendEvent(registry, entry);
 }
 
-export function findMaterial(registry: Registry, slug: string): MaterialRow {
-  const row = registry.db.select().from(materials).where(eq(materials.slug, slug)).get();
+export async function findMaterial(registry: Registry, slug: string): Promise<MaterialRow> {
+  const row = await first(registry.db.select().from(materials).where(eq(materials.slug, slug)).limit(1));
   if (!row)
     throw new NotFoundError(
       `no material "${slug}" in the registry (\`nkledger list\` lists them; \`nkledger material add ${slug} --name NAME\` creates it)`,
@@ -108,12 +112,14 @@ export function findMaterial(registry: Registry, slug: string): MaterialRow {
   return row;
 }
 
-export function findVersion(registry: Registry, material: MaterialRow, number: number): VersionRow {
-  const row = registry.db
-    .select()
-    .from(materialVersions)
-    .where(and(eq(materialVersions.materialId, material.id), eq(materialVersions.number, number)))
-    .get();
+export async function findVersion(registry: Registry, material: MaterialRow, number: number): Promise<VersionRow> {
+  const row = await first(
+    registry.db
+      .select()
+      .from(materialVersions)
+      .where(and(eq(materialVersions.materialId, material.id), eq(materialVersions.number, number)))
+      .limit(1),
+  );
   if (!row) throw new NotFoundError(`${material.slug} has no version ${number}: ${existingVersions(material)}`, 'version-unknown');
   return row;
 }
@@ -213,25 +219,27 @@ export function versionRecord(slug: string, row: VersionRow, content: VersionCon
 }
 
 /** Newest approved (not retired) version number of a material, or null. */
-export function latestApprovedNumber(registry: Registry, materialId: number): number | null {
-  const row = registry.db
-    .select({ number: sql<number | null>`max(${materialVersions.number})` })
-    .from(materialVersions)
-    .where(and(eq(materialVersions.materialId, materialId), eq(materialVersions.status, 'approved')))
-    .get();
+export async function latestApprovedNumber(registry: Registry, materialId: number): Promise<number | null> {
+  const row = await first(
+    registry.db
+      .select({ number: sql<number | null>`max(${materialVersions.number})` })
+      .from(materialVersions)
+      .where(and(eq(materialVersions.materialId, materialId), eq(materialVersions.status, 'approved'))),
+  );
   return row?.number ?? null;
 }
 
 /** The latest approved version number of every material that has one, in one query (lists of many materials). */
-export function latestApprovedNumbers(registry: Registry): Map<number, number> {
-  const rows = registry.sqlite
-    .prepare("SELECT material_id AS id, max(number) AS number FROM material_versions WHERE status = 'approved' GROUP BY material_id")
-    .all() as { id: number; number: number }[];
+export async function latestApprovedNumbers(registry: Registry): Promise<Map<number, number>> {
+  const rows = await queryRows<{ id: number; number: number }>(
+    registry,
+    sql`SELECT material_id AS id, max(number) AS number FROM material_versions WHERE status = 'approved' GROUP BY material_id`,
+  );
   return new Map(rows.map((r) => [r.id, r.number]));
 }
 
 /** `latest`: the numbers of latestApprovedNumbers, so a list costs one query instead of one per material. */
-export function materialRecord(registry: Registry, row: MaterialRow, latest?: Map<number, number>): MaterialRecord {
+export async function materialRecord(registry: Registry, row: MaterialRow, latest?: Map<number, number>): Promise<MaterialRecord> {
   return {
     slug: row.slug,
     name: row.name,
@@ -240,7 +248,7 @@ export function materialRecord(registry: Registry, row: MaterialRow, latest?: Ma
     created_by: row.createdBy,
     created_at: row.createdAt,
     versions: row.lastVersion,
-    latest_approved: latest ? (latest.get(row.id) ?? null) : latestApprovedNumber(registry, row.id),
+    latest_approved: latest ? (latest.get(row.id) ?? null) : await latestApprovedNumber(registry, row.id),
   };
 }
 
@@ -257,12 +265,11 @@ const CONTENT_SUMMARY = sql<string>`json_object(
   'kk', CASE WHEN json_type(content, '$.kk') = 'object' THEN json_object('verdict', content ->> '$.kk.verdict') END)`;
 
 /** The version rows of a material, oldest first, with `content` cut down to CONTENT_SUMMARY (enough for versionRecord). */
-export function versionSummaryRows(registry: Registry, materialId: number): VersionRow[] {
+export async function versionSummaryRows(registry: Registry, materialId: number): Promise<VersionRow[]> {
   const { content: _content, ...columns } = getTableColumns(materialVersions);
   return registry.db
     .select({ ...columns, content: CONTENT_SUMMARY })
     .from(materialVersions)
     .where(eq(materialVersions.materialId, materialId))
-    .orderBy(asc(materialVersions.number))
-    .all();
+    .orderBy(asc(materialVersions.number));
 }

@@ -163,35 +163,35 @@ export interface DemoSummary {
  * Fill an empty registry with the demo history and write the design lockfile to `lockPath`.
  * `dataDir` is data/marrowick. Returns what happened, step by step.
  */
-export function buildDemoRegistry(registry: Registry, dataDir: string, lockPath: string): DemoSummary {
+export async function buildDemoRegistry(registry: Registry, dataDir: string, lockPath: string): Promise<DemoSummary> {
   const steps: string[] = [];
-  for (const m of MATERIALS) createMaterial(registry, m, DEMO_EDITOR);
-  const put = (slug: string, key: string): string => {
+  for (const m of MATERIALS) await createMaterial(registry, m, DEMO_EDITOR);
+  const put = async (slug: string, key: string): Promise<string> => {
     const spec = IMPORTS[key];
     const bytes = new Uint8Array(readFileSync(join(dataDir, spec.file)));
-    const v = importMeasurement(registry, { slug, bytes, file: spec.file, fit: spec.fit, provenance: spec.provenance }, DEMO_EDITOR);
+    const v = await importMeasurement(registry, { slug, bytes, file: spec.file, fit: spec.fit, provenance: spec.provenance }, DEMO_EDITOR);
     steps.push(`imported ${spec.file} → ${v.ref} (fit ${spec.fit.model}, KK checked), draft`);
     return v.ref;
   };
-  const ok = (ref: string) => {
-    approve(registry, ref, DEMO_APPROVER);
+  const ok = async (ref: string) => {
+    await approve(registry, ref, DEMO_APPROVER);
     steps.push(`approved ${ref} by ${DEMO_APPROVER}`);
   };
 
-  const sinxA = put('sinx-pecvd', 'sinx-a');
-  ok(sinxA);
+  const sinxA = await put('sinx-pecvd', 'sinx-a');
+  await ok(sinxA);
   for (const [slug, key] of [
     ['sio2-thermal', 'sio2'],
     ['mgf2-evaporated', 'mgf2'],
     ['al2o3-ald', 'al2o3'],
     ['ito-sputtered', 'ito'],
   ] as const) {
-    ok(put(slug, key));
+    await ok(await put(slug, key));
   }
 
   // A design made while recipe A was current pins it, with the low-index layers.
   let lock = emptyLockfile();
-  for (const ref of [sinxA, 'sio2-thermal@1', 'mgf2-evaporated@1']) lock = lockAdd(registry, lock, ref).lock;
+  for (const ref of [sinxA, 'sio2-thermal@1', 'mgf2-evaporated@1']) lock = (await lockAdd(registry, lock, ref)).lock;
   writeLockfile(lockPath, lock);
   steps.push(
     `design lockfile ${lockPath} pins ${Object.keys(lock.materials)
@@ -200,11 +200,12 @@ export function buildDemoRegistry(registry: Registry, dataDir: string, lockPath:
   );
 
   // The recipe changes: B replaces A, and A is retired; the old pin still resolves, with a warning.
-  ok(put('sinx-pecvd', 'sinx-b'));
-  retire(registry, sinxA, 'deposition recipe changed to B (Si-rich); recipe A is no longer run', DEMO_APPROVER);
+  await ok(await put('sinx-pecvd', 'sinx-b'));
+  await retire(registry, sinxA, 'deposition recipe changed to B (Si-rich); recipe A is no longer run', DEMO_APPROVER);
   steps.push(`retired ${sinxA}: recipe changed`);
 
   // A new material waits for a second pair of eyes.
-  put('a-si-h', 'asi');
-  return { steps, lockfile: lockPath, lockReport: lockVerify(registry, lock) };
+  await put('a-si-h', 'asi');
+  return { steps, lockfile: lockPath, lockReport: await lockVerify(registry, lock) };
+
 }

@@ -84,9 +84,10 @@ function largest(x: number[], ya: number[], yb: number[]): LargestDifference {
   return { max_abs: Math.abs(yb[at] - ya[at]), at_nm: x[at], rms: Math.sqrt(sumSq / x.length) };
 }
 
-export function diffVersions(registry: Registry, refA: string, refB: string): VersionDiff {
-  const A = resolveRow(registry, refA);
-  const B = resolveRow(registry, refB);
+export async function diffVersions(registry: Registry, refA: string, refB: string): Promise<VersionDiff> {
+  const A = await resolveRow(registry, refA);
+  const B = await resolveRow(registry, refB);
+
   const ca = verifiedContentOf(A.row, A.resolved.ref);
   const cb = verifiedContentOf(B.row, B.resolved.ref);
   const ra = usableRangeNm(ca);

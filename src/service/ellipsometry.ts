@@ -538,11 +538,12 @@ export function answerOf(prepared: PreparedEllipsometry, report: EllipsometryRep
  * evaluated on the measured wavelengths as the table — derived from the model, which the stored fit and the
  * notes say. The film is the first layer with a free model parameter (else the first with a free thickness).
  */
-export function storeFittedFilm(
+export async function storeFittedFilm(
   registry: Registry,
   input: { slug: string; prepared: PreparedEllipsometry; report: EllipsometryReport },
   actor: string,
-): ImportedVersion {
+): Promise<ImportedVersion> {
+
   const { prepared, report } = input;
   const { sample } = prepared;
   const filmIndex =

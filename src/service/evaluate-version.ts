@@ -98,8 +98,14 @@ export function withUnitColumn<T extends { wavelength_nm: number[] }>(e: T, unit
   return { ...e, [xColumnName(unit)]: e.wavelength_nm.map((w) => +fromWavelengthNm(w, unit).toPrecision(12)) };
 }
 
-export function evaluateVersion(registry: Registry, ref: string, wavelengthsNm: number[], options: EvaluateOptions = {}): VersionEvaluation {
-  const { row, resolved } = resolveRow(registry, ref);
+export async function evaluateVersion(
+  registry: Registry,
+  ref: string,
+  wavelengthsNm: number[],
+  options: EvaluateOptions = {},
+): Promise<VersionEvaluation> {
+  const { row, resolved } = await resolveRow(registry, ref);
+
   return evaluateResolved(resolved, verifiedContentOf(row, resolved.ref), wavelengthsNm, options);
 }
 

@@ -38,13 +38,14 @@ export function gridNm(lo: number, hi: number, stepNm: number): number[] {
   return grid;
 }
 
-export function exportVersion(
+export async function exportVersion(
   registry: Registry,
   ref: string,
   format: VersionExportFormat,
   options: { xUnit?: SpectralUnit; stepNm?: number; source?: 'table' | 'model' } = {},
-): VersionExport {
-  const v = showVersion(registry, ref);
+): Promise<VersionExport> {
+  const v = await showVersion(registry, ref);
+
   const base = { ref: v.ref, sha256: v.sha256, notices: v.notices, warnings: v.warnings };
   if (format === 'json') return { ...base, text: `${JSON.stringify(v, null, 2)}\n` };
   let table: NkTable;

@@ -97,13 +97,13 @@ export function prepareMeasurement(input: Omit<MeasurementImport, 'slug' | 'prov
 }
 
 /** Store a prepared measurement as a new draft of `slug` (one write transaction). */
-export function storeMeasurement(
+export async function storeMeasurement(
   registry: Registry,
   input: Pick<MeasurementImport, 'slug' | 'file' | 'provenance'>,
   prepared: PreparedMeasurement,
   actor: string,
-): MeasurementImported {
-  const stored = importVersion(
+): Promise<MeasurementImported> {
+  const stored = await importVersion(
     registry,
     {
       slug: input.slug,
@@ -123,26 +123,31 @@ export function storeMeasurement(
 }
 
 /** Parse, check and store a measured table as a new draft of `slug`. */
-export function importMeasurement(registry: Registry, input: MeasurementImport, actor: string): MeasurementImported {
+export async function importMeasurement(registry: Registry, input: MeasurementImport, actor: string): Promise<MeasurementImported> {
   return storeMeasurement(registry, input, prepareMeasurement(input), actor);
 }
 
 /**
  * Several files as drafts of their materials in one transaction: every file is parsed, checked and fitted
  * first (a refusal names its file), then all versions are written together or none is (a duplicate or an
- * unknown material rolls back the whole batch; better-sqlite3 nests the inner transactions as savepoints).
+ * unknown material rolls back the whole batch; each version's own transaction joins the batch's as a savepoint).
  */
-export function importMeasurements(registry: Registry, inputs: MeasurementImport[], actor: string): MeasurementImported[] {
+export async function importMeasurements(registry: Registry, inputs: MeasurementImport[], actor: string): Promise<MeasurementImported[]> {
   if (inputs.length === 0) throw new InputError('no-files', 'no files to import');
   return storeMeasurements(registry, inputs, inputs.map(prepareMeasurement), actor);
 }
 
 /** Store prepared measurements as drafts in one transaction: all or none (the API prepares them on its compute threads). */
-export function storeMeasurements(
+export async function storeMeasurements(
   registry: Registry,
   inputs: Pick<MeasurementImport, 'slug' | 'file' | 'provenance'>[],
   prepared: PreparedMeasurement[],
   actor: string,
-): MeasurementImported[] {
-  return writeTransaction(registry, () => inputs.map((input, i) => storeMeasurement(registry, input, prepared[i], actor)));
+): Promise<MeasurementImported[]> {
+  return writeTransaction(registry, async () => {
+    const stored: MeasurementImported[] = [];
+    for (const [i, input] of inputs.entries()) stored.push(await storeMeasurement(registry, input, prepared[i], actor));
+    return stored;
+  });
+
 }

@@ -16,8 +16,8 @@ import { readSettings } from './settings.ts';
 import { resolveRow } from './versions.ts';
 
 /** Re-read a version inside the write transaction and insist on its current status. */
-function lockedVersion(registry: Registry, ref: string, expected: VersionStatus, verb: 'approve' | 'retire' | 'withdraw') {
-  const { material, row } = resolveRow(registry, ref);
+async function lockedVersion(registry: Registry, ref: string, expected: VersionStatus, verb: 'approve' | 'retire' | 'withdraw') {
+  const { material, row } = await resolveRow(registry, ref);
   if (row.status !== expected) {
     const done = { approve: 'approved', retire: 'retired', withdraw: 'withdrawn' }[verb];
     throw new ConflictError(
@@ -28,13 +28,12 @@ function lockedVersion(registry: Registry, ref: string, expected: VersionStatus,
   return { material, row };
 }
 
-function transition(registry: Registry, row: VersionRow, from: VersionStatus, set: Partial<VersionRow>): VersionRow {
-  const updated = registry.db
+async function transition(registry: Registry, row: VersionRow, from: VersionStatus, set: Partial<VersionRow>): Promise<VersionRow> {
+  const [updated] = await registry.db
     .update(materialVersions)
     .set(set)
     .where(and(eq(materialVersions.id, row.id), eq(materialVersions.status, from)))
-    .returning()
-    .get();
+    .returning();
   if (!updated) throw new ConflictError(`version changed status while being updated; try again`, 'version-changed');
   return updated;
 }
@@ -61,14 +60,14 @@ export const UNACCEPTED_WARNINGS = 'approval-warnings-unaccepted';
  * did not converge (review.ts `blocking`) is refused unless `acceptWarnings` gives a reason, which goes
  * into the audit event (part of its hashed document). The refusal carries the review summary.
  */
-export function approve(registry: Registry, ref: string, actor: string, options: ApproveOptions = {}): ApprovalResult {
+export async function approve(registry: Registry, ref: string, actor: string, options: ApproveOptions = {}): Promise<ApprovalResult> {
   const who = checkActor(actor);
   const reason =
     options.acceptWarnings === undefined ? null : requireReason(options.acceptWarnings, 'approve it despite its warnings', 'accept_warnings');
-  return writeTransaction(registry, () => {
-    const { material, row } = lockedVersion(registry, ref, 'draft', 'approve');
+  return writeTransaction(registry, async () => {
+    const { material, row } = await lockedVersion(registry, ref, 'draft', 'approve');
     const self = sameUser(row.createdBy, who);
-    if (self && !readSettings(registry).allow_self_approval) {
+    if (self && !(await readSettings(registry)).allow_self_approval) {
       throw new ConflictError(
         `${who === row.createdBy ? who : `${who} (the same user as ${row.createdBy})`} created ${material.slug}@${row.number} and cannot also approve it: someone else must (a one-person lab can allow self-approval with "nkledger settings set allow_self_approval on")`,
         'two-person-rule',
@@ -90,8 +89,8 @@ export function approve(registry: Registry, ref: string, actor: string, options:
       );
     }
     const accepted = reason === null ? null : { reason, findings: review.blocking.map((b) => b.rule) };
-    const updated = transition(registry, row, 'draft', { status: 'approved', approvedBy: who, approvedAt: nowIso(), selfApproved: self });
-    appendAudit(registry, {
+    const updated = await transition(registry, row, 'draft', { status: 'approved', approvedBy: who, approvedAt: nowIso(), selfApproved: self });
+    await appendAudit(registry, {
       actor: who,
       action: 'version.approve',
       materialId: material.id,
@@ -126,13 +125,13 @@ function requireReason(reason: string | undefined, verb: string, option = 'reaso
 }
 
 /** Retire an approved version. It still resolves (pins never break) but warns wherever used. */
-export function retire(registry: Registry, ref: string, reason: string, actor: string): VersionRecord {
+export async function retire(registry: Registry, ref: string, reason: string, actor: string): Promise<VersionRecord> {
   const who = checkActor(actor);
   const why = requireReason(reason, 'retire it');
-  return writeTransaction(registry, () => {
-    const { material, row } = lockedVersion(registry, ref, 'approved', 'retire');
-    const updated = transition(registry, row, 'approved', { status: 'retired', retiredBy: who, retiredAt: nowIso(), retireReason: why });
-    appendAudit(registry, {
+  return writeTransaction(registry, async () => {
+    const { material, row } = await lockedVersion(registry, ref, 'approved', 'retire');
+    const updated = await transition(registry, row, 'approved', { status: 'retired', retiredBy: who, retiredAt: nowIso(), retireReason: why });
+    await appendAudit(registry, {
       actor: who,
       action: 'version.retire',
       materialId: material.id,
@@ -145,13 +144,13 @@ export function retire(registry: Registry, ref: string, reason: string, actor: s
 }
 
 /** Withdraw a draft nobody should use (it is kept, never deleted). The reason is optional. */
-export function withdraw(registry: Registry, ref: string, actor: string, reason?: string): VersionRecord {
+export async function withdraw(registry: Registry, ref: string, actor: string, reason?: string): Promise<VersionRecord> {
   const who = checkActor(actor);
   const why = reason === undefined || reason.trim() === '' ? null : requireReason(reason, 'withdraw it');
-  return writeTransaction(registry, () => {
-    const { material, row } = lockedVersion(registry, ref, 'draft', 'withdraw');
-    const updated = transition(registry, row, 'draft', { status: 'withdrawn', withdrawnBy: who, withdrawnAt: nowIso(), withdrawReason: why });
-    appendAudit(registry, {
+  return writeTransaction(registry, async () => {
+    const { material, row } = await lockedVersion(registry, ref, 'draft', 'withdraw');
+    const updated = await transition(registry, row, 'draft', { status: 'withdrawn', withdrawnBy: who, withdrawnAt: nowIso(), withdrawReason: why });
+    await appendAudit(registry, {
       actor: who,
       action: 'version.withdraw',
       materialId: material.id,

@@ -119,14 +119,14 @@ export interface LockAddResult {
 }
 
 /** Pin `ref` in `lock` (returns a new lockfile; the input is not changed). Withdrawn versions are refused. */
-export function lockAdd(registry: Registry, lock: Lockfile, ref: string): LockAddResult {
-  const { resolved } = resolveRow(registry, ref);
+export async function lockAdd(registry: Registry, lock: Lockfile, ref: string): Promise<LockAddResult> {
+  const { resolved } = await resolveRow(registry, ref);
   if (resolved.status === 'withdrawn') throw new ConflictError(`${resolved.ref} was withdrawn; a design must not pin it`, 'lock-withdrawn');
   const entry: LockEntry = { version: resolved.version, sha256: resolved.sha256, added_at: new Date().toISOString() };
   const replaced = lock.materials[resolved.slug] ?? null;
   const notices = resolved.notices.filter((n) => !n.includes('not a pin'));
   if (replaced && replaced.version !== entry.version) notices.push(`replaced ${formatRef(resolved.slug, replaced.version)} with ${resolved.ref}`);
-  const head = chainHead(registry);
+  const head = await chainHead(registry);
   return {
     lock: {
       ...lock,
@@ -181,8 +181,8 @@ export interface LockVerifyReport {
   warnings: number;
 }
 
-function checkHistory(registry: Registry, locked: LockedHead | undefined): LockHistoryCheck {
-  const walk = walkChain(readAuditRows(registry));
+async function checkHistory(registry: Registry, locked: LockedHead | undefined): Promise<LockHistoryCheck> {
+  const walk = walkChain(await readAuditRows(registry));
   const registryHead = walk.head ? { hash: walk.head.hash, sequence: walk.head.sequence } : null;
   const base = { locked_head: locked ?? null, registry_head: registryHead };
   if (walk.problems.length > 0) {
@@ -223,44 +223,44 @@ function checkHistory(registry: Registry, locked: LockedHead | undefined): LockH
  * withdrawn versions are warnings, and failures with `strict`. Then prove the registry's history still
  * contains the audit-chain head the lockfile recorded.
  */
-export function lockVerify(registry: Registry, lock: Lockfile, options: { strict?: boolean } = {}): LockVerifyReport {
+export async function lockVerify(registry: Registry, lock: Lockfile, options: { strict?: boolean } = {}): Promise<LockVerifyReport> {
   const strict = options.strict ?? false;
-  const entries = Object.keys(lock.materials)
-    .sort()
-    .map((slug): LockCheck => {
-      const locked = lock.materials[slug];
-      const ref = formatRef(slug, locked.version);
-      const base = { ref, slug, version: locked.version, locked_sha256: locked.sha256 };
-      let row;
-      try {
-        row = resolveRow(registry, ref).row;
-      } catch (err) {
-        if (!(err instanceof NotFoundError)) throw err;
-        return { ...base, registry_sha256: null, status: null, outcome: 'missing', failed: true, message: `${ref} is missing: ${err.message}` };
-      }
-      const computed = recomputedSha256(row);
-      if (computed !== locked.sha256) {
-        const column = row.sha256 === locked.sha256 ? ' (its stored hash column still says the locked value: the content was changed under it)' : '';
-        return {
-          ...base,
-          registry_sha256: computed,
-          status: row.status,
-          outcome: 'mismatch',
-          failed: true,
-          message: `${ref} content differs: locked sha256 ${locked.sha256.slice(0, 12)}…, its content now hashes to ${computed === null ? 'nothing (unreadable)' : `${computed.slice(0, 12)}…`}${column}`,
-        };
-      }
-      if (row.status === 'approved')
-        return { ...base, registry_sha256: computed, status: row.status, outcome: 'ok', failed: false, message: `${ref} ok` };
-      const why =
-        row.status === 'retired'
-          ? `retired: ${row.retireReason}`
-          : row.status === 'withdrawn'
-            ? 'withdrawn: nobody should use it'
-            : 'a draft, not approved';
-      return { ...base, registry_sha256: computed, status: row.status, outcome: row.status, failed: strict, message: `${ref} is ${why}` };
-    });
-  const history = checkHistory(registry, lock.registry_head);
+  const entries: LockCheck[] = [];
+  for (const slug of Object.keys(lock.materials).sort()) entries.push(await checkEntry(slug));
+  async function checkEntry(slug: string): Promise<LockCheck> {
+    const locked = lock.materials[slug];
+    const ref = formatRef(slug, locked.version);
+    const base = { ref, slug, version: locked.version, locked_sha256: locked.sha256 };
+    let row;
+    try {
+      row = (await resolveRow(registry, ref)).row;
+    } catch (err) {
+      if (!(err instanceof NotFoundError)) throw err;
+      return { ...base, registry_sha256: null, status: null, outcome: 'missing', failed: true, message: `${ref} is missing: ${err.message}` };
+    }
+    const computed = recomputedSha256(row);
+    if (computed !== locked.sha256) {
+      const column = row.sha256 === locked.sha256 ? ' (its stored hash column still says the locked value: the content was changed under it)' : '';
+      return {
+        ...base,
+        registry_sha256: computed,
+        status: row.status,
+        outcome: 'mismatch',
+        failed: true,
+        message: `${ref} content differs: locked sha256 ${locked.sha256.slice(0, 12)}…, its content now hashes to ${computed === null ? 'nothing (unreadable)' : `${computed.slice(0, 12)}…`}${column}`,
+      };
+    }
+    if (row.status === 'approved')
+      return { ...base, registry_sha256: computed, status: row.status, outcome: 'ok', failed: false, message: `${ref} ok` };
+    const why =
+      row.status === 'retired'
+        ? `retired: ${row.retireReason}`
+        : row.status === 'withdrawn'
+          ? 'withdrawn: nobody should use it'
+          : 'a draft, not approved';
+    return { ...base, registry_sha256: computed, status: row.status, outcome: row.status, failed: strict, message: `${ref} is ${why}` };
+  }
+  const history = await checkHistory(registry, lock.registry_head);
   const failures = entries.filter((e) => e.failed).length + (history.failed ? 1 : 0);
   const warnings = entries.filter((e) => !e.failed && e.outcome !== 'ok').length + (history.outcome === 'not-recorded' ? 1 : 0);
   return { ok: failures === 0, strict, entries, history, failures, warnings };
@@ -276,24 +276,27 @@ export interface LockOutdatedEntry {
 }
 
 /** For each entry, the approved versions newer than the one locked (only entries that have some). */
-export function lockOutdated(registry: Registry, lock: Lockfile): LockOutdatedEntry[] {
+export async function lockOutdated(registry: Registry, lock: Lockfile): Promise<LockOutdatedEntry[]> {
   const out: LockOutdatedEntry[] = [];
   for (const slug of Object.keys(lock.materials).sort()) {
     const locked = lock.materials[slug];
     let material;
     try {
-      material = findMaterial(registry, slug);
+      material = await findMaterial(registry, slug);
     } catch (err) {
       if (err instanceof NotFoundError) continue; // lock verify reports missing materials
       throw err;
     }
-    const newer = registry.db
-      .select({ number: materialVersions.number })
-      .from(materialVersions)
-      .where(and(eq(materialVersions.materialId, material.id), eq(materialVersions.status, 'approved'), gt(materialVersions.number, locked.version)))
-      .orderBy(asc(materialVersions.number))
-      .all()
-      .map((r) => r.number);
+    const newer = (
+      await registry.db
+        .select({ number: materialVersions.number })
+        .from(materialVersions)
+        .where(
+          and(eq(materialVersions.materialId, material.id), eq(materialVersions.status, 'approved'), gt(materialVersions.number, locked.version)),
+        )
+        .orderBy(asc(materialVersions.number))
+    ).map((r) => r.number);
+
     if (newer.length)
       out.push({
         ref: formatRef(slug, locked.version),

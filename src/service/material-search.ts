@@ -7,9 +7,10 @@ import { listMaterials } from './materials.ts';
  * Materials whose slug, name, description or a tag contains every whitespace-separated word of
  * `query` (case-insensitive), in slug order. An empty query lists all materials.
  */
-export function searchMaterials(registry: Registry, query: string): MaterialRecord[] {
+export async function searchMaterials(registry: Registry, query: string): Promise<MaterialRecord[]> {
   const words = query.toLowerCase().split(/\s+/).filter(Boolean);
-  return listMaterials(registry).filter((m) => {
+  return (await listMaterials(registry)).filter(
+(m) => {
     const haystack = [m.slug, m.name, m.description, ...m.tags].join('\n').toLowerCase();
     return words.every((w) => haystack.includes(w));
   });

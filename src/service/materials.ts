@@ -13,6 +13,7 @@ import {
   writeTransaction,
 } from '../registry/records.ts';
 import { checkSlug, formatRef } from '../registry/refs.ts';
+import { first } from '../registry/sql.ts';
 import { auditLog, materials, materialVersions } from '../registry/schema.ts';
 import type { AuditEntry, MaterialRecord, VersionRecord, VersionStatus } from '../registry/types.ts';
 import { checkActor } from './actor.ts';
@@ -64,8 +65,8 @@ function checkTags(given: string[]): string[] {
  * letters, other Unicode forms, width variants, invisible characters; look-alike.ts): a lab that finds two
  * "SiO2" entries cannot tell which one its designs pin. `except` is the material being renamed.
  */
-function refuseLookAlikes(registry: Registry, slug: string | undefined, name: string | undefined, except?: string): void {
-  const others = registry.db.select({ slug: materials.slug, name: materials.name }).from(materials).all();
+async function refuseLookAlikes(registry: Registry, slug: string | undefined, name: string | undefined, except?: string): Promise<void> {
+  const others = await registry.db.select({ slug: materials.slug, name: materials.name }).from(materials);
   for (const other of others) {
     if (other.slug === except) continue;
     if (slug !== undefined && hiddenLookAlike(slug, other.slug)) {
@@ -88,22 +89,21 @@ function refuseLookAlikes(registry: Registry, slug: string | undefined, name: st
 }
 
 /** Create a material (no versions yet). Refuses a taken slug with ConflictError, and a look-alike slug or name. */
-export function createMaterial(registry: Registry, input: NewMaterial, actor: string): MaterialRecord {
+export async function createMaterial(registry: Registry, input: NewMaterial, actor: string): Promise<MaterialRecord> {
   const who = checkActor(actor);
   const slug = checkSlug(input.slug);
   const name = checkName(input.name);
   const description = checkDescription(input.description);
   const tags = checkTags(input.tags ?? []);
-  return writeTransaction(registry, () => {
-    const taken = registry.db.select({ id: materials.id }).from(materials).where(eq(materials.slug, slug)).get();
+  return writeTransaction(registry, async () => {
+    const taken = await first(registry.db.select({ id: materials.id }).from(materials).where(eq(materials.slug, slug)).limit(1));
     if (taken) throw new ConflictError(`material "${slug}" already exists`, 'material-exists');
-    refuseLookAlikes(registry, slug, name);
-    const row = registry.db
+    await refuseLookAlikes(registry, slug, name);
+    const [row] = await registry.db
       .insert(materials)
       .values({ slug, name, description, tags: JSON.stringify(tags), createdBy: who, createdAt: nowIso() })
-      .returning()
-      .get();
-    appendAudit(registry, { actor: who, action: 'material.create', materialId: row.id, material: slug, detail: { slug, name, description, tags } });
+      .returning();
+    await appendAudit(registry, { actor: who, action: 'material.create', materialId: row.id, material: slug, detail: { slug, name, description, tags } });
     return materialRecord(registry, row);
   });
 }
@@ -120,7 +120,12 @@ export interface MaterialEdit {
 }
 
 /** Edit name, description or tags (audit row `material.edit` with the old and new values of what changed). */
-export function editMaterial(registry: Registry, slugText: string, edit: MaterialEdit, actor: string): MaterialRecord & { changed: string[] } {
+export async function editMaterial(
+  registry: Registry,
+  slugText: string,
+  edit: MaterialEdit,
+  actor: string,
+): Promise<MaterialRecord & { changed: string[] }> {
   const who = checkActor(actor);
   const slug = checkSlug(slugText);
   if ([edit.name, edit.description, edit.tags, edit.addTags, edit.removeTags].every((v) => v === undefined)) {
@@ -129,9 +134,9 @@ export function editMaterial(registry: Registry, slugText: string, edit: Materia
   const name = edit.name === undefined ? undefined : checkName(edit.name);
   const description = edit.description === undefined ? undefined : checkDescription(edit.description);
   const added = checkTags(edit.addTags ?? []);
-  return writeTransaction(registry, () => {
-    const row = findMaterial(registry, slug);
-    if (name !== undefined) refuseLookAlikes(registry, undefined, name, slug);
+  return writeTransaction(registry, async () => {
+    const row = await findMaterial(registry, slug);
+    if (name !== undefined) await refuseLookAlikes(registry, undefined, name, slug);
     const before = { name: row.name, description: row.description, tags: JSON.parse(row.tags) as string[] };
     const removed = new Set((edit.removeTags ?? []).map((t) => t.trim()));
     const unknown = [...removed].find((t) => !(edit.tags ?? before.tags).includes(t) && !added.includes(t));
@@ -152,12 +157,11 @@ export function editMaterial(registry: Registry, slugText: string, edit: Materia
     };
     const changed = (['name', 'description', 'tags'] as const).filter((f) => JSON.stringify(before[f]) !== JSON.stringify(after[f]));
     if (changed.length > 0) {
-      registry.db
+      await registry.db
         .update(materials)
         .set({ name: after.name, description: after.description, tags: JSON.stringify(after.tags) })
-        .where(eq(materials.id, row.id))
-        .run();
-      appendAudit(registry, {
+        .where(eq(materials.id, row.id));
+      await appendAudit(registry, {
         actor: who,
         action: 'material.edit',
         materialId: row.id,
@@ -165,25 +169,25 @@ export function editMaterial(registry: Registry, slugText: string, edit: Materia
         detail: { slug, ...Object.fromEntries(changed.map((f) => [f, { from: before[f], to: after[f] }])) },
       });
     }
-    return { ...materialRecord(registry, findMaterial(registry, slug)), changed };
+    return { ...(await materialRecord(registry, await findMaterial(registry, slug))), changed };
   });
 }
 
 /** All materials, by slug; optionally only those carrying `tag`. */
-export function listMaterials(registry: Registry, filter: { tag?: string } = {}): MaterialRecord[] {
-  const rows = registry.db.select().from(materials).orderBy(asc(materials.slug)).all();
-  const latest = latestApprovedNumbers(registry);
-  return rows.map((row) => materialRecord(registry, row, latest)).filter((m) => filter.tag === undefined || m.tags.includes(filter.tag));
+export async function listMaterials(registry: Registry, filter: { tag?: string } = {}): Promise<MaterialRecord[]> {
+  const rows = await registry.db.select().from(materials).orderBy(asc(materials.slug));
+  const latest = await latestApprovedNumbers(registry);
+  const records = await Promise.all(rows.map((row) => materialRecord(registry, row, latest)));
+  return records.filter((m) => filter.tag === undefined || m.tags.includes(filter.tag));
 }
 
 /** How many versions of each material are in each status (one query; materials without versions are absent). */
-export function versionStatusCounts(registry: Registry): Map<string, Record<VersionStatus, number>> {
-  const rows = registry.db
+export async function versionStatusCounts(registry: Registry): Promise<Map<string, Record<VersionStatus, number>>> {
+  const rows = await registry.db
     .select({ slug: materials.slug, status: materialVersions.status, count: count() })
     .from(materialVersions)
     .innerJoin(materials, eq(materials.id, materialVersions.materialId))
-    .groupBy(materials.slug, materialVersions.status)
-    .all();
+    .groupBy(materials.slug, materialVersions.status);
   const counts = new Map<string, Record<VersionStatus, number>>();
   for (const row of rows) {
     let entry = counts.get(row.slug);
@@ -194,23 +198,23 @@ export function versionStatusCounts(registry: Registry): Map<string, Record<Vers
 }
 
 /** One material with all its versions (oldest first). */
-export function getMaterial(registry: Registry, slug: string): { material: MaterialRecord; versions: VersionRecord[] } {
-  const row = findMaterial(registry, checkSlug(slug));
-  return { material: materialRecord(registry, row), versions: versionSummaryRows(registry, row.id).map((v) => versionRecord(row.slug, v)) };
+export async function getMaterial(registry: Registry, slug: string): Promise<{ material: MaterialRecord; versions: VersionRecord[] }> {
+  const row = await findMaterial(registry, checkSlug(slug));
+  return {
+    material: await materialRecord(registry, row),
+    versions: (await versionSummaryRows(registry, row.id)).map((v) => versionRecord(row.slug, v)),
+  };
 }
 
 /** A material's versions and its audit log, oldest first. */
-export function history(registry: Registry, slug: string): { material: MaterialRecord; versions: VersionRecord[]; audit: AuditEntry[] } {
-  const row = findMaterial(registry, checkSlug(slug));
-  const rows = versionSummaryRows(registry, row.id);
+export async function history(
+  registry: Registry,
+  slug: string,
+): Promise<{ material: MaterialRecord; versions: VersionRecord[]; audit: AuditEntry[] }> {
+  const row = await findMaterial(registry, checkSlug(slug));
+  const rows = await versionSummaryRows(registry, row.id);
   const numberById = new Map(rows.map((v) => [v.id, v.number]));
-  const audit = registry.db
-    .select()
-    .from(auditLog)
-    .where(eq(auditLog.materialId, row.id))
-    .orderBy(asc(auditLog.id))
-    .all()
-    .map((a) => ({
+  const audit = (await registry.db.select().from(auditLog).where(eq(auditLog.materialId, row.id)).orderBy(asc(auditLog.id))).map((a) => ({
       id: a.id,
       at: a.at,
       actor: a.actor,
@@ -218,5 +222,5 @@ export function history(registry: Registry, slug: string): { material: MaterialR
       ref: a.versionId === null ? null : formatRef(row.slug, numberById.get(a.versionId)!),
       detail: JSON.parse(a.detail) as Record<string, unknown>,
     }));
-  return { material: materialRecord(registry, row), versions: rows.map((v) => versionRecord(row.slug, v)), audit };
+  return { material: await materialRecord(registry, row), versions: rows.map((v) => versionRecord(row.slug, v)), audit };
 }

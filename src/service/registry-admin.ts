@@ -5,7 +5,9 @@ import { ConflictError, InputError } from '../errors.ts';
 import { readAuditRows, walkChain, type ChainedVersion, type ChainHead, type ChainWalk } from '../registry/chain.ts';
 import { environmentFault } from '../registry/faults.ts';
 import { checkTriggers, integrityCheck } from '../registry/integrity.ts';
-import type { Registry } from '../registry/open.ts';
+import { onlineBackup, type Registry } from '../registry/open.ts';
+import { readTransaction } from '../registry/transaction.ts';
+
 import { provenanceOf, versionSha256, type VersionRow } from '../registry/records.ts';
 import { formatRef } from '../registry/refs.ts';
 import { materials, materialVersions } from '../registry/schema.ts';
@@ -113,23 +115,22 @@ function crossCheck(ref: string, row: VersionRow, computed: string | null, chain
  * its content; numbering; the triggers by their full SQL; the audit hash chain link by link; and every
  * version's hash, status and lifecycle against the chain's events.
  */
-export function verifyRegistry(registry: Registry): VerifyReport {
-  const integrity = integrityCheck(registry);
+export async function verifyRegistry(registry: Registry): Promise<VerifyReport> {
+  const integrity = await integrityCheck(registry);
   const mismatches: HashMismatch[] = [];
   const missing: string[] = [];
   const stateMismatches: StateMismatch[] = [];
   let checked = 0;
   let walk: ChainWalk = { head: null, problems: [], versions: new Map(), hashes: [] };
   const seen = new Set<string>();
-  const read = registry.sqlite.transaction(() => {
-    walk = walkChain(readAuditRows(registry));
-    for (const material of registry.db.select().from(materials).orderBy(asc(materials.slug)).all()) {
-      const rows = registry.db
+  const read = async () => {
+    walk = walkChain(await readAuditRows(registry));
+    for (const material of await registry.db.select().from(materials).orderBy(asc(materials.slug))) {
+      const rows = await registry.db
         .select()
         .from(materialVersions)
         .where(eq(materialVersions.materialId, material.id))
-        .orderBy(asc(materialVersions.number))
-        .all();
+        .orderBy(asc(materialVersions.number));
       const present = new Set(rows.map((r) => r.number));
       for (let n = 1; n <= material.lastVersion; n++) if (!present.has(n)) missing.push(formatRef(material.slug, n));
       for (const row of rows) {
@@ -141,9 +142,9 @@ export function verifyRegistry(registry: Registry): VerifyReport {
         for (const problem of crossCheck(ref, row, computed, walk.versions.get(ref))) stateMismatches.push({ ref, problem });
       }
     }
-  });
+  };
   try {
-    read.deferred();
+    await readTransaction(registry, read);
   } catch (err) {
     // A file so damaged that reading it fails: report what integrity_check found, if it found anything.
     const fault = environmentFault(err, registry.path);
@@ -153,7 +154,7 @@ export function verifyRegistry(registry: Registry): VerifyReport {
   for (const ref of walk.versions.keys()) {
     if (!seen.has(ref) && !missing.includes(ref)) stateMismatches.push({ ref, problem: `${ref}: recorded in the audit chain but not stored` });
   }
-  const triggers = checkTriggers(registry);
+  const triggers = await checkTriggers(registry);
   return {
     ok:
       integrity.length === 0 &&
@@ -193,7 +194,7 @@ export async function backup(registry: Registry, destination: string): Promise<{
   if (existsSync(destination)) throw new ConflictError(`${destination} already exists; choose a new file (backups never overwrite)`, 'backup-exists');
   const partial = `${destination}.partial-${process.pid}`;
   try {
-    const result = await registry.sqlite.backup(partial, { progress: () => BACKUP_PAGES_PER_STEP });
+    const result = await onlineBackup(registry, partial, BACKUP_PAGES_PER_STEP);
     linkSync(partial, destination); // fails with EEXIST rather than overwrite a file that appeared meanwhile
     return { path: destination, pages: result.totalPages };
   } catch (err) {

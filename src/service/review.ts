@@ -173,8 +173,8 @@ export function reviewOf(slug: string, row: VersionRow, content: VersionContent)
 }
 
 /** The review summary of one version (any status): what `approve` shows, read from the stored record. */
-export function reviewVersion(registry: Registry, ref: string): ReviewSummary {
-  const { material, row, resolved } = resolveRow(registry, ref);
+export async function reviewVersion(registry: Registry, ref: string): Promise<ReviewSummary> {
+  const { material, row, resolved } = await resolveRow(registry, ref);
   return reviewOf(material.slug, row, verifiedContentOf(row, resolved.ref));
 }
 
@@ -204,7 +204,7 @@ export interface ReviewQueue {
  * The drafts `reviewer` may approve, oldest first, each with its review summary: not their own (two-person rule,
  * unless `allow_self_approval` is on) and only when their role allows approval.
  */
-export function reviewQueue(registry: Registry, reviewer: Reviewer): ReviewQueue {
+export async function reviewQueue(registry: Registry, reviewer: Reviewer): Promise<ReviewQueue> {
   if (reviewer.role !== null && !roleAllows(reviewer.role, 'approver')) {
     return {
       user: reviewer.user,
@@ -214,14 +214,14 @@ export function reviewQueue(registry: Registry, reviewer: Reviewer): ReviewQueue
       drafts: [],
     };
   }
-  const selfAllowed = readSettings(registry).allow_self_approval;
-  const rows = registry.db
+  const selfAllowed = (await readSettings(registry)).allow_self_approval;
+  const rows = (await registry.db
     .select({ material: materials, row: materialVersions })
     .from(materialVersions)
     .innerJoin(materials, eq(materials.id, materialVersions.materialId))
     .where(eq(materialVersions.status, 'draft'))
-    .orderBy(materialVersions.createdAt, materials.slug, materialVersions.number)
-    .all() as { material: MaterialRow; row: VersionRow }[];
+    .orderBy(materialVersions.createdAt, materials.slug, materialVersions.number)) as { material: MaterialRow; row: VersionRow }[];
+
   const drafts: ReviewQueueEntry[] = [];
   let own = 0;
   for (const { material, row } of rows) {

@@ -140,44 +140,44 @@ export function anonymousReadsAllowed(settings: Pick<Settings, 'anonymous_reads'
 }
 
 /** All settings, stored values over defaults. */
-export function readSettings(registry: Registry): Settings {
+export async function readSettings(registry: Registry): Promise<Settings> {
   const settings = Object.fromEntries(SETTING_KEYS.map((k) => [k, SETTINGS[k].default])) as Record<string, unknown>;
-  for (const row of registry.db.select().from(registrySettings).all()) if (row.key in SETTINGS) settings[row.key] = JSON.parse(row.value);
+  for (const row of await registry.db.select().from(registrySettings)) if (row.key in SETTINGS) settings[row.key] = JSON.parse(row.value);
   return settings as Settings;
 }
 
 /** Store a validated value (already typed, as the API receives it). */
-export function writeSetting(registry: Registry, key: string, value: unknown, actor: string): Settings {
+export async function writeSetting(registry: Registry, key: string, value: unknown, actor: string): Promise<Settings> {
   const updatedBy = checkActor(actor);
   const k = parseSettingKey(key);
   const json = JSON.stringify(validate(k, value));
   refuseDirectWritesChange(registry, k);
   const updatedAt = nowIso();
-  writeTransaction(registry, () => {
-    registry.db
+  await writeTransaction(registry, async () => {
+    await registry.db
       .insert(registrySettings)
       .values({ key: k, value: json, updatedAt, updatedBy })
-      .onConflictDoUpdate({ target: registrySettings.key, set: { value: json, updatedAt, updatedBy } })
-      .run();
-    appendAudit(registry, { actor: updatedBy, action: 'setting.set', detail: { key: k, value: JSON.parse(json) } });
+      .onConflictDoUpdate({ target: registrySettings.key, set: { value: json, updatedAt, updatedBy } });
+    await appendAudit(registry, { actor: updatedBy, action: 'setting.set', detail: { key: k, value: JSON.parse(json) } });
   });
   return readSettings(registry);
 }
 
 /** Store a value typed on the command line ("on", "https://a,https://b", "1048576"). */
-export function writeSettingText(registry: Registry, key: string, text: string, updatedBy: string): Settings {
+export async function writeSettingText(registry: Registry, key: string, text: string, updatedBy: string): Promise<Settings> {
   const k = parseSettingKey(key);
   return writeSetting(registry, k, SETTINGS[k].parseText(text), updatedBy);
 }
 
 /** Forget a stored value so the default applies again. */
-export function resetSetting(registry: Registry, key: string, actor: string): Settings {
+export async function resetSetting(registry: Registry, key: string, actor: string): Promise<Settings> {
   const updatedBy = checkActor(actor);
   const k = parseSettingKey(key);
   refuseDirectWritesChange(registry, k);
-  writeTransaction(registry, () => {
-    registry.db.delete(registrySettings).where(eq(registrySettings.key, k)).run();
-    appendAudit(registry, { actor: updatedBy, action: 'setting.reset', detail: { key: k } });
+  await writeTransaction(registry, async () => {
+    await registry.db.delete(registrySettings).where(eq(registrySettings.key, k));
+    await appendAudit(
+registry, { actor: updatedBy, action: 'setting.reset', detail: { key: k } });
   });
   return readSettings(registry);
 }

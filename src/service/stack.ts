@@ -277,10 +277,10 @@ export async function resolveStackDesign(design: StackDesign, ctx: ResolveContex
     const inSlot = (slot: Slot, at: InputLocation, err: unknown) =>
       err instanceof InputError ? err.rephrase(`${slot.role}: ${err.message}`, at) : err;
     const loadedVersions: LoadedSource[] = [];
-    const loadAll = (registry: Registry) => {
+    const loadAll = async (registry: Registry) => {
       for (const { slot, at, ref } of plan) {
         try {
-          loadedVersions.push(loadVersion(registry, ref));
+          loadedVersions.push(await loadVersion(registry, ref));
         } catch (err) {
           throw inSlot(slot, at, err);
         }
@@ -294,11 +294,12 @@ export async function resolveStackDesign(design: StackDesign, ctx: ResolveContex
           throw inSlot(slot, at, err);
         }
       }
-    } else if (ctx.registry) loadAll(ctx.registry);
+    } else if (ctx.registry) await loadAll(ctx.registry);
     else {
       const refs = refSlots.map((s) => (s.source as { ref: string }).ref).join(', ');
       try {
-        withExistingRegistry(refs, ctx.db, loadAll);
+        await withExistingRegistry(refs, ctx.db, loadAll);
+
       } catch (err) {
         if (!(err instanceof NotFoundError && err.rule === 'source-not-found')) throw err;
         throw new NotFoundError(

@@ -68,7 +68,9 @@ export async function loadTableOrVersion(source: string, options: SourceOptions 
       kAbsent: !imported.detected.hasK,
     };
   }
-  const loaded = options.registry ? loadVersion(options.registry, source) : withExistingRegistry(source, options.db, (r) => loadVersion(r, source));
+  const loaded = options.registry
+    ? await loadVersion(options.registry, source)
+    : await withExistingRegistry(source, options.db, (r) => loadVersion(r, source));
   loaded.notices.push(...ignoredFlagsNotice(loaded, importOptions, source));
   return loaded;
 }
@@ -94,10 +96,11 @@ export function requireTable(loaded: LoadedSource, purpose: string): NkTable {
 }
 
 /** Resolve a registry reference to its verified content (also for design files, whose refs are never file names). */
-export function loadVersion(registry: Registry, source: string): LoadedSource {
+export async function loadVersion(registry: Registry, source: string): Promise<LoadedSource> {
   let resolved;
   try {
-    resolved = resolveRow(registry, source);
+    resolved = await resolveRow(registry, source);
+
   } catch (err) {
     // A bare word that is neither a file nor a material is most likely a mistyped file name: say both.
     if (err instanceof NotFoundError && err.rule === 'material-unknown' && parseRef(source).kind === 'latest') {
@@ -128,7 +131,7 @@ export function loadVersion(registry: Registry, source: string): LoadedSource {
 }
 
 /** Open the registry only if its file exists: reading a version must never create an empty database. */
-export function withExistingRegistry<T>(source: string, db: string | undefined, use: (registry: Registry) => T): T {
+export async function withExistingRegistry<T>(source: string, db: string | undefined, use: (registry: Registry) => Promise<T>): Promise<T> {
   const path = registryPath(db);
   if (path !== ':memory:' && !existsSync(path)) {
     throw new NotFoundError(
@@ -136,9 +139,10 @@ export function withExistingRegistry<T>(source: string, db: string | undefined, 
       'source-not-found',
     );
   }
-  const registry = openRegistry(path);
+  const registry = await openRegistry(path);
   try {
-    return use(registry);
+    return await use(registry);
+
   } finally {
     registry.close();
   }

@@ -10,6 +10,7 @@ import type { Registry } from '../registry/open.ts';
 import { sha256Hex } from '../registry/canonical.ts';
 import { activeToken, noteTokenUse } from '../registry/hot-reads.ts';
 import { appendAudit, nowIso, writeTransaction } from '../registry/records.ts';
+import { first } from '../registry/sql.ts';
 import { InputError, NotFoundError, ConflictError } from '../errors.ts';
 import { checkActor } from './actor.ts';
 import { LIFETIME_FORM, lifetimeHours, readSettings } from './settings.ts';
@@ -86,11 +87,11 @@ export function parseTokenLifetime(text: string, option = 'expires'): number | n
  * Create a token for `user` with `role`; the returned `token` is the only time the secret exists in clear. `expires`
  * is its lifetime ("90d", "12h", "never"); without it the `token_lifetime` setting applies.
  */
-export function createToken(registry: Registry, input: { user: string; role: string; createdBy: string; expires?: string }): CreatedToken {
+export async function createToken(registry: Registry, input: { user: string; role: string; createdBy: string; expires?: string }): Promise<CreatedToken> {
   const user = checkActor(input.user);
   const createdBy = checkActor(input.createdBy);
   const role = parseRole(input.role);
-  const hours = parseTokenLifetime(input.expires ?? readSettings(registry).token_lifetime);
+  const hours = parseTokenLifetime(input.expires ?? (await readSettings(registry)).token_lifetime);
   const token = TOKEN_PREFIX + randomBytes(32).toString('base64url');
   const createdMs = Date.now();
   const row = {
@@ -105,36 +106,35 @@ export function createToken(registry: Registry, input: { user: string; role: str
     expiresAt: hours === null ? null : new Date(createdMs + hours * HOUR_MS).toISOString(),
     lastUsedAt: null,
   };
-  writeTransaction(registry, () => {
-    registry.db.insert(apiTokens).values(row).run();
-    appendAudit(registry, { actor: createdBy, action: 'token.create', detail: { id: row.id, user, role, expires_at: row.expiresAt } });
+  await writeTransaction(registry, async () => {
+    await registry.db.insert(apiTokens).values(row);
+    await appendAudit(registry, { actor: createdBy, action: 'token.create', detail: { id: row.id, user, role, expires_at: row.expiresAt } });
   });
   return { token, ...toInfo(row) };
 }
 
 /** Every token, oldest first; revoked and expired ones included unless `activeOnly`. */
-export function listTokens(registry: Registry, options: { activeOnly?: boolean } = {}): TokenInfo[] {
-  const rows = registry.db
+export async function listTokens(registry: Registry, options: { activeOnly?: boolean } = {}): Promise<TokenInfo[]> {
+  const rows = (await registry.db
     .select()
     .from(apiTokens)
     .where(options.activeOnly ? isNull(apiTokens.revokedAt) : undefined)
-    .orderBy(apiTokens.createdAt, apiTokens.id)
-    .all() as (typeof apiTokens.$inferSelect)[];
+    .orderBy(apiTokens.createdAt, apiTokens.id)) as (typeof apiTokens.$inferSelect)[];
   const now = Date.now();
   const tokens = rows.map((row) => toInfo(row, now));
   return options.activeOnly ? tokens.filter((t) => !t.expired) : tokens;
 }
 
 /** Revoke a token by id. Revoking twice is refused (409) so a typo'd id is noticed. */
-export function revokeToken(registry: Registry, id: string, actor: string): TokenInfo {
+export async function revokeToken(registry: Registry, id: string, actor: string): Promise<TokenInfo> {
   const revokedBy = checkActor(actor);
-  const row = registry.db.select().from(apiTokens).where(eq(apiTokens.id, id)).get() as typeof apiTokens.$inferSelect | undefined;
+  const row = (await first(registry.db.select().from(apiTokens).where(eq(apiTokens.id, id)).limit(1))) as typeof apiTokens.$inferSelect | undefined;
   if (!row) throw new NotFoundError(`no token with id "${id}" (see \`nkledger token list\`)`, 'token-not-found');
   if (row.revokedAt) throw new ConflictError(`token ${id} was already revoked at ${row.revokedAt} by ${row.revokedBy}`, 'token-revoked');
   const revokedAt = nowIso();
-  writeTransaction(registry, () => {
-    registry.db.update(apiTokens).set({ revokedAt, revokedBy }).where(eq(apiTokens.id, id)).run();
-    appendAudit(registry, { actor: revokedBy, action: 'token.revoke', detail: { id, user: row.user } });
+  await writeTransaction(registry, async () => {
+    await registry.db.update(apiTokens).set({ revokedAt, revokedBy }).where(eq(apiTokens.id, id));
+    await appendAudit(registry, { actor: revokedBy, action: 'token.revoke', detail: { id, user: row.user } });
   });
   return toInfo({ ...row, revokedAt, revokedBy });
 }
@@ -148,7 +148,7 @@ export function revokeToken(registry: Registry, id: string, actor: string): Toke
  * The principal for a presented token, or undefined for an unknown or revoked token. An expired token still
  * has a principal, so the caller can say it expired: check `tokenExpired` before trusting it.
  */
-export function authenticateToken(registry: Registry, token: string): Principal | undefined {
+export async function authenticateToken(registry: Registry, token: string): Promise<Principal | undefined> {
   if (!token.startsWith(TOKEN_PREFIX)) return undefined;
   return activeToken(registry, sha256Hex(token));
 }
@@ -168,7 +168,7 @@ export const RECORD_USE_EVERY_MS = HOUR_MS;
 const lastRecorded = new WeakMap<Registry, Map<string, number>>();
 
 /** Note that `principal`'s token was used now, unless that was already noted within the hour. Never throws. */
-export function recordTokenUse(registry: Registry, principal: Principal, now = Date.now()): void {
+export async function recordTokenUse(registry: Registry, principal: Principal, now = Date.now()): Promise<void> {
   if (registry.readonly) return;
   let seen = lastRecorded.get(registry);
   if (!seen) lastRecorded.set(registry, (seen = new Map()));
@@ -177,5 +177,6 @@ export function recordTokenUse(registry: Registry, principal: Principal, now = D
   if (now - last < RECORD_USE_EVERY_MS) return;
   if (seen.size > 10_000) seen.clear();
   seen.set(principal.tokenId, now);
-  noteTokenUse(registry, principal.tokenId, new Date(now).toISOString());
+  await noteTokenUse(registry, principal.tokenId, new Date(now).toISOString());
+
 }

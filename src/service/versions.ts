@@ -22,6 +22,8 @@ import {
   type VersionRow,
 } from '../registry/records.ts';
 import { formatRef, parseRef } from '../registry/refs.ts';
+import { first } from '../registry/sql.ts';
+
 import { materials, materialVersions } from '../registry/schema.ts';
 import type { StoredFitReport, StoredKkReport, VersionContent, VersionDetail, VersionRecord, VersionStatus } from '../registry/types.ts';
 import { checkActor } from './actor.ts';
@@ -93,7 +95,7 @@ function checkFit(fit: StoredFitReport): StoredFitReport {
  * inside a BEGIN IMMEDIATE transaction together with the audit row. Refuses content identical to a
  * version that is not withdrawn (ConflictError naming it).
  */
-export function importVersion(registry: Registry, input: NewVersion, actor: string): ImportedVersion {
+export async function importVersion(registry: Registry, input: NewVersion, actor: string): Promise<ImportedVersion> {
   const who = checkActor(actor);
   const slug = parseRef(input.slug).slug;
   const content: VersionContent = {
@@ -112,17 +114,19 @@ export function importVersion(registry: Registry, input: NewVersion, actor: stri
     );
   }
 
-  return writeTransaction(registry, () => {
-    const material = findMaterial(registry, slug);
-    const twin = registry.db
-      .select({ number: materialVersions.number })
-      .from(materialVersions)
-      .where(and(eq(materialVersions.materialId, material.id), eq(materialVersions.sha256, sha256), ne(materialVersions.status, 'withdrawn')))
-      .get();
+  return writeTransaction(registry, async () => {
+    const material = await findMaterial(registry, slug);
+    const twin = await first(
+      registry.db
+        .select({ number: materialVersions.number })
+        .from(materialVersions)
+        .where(and(eq(materialVersions.materialId, material.id), eq(materialVersions.sha256, sha256), ne(materialVersions.status, 'withdrawn')))
+        .limit(1),
+    );
     if (twin) throw new ConflictError(`identical content and provenance are already stored as ${formatRef(slug, twin.number)}`, 'version-duplicate');
     const number = material.lastVersion + 1;
-    registry.db.update(materials).set({ lastVersion: number }).where(eq(materials.id, material.id)).run();
-    const row = registry.db
+    await registry.db.update(materials).set({ lastVersion: number }).where(eq(materials.id, material.id));
+    const [row] = await registry.db
       .insert(materialVersions)
       .values({
         materialId: material.id,
@@ -146,9 +150,8 @@ export function importVersion(registry: Registry, input: NewVersion, actor: stri
         createdBy: who,
         createdAt: nowIso(),
       })
-      .returning({ id: materialVersions.id })
-      .get();
-    appendAudit(registry, {
+      .returning({ id: materialVersions.id });
+    await appendAudit(registry, {
       actor: who,
       action: 'version.import',
       materialId: material.id,
@@ -164,19 +167,19 @@ export function importVersion(registry: Registry, input: NewVersion, actor: stri
 }
 
 /** Resolve a reference to its material and version rows, with notices and warnings (for service use). */
-export function resolveRow(registry: Registry, ref: string): { material: MaterialRow; row: VersionRow; resolved: ResolvedRef } {
+export async function resolveRow(registry: Registry, ref: string): Promise<{ material: MaterialRow; row: VersionRow; resolved: ResolvedRef }> {
   const parsed = parseRef(ref);
-  const material = findMaterial(registry, parsed.slug);
+  const material = await findMaterial(registry, parsed.slug);
   const notices: string[] = [];
   let row: VersionRow;
   if (parsed.kind === 'number') {
-    row = findVersion(registry, material, parsed.version);
+    row = await findVersion(registry, material, parsed.version);
   } else if (parsed.kind === 'hash') {
-    row = byHashPrefix(registry, material, parsed.hashPrefix);
+    row = await byHashPrefix(registry, material, parsed.hashPrefix);
   } else {
-    const latest = latestApprovedNumber(registry, material.id);
-    if (latest === null) throw new NotFoundError(noApprovedVersion(registry, material), 'no-approved-version');
-    row = findVersion(registry, material, latest);
+    const latest = await latestApprovedNumber(registry, material.id);
+    if (latest === null) throw new NotFoundError(await noApprovedVersion(registry, material), 'no-approved-version');
+    row = await findVersion(registry, material, latest);
     notices.push(
       `"${material.slug}" means its latest approved version, now ${formatRef(material.slug, latest)}; this is not a pin (pin ${formatRef(material.slug, latest)} or ${material.slug}@sha256:${row.sha256.slice(0, 12)})`,
     );
@@ -198,21 +201,20 @@ export function resolveRow(registry: Registry, ref: string): { material: Materia
 }
 
 /** Why a bare slug resolves to nothing: no versions at all, or none approved (and what the newest one is). */
-function noApprovedVersion(registry: Registry, material: MaterialRow): string {
+async function noApprovedVersion(registry: Registry, material: MaterialRow): Promise<string> {
   if (material.lastVersion === 0) return `${material.slug} has no approved version: ${existingVersions(material)}`;
-  const newest = findVersion(registry, material, material.lastVersion);
+  const newest = await findVersion(registry, material, material.lastVersion);
   const pin = formatRef(material.slug, newest.number);
   const next = newest.status === 'draft' ? `, waiting for approval (\`nkledger approve ${pin}\` by someone other than its creator)` : '';
   return `${material.slug} has no approved version (its newest is ${pin}, ${newest.status}${next}); a bare slug means the latest approved version, so name one explicitly, e.g. ${pin}`;
 }
 
-function byHashPrefix(registry: Registry, material: MaterialRow, prefix: string): VersionRow {
-  const rows = registry.db
+async function byHashPrefix(registry: Registry, material: MaterialRow, prefix: string): Promise<VersionRow> {
+  const rows = await registry.db
     .select()
     .from(materialVersions)
     .where(and(eq(materialVersions.materialId, material.id), like(materialVersions.sha256, `${prefix}%`)))
-    .orderBy(desc(materialVersions.number))
-    .all();
+    .orderBy(desc(materialVersions.number));
   if (rows.length === 0) throw new NotFoundError(`${material.slug} has no version whose SHA-256 starts with ${prefix}`, 'version-unknown');
   const hashes = new Set(rows.map((r) => r.sha256));
   if (hashes.size > 1) {
@@ -244,19 +246,20 @@ export function statusWarnings(pin: string, row: VersionRow): string[] {
 }
 
 /** Resolve `slug@N`, `slug@sha256:PREFIX` or a bare slug (latest approved) to one version. */
-export function resolveRef(registry: Registry, ref: string): ResolvedRef {
-  return resolveRow(registry, ref).resolved;
+export async function resolveRef(registry: Registry, ref: string): Promise<ResolvedRef> {
+  return (await resolveRow(registry, ref)).resolved;
 }
 
 /** A version with its content and provenance. */
-export function showVersion(registry: Registry, ref: string): VersionDetail {
-  const { material, row, resolved } = resolveRow(registry, ref);
+export async function showVersion(registry: Registry, ref: string): Promise<VersionDetail> {
+  const { material, row, resolved } = await resolveRow(registry, ref);
   const content = verifiedContentOf(row, resolved.ref);
   return { ...versionRecord(material.slug, row, content), content, notices: resolved.notices, warnings: resolved.warnings };
 }
 
 /** Version record without content (for lists and write results). */
-export function versionSummary(registry: Registry, ref: string): VersionRecord {
-  const { material, row } = resolveRow(registry, ref);
+export async function versionSummary(registry: Registry, ref: string): Promise<VersionRecord> {
+  const { material, row } = await resolveRow(registry, ref);
+
   return versionRecord(material.slug, row);
 }

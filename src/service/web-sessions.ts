@@ -33,8 +33,8 @@ export interface WebSession {
 }
 
 /** Sign in: `token` must be a live API token. Returns the cookie secret (shown to the browser only) and the session. */
-export function startSession(registry: Registry, token: string): { secret: string; session: WebSession } {
-  const principal = authenticateToken(registry, token.trim());
+export async function startSession(registry: Registry, token: string): Promise<{ secret: string; session: WebSession }> {
+  const principal = await authenticateToken(registry, token.trim());
   if (!principal) {
     throw new InputError(
       'sign-in-token',
@@ -62,19 +62,19 @@ export function startSession(registry: Registry, token: string): { secret: strin
   // A session never outlives its token.
   const sessionEnd = new Date(now.getTime() + SESSION_HOURS * 3600_000).toISOString();
   const expiresAt = principal.expiresAt !== null && principal.expiresAt < sessionEnd ? principal.expiresAt : sessionEnd;
-  writeTransaction(registry, () => {
+  await writeTransaction(registry, async () => {
     // Expired sessions are removed here, so the table holds only live ones (and their pending uploads go with them).
-    registry.db.delete(webSessions).where(lt(webSessions.expiresAt, now.toISOString())).run();
-    registry.db.insert(webSessions).values({ idSha256: key, tokenId: principal.tokenId, csrf, createdAt: now.toISOString(), expiresAt }).run();
+    await registry.db.delete(webSessions).where(lt(webSessions.expiresAt, now.toISOString()));
+    await registry.db.insert(webSessions).values({ idSha256: key, tokenId: principal.tokenId, csrf, createdAt: now.toISOString(), expiresAt });
   });
   return { secret, session: { principal, csrf, key, expiresAt } };
 }
 
 /** The live session a cookie secret stands for, or undefined (unknown, expired, signed out, token revoked or expired). */
-export function findSession(registry: Registry, secret: string): WebSession | undefined {
+export async function findSession(registry: Registry, secret: string): Promise<WebSession | undefined> {
   if (!/^[A-Za-z0-9_-]{43}$/.test(secret)) return undefined;
   const now = nowIso();
-  const row = registry.db
+  const [row] = await registry.db
     .select({
       key: webSessions.idSha256,
       csrf: webSessions.csrf,
@@ -95,18 +95,18 @@ export function findSession(registry: Registry, secret: string): WebSession | un
         or(isNull(apiTokens.expiresAt), gt(apiTokens.expiresAt, now)),
       ),
     )
-    .get();
+    .limit(1);
   if (!row) return undefined;
   const principal: Principal = { tokenId: row.tokenId, user: row.user, role: row.role, expiresAt: row.tokenExpiresAt, lastUsedAt: row.lastUsedAt };
   // A page request is a use of the token, recorded as coarsely as the API records it.
-  recordTokenUse(registry, principal);
+  await recordTokenUse(registry, principal);
   return { key: row.key, csrf: row.csrf, expiresAt: row.expiresAt, principal };
 }
 
 /** Sign out: the session row goes (and the uploads it held). */
-export function endSession(registry: Registry, session: WebSession): void {
-  writeTransaction(registry, () => {
-    registry.db.delete(webSessions).where(eq(webSessions.idSha256, session.key)).run();
+export async function endSession(registry: Registry, session: WebSession): Promise<void> {
+  await writeTransaction(registry, async () => {
+    await registry.db.delete(webSessions).where(eq(webSessions.idSha256, session.key));
   });
 }
 
@@ -130,25 +130,24 @@ export interface PendingUpload {
 const cutoff = () => new Date(Date.now() - PENDING_UPLOAD_MINUTES * 60_000).toISOString();
 
 /** Keep an uploaded table for its session until it is stored or discarded (or an hour passes). */
-export function putPendingUpload(
+export async function putPendingUpload(
   registry: Registry,
   session: WebSession,
   upload: { slug: string; fileName: string; bytes: Uint8Array; importOptions: ImportOptions },
-): PendingUpload {
+): Promise<PendingUpload> {
   const id = randomBytes(12).toString('base64url');
   const createdAt = nowIso();
-  writeTransaction(registry, () => {
-    registry.db.delete(webPendingUploads).where(lt(webPendingUploads.createdAt, cutoff())).run();
-    const held = registry.db
+  await writeTransaction(registry, async () => {
+    await registry.db.delete(webPendingUploads).where(lt(webPendingUploads.createdAt, cutoff()));
+    const held = await registry.db
       .select({ id: webPendingUploads.id })
       .from(webPendingUploads)
       .where(eq(webPendingUploads.sessionSha256, session.key))
-      .orderBy(asc(webPendingUploads.createdAt))
-      .all();
+      .orderBy(asc(webPendingUploads.createdAt));
     for (const old of held.slice(0, Math.max(0, held.length - PENDING_UPLOADS_PER_SESSION + 1))) {
-      registry.db.delete(webPendingUploads).where(eq(webPendingUploads.id, old.id)).run();
+      await registry.db.delete(webPendingUploads).where(eq(webPendingUploads.id, old.id));
     }
-    registry.db
+    await registry.db
       .insert(webPendingUploads)
       .values({
         id,
@@ -158,19 +157,18 @@ export function putPendingUpload(
         bytes: Buffer.from(upload.bytes),
         importOptions: JSON.stringify(upload.importOptions),
         createdAt,
-      })
-      .run();
+      });
   });
   return { id, createdAt, ...upload };
 }
 
 /** A pending upload of this session; another session's, an expired or an unknown one is "not found". */
-export function getPendingUpload(registry: Registry, session: WebSession, id: string): PendingUpload {
-  const row = registry.db
+export async function getPendingUpload(registry: Registry, session: WebSession, id: string): Promise<PendingUpload> {
+  const [row] = await registry.db
     .select()
     .from(webPendingUploads)
     .where(and(eq(webPendingUploads.id, id), eq(webPendingUploads.sessionSha256, session.key)))
-    .get();
+    .limit(1);
   if (!row || row.createdAt < cutoff()) {
     throw new NotFoundError(
       `no pending upload "${id}" in this session (uploads wait ${PENDING_UPLOAD_MINUTES} minutes for a decision)`,
@@ -188,11 +186,9 @@ export function getPendingUpload(registry: Registry, session: WebSession, id: st
 }
 
 /** Forget a pending upload of this session (after storing it, or when the person discards it). */
-export function dropPendingUpload(registry: Registry, session: WebSession, id: string): void {
-  writeTransaction(registry, () => {
-    registry.db
-      .delete(webPendingUploads)
-      .where(and(eq(webPendingUploads.id, id), eq(webPendingUploads.sessionSha256, session.key)))
-      .run();
+export async function dropPendingUpload(registry: Registry, session: WebSession, id: string): Promise<void> {
+  await writeTransaction(registry, async () => {
+    await registry.db.delete(webPendingUploads).where(and(eq(webPendingUploads.id, id), eq(webPendingUploads.sessionSha256, session.key)));
   });
+
 }

@@ -119,9 +119,9 @@ export function createWebPages(options: WebOptions & { logFault?: (err: unknown)
   asset(SCRIPT_PATH, SCRIPT);
 
   app.use('*', loadSession(ctx));
-  app.use('*', (c, next) => {
+  app.use('*', async (c, next) => {
     if (c.req.method === 'GET' || c.req.method === 'HEAD') return next();
-    const maxSize = ctx.currentSettings().max_body_bytes;
+    const maxSize = (await ctx.currentSettings()).max_body_bytes;
     return bodyLimit({
       maxSize,
       onError: () => {
@@ -177,15 +177,16 @@ export function createWebPages(options: WebOptions & { logFault?: (err: unknown)
     if (!signInSecretMatches(c, form.sign_in)) {
       throw new HttpProblem(403, 'csrf-mismatch', 'the sign-in form is out of date (or did not come from this server): open the sign-in page again');
     }
-    const { secret } = startSession(options.registry, typeof form.token === 'string' ? form.token : '');
+    const { secret } = await startSession(options.registry, typeof form.token === 'string' ? form.token : '');
     setSessionCookie(c, secret);
     deleteCookie(c, SIGN_IN_COOKIE, { path: '/sign-in' });
     return c.redirect(localPath(form.next, '/'), 303);
   });
 
-  app.post('/sign-out', (c) => {
+  app.post('/sign-out', async (c) => {
     const session = c.get('session');
-    if (session) endSession(options.registry, session);
+    if (session) await endSession(options.registry, session);
+
     clearSessionCookie(c);
     return c.redirect('/', 303);
   });

@@ -26,11 +26,12 @@ export type WebContext = Context<WebEnv>;
 
 export interface PageContext extends WebOptions {
   /** The settings in force: stored values over defaults, then the server's overrides (read per request: one small table). */
-  currentSettings(): Settings;
-  anonymousReads(): boolean;
+  currentSettings(): Promise<Settings>;
+  anonymousReads(): Promise<boolean>;
 }
 
 export function pageContext(options: WebOptions): PageContext {
-  const currentSettings = (): Settings => ({ ...readSettings(options.registry), ...options.settings });
-  return { ...options, currentSettings, anonymousReads: () => anonymousReadsAllowed(currentSettings(), options.loopback) };
+  const currentSettings = async (): Promise<Settings> => ({ ...(await readSettings(options.registry)), ...options.settings });
+  return { ...options, currentSettings, anonymousReads: async () => anonymousReadsAllowed(await currentSettings(), options.loopback) };
+
 }

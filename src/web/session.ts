@@ -55,9 +55,9 @@ export function signInSecretMatches(c: WebContext, presented: unknown): boolean 
 
 /** Loads the session (if any) for every page. */
 export function loadSession(ctx: PageContext): MiddlewareHandler<WebEnv> {
-  return (c, next) => {
+  return async (c, next) => {
     const secret = getCookie(c, SESSION_COOKIE);
-    const session = secret ? (findSession(ctx.registry, secret) ?? null) : null;
+    const session = secret ? ((await findSession(ctx.registry, secret)) ?? null) : null;
     c.set('session', session);
     return next();
   };
@@ -120,8 +120,8 @@ export function requireSession(c: WebContext, role: TokenRole): WebSession {
 }
 
 /** Reading pages: allowed to anyone signed in, and to anonymous readers when the settings say so. */
-export function requireReader(ctx: PageContext, c: WebContext): void {
-  if (c.get('session') || ctx.anonymousReads()) return;
+export async function requireReader(ctx: PageContext, c: WebContext): Promise<void> {
+  if (c.get('session') || (await ctx.anonymousReads())) return;
   throw new HttpProblem(401, 'sign-in-required', 'this server allows reading only to signed-in people (setting anonymous_reads): sign in');
 }
 

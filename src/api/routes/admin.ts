@@ -152,30 +152,30 @@ export const ADMIN_OPERATIONS: Operation[] = [
 export function registerAdminRoutes(app: Hono<ApiEnv>, ctx: RouteContext): void {
   const admin = ctx.requireRole('admin');
 
-  app.get('/api/v1/tokens', admin, (c) => c.json({ tokens: listTokens(ctx.registry) }));
+  app.get('/api/v1/tokens', admin, async (c) => c.json({ tokens: await listTokens(ctx.registry) }));
 
   app.post('/api/v1/tokens', admin, async (c) => {
     const body = parseInput(tokenRequest, await readJson(c.req), 'body');
-    const created = createToken(ctx.registry, { ...body, createdBy: actorOf(c.get('principal')) });
+    const created = await createToken(ctx.registry, { ...body, createdBy: actorOf(c.get('principal')) });
     c.header('cache-control', 'no-store');
     return c.json(created, 201);
   });
 
-  app.post('/api/v1/tokens/:id/revoke', admin, (c) => c.json(revokeToken(ctx.registry, c.req.param('id'), actorOf(c.get('principal')))));
+  app.post('/api/v1/tokens/:id/revoke', admin, async (c) => c.json(await revokeToken(ctx.registry, c.req.param('id'), actorOf(c.get('principal')))));
 
-  app.get('/api/v1/settings', admin, (c) => c.json({ settings: ctx.settings() }));
+  app.get('/api/v1/settings', admin, async (c) => c.json({ settings: await ctx.settings() }));
 
   app.put('/api/v1/settings/:key', admin, async (c) => {
     const body = parseInput(settingRequest, await readJson(c.req), 'body');
     const actor = actorOf(c.get('principal'));
-    if ('text' in body) writeSettingText(ctx.registry, c.req.param('key'), body.text, actor);
-    else writeSetting(ctx.registry, c.req.param('key'), body.value, actor);
-    return c.json({ settings: ctx.settings() });
+    if ('text' in body) await writeSettingText(ctx.registry, c.req.param('key'), body.text, actor);
+    else await writeSetting(ctx.registry, c.req.param('key'), body.value, actor);
+    return c.json({ settings: await ctx.settings() });
   });
 
-  app.delete('/api/v1/settings/:key', admin, (c) => {
-    resetSetting(ctx.registry, c.req.param('key'), actorOf(c.get('principal')));
-    return c.json({ settings: ctx.settings() });
+  app.delete('/api/v1/settings/:key', admin, async (c) => {
+    await resetSetting(ctx.registry, c.req.param('key'), actorOf(c.get('principal')));
+    return c.json({ settings: await ctx.settings() });
   });
 
   // Who the presented token stands for (`nkledger login` checks a token with it before saving it).
@@ -188,9 +188,9 @@ export function registerAdminRoutes(app: Hono<ApiEnv>, ctx: RouteContext): void 
   });
 
   // `nkledger verify` in server mode: the check runs here, on the server's own file.
-  app.get('/api/v1/verify', admin, (c) => {
+  app.get('/api/v1/verify', admin, async (c) => {
     c.header('cache-control', 'no-store');
-    return c.json(verifyRegistry(ctx.registry));
+    return c.json(await verifyRegistry(ctx.registry));
   });
 
   // `nkledger backup` in server mode: one consistent snapshot (SQLite online backup to a private temporary

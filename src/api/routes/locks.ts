@@ -127,7 +127,7 @@ export function registerLockRoutes(app: Hono<ApiEnv>, ctx: RouteContext): void {
     const lock = parseLockfile(await readJson(c.req), '<request body>');
     c.header('cache-control', 'no-store');
     // 200 whatever the verdict: the request succeeded; `ok` and each entry's `outcome` carry the answer.
-    return c.json(lockVerify(ctx.registry, lock, { strict: strict === 'true' }));
+    return c.json(await lockVerify(ctx.registry, lock, { strict: strict === 'true' }));
   });
 
   // `nkledger lock add` in server mode: the posted lockfile with REF pinned and the chain head recorded;
@@ -136,13 +136,13 @@ export function registerLockRoutes(app: Hono<ApiEnv>, ctx: RouteContext): void {
     const { ref } = parseInput(z.strictObject({ ref: z.string().min(1).max(200) }), readQuery(c.req.url), 'query', 400);
     const lock = parseLockfile(await readJson(c.req), '<request body>');
     c.header('cache-control', 'no-store');
-    return c.json(lockAdd(ctx.registry, lock, ref));
+    return c.json(await lockAdd(ctx.registry, lock, ref));
   });
 
   app.post('/api/v1/locks/outdated', ctx.requireRole('reader'), async (c) => {
     parseInput(z.strictObject({}), readQuery(c.req.url), 'query', 400);
     const lock = parseLockfile(await readJson(c.req), '<request body>');
     c.header('cache-control', 'no-store');
-    return c.json({ outdated: lockOutdated(ctx.registry, lock) });
+    return c.json({ outdated: await lockOutdated(ctx.registry, lock) });
   });
 }

@@ -353,15 +353,15 @@ export function registerMaterialRoutes(app: Hono<ApiEnv>, ctx: RouteContext): vo
   const editor = ctx.requireRole('editor');
   const approver = ctx.requireRole('approver');
 
-  app.get('/api/v1/materials', reader, (c) => {
+  app.get('/api/v1/materials', reader, async (c) => {
     const { q } = parseInput(searchQuery, readQuery(c.req.url), 'query', 400);
     c.header('cache-control', 'no-cache');
-    return c.json({ materials: searchMaterials(ctx.registry, q ?? '') });
+    return c.json({ materials: await searchMaterials(ctx.registry, q ?? '') });
   });
 
   app.post('/api/v1/materials', editor, async (c) => {
     const body = parseInput(newMaterial, await readJson(c.req), 'body');
-    const material = createMaterial(ctx.registry, body, actorOf(c.get('principal')));
+    const material = await createMaterial(ctx.registry, body, actorOf(c.get('principal')));
     c.header('location', `/api/v1/materials/${material.slug}`);
     return c.json(material, 201);
   });
@@ -369,21 +369,21 @@ export function registerMaterialRoutes(app: Hono<ApiEnv>, ctx: RouteContext): vo
   app.patch('/api/v1/materials/:slug', editor, async (c) => {
     const { add_tags, remove_tags, ...body } = parseInput(materialEdit, await readJson(c.req), 'body');
     const edit = { ...body, addTags: add_tags, removeTags: remove_tags };
-    return c.json(editMaterial(ctx.registry, c.req.param('slug'), edit, actorOf(c.get('principal'))));
+    return c.json(await editMaterial(ctx.registry, c.req.param('slug'), edit, actorOf(c.get('principal'))));
   });
 
-  app.get('/api/v1/materials/:slug', reader, (c) => {
+  app.get('/api/v1/materials/:slug', reader, async (c) => {
     c.header('cache-control', 'no-cache');
-    return c.json(getMaterial(ctx.registry, c.req.param('slug')));
+    return c.json(await getMaterial(ctx.registry, c.req.param('slug')));
   });
 
-  app.get('/api/v1/materials/:slug/history', reader, (c) => {
+  app.get('/api/v1/materials/:slug/history', reader, async (c) => {
     c.header('cache-control', 'no-cache');
-    return c.json(history(ctx.registry, c.req.param('slug')));
+    return c.json(await history(ctx.registry, c.req.param('slug')));
   });
 
-  app.get(VERSION_PATH, reader, (c) => {
-    const version = showVersion(ctx.registry, versionRef(c));
+  app.get(VERSION_PATH, reader, async (c) => {
+    const version = await showVersion(ctx.registry, versionRef(c));
     const headers = versionHeaders(
       { status: version.status, sha256: version.sha256, retiredAt: version.retired_at },
       { withToken: c.get('principal') !== null },
@@ -394,31 +394,31 @@ export function registerMaterialRoutes(app: Hono<ApiEnv>, ctx: RouteContext): vo
   app.post(`${VERSION_PATH}/approve`, approver, async (c) => {
     const ref = versionRef(c);
     const body = parseInput(approveBody, await readOptionalJson(c.req), 'body');
-    return c.json(approve(ctx.registry, ref, actorOf(c.get('principal')), { acceptWarnings: body.accept_warnings }));
+    return c.json(await approve(ctx.registry, ref, actorOf(c.get('principal')), { acceptWarnings: body.accept_warnings }));
   });
 
   // The drafts the token's user may approve, with their review summaries (the CLI's `nkledger review`).
-  app.get('/api/v1/review', reader, (c) => {
+  app.get('/api/v1/review', reader, async (c) => {
     const principal = c.get('principal');
     c.header('cache-control', 'no-store');
-    return c.json(reviewQueue(ctx.registry, { user: actorOf(principal), role: principal?.role ?? null }));
+    return c.json(await reviewQueue(ctx.registry, { user: actorOf(principal), role: principal?.role ?? null }));
   });
 
   // One version's review summary, any status (what approve shows).
-  app.get(`${VERSION_PATH}/review`, reader, (c) => {
+  app.get(`${VERSION_PATH}/review`, reader, async (c) => {
     c.header('cache-control', 'no-cache');
-    return c.json(reviewVersion(ctx.registry, versionRef(c)));
+    return c.json(await reviewVersion(ctx.registry, versionRef(c)));
   });
 
   app.post(`${VERSION_PATH}/retire`, approver, async (c) => {
     const ref = versionRef(c);
     const { reason } = parseInput(reasonBody, await readOptionalJson(c.req), 'body');
-    return c.json(retire(ctx.registry, ref, reason, actorOf(c.get('principal'))));
+    return c.json(await retire(ctx.registry, ref, reason, actorOf(c.get('principal'))));
   });
 
   app.post(`${VERSION_PATH}/withdraw`, approver, async (c) => {
     const ref = versionRef(c);
     const { reason } = parseInput(optionalReasonBody, await readOptionalJson(c.req), 'body');
-    return c.json(withdraw(ctx.registry, ref, actorOf(c.get('principal')), reason));
+    return c.json(await withdraw(ctx.registry, ref, actorOf(c.get('principal')), reason));
   });
 }

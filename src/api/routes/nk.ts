@@ -96,12 +96,12 @@ const CONTENT_TYPES = { csv: 'text/csv; charset=utf-8; header=present', json: 'a
 
 export function registerNkRoute(app: Hono<ApiEnv>, ctx: RouteContext): void {
   const cache = new RepresentationCache();
-  const render = (ref: string, request: NkRequest, format: 'json' | 'csv', withToken: boolean) => {
+  const render = async (ref: string, request: NkRequest, format: 'json' | 'csv', withToken: boolean) => {
     const result = withUnitColumn(
-      evaluateVersion(ctx.registry, ref, request.wavelengthNm, { interpolation: request.interpolation, extrapolate: request.extrapolate }),
+      await evaluateVersion(ctx.registry, ref, request.wavelengthNm, { interpolation: request.interpolation, extrapolate: request.extrapolate }),
       request.unit,
     );
-    const retiredAt = result.status === 'retired' ? versionSummary(ctx.registry, ref).retired_at : null;
+    const retiredAt = result.status === 'retired' ? (await versionSummary(ctx.registry, ref)).retired_at : null;
     const caching = versionHeaders({ status: result.status, sha256: result.sha256, retiredAt }, { withToken, variant: format });
     return {
       status: result.status,
@@ -112,19 +112,19 @@ export function registerNkRoute(app: Hono<ApiEnv>, ctx: RouteContext): void {
       body: format === 'csv' ? exportTable({ wavelengthNm: result.wavelength_nm, n: result.n, k: result.k }, 'csv') : JSON.stringify(result),
     };
   };
-  const statuses = new ChangeMemo<ReturnType<typeof versionStatus>>(ctx.changes);
+  const statuses = new ChangeMemo<Awaited<ReturnType<typeof versionStatus>>>(ctx.changes);
 
-  app.get(`${VERSION_PATH}/nk`, ctx.requireRole('reader'), (c) => {
+  app.get(`${VERSION_PATH}/nk`, ctx.requireRole('reader'), async (c) => {
     const ref = versionRef(c);
     const format = negotiateNkFormat(c.req.header('accept'));
-    const maxPoints = ctx.settings().max_nk_points;
+    const maxPoints = (await ctx.settings()).max_nk_points;
     const url = c.req.url;
     const withToken = c.get('principal') !== null;
     const key = `${ref} ${format} ${withToken ? 'private' : 'public'} ${maxPoints} ${url.slice(url.indexOf('?') + 1)}`;
-    const status = statuses.get(ref, () => versionStatus(ctx.registry, c.req.param('slug'), Number(c.req.param('n'))));
+    const status = await statuses.get(ref, () => versionStatus(ctx.registry, c.req.param('slug'), Number(c.req.param('n'))));
     let answer = status && isImmutable(status) ? cache.get(key, status) : undefined;
     if (!answer) {
-      answer = render(ref, parseNkQuery(readQuery(c.req.url), maxPoints), format, withToken);
+      answer = await render(ref, parseNkQuery(readQuery(c.req.url), maxPoints), format, withToken);
       if (isImmutable(answer.status)) cache.set(key, answer);
     }
     // A plain Response with a plain header record, not c.body(): hono would copy the record into a
@@ -139,8 +139,9 @@ export function registerNkRoute(app: Hono<ApiEnv>, ctx: RouteContext): void {
   app.post(`${VERSION_PATH}/nk`, ctx.requireRole('reader'), async (c) => {
     const ref = versionRef(c);
     const format = negotiateNkFormat(c.req.header('accept'));
-    const request = parseNkBody(await readJson(c.req), ctx.settings().max_nk_points);
-    const answer = render(ref, request, format, c.get('principal') !== null);
+    const request = parseNkBody(await readJson(c.req), (await ctx.settings()).max_nk_points);
+    const answer = await render(ref, request,
+ format, c.get('principal') !== null);
     return new Response(answer.body, { status: 200, headers: { ...answer.headers, 'cache-control': 'no-store' } });
   });
 }

@@ -115,22 +115,22 @@ export const REF_OPERATIONS: Operation[] = [
 export function registerRefRoutes(app: Hono<ApiEnv>, ctx: RouteContext): void {
   const reader = ctx.requireRole('reader');
 
-  app.get('/api/v1/refs/:ref', reader, (c) => {
+  app.get('/api/v1/refs/:ref', reader, async (c) => {
     parseInput(z.strictObject({}), readQuery(c.req.url), 'query', 400);
     c.header('cache-control', 'no-store');
-    return c.json(showVersion(ctx.registry, c.req.param('ref')));
+    return c.json(await showVersion(ctx.registry, c.req.param('ref')));
   });
 
-  app.get('/api/v1/refs/:ref/export', reader, (c) => {
+  app.get('/api/v1/refs/:ref/export', reader, async (c) => {
     const q = parseInput(exportQuery, readQuery(c.req.url), 'query', 400);
     const stepNm = q.step_nm === undefined ? undefined : parseOptionNumber(q.step_nm, 'step_nm', { above: 0 });
     c.header('cache-control', 'no-store');
-    return c.json(exportVersion(ctx.registry, c.req.param('ref'), q.format, { xUnit: q.x_unit as never, stepNm }));
+    return c.json(await exportVersion(ctx.registry, c.req.param('ref'), q.format, { xUnit: q.x_unit as never, stepNm }));
   });
 
-  app.get('/api/v1/diff', reader, (c) => {
+  app.get('/api/v1/diff', reader, async (c) => {
     const { a, b } = parseInput(diffQuery, readQuery(c.req.url), 'query', 400);
     c.header('cache-control', 'no-store');
-    return c.json(diffVersions(ctx.registry, a, b));
+    return c.json(await diffVersions(ctx.registry, a, b));
   });
 }

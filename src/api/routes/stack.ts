@@ -146,7 +146,7 @@ export function registerStackRoute(app: Hono<ApiEnv>, ctx: RouteContext): void {
       names: { at: 'at', angle: 'angle', polarization: 'polarization', sweep: 'sweep' },
       resolve: { registry: ctx.registry, allowFiles: false },
       lock: () => (lockValue === undefined ? undefined : { lockfile: parseLockfile(lockValue, `${BODY} lock`), file: 'the posted lock' }),
-      maxWork: { limit: ctx.settings().max_stack_work, setting: 'max_stack_work', field: 'at' },
+      maxWork: { limit: (await ctx.settings()).max_stack_work, setting: 'max_stack_work', field: 'at' },
       // The CPU-heavy part on the compute pool; a client that goes away stops it.
       compute: (design, options) => ctx.compute.run({ kind: 'stack', design, options }, c.req.raw.signal),
     });

@@ -173,7 +173,7 @@ export function registerUploadRoutes(app: Hono<ApiEnv>, ctx: RouteContext): void
     const input = { bytes: upload.bytes, file: upload.file, importOptions: upload.importOptions, fit, kk };
     // Parse, fit and KK on a worker thread (stopped if the client disconnects); only the write transaction runs here.
     const prepared = await ctx.compute.run({ kind: 'measurement', input }, c.req.raw.signal);
-    const result = storeMeasurement(ctx.registry, { slug, file: upload.file, provenance }, prepared, actor);
+    const result = await storeMeasurement(ctx.registry, { slug, file: upload.file, provenance }, prepared, actor);
     c.header('location', versionUrl(result.ref));
     return c.json(result, 201);
   });
@@ -195,7 +195,7 @@ export function registerUploadRoutes(app: Hono<ApiEnv>, ctx: RouteContext): void
         ),
       );
     const inputs = upload.tables.map((t) => ({ slug, file: t.file, provenance }));
-    return c.json({ versions: storeMeasurements(ctx.registry, inputs, prepared, actor) }, 201);
+    return c.json({ versions: await storeMeasurements(ctx.registry, inputs, prepared, actor) }, 201);
   });
 
   app.post('/api/v1/fit', reader, async (c) => {

@@ -33,17 +33,17 @@ function demoPaths(dir: string): DemoPaths {
 }
 
 /** Build the registry under a temporary name and rename it into place, so an interrupted build is redone. */
-function buildDemo(paths: DemoPaths): string[] {
+async function buildDemo(paths: DemoPaths): Promise<string[]> {
   mkdirSync(paths.dir, { recursive: true });
   const temp = `${paths.db}.building`;
   for (const f of [temp, `${temp}-wal`, `${temp}-shm`]) rmSync(f, { force: true });
-  const registry = openRegistry(temp);
+  const registry = await openRegistry(temp);
   let lines: string[];
   try {
-    const summary = buildDemoRegistry(registry, DEMO_DATA_DIR, paths.lock);
-    const tokens = Object.fromEntries(
-      TOKEN_ROLES.map((role) => [role, createToken(registry, { user: `demo-${role}`, role, createdBy: 'nkledger demo', expires: 'never' }).token]),
-    );
+    const summary = await buildDemoRegistry(registry, DEMO_DATA_DIR, paths.lock);
+    const tokens: Record<string, string> = {};
+    for (const role of TOKEN_ROLES)
+      tokens[role] = (await createToken(registry, { user: `demo-${role}`, role, createdBy: 'nkledger demo', expires: 'never' })).token;
     // Demo only: the secrets are kept in clear here so every `npm start` can print them again.
     writeFileSync(
       paths.tokens,
@@ -102,11 +102,12 @@ export function register(program: Command): void {
         const port = parsePort(opts.port);
         const paths = demoPaths(opts.dir);
         if (opts.rebuild) for (const f of [paths.db, `${paths.db}-wal`, `${paths.db}-shm`, paths.tokens, paths.lock]) rmSync(f, { force: true });
-        if (!existsSync(paths.db) || !existsSync(paths.tokens)) printLines(buildDemo(paths));
+        if (!existsSync(paths.db) || !existsSync(paths.tokens)) printLines(await buildDemo(paths));
         else printLines([`Using the demo registry ${paths.db} (--rebuild starts over).`]);
         const tokens = readTokens(paths);
         if (!opts.serve) return printLines(usage(`http://${DEMO_HOST}:${port}`, tokens, paths.lock));
-        const registry = openRegistry(paths.db);
+        const registry = await openRegistry(paths.db);
+
         await serveUntilSignal(registry, { host: DEMO_HOST, port }, (server) => printLines(usage(server.url, tokens, paths.lock)));
       }),
     );

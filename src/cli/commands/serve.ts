@@ -98,8 +98,9 @@ export function register(program: Command): void {
               ? undefined
               : parseOptionNumber(opts.computeQueue, '--compute-queue', { integer: true, min: 0, max: 100_000 }),
         };
-        const registry = openRegistry(opts.db, { create: 'never' });
-        const anonymous = readSettings(registry).anonymous_reads;
+        const registry = await openRegistry(opts.db, { create: 'never' });
+        const anonymous = (await readSettings(registry)).anonymous_reads;
+
         await serveUntilSignal(registry, { host: opts.host, port, graceSeconds, compute }, (server) => {
           const open = anonymousReadsAllowed({ anonymous_reads: anonymous }, isLoopbackHost(opts.host));
           cliIo().stdout.write(`nkledger serving ${registry.path} at ${server.url}/ (pages) and ${server.url}/api/v1/materials (API)\n`);

@@ -15,13 +15,13 @@ const COMPARE_PLOT_POINTS = 500;
 const MAX_SUGGESTIONS = 2000;
 
 export function registerComparePage(app: Hono<WebEnv>, ctx: PageContext): void {
-  app.get('/compare', (c) => {
-    requireReader(ctx, c);
+  app.get('/compare', async (c) => {
+    await requireReader(ctx, c);
     const a = (c.req.query('a') ?? '').trim().slice(0, 200);
     const b = (c.req.query('b') ?? '').trim().slice(0, 200);
-    const diff = a && b ? diffVersions(ctx.registry, a, b) : null;
+    const diff = a && b ? await diffVersions(ctx.registry, a, b) : null;
     // Suggestions for the two fields: every version of every material, newest first (at most MAX_SUGGESTIONS).
-    const refs = listMaterials(ctx.registry)
+    const refs = (await listMaterials(ctx.registry))
       .flatMap((m) => Array.from({ length: m.versions }, (_, i) => `${m.slug}@${m.versions - i}`))
       .slice(0, MAX_SUGGESTIONS);
     return c.html(

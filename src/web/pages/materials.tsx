@@ -15,14 +15,14 @@ import { requireReader } from '../session.ts';
 const MAX_QUERY = 200;
 
 export function registerMaterialPages(app: Hono<WebEnv>, ctx: PageContext): void {
-  app.get('/', (c) => {
-    requireReader(ctx, c);
+  app.get('/', async (c) => {
+    await requireReader(ctx, c);
     const q = (c.req.query('q') ?? '').slice(0, MAX_QUERY);
     const tag = c.req.query('tag') ?? '';
-    const all = searchMaterials(ctx.registry, '');
+    const all = await searchMaterials(ctx.registry, '');
     const tags = [...new Set(all.flatMap((m) => m.tags))].sort();
-    const found = (q ? searchMaterials(ctx.registry, q) : all).filter((m) => tag === '' || m.tags.includes(tag));
-    const counts = versionStatusCounts(ctx.registry);
+    const found = (q ? await searchMaterials(ctx.registry, q) : all).filter((m) => tag === '' || m.tags.includes(tag));
+    const counts = await versionStatusCounts(ctx.registry);
     const session = c.get('session');
     return c.html(
       page({
@@ -64,14 +64,14 @@ export function registerMaterialPages(app: Hono<WebEnv>, ctx: PageContext): void
     );
   });
 
-  app.get('/materials/:slug', (c) => {
-    requireReader(ctx, c);
-    const { material, versions, audit } = history(ctx.registry, c.req.param('slug'));
+  app.get('/materials/:slug', async (c) => {
+    await requireReader(ctx, c);
+    const { material, versions, audit } = await history(ctx.registry, c.req.param('slug'));
     const latest = material.latest_approved;
     let plot: string | null = null;
     if (latest !== null) {
       const v = versions.find((x) => x.version === latest)!;
-      const curve = evaluateVersion(ctx.registry, v.ref, curveGrid(v.range_nm[0], v.range_nm[1]));
+      const curve = await evaluateVersion(ctx.registry, v.ref, curveGrid(v.range_nm[0], v.range_nm[1]));
       plot = nkPlot(
         `${v.ref}: n and k over ${fmt(v.range_nm[0])}–${fmt(v.range_nm[1])} nm (${curve.source === 'model' ? curve.model : 'measured table'})`,
         curve,
@@ -140,7 +140,7 @@ function Tags({ tags }: { tags: string[] }) {
   );
 }
 
-function MaterialTable({ materials, counts }: { materials: MaterialRecord[]; counts: ReturnType<typeof versionStatusCounts> }) {
+function MaterialTable({ materials, counts }: { materials: MaterialRecord[]; counts: Awaited<ReturnType<typeof versionStatusCounts>> }) {
   return (
     <table>
       <caption class="muted">Materials, by slug</caption>

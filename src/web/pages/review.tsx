@@ -16,9 +16,11 @@ import { localPath, requireSession } from '../session.ts';
 import { FitDetails, LifecycleForms, MAX_REASON, pathRef, ReviewFindings } from '../parts.tsx';
 
 export function registerReviewPages(app: Hono<WebEnv>, ctx: PageContext): void {
-  app.get('/review', (c) => {
+  app.get('/review', async (c) => {
     const session = requireSession(c, 'approver');
-    const queue = reviewQueue(ctx.registry, { user: session.principal.user, role: session.principal.role });
+    const queue = await reviewQueue(ctx.registry, { user: session.principal.user, role: session.principal.role });
+    const fits: (FitReport | null)[] = [];
+    for (const entry of queue.drafts) fits.push((await showVersion(ctx.registry, entry.ref)).content.fit as unknown as FitReport | null);
     return c.html(
       page({
         title: 'Review',
@@ -33,9 +35,10 @@ export function registerReviewPages(app: Hono<WebEnv>, ctx: PageContext): void {
                 : `${queue.drafts.length} draft(s) you may approve, oldest first. Read the checks before deciding.`}
               {queue.own_drafts > 0 && ` ${queue.own_drafts} draft(s) of your own are left out: someone else must approve them.`}
             </p>
-            {queue.drafts.map((entry) => (
-              <ReviewItem entry={entry} fit={showVersion(ctx.registry, entry.ref).content.fit as unknown as FitReport | null} csrf={session.csrf} />
+            {queue.drafts.map((entry, i) => (
+              <ReviewItem entry={entry} fit={fits[i]} csrf={session.csrf} />
             ))}
+
           </>
         ),
       }),
@@ -50,12 +53,12 @@ export function registerReviewPages(app: Hono<WebEnv>, ctx: PageContext): void {
       const reason = typeof form.reason === 'string' ? form.reason.trim().slice(0, MAX_REASON) : '';
       const user = session.principal.user;
       const accept = typeof form.accept_warnings === 'string' && form.accept_warnings.trim() ? form.accept_warnings.slice(0, MAX_REASON) : undefined;
-      if (verb === 'approve') approve(ctx.registry, ref, user, { acceptWarnings: accept });
-      else if (verb === 'withdraw') withdraw(ctx.registry, ref, user, reason || undefined);
+      if (verb === 'approve') await approve(ctx.registry, ref, user, { acceptWarnings: accept });
+      else if (verb === 'withdraw') await withdraw(ctx.registry, ref, user, reason || undefined);
       else {
         if (!reason)
           throw new InputError('retire-reason', 'say why the version is retired: the reason is kept in the audit log', {}, { option: 'reason' });
-        retire(ctx.registry, ref, reason, user);
+        await retire(ctx.registry, ref, reason, user);
       }
       return c.redirect(localPath(form.back, versionPath(ref)), 303);
     });

@@ -77,9 +77,9 @@ function fitOptionsOf(form: Form) {
 }
 
 export function registerUploadPages(app: Hono<WebEnv>, ctx: PageContext): void {
-  app.get('/upload', (c) => {
+  app.get('/upload', async (c) => {
     const session = requireSession(c, 'editor');
-    return c.html(uploadFormPage(ctx, session, { material: c.req.query('material') ?? '' }));
+    return c.html(await uploadFormPage(ctx, session, { material: c.req.query('material') ?? '' }));
   });
 
   app.post('/materials', async (c) => {
@@ -90,7 +90,7 @@ export function registerUploadPages(app: Hono<WebEnv>, ctx: PageContext): void {
         .split(',')
         .map((t) => t.trim())
         .filter(Boolean);
-      const material = createMaterial(
+      const material = await createMaterial(
         ctx.registry,
         { slug: form.slug ?? '', name: form.name ?? '', description: form.description, tags },
         session.principal.user,
@@ -98,7 +98,7 @@ export function registerUploadPages(app: Hono<WebEnv>, ctx: PageContext): void {
       return c.redirect(`/upload?material=${encodeURIComponent(material.slug)}`, 303);
     } catch (err) {
       if (!(err instanceof InputError) || statusOf(err) >= 500) throw err;
-      return c.html(uploadFormPage(ctx, session, form, err), statusOf(err) as 400);
+      return c.html(await uploadFormPage(ctx, session, form, err), statusOf(err) as 400);
     }
   });
 
@@ -111,28 +111,28 @@ export function registerUploadPages(app: Hono<WebEnv>, ctx: PageContext): void {
       if (!(file instanceof File) || file.size === 0)
         throw new InputError('upload-no-table', 'choose a file to upload (CSV or TSV)', {}, { option: 'table' });
       const slug = checkSlug(form.material ?? '');
-      getMaterial(ctx.registry, slug); // an unknown material is refused now, not after the preview
+      await getMaterial(ctx.registry, slug); // an unknown material is refused now, not after the preview
       const fileName = file.name.replace(/^.*[\\/]/, '') || 'upload.csv';
       const bytes = new Uint8Array(await file.arrayBuffer());
       const importOptions = importOptionsOf(form, fileName);
       await ctx.compute.run({ kind: 'inspect', bytes, importOptions }); // refuse what does not read before keeping it
-      const pending = putPendingUpload(ctx.registry, session, { slug, fileName, bytes, importOptions });
+      const pending = await putPendingUpload(ctx.registry, session, { slug, fileName, bytes, importOptions });
       return c.redirect(`/upload/${pending.id}`, 303);
     } catch (err) {
       if (!(err instanceof InputError) || statusOf(err) >= 500) throw err;
-      return c.html(uploadFormPage(ctx, session, form, err), statusOf(err) as 400);
+      return c.html(await uploadFormPage(ctx, session, form, err), statusOf(err) as 400);
     }
   });
 
   app.get('/upload/:id', async (c) => {
     const session = requireSession(c, 'editor');
-    const pending = getPendingUpload(ctx.registry, session, c.req.param('id'));
+    const pending = await getPendingUpload(ctx.registry, session, c.req.param('id'));
     return c.html(await previewPage(ctx, session, pending, {}));
   });
 
   app.post('/upload/:id/fit', async (c) => {
     const session = requireSession(c, 'editor');
-    const pending = getPendingUpload(ctx.registry, session, c.req.param('id'));
+    const pending = await getPendingUpload(ctx.registry, session, c.req.param('id'));
     const form = textFields(await c.req.parseBody());
     try {
       const fit = fitOptionsOf(form);
@@ -147,7 +147,7 @@ export function registerUploadPages(app: Hono<WebEnv>, ctx: PageContext): void {
 
   app.post('/upload/:id/store', async (c) => {
     const session = requireSession(c, 'editor');
-    const pending = getPendingUpload(ctx.registry, session, c.req.param('id'));
+    const pending = await getPendingUpload(ctx.registry, session, c.req.param('id'));
     const form = textFields(await c.req.parseBody());
     try {
       const provenance = Object.fromEntries(
@@ -161,8 +161,8 @@ export function registerUploadPages(app: Hono<WebEnv>, ctx: PageContext): void {
         kk: form.kk === 'on',
       };
       const prepared = await ctx.compute.run({ kind: 'measurement', input });
-      const stored = storeMeasurement(ctx.registry, { slug: pending.slug, file: pending.fileName, provenance }, prepared, session.principal.user);
-      dropPendingUpload(ctx.registry, session, pending.id);
+      const stored = await storeMeasurement(ctx.registry, { slug: pending.slug, file: pending.fileName, provenance }, prepared, session.principal.user);
+      await dropPendingUpload(ctx.registry, session, pending.id);
       return c.redirect(versionPath(stored.ref), 303);
     } catch (err) {
       if (!(err instanceof InputError) || statusOf(err) >= 500) throw err;
@@ -170,15 +170,15 @@ export function registerUploadPages(app: Hono<WebEnv>, ctx: PageContext): void {
     }
   });
 
-  app.post('/upload/:id/discard', (c) => {
+  app.post('/upload/:id/discard', async (c) => {
     const session = requireSession(c, 'editor');
-    dropPendingUpload(ctx.registry, session, c.req.param('id'));
+    await dropPendingUpload(ctx.registry, session, c.req.param('id'));
     return c.redirect('/upload', 303);
   });
 }
 
-function uploadFormPage(ctx: PageContext, session: WebSession, form: Form, error?: InputError): string {
-  const materials = listMaterials(ctx.registry);
+async function uploadFormPage(ctx: PageContext, session: WebSession, form: Form, error?: InputError): Promise<string> {
+  const materials = await listMaterials(ctx.registry);
   return page({
     title: 'Upload',
     session,

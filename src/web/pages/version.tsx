@@ -31,9 +31,9 @@ const PROVENANCE_LABEL: Record<(typeof PROVENANCE_FIELDS)[number], string> = {
 };
 
 export function registerVersionPages(app: Hono<WebEnv>, ctx: PageContext): void {
-  app.get('/materials/:slug/versions/:n', (c) => {
-    requireReader(ctx, c);
-    const v = showVersion(ctx.registry, pathRef(c));
+  app.get('/materials/:slug/versions/:n', async (c) => {
+    await requireReader(ctx, c);
+    const v = await showVersion(ctx.registry, pathRef(c));
     const session = c.get('session');
     const canAct = session !== null && roleAllows(session.principal.role, 'approver');
     return c.html(
@@ -51,7 +51,7 @@ export function registerVersionPages(app: Hono<WebEnv>, ctx: PageContext): void 
                   version={v}
                   csrf={session.csrf}
                   back={versionPath(v.ref)}
-                  blocking={v.status === 'draft' ? reviewVersion(ctx.registry, v.ref).blocking : []}
+                  blocking={v.status === 'draft' ? (await reviewVersion(ctx.registry, v.ref)).blocking : []}
                 />
               ) : null
             }
@@ -68,20 +68,20 @@ export function registerVersionPages(app: Hono<WebEnv>, ctx: PageContext): void 
       'cache-control': 'no-cache',
     });
 
-  app.get('/materials/:slug/versions/:n/table.csv', (c) => {
-    requireReader(ctx, c);
-    const e = exportVersion(ctx.registry, pathRef(c), 'csv');
+  app.get('/materials/:slug/versions/:n/table.csv', async (c) => {
+    await requireReader(ctx, c);
+    const e = await exportVersion(ctx.registry, pathRef(c), 'csv');
     return download(c, e.text, 'text/csv; charset=utf-8', `${e.ref.replace('@', '-v')}.csv`);
   });
-  app.get('/materials/:slug/versions/:n/model.csv', (c) => {
-    requireReader(ctx, c);
+  app.get('/materials/:slug/versions/:n/model.csv', async (c) => {
+    await requireReader(ctx, c);
     const step = Number(c.req.query('step_nm') ?? '1');
-    const e = exportVersion(ctx.registry, pathRef(c), 'csv', { source: 'model', stepNm: step });
+    const e = await exportVersion(ctx.registry, pathRef(c), 'csv', { source: 'model', stepNm: step });
     return download(c, e.text, 'text/csv; charset=utf-8', `${e.ref.replace('@', '-v')}-model.csv`);
   });
-  app.get('/materials/:slug/versions/:n/record.json', (c) => {
-    requireReader(ctx, c);
-    const e = exportVersion(ctx.registry, pathRef(c), 'json');
+  app.get('/materials/:slug/versions/:n/record.json', async (c) => {
+    await requireReader(ctx, c);
+    const e = await exportVersion(ctx.registry, pathRef(c), 'json');
     return download(c, e.text, 'application/json', `${e.ref.replace('@', '-v')}.json`);
   });
 }
