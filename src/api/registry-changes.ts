@@ -78,7 +78,6 @@ export class ChangeMemo<V> {
     return value;
   }
 
-
   get size(): number {
     return this.values.size;
   }

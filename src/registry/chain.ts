@@ -202,14 +202,14 @@ export async function ensureGenesis(registry: Registry): Promise<void> {
     if ((await headHash(registry)) !== null) return;
     const earlier = await readAuditRows(registry);
     const versions: ChainedVersion[] = (await storedVersionStates(registry)).map((v) => ({
-        ref: formatRef(v.slug, v.number),
-        sha256: v.sha256,
-        status: v.status,
-        created_by: v.created_by,
-        approved_by: v.approved_by,
-        retired_by: v.retired_by,
-        withdrawn_by: v.withdrawn_by,
-      }));
+      ref: formatRef(v.slug, v.number),
+      sha256: v.sha256,
+      status: v.status,
+      created_by: v.created_by,
+      approved_by: v.approved_by,
+      retired_by: v.retired_by,
+      withdrawn_by: v.withdrawn_by,
+    }));
     await appendEvent(registry, {
       actor: SYSTEM_ACTOR,
       action: GENESIS_TYPE,

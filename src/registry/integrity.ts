@@ -56,7 +56,10 @@ export interface TriggerCheck {
 }
 
 export async function checkTriggers(registry: Registry): Promise<TriggerCheck> {
-  const triggers = await queryRows<{ name: string; sql: string | null }>(registry, sqlText`SELECT name, sql FROM sqlite_master WHERE type = 'trigger'`);
+  const triggers = await queryRows<{ name: string; sql: string | null }>(
+    registry,
+    sqlText`SELECT name, sql FROM sqlite_master WHERE type = 'trigger'`,
+  );
   const actual = new Map(triggers.map((t) => [t.name, t.sql ?? '']));
   const want = expectedTriggers();
   const missing: string[] = [];

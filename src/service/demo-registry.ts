@@ -207,5 +207,4 @@ export async function buildDemoRegistry(registry: Registry, dataDir: string, loc
   // A new material waits for a second pair of eyes.
   await put('a-si-h', 'asi');
   return { steps, lockfile: lockPath, lockReport: await lockVerify(registry, lock) };
-
 }

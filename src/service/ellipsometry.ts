@@ -543,7 +543,6 @@ export async function storeFittedFilm(
   input: { slug: string; prepared: PreparedEllipsometry; report: EllipsometryReport },
   actor: string,
 ): Promise<ImportedVersion> {
-
   const { prepared, report } = input;
   const { sample } = prepared;
   const filmIndex =

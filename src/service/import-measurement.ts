@@ -149,5 +149,4 @@ export async function storeMeasurements(
     for (const [i, input] of inputs.entries()) stored.push(await storeMeasurement(registry, input, prepared[i], actor));
     return stored;
   });
-
 }

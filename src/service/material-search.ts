@@ -9,8 +9,7 @@ import { listMaterials } from './materials.ts';
  */
 export async function searchMaterials(registry: Registry, query: string): Promise<MaterialRecord[]> {
   const words = query.toLowerCase().split(/\s+/).filter(Boolean);
-  return (await listMaterials(registry)).filter(
-(m) => {
+  return (await listMaterials(registry)).filter((m) => {
     const haystack = [m.slug, m.name, m.description, ...m.tags].join('\n').toLowerCase();
     return words.every((w) => haystack.includes(w));
   });

@@ -103,7 +103,13 @@ export async function createMaterial(registry: Registry, input: NewMaterial, act
       .insert(materials)
       .values({ slug, name, description, tags: JSON.stringify(tags), createdBy: who, createdAt: nowIso() })
       .returning();
-    await appendAudit(registry, { actor: who, action: 'material.create', materialId: row.id, material: slug, detail: { slug, name, description, tags } });
+    await appendAudit(registry, {
+      actor: who,
+      action: 'material.create',
+      materialId: row.id,
+      material: slug,
+      detail: { slug, name, description, tags },
+    });
     return materialRecord(registry, row);
   });
 }
@@ -215,12 +221,12 @@ export async function history(
   const rows = await versionSummaryRows(registry, row.id);
   const numberById = new Map(rows.map((v) => [v.id, v.number]));
   const audit = (await registry.db.select().from(auditLog).where(eq(auditLog.materialId, row.id)).orderBy(asc(auditLog.id))).map((a) => ({
-      id: a.id,
-      at: a.at,
-      actor: a.actor,
-      action: a.action,
-      ref: a.versionId === null ? null : formatRef(row.slug, numberById.get(a.versionId)!),
-      detail: JSON.parse(a.detail) as Record<string, unknown>,
-    }));
+    id: a.id,
+    at: a.at,
+    actor: a.actor,
+    action: a.action,
+    ref: a.versionId === null ? null : formatRef(row.slug, numberById.get(a.versionId)!),
+    detail: JSON.parse(a.detail) as Record<string, unknown>,
+  }));
   return { material: await materialRecord(registry, row), versions: rows.map((v) => versionRecord(row.slug, v)), audit };
 }

@@ -176,8 +176,7 @@ export async function resetSetting(registry: Registry, key: string, actor: strin
   refuseDirectWritesChange(registry, k);
   await writeTransaction(registry, async () => {
     await registry.db.delete(registrySettings).where(eq(registrySettings.key, k));
-    await appendAudit(
-registry, { actor: updatedBy, action: 'setting.reset', detail: { key: k } });
+    await appendAudit(registry, { actor: updatedBy, action: 'setting.reset', detail: { key: k } });
   });
   return readSettings(registry);
 }

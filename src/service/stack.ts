@@ -299,7 +299,6 @@ export async function resolveStackDesign(design: StackDesign, ctx: ResolveContex
       const refs = refSlots.map((s) => (s.source as { ref: string }).ref).join(', ');
       try {
         await withExistingRegistry(refs, ctx.db, loadAll);
-
       } catch (err) {
         if (!(err instanceof NotFoundError && err.rule === 'source-not-found')) throw err;
         throw new NotFoundError(

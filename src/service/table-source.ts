@@ -100,7 +100,6 @@ export async function loadVersion(registry: Registry, source: string): Promise<L
   let resolved;
   try {
     resolved = await resolveRow(registry, source);
-
   } catch (err) {
     // A bare word that is neither a file nor a material is most likely a mistyped file name: say both.
     if (err instanceof NotFoundError && err.rule === 'material-unknown' && parseRef(source).kind === 'latest') {
@@ -142,7 +141,6 @@ export async function withExistingRegistry<T>(source: string, db: string | undef
   const registry = await openRegistry(path);
   try {
     return await use(registry);
-
   } finally {
     registry.close();
   }

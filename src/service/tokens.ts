@@ -87,7 +87,10 @@ export function parseTokenLifetime(text: string, option = 'expires'): number | n
  * Create a token for `user` with `role`; the returned `token` is the only time the secret exists in clear. `expires`
  * is its lifetime ("90d", "12h", "never"); without it the `token_lifetime` setting applies.
  */
-export async function createToken(registry: Registry, input: { user: string; role: string; createdBy: string; expires?: string }): Promise<CreatedToken> {
+export async function createToken(
+  registry: Registry,
+  input: { user: string; role: string; createdBy: string; expires?: string },
+): Promise<CreatedToken> {
   const user = checkActor(input.user);
   const createdBy = checkActor(input.createdBy);
   const role = parseRole(input.role);
@@ -178,5 +181,4 @@ export async function recordTokenUse(registry: Registry, principal: Principal, n
   if (seen.size > 10_000) seen.clear();
   seen.set(principal.tokenId, now);
   await noteTokenUse(registry, principal.tokenId, new Date(now).toISOString());
-
 }

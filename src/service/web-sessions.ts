@@ -147,17 +147,15 @@ export async function putPendingUpload(
     for (const old of held.slice(0, Math.max(0, held.length - PENDING_UPLOADS_PER_SESSION + 1))) {
       await registry.db.delete(webPendingUploads).where(eq(webPendingUploads.id, old.id));
     }
-    await registry.db
-      .insert(webPendingUploads)
-      .values({
-        id,
-        sessionSha256: session.key,
-        slug: upload.slug,
-        fileName: upload.fileName,
-        bytes: Buffer.from(upload.bytes),
-        importOptions: JSON.stringify(upload.importOptions),
-        createdAt,
-      });
+    await registry.db.insert(webPendingUploads).values({
+      id,
+      sessionSha256: session.key,
+      slug: upload.slug,
+      fileName: upload.fileName,
+      bytes: Buffer.from(upload.bytes),
+      importOptions: JSON.stringify(upload.importOptions),
+      createdAt,
+    });
   });
   return { id, createdAt, ...upload };
 }
@@ -190,5 +188,4 @@ export async function dropPendingUpload(registry: Registry, session: WebSession,
   await writeTransaction(registry, async () => {
     await registry.db.delete(webPendingUploads).where(and(eq(webPendingUploads.id, id), eq(webPendingUploads.sessionSha256, session.key)));
   });
-
 }

@@ -33,5 +33,4 @@ export interface PageContext extends WebOptions {
 export function pageContext(options: WebOptions): PageContext {
   const currentSettings = async (): Promise<Settings> => ({ ...(await readSettings(options.registry)), ...options.settings });
   return { ...options, currentSettings, anonymousReads: async () => anonymousReadsAllowed(await currentSettings(), options.loopback) };
-
 }

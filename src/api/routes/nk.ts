@@ -140,8 +140,7 @@ export function registerNkRoute(app: Hono<ApiEnv>, ctx: RouteContext): void {
     const ref = versionRef(c);
     const format = negotiateNkFormat(c.req.header('accept'));
     const request = parseNkBody(await readJson(c.req), (await ctx.settings()).max_nk_points);
-    const answer = await render(ref, request,
- format, c.get('principal') !== null);
+    const answer = await render(ref, request, format, c.get('principal') !== null);
     return new Response(answer.body, { status: 200, headers: { ...answer.headers, 'cache-control': 'no-store' } });
   });
 }

@@ -38,7 +38,6 @@ export function registerReviewPages(app: Hono<WebEnv>, ctx: PageContext): void {
             {queue.drafts.map((entry, i) => (
               <ReviewItem entry={entry} fit={fits[i]} csrf={session.csrf} />
             ))}
-
           </>
         ),
       }),

@@ -161,7 +161,12 @@ export function registerUploadPages(app: Hono<WebEnv>, ctx: PageContext): void {
         kk: form.kk === 'on',
       };
       const prepared = await ctx.compute.run({ kind: 'measurement', input });
-      const stored = await storeMeasurement(ctx.registry, { slug: pending.slug, file: pending.fileName, provenance }, prepared, session.principal.user);
+      const stored = await storeMeasurement(
+        ctx.registry,
+        { slug: pending.slug, file: pending.fileName, provenance },
+        prepared,
+        session.principal.user,
+      );
       await dropPendingUpload(ctx.registry, session, pending.id);
       return c.redirect(versionPath(stored.ref), 303);
     } catch (err) {
