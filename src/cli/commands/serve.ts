@@ -59,7 +59,7 @@ export async function serveUntilSignal(
       cliIo().stderr.write(`nkledger serve: ${signal}: no new connections; open requests get ${grace} s to finish, then the registry closes\n`);
       process.off('SIGINT', stop);
       process.off('SIGTERM', stop);
-      server.close(grace * 1000).then(() => {
+      void server.close(grace * 1000).then(() => {
         registry.close();
         resolve();
       });
