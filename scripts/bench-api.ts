@@ -63,7 +63,7 @@ function arg(name: string, fallback: number): number {
 
 /** Child: serve the registry at argv[3] with the constant route added, print the URL, run until killed. */
 async function serveChild(dbPath: string): Promise<void> {
-  const registry = openRegistry(dbPath);
+  const registry = await openRegistry(dbPath);
   const server = await startServer({
     registry,
     host: '127.0.0.1',
@@ -75,16 +75,20 @@ async function serveChild(dbPath: string): Promise<void> {
   process.on('SIGTERM', () => server.close().then(() => (registry.close(), process.exit(0))));
 }
 
-function prepareRegistry(dbPath: string): { token: string; editorToken: string } {
-  const registry = openRegistry(dbPath);
+async function prepareRegistry(dbPath: string): Promise<{ token: string; editorToken: string }> {
+  const registry = await openRegistry(dbPath);
   try {
-    createMaterial(registry, { slug: 'sinx-pecvd-a', name: 'PECVD SiNx, recipe A (invented demo data)' }, 'bench-editor');
+    await createMaterial(registry, { slug: 'sinx-pecvd-a', name: 'PECVD SiNx, recipe A (invented demo data)' }, 'bench-editor');
     const bytes = new Uint8Array(readFileSync(DATA));
-    importMeasurement(registry, { slug: 'sinx-pecvd-a', bytes, file: 'sinx-pecvd-recipe-a.csv', fit: { model: 'tauc-lorentz' } }, 'bench-editor');
-    approve(registry, 'sinx-pecvd-a@1', 'bench-approver');
+    await importMeasurement(
+      registry,
+      { slug: 'sinx-pecvd-a', bytes, file: 'sinx-pecvd-recipe-a.csv', fit: { model: 'tauc-lorentz' } },
+      'bench-editor',
+    );
+    await approve(registry, 'sinx-pecvd-a@1', 'bench-approver');
     return {
-      token: createToken(registry, { user: 'bench', role: 'reader', createdBy: 'bench' }).token,
-      editorToken: createToken(registry, { user: 'bench-uploader', role: 'editor', createdBy: 'bench' }).token,
+      token: (await createToken(registry, { user: 'bench', role: 'reader', createdBy: 'bench' })).token,
+      editorToken: (await createToken(registry, { user: 'bench-uploader', role: 'editor', createdBy: 'bench' })).token,
     };
   } finally {
     registry.close();
@@ -164,7 +168,7 @@ async function main(): Promise<void> {
   const rounds = arg('rounds', 5);
   const dir = mkdtempSync(join(tmpdir(), 'nkledger-bench-'));
   const dbPath = join(dir, 'bench.db');
-  const { token, editorToken } = prepareRegistry(dbPath);
+  const { token, editorToken } = await prepareRegistry(dbPath);
   const child = spawn(process.execPath, ['--import', 'tsx', SCRIPT, '--serve', dbPath], { stdio: ['ignore', 'pipe', 'inherit', 'ipc'] });
   try {
     const url = await new Promise<string>((resolve, reject) => {

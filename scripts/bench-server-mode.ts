@@ -33,12 +33,12 @@ if (!existsSync(join(ROOT, 'dist', 'nkledger.js'))) {
 
 const dir = mkdtempSync(join(tmpdir(), 'nkledger-bench-server-'));
 const db = join(dir, 'lab.db');
-const registry = openRegistry(db);
+const registry = await openRegistry(db);
 // One transaction for the whole set-up (createMaterial would commit 1,000 times); rows and audit events as it writes them.
-writeTransaction(registry, () => {
+await writeTransaction(registry, async () => {
   for (let i = 0; i < MATERIALS; i++) {
     const slug = `material-${String(i).padStart(4, '0')}`;
-    const row = registry.db
+    const [row] = await registry.db
       .insert(materials)
       .values({
         slug,
@@ -48,9 +48,8 @@ writeTransaction(registry, () => {
         createdBy: 'bench',
         createdAt: new Date().toISOString(),
       })
-      .returning()
-      .get();
-    appendAudit(registry, { actor: 'bench', action: 'material.create', materialId: row.id, material: slug, detail: { slug } });
+      .returning();
+    await appendAudit(registry, { actor: 'bench', action: 'material.create', materialId: row.id, material: slug, detail: { slug } });
   }
 });
 registry.close();

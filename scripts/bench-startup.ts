@@ -29,8 +29,8 @@ if (!existsSync(join(ROOT, 'dist', 'nkledger.js'))) {
 const dir = mkdtempSync(join(tmpdir(), 'nkledger-bench-startup-'));
 try {
   const db = join(dir, 'demo.db');
-  const registry = openRegistry(db);
-  buildDemoRegistry(registry, join(ROOT, 'data', 'marrowick'), join(dir, 'lock.json'));
+  const registry = await openRegistry(db);
+  await buildDemoRegistry(registry, join(ROOT, 'data', 'marrowick'), join(dir, 'lock.json'));
   registry.close();
 
   const cases: { name: string; args: string[] }[] = [

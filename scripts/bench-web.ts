@@ -27,9 +27,9 @@ const WARM_UP = 5;
 const VERSIONS = 50;
 
 const dir = mkdtempSync(join(tmpdir(), 'nkledger-bench-web-'));
-const registry = openRegistry(join(dir, 'bench.db'));
+const registry = await openRegistry(join(dir, 'bench.db'));
 try {
-  createMaterial(registry, { slug: 'sinx-bench', name: 'Benchmark nitride (invented)', tags: ['bench', 'nitride'] }, 'r.okafor');
+  await createMaterial(registry, { slug: 'sinx-bench', name: 'Benchmark nitride (invented)', tags: ['bench', 'nitride'] }, 'r.okafor');
   for (let v = 1; v <= VERSIONS; v++) {
     // Invented: n = A + B/λ² with A drifting per version, k = 0, 300 rows over 400–1000 nm.
     const lines = ['wavelength_nm,n,k'];
@@ -38,10 +38,10 @@ try {
       lines.push(`${nm},${(1.95 + v * 1e-3 + 0.012 / (nm / 1000) ** 2).toFixed(6)},0`);
     }
     const bytes = new TextEncoder().encode(lines.join('\n'));
-    importMeasurement(registry, { slug: 'sinx-bench', bytes, file: `run-${v}.csv`, fit: { model: 'cauchy' } }, 'r.okafor');
-    if (v % 5 === 0) withdraw(registry, `sinx-bench@${v}`, 'm.lindqvist', 'bench: withdrawn');
-    else if (v < VERSIONS - 2) approve(registry, `sinx-bench@${v}`, 'm.lindqvist');
-    if (v % 5 !== 0 && v < VERSIONS - 10) retire(registry, `sinx-bench@${v}`, 'bench: superseded', 'm.lindqvist');
+    await importMeasurement(registry, { slug: 'sinx-bench', bytes, file: `run-${v}.csv`, fit: { model: 'cauchy' } }, 'r.okafor');
+    if (v % 5 === 0) await withdraw(registry, `sinx-bench@${v}`, 'm.lindqvist', 'bench: withdrawn');
+    else if (v < VERSIONS - 2) await approve(registry, `sinx-bench@${v}`, 'm.lindqvist');
+    if (v % 5 !== 0 && v < VERSIONS - 10) await retire(registry, `sinx-bench@${v}`, 'bench: superseded', 'm.lindqvist');
   }
   const compute = new ComputePool({ threads: 1 });
   const pages = createWebPages({ registry, compute, loopback: true });

@@ -53,9 +53,9 @@ async function main(): Promise<void> {
   const clients = arg('clients', 8);
   const dir = mkdtempSync(join(tmpdir(), 'nkledger-soak-'));
   const db = join(dir, 'soak.db');
-  const setup = openRegistry(db);
-  const editor = createToken(setup, { user: 'soak-editor', role: 'editor', createdBy: 'soak' }).token;
-  const approver = createToken(setup, { user: 'soak-approver', role: 'approver', createdBy: 'soak' }).token;
+  const setup = await openRegistry(db);
+  const editor = (await createToken(setup, { user: 'soak-editor', role: 'editor', createdBy: 'soak' })).token;
+  const approver = (await createToken(setup, { user: 'soak-approver', role: 'approver', createdBy: 'soak' })).token;
   setup.close();
 
   const server = spawn(process.execPath, [BIN, 'serve', '--db', db, '--host', '127.0.0.1', '--port', '0'], { stdio: ['ignore', 'pipe', 'pipe'] });
