@@ -18,15 +18,15 @@ interface WriteCase {
   name: string;
   role: TokenRole;
   /** Prepare fresh state (through the service layer) and return the request to send. */
-  prepare(h: ApiHarness, i: number): { path: string; init: RequestInit };
+  prepare(h: ApiHarness, i: number): Promise<{ path: string; init: RequestInit }> | { path: string; init: RequestInit };
   success: number;
 }
 
 let counter = 0;
-function draft(h: ApiHarness): { slug: string; n: number } {
+async function draft(h: ApiHarness): Promise<{ slug: string; n: number }> {
   const slug = `m-${++counter}`;
-  createMaterial(h.registry, { slug, name: `material ${counter}` }, 'lab-editor');
-  const v = importVersion(h.registry, { slug, table: cauchyTable(1.4 + counter / 1000) }, 'lab-editor');
+  await createMaterial(h.registry, { slug, name: `material ${counter}` }, 'lab-editor');
+  const v = await importVersion(h.registry, { slug, table: cauchyTable(1.4 + counter / 1000) }, 'lab-editor');
   return { slug, n: v.version };
 }
 
@@ -41,9 +41,9 @@ const WRITES: WriteCase[] = [
     name: 'edit material',
     role: 'editor',
     success: 200,
-    prepare: (h) => {
+    prepare: async (h) => {
       const slug = `ed-${++counter}`;
-      createMaterial(h.registry, { slug, name: 'Before' }, 'lab-editor');
+      await createMaterial(h.registry, { slug, name: 'Before' }, 'lab-editor');
       return { path: `/api/v1/materials/${slug}`, init: { ...json({ name: 'After', tags: ['edited'] }), method: 'PATCH' } };
     },
   },
@@ -51,9 +51,9 @@ const WRITES: WriteCase[] = [
     name: 'upload version',
     role: 'editor',
     success: 201,
-    prepare: (h) => {
+    prepare: async (h) => {
       const slug = `up-${++counter}`;
-      createMaterial(h.registry, { slug, name: 'Upload target' }, 'lab-editor');
+      await createMaterial(h.registry, { slug, name: 'Upload target' }, 'lab-editor');
       return { path: `/api/v1/materials/${slug}/versions`, init: csv(csvTable(1.8 + counter / 1000)) };
     },
   },
@@ -61,9 +61,9 @@ const WRITES: WriteCase[] = [
     name: 'import several tables',
     role: 'editor',
     success: 201,
-    prepare: (h) => {
+    prepare: async (h) => {
       const slug = `many-${++counter}`;
-      createMaterial(h.registry, { slug, name: 'Batch target' }, 'lab-editor');
+      await createMaterial(h.registry, { slug, name: 'Batch target' }, 'lab-editor');
       const form = new FormData();
       form.append('table', new Blob([csvTable(2.1 + counter / 1000)]), 'a.csv');
       form.append('table', new Blob([csvTable(2.2 + counter / 1000)]), 'b.csv');
@@ -74,8 +74,8 @@ const WRITES: WriteCase[] = [
     name: 'approve',
     role: 'approver',
     success: 200,
-    prepare: (h) => {
-      const { slug, n } = draft(h);
+    prepare: async (h) => {
+      const { slug, n } = await draft(h);
       return { path: `/api/v1/materials/${slug}/versions/${n}/approve`, init: { method: 'POST' } };
     },
   },
@@ -83,9 +83,9 @@ const WRITES: WriteCase[] = [
     name: 'retire',
     role: 'approver',
     success: 200,
-    prepare: (h) => {
-      const { slug, n } = draft(h);
-      approve(h.registry, `${slug}@${n}`, 'lab-approver');
+    prepare: async (h) => {
+      const { slug, n } = await draft(h);
+      await approve(h.registry, `${slug}@${n}`, 'lab-approver');
       return { path: `/api/v1/materials/${slug}/versions/${n}/retire`, init: json({ reason: 'superseded by a new recipe' }) };
     },
   },
@@ -93,8 +93,8 @@ const WRITES: WriteCase[] = [
     name: 'withdraw',
     role: 'approver',
     success: 200,
-    prepare: (h) => {
-      const { slug, n } = draft(h);
+    prepare: async (h) => {
+      const { slug, n } = await draft(h);
       return { path: `/api/v1/materials/${slug}/versions/${n}/withdraw`, init: json({ reason: 'wrong sample' }) };
     },
   },
@@ -103,8 +103,8 @@ const WRITES: WriteCase[] = [
     name: 'revoke token',
     role: 'admin',
     success: 200,
-    prepare: (h) => ({
-      path: `/api/v1/tokens/${createToken(h.registry, { user: 'victim', role: 'reader', createdBy: 'setup' }).id}/revoke`,
+    prepare: async (h) => ({
+      path: `/api/v1/tokens/${(await createToken(h.registry, { user: 'victim', role: 'reader', createdBy: 'setup' })).id}/revoke`,
       init: { method: 'POST' },
     }),
   },
@@ -122,8 +122,8 @@ describe('access matrix (real HTTP)', () => {
   let revoked: string;
   beforeAll(async () => {
     h = await startHarness();
-    const t = createToken(h.registry, { user: 'former', role: 'admin', createdBy: 'setup' });
-    revokeToken(h.registry, t.id, 'setup');
+    const t = await createToken(h.registry, { user: 'former', role: 'admin', createdBy: 'setup' });
+    await revokeToken(h.registry, t.id, 'setup');
     revoked = t.token;
   });
   afterAll(() => h.stop());
@@ -138,7 +138,7 @@ describe('access matrix (real HTTP)', () => {
     describe(write.name, () => {
       for (const [label, headers] of badCredentials) {
         it(`${label} → 401 problem, nothing written`, async () => {
-          const { path, init } = write.prepare(h, 0);
+          const { path, init } = await write.prepare(h, 0);
           const before = snapshotCounts(h);
           const res = await h.request(path, { ...init, headers: { ...(init.headers as Record<string, string>), ...headers } });
           expect(res.status).toBe(401);
@@ -152,7 +152,7 @@ describe('access matrix (real HTTP)', () => {
       }
 
       it('revoked token → 401, nothing written', async () => {
-        const { path, init } = write.prepare(h, 0);
+        const { path, init } = await write.prepare(h, 0);
         const before = snapshotCounts(h);
         const res = await h.request(path, { ...init, token: revoked });
         expect(res.status).toBe(401);
@@ -163,7 +163,7 @@ describe('access matrix (real HTTP)', () => {
       for (const role of TOKEN_ROLES) {
         const allowed = TOKEN_ROLES.indexOf(role) >= TOKEN_ROLES.indexOf(write.role);
         it(`${role} → ${allowed ? write.success : '403, nothing written'}`, async () => {
-          const { path, init } = write.prepare(h, 0);
+          const { path, init } = await write.prepare(h, 0);
           const before = snapshotCounts(h);
           const res = await h.request(path, { ...init, as: role });
           if (allowed) {

@@ -9,7 +9,7 @@ describe('routes for server mode', () => {
   let h: ApiHarness;
   beforeAll(async () => {
     h = await startHarness();
-    approvedGlass(h);
+    await approvedGlass(h);
   });
   afterAll(() => h.stop());
 

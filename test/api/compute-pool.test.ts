@@ -30,7 +30,7 @@ let pool: ComputePool;
 beforeAll(async () => {
   pool = new ComputePool({ threads: 1, maxQueue: 0 });
   h = await startHarness({ compute: pool, settings: { max_body_bytes: 64 * 1024 * 1024 } });
-  approvedGlass(h);
+  await approvedGlass(h);
 });
 afterAll(() => h.stop());
 

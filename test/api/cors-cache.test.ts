@@ -26,7 +26,7 @@ describe('CORS allow-list', () => {
   });
 
   it('gives n,k answers to an allowed origin its CORS headers, rendered afresh and from the cache alike', async () => {
-    approvedGlass(h, 'cors-glass');
+    await approvedGlass(h, 'cors-glass');
     const path = '/api/v1/materials/cors-glass/versions/1/nk?wavelengths_nm=550';
     for (const pass of ['rendered', 'cached']) {
       const res = await h.request(path, { headers: { origin: 'https://design.example.org' } });
@@ -68,7 +68,7 @@ describe('cached n,k answers', () => {
   let h: ApiHarness;
   beforeAll(async () => {
     h = await startHarness();
-    approvedGlass(h);
+    await approvedGlass(h);
   });
   afterAll(() => h.stop());
 
@@ -78,7 +78,7 @@ describe('cached n,k answers', () => {
     const second = await (await h.request(path)).json();
     expect(second).toEqual(first);
     expect(first.warnings).toEqual([]);
-    retire(h.registry, 'glass@1', 'reference wafer broken', 'lab-approver'); // in the registry, not through the API
+    await retire(h.registry, 'glass@1', 'reference wafer broken', 'lab-approver'); // in the registry, not through the API
     const after = await h.request(path);
     expect(after.headers.get('deprecation')).toMatch(/^@\d+$/);
     const body = await after.json();
@@ -106,7 +106,7 @@ describe('RepresentationCache', () => {
 describe('graceful close', () => {
   it('lets an in-flight upload finish, then refuses new connections', async () => {
     const h = await startHarness();
-    createMaterial(h.registry, { slug: 'slow', name: 'Slow' }, 'lab-editor');
+    await createMaterial(h.registry, { slug: 'slow', name: 'Slow' }, 'lab-editor');
     // A request whose body arrives in two parts, so it is in flight when close() starts.
     const text = csvTable(1.7);
     let push!: (s: string) => void;

@@ -25,8 +25,8 @@ describe('demo registry', () => {
 
   beforeAll(async () => {
     dir = mkdtempSync(join(tmpdir(), 'nkledger-demo-'));
-    registry = openRegistry(join(dir, 'demo.db'));
-    summary = buildDemoRegistry(registry, DATA, join(dir, 'lock.json'));
+    registry = await openRegistry(join(dir, 'demo.db'));
+    summary = await buildDemoRegistry(registry, DATA, join(dir, 'lock.json'));
     server = await startServer({ registry, host: '127.0.0.1', port: 0 });
   });
   afterAll(async () => {

@@ -11,7 +11,7 @@ describe('API: exports, units and extrapolation, material edit', () => {
   let fitted: string;
   beforeAll(async () => {
     h = await startHarness();
-    createMaterial(h.registry, { slug: 'film', name: 'Film', tags: ['oxide'] }, 'lab-editor');
+    await createMaterial(h.registry, { slug: 'film', name: 'Film', tags: ['oxide'] }, 'lab-editor');
     const up = await h.request('/api/v1/materials/film/versions?fit=cauchy&kk=false', { ...csv(csvTable(1.6)), as: 'editor' });
     expect(up.status, await up.clone().text()).toBe(201);
     fitted = `${up.headers.get('location')}/nk`;

@@ -6,7 +6,7 @@ import { csv, csvTable, snapshotCounts, startHarness, type ApiHarness } from './
 let h: ApiHarness;
 beforeAll(async () => {
   h = await startHarness();
-  createMaterial(h.registry, { slug: 'sin-a', name: 'SiN' }, 'ada');
+  await createMaterial(h.registry, { slug: 'sin-a', name: 'SiN' }, 'ada');
 });
 afterAll(() => h.stop());
 

@@ -11,7 +11,7 @@ let h: ApiHarness;
 const faults: unknown[] = [];
 beforeAll(async () => {
   h = await startHarness({ logFault: (err) => faults.push(err) });
-  approvedGlass(h);
+  await approvedGlass(h);
   await h.request('/api/v1/materials', {
     method: 'POST',
     headers: { 'content-type': 'application/json' },

@@ -31,10 +31,9 @@ export interface ApiHarness {
 
 export async function startHarness(options: Partial<ServerOptions> = {}): Promise<ApiHarness> {
   const dir = mkdtempSync(join(tmpdir(), 'nkledger-api-'));
-  const registry = openRegistry(join(dir, 'api.db'));
-  const tokens = Object.fromEntries(
-    TOKEN_ROLES.map((role) => [role, createToken(registry, { user: role, role, createdBy: 'test-setup' }).token]),
-  ) as Record<TokenRole, string>;
+  const registry = await openRegistry(join(dir, 'api.db'));
+  const tokens = {} as Record<TokenRole, string>;
+  for (const role of TOKEN_ROLES) tokens[role] = (await createToken(registry, { user: role, role, createdBy: 'test-setup' })).token;
   const server = await startServer({ registry, host: '127.0.0.1', port: 0, ...options });
   return {
     dir,
@@ -61,10 +60,10 @@ export async function startHarness(options: Partial<ServerOptions> = {}): Promis
 }
 
 /** A material `slug` whose version 1 is an approved table-only Cauchy glass (cauchyTable()); returns "slug@1". */
-export function approvedGlass(h: ApiHarness, slug = 'glass'): string {
-  createMaterial(h.registry, { slug, name: 'Glass' }, 'lab-editor');
-  importVersion(h.registry, { slug, table: cauchyTable() }, 'lab-editor');
-  approve(h.registry, `${slug}@1`, 'lab-approver');
+export async function approvedGlass(h: ApiHarness, slug = 'glass'): Promise<string> {
+  await createMaterial(h.registry, { slug, name: 'Glass' }, 'lab-editor');
+  await importVersion(h.registry, { slug, table: cauchyTable() }, 'lab-editor');
+  await approve(h.registry, `${slug}@1`, 'lab-approver');
   return `${slug}@1`;
 }
 

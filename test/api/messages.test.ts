@@ -6,7 +6,7 @@ import { csv, csvTable, json, startHarness, type ApiHarness } from './harness.ts
 let h: ApiHarness;
 beforeAll(async () => {
   h = await startHarness();
-  createMaterial(h.registry, { slug: 'tio2-ebeam', name: 'E-beam TiO2' }, 'ada');
+  await createMaterial(h.registry, { slug: 'tio2-ebeam', name: 'E-beam TiO2' }, 'ada');
 });
 afterAll(() => h.stop());
 

@@ -16,15 +16,15 @@ describe('GET .../versions/{n}/nk', () => {
   let fittedPath: string;
   beforeAll(async () => {
     h = await startHarness({ settings: { max_nk_points: 500 } });
-    createMaterial(h.registry, { slug: 'glass', name: 'Test glass' }, 'lab-editor');
-    importVersion(h.registry, { slug: 'glass', table: cauchyTable(1.45, 0.0036) }, 'lab-editor'); // v1, table only
-    approve(h.registry, 'glass@1', 'lab-approver');
+    await createMaterial(h.registry, { slug: 'glass', name: 'Test glass' }, 'lab-editor');
+    await importVersion(h.registry, { slug: 'glass', table: cauchyTable(1.45, 0.0036) }, 'lab-editor'); // v1, table only
+    await approve(h.registry, 'glass@1', 'lab-approver');
     const up = await h.request('/api/v1/materials/glass/versions?fit=cauchy', { ...csv(csvTable(1.5)), as: 'editor' });
     expect(up.status, await up.clone().text()).toBe(201);
     fittedPath = (up.headers.get('location') as string) + '/nk';
-    importVersion(h.registry, { slug: 'glass', table: cauchyTable(1.46, 0.0036) }, 'lab-editor'); // v3
-    approve(h.registry, 'glass@3', 'lab-approver');
-    retire(h.registry, 'glass@3', 'mislabelled sample', 'lab-approver');
+    await importVersion(h.registry, { slug: 'glass', table: cauchyTable(1.46, 0.0036) }, 'lab-editor'); // v3
+    await approve(h.registry, 'glass@3', 'lab-approver');
+    await retire(h.registry, 'glass@3', 'mislabelled sample', 'lab-approver');
   });
   afterAll(() => h.stop());
 
@@ -108,9 +108,9 @@ describe('GET .../versions/{n}/nk', () => {
   });
 
   it('a retirement changes the ETag: a client revalidating the approved answer gets the retired one, cacheable for good', async () => {
-    createMaterial(h.registry, { slug: 'etag-glass', name: 'Glass' }, 'lab-editor');
-    importVersion(h.registry, { slug: 'etag-glass', table: cauchyTable(1.49, 0.0041) }, 'lab-editor');
-    approve(h.registry, 'etag-glass@1', 'lab-approver');
+    await createMaterial(h.registry, { slug: 'etag-glass', name: 'Glass' }, 'lab-editor');
+    await importVersion(h.registry, { slug: 'etag-glass', table: cauchyTable(1.49, 0.0041) }, 'lab-editor');
+    await approve(h.registry, 'etag-glass@1', 'lab-approver');
     const paths = ['/api/v1/materials/etag-glass/versions/1/nk?wavelengths_nm=500', '/api/v1/materials/etag-glass/versions/1'];
     const etags: string[] = [];
     for (const path of paths) {
@@ -118,7 +118,7 @@ describe('GET .../versions/{n}/nk', () => {
       etags.push(approved.headers.get('etag')!);
       expect((await h.request(path, { headers: { 'if-none-match': etags.at(-1)! } })).status).toBe(304);
     }
-    retire(h.registry, 'etag-glass@1', 'superseded', 'lab-approver');
+    await retire(h.registry, 'etag-glass@1', 'superseded', 'lab-approver');
     for (const [i, path] of paths.entries()) {
       const after = await h.request(path, { headers: { 'if-none-match': etags[i] } });
       expect(after.status, path).toBe(200);
@@ -134,7 +134,7 @@ describe('GET .../versions/{n}/nk', () => {
     expect(retired.status).toBe(200);
     expect(retired.headers.get('deprecation')).toMatch(/^@\d+$/);
     expect((await retired.json()).warnings.join(' ')).toMatch(/retired/);
-    importVersion(h.registry, { slug: 'glass', table: cauchyTable(1.47, 0.0036) }, 'lab-editor'); // v4 draft
+    await importVersion(h.registry, { slug: 'glass', table: cauchyTable(1.47, 0.0036) }, 'lab-editor'); // v4 draft
     const draft = await h.request('/api/v1/materials/glass/versions/4/nk?wavelengths_nm=500');
     expect(draft.headers.get('cache-control')).toBe('no-store');
     expect(draft.headers.get('etag')).toBeNull();

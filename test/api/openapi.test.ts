@@ -97,7 +97,7 @@ describe('OpenAPI document', () => {
   let answers: AnswerChecker;
   beforeAll(async () => {
     h = await startHarness();
-    approvedGlass(h, 'glass');
+    await approvedGlass(h, 'glass');
     const res = await h.request('/api/v1/openapi.json');
     expect(res.status).toBe(200);
     doc = (await res.clone().json()) as OpenApiDoc;
@@ -259,9 +259,9 @@ describe('OpenAPI document', () => {
 
   it("review: the queue, one version's summary, and approve with and without accept_warnings", async () => {
     const base = '/api/v1/materials/{slug}/versions/{n}';
-    createMaterial(h.registry, { slug: 'film', name: 'Film' }, 'editor');
+    await createMaterial(h.registry, { slug: 'film', name: 'Film' }, 'editor');
     const kk = { verdict: 'inconsistent', summary: 'n is not what k implies', tolerance: 0.005, rms_dn: 0.003, max_dn: 0.01, worst_nm: 700 };
-    importVersion(h.registry, { slug: 'film', table: cauchyTable(1.7), kk: kk as StoredKkReport }, 'editor');
+    await importVersion(h.registry, { slug: 'film', table: cauchyTable(1.7), kk: kk as StoredKkReport }, 'editor');
     const queue = await h.request('/api/v1/review', { as: 'approver' });
     expect(queue.status).toBe(200);
     expect(await answers.check('GET', '/api/v1/review', queue)).toMatchObject({ may_approve: true });
@@ -285,7 +285,7 @@ describe('OpenAPI document', () => {
   });
 
   it('locks, fit and KK: answers and refusals', async () => {
-    const lock = lockAdd(h.registry, emptyLockfile(), 'glass@1').lock;
+    const lock = (await lockAdd(h.registry, emptyLockfile(), 'glass@1')).lock;
     expect(await answers.check('POST', '/api/v1/locks/verify', await h.request('/api/v1/locks/verify', json(lock)))).toMatchObject({ ok: true });
     await answers.check('POST', '/api/v1/locks/verify', await h.request('/api/v1/locks/verify', json({ materials: [] })));
     const fit = await h.request('/api/v1/fit?model=cauchy', csv(csvTable()));
@@ -328,7 +328,7 @@ describe('OpenAPI document', () => {
     expect(created.status).toBe(201);
     expect(String(((await answers.check('POST', '/api/v1/tokens', created)) as { token: string }).token)).toMatch(/^nkl_/);
     await answers.check('POST', '/api/v1/tokens', await h.request('/api/v1/tokens', { ...json({ user: 'x', role: 'overlord' }), as: 'admin' }));
-    const victim = createToken(h.registry, { user: 'victim', role: 'reader', createdBy: 'setup' }).id;
+    const victim = (await createToken(h.registry, { user: 'victim', role: 'reader', createdBy: 'setup' })).id;
     await answers.check('POST', '/api/v1/tokens/{id}/revoke', await h.request(`/api/v1/tokens/${victim}/revoke`, { method: 'POST', as: 'admin' }));
     await answers.check('POST', '/api/v1/tokens/{id}/revoke', await h.request('/api/v1/tokens/no-such-id/revoke', { method: 'POST', as: 'admin' }));
 
@@ -385,7 +385,7 @@ describe('OpenAPI document', () => {
     });
     expect(textBody.status).toBe(415);
     await answers.check('POST', '/api/v1/materials', textBody);
-    writeSetting(h.registry, 'max_body_bytes', 1024, 'test');
+    await writeSetting(h.registry, 'max_body_bytes', 1024, 'test');
     try {
       const big = await h.request('/api/v1/materials', { ...json({ slug: 'big', name: 'x'.repeat(2000) }), as: 'editor' });
       expect(big.status).toBe(413);
@@ -394,7 +394,7 @@ describe('OpenAPI document', () => {
       expect(bigTable.status).toBe(413);
       await answers.check('POST', '/api/v1/kk', bigTable);
     } finally {
-      resetSetting(h.registry, 'max_body_bytes', 'test');
+      await resetSetting(h.registry, 'max_body_bytes', 'test');
     }
     // Fields that are numbers follow the one decimal grammar: "..", "1e999", "0x10" and "NaN" are refused, never NaN.
     for (const tolerance of ['..', '1e999', '0x10', 'NaN', '-1']) {

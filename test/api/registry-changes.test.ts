@@ -17,45 +17,45 @@ const nextTurn = () => new Promise((resolve) => setImmediate(resolve));
 let h: ApiHarness;
 beforeAll(async () => {
   h = await startHarness();
-  approvedGlass(h);
+  await approvedGlass(h);
 });
 afterAll(() => h.stop());
 
 describe('RegistryChanges and ChangeMemo', () => {
-  it('keep a value while nothing changes and drop it at once after a write on the same connection', () => {
+  it('keep a value while nothing changes and drop it at once after a write on the same connection', async () => {
     const changes = new RegistryChanges(h.registry);
     const memo = new ChangeMemo<number>(changes);
     let computed = 0;
-    const value = () => memo.get('key', () => ++computed);
-    expect([value(), value(), value()]).toEqual([1, 1, 1]);
-    createMaterial(h.registry, { slug: 'same-connection', name: 'Written in this turn' }, 'lab-editor');
-    expect(value()).toBe(2);
-    expect(value()).toBe(2);
+    const value = () => memo.get('key', async () => ++computed);
+    expect([await value(), await value(), await value()]).toEqual([1, 1, 1]);
+    await createMaterial(h.registry, { slug: 'same-connection', name: 'Written in this turn' }, 'lab-editor');
+    expect(await value()).toBe(2);
+    expect(await value()).toBe(2);
   });
 
   it('see a commit by another connection from the next turn of the event loop', async () => {
     const changes = new RegistryChanges(h.registry);
     const memo = new ChangeMemo<number>(changes);
     let computed = 0;
-    const value = () => memo.get('key', () => ++computed);
-    expect(value()).toBe(1);
+    const value = () => memo.get('key', async () => ++computed);
+    expect(await value()).toBe(1);
     await nextTurn();
-    expect(value()).toBe(1);
-    const other = openRegistry(h.registry.path);
+    expect(await value()).toBe(1);
+    const other = await openRegistry(h.registry.path);
     try {
-      createMaterial(other, { slug: 'other-connection', name: 'Written elsewhere' }, 'lab-editor');
+      await createMaterial(other, { slug: 'other-connection', name: 'Written elsewhere' }, 'lab-editor');
     } finally {
       other.close();
     }
     await nextTurn();
-    expect(value()).toBe(2);
+    expect(await value()).toBe(2);
   });
 
-  it('hold at most maxEntries values, so client-chosen keys cannot grow it', () => {
+  it('hold at most maxEntries values, so client-chosen keys cannot grow it', async () => {
     const memo = new ChangeMemo<string>(new RegistryChanges(h.registry), 3);
-    for (let i = 0; i < 100; i++) memo.get(`token-${i}`, () => 'unknown');
+    for (let i = 0; i < 100; i++) await memo.get(`token-${i}`, async () => 'unknown');
     let recomputed = false;
-    memo.get('token-0', () => ((recomputed = true), 'unknown'));
+    await memo.get('token-0', async () => ((recomputed = true), 'unknown'));
     expect(recomputed).toBe(true);
     expect(memo.size).toBeLessThanOrEqual(3);
   });
@@ -70,7 +70,7 @@ describe('changes by another process show at the next request', () => {
   };
 
   it('a token revoked with `nkledger token revoke` is refused right after', async () => {
-    const t = createToken(h.registry, { user: 'design-tool', role: 'reader', createdBy: 'setup' });
+    const t = await createToken(h.registry, { user: 'design-tool', role: 'reader', createdBy: 'setup' });
     const path = '/api/v1/materials/glass/versions/1/nk?wavelengths_nm=550';
     for (let i = 0; i < 3; i++) expect((await h.request(path, { token: t.token })).status).toBe(200);
     const revoked = await cli('token', 'revoke', t.id);
@@ -81,9 +81,9 @@ describe('changes by another process show at the next request', () => {
   });
 
   it("a token revoked through the server's own registry handle is refused right after", async () => {
-    const t = createToken(h.registry, { user: 'design-tool-2', role: 'reader', createdBy: 'setup' });
+    const t = await createToken(h.registry, { user: 'design-tool-2', role: 'reader', createdBy: 'setup' });
     expect((await h.request('/api/v1/materials', { token: t.token })).status).toBe(200);
-    revokeToken(h.registry, t.id, 'lab-admin');
+    await revokeToken(h.registry, t.id, 'lab-admin');
     expect((await h.request('/api/v1/materials', { token: t.token })).status).toBe(401);
   });
 

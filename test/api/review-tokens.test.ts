@@ -25,9 +25,9 @@ describe('review through the API', () => {
   let h: ApiHarness;
   beforeAll(async () => {
     h = await startHarness({ settings: { anonymous_reads: 'off' } });
-    createMaterial(h.registry, { slug: 'film', name: 'Film' }, 'editor');
-    importVersion(h.registry, { slug: 'film', table: cauchyTable(1.5), kk: kk('inconsistent') }, 'editor'); // film@1
-    importVersion(h.registry, { slug: 'film', table: cauchyTable(1.6), kk: kk('consistent') }, 'approver'); // film@2, the approver's own
+    await createMaterial(h.registry, { slug: 'film', name: 'Film' }, 'editor');
+    await importVersion(h.registry, { slug: 'film', table: cauchyTable(1.5), kk: kk('inconsistent') }, 'editor'); // film@1
+    await importVersion(h.registry, { slug: 'film', table: cauchyTable(1.6), kk: kk('consistent') }, 'approver'); // film@2, the approver's own
   });
   afterAll(() => h.stop());
 
@@ -90,9 +90,9 @@ describe('review through the API', () => {
       review: { kk: { verdict: 'inconsistent' } },
       accepted_warnings: { reason: 'KK misfit is the known substrate artefact', findings: ['kk-inconsistent'] },
     });
-    const event = readAuditRows(h.registry).at(-1)!;
+    const event = (await readAuditRows(h.registry)).at(-1)!;
     expect(JSON.parse(event.detail).accepted_warnings.reason).toBe('KK misfit is the known substrate artefact');
-    expect(verifyRegistry(h.registry).ok).toBe(true);
+    expect((await verifyRegistry(h.registry)).ok).toBe(true);
   });
 });
 
@@ -106,18 +106,18 @@ describe('tokens that end', () => {
   const expireNow = (id: string) =>
     h.registry.sqlite.prepare('UPDATE api_tokens SET expires_at = ? WHERE id = ?').run(new Date(Date.now() - 1000).toISOString(), id);
 
-  it('a new token gets the token_lifetime default (90d), or its own lifetime in days or hours, or never', () => {
+  it('a new token gets the token_lifetime default (90d), or its own lifetime in days or hours, or never', async () => {
     const hour = 3_600_000;
     const at = (t: { expires_at: string | null }) => (t.expires_at === null ? null : Math.round((Date.parse(t.expires_at) - Date.now()) / hour));
-    expect(at(createToken(h.registry, { user: 'a', role: 'reader', createdBy: 'root' }))).toBe(90 * 24);
-    expect(at(createToken(h.registry, { user: 'b', role: 'reader', createdBy: 'root', expires: '12h' }))).toBe(12);
-    expect(at(createToken(h.registry, { user: 'c', role: 'reader', createdBy: 'root', expires: 'never' }))).toBeNull();
-    expect(() => createToken(h.registry, { user: 'd', role: 'reader', createdBy: 'root', expires: '0d' })).toThrow(/not a token lifetime/);
-    expect(() => createToken(h.registry, { user: 'd', role: 'reader', createdBy: 'root', expires: '3651d' })).toThrow(/at most 3650d/);
+    expect(at(await createToken(h.registry, { user: 'a', role: 'reader', createdBy: 'root' }))).toBe(90 * 24);
+    expect(at(await createToken(h.registry, { user: 'b', role: 'reader', createdBy: 'root', expires: '12h' }))).toBe(12);
+    expect(at(await createToken(h.registry, { user: 'c', role: 'reader', createdBy: 'root', expires: 'never' }))).toBeNull();
+    await expect(createToken(h.registry, { user: 'd', role: 'reader', createdBy: 'root', expires: '0d' })).rejects.toThrow(/not a token lifetime/);
+    await expect(createToken(h.registry, { user: 'd', role: 'reader', createdBy: 'root', expires: '3651d' })).rejects.toThrow(/at most 3650d/);
   });
 
   it('an expired token is 401 auth-token-expired (also when the server remembered it), and listed as expired', async () => {
-    const t = createToken(h.registry, { user: 'temp', role: 'reader', createdBy: 'root', expires: '1h' });
+    const t = await createToken(h.registry, { user: 'temp', role: 'reader', createdBy: 'root', expires: '1h' });
     expect((await h.request('/api/v1/materials', { token: t.token })).status).toBe(200); // the server now remembers it
     expireNow(t.id);
     const res = await h.request('/api/v1/materials', { token: t.token });
@@ -126,8 +126,8 @@ describe('tokens that end', () => {
     const p = await res.json();
     expect(p).toMatchObject({ rule: 'auth-token-expired', type: 'urn:nkledger:problem:auth-token-expired' });
     expect(p.detail).toMatch(new RegExp(`token ${t.id} \\(temp\\) expired at`));
-    expect(listTokens(h.registry).find((x) => x.id === t.id)).toMatchObject({ expired: true, revoked_at: null });
-    expect(listTokens(h.registry, { activeOnly: true }).some((x) => x.id === t.id)).toBe(false);
+    expect((await listTokens(h.registry)).find((x) => x.id === t.id)).toMatchObject({ expired: true, revoked_at: null });
+    expect((await listTokens(h.registry, { activeOnly: true })).some((x) => x.id === t.id)).toBe(false);
   });
 
   it('POST /tokens takes "expires"; a bad lifetime is a 400 problem naming the field', async () => {
@@ -142,34 +142,34 @@ describe('tokens that end', () => {
   });
 
   it('records last use on the first request, then not again within the hour', async () => {
-    const t = createToken(h.registry, { user: 'poller', role: 'reader', createdBy: 'root' });
-    const lastUsed = () => listTokens(h.registry).find((x) => x.id === t.id)!.last_used_at;
-    expect(lastUsed()).toBeNull();
+    const t = await createToken(h.registry, { user: 'poller', role: 'reader', createdBy: 'root' });
+    const lastUsed = async () => (await listTokens(h.registry)).find((x) => x.id === t.id)!.last_used_at;
+    expect(await lastUsed()).toBeNull();
     await h.request('/api/v1/materials', { token: t.token });
-    const first = lastUsed();
+    const first = await lastUsed();
     expect(first).not.toBeNull();
     await h.request('/api/v1/materials', { token: t.token });
-    expect(lastUsed()).toBe(first);
+    expect(await lastUsed()).toBe(first);
     // an hour later (passed in as `now`) it is written again
-    const principal = authenticateToken(h.registry, t.token)!;
-    recordTokenUse(h.registry, principal, Date.parse(first!) + RECORD_USE_EVERY_MS + 1);
-    expect(Date.parse(lastUsed()!)).toBe(Date.parse(first!) + RECORD_USE_EVERY_MS + 1);
+    const principal = (await authenticateToken(h.registry, t.token))!;
+    await recordTokenUse(h.registry, principal, Date.parse(first!) + RECORD_USE_EVERY_MS + 1);
+    expect(Date.parse((await lastUsed())!)).toBe(Date.parse(first!) + RECORD_USE_EVERY_MS + 1);
   });
 
-  it('never writes last use on a read-only registry', () => {
-    const t = createToken(h.registry, { user: 'ro', role: 'reader', createdBy: 'root' });
-    const ro = openRegistry(h.registry.path, { readonly: true });
+  it('never writes last use on a read-only registry', async () => {
+    const t = await createToken(h.registry, { user: 'ro', role: 'reader', createdBy: 'root' });
+    const ro = await openRegistry(h.registry.path, { readonly: true });
     try {
-      recordTokenUse(ro, authenticateToken(ro, t.token)!);
+      await recordTokenUse(ro, (await authenticateToken(ro, t.token))!);
     } finally {
       ro.close();
     }
-    expect(listTokens(h.registry).find((x) => x.id === t.id)!.last_used_at).toBeNull();
+    expect((await listTokens(h.registry)).find((x) => x.id === t.id)!.last_used_at).toBeNull();
   });
 });
 
 describe('migration of a registry made before tokens could expire', () => {
-  it('keeps its tokens working, with no expiry', () => {
+  it('keeps its tokens working, with no expiry', async () => {
     const dir = mkdtempSync(join(tmpdir(), 'nkledger-token-mig-'));
     try {
       const sqlite = databaseAtMigration(dir, 'old.db', 7);
@@ -180,11 +180,11 @@ describe('migration of a registry made before tokens could expire', () => {
         )
         .run(sha256Hex(secret));
       sqlite.close();
-      const registry = openRegistry(join(dir, 'old.db'));
+      const registry = await openRegistry(join(dir, 'old.db'));
       try {
-        expect(listTokens(registry)).toMatchObject([{ id: 'tok_000000000001', expires_at: null, expired: false, last_used_at: null }]);
-        expect(authenticateToken(registry, secret)).toMatchObject({ user: 'ada', role: 'approver', expiresAt: null });
-        expect(verifyRegistry(registry).ok).toBe(true);
+        expect(await listTokens(registry)).toMatchObject([{ id: 'tok_000000000001', expires_at: null, expired: false, last_used_at: null }]);
+        expect(await authenticateToken(registry, secret)).toMatchObject({ user: 'ada', role: 'approver', expiresAt: null });
+        expect((await verifyRegistry(registry)).ok).toBe(true);
       } finally {
         registry.close();
       }

@@ -18,14 +18,18 @@ describe('HTTP API routes', () => {
   let h: ApiHarness;
   beforeAll(async () => {
     h = await startHarness();
-    createMaterial(h.registry, { slug: 'sin-a', name: 'PECVD SiN recipe A', description: 'silicon-rich nitride', tags: ['nitride'] }, 'lab-editor');
-    createMaterial(h.registry, { slug: 'sio2-thermal', name: 'Thermal oxide', tags: ['oxide'] }, 'lab-editor');
-    importVersion(h.registry, { slug: 'sin-a', table: cauchyTable(1.9) }, 'lab-editor'); // v1
-    approve(h.registry, 'sin-a@1', 'lab-approver');
-    importVersion(h.registry, { slug: 'sin-a', table: cauchyTable(1.91) }, 'lab-editor'); // v2
-    approve(h.registry, 'sin-a@2', 'lab-approver');
-    retire(h.registry, 'sin-a@1', 'recipe changed', 'lab-approver');
-    importVersion(h.registry, { slug: 'sin-a', table: cauchyTable(1.92) }, 'lab-editor'); // v3 draft
+    await createMaterial(
+      h.registry,
+      { slug: 'sin-a', name: 'PECVD SiN recipe A', description: 'silicon-rich nitride', tags: ['nitride'] },
+      'lab-editor',
+    );
+    await createMaterial(h.registry, { slug: 'sio2-thermal', name: 'Thermal oxide', tags: ['oxide'] }, 'lab-editor');
+    await importVersion(h.registry, { slug: 'sin-a', table: cauchyTable(1.9) }, 'lab-editor'); // v1
+    await approve(h.registry, 'sin-a@1', 'lab-approver');
+    await importVersion(h.registry, { slug: 'sin-a', table: cauchyTable(1.91) }, 'lab-editor'); // v2
+    await approve(h.registry, 'sin-a@2', 'lab-approver');
+    await retire(h.registry, 'sin-a@1', 'recipe changed', 'lab-approver');
+    await importVersion(h.registry, { slug: 'sin-a', table: cauchyTable(1.92) }, 'lab-editor'); // v3 draft
   });
   afterAll(() => h.stop());
 
@@ -203,7 +207,7 @@ describe('HTTP API routes', () => {
       await expectProblem(await h.request('/api/v1/materials/sin-a/versions?colour=red', { ...csv(csvTable()), as: 'editor' }), 400, 'invalid-query');
       const small = await startHarness({ settings: { max_body_bytes: 2048 } });
       try {
-        createMaterial(small.registry, { slug: 'x', name: 'x' }, 'e');
+        await createMaterial(small.registry, { slug: 'x', name: 'x' }, 'e');
         const big = csvTable() + '#'.repeat(4096);
         await expectProblem(await small.request('/api/v1/materials/x/versions', { ...csv(big), as: 'editor' }), 413, 'body-too-large');
         expect(small.count('material_versions')).toBe(0);
@@ -280,7 +284,7 @@ describe('HTTP API routes', () => {
     });
 
     it('concurrent uploads to one material get distinct, consecutive version numbers', async () => {
-      createMaterial(h.registry, { slug: 'busy', name: 'Busy material' }, 'lab-editor');
+      await createMaterial(h.registry, { slug: 'busy', name: 'Busy material' }, 'lab-editor');
       const uploads = Array.from({ length: 12 }, (_, i) =>
         h.request('/api/v1/materials/busy/versions', { ...csv(csvTable(1.5 + i / 100)), as: 'editor' }),
       );
@@ -296,7 +300,7 @@ describe('HTTP API routes', () => {
   describe('locks', () => {
     it('verifies a lockfile: ok pins, a retired pin as a warning, a changed hash as a failure', async () => {
       let lock = emptyLockfile();
-      lock = lockAdd(h.registry, lock, 'sin-a@2').lock;
+      lock = (await lockAdd(h.registry, lock, 'sin-a@2')).lock;
       const good = await h.request('/api/v1/locks/verify', json(lock));
       expect(good.status).toBe(200);
       expect(await good.json()).toMatchObject({ ok: true, failures: 0 });

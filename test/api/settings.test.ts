@@ -30,12 +30,12 @@ describe('settings routes and command', { timeout: 120_000 }, () => {
     expect(approved.status).toBe(200);
     expect(await approved.json()).toMatchObject({ status: 'approved', self_approved: true });
     expect((await h.request('/api/v1/settings/allow_self_approval', { method: 'DELETE', as: 'admin' })).status).toBe(200);
-    expect(readSettings(h.registry).allow_self_approval).toBe(false);
+    expect((await readSettings(h.registry)).allow_self_approval).toBe(false);
   });
 
   it('`nkledger settings` shows, sets and resets allow_self_approval; the old self-approval command is gone', async () => {
     const db = join(h.dir, 'cli.db');
-    openRegistry(db).close(); // the CLI's settings command works on an existing registry only
+    (await openRegistry(db)).close(); // the CLI's settings command works on an existing registry only
     const run = (...args: string[]) => runCli(args, { env: { NKLEDGER_USER: 'ada', NKLEDGER_DB: db } });
     const shown = await run('settings', 'show');
     expect(shown.code).toBe(0);

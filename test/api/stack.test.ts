@@ -15,7 +15,7 @@ describe('POST /api/v1/stack', () => {
   let h: ApiHarness;
   beforeAll(async () => {
     h = await startHarness({ settings: { anonymous_reads: 'off', max_stack_work: 5000 } });
-    approvedGlass(h, 'glass');
+    await approvedGlass(h, 'glass');
   });
   afterAll(() => h.stop());
 
@@ -83,7 +83,7 @@ describe('POST /api/v1/stack', () => {
   });
 
   it('resolves registry refs through a posted lockfile and refuses a disagreement', async () => {
-    const lock = lockAdd(h.registry, emptyLockfile(), 'glass@1').lock;
+    const lock = (await lockAdd(h.registry, emptyLockfile(), 'glass@1')).lock;
     const design = { layers: [{ material: { ref: 'glass' }, thickness_nm: 100 }], substrate: { material: { n: 1.6 } } };
     const ok = await h.request('/api/v1/stack?at=550', { ...json({ design, lock }), as: 'reader' });
     expect(ok.status, await ok.clone().text()).toBe(200);

@@ -43,10 +43,10 @@ describe.skipIf(!HAVE_CHROMIUM)('the browser workspace in chromium', () => {
   beforeAll(async () => {
     const { chromium } = await import('playwright-core');
     dir = mkdtempSync(join(tmpdir(), 'nkledger-browser-'));
-    registry = openRegistry(join(dir, 'r.db'));
-    buildDemoRegistry(registry, 'data/marrowick', join(dir, 'design.nklock.json'));
-    tokens.editor = createToken(registry, { user: DEMO_EDITOR, role: 'editor', createdBy: 'test' }).token;
-    tokens.approver = createToken(registry, { user: DEMO_APPROVER, role: 'approver', createdBy: 'test' }).token;
+    registry = await openRegistry(join(dir, 'r.db'));
+    await buildDemoRegistry(registry, 'data/marrowick', join(dir, 'design.nklock.json'));
+    tokens.editor = (await createToken(registry, { user: DEMO_EDITOR, role: 'editor', createdBy: 'test' })).token;
+    tokens.approver = (await createToken(registry, { user: DEMO_APPROVER, role: 'approver', createdBy: 'test' })).token;
     server = await startServer({
       registry,
       host: '127.0.0.1',
@@ -170,7 +170,7 @@ describe.skipIf(!HAVE_CHROMIUM)('the browser workspace in chromium', () => {
     await ed.getByLabel('Sample', { exact: true }).fill('MW-2400 wafer 3');
     await ed.getByRole('button', { name: 'Store as draft' }).click();
     await ed.waitForURL(/\/materials\/sinx-pecvd\/versions\/3$/);
-    expect(showVersion(registry, 'sinx-pecvd@3').status).toBe('draft');
+    expect((await showVersion(registry, 'sinx-pecvd@3')).status).toBe('draft');
     await check(ed, 'version-draft');
 
     // Approver, in a second context.
@@ -184,7 +184,7 @@ describe.skipIf(!HAVE_CHROMIUM)('the browser workspace in chromium', () => {
     expect(text!.indexOf('Kramers-Kronig verdict')).toBeLessThan(text!.indexOf('Approve sinx-pecvd@3'));
     await item.getByRole('button', { name: 'Approve sinx-pecvd@3' }).click();
     await ap.waitForURL(`${server.url}/review`);
-    expect(showVersion(registry, 'sinx-pecvd@3').status).toBe('approved');
+    expect((await showVersion(registry, 'sinx-pecvd@3')).status).toBe('approved');
 
     // Anonymous reader.
     const reader = await context();
@@ -211,7 +211,7 @@ describe.skipIf(!HAVE_CHROMIUM)('the browser workspace in chromium', () => {
     const [download] = await Promise.all([rd.waitForEvent('download'), rd.getByRole('link', { name: /CSV: the measured table/ }).click()]);
     const saved = join(dir, 'downloaded.csv');
     await download.saveAs(saved);
-    expect(readFileSync(saved, 'utf8')).toBe(exportVersion(registry, 'sinx-pecvd@3', 'csv').text);
+    expect(readFileSync(saved, 'utf8')).toBe((await exportVersion(registry, 'sinx-pecvd@3', 'csv')).text);
 
     // A version page of a 700-point table with fit and KK plots (the demo's recipe B) within the budget too.
     await visit(rd, '/materials/sinx-pecvd/versions/2', 'version-recipe-b');

@@ -111,14 +111,14 @@ describe('registry CLI', { timeout: 240_000 }, () => {
     expect((await run(['withdraw', 'mgf2@1'], 'cy')).err).toMatch(/it is approved/);
     expect((await run(['import', join(dir, 'm.csv'), '--material', 'mgf2', '--no-kk'])).err).toMatch(/already stored as mgf2@1/);
 
-    const registry = openRegistry(db);
+    const registry = await openRegistry(db);
     try {
       expect(() => registry.sqlite.exec("UPDATE material_versions SET content = '{}'")).toThrow(/immutable/);
       registry.sqlite.exec('DROP TRIGGER material_versions_content_immutable');
       registry.sqlite.exec(
         "UPDATE material_versions SET notes = 'edited by hand' WHERE number = 1 AND material_id = (SELECT id FROM materials WHERE slug = 'mgf2')",
       );
-      expect(verifyRegistry(registry).ok).toBe(false);
+      expect((await verifyRegistry(registry)).ok).toBe(false);
     } finally {
       registry.close();
     }
@@ -169,7 +169,7 @@ describe('several processes importing into one database at once', { timeout: 240
     const refs = results.map((r) => JSON.parse(r.stdout).ref as string);
     expect(new Set(refs).size).toBe(count);
     expect(refs.map((r) => Number(r.split('@')[1])).sort((a, b) => a - b)).toEqual([1, 2, 3, 4, 5, 6]);
-    const registry = openRegistry(concurrentDb);
+    const registry = await openRegistry(concurrentDb);
     try {
       const rows = registry.sqlite.prepare('SELECT number, source_file FROM material_versions ORDER BY number').all() as {
         number: number;
@@ -178,7 +178,7 @@ describe('several processes importing into one database at once', { timeout: 240
       expect(rows.map((r) => r.source_file).sort()).toEqual(files.map((f) => f.split('/').pop()).sort());
       const audit = registry.sqlite.prepare("SELECT count(*) AS n FROM audit_log WHERE action = 'version.import'").get() as { n: number };
       expect(audit.n).toBe(count);
-      expect(verifyRegistry(registry).ok).toBe(true);
+      expect((await verifyRegistry(registry)).ok).toBe(true);
     } finally {
       registry.close();
     }

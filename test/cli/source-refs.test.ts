@@ -28,21 +28,21 @@ function runIn(cwd: string, args: string[]) {
   return { code: r.status, out: r.stdout, err: r.stderr };
 }
 
-beforeAll(() => {
+beforeAll(async () => {
   dir = mkdtempSync(join(tmpdir(), 'nkledger-src-'));
   db = join(dir, 'lab.db');
-  const registry = openRegistry(db);
+  const registry = await openRegistry(db);
   try {
     // Invented Cauchy-like numbers (test/registry/helpers.ts), not a measurement.
-    createMaterial(registry, { slug: 'sio2-film', name: 'Oxide film' }, 'ada');
-    sha1 = importVersion(registry, { slug: 'sio2-film', table: cauchyTable() }, 'ada').sha256;
-    approve(registry, 'sio2-film@1', 'bob');
-    importVersion(registry, { slug: 'sio2-film', table: cauchyTable(1.46) }, 'ada');
-    approve(registry, 'sio2-film@2', 'bob');
-    retire(registry, 'sio2-film@2', 'substrate model was wrong', 'bob');
-    createMaterial(registry, { slug: 'model-only', name: 'Only a model' }, 'ada');
+    await createMaterial(registry, { slug: 'sio2-film', name: 'Oxide film' }, 'ada');
+    sha1 = (await importVersion(registry, { slug: 'sio2-film', table: cauchyTable() }, 'ada')).sha256;
+    await approve(registry, 'sio2-film@1', 'bob');
+    await importVersion(registry, { slug: 'sio2-film', table: cauchyTable(1.46) }, 'ada');
+    await approve(registry, 'sio2-film@2', 'bob');
+    await retire(registry, 'sio2-film@2', 'substrate model was wrong', 'bob');
+    await createMaterial(registry, { slug: 'model-only', name: 'Only a model' }, 'ada');
     const fit = fitTable(cauchyTable(), { model: 'cauchy' });
-    importVersion(registry, { slug: 'model-only', fit: fit as never }, 'ada');
+    await importVersion(registry, { slug: 'model-only', fit: fit as never }, 'ada');
   } finally {
     registry.close();
   }

@@ -62,7 +62,7 @@ describe('server mode: identity from the token', () => {
   });
 
   it('an expired token: 401 with its own rule (exit 2), one line naming the token and what to do', async () => {
-    const expiring = createToken(lab.registry, { user: 'temp', role: 'approver', createdBy: 'setup', expires: '1h' });
+    const expiring = await createToken(lab.registry, { user: 'temp', role: 'approver', createdBy: 'setup', expires: '1h' });
     lab.registry.sqlite.prepare('UPDATE api_tokens SET expires_at = ? WHERE id = ?').run(new Date(Date.now() - 1000).toISOString(), expiring.id);
     const r = await runCli(['list'], { env: { ...CLEAN_ENV, NKLEDGER_SERVER: lab.url, NKLEDGER_TOKEN: expiring.token } });
     expect(r.code).toBe(2);

@@ -39,16 +39,15 @@ export const CLEAN_ENV = {
 export async function startLab(): Promise<Lab> {
   const dir = mkdtempSync(join(tmpdir(), 'nkledger-lab-'));
   const template = join(dir, 'start.db');
-  const start = openRegistry(template);
-  const tokens = Object.fromEntries(
-    Object.entries(PEOPLE).map(([user, role]) => [user, createToken(start, { user, role, createdBy: 'setup' }).token]),
-  ) as Record<Person, string>;
+  const start = await openRegistry(template);
+  const tokens = {} as Record<Person, string>;
+  for (const [user, role] of Object.entries(PEOPLE)) tokens[user as Person] = (await createToken(start, { user, role, createdBy: 'setup' })).token;
   start.close();
   const fileDb = join(dir, 'file.db');
   const serverDb = join(dir, 'server.db');
   copyFileSync(template, fileDb);
   copyFileSync(template, serverDb);
-  const registry = openRegistry(serverDb);
+  const registry = await openRegistry(serverDb);
   const server = await startServer({ registry, host: '127.0.0.1', port: 0, logFault: () => {}, logEnvironment: () => {} });
   return {
     dir,

@@ -37,14 +37,14 @@ let sandbox: string;
 let env: Record<string, string>;
 const startDir = process.cwd();
 
-beforeAll(() => {
+beforeAll(async () => {
   sandbox = mkdtempSync(join(tmpdir(), 'nkledger-docs-'));
   for (const dir of ['data', 'test']) symlinkSync(join(ROOT, dir), join(sandbox, dir));
   mkdirSync(join(sandbox, '.demo'));
   const db = join(sandbox, '.demo', 'nkledger.db');
-  const registry = openRegistry(db);
+  const registry = await openRegistry(db);
   try {
-    buildDemoRegistry(registry, join(ROOT, 'data', 'marrowick'), join(sandbox, '.demo', 'design-lock.json'));
+    await buildDemoRegistry(registry, join(ROOT, 'data', 'marrowick'), join(sandbox, '.demo', 'design-lock.json'));
   } finally {
     registry.close();
   }

@@ -44,14 +44,14 @@ export async function projectPlots(): Promise<ProjectPlot[]> {
   }
 
   const dir = mkdtempSync(join(tmpdir(), 'nkledger-plots-'));
-  const registry = openRegistry(join(dir, 'plots.db'));
+  const registry = await openRegistry(join(dir, 'plots.db'));
   try {
-    createMaterial(registry, { slug: 'sinx-pecvd', name: 'PECVD SiNx' }, 'ada');
+    await createMaterial(registry, { slug: 'sinx-pecvd', name: 'PECVD SiNx' }, 'ada');
     for (const file of ['sinx-pecvd-recipe-a.csv', 'sinx-pecvd-recipe-b.csv']) {
       const table = tables.get(file)!;
-      importVersion(registry, { slug: 'sinx-pecvd', table, fit: fitTable(table, { model: 'tauc-lorentz' }) }, 'ada');
+      await importVersion(registry, { slug: 'sinx-pecvd', table, fit: fitTable(table, { model: 'tauc-lorentz' }) }, 'ada');
     }
-    add('diff-sinx-pecvd', diffPlotSpec(diffVersions(registry, 'sinx-pecvd@1', 'sinx-pecvd@2')));
+    add('diff-sinx-pecvd', diffPlotSpec(await diffVersions(registry, 'sinx-pecvd@1', 'sinx-pecvd@2')));
   } finally {
     registry.close();
     rmSync(dir, { recursive: true, force: true });

@@ -40,12 +40,12 @@ const NO_PROVENANCE = {
 };
 
 let t: TempRegistry;
-beforeEach(() => {
-  t = tempRegistry();
-  createMaterial(t.registry, { slug: 'film', name: 'Film' }, 'ada');
-  importVersion(t.registry, { slug: 'film', table: cauchyTable(1.45) }, 'ada');
-  importVersion(t.registry, { slug: 'film', table: cauchyTable(1.46) }, 'ada');
-  approve(t.registry, 'film@1', 'bob');
+beforeEach(async () => {
+  t = await tempRegistry();
+  await createMaterial(t.registry, { slug: 'film', name: 'Film' }, 'ada');
+  await importVersion(t.registry, { slug: 'film', table: cauchyTable(1.45) }, 'ada');
+  await importVersion(t.registry, { slug: 'film', table: cauchyTable(1.46) }, 'ada');
+  await approve(t.registry, 'film@1', 'bob');
 });
 afterEach(() => t.cleanup());
 
@@ -63,8 +63,8 @@ const triggerSql = (db: Database.Database, name: string) =>
   (db.prepare('SELECT sql FROM sqlite_master WHERE name = ?').get(name) as { sql: string }).sql;
 
 describe('the audit chain', () => {
-  it('links every event to the one before it and hashes each over its canonical JSON', () => {
-    const rows = readAuditRows(t.registry);
+  it('links every event to the one before it and hashes each over its canonical JSON', async () => {
+    const rows = await readAuditRows(t.registry);
     expect(rows.map((r) => r.action)).toEqual([GENESIS_TYPE, 'material.create', 'version.import', 'version.import', 'version.approve']);
     expect(rows[0].prev_hash).toBeNull();
     for (let i = 1; i < rows.length; i++) expect(rows[i].prev_hash).toBe(rows[i - 1].hash);
@@ -76,18 +76,18 @@ describe('the audit chain', () => {
         `"material":"film","prev_hash":"${rows[3].hash}","status_change":{"from":"draft","to":"approved"},"time":"${approveRow.at}","type":"version.approve","version":1}`,
     );
     expect(approveRow.hash).toBe(sha256Hex(text));
-    expect(chainHead(t.registry)).toEqual({ hash: approveRow.hash, sequence: 5 });
-    const report = verifyRegistry(t.registry);
+    expect(await chainHead(t.registry)).toEqual({ hash: approveRow.hash, sequence: 5 });
+    const report = await verifyRegistry(t.registry);
     expect(report.ok).toBe(true);
     expect(report.chain).toEqual({ head: { hash: approveRow.hash, sequence: 5 }, problems: [] });
   });
 
-  it('refuses, in SQLite itself, an audit row that does not extend the chain at its head', () => {
+  it('refuses, in SQLite itself, an audit row that does not extend the chain at its head', async () => {
+    const first = (await readAuditRows(t.registry))[1];
     raw((db) => {
       expect(() =>
         db.exec("INSERT INTO audit_log (at, actor, action, detail) VALUES ('2025-01-01T00:00:00.000Z', 'mallory', 'version.approve', '{}')"),
       ).toThrow(/extend the chain/);
-      const first = readAuditRows(t.registry)[1];
       expect(() =>
         db
           .prepare(
@@ -100,7 +100,7 @@ describe('the audit chain', () => {
 });
 
 describe('verify catches each attack made with raw SQL', () => {
-  it('content and its hash rewritten together (triggers dropped and re-created)', () => {
+  it('content and its hash rewritten together (triggers dropped and re-created)', async () => {
     raw((db) => {
       const trigger = triggerSql(db, 'material_versions_content_immutable');
       db.exec('DROP TRIGGER material_versions_content_immutable');
@@ -114,7 +114,7 @@ describe('verify catches each attack made with raw SQL', () => {
       );
       db.exec(trigger);
     });
-    const report = verifyRegistry(t.registry);
+    const report = await verifyRegistry(t.registry);
     expect(report.ok).toBe(false);
     expect(report.mismatches).toEqual([]); // content and column agree: only the chain can tell
     expect(report.state_mismatches.map((m) => m.problem)).toEqual([
@@ -122,13 +122,13 @@ describe('verify catches each attack made with raw SQL', () => {
     ]);
   });
 
-  it('a draft set to approved with another user as approver, without an audit row', () => {
+  it('a draft set to approved with another user as approver, without an audit row', async () => {
     raw((db) =>
       db.exec(
         "UPDATE material_versions SET status = 'approved', approved_by = 'carol', approved_at = '2025-01-01T00:00:00.000Z', self_approved = 0 WHERE number = 2",
       ),
     );
-    const report = verifyRegistry(t.registry);
+    const report = await verifyRegistry(t.registry);
     expect(report.ok).toBe(false);
     expect(report.state_mismatches.map((m) => m.problem)).toEqual([
       'film@2: it is approved, but the audit chain has it draft (status changed outside nkledger)',
@@ -136,17 +136,17 @@ describe('verify catches each attack made with raw SQL', () => {
     ]);
   });
 
-  it('an approver rewritten on an approved version', () => {
+  it('an approver rewritten on an approved version', async () => {
     raw((db) => {
       db.exec('DROP TRIGGER material_versions_lifecycle_set_once');
       db.exec("UPDATE material_versions SET approved_by = 'ada' WHERE number = 1");
     });
-    const report = verifyRegistry(t.registry);
+    const report = await verifyRegistry(t.registry);
     expect(report.state_mismatches.map((m) => m.problem)).toEqual(['film@1: it says approved by ada, but the audit chain says bob']);
     expect(report.missing_triggers).toEqual(['material_versions_lifecycle_set_once']);
   });
 
-  it('a trigger replaced by a same-named one that never fires (WHEN 0), and a trigger nobody created', () => {
+  it('a trigger replaced by a same-named one that never fires (WHEN 0), and a trigger nobody created', async () => {
     raw((db) => {
       db.exec('DROP TRIGGER material_versions_status_transitions');
       db.exec(
@@ -154,19 +154,19 @@ describe('verify catches each attack made with raw SQL', () => {
       );
       db.exec('CREATE TRIGGER helper AFTER INSERT ON materials BEGIN SELECT 1; END');
     });
-    const report = verifyRegistry(t.registry);
+    const report = await verifyRegistry(t.registry);
     expect(report.ok).toBe(false);
     expect(report.missing_triggers).toEqual([]);
     expect(report.altered_triggers).toEqual(['material_versions_status_transitions']);
     expect(report.unexpected_triggers).toEqual(['helper']);
   });
 
-  it('an audit event edited, or deleted, with the log triggers dropped', () => {
+  it('an audit event edited, or deleted, with the log triggers dropped', async () => {
     raw((db) => {
       db.exec('DROP TRIGGER audit_log_no_update');
       db.exec("UPDATE audit_log SET actor = 'carol' WHERE action = 'version.approve'");
     });
-    expect(verifyRegistry(t.registry).chain.problems).toEqual([
+    expect((await verifyRegistry(t.registry)).chain.problems).toEqual([
       expect.stringMatching(/audit event 5 \(version\.approve, sequence 5\): its content no longer matches its hash/),
     ]);
     // The approver's name in the versions table now disagrees with the (edited) event too.
@@ -174,26 +174,26 @@ describe('verify catches each attack made with raw SQL', () => {
       db.exec('DROP TRIGGER audit_log_no_delete');
       db.exec("DELETE FROM audit_log WHERE action = 'version.import' AND version_number = 2");
     });
-    const report = verifyRegistry(t.registry);
+    const report = await verifyRegistry(t.registry);
     expect(report.chain.problems.join('\n')).toMatch(/sequence 4\): its prev_hash does not name the event before it/);
     expect(report.state_mismatches.map((m) => m.problem)).toContain(
       'film@2: the audit chain never recorded this version (inserted outside nkledger)',
     );
   });
 
-  it('the whole log emptied', () => {
+  it('the whole log emptied', async () => {
     raw((db) => {
       db.exec('DROP TRIGGER audit_log_no_delete');
       db.exec('DELETE FROM audit_log');
     });
-    const report = verifyRegistry(t.registry);
+    const report = await verifyRegistry(t.registry);
     expect(report.chain.problems).toEqual(['the audit log has no hash chain (no chain.genesis event)']);
     expect(report.ok).toBe(false);
   });
 
-  it('retire and the lifecycle after it stay consistent with the chain', () => {
-    retire(t.registry, 'film@1', 'substrate mix-up', 'bob');
-    expect(verifyRegistry(t.registry).ok).toBe(true);
+  it('retire and the lifecycle after it stay consistent with the chain', async () => {
+    await retire(t.registry, 'film@1', 'substrate mix-up', 'bob');
+    expect((await verifyRegistry(t.registry)).ok).toBe(true);
   });
 });
 
@@ -232,11 +232,11 @@ describe('a registry written before the chain existed', () => {
     return path;
   }
 
-  it('gets a genesis event over every stored hash and the earlier log, and verifies; later edits of either are caught', () => {
+  it('gets a genesis event over every stored hash and the earlier log, and verifies; later edits of either are caught', async () => {
     const path = oldRegistry();
-    const registry = openRegistry(path);
+    const registry = await openRegistry(path);
     try {
-      const rows = readAuditRows(registry);
+      const rows = await readAuditRows(registry);
       expect(rows.map((r) => [r.action, r.hash === null])).toEqual([
         ['material.create', true],
         ['version.import', true],
@@ -256,14 +256,14 @@ describe('a registry written before the chain existed', () => {
         },
       ]);
       expect(genesis.earlier_events).toBe(3);
-      expect(verifyRegistry(registry).ok).toBe(true);
+      expect((await verifyRegistry(registry)).ok).toBe(true);
       // Opening again does not start a second chain.
-      openRegistry(path).close();
-      expect(readAuditRows(registry).filter((r: AuditRow) => r.action === GENESIS_TYPE)).toHaveLength(1);
+      (await openRegistry(path)).close();
+      expect((await readAuditRows(registry)).filter((r: AuditRow) => r.action === GENESIS_TYPE)).toHaveLength(1);
 
       registry.sqlite.exec('DROP TRIGGER audit_log_no_update');
       registry.sqlite.exec("UPDATE audit_log SET actor = 'mallory' WHERE id = 3");
-      expect(verifyRegistry(registry).chain.problems).toEqual([
+      expect((await verifyRegistry(registry)).chain.problems).toEqual([
         'the 3 audit rows written before the chain started no longer match the digest its genesis event recorded',
       ]);
     } finally {

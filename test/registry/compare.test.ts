@@ -24,21 +24,21 @@ function table(A: number, B: number, bump?: { amplitude: number; centreNm: numbe
 }
 
 let t: TempRegistry;
-beforeEach(() => {
-  t = tempRegistry();
-  createMaterial(t.registry, { slug: 'sio2', name: 'SiO2' }, 'ada');
+beforeEach(async () => {
+  t = await tempRegistry();
+  await createMaterial(t.registry, { slug: 'sio2', name: 'SiO2' }, 'ada');
 });
 afterEach(() => t.cleanup());
 
 describe('diff', () => {
-  it('finds the largest |Δn| where a known bump was added, and lists provenance changes', () => {
-    importVersion(t.registry, { slug: 'sio2', table: table(1.45, 0.0036), provenance: { sample: 'W1' } }, 'ada');
-    importVersion(
+  it('finds the largest |Δn| where a known bump was added, and lists provenance changes', async () => {
+    await importVersion(t.registry, { slug: 'sio2', table: table(1.45, 0.0036), provenance: { sample: 'W1' } }, 'ada');
+    await importVersion(
       t.registry,
       { slug: 'sio2', table: table(1.45, 0.0036, { amplitude: 0.01, centreNm: 600, widthNm: 20 }), provenance: { sample: 'W2', operator: 'cy' } },
       'ada',
     );
-    const d = diffVersions(t.registry, 'sio2@1', 'sio2@2');
+    const d = await diffVersions(t.registry, 'sio2@1', 'sio2@2');
     // common practice: the difference of the two generating formulas is the bump itself, peak 0.01 at 600 nm
     expect(d.common_range_nm).toEqual([400, 800]);
     expect(d.dn!.max_abs).toBeCloseTo(0.01, 12);
@@ -52,14 +52,14 @@ describe('diff', () => {
     expect(d.warnings).toHaveLength(2); // both drafts
   });
 
-  it('compares fitted parameters with Δ in combined standard errors and draws a three-panel plot', () => {
+  it('compares fitted parameters with Δ in combined standard errors and draws a three-panel plot', async () => {
     const fitA = fitTable(table(1.45, 0.0036), { model: 'cauchy' });
     const fitB = fitTable(table(1.46, 0.004), { model: 'cauchy' });
     // reference values: the generating coefficients (noise-free data, so the fit recovers them)
     expect(fitA.parameters.A.value).toBeCloseTo(1.45, 8);
-    importVersion(t.registry, { slug: 'sio2', table: table(1.45, 0.0036), fit: fitA }, 'ada');
-    importVersion(t.registry, { slug: 'sio2', table: table(1.46, 0.004), fit: fitB }, 'ada');
-    const d = diffVersions(t.registry, 'sio2@1', 'sio2@2');
+    await importVersion(t.registry, { slug: 'sio2', table: table(1.45, 0.0036), fit: fitA }, 'ada');
+    await importVersion(t.registry, { slug: 'sio2', table: table(1.46, 0.004), fit: fitB }, 'ada');
+    const d = await diffVersions(t.registry, 'sio2@1', 'sio2@2');
     const A = d.parameters.find((p) => p.name === 'A')!;
     expect(A).toMatchObject({ unit: '1' });
     expect(A.delta!).toBeCloseTo(0.01, 8);
@@ -84,52 +84,55 @@ describe('diff', () => {
 });
 
 describe('eval of registry versions', () => {
-  it('evaluates a model-backed version anywhere in its validity range and refuses outside', () => {
+  it('evaluates a model-backed version anywhere in its validity range and refuses outside', async () => {
     const fit = fitTable(table(1.45, 0.0036), { model: 'cauchy' });
-    importVersion(t.registry, { slug: 'sio2', table: table(1.45, 0.0036), fit }, 'ada');
-    approve(t.registry, 'sio2@1', 'bob');
-    const e = evaluateVersion(t.registry, 'sio2', [402.5, 632.8]);
+    await importVersion(t.registry, { slug: 'sio2', table: table(1.45, 0.0036), fit }, 'ada');
+    await approve(t.registry, 'sio2@1', 'bob');
+    const e = await evaluateVersion(t.registry, 'sio2', [402.5, 632.8]);
     expect(e).toMatchObject({ ref: 'sio2@1', source: 'model', model: 'cauchy', range_nm: [400, 800] });
     // from the generating formula n = 1.45 + 0.0036/λ²
     expect(e.n[1]).toBeCloseTo(1.45 + 0.0036 / 0.6328 ** 2, 8);
     expect(e.notices[0]).toMatch(/not a pin/);
-    expect(() => evaluateVersion(t.registry, 'sio2@1', [380])).toThrow(/outside the validity range .* 400–800 nm/);
+    await expect(evaluateVersion(t.registry, 'sio2@1', [380])).rejects.toThrow(/outside the validity range .* 400–800 nm/);
     // With extrapolation allowed, the model is evaluated beyond its range and every such value is marked.
-    const x = evaluateVersion(t.registry, 'sio2@1', [380, 600, 900], { extrapolate: true });
+    const x = await evaluateVersion(t.registry, 'sio2@1', [380, 600, 900], { extrapolate: true });
     expect(x.extrapolated).toEqual([true, false, true]);
     expect(x.n[2]).toBeCloseTo(1.45 + 0.0036 / 0.9 ** 2, 8); // the same formula, beyond the fitted range
     expect(x.warnings.at(-1)).toMatch(/^2 value\(s\) extrapolated beyond the cauchy model's validity range 400–800 nm/);
-    expect(evaluateVersion(t.registry, 'sio2@1', [600]).extrapolated).toBeUndefined();
-    expect(withUnitColumn(evaluateVersion(t.registry, 'sio2@1', [619.920992]), 'eV')).toMatchObject({ wavelength_nm: [619.920992], energy_eV: [2] });
+    expect((await evaluateVersion(t.registry, 'sio2@1', [600])).extrapolated).toBeUndefined();
+    expect(withUnitColumn(await evaluateVersion(t.registry, 'sio2@1', [619.920992]), 'eV')).toMatchObject({
+      wavelength_nm: [619.920992],
+      energy_eV: [2],
+    });
   });
 
-  it('interpolates a table-only version inside its measured range only', () => {
-    importVersion(t.registry, { slug: 'sio2', table: table(1.45, 0.0036) }, 'ada');
-    const e = evaluateVersion(t.registry, 'sio2@1', [600]);
+  it('interpolates a table-only version inside its measured range only', async () => {
+    await importVersion(t.registry, { slug: 'sio2', table: table(1.45, 0.0036) }, 'ada');
+    const e = await evaluateVersion(t.registry, 'sio2@1', [600]);
     expect(e).toMatchObject({ source: 'table', interpolation: 'linear' });
     expect(e.n[0]).toBeCloseTo(1.46, 12);
-    expect(() => evaluateVersion(t.registry, 'sio2@1', [850])).toThrow(/only interpolated, never extrapolated/);
-    expect(() => evaluateVersion(t.registry, 'sio2@1', [850], { extrapolate: true })).toThrow(/a table never extrapolates/);
+    await expect(evaluateVersion(t.registry, 'sio2@1', [850])).rejects.toThrow(/only interpolated, never extrapolated/);
+    await expect(evaluateVersion(t.registry, 'sio2@1', [850], { extrapolate: true })).rejects.toThrow(/a table never extrapolates/);
   });
 });
 
 describe('export', () => {
-  it('writes CSV that imports back to the same table, and JSON from which the hash recomputes', () => {
+  it('writes CSV that imports back to the same table, and JSON from which the hash recomputes', async () => {
     const original = table(1.45, 0.0036);
-    const stored = importVersion(t.registry, { slug: 'sio2', table: original, provenance: { instrument: 'SE-1' } }, 'ada');
-    const csv = exportVersion(t.registry, 'sio2@1', 'csv');
+    const stored = await importVersion(t.registry, { slug: 'sio2', table: original, provenance: { instrument: 'SE-1' } }, 'ada');
+    const csv = await exportVersion(t.registry, 'sio2@1', 'csv');
     expect(csv.text.split('\r\n')[0]).toBe(`# nkledger sio2@1 (draft) sha256:${stored.sha256}`);
     const back = parseNkTable(csv.text, { file: 'export.csv' }).table;
     expect(back.wavelengthNm).toEqual(original.wavelengthNm);
     expect(back.n).toEqual(original.n);
-    const json = JSON.parse(exportVersion(t.registry, 'sio2@1', 'json').text);
+    const json = JSON.parse((await exportVersion(t.registry, 'sio2@1', 'json')).text);
     expect(versionSha256(json.content, json.provenance)).toBe(stored.sha256);
   });
 
-  it('exports a model-only version on a grid over its validity range', () => {
+  it('exports a model-only version on a grid over its validity range', async () => {
     const fit = fitTable(table(1.45, 0.0036), { model: 'cauchy' });
-    importVersion(t.registry, { slug: 'sio2', fit }, 'ada');
-    const lines = exportVersion(t.registry, 'sio2@1', 'csv', { stepNm: 100 }).text.trim().split('\r\n');
+    await importVersion(t.registry, { slug: 'sio2', fit }, 'ada');
+    const lines = (await exportVersion(t.registry, 'sio2@1', 'csv', { stepNm: 100 })).text.trim().split('\r\n');
     expect(lines[1]).toMatch(/cauchy model evaluated every 100 nm/);
     expect(lines.slice(3).map((l) => Number(l.split(',')[0]))).toEqual([400, 500, 600, 700, 800]);
   });

@@ -16,10 +16,10 @@ export interface TempRegistry {
   cleanup(): void;
 }
 
-export function tempRegistry(): TempRegistry {
+export async function tempRegistry(): Promise<TempRegistry> {
   const dir = mkdtempSync(join(tmpdir(), 'nkledger-reg-'));
   const path = join(dir, 'test.db');
-  const registry = openRegistry(path);
+  const registry = await openRegistry(path);
   return {
     dir,
     path,
@@ -32,10 +32,10 @@ export function tempRegistry(): TempRegistry {
 }
 
 /** A temp registry holding material "film" with one draft version (cauchyTable), created by "ada". */
-export function tempRegistryWithDraft(): TempRegistry {
-  const t = tempRegistry();
-  createMaterial(t.registry, { slug: 'film', name: 'Film' }, 'ada');
-  importVersion(t.registry, { slug: 'film', table: cauchyTable() }, 'ada');
+export async function tempRegistryWithDraft(): Promise<TempRegistry> {
+  const t = await tempRegistry();
+  await createMaterial(t.registry, { slug: 'film', name: 'Film' }, 'ada');
+  await importVersion(t.registry, { slug: 'film', table: cauchyTable() }, 'ada');
   return t;
 }
 

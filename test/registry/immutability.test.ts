@@ -4,29 +4,29 @@ import { cauchyTable, tempRegistry, type TempRegistry } from './helpers.ts';
 
 let t: TempRegistry;
 let sha: string;
-beforeEach(() => {
-  t = tempRegistry();
-  createMaterial(t.registry, { slug: 'mgf2', name: 'MgF2' }, 'ada');
-  sha = importVersion(t.registry, { slug: 'mgf2', table: cauchyTable(1.38, 0.002), provenance: { instrument: 'SE-1' } }, 'ada').sha256;
-  approve(t.registry, 'mgf2@1', 'bob');
+beforeEach(async () => {
+  t = await tempRegistry();
+  await createMaterial(t.registry, { slug: 'mgf2', name: 'MgF2' }, 'ada');
+  sha = (await importVersion(t.registry, { slug: 'mgf2', table: cauchyTable(1.38, 0.002), provenance: { instrument: 'SE-1' } }, 'ada')).sha256;
+  await approve(t.registry, 'mgf2@1', 'bob');
 });
 afterEach(() => t.cleanup());
 
 const sql = (s: string) => () => t.registry.sqlite.exec(s);
 
 describe('an approved version cannot change', () => {
-  it('through the service: no second approval, no withdrawal, identical re-import refused', () => {
-    expect(() => approve(t.registry, 'mgf2@1', 'cy')).toThrow(/it is approved/);
-    expect(() => withdraw(t.registry, 'mgf2@1', 'cy')).toThrow(/it is approved/);
-    expect(() => importVersion(t.registry, { slug: 'mgf2', table: cauchyTable(1.38, 0.002), provenance: { instrument: 'SE-1' } }, 'ada')).toThrow(
-      /already stored as mgf2@1/,
-    );
+  it('through the service: no second approval, no withdrawal, identical re-import refused', async () => {
+    await expect(approve(t.registry, 'mgf2@1', 'cy')).rejects.toThrow(/it is approved/);
+    await expect(withdraw(t.registry, 'mgf2@1', 'cy')).rejects.toThrow(/it is approved/);
+    await expect(
+      importVersion(t.registry, { slug: 'mgf2', table: cauchyTable(1.38, 0.002), provenance: { instrument: 'SE-1' } }, 'ada'),
+    ).rejects.toThrow(/already stored as mgf2@1/);
     // a correction is a new version; version 1 is untouched
-    importVersion(t.registry, { slug: 'mgf2', table: cauchyTable(1.381, 0.002) }, 'ada');
-    expect(showVersion(t.registry, 'mgf2@1').sha256).toBe(sha);
+    await importVersion(t.registry, { slug: 'mgf2', table: cauchyTable(1.381, 0.002) }, 'ada');
+    expect((await showVersion(t.registry, 'mgf2@1')).sha256).toBe(sha);
   });
 
-  it('through raw SQL: the triggers abort updates of content, hash, provenance, number and deletes', () => {
+  it('through raw SQL: the triggers abort updates of content, hash, provenance, number and deletes', async () => {
     expect(sql("UPDATE material_versions SET content = '{}' WHERE number = 1")).toThrow(/immutable/);
     expect(sql("UPDATE material_versions SET sha256 = 'x' WHERE number = 1")).toThrow(/immutable/);
     expect(sql("UPDATE material_versions SET instrument = 'other' WHERE number = 1")).toThrow(/immutable/);
@@ -40,22 +40,22 @@ describe('an approved version cannot change', () => {
     expect(sql('UPDATE materials SET last_version = 0')).toThrow(/never reused/);
     expect(sql("UPDATE audit_log SET actor = 'eve'")).toThrow(/append-only/);
     expect(sql('DELETE FROM audit_log')).toThrow(/append-only/);
-    expect(verifyRegistry(t.registry).ok).toBe(true);
-    expect(showVersion(t.registry, 'mgf2@1')).toMatchObject({ sha256: sha, status: 'approved', approved_by: 'bob' });
+    expect((await verifyRegistry(t.registry)).ok).toBe(true);
+    expect(await showVersion(t.registry, 'mgf2@1')).toMatchObject({ sha256: sha, status: 'approved', approved_by: 'bob' });
   });
 
-  it('still allows the legal transitions in SQL terms (approved → retired)', () => {
-    expect(retire(t.registry, 'mgf2@1', 'superseded', 'bob').status).toBe('retired');
+  it('still allows the legal transitions in SQL terms (approved → retired)', async () => {
+    expect((await retire(t.registry, 'mgf2@1', 'superseded', 'bob')).status).toBe('retired');
     expect(sql("UPDATE material_versions SET retire_reason = 'other'")).toThrow(/written once/);
     expect(sql("UPDATE material_versions SET status = 'approved'")).toThrow(/status may only go/);
   });
 });
 
 describe('verify catches tampering done with the triggers dropped', () => {
-  it('names the edited version, a deleted version and the dropped triggers', () => {
-    importVersion(t.registry, { slug: 'mgf2', table: cauchyTable(1.39, 0.002) }, 'ada');
-    importVersion(t.registry, { slug: 'mgf2', table: cauchyTable(1.4, 0.002) }, 'ada');
-    expect(verifyRegistry(t.registry)).toMatchObject({ ok: true, checked_versions: 3 });
+  it('names the edited version, a deleted version and the dropped triggers', async () => {
+    await importVersion(t.registry, { slug: 'mgf2', table: cauchyTable(1.39, 0.002) }, 'ada');
+    await importVersion(t.registry, { slug: 'mgf2', table: cauchyTable(1.4, 0.002) }, 'ada');
+    expect(await verifyRegistry(t.registry)).toMatchObject({ ok: true, checked_versions: 3 });
     t.registry.sqlite.exec('DROP TRIGGER material_versions_content_immutable');
     t.registry.sqlite.exec('DROP TRIGGER material_versions_no_delete');
     // change one n value in the stored content of version 1, and the provenance of version 2
@@ -66,7 +66,7 @@ describe('verify catches tampering done with the triggers dropped', () => {
     t.registry.sqlite.exec("UPDATE material_versions SET operator = 'eve' WHERE number = 2");
     t.registry.sqlite.pragma('foreign_keys = OFF'); // the audit row still points at it
     t.registry.sqlite.exec('DELETE FROM material_versions WHERE number = 3');
-    const report = verifyRegistry(t.registry);
+    const report = await verifyRegistry(t.registry);
     expect(report.ok).toBe(false);
     expect(report.checked_versions).toBe(2);
     expect(report.mismatches.map((m) => m.ref)).toEqual(['mgf2@1', 'mgf2@2']);
@@ -76,10 +76,10 @@ describe('verify catches tampering done with the triggers dropped', () => {
     expect(report.missing_triggers).toEqual(['material_versions_content_immutable', 'material_versions_no_delete']);
   });
 
-  it('reports unreadable content instead of failing', () => {
+  it('reports unreadable content instead of failing', async () => {
     t.registry.sqlite.exec('DROP TRIGGER material_versions_content_immutable');
     t.registry.sqlite.exec("UPDATE material_versions SET content = '{not json' WHERE number = 1");
-    expect(verifyRegistry(t.registry).mismatches).toEqual([
+    expect((await verifyRegistry(t.registry)).mismatches).toEqual([
       { ref: 'mgf2@1', stored_sha256: sha, computed_sha256: null, reason: 'stored content is not valid JSON' },
     ]);
   });

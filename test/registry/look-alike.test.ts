@@ -10,14 +10,14 @@ import { statusOf } from '../../src/http-status.ts';
 import { hiddenLookAlike, lookAlikeKey } from '../../src/service/look-alike.ts';
 import { createMaterial, editMaterial, listMaterials } from '../../src/service/registry.ts';
 import { runCli } from '../cli/run-cli.ts';
-import { refusal } from '../io/refusal.ts';
+import { refusalAsync } from '../io/refusal.ts';
 import { tempRegistry, type TempRegistry } from './helpers.ts';
 
 let t: TempRegistry;
-beforeEach(() => {
-  t = tempRegistry();
-  createMaterial(t.registry, { slug: 'sio2-thermal', name: 'SiO2 thermal oxide' }, 'ada');
-  createMaterial(t.registry, { slug: 'al2o3-ald', name: 'Al2O3 ALD' }, 'ada');
+beforeEach(async () => {
+  t = await tempRegistry();
+  await createMaterial(t.registry, { slug: 'sio2-thermal', name: 'SiO2 thermal oxide' }, 'ada');
+  await createMaterial(t.registry, { slug: 'al2o3-ald', name: 'Al2O3 ALD' }, 'ada');
 });
 afterEach(() => t.cleanup());
 
@@ -45,32 +45,32 @@ describe('look-alike material names', () => {
     expect(hiddenLookAlike('Glass', 'Glаss')).toBe(true); // Cyrillic а
   });
 
-  it('a new material whose slug or name only looks like an existing one is refused (409, rule, field, value); plain ones pass', () => {
-    const slug = refusal(() => createMaterial(t.registry, { slug: 'si02-thermal', name: 'Another oxide' }, 'ada'));
+  it('a new material whose slug or name only looks like an existing one is refused (409, rule, field, value); plain ones pass', async () => {
+    const slug = await refusalAsync(() => createMaterial(t.registry, { slug: 'si02-thermal', name: 'Another oxide' }, 'ada'));
     expect(slug).toMatchObject({ rule: 'material-look-alike', option: 'slug', value: 'si02-thermal' });
     expect(statusOf(slug)).toBe(409); // the API's answer (src/http-status.ts)
     expect(slug.message).toMatch(/existing material sio2-thermal/);
     for (const name of ['SiO₂ thermal oxide', 'ＳｉＯ２ thermal oxide', 'SiО2 thermal oxide', 'Si02 thermal oxide', 'SiO2 thermal\u200B oxide']) {
-      const err = refusal(() => createMaterial(t.registry, { slug: 'other-oxide', name }, 'ada'));
+      const err = await refusalAsync(() => createMaterial(t.registry, { slug: 'other-oxide', name }, 'ada'));
       expect(err, name).toMatchObject({ rule: 'material-look-alike', option: 'name', value: name });
       expect(statusOf(err), name).toBe(409);
       expect(err.message).toMatch(/"SiO2 thermal oxide", the name of sio2-thermal/);
     }
-    expect(refusal(() => createMaterial(t.registry, { slug: 'a12o3-ald', name: 'x' }, 'ada'))).toMatchObject({ option: 'slug' });
+    expect(await refusalAsync(() => createMaterial(t.registry, { slug: 'a12o3-ald', name: 'x' }, 'ada'))).toMatchObject({ option: 'slug' });
     // Nothing was written by the refusals; the same name, another case, and plainly other names are accepted.
-    expect(listMaterials(t.registry).map((m) => m.slug)).toEqual(['al2o3-ald', 'sio2-thermal']);
-    createMaterial(t.registry, { slug: 'sio2-wet', name: 'SiO2 thermal oxide' }, 'ada');
-    createMaterial(t.registry, { slug: 'sio2-dry', name: 'sio2 THERMAL oxide' }, 'ada');
-    createMaterial(t.registry, { slug: 'sio2-pecvd', name: 'SiO2 PECVD oxide' }, 'ada');
-    expect(listMaterials(t.registry)).toHaveLength(5);
+    expect((await listMaterials(t.registry)).map((m) => m.slug)).toEqual(['al2o3-ald', 'sio2-thermal']);
+    await createMaterial(t.registry, { slug: 'sio2-wet', name: 'SiO2 thermal oxide' }, 'ada');
+    await createMaterial(t.registry, { slug: 'sio2-dry', name: 'sio2 THERMAL oxide' }, 'ada');
+    await createMaterial(t.registry, { slug: 'sio2-pecvd', name: 'SiO2 PECVD oxide' }, 'ada');
+    expect(await listMaterials(t.registry)).toHaveLength(5);
   });
 
-  it('renaming to a look-alike of another material is refused; renaming a material to its own name in another form is not', () => {
-    expect(refusal(() => editMaterial(t.registry, 'al2o3-ald', { name: 'SiO₂ thermal oxide' }, 'ada'))).toMatchObject({
+  it('renaming to a look-alike of another material is refused; renaming a material to its own name in another form is not', async () => {
+    expect(await refusalAsync(() => editMaterial(t.registry, 'al2o3-ald', { name: 'SiO₂ thermal oxide' }, 'ada'))).toMatchObject({
       rule: 'material-look-alike',
       option: 'name',
     });
-    expect(editMaterial(t.registry, 'sio2-thermal', { name: 'SiO₂ thermal oxide' }, 'ada').name).toBe('SiO₂ thermal oxide');
+    expect((await editMaterial(t.registry, 'sio2-thermal', { name: 'SiO₂ thermal oxide' }, 'ada')).name).toBe('SiO₂ thermal oxide');
   });
 
   it('the CLI names the existing material and the rule (exit 2)', async () => {

@@ -5,51 +5,51 @@ import { approve, createMaterial, importVersion, readLockfile, resolveRef, retir
 import { cauchyTable, tempRegistry, type TempRegistry } from './helpers.ts';
 
 let t: TempRegistry;
-beforeEach(() => {
-  t = tempRegistry();
-  createMaterial(t.registry, { slug: 'mgf2-evap', name: 'MgF2' }, 'ada');
+beforeEach(async () => {
+  t = await tempRegistry();
+  await createMaterial(t.registry, { slug: 'mgf2-evap', name: 'MgF2' }, 'ada');
 });
 afterEach(() => t.cleanup());
 
 describe('not-found and rule messages', () => {
-  it('a material without versions says so instead of "versions 1 to 0 exist"', () => {
-    expect(() => showVersion(t.registry, 'mgf2-evap@1')).toThrow(
+  it('a material without versions says so instead of "versions 1 to 0 exist"', async () => {
+    await expect(showVersion(t.registry, 'mgf2-evap@1')).rejects.toThrow(
       'mgf2-evap has no version 1: it has no versions yet (add one with `nkledger import FILE --material mgf2-evap`)',
     );
-    expect(() => resolveRef(t.registry, 'mgf2-evap')).toThrow('mgf2-evap has no approved version: it has no versions yet');
+    await expect(resolveRef(t.registry, 'mgf2-evap')).rejects.toThrow('mgf2-evap has no approved version: it has no versions yet');
   });
 
-  it('names the versions that exist', () => {
-    importVersion(t.registry, { slug: 'mgf2-evap', table: cauchyTable() }, 'ada');
-    expect(() => showVersion(t.registry, 'mgf2-evap@2')).toThrow('mgf2-evap has no version 2: only version 1 exists');
-    importVersion(t.registry, { slug: 'mgf2-evap', table: cauchyTable(1.38) }, 'ada');
-    expect(() => showVersion(t.registry, 'mgf2-evap@7')).toThrow('mgf2-evap has no version 7: versions 1 to 2 exist');
+  it('names the versions that exist', async () => {
+    await importVersion(t.registry, { slug: 'mgf2-evap', table: cauchyTable() }, 'ada');
+    await expect(showVersion(t.registry, 'mgf2-evap@2')).rejects.toThrow('mgf2-evap has no version 2: only version 1 exists');
+    await importVersion(t.registry, { slug: 'mgf2-evap', table: cauchyTable(1.38) }, 'ada');
+    await expect(showVersion(t.registry, 'mgf2-evap@7')).rejects.toThrow('mgf2-evap has no version 7: versions 1 to 2 exist');
   });
 
-  it('a bare slug with only a draft says the draft waits for approval and how to pin it', () => {
-    importVersion(t.registry, { slug: 'mgf2-evap', table: cauchyTable() }, 'ada');
-    expect(() => resolveRef(t.registry, 'mgf2-evap')).toThrow(
+  it('a bare slug with only a draft says the draft waits for approval and how to pin it', async () => {
+    await importVersion(t.registry, { slug: 'mgf2-evap', table: cauchyTable() }, 'ada');
+    await expect(resolveRef(t.registry, 'mgf2-evap')).rejects.toThrow(
       'mgf2-evap has no approved version (its newest is mgf2-evap@1, draft, waiting for approval (`nkledger approve mgf2-evap@1` by someone other than its creator)); ' +
         'a bare slug means the latest approved version, so name one explicitly, e.g. mgf2-evap@1',
     );
-    approve(t.registry, 'mgf2-evap@1', 'bob');
-    retire(t.registry, 'mgf2-evap@1', 'wrong substrate', 'bob');
-    expect(() => resolveRef(t.registry, 'mgf2-evap')).toThrow(/its newest is mgf2-evap@1, retired\); a bare slug means/);
+    await approve(t.registry, 'mgf2-evap@1', 'bob');
+    await retire(t.registry, 'mgf2-evap@1', 'wrong substrate', 'bob');
+    await expect(resolveRef(t.registry, 'mgf2-evap')).rejects.toThrow(/its newest is mgf2-evap@1, retired\); a bare slug means/);
   });
 
-  it('status conflicts read as English ("an approved version")', () => {
-    importVersion(t.registry, { slug: 'mgf2-evap', table: cauchyTable() }, 'ada');
-    expect(() => retire(t.registry, 'mgf2-evap@1', 'why', 'bob')).toThrow(
+  it('status conflicts read as English ("an approved version")', async () => {
+    await importVersion(t.registry, { slug: 'mgf2-evap', table: cauchyTable() }, 'ada');
+    await expect(retire(t.registry, 'mgf2-evap@1', 'why', 'bob')).rejects.toThrow(
       'cannot retire mgf2-evap@1: it is draft, and only an approved version can be retired',
     );
-    approve(t.registry, 'mgf2-evap@1', 'bob');
-    expect(() => withdraw(t.registry, 'mgf2-evap@1', 'bob')).toThrow(
+    await approve(t.registry, 'mgf2-evap@1', 'bob');
+    await expect(withdraw(t.registry, 'mgf2-evap@1', 'bob')).rejects.toThrow(
       'cannot withdraw mgf2-evap@1: it is approved, and only a draft version can be withdrawn',
     );
   });
 
-  it('an unknown material says how to list and create materials', () => {
-    expect(() => resolveRef(t.registry, 'tio2@1')).toThrow(
+  it('an unknown material says how to list and create materials', async () => {
+    await expect(resolveRef(t.registry, 'tio2@1')).rejects.toThrow(
       'no material "tio2" in the registry (`nkledger list` lists them; `nkledger material add tio2 --name NAME` creates it)',
     );
   });

@@ -22,9 +22,9 @@ import { statusOf } from '../../src/http-status.ts';
 import { cauchyTable, tempRegistry, type TempRegistry } from './helpers.ts';
 
 let t: TempRegistry;
-beforeEach(() => {
-  t = tempRegistry();
-  createMaterial(t.registry, { slug: 'film', name: 'Film' }, 'ada');
+beforeEach(async () => {
+  t = await tempRegistry();
+  await createMaterial(t.registry, { slug: 'film', name: 'Film' }, 'ada');
 });
 afterEach(() => t.cleanup());
 
@@ -79,24 +79,26 @@ function fit(converged: boolean, r12 = 0.2): StoredFitReport {
   } as StoredFitReport;
 }
 
-function store(options: { kk?: string | null; converged?: boolean | null; a?: number; by?: string }): string {
-  return importVersion(
-    t.registry,
-    {
-      slug: 'film',
-      table: cauchyTable(options.a ?? 1.45),
-      kk: options.kk === null ? null : kk(options.kk ?? 'consistent'),
-      fit: options.converged === null ? null : fit(options.converged ?? true, STRONG_CORRELATION),
-      provenance: { sample: 'MW-1', instrument: 'bench ellipsometer', operator: 'ada', source_file: 'run-1.csv', source_sha256: 'ab'.repeat(32) },
-    },
-    options.by ?? 'ada',
+async function store(options: { kk?: string | null; converged?: boolean | null; a?: number; by?: string }): Promise<string> {
+  return (
+    await importVersion(
+      t.registry,
+      {
+        slug: 'film',
+        table: cauchyTable(options.a ?? 1.45),
+        kk: options.kk === null ? null : kk(options.kk ?? 'consistent'),
+        fit: options.converged === null ? null : fit(options.converged ?? true, STRONG_CORRELATION),
+        provenance: { sample: 'MW-1', instrument: 'bench ellipsometer', operator: 'ada', source_file: 'run-1.csv', source_sha256: 'ab'.repeat(32) },
+      },
+      options.by ?? 'ada',
+    )
   ).ref;
 }
 
 describe('reviewVersion', () => {
-  it('reads the KK verdict and misfit, convergence, diagnostics as data, strong correlations and provenance', () => {
-    const ref = store({ kk: 'consistent' });
-    const review = reviewVersion(t.registry, ref);
+  it('reads the KK verdict and misfit, convergence, diagnostics as data, strong correlations and provenance', async () => {
+    const ref = await store({ kk: 'consistent' });
+    const review = await reviewVersion(t.registry, ref);
     expect(review).toMatchObject({
       ref: 'film@1',
       status: 'draft',
@@ -116,16 +118,16 @@ describe('reviewVersion', () => {
     });
   });
 
-  it('says "not-run" without a KK report and gives no fit for a table-only version', () => {
-    const review = reviewVersion(t.registry, store({ kk: null, converged: null }));
+  it('says "not-run" without a KK report and gives no fit for a table-only version', async () => {
+    const review = await reviewVersion(t.registry, await store({ kk: null, converged: null }));
     expect(review.kk).toEqual({ verdict: 'not-run', summary: null, misfit: null });
     expect(review.fit).toBeNull();
     expect(review.correlations.pairs).toEqual([]);
     expect(review.blocking).toEqual([]);
   });
 
-  it('lists an inconsistent KK check and an unconverged fit as blocking, each with rule, field and value', () => {
-    const review = reviewVersion(t.registry, store({ kk: 'inconsistent', converged: false }));
+  it('lists an inconsistent KK check and an unconverged fit as blocking, each with rule, field and value', async () => {
+    const review = await reviewVersion(t.registry, await store({ kk: 'inconsistent', converged: false }));
     expect(review.fit?.converged).toBe(false);
     expect(review.blocking.map(({ rule, field, value }) => ({ rule, field, value }))).toEqual([
       { rule: 'kk-inconsistent', field: 'content.kk.verdict', value: 'inconsistent' },
@@ -133,21 +135,21 @@ describe('reviewVersion', () => {
     ]);
   });
 
-  it('finds non-convergence in a fit report stored before diagnostics existed (sentences only)', () => {
+  it('finds non-convergence in a fit report stored before diagnostics existed (sentences only)', async () => {
     const old = fit(false) as StoredFitReport & { diagnostics?: unknown };
     delete old.diagnostics;
     (old as unknown as { warnings: string[] }).warnings = [
       'the fit stopped after 200 iterations without meeting the convergence tests; the result may not be a minimum',
     ];
-    const { ref } = importVersion(t.registry, { slug: 'film', table: cauchyTable(), fit: old }, 'ada');
-    expect(reviewVersion(t.registry, ref).blocking.map((b) => b.rule)).toEqual(['fit-not-converged']);
+    const { ref } = await importVersion(t.registry, { slug: 'film', table: cauchyTable(), fit: old }, 'ada');
+    expect((await reviewVersion(t.registry, ref)).blocking.map((b) => b.rule)).toEqual(['fit-not-converged']);
   });
 });
 
 /** The rule of the InputError `fn` throws. */
-function ruleOf(fn: () => unknown): string | undefined {
+async function ruleOf(fn: () => Promise<unknown>): Promise<string | undefined> {
   try {
-    fn();
+    await fn();
   } catch (err) {
     return (err as InputError).rule;
   }
@@ -155,14 +157,14 @@ function ruleOf(fn: () => unknown): string | undefined {
 }
 
 describe('approve with blocking findings', () => {
-  const auditCount = () => readAuditRows(t.registry).length;
+  const auditCount = async () => (await readAuditRows(t.registry)).length;
 
-  it('refuses without a reason: 409, rule, field, value, the review attached, nothing written', () => {
-    const ref = store({ kk: 'inconsistent' });
-    const before = auditCount();
+  it('refuses without a reason: 409, rule, field, value, the review attached, nothing written', async () => {
+    const ref = await store({ kk: 'inconsistent' });
+    const before = await auditCount();
     let err: InputError | undefined;
     try {
-      approve(t.registry, ref, 'bob');
+      await approve(t.registry, ref, 'bob');
     } catch (e) {
       err = e as InputError;
     }
@@ -179,20 +181,20 @@ describe('approve with blocking findings', () => {
     expect(err?.describe()).toMatch(
       /film@1 was not approved: the Kramers-Kronig check found n and k inconsistent.*--accept-warnings REASON \[approval-warnings-unaccepted\]/,
     );
-    expect(auditCount()).toBe(before);
-    expect(reviewVersion(t.registry, ref).status).toBe('draft');
+    expect(await auditCount()).toBe(before);
+    expect((await reviewVersion(t.registry, ref)).status).toBe('draft');
     // a blank reason is no reason
-    expect(ruleOf(() => approve(t.registry, ref, 'bob', { acceptWarnings: '  ' }))).toBe('reason-required');
+    expect(await ruleOf(() => approve(t.registry, ref, 'bob', { acceptWarnings: '  ' }))).toBe('reason-required');
   });
 
-  it('the two-person rule is checked before the findings', () => {
-    const ref = store({ kk: 'inconsistent' });
-    expect(ruleOf(() => approve(t.registry, ref, 'ada', { acceptWarnings: 'known artefact' }))).toBe('two-person-rule');
+  it('the two-person rule is checked before the findings', async () => {
+    const ref = await store({ kk: 'inconsistent' });
+    expect(await ruleOf(() => approve(t.registry, ref, 'ada', { acceptWarnings: 'known artefact' }))).toBe('two-person-rule');
   });
 
-  it('approves with a reason, records it in the hashed audit event, and the chain still verifies', () => {
-    const ref = store({ kk: 'inconsistent', converged: false });
-    const result = approve(t.registry, ref, 'bob', { acceptWarnings: '  bump at 750 nm is the known interface artefact ' });
+  it('approves with a reason, records it in the hashed audit event, and the chain still verifies', async () => {
+    const ref = await store({ kk: 'inconsistent', converged: false });
+    const result = await approve(t.registry, ref, 'bob', { acceptWarnings: '  bump at 750 nm is the known interface artefact ' });
     expect(result).toMatchObject({
       ref,
       status: 'approved',
@@ -200,51 +202,51 @@ describe('approve with blocking findings', () => {
       accepted_warnings: { reason: 'bump at 750 nm is the known interface artefact', findings: ['kk-inconsistent', 'fit-not-converged'] },
     });
     expect(result.review.blocking).toHaveLength(2);
-    const event = readAuditRows(t.registry).at(-1)!;
+    const event = (await readAuditRows(t.registry)).at(-1)!;
     expect(event.action).toBe('version.approve');
     expect(JSON.parse(event.detail).accepted_warnings).toEqual(result.accepted_warnings);
-    expect(verifyRegistry(t.registry).ok).toBe(true);
+    expect((await verifyRegistry(t.registry)).ok).toBe(true);
     // the reason is part of what the event's hash covers: another reason, another hash
     const edited = { ...event, detail: event.detail.replace('known interface', 'harmless') };
     expect(eventHash(edited)).not.toBe(event.hash);
     expect(eventHash(event)).toBe(event.hash);
   });
 
-  it('approves a version with nothing blocking without a reason, and records none', () => {
-    const ref = store({ kk: 'uninformative' });
-    const result = approve(t.registry, ref, 'bob');
+  it('approves a version with nothing blocking without a reason, and records none', async () => {
+    const ref = await store({ kk: 'uninformative' });
+    const result = await approve(t.registry, ref, 'bob');
     expect(result.accepted_warnings).toBeNull();
-    expect(JSON.parse(readAuditRows(t.registry).at(-1)!.detail)).not.toHaveProperty('accepted_warnings');
+    expect(JSON.parse((await readAuditRows(t.registry)).at(-1)!.detail)).not.toHaveProperty('accepted_warnings');
   });
 });
 
 describe('reviewQueue', () => {
-  it('lists the drafts a user may approve: not their own, only drafts, oldest first', () => {
-    const a = store({ kk: 'consistent', by: 'ada' });
-    const b = store({ kk: 'inconsistent', a: 1.5, by: 'bob' });
-    const c = store({ kk: 'consistent', a: 1.6, by: 'cy' });
-    approve(t.registry, c, 'ada');
-    const forBob = reviewQueue(t.registry, { user: 'Bob', role: null });
+  it('lists the drafts a user may approve: not their own, only drafts, oldest first', async () => {
+    const a = await store({ kk: 'consistent', by: 'ada' });
+    const b = await store({ kk: 'inconsistent', a: 1.5, by: 'bob' });
+    const c = await store({ kk: 'consistent', a: 1.6, by: 'cy' });
+    await approve(t.registry, c, 'ada');
+    const forBob = await reviewQueue(t.registry, { user: 'Bob', role: null });
     expect(forBob).toMatchObject({ user: 'Bob', may_approve: true, own_drafts: 1 });
     expect(forBob.drafts.map((d) => [d.ref, d.self, d.kk.verdict])).toEqual([[a, false, 'consistent']]);
-    expect(reviewQueue(t.registry, { user: 'cy', role: 'approver' }).drafts.map((d) => d.ref)).toEqual([a, b]);
+    expect((await reviewQueue(t.registry, { user: 'cy', role: 'approver' })).drafts.map((d) => d.ref)).toEqual([a, b]);
   });
 
-  it('is empty, saying why, for a role that cannot approve', () => {
-    store({});
-    expect(reviewQueue(t.registry, { user: 'eve', role: 'editor' })).toEqual({
+  it('is empty, saying why, for a role that cannot approve', async () => {
+    await store({});
+    expect(await reviewQueue(t.registry, { user: 'eve', role: 'editor' })).toEqual({
       user: 'eve',
       may_approve: false,
       reason: 'role editor cannot approve; approval needs role approver or admin',
       own_drafts: 0,
       drafts: [],
     });
-    expect(reviewQueue(t.registry, { user: 'root', role: 'admin' }).drafts).toHaveLength(1);
+    expect((await reviewQueue(t.registry, { user: 'root', role: 'admin' })).drafts).toHaveLength(1);
   });
 
-  it("includes the user's own drafts, marked, when self-approval is allowed", () => {
-    const ref = store({ by: 'ada' });
-    writeSetting(t.registry, 'allow_self_approval', true, 'ada');
-    expect(reviewQueue(t.registry, { user: 'ada', role: null }).drafts.map((d) => [d.ref, d.self])).toEqual([[ref, true]]);
+  it("includes the user's own drafts, marked, when self-approval is allowed", async () => {
+    const ref = await store({ by: 'ada' });
+    await writeSetting(t.registry, 'allow_self_approval', true, 'ada');
+    expect((await reviewQueue(t.registry, { user: 'ada', role: null })).drafts.map((d) => [d.ref, d.self])).toEqual([[ref, true]]);
   });
 });

@@ -20,8 +20,8 @@ import {
 import { cauchyTable, databaseAtMigration, tempRegistry, type TempRegistry } from './helpers.ts';
 
 let t: TempRegistry;
-beforeEach(() => {
-  t = tempRegistry();
+beforeEach(async () => {
+  t = await tempRegistry();
 });
 afterEach(() => t.cleanup());
 
@@ -33,7 +33,7 @@ const auditRows = (t: TempRegistry) =>
   }[];
 
 describe('settings', () => {
-  it('one catalogue holds the registry rule and the API settings, with defaults', () => {
+  it('one catalogue holds the registry rule and the API settings, with defaults', async () => {
     expect(SETTING_KEYS).toEqual([
       'allow_self_approval',
       'anonymous_reads',
@@ -44,7 +44,7 @@ describe('settings', () => {
       'token_lifetime',
       'writes',
     ]);
-    expect(readSettings(t.registry)).toEqual({
+    expect(await readSettings(t.registry)).toEqual({
       allow_self_approval: false,
       anonymous_reads: 'auto',
       cors_origins: [],
@@ -56,14 +56,14 @@ describe('settings', () => {
     });
   });
 
-  it('allow_self_approval set through the catalogue governs approval; set and reset are audited', () => {
-    createMaterial(t.registry, { slug: 'sio2-thermal', name: 'Thermal oxide' }, 'ada');
-    importVersion(t.registry, { slug: 'sio2-thermal', table: cauchyTable() }, 'ada');
-    expect(() => approve(t.registry, 'sio2-thermal@1', 'ada')).toThrow(/nkledger settings set allow_self_approval on/);
-    expect(writeSettingText(t.registry, 'allow_self_approval', 'on', 'ada').allow_self_approval).toBe(true);
-    expect(approve(t.registry, 'sio2-thermal@1', 'ada')).toMatchObject({ self_approved: true });
-    expect(resetSetting(t.registry, 'allow_self_approval', 'ada').allow_self_approval).toBe(false);
-    writeSetting(t.registry, 'max_nk_points', 500, 'root');
+  it('allow_self_approval set through the catalogue governs approval; set and reset are audited', async () => {
+    await createMaterial(t.registry, { slug: 'sio2-thermal', name: 'Thermal oxide' }, 'ada');
+    await importVersion(t.registry, { slug: 'sio2-thermal', table: cauchyTable() }, 'ada');
+    await expect(approve(t.registry, 'sio2-thermal@1', 'ada')).rejects.toThrow(/nkledger settings set allow_self_approval on/);
+    expect((await writeSettingText(t.registry, 'allow_self_approval', 'on', 'ada')).allow_self_approval).toBe(true);
+    expect(await approve(t.registry, 'sio2-thermal@1', 'ada')).toMatchObject({ self_approved: true });
+    expect((await resetSetting(t.registry, 'allow_self_approval', 'ada')).allow_self_approval).toBe(false);
+    await writeSetting(t.registry, 'max_nk_points', 500, 'root');
     expect(auditRows(t)).toEqual([
       { actor: 'ada', action: 'setting.set', detail: JSON.stringify({ key: 'allow_self_approval', value: true }) },
       { actor: 'ada', action: 'setting.reset', detail: JSON.stringify({ key: 'allow_self_approval' }) },
@@ -74,12 +74,12 @@ describe('settings', () => {
     expect(t.registry.sqlite.prepare("SELECT name FROM sqlite_master WHERE name = 'api_settings'").all()).toEqual([]);
   });
 
-  it('refuses values that do not fit, names the setting, and writes nothing', () => {
-    expect(() => writeSettingText(t.registry, 'allow_self_approval', 'maybe', 'ada')).toThrow(
+  it('refuses values that do not fit, names the setting, and writes nothing', async () => {
+    await expect(writeSettingText(t.registry, 'allow_self_approval', 'maybe', 'ada')).rejects.toThrow(
       /bad value for setting allow_self_approval: say on or off/,
     );
-    expect(() => writeSetting(t.registry, 'allow_self_approval', 'on', 'ada')).toThrow(/allow_self_approval/); // JSON API: a boolean
-    expect(() => writeSettingText(t.registry, 'self_approval', 'on', 'ada')).toThrow(
+    await expect(writeSetting(t.registry, 'allow_self_approval', 'on', 'ada')).rejects.toThrow(/allow_self_approval/); // JSON API: a boolean
+    await expect(writeSettingText(t.registry, 'self_approval', 'on', 'ada')).rejects.toThrow(
       /unknown setting "self_approval": known settings are allow_self_approval, /,
     );
     expect(auditRows(t)).toEqual([]);
@@ -93,7 +93,7 @@ describe('migration of a registry made before the settings were merged', () => {
   });
   afterEach(() => rmSync(dir, { recursive: true, force: true }));
 
-  it('carries the values of both old tables into registry_settings', () => {
+  it('carries the values of both old tables into registry_settings', async () => {
     // Only the migrations up to 0002 (the two-table layout).
     const path = join(dir, 'old.db');
     const sqlite = databaseAtMigration(dir, 'old.db', 2);
@@ -114,9 +114,9 @@ describe('migration of a registry made before the settings were merged', () => {
       .run();
     sqlite.close();
 
-    const registry = openRegistry(path);
+    const registry = await openRegistry(path);
     try {
-      expect(readSettings(registry)).toMatchObject({
+      expect(await readSettings(registry)).toMatchObject({
         allow_self_approval: true,
         cors_origins: ['https://design.example.org'],
         anonymous_reads: 'off',

@@ -12,8 +12,8 @@ import { startHarness, type ApiHarness } from '../api/harness.ts';
 import { cauchyTable, tempRegistryWithDraft, type TempRegistry } from './helpers.ts';
 
 let t: TempRegistry;
-beforeEach(() => {
-  t = tempRegistryWithDraft();
+beforeEach(async () => {
+  t = await tempRegistryWithDraft();
 });
 afterEach(() => t.cleanup());
 
@@ -26,14 +26,14 @@ describe('user names', () => {
     expect(checkActor('ａｄａ')).toBe('ada'); // stored in NFKC form
   });
 
-  it('the creator cannot approve as ADA or ａｄａ', () => {
+  it('the creator cannot approve as ADA or ａｄａ', async () => {
     for (const alias of ['ADA', 'Ada', 'ａｄａ', ' ada ']) {
-      expect(() => approve(t.registry, 'film@1', alias), alias).toThrow(/cannot also approve it/);
+      await expect(approve(t.registry, 'film@1', alias), alias).rejects.toThrow(/cannot also approve it/);
     }
-    expect(approve(t.registry, 'film@1', 'bob').approved_by).toBe('bob');
+    expect((await approve(t.registry, 'film@1', 'bob')).approved_by).toBe('bob');
   });
 
-  it('refuses look-alike and invisible names, for tokens and for any acting name', () => {
+  it('refuses look-alike and invisible names, for tokens and for any acting name', async () => {
     const cases: [string, RegExp][] = [
       ['\u0430da', /mixes letters of the Cyrillic and Latin scripts/], // Cyrillic а + Latin da
       ['ada\u200b', /invisible or control character U\+200B/], // zero-width space
@@ -42,8 +42,8 @@ describe('user names', () => {
       ['ad\u0007a', /U\+0007/],
     ];
     for (const [name, why] of cases) {
-      expect(() => createToken(t.registry, { user: name, role: 'approver', createdBy: 'root' }), JSON.stringify(name)).toThrow(why);
-      expect(() => approve(t.registry, 'film@1', name), JSON.stringify(name)).toThrow(InputError);
+      await expect(createToken(t.registry, { user: name, role: 'approver', createdBy: 'root' }), JSON.stringify(name)).rejects.toThrow(why);
+      await expect(approve(t.registry, 'film@1', name), JSON.stringify(name)).rejects.toThrow(InputError);
     }
     // Single-script names of any script, and the conventional Japanese mix, are fine.
     for (const name of ['Ада Лавлейс', 'Ada Lovelace', 'Ἀθηνᾶ', '山田 たろう', 'Jean-Luc O\u2019Neil'])
@@ -59,9 +59,9 @@ describe('over HTTP', () => {
   afterEach(() => h.stop());
 
   it("an approver token made for the creator's name in capitals cannot approve the creator's draft; look-alike tokens cannot be made", async () => {
-    createMaterial(h.registry, { slug: 'sin', name: 'SiN' }, 'lab-editor');
-    importVersion(h.registry, { slug: 'sin', table: cauchyTable(1.9) }, 'lab-editor');
-    const upper = createToken(h.registry, { user: 'LAB-EDITOR', role: 'approver', createdBy: 'root' }).token;
+    await createMaterial(h.registry, { slug: 'sin', name: 'SiN' }, 'lab-editor');
+    await importVersion(h.registry, { slug: 'sin', table: cauchyTable(1.9) }, 'lab-editor');
+    const upper = (await createToken(h.registry, { user: 'LAB-EDITOR', role: 'approver', createdBy: 'root' })).token;
     const res = await h.request('/api/v1/materials/sin/versions/1/approve', { method: 'POST', token: upper });
     expect(res.status).toBe(409);
     expect((await res.json()).rule).toBe('two-person-rule');

@@ -10,12 +10,12 @@ import { contentOf, findMaterial, findVersion, verifiedContentOf } from '../../s
 import { tempRegistryWithDraft, type TempRegistry } from './helpers.ts';
 
 let t: TempRegistry;
-beforeEach(() => {
-  t = tempRegistryWithDraft();
+beforeEach(async () => {
+  t = await tempRegistryWithDraft();
 });
 afterEach(() => t.cleanup());
 
-const row = () => findVersion(t.registry, findMaterial(t.registry, 'film'), 1);
+const row = async () => await findVersion(t.registry, await findMaterial(t.registry, 'film'), 1);
 
 /** Rewrite the stored content text, as someone with sqlite3 could after dropping the immutability trigger. */
 function rewrite(text: string): void {
@@ -24,22 +24,23 @@ function rewrite(text: string): void {
 }
 
 describe('verified content', () => {
-  it('is stored as its canonical JSON and served as it was stored', () => {
-    const stored = row();
+  it('is stored as its canonical JSON and served as it was stored', async () => {
+    const stored = await row();
     expect(stored.content).toBe(canonicalJson(contentOf(stored)));
     expect(verifiedContentOf(stored, 'film@1')).toEqual(contentOf(stored));
   });
 
-  it('rewritten with the same meaning in other JSON text: still recognised', () => {
-    const content = contentOf(row());
+  it('rewritten with the same meaning in other JSON text: still recognised', async () => {
+    const content = contentOf(await row());
     rewrite(JSON.stringify(content, null, 2));
-    expect(verifiedContentOf(row(), 'film@1')).toEqual(content);
+    expect(verifiedContentOf(await row(), 'film@1')).toEqual(content);
   });
 
-  it('changed outside nkledger: refused', () => {
-    const content = contentOf(row());
+  it('changed outside nkledger: refused', async () => {
+    const content = contentOf(await row());
     content.table!.n[0] += 1e-6;
     rewrite(canonicalJson(content));
-    expect(() => verifiedContentOf(row(), 'film@1')).toThrow(IntegrityError);
+    const changed = await row();
+    expect(() => verifiedContentOf(changed, 'film@1')).toThrow(IntegrityError);
   });
 });

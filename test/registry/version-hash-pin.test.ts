@@ -23,8 +23,8 @@ const pins = JSON.parse(readFileSync(new URL('../reference/version-hash-pins.jso
 
 describe('version SHA-256 pinned per hashed layout (reference: Python json + hashlib, scripts/make-version-hash-pins.py)', () => {
   let t: TempRegistry;
-  beforeEach(() => {
-    t = tempRegistry();
+  beforeEach(async () => {
+    t = await tempRegistry();
   });
   afterEach(() => t.cleanup());
 
@@ -33,15 +33,15 @@ describe('version SHA-256 pinned per hashed layout (reference: Python json + has
     for (const pin of Object.values(pins)) expect(pin.sha256).toMatch(/^[0-9a-f]{64}$/);
   });
 
-  it(`layout ${VERSION_HASH_LAYOUT}: importing the pinned table and provenance stores the pinned hash, and reading re-verifies it`, () => {
+  it(`layout ${VERSION_HASH_LAYOUT}: importing the pinned table and provenance stores the pinned hash, and reading re-verifies it`, async () => {
     const pin = pins[String(VERSION_HASH_LAYOUT)];
     expect(Object.values(pin.provenance).every((v) => v !== null)).toBe(true); // every field present, so each one counts
-    createMaterial(t.registry, { slug: 'mgf2-ebeam', name: 'MgF2, e-beam' }, 'ada');
-    const imported = importVersion(t.registry, { slug: 'mgf2-ebeam', table: pin.table, provenance: pin.provenance }, 'ada');
+    await createMaterial(t.registry, { slug: 'mgf2-ebeam', name: 'MgF2, e-beam' }, 'ada');
+    const imported = await importVersion(t.registry, { slug: 'mgf2-ebeam', table: pin.table, provenance: pin.provenance }, 'ada');
     expect(imported.sha256).toBe(pin.sha256);
-    const shown = showVersion(t.registry, imported.ref);
+    const shown = await showVersion(t.registry, imported.ref);
     expect(shown.sha256).toBe(pin.sha256);
-    expect(verifyRegistry(t.registry)).toMatchObject({ ok: true, checked_versions: 1, mismatches: [] });
+    expect(await verifyRegistry(t.registry)).toMatchObject({ ok: true, checked_versions: 1, mismatches: [] });
   });
 
   it('the pin moves when any hashed field does (so the pin is what protects the layout)', () => {

@@ -42,8 +42,8 @@ function startWriter(seed: number) {
 }
 
 /** Every version committed now: ref → sha256 (one read transaction). */
-function committedVersions(): Map<string, string> {
-  const r = openRegistry(db);
+async function committedVersions(): Promise<Map<string, string>> {
+  const r = await openRegistry(db);
   try {
     const rows = r.sqlite
       .prepare("SELECT m.slug || '@' || v.number AS ref, v.sha256 FROM material_versions v JOIN materials m ON m.id = v.material_id")
@@ -54,8 +54,8 @@ function committedVersions(): Map<string, string> {
   }
 }
 
-function expectHolds(backupFile: string, before: Map<string, string>): number {
-  const { problems, versions } = checkRegistryFile(backupFile);
+async function expectHolds(backupFile: string, before: Map<string, string>): Promise<number> {
+  const { problems, versions } = await checkRegistryFile(backupFile);
   expect(problems, backupFile).toEqual([]);
   for (const [ref, sha] of before) expect(versions.get(ref)?.sha256, `${ref} in ${backupFile}`).toBe(sha);
   return versions.size;
@@ -69,26 +69,26 @@ describe('backup while two processes keep writing', { timeout: 120_000 }, () => 
     const second = startWriter(202);
     await second.ready;
     const sizes: number[] = [];
-    while (committedVersions().size < MIN_VERSIONS) await new Promise((r) => setTimeout(r, 100));
+    while ((await committedVersions()).size < MIN_VERSIONS) await new Promise((r) => setTimeout(r, 100));
     try {
       for (let i = 0; i < BACKUPS.service; i++) {
         await new Promise((r) => setTimeout(r, 150));
-        const before = committedVersions();
+        const before = await committedVersions();
         const file = join(dir, `service-${i}.db`);
-        const live = openRegistry(db);
+        const live = await openRegistry(db);
         try {
           await backup(live, file);
         } finally {
           live.close();
         }
-        sizes.push(expectHolds(file, before));
+        sizes.push(await expectHolds(file, before));
       }
       for (let i = 0; i < BACKUPS.cli; i++) {
-        const before = committedVersions();
+        const before = await committedVersions();
         const file = join(dir, `cli-${i}.db`);
         const r = await cli(['backup', file, '--json', '--db', db], 'backup-operator');
         expect(r.code, r.err).toBe(0);
-        sizes.push(expectHolds(file, before));
+        sizes.push(await expectHolds(file, before));
       }
       // And the CLI's own verify agrees (on the last one; expectHolds ran verifyRegistry on all of them).
       const v = await cli(['verify', '--db', join(dir, `cli-${BACKUPS.cli - 1}.db`), '--json'], 'backup-operator');
@@ -102,7 +102,7 @@ describe('backup while two processes keep writing', { timeout: 120_000 }, () => 
     }
     expect(first.stderr() + second.stderr()).toBe('');
     console.log(
-      `backup: ${sizes.length} backups under 2 writers (${sizes.join(', ')} versions each), live file ${committedVersions().size} versions after`,
+      `backup: ${sizes.length} backups under 2 writers (${sizes.join(', ')} versions each), live file ${(await committedVersions()).size} versions after`,
     );
   });
 
@@ -110,21 +110,21 @@ describe('backup while two processes keep writing', { timeout: 120_000 }, () => 
     // SQLite restarts an online backup whose source another connection changed between steps; copied in
     // 100-page steps (better-sqlite3's default), a registry written to steadily was never backed up.
     const file = join(dir, 'steady.db');
-    const source = openRegistry(file);
-    const writer = openRegistry(file);
+    const source = await openRegistry(file);
+    const writer = await openRegistry(file);
     try {
-      createMaterial(writer, { slug: 'steady', name: 'Steady writes' }, 'ada');
+      await createMaterial(writer, { slug: 'steady', name: 'Steady writes' }, 'ada');
       const big = (i: number) => ({
         wavelengthNm: Array.from({ length: 400 }, (_, j) => 300 + j),
         n: Array.from({ length: 400 }, (_, j) => 1.5 + i * 1e-6 + j * 1e-5),
         k: Array.from({ length: 400 }, () => 0),
       });
-      for (let i = 0; i < 60; i++) importVersion(writer, { slug: 'steady', table: big(i) }, 'ada');
+      for (let i = 0; i < 60; i++) await importVersion(writer, { slug: 'steady', table: big(i) }, 'ada');
       let writes = 60;
       let copying = true;
-      const writeBetweenSteps = () => {
+      const writeBetweenSteps = async () => {
         if (!copying) return;
-        importVersion(writer, { slug: 'steady', table: big(++writes) }, 'ada');
+        await importVersion(writer, { slug: 'steady', table: big(++writes) }, 'ada');
         setImmediate(writeBetweenSteps);
       };
       setImmediate(writeBetweenSteps);
@@ -135,23 +135,23 @@ describe('backup while two processes keep writing', { timeout: 120_000 }, () => 
       ]);
       copying = false;
       expect(outcome).toBe('done');
-      expect(expectHolds(target, new Map())).toBeGreaterThanOrEqual(60);
+      expect(await expectHolds(target, new Map())).toBeGreaterThanOrEqual(60);
     } finally {
       source.close();
       writer.close();
     }
   });
 
-  it('restore = copy the backup file to the database path; the restored registry verifies and takes new versions', () => {
+  it('restore = copy the backup file to the database path; the restored registry verifies and takes new versions', async () => {
     const restored = join(dir, 'restored.db');
     copyFileSync(join(dir, `cli-${BACKUPS.cli - 1}.db`), restored);
-    const r = openRegistry(restored);
+    const r = await openRegistry(restored);
     try {
-      expect(verifyRegistry(r).ok).toBe(true);
-      createMaterial(r, { slug: 'after-restore', name: 'Written after the restore' }, 'ada');
-      const v = importVersion(r, { slug: 'after-restore', table: { wavelengthNm: [400, 500], n: [1.5, 1.49], k: [0, 0] } }, 'ada');
+      expect((await verifyRegistry(r)).ok).toBe(true);
+      await createMaterial(r, { slug: 'after-restore', name: 'Written after the restore' }, 'ada');
+      const v = await importVersion(r, { slug: 'after-restore', table: { wavelengthNm: [400, 500], n: [1.5, 1.49], k: [0, 0] } }, 'ada');
       expect(v.ref).toBe('after-restore@1');
-      expect(verifyRegistry(r).ok).toBe(true);
+      expect((await verifyRegistry(r)).ok).toBe(true);
     } finally {
       r.close();
     }

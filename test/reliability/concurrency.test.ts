@@ -29,10 +29,10 @@ afterAll(() => rmSync(dir, { recursive: true, force: true }));
 
 describe('processes and HTTP clients on one registry at once', { timeout: 120_000 }, () => {
   it(`for ${DURATION_MS / 1000} s: no lost write, no duplicate number, no "database is locked", no half-written read`, async () => {
-    const setup = openRegistry(db);
-    for (const slug of MATERIALS) createMaterial(setup, { slug, name: `Concurrency ${slug}` }, 'setup');
-    const editor = createToken(setup, { user: 'http-editor', role: 'editor', createdBy: 'setup' }).token;
-    const approver = createToken(setup, { user: 'http-approver', role: 'approver', createdBy: 'setup' }).token;
+    const setup = await openRegistry(db);
+    for (const slug of MATERIALS) await createMaterial(setup, { slug, name: `Concurrency ${slug}` }, 'setup');
+    const editor = (await createToken(setup, { user: 'http-editor', role: 'editor', createdBy: 'setup' })).token;
+    const approver = (await createToken(setup, { user: 'http-approver', role: 'approver', createdBy: 'setup' })).token;
     setup.close();
     const server = await serve(db);
 
@@ -155,7 +155,7 @@ describe('processes and HTTP clients on one registry at once', { timeout: 120_00
     expect(server.stderr()).not.toMatch(/internal error/);
     expect(failures).toEqual([]);
 
-    const { problems, versions } = checkRegistryFile(db);
+    const { problems, versions } = await checkRegistryFile(db);
     expect(problems).toEqual([]);
     for (const [ref, sha] of imported) expect(versions.get(ref)?.sha256, ref).toBe(sha);
     for (const ref of approvedRefs) expect(versions.get(ref)?.status, ref).toBe('approved');

@@ -50,10 +50,10 @@ async function main(): Promise<void> {
     createInterface({ input: process.stdin }).on('line', (line) => line.trim() === 'go' && resolve());
   });
 
-  const registry = openRegistry(db);
+  const registry = await openRegistry(db);
   for (const slug of SLUGS) {
     try {
-      createMaterial(registry, { slug, name: `Crash test ${slug}` }, 'writer');
+      await createMaterial(registry, { slug, name: `Crash test ${slug}` }, 'writer');
       say(`material ${slug}`);
     } catch (err) {
       if (!(err instanceof ConflictError)) throw err;
@@ -67,22 +67,22 @@ async function main(): Promise<void> {
     if (pauseMs > 0) await new Promise((r) => setTimeout(r, pauseMs));
     else if (i % 20 === 19) await new Promise((r) => setImmediate(r));
     const slug = SLUGS[Math.floor(random() * SLUGS.length)];
-    const v = importVersion(registry, { slug, table: table(), provenance: { notes: `writer seed ${seedText}` } }, 'writer');
+    const v = await importVersion(registry, { slug, table: table(), provenance: { notes: `writer seed ${seedText}` } }, 'writer');
     say(`import ${v.ref} ${v.sha256}`);
     drafts.push(v.ref);
     const r = random();
     if (r < 0.4 && drafts.length > 0) {
       const ref = drafts.shift()!;
-      approve(registry, ref, 'approver');
+      await approve(registry, ref, 'approver');
       say(`approve ${ref}`);
       approved.push(ref);
     } else if (r < 0.5 && drafts.length > 0) {
       const ref = drafts.shift()!;
-      withdraw(registry, ref, 'writer', 'crash test');
+      await withdraw(registry, ref, 'writer', 'crash test');
       say(`withdraw ${ref}`);
     } else if (r < 0.6 && approved.length > 0) {
       const ref = approved.shift()!;
-      retire(registry, ref, 'superseded in the crash test', 'approver');
+      await retire(registry, ref, 'superseded in the crash test', 'approver');
       say(`retire ${ref}`);
     }
   }

@@ -102,7 +102,7 @@ describe('SIGKILL in the middle of a stream of writes', { timeout: 120_000 }, ()
         else if (what === 'withdraw') state.set(ref, 'withdrawn');
       }
 
-      const { problems, versions } = checkRegistryFile(db);
+      const { problems, versions } = await checkRegistryFile(db);
       expect(problems, `after kill ${kill}`).toEqual([]);
       // Versions committed but killed before the writer could print them: the kill hit right at a commit.
       unacknowledged = [...versions.keys()].filter((ref) => !acknowledged.has(ref)).length;
@@ -117,7 +117,7 @@ describe('SIGKILL in the middle of a stream of writes', { timeout: 120_000 }, ()
         else expect(want).toBe('draft');
       }
     }
-    const versionsTotal = checkRegistryFile(db).versions.size;
+    const versionsTotal = (await checkRegistryFile(db)).versions.size;
     console.log(
       `crash test: ${KILLS} kills (${killsWhileOpening} while opening), ${acknowledged.size} acknowledged imports, all present; ${unacknowledged} more committed without acknowledgement; ${versionsTotal} versions`,
     );

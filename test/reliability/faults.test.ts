@@ -62,13 +62,13 @@ function copyOf(name: string): string {
   return path;
 }
 
-beforeAll(() => {
-  const registry = openRegistry(base);
-  createMaterial(registry, { slug: 'film', name: 'Film' }, 'ada');
-  for (let i = 0; i < 20; i++) importVersion(registry, { slug: 'film', table: cauchyTable(1.4 + i / 100) }, 'ada');
-  approve(registry, 'film@1', 'bob');
-  approver = { authorization: `Bearer ${createToken(registry, { user: 'bob', role: 'approver', createdBy: 'root' }).token}` };
-  editor = { authorization: `Bearer ${createToken(registry, { user: 'eve', role: 'editor', createdBy: 'root' }).token}` };
+beforeAll(async () => {
+  const registry = await openRegistry(base);
+  await createMaterial(registry, { slug: 'film', name: 'Film' }, 'ada');
+  for (let i = 0; i < 20; i++) await importVersion(registry, { slug: 'film', table: cauchyTable(1.4 + i / 100) }, 'ada');
+  await approve(registry, 'film@1', 'bob');
+  approver = { authorization: `Bearer ${(await createToken(registry, { user: 'bob', role: 'approver', createdBy: 'root' })).token}` };
+  editor = { authorization: `Bearer ${(await createToken(registry, { user: 'eve', role: 'editor', createdBy: 'root' })).token}` };
   registry.sqlite.pragma('wal_checkpoint(TRUNCATE)');
   registry.sqlite.pragma('journal_mode = DELETE');
   registry.close();
@@ -81,16 +81,16 @@ const bigTable = () => {
 };
 
 describe('a full disk (SQLITE_FULL)', () => {
-  it('refuses the write as an environment fault, writes nothing, and the registry stays whole', () => {
+  it('refuses the write as an environment fault, writes nothing, and the registry stays whole', async () => {
     const path = copyOf('full.db');
-    const registry = openRegistry(path);
+    const registry = await openRegistry(path);
     try {
       const pages = (registry.sqlite.pragma('page_count') as { page_count: number }[])[0].page_count;
       registry.sqlite.pragma(`max_page_count = ${pages}`);
       const before = registry.sqlite.prepare('SELECT (SELECT count(*) FROM material_versions) v, (SELECT count(*) FROM audit_log) a').get();
       let thrown: unknown;
       try {
-        importVersion(registry, { slug: 'film', table: bigTable() }, 'ada');
+        await importVersion(registry, { slug: 'film', table: bigTable() }, 'ada');
       } catch (err) {
         thrown = err;
       }
@@ -98,7 +98,7 @@ describe('a full disk (SQLITE_FULL)', () => {
       expect(thrown).toMatchObject({ rule: 'registry-disk-full', status: 507 });
       expect((thrown as Error).message).toMatch(/full.*nothing was written/);
       expect(registry.sqlite.prepare('SELECT (SELECT count(*) FROM material_versions) v, (SELECT count(*) FROM audit_log) a').get()).toEqual(before);
-      expect(verifyRegistry(registry).ok).toBe(true);
+      expect((await verifyRegistry(registry)).ok).toBe(true);
     } finally {
       registry.close();
     }
@@ -106,7 +106,7 @@ describe('a full disk (SQLITE_FULL)', () => {
 
   it('is answered 507 with its own problem type over HTTP, logged as one line, not as an internal error', async () => {
     const path = copyOf('full-api.db');
-    const registry = openRegistry(path);
+    const registry = await openRegistry(path);
     const logged: string[] = [];
     const server = await startServer({
       registry,
@@ -139,17 +139,17 @@ describe('a full disk (SQLITE_FULL)', () => {
 });
 
 describe('a read-only registry file', () => {
-  it('serves reads and refuses writes clearly (opened read-only: no WAL switch, no migration)', () => {
+  it('serves reads and refuses writes clearly (opened read-only: no WAL switch, no migration)', async () => {
     const path = copyOf('ro-service.db');
     const bytes = readFileSync(path);
-    const registry = openRegistry(path, { readonly: true });
+    const registry = await openRegistry(path, { readonly: true });
     try {
       expect(registry.readonly).toBe(true);
-      expect(listMaterials(registry).map((m) => m.slug)).toEqual(['film']);
-      expect(showVersion(registry, 'film@1').status).toBe('approved');
-      expect(verifyRegistry(registry).ok).toBe(true);
-      expect(() => approve(registry, 'film@2', 'bob')).toThrow(/open read-only.*nothing was written/);
-      expect(() => approve(registry, 'film@2', 'bob')).toThrow(EnvironmentError);
+      expect((await listMaterials(registry)).map((m) => m.slug)).toEqual(['film']);
+      expect((await showVersion(registry, 'film@1')).status).toBe('approved');
+      expect((await verifyRegistry(registry)).ok).toBe(true);
+      await expect(approve(registry, 'film@2', 'bob')).rejects.toThrow(/open read-only.*nothing was written/);
+      await expect(approve(registry, 'film@2', 'bob')).rejects.toThrow(EnvironmentError);
     } finally {
       registry.close();
     }
@@ -221,7 +221,7 @@ describe('a read-only registry file', () => {
   });
 
   it('over HTTP: reads 200, writes 503 registry-read-only', async () => {
-    const registry = openRegistry(copyOf('ro-api.db'), { readonly: true });
+    const registry = await openRegistry(copyOf('ro-api.db'), { readonly: true });
     const server = await startServer({ registry, host: '127.0.0.1', port: 0, logEnvironment: () => {} });
     try {
       expect((await fetch(`${server.url}/api/v1/materials/film/versions/1`)).status).toBe(200);
@@ -287,7 +287,7 @@ describe('a corrupted database file', () => {
 describe('a registry file removed or replaced under a running server', () => {
   it('refuses writes with a clear problem and logs it; the path is served again after a restart', async () => {
     const path = copyOf('replaced.db');
-    const registry = openRegistry(path);
+    const registry = await openRegistry(path);
     const logged: string[] = [];
     const server = await startServer({ registry, host: '127.0.0.1', port: 0, logEnvironment: (f) => logged.push(f.describe()) });
     const withdraw = (n: number) => fetch(`${server.url}/api/v1/materials/film/versions/${n}/withdraw`, { method: 'POST', headers: approver });
@@ -311,14 +311,14 @@ describe('a registry file removed or replaced under a running server', () => {
     }
   });
 
-  it('at the service level, before each write (one stat of the path)', () => {
+  it('at the service level, before each write (one stat of the path)', async () => {
     const path = copyOf('moved.db');
-    const registry = openRegistry(path);
+    const registry = await openRegistry(path);
     try {
       renameSync(path, `${path}.moved`);
-      expect(() => approve(registry, 'film@2', 'bob')).toThrow(expect.objectContaining({ rule: 'registry-replaced' }));
+      await expect(approve(registry, 'film@2', 'bob')).rejects.toThrow(expect.objectContaining({ rule: 'registry-replaced' }));
       renameSync(`${path}.moved`, path); // back under its name: the same file again, writes resume
-      expect(approve(registry, 'film@2', 'bob').status).toBe('approved');
+      expect((await approve(registry, 'film@2', 'bob')).status).toBe('approved');
     } finally {
       registry.close();
     }

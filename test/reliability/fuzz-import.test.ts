@@ -13,7 +13,17 @@ import { parseNkTable, type ImportResult } from '../../src/io/parse-table.ts';
 import { createMaterial, importMeasurement, showVersion } from '../../src/service/registry.ts';
 import { tempRegistry, type TempRegistry } from '../registry/helpers.ts';
 import { snapshotCounts, startHarness, type ApiHarness } from '../api/harness.ts';
-import { checkImportOutcome, checkTable, CORPUS, lineCountOf, mutate, mutationArb, reencode, reencodingArb } from './mutations.ts';
+import {
+  checkImportOutcome,
+  checkImportOutcomeAsync,
+  checkTable,
+  CORPUS,
+  lineCountOf,
+  mutate,
+  mutationArb,
+  reencode,
+  reencodingArb,
+} from './mutations.ts';
 
 /** Case counts (≥ 10,000 in total, as the issue asks); the seeds make every run the same. */
 export const FUZZ_CASES = { parse: 9000, reencode: 1500, service: 300, http: 200 } as const;
@@ -81,24 +91,24 @@ function counts(reg: TempRegistry): Record<string, number> {
 
 describe('fuzzed import through the service into a registry', () => {
   let reg: TempRegistry;
-  beforeAll(() => {
-    reg = tempRegistry();
-    createMaterial(reg.registry, { slug: 'fuzz', name: 'Fuzz target' }, 'fuzzer');
+  beforeAll(async () => {
+    reg = await tempRegistry();
+    await createMaterial(reg.registry, { slug: 'fuzz', name: 'Fuzz target' }, 'fuzzer');
   });
   afterAll(() => reg.cleanup());
 
-  it(`${FUZZ_CASES.service} damaged uploads: stored as one version each, or refused with nothing written`, () => {
+  it(`${FUZZ_CASES.service} damaged uploads: stored as one version each, or refused with nothing written`, async () => {
     const t = tally();
     let stored = 0;
-    fc.assert(
-      fc.property(damaged, fc.boolean(), (c, kk) => {
+    await fc.assert(
+      fc.asyncProperty(damaged, fc.boolean(), async (c, kk) => {
         const bytes = apply(c);
         const before = counts(reg);
-        const outcome = checkImportOutcome(
-          () => {
-            const r = importMeasurement(reg.registry, { slug: 'fuzz', bytes, file: FILE, kk }, 'fuzzer');
+        const outcome = await checkImportOutcomeAsync(
+          async () => {
+            const r = await importMeasurement(reg.registry, { slug: 'fuzz', bytes, file: FILE, kk }, 'fuzzer');
             // What the registry now serves for that version must be a correct table.
-            return { table: showVersion(reg.registry, r.ref).content.table! } as ImportResult;
+            return { table: (await showVersion(reg.registry, r.ref)).content.table! } as ImportResult;
           },
           FILE,
           lineCountOf(bytes),
@@ -126,7 +136,7 @@ describe('fuzzed upload through HTTP (POST /api/v1/materials/{slug}/versions)', 
   let h: ApiHarness;
   beforeAll(async () => {
     h = await startHarness();
-    createMaterial(h.registry, { slug: 'fuzz-http', name: 'Fuzz target' }, 'fuzzer');
+    await createMaterial(h.registry, { slug: 'fuzz-http', name: 'Fuzz target' }, 'fuzzer');
   });
   afterAll(() => h.stop());
 

@@ -27,8 +27,8 @@ let tableNames: string[];
 beforeAll(async () => {
   h = await startHarness();
   // One row in every table, so a dropped or emptied table would show.
-  createMaterial(h.registry, { slug: 'seed', name: 'Seed' }, 'setup');
-  importVersion(h.registry, { slug: 'seed', table: cauchyTable(1.3) }, 'setup');
+  await createMaterial(h.registry, { slug: 'seed', name: 'Seed' }, 'setup');
+  await importVersion(h.registry, { slug: 'seed', table: cauchyTable(1.3) }, 'setup');
   tableNames = (h.registry.sqlite.prepare("SELECT name FROM sqlite_master WHERE type = 'table' ORDER BY name").all() as { name: string }[]).map(
     (t) => t.name,
   );
@@ -36,13 +36,13 @@ beforeAll(async () => {
 afterAll(() => h.stop());
 
 /** The schema is intact, the triggers are all there and every hash verifies. */
-function expectNothingExecuted(): void {
+async function expectNothingExecuted(): Promise<void> {
   const now = (h.registry.sqlite.prepare("SELECT name FROM sqlite_master WHERE type = 'table' ORDER BY name").all() as { name: string }[]).map(
     (t) => t.name,
   );
   expect(now).toEqual(tableNames);
   for (const t of TABLES) expect(h.count(t)).toBeGreaterThan(0);
-  expect(verifyRegistry(h.registry)).toMatchObject({ ok: true, missing_triggers: [] });
+  expect(await verifyRegistry(h.registry)).toMatchObject({ ok: true, missing_triggers: [] });
 }
 
 /** A refusal is a 4xx problem document. */
@@ -72,11 +72,11 @@ describe('SQL-looking and path-looking input over HTTP', { timeout: 60_000 }, ()
       const found = await (await h.request(`/api/v1/materials?q=${encodeURIComponent(value)}`)).json();
       expect(found.materials.map((m: { slug: string }) => m.slug)).toContain(slug);
     }
-    expectNothingExecuted();
+    await expectNothingExecuted();
   });
 
   it('every provenance field and the upload file name: stored verbatim (file names as their last path component) or refused', async () => {
-    createMaterial(h.registry, { slug: 'inj-upload', name: 'Upload target' }, 'setup');
+    await createMaterial(h.registry, { slug: 'inj-upload', name: 'Upload target' }, 'setup');
     const fields = ['sample', 'substrate', 'process', 'instrument', 'operator', 'notes', 'method', 'measured_on', 'angles_deg'];
     let a = 1.5;
     for (const value of NASTY) {
@@ -87,7 +87,7 @@ describe('SQL-looking and path-looking input over HTTP', { timeout: 60_000 }, ()
       const res = await h.request('/api/v1/materials/inj-upload/versions', { method: 'POST', body: form, as: 'editor' });
       expect(res.status, await res.clone().text()).toBe(201);
       const { ref } = await res.json();
-      const v = showVersion(h.registry, ref);
+      const v = await showVersion(h.registry, ref);
       for (const f of fields.slice(0, 6)) expect(v.provenance[f as 'sample']).toBe(value);
       expect(v.provenance.source_file).toBe(`${value}.csv`.split(/[\\/]/).pop());
       // Structured fields refuse free text (a method name, an ISO date, a list of angles).
@@ -98,18 +98,18 @@ describe('SQL-looking and path-looking input over HTTP', { timeout: 60_000 }, ()
         await expectRefused(await h.request('/api/v1/materials/inj-upload/versions', { method: 'POST', body: bad, as: 'editor' }));
       }
     }
-    expectNothingExecuted();
+    await expectNothingExecuted();
   });
 
   it('retire and withdraw reasons and token user names: stored verbatim', async () => {
-    createMaterial(h.registry, { slug: 'inj-life', name: 'Lifecycle target' }, 'setup');
+    await createMaterial(h.registry, { slug: 'inj-life', name: 'Lifecycle target' }, 'setup');
     let i = 0;
     for (const value of NASTY) {
       const made = await h.request('/api/v1/tokens', { ...json({ user: value, role: 'approver' }), as: 'admin' });
       expect(made.status, await made.clone().text()).toBe(201);
       const token = (await made.json()).token as string;
-      const a = importVersion(h.registry, { slug: 'inj-life', table: cauchyTable(1.4 + ++i / 1000) }, 'setup').version;
-      const b = importVersion(h.registry, { slug: 'inj-life', table: cauchyTable(1.4 + ++i / 1000) }, 'setup').version;
+      const a = (await importVersion(h.registry, { slug: 'inj-life', table: cauchyTable(1.4 + ++i / 1000) }, 'setup')).version;
+      const b = (await importVersion(h.registry, { slug: 'inj-life', table: cauchyTable(1.4 + ++i / 1000) }, 'setup')).version;
       const approved = await h.request(`/api/v1/materials/inj-life/versions/${a}/approve`, { method: 'POST', token });
       expect(approved.status).toBe(200);
       expect((await approved.json()).approved_by).toBe(value);
@@ -118,9 +118,9 @@ describe('SQL-looking and path-looking input over HTTP', { timeout: 60_000 }, ()
       const withdrawn = await h.request(`/api/v1/materials/inj-life/versions/${b}/withdraw`, { ...json({ reason: value }), token });
       expect(await withdrawn.json()).toMatchObject({ status: 'withdrawn', withdraw_reason: value, withdrawn_by: value });
     }
-    const actors = new Set(history(h.registry, 'inj-life').audit.map((e: { actor: string }) => e.actor));
+    const actors = new Set((await history(h.registry, 'inj-life')).audit.map((e: { actor: string }) => e.actor));
     for (const value of NASTY) expect(actors.has(value)).toBe(true);
-    expectNothingExecuted();
+    await expectNothingExecuted();
   });
 
   it('path-looking and SQL-looking slugs and version numbers in URLs: refused with a 4xx problem', async () => {
@@ -138,7 +138,7 @@ describe('SQL-looking and path-looking input over HTTP', { timeout: 60_000 }, ()
         }),
       );
     }
-    expectNothingExecuted();
+    await expectNothingExecuted();
   });
 });
 
@@ -147,7 +147,7 @@ describe('SQL-looking and path-looking input through the CLI', { timeout: 60_000
   afterAll(() => rmSync(dir, { recursive: true, force: true }));
 
   it('--as, --note and --meta values are stored verbatim; nothing is written at a path-looking value', async () => {
-    createMaterial(h.registry, { slug: 'inj-cli', name: 'CLI target' }, 'setup');
+    await createMaterial(h.registry, { slug: 'inj-cli', name: 'CLI target' }, 'setup');
     const file = join(dir, 'table.csv');
     writeFileSync(file, tableCsv(1.77));
     const who = SQL[0];
@@ -173,9 +173,9 @@ describe('SQL-looking and path-looking input through the CLI', { timeout: 60_000
       'ignored',
     );
     expect(r.code, r.err).toBe(0);
-    const v = showVersion(h.registry, JSON.parse(r.out).ref);
+    const v = await showVersion(h.registry, JSON.parse(r.out).ref);
     expect(v).toMatchObject({ created_by: who, provenance: { notes: SQL[2], sample: PATHS[0], operator: SQL[1], instrument: join(dir, 'pwned') } });
     expect(existsSync(join(dir, 'pwned'))).toBe(false);
-    expectNothingExecuted();
+    await expectNothingExecuted();
   });
 });

@@ -31,7 +31,7 @@ interface Row {
   withdrawn_at: string | null;
 }
 
-export function checkRegistryFile(path: string): RegistryCheck {
+export async function checkRegistryFile(path: string): Promise<RegistryCheck> {
   const problems: string[] = [];
   // SQLite's own check first, on a plain connection (it also replays the WAL a killed writer left behind).
   const raw = new Database(path);
@@ -44,10 +44,10 @@ export function checkRegistryFile(path: string): RegistryCheck {
     raw.close();
   }
 
-  const registry = openRegistry(path);
+  const registry = await openRegistry(path);
   const versions = new Map<string, StoredVersion>();
   try {
-    const report = verifyRegistry(registry);
+    const report = await verifyRegistry(registry);
     if (!report.ok) problems.push(`verify: ${JSON.stringify(report)}`);
     const rows = registry.sqlite
       .prepare(

@@ -273,21 +273,43 @@ export function checkImportOutcome(
   try {
     result = run();
   } catch (err) {
-    if (!(err instanceof InputError)) throw new Error(`not an InputError: ${(err as Error)?.stack ?? String(err)}`);
-    if (!/^[a-z0-9-]+$/.test(err.rule)) throw new Error(`bad rule id "${err.rule}"`);
-    if (err.message.trim() === '') throw new Error(`empty message for ${err.rule}`);
-    const { line, column } = err.location;
-    if (unlocatedRules.has(err.rule)) return err.rule;
-    if (err.location.file !== file) throw new Error(`${err.rule}: the message does not name the file: ${err.describe()}`);
-    if (line === undefined && !FILE_LEVEL_RULES.has(err.rule)) throw new Error(`${err.rule}: no line in ${err.describe()}`);
-    if (line !== undefined && !(Number.isInteger(line) && line >= 1 && line <= lineCount))
-      throw new Error(`${err.rule}: line ${line} outside 1…${lineCount}`);
-    if (column !== undefined && !(Number.isInteger(column) && column >= 1)) throw new Error(`${err.rule}: column ${column}`);
-    if (!err.describe().startsWith(`${file}:`)) throw new Error(`unlocated message ${err.describe()}`);
-    return err.rule;
+    return checkRefusal(err, file, lineCount, unlocatedRules);
   }
   checkTable(result);
   return 'accepted';
+}
+
+/** checkImportOutcome for an asynchronous import (the service layer's). */
+export async function checkImportOutcomeAsync(
+  run: () => Promise<ImportResult>,
+  file: string,
+  lineCount: number,
+  unlocatedRules: ReadonlySet<string> = new Set(),
+): Promise<'accepted' | string> {
+  let result: ImportResult;
+  try {
+    result = await run();
+  } catch (err) {
+    return checkRefusal(err, file, lineCount, unlocatedRules);
+  }
+  checkTable(result);
+  return 'accepted';
+}
+
+/** A refusal must be an InputError with a rule id, a message and a location inside the file (or a rule that has none). */
+function checkRefusal(err: unknown, file: string, lineCount: number, unlocatedRules: ReadonlySet<string>): string {
+  if (!(err instanceof InputError)) throw new Error(`not an InputError: ${(err as Error)?.stack ?? String(err)}`);
+  if (!/^[a-z0-9-]+$/.test(err.rule)) throw new Error(`bad rule id "${err.rule}"`);
+  if (err.message.trim() === '') throw new Error(`empty message for ${err.rule}`);
+  const { line, column } = err.location;
+  if (unlocatedRules.has(err.rule)) return err.rule;
+  if (err.location.file !== file) throw new Error(`${err.rule}: the message does not name the file: ${err.describe()}`);
+  if (line === undefined && !FILE_LEVEL_RULES.has(err.rule)) throw new Error(`${err.rule}: no line in ${err.describe()}`);
+  if (line !== undefined && !(Number.isInteger(line) && line >= 1 && line <= lineCount))
+    throw new Error(`${err.rule}: line ${line} outside 1…${lineCount}`);
+  if (column !== undefined && !(Number.isInteger(column) && column >= 1)) throw new Error(`${err.rule}: column ${column}`);
+  if (!err.describe().startsWith(`${file}:`)) throw new Error(`unlocated message ${err.describe()}`);
+  return err.rule;
 }
 
 /** An accepted table: ≥ 2 rows, equal lengths, wavelengths finite, positive and strictly ascending, n > 0, k ≥ 0, σ ≥ 0. */

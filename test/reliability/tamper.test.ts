@@ -49,14 +49,14 @@ const TAMPERED = ['tamper@1', 'tamper@2', 'tamper@3', 'tamper@4'];
 const nkPath = (ref: string) => `/api/v1/materials/${ref.replace('@', '/versions/')}/nk?wavelengths_nm=500,600`;
 
 beforeAll(async () => {
-  registry = openRegistry(db);
-  createMaterial(registry, { slug: 'tamper', name: 'Tampered' }, 'ada');
-  createMaterial(registry, { slug: 'intact', name: 'Untouched' }, 'ada');
+  registry = await openRegistry(db);
+  await createMaterial(registry, { slug: 'tamper', name: 'Tampered' }, 'ada');
+  await createMaterial(registry, { slug: 'intact', name: 'Untouched' }, 'ada');
   for (let i = 1; i <= 4; i++)
-    importVersion(registry, { slug: 'tamper', table: cauchyTable(1.4 + i / 100), provenance: { notes: `wafer ${i}` } }, 'ada');
-  importVersion(registry, { slug: 'intact', table: cauchyTable(1.6) }, 'ada');
-  for (const ref of ['tamper@1', 'tamper@2', 'tamper@3', 'intact@1']) approve(registry, ref, 'bob');
-  lockfile = lockAdd(registry, lockAdd(registry, emptyLockfile(), 'tamper@1').lock, 'intact@1').lock;
+    await importVersion(registry, { slug: 'tamper', table: cauchyTable(1.4 + i / 100), provenance: { notes: `wafer ${i}` } }, 'ada');
+  await importVersion(registry, { slug: 'intact', table: cauchyTable(1.6) }, 'ada');
+  for (const ref of ['tamper@1', 'tamper@2', 'tamper@3', 'intact@1']) await approve(registry, ref, 'bob');
+  lockfile = (await lockAdd(registry, (await lockAdd(registry, emptyLockfile(), 'tamper@1')).lock, 'intact@1')).lock;
   writeLockfile(lockPath, lockfile);
   server = await startServer({ registry, host: '127.0.0.1', port: 0 });
   const res = await fetch(`${server.url}${nkPath('tamper@1')}`);
@@ -87,25 +87,25 @@ afterAll(async () => {
 });
 
 describe('edits made directly in the database file', { timeout: 90_000 }, () => {
-  it('are caught by verify, which names each tampered version and the dropped triggers', () => {
-    const report = verifyRegistry(registry);
+  it('are caught by verify, which names each tampered version and the dropped triggers', async () => {
+    const report = await verifyRegistry(registry);
     expect(report.ok).toBe(false);
     expect(report.mismatches.map((m) => m.ref).sort()).toEqual(TAMPERED);
     expect(report.mismatches.find((m) => m.ref === 'tamper@4')?.reason).toMatch(/not valid JSON/);
     expect(report.missing_triggers).toEqual([...IMMUTABILITY_TRIGGERS]);
   });
 
-  it('are refused by every service read path; untouched versions are still served', () => {
+  it('are refused by every service read path; untouched versions are still served', async () => {
     for (const ref of TAMPERED) {
-      expect(() => showVersion(registry, ref), ref).toThrow(IntegrityError);
-      expect(() => evaluateVersion(registry, ref, [500]), ref).toThrow(IntegrityError);
-      expect(() => exportVersion(registry, ref, 'csv'), ref).toThrow(IntegrityError);
-      expect(() => exportVersion(registry, ref, 'json'), ref).toThrow(IntegrityError);
-      expect(() => diffVersions(registry, 'intact@1', ref), ref).toThrow(IntegrityError);
+      await expect(showVersion(registry, ref), ref).rejects.toThrow(IntegrityError);
+      await expect(evaluateVersion(registry, ref, [500]), ref).rejects.toThrow(IntegrityError);
+      await expect(exportVersion(registry, ref, 'csv'), ref).rejects.toThrow(IntegrityError);
+      await expect(exportVersion(registry, ref, 'json'), ref).rejects.toThrow(IntegrityError);
+      await expect(diffVersions(registry, 'intact@1', ref), ref).rejects.toThrow(IntegrityError);
     }
-    expect(() => showVersion(registry, 'tamper@1')).toThrow(/tamper@1: the stored content or provenance no longer matches its SHA-256/);
-    expect(showVersion(registry, 'intact@1').status).toBe('approved');
-    expect(evaluateVersion(registry, 'intact@1', [500]).n).toHaveLength(1);
+    await expect(showVersion(registry, 'tamper@1')).rejects.toThrow(/tamper@1: the stored content or provenance no longer matches its SHA-256/);
+    expect((await showVersion(registry, 'intact@1')).status).toBe('approved');
+    expect((await evaluateVersion(registry, 'intact@1', [500])).n).toHaveLength(1);
   });
 
   it('are refused over HTTP with a 500 problem document, never served as good', async () => {
@@ -173,9 +173,10 @@ describe('a lockfile pinned before the edits', { timeout: 90_000 }, () => {
 });
 
 describe('API tokens', () => {
-  it('are stored only as SHA-256 hashes: no plaintext token in the database file or its WAL', () => {
-    const tokens = ['reader', 'editor', 'admin'].map((role) => createToken(registry, { user: `t-${role}`, role, createdBy: 'ada' }));
-    revokeToken(registry, tokens[0].id, 'ada');
+  it('are stored only as SHA-256 hashes: no plaintext token in the database file or its WAL', async () => {
+    const tokens = [];
+    for (const role of ['reader', 'editor', 'admin']) tokens.push(await createToken(registry, { user: `t-${role}`, role, createdBy: 'ada' }));
+    await revokeToken(registry, tokens[0].id, 'ada');
     const files = [db, `${db}-wal`].filter(existsSync);
     const scan = () => Buffer.concat(files.map((f) => readFileSync(f)));
     for (const pass of ['before checkpoint', 'after checkpoint']) {

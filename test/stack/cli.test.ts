@@ -26,17 +26,17 @@ async function run(args: string[], input?: string) {
   return { code: r.code, out: r.stdout, err: r.stderr };
 }
 
-beforeAll(() => {
+beforeAll(async () => {
   dir = mkdtempSync(join(tmpdir(), 'nkledger-stack-'));
   db = join(dir, 'lab.db');
-  const registry = openRegistry(db);
+  const registry = await openRegistry(db);
   try {
     // Invented Cauchy-like numbers (test/registry/helpers.ts), not a measurement.
-    createMaterial(registry, { slug: 'oxide', name: 'Oxide film' }, 'ada');
-    importVersion(registry, { slug: 'oxide', table: cauchyTable(1.45) }, 'ada');
-    approve(registry, 'oxide@1', 'bob');
-    importVersion(registry, { slug: 'oxide', table: cauchyTable(1.47) }, 'ada');
-    approve(registry, 'oxide@2', 'bob');
+    await createMaterial(registry, { slug: 'oxide', name: 'Oxide film' }, 'ada');
+    await importVersion(registry, { slug: 'oxide', table: cauchyTable(1.45) }, 'ada');
+    await approve(registry, 'oxide@1', 'bob');
+    await importVersion(registry, { slug: 'oxide', table: cauchyTable(1.47) }, 'ada');
+    await approve(registry, 'oxide@2', 'bob');
   } finally {
     registry.close();
   }

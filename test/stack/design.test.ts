@@ -110,13 +110,13 @@ describe('sources', () => {
 
 describe('registry refs and lockfiles', () => {
   let t: TempRegistry;
-  beforeAll(() => {
-    t = tempRegistry();
-    createMaterial(t.registry, { slug: 'oxide', name: 'Oxide' }, 'ada');
-    importVersion(t.registry, { slug: 'oxide', table: cauchyTable(1.45) }, 'ada');
-    approve(t.registry, 'oxide@1', 'bob');
-    importVersion(t.registry, { slug: 'oxide', table: cauchyTable(1.47) }, 'ada');
-    approve(t.registry, 'oxide@2', 'bob');
+  beforeAll(async () => {
+    t = await tempRegistry();
+    await createMaterial(t.registry, { slug: 'oxide', name: 'Oxide' }, 'ada');
+    await importVersion(t.registry, { slug: 'oxide', table: cauchyTable(1.45) }, 'ada');
+    await approve(t.registry, 'oxide@1', 'bob');
+    await importVersion(t.registry, { slug: 'oxide', table: cauchyTable(1.47) }, 'ada');
+    await approve(t.registry, 'oxide@2', 'bob');
   });
   afterAll(() => t.cleanup());
   const design = (ref: string) => parseStackDesign({ layers: [{ material: { ref }, thickness_nm: 100 }], substrate: { material: { n: 1.52 } } });
@@ -135,7 +135,7 @@ describe('registry refs and lockfiles', () => {
   });
 
   it('with a lockfile a bare slug resolves to the locked version; a ref the lock disagrees with is refused', async () => {
-    const lock = { lockfile: lockAdd(t.registry, emptyLockfile(), 'oxide@1').lock, file: 'design.lock.json' };
+    const lock = { lockfile: (await lockAdd(t.registry, emptyLockfile(), 'oxide@1')).lock, file: 'design.lock.json' };
     const r = await resolveStackDesign(design('oxide'), ctx(lock));
     expect(r.layers[0].material.ref).toBe('oxide@1');
     expect(r.layers[0].material.sha256).toBe(lock.lockfile.materials.oxide.sha256);

@@ -27,21 +27,21 @@ let compute: ComputePool;
 let app: ReturnType<typeof createWebPages>;
 const tokens: Record<string, string> = {};
 
-beforeAll(() => {
-  temp = tempRegistry();
+beforeAll(async () => {
+  temp = await tempRegistry();
   const r = temp.registry;
   for (const [user, role] of [
     ['ada', 'editor'],
     ['ben', 'approver'],
     ['cy', 'reader'],
   ] as const) {
-    tokens[user] = createToken(r, { user, role, createdBy: 'setup' }).token;
+    tokens[user] = (await createToken(r, { user, role, createdBy: 'setup' })).token;
   }
-  createMaterial(r, { slug: 'film', name: `Film ${XSS}`, description: `made by ${XSS}`, tags: ['oxide', 'test'] }, 'ada');
-  createMaterial(r, { slug: 'other', name: 'Other coating', tags: ['nitride'] }, 'ada');
-  importVersion(r, { slug: 'film', table: cauchyTable(), provenance: { sample: XSS, notes: `"quoted" & <b>bold</b>` } }, 'ada');
-  approve(r, 'film@1', 'ben');
-  importVersion(r, { slug: 'film', table: cauchyTable(1.46) }, 'ada');
+  await createMaterial(r, { slug: 'film', name: `Film ${XSS}`, description: `made by ${XSS}`, tags: ['oxide', 'test'] }, 'ada');
+  await createMaterial(r, { slug: 'other', name: 'Other coating', tags: ['nitride'] }, 'ada');
+  await importVersion(r, { slug: 'film', table: cauchyTable(), provenance: { sample: XSS, notes: `"quoted" & <b>bold</b>` } }, 'ada');
+  await approve(r, 'film@1', 'ben');
+  await importVersion(r, { slug: 'film', table: cauchyTable(1.46) }, 'ada');
   compute = new ComputePool({ threads: 1 });
   app = createWebPages({ registry: r, compute, loopback: true });
 });
@@ -76,8 +76,8 @@ describe('reading pages', () => {
     const tableOnly = (await get('/materials/film/versions/1')).body;
     expect(tableOnly).toContain('<h2>Measured table</h2>');
     expect(tableOnly).toMatch(/<figure class="plot"><svg role="img"/);
-    createMaterial(temp.registry, { slug: 'model-only', name: 'Model only' }, 'ada');
-    importVersion(temp.registry, { slug: 'model-only', fit: fitTable(cauchyTable(), { model: 'cauchy' }) }, 'ada');
+    await createMaterial(temp.registry, { slug: 'model-only', name: 'Model only' }, 'ada');
+    await importVersion(temp.registry, { slug: 'model-only', fit: fitTable(cauchyTable(), { model: 'cauchy' }) }, 'ada');
     const modelOnly = await get('/materials/model-only/versions/1');
     expect(modelOnly.res.status).toBe(200);
     expect(modelOnly.body).toContain('the cauchy model (no table stored)');
@@ -127,8 +127,10 @@ describe('reading pages', () => {
   it('downloads are the bytes of `nkledger export`', async () => {
     const csv = await app.request('/materials/film/versions/1/table.csv');
     expect(csv.headers.get('content-disposition')).toContain('attachment');
-    expect(await csv.text()).toBe(exportVersion(temp.registry, 'film@1', 'csv').text);
-    expect(await (await app.request('/materials/film/versions/1/record.json')).text()).toBe(exportVersion(temp.registry, 'film@1', 'json').text);
+    expect(await csv.text()).toBe((await exportVersion(temp.registry, 'film@1', 'csv')).text);
+    expect(await (await app.request('/materials/film/versions/1/record.json')).text()).toBe(
+      (await exportVersion(temp.registry, 'film@1', 'json')).text,
+    );
     expect((await app.request('/materials/film/versions/1/model.csv')).status).toBe(404); // a table-only version has no model
   });
 
@@ -169,11 +171,11 @@ describe('sign-in and its cookie', () => {
     const b = browserFor(app);
     const bad = await signIn(b, 'nkl_not-a-real-token');
     expect(bad.status).toBe(401);
-    const t = createToken(temp.registry, { user: 'dee', role: 'approver', createdBy: 'setup' });
+    const t = await createToken(temp.registry, { user: 'dee', role: 'approver', createdBy: 'setup' });
     const d = browserFor(app);
     await signIn(d, t.token);
     expect((await get('/review', d)).res.status).toBe(200);
-    revokeToken(temp.registry, t.id, 'setup');
+    await revokeToken(temp.registry, t.id, 'setup');
     expect((await get('/review', d)).res.status).toBe(401);
   });
 
@@ -209,7 +211,7 @@ describe('forms are refused from other sites and without the session secret', ()
       await app.request(path, { method: 'POST', body: new URLSearchParams({}), headers: { cookie: ben.cookie(), origin: ORIGIN } }),
     ];
     expect(tries.map((r) => r.status)).toEqual([403, 403, 403, 403]);
-    expect(showVersion(temp.registry, 'film@2').status).toBe('draft');
+    expect((await showVersion(temp.registry, 'film@2')).status).toBe('draft');
   });
 
   it('an editor may not approve; the two-person rule refuses approving one’s own draft', async () => {
@@ -218,15 +220,15 @@ describe('forms are refused from other sites and without the session secret', ()
     expect((await ada.post('/materials/film/versions/2/approve', { csrf: ada.csrf() })).status).toBe(403);
     expect((await get('/review', ada)).res.status).toBe(403);
 
-    createToken(temp.registry, { user: 'ada', role: 'approver', createdBy: 'setup' });
-    const own = createToken(temp.registry, { user: 'ada', role: 'approver', createdBy: 'setup' });
+    await createToken(temp.registry, { user: 'ada', role: 'approver', createdBy: 'setup' });
+    const own = await createToken(temp.registry, { user: 'ada', role: 'approver', createdBy: 'setup' });
     const adaApprover = browserFor(app);
     await signIn(adaApprover, own.token);
     const review = await get('/review', adaApprover);
     expect(review.body).not.toContain('Approve film@2');
     const refused = await adaApprover.post('/materials/film/versions/2/approve', { csrf: adaApprover.csrf() });
     expect(refused.status).toBe(409);
-    expect(showVersion(temp.registry, 'film@2').status).toBe('draft');
+    expect((await showVersion(temp.registry, 'film@2')).status).toBe('draft');
   });
 
   it('an approver sees the draft under review with its checks, and approves it', async () => {
@@ -238,7 +240,7 @@ describe('forms are refused from other sites and without the session secret', ()
     const ok = await ben.post('/materials/film/versions/2/approve', { csrf: ben.csrf(), back: '/review' });
     expect(ok.status).toBe(303);
     expect(ok.headers.get('location')).toBe('/review');
-    expect(showVersion(temp.registry, 'film@2').status).toBe('approved');
+    expect((await showVersion(temp.registry, 'film@2')).status).toBe('approved');
     // Only local paths are followed after a form.
     const retire = await ben.post('/materials/film/versions/1/retire', { csrf: ben.csrf(), reason: 'superseded by @2', back: '//evil.example/' });
     expect(retire.headers.get('location')).toBe('/materials/film/versions/1');
@@ -250,8 +252,8 @@ describe('review findings that need a reason', () => {
   it('a KK-inconsistent draft shows its finding and is approved only with a reason, which the audit log keeps', async () => {
     const r = temp.registry;
     const kk = { verdict: 'inconsistent', summary: 'invented for the test: n does not follow from k', tolerance: 0.005, rms_dn: 0.02, max_dn: 0.05 };
-    createMaterial(r, { slug: 'kk-bad', name: 'KK-inconsistent film' }, 'ada');
-    const { ref } = importVersion(r, { slug: 'kk-bad', table: cauchyTable(1.6), kk }, 'ada');
+    await createMaterial(r, { slug: 'kk-bad', name: 'KK-inconsistent film' }, 'ada');
+    const { ref } = await importVersion(r, { slug: 'kk-bad', table: cauchyTable(1.6), kk }, 'ada');
     const ben = browserFor(app);
     await signIn(ben, tokens.ben);
     const review = (await get('/review', ben)).body;
@@ -261,16 +263,16 @@ describe('review findings that need a reason', () => {
     const refused = await ben.post(path, { csrf: ben.csrf() });
     expect(refused.status).toBeGreaterThanOrEqual(400);
     expect(await refused.text()).toContain('approval-warnings-unaccepted');
-    expect(showVersion(r, ref).status).toBe('draft');
+    expect((await showVersion(r, ref)).status).toBe('draft');
     const ok = await ben.post(path, { csrf: ben.csrf(), accept_warnings: 'checked against the prism-coupler value at 633 nm' });
     expect(ok.status).toBe(303);
-    expect(showVersion(r, ref).status).toBe('approved');
+    expect((await showVersion(r, ref)).status).toBe('approved');
     expect((await get('/materials/kk-bad')).body).toContain('checked against the prism-coupler value at 633 nm');
   });
 
   it('an expired token cannot sign in, and its sessions end when it expires', async () => {
     const r = temp.registry;
-    const short = createToken(r, { user: 'eve', role: 'reader', createdBy: 'setup', expires: '1h' });
+    const short = await createToken(r, { user: 'eve', role: 'reader', createdBy: 'setup', expires: '1h' });
     const b = browserFor(app);
     expect((await signIn(b, short.token)).status).toBe(303);
     expect((await get('/', b)).body).toContain('Signed in as <strong>eve</strong>');
@@ -318,7 +320,7 @@ describe('upload with a preview', () => {
     });
     expect(stored.status).toBe(303);
     expect(stored.headers.get('location')).toBe('/materials/other/versions/1');
-    const v = showVersion(temp.registry, 'other@1');
+    const v = await showVersion(temp.registry, 'other@1');
     expect(v.status).toBe('draft');
     expect(v.created_by).toBe('ada');
     expect(v.provenance.sample).toBe('MO-77 wafer 2');
@@ -375,14 +377,18 @@ describe('upload with a preview', () => {
 describe('page weight', () => {
   it('a version page of a 2,000-point table is under 150 KB gzip-compressed', async () => {
     const r = temp.registry;
-    createMaterial(r, { slug: 'dense', name: 'Dense table' }, 'ada');
+    await createMaterial(r, { slug: 'dense', name: 'Dense table' }, 'ada');
     const lines = ['wavelength_nm,n,k'];
     for (let i = 0; i < 2000; i++) {
       const nm = 300 + i * 0.5;
       const um = nm / 1000;
       lines.push(`${nm},${(1.9 + 0.02 / um ** 2 + 1e-4 * Math.sin(i)).toFixed(6)},${(0.02 * Math.exp(-(nm - 300) / 50)).toFixed(6)}`);
     }
-    importMeasurement(r, { slug: 'dense', bytes: new TextEncoder().encode(lines.join('\n')), file: 'dense.csv', fit: { model: 'cauchy' } }, 'ada');
+    await importMeasurement(
+      r,
+      { slug: 'dense', bytes: new TextEncoder().encode(lines.join('\n')), file: 'dense.csv', fit: { model: 'cauchy' } },
+      'ada',
+    );
     for (const path of ['/', '/materials/dense/versions/1']) {
       const res = await app.request(path, { headers: { 'accept-encoding': 'gzip' } });
       expect(res.headers.get('content-encoding')).toBe('gzip');
@@ -418,12 +424,12 @@ describe('beside the API', () => {
 describe('settings', () => {
   it('self-approval allowed: one’s own draft is listed for review', async () => {
     const r = temp.registry;
-    importVersion(r, { slug: 'film', table: cauchyTable(1.47) }, 'ben');
+    await importVersion(r, { slug: 'film', table: cauchyTable(1.47) }, 'ben');
     const ben = browserFor(app);
     await signIn(ben, tokens.ben);
     expect((await get('/review', ben)).body).not.toContain('Approve film@3');
-    writeSetting(r, 'allow_self_approval', true, 'setup');
+    await writeSetting(r, 'allow_self_approval', true, 'setup');
     expect((await get('/review', ben)).body).toContain('Approve film@3');
-    writeSetting(r, 'allow_self_approval', false, 'setup');
+    await writeSetting(r, 'allow_self_approval', false, 'setup');
   });
 });
