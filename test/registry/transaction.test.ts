@@ -1,0 +1,81 @@
+/**
+ * Write transactions on a Registry's one connection (src/registry/transaction.ts): concurrent ones run one
+ * after the other, a write inside a write is a savepoint of it (as better-sqlite3's nested transactions
+ * were, https://github.com/WiseLibs/better-sqlite3/blob/master/docs/api.md#transactionfunction--function),
+ * and a failure rolls back everything its transaction wrote.
+ */
+import { afterEach, beforeEach, describe, expect, it } from 'vitest';
+import { ConflictError } from '../../src/errors.ts';
+import { writeTransaction } from '../../src/registry/records.ts';
+import { inTransaction } from '../../src/registry/transaction.ts';
+import { importMeasurements } from '../../src/service/import-measurement.ts';
+import { createMaterial, listMaterials } from '../../src/service/registry.ts';
+import { tempRegistry, type TempRegistry } from './helpers.ts';
+
+let t: TempRegistry;
+beforeEach(async () => {
+  t = await tempRegistry();
+});
+afterEach(() => t.cleanup());
+
+const slugs = async () => (await listMaterials(t.registry)).map((m) => m.slug);
+const auditRows = () => (t.registry.sqlite.prepare('SELECT count(*) AS n FROM audit_log').get() as { n: number }).n;
+
+describe('writeTransaction', () => {
+  it('runs concurrent writes one at a time, each whole', async () => {
+    const order: string[] = [];
+    const write = (name: string) =>
+      writeTransaction(t.registry, async () => {
+        order.push(`begin ${name}`);
+        await createMaterial(t.registry, { slug: name, name }, 'ada');
+        order.push(`end ${name}`);
+      });
+    await Promise.all([write('m-a'), write('m-b'), write('m-c')]);
+    expect(order).toEqual(['begin m-a', 'end m-a', 'begin m-b', 'end m-b', 'begin m-c', 'end m-c']);
+    expect(await slugs()).toEqual(['m-a', 'm-b', 'm-c']);
+    expect(t.registry.sqlite.inTransaction).toBe(false);
+  });
+
+  it('rolls back everything a failed transaction wrote, and the next one runs', async () => {
+    const before = auditRows();
+    await expect(
+      writeTransaction(t.registry, async () => {
+        await createMaterial(t.registry, { slug: 'lost', name: 'Lost' }, 'ada');
+        throw new Error('fails after writing');
+      }),
+    ).rejects.toThrow('fails after writing');
+    expect(await slugs()).toEqual([]);
+    expect(auditRows()).toBe(before);
+    await createMaterial(t.registry, { slug: 'kept', name: 'Kept' }, 'ada');
+    expect(await slugs()).toEqual(['kept']);
+  });
+
+  it('a write inside a write joins it as a savepoint: an inner failure caught outside undoes only the inner writes', async () => {
+    await writeTransaction(t.registry, async () => {
+      expect(inTransaction(t.registry)).toBe(true);
+      await createMaterial(t.registry, { slug: 'outer', name: 'Outer' }, 'ada');
+      await expect(createMaterial(t.registry, { slug: 'outer', name: 'Again' }, 'ada')).rejects.toThrow(ConflictError);
+      await expect(
+        writeTransaction(t.registry, async () => {
+          await createMaterial(t.registry, { slug: 'inner', name: 'Inner' }, 'ada');
+          throw new Error('inner fails');
+        }),
+      ).rejects.toThrow('inner fails');
+    });
+    expect(inTransaction(t.registry)).toBe(false);
+    expect(await slugs()).toEqual(['outer']);
+  });
+
+  it('a batch import is all or none: a duplicate in it rolls back the files before it', async () => {
+    await createMaterial(t.registry, { slug: 'film', name: 'Film' }, 'ada');
+    const file = (a: number) => ({
+      slug: 'film',
+      file: `run-${a}.csv`,
+      kk: false,
+      bytes: new TextEncoder().encode(`wavelength_nm,n,k\n400,${a},0\n500,${a - 0.01},0\n600,${a - 0.02},0\n`),
+    });
+    await expect(importMeasurements(t.registry, [file(1.5), file(1.6), file(1.5)], 'ada')).rejects.toThrow(/already stored/);
+    expect(t.registry.sqlite.prepare('SELECT count(*) AS n FROM material_versions').get()).toEqual({ n: 0 });
+    expect((await importMeasurements(t.registry, [file(1.5), file(1.6)], 'ada')).map((v) => v.ref)).toEqual(['film@1', 'film@2']);
+  });
+});
