@@ -88,13 +88,12 @@ describe('versions', () => {
     await expect(importVersion(t.registry, { slug: 'nope', table: cauchyTable() }, 'ada')).rejects.toThrow(NotFoundError);
   });
 
-  it('refuses bad provenance with the field named', () => {
-    const bad = (provenance: Record<string, unknown>) => async () =>
-      await importVersion(t.registry, { slug: 'sio2-thermal', table: cauchyTable(), provenance }, 'ada');
-    expect(bad({ method: 'guesswork' })).toThrow(/method/);
-    expect(bad({ measured_on: '2024-02-30' })).toThrow(/measured_on/);
-    expect(bad({ angles_deg: '65,95' })).toThrow(/angles_deg/);
-    expect(bad({ colour: 'blue' })).toThrow(/unknown provenance field "colour"/);
+  it('refuses bad provenance with the field named', async () => {
+    const bad = (provenance: Record<string, unknown>) => importVersion(t.registry, { slug: 'sio2-thermal', table: cauchyTable(), provenance }, 'ada');
+    await expect(bad({ method: 'guesswork' })).rejects.toThrow(/method/);
+    await expect(bad({ measured_on: '2024-02-30' })).rejects.toThrow(/measured_on/);
+    await expect(bad({ angles_deg: '65,95' })).rejects.toThrow(/angles_deg/);
+    await expect(bad({ colour: 'blue' })).rejects.toThrow(/unknown provenance field "colour"/);
   });
 });
 
