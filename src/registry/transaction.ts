@@ -8,9 +8,11 @@
  * transactions did: its failure rolls back its own writes and is thrown to the outer callback.
  *
  * The callback must await only database work on this registry: no network, no worker pool, no timers.
- * Everything else of the process waits for the write lock meanwhile. Reads outside a transaction are not
- * queued; one that runs between two statements of a transaction on the same connection sees them before
- * the commit (a callback that awaits only database work on better-sqlite3 leaves no gap for another request).
+ * Every other transaction of the process waits meanwhile. Reads outside a transaction are not queued: on
+ * better-sqlite3 each statement runs at once, so a callback that awaits only database work finishes within
+ * one turn of the event loop, but a read from another promise chain that resumes between two of its
+ * statements runs on the same connection and sees them before the commit. A read that needs a consistent
+ * view of several statements uses `readTransaction`.
  */
 import { AsyncLocalStorage } from 'node:async_hooks';
 import type { Registry } from './open.ts';

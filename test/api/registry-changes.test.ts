@@ -51,6 +51,20 @@ describe('RegistryChanges and ChangeMemo', () => {
     expect(await value()).toBe(2);
   });
 
+  it('do not keep a value whose computation saw the registry change, nor a failed one', async () => {
+    const memo = new ChangeMemo<number>(new RegistryChanges(h.registry));
+    let computed = 0;
+    const racing = async () => {
+      await createMaterial(h.registry, { slug: `during-${computed}`, name: 'Written while computing' }, 'lab-editor');
+      return ++computed;
+    };
+    expect(await memo.get('key', racing)).toBe(1);
+    expect(await memo.get('key', async () => ++computed)).toBe(2);
+    expect(await memo.get('key', async () => ++computed)).toBe(2);
+    await expect(memo.get('failing', async () => Promise.reject(new Error('lookup failed')))).rejects.toThrow('lookup failed');
+    expect(await memo.get('failing', async () => 7)).toBe(7);
+  });
+
   it('hold at most maxEntries values, so client-chosen keys cannot grow it', async () => {
     const memo = new ChangeMemo<string>(new RegistryChanges(h.registry), 3);
     for (let i = 0; i < 100; i++) await memo.get(`token-${i}`, async () => 'unknown');
