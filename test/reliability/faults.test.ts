@@ -24,6 +24,7 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { EnvironmentError } from '../../src/errors.ts';
+import { statusOf } from '../../src/http-status.ts';
 import { startServer } from '../../src/api/server.ts';
 import { approve, createMaterial, importVersion, listMaterials, openRegistry, showVersion, verifyRegistry } from '../../src/service/registry.ts';
 import { createToken } from '../../src/service/tokens.ts';
@@ -95,7 +96,8 @@ describe('a full disk (SQLITE_FULL)', () => {
         thrown = err;
       }
       expect(thrown).toBeInstanceOf(EnvironmentError);
-      expect(thrown).toMatchObject({ rule: 'registry-disk-full', status: 507 });
+      expect(thrown).toMatchObject({ rule: 'registry-disk-full' });
+      expect(statusOf(thrown as EnvironmentError)).toBe(507); // the API's answer (src/http-status.ts)
       expect((thrown as Error).message).toMatch(/full.*nothing was written/);
       expect(registry.sqlite.prepare('SELECT (SELECT count(*) FROM material_versions) v, (SELECT count(*) FROM audit_log) a').get()).toEqual(before);
       expect((await verifyRegistry(registry)).ok).toBe(true);
