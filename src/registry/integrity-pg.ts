@@ -109,10 +109,20 @@ export const PG_DEFENCES: { triggers: Record<string, string>; functions: Record<
       "CREATE TRIGGER materials_no_delete BEFORE DELETE ON materials FOR EACH ROW EXECUTE FUNCTION nkledger_refuse('nkledger: materials are never deleted')",
     materials_no_truncate:
       "CREATE TRIGGER materials_no_truncate BEFORE TRUNCATE ON materials FOR EACH STATEMENT EXECUTE FUNCTION nkledger_refuse('nkledger: materials are never deleted')",
+    // Change notices for servers' memos (drizzle-pg/0002): a dropped one would leave another server trusting stale answers.
+    nkledger_notify_api_tokens:
+      'CREATE TRIGGER nkledger_notify_api_tokens AFTER INSERT OR DELETE OR UPDATE OR TRUNCATE ON api_tokens FOR EACH STATEMENT EXECUTE FUNCTION nkledger_notify_change()',
+    nkledger_notify_material_versions:
+      'CREATE TRIGGER nkledger_notify_material_versions AFTER INSERT OR DELETE OR UPDATE OR TRUNCATE ON material_versions FOR EACH STATEMENT EXECUTE FUNCTION nkledger_notify_change()',
+    nkledger_notify_materials:
+      'CREATE TRIGGER nkledger_notify_materials AFTER INSERT OR DELETE OR UPDATE OR TRUNCATE ON materials FOR EACH STATEMENT EXECUTE FUNCTION nkledger_notify_change()',
+    nkledger_notify_registry_settings:
+      'CREATE TRIGGER nkledger_notify_registry_settings AFTER INSERT OR DELETE OR UPDATE OR TRUNCATE ON registry_settings FOR EACH STATEMENT EXECUTE FUNCTION nkledger_notify_change()',
   },
   functions: {
     nkledger_audit_chain_append:
       'plpgsql:BEGIN IF NEW."hash" IS NULL OR NEW."prev_hash" IS DISTINCT FROM (SELECT "hash" FROM "audit_log" ORDER BY "id" DESC LIMIT 1) THEN RAISE EXCEPTION USING MESSAGE = \'nkledger: an audit event must carry its hash and extend the chain at its head\', ERRCODE = \'integrity_constraint_violation\'; END IF; RETURN NEW; END;',
+    nkledger_notify_change: "plpgsql:BEGIN PERFORM pg_notify('nkledger_changes', TG_TABLE_NAME); RETURN NULL; END;",
     nkledger_refuse: "plpgsql:BEGIN RAISE EXCEPTION USING MESSAGE = TG_ARGV[0], ERRCODE = 'integrity_constraint_violation'; END;",
     nkledger_write_lock: 'sql:SELECT pg_advisory_xact_lock(7956572349412107634)',
   },

@@ -22,6 +22,9 @@ export const POSTGRES_MISSING = 'PostgreSQL 15+ not found (initdb); these tests 
 
 const MIN_MAJOR = 15;
 
+/** The one role the test server asks a password of (scram-sha-256 on 127.0.0.1); a test creates it with one. */
+export const PASSWORD_ROLE = 'nkledger_password';
+
 /** The folder of `initdb`/`pg_ctl` of the newest PostgreSQL ≥ 15 installed, or null. */
 export function findPostgresBin(): string | null {
   const root = '/usr/lib/postgresql';
@@ -111,9 +114,10 @@ export async function startPostgres(): Promise<PostgresServer | { missing: strin
     cleanup();
     throw new Error(`initdb failed:\n${init.stdout}${init.stderr}`);
   }
-  // Only the loopback address and the folder's socket, without passwords: nothing else can reach this server.
+  // Only the loopback address and the folder's socket: nothing else can reach this server. Passwords are asked
+  // of one role only, PASSWORD_ROLE, which tests of a refused password create (no other role needs one).
   const hba = join(data, 'pg_hba.conf');
-  writeFileSync(hba, 'local all all trust\nhost all all 127.0.0.1/32 trust\n');
+  writeFileSync(hba, `local all all trust\nhost all ${PASSWORD_ROLE} 127.0.0.1/32 scram-sha-256\nhost all all 127.0.0.1/32 trust\n`);
   if (owner) chownSync(hba, owner.uid, owner.gid);
   let port = 0;
   let lastFailure = '';
