@@ -61,7 +61,22 @@ const TIMEOUT = /timeout/i;
 /** node-postgres when the server asks for a password and the URL has none. */
 const NO_PASSWORD = /client password must be a string/;
 
-function codeOf(err: unknown): string | undefined {
+/**
+ * The driver's error inside drizzle's wrapper: drizzle throws a DrizzleQueryError ("Failed query: <sql> params:
+ * <values>") whose `cause` is node-postgres's error with the SQLSTATE and the server's message.
+ */
+export function driverError(err: unknown): unknown {
+  let e = err;
+  for (let depth = 0; depth < 4; depth++) {
+    const inner = (e as { name?: unknown; cause?: unknown } | null)?.cause;
+    if (inner === undefined || inner === null || typeof (e as { code?: unknown }).code === 'string') return e;
+    e = inner;
+  }
+  return e;
+}
+
+function codeOf(wrapped: unknown): string | undefined {
+  const err = driverError(wrapped);
   const e = err as { code?: unknown; errors?: unknown[] } | null;
   if (typeof e?.code === 'string') return e.code;
   // Connecting to a name with several addresses (localhost: ::1 and 127.0.0.1) fails with an AggregateError.
@@ -76,7 +91,8 @@ export function sqlStateOf(err: unknown): string | undefined {
   return code !== undefined && /^[0-9A-Z]{5}$/.test(code) && !code.startsWith('E') ? code : undefined;
 }
 
-function faultOf(err: unknown): Fault | null {
+function faultOf(wrapped: unknown): Fault | null {
+  const err = driverError(wrapped);
   const code = codeOf(err);
   if (code !== undefined) {
     if (SOCKET_CODES.has(code)) return UNREACHABLE;
@@ -93,7 +109,8 @@ function faultOf(err: unknown): Fault | null {
   return null;
 }
 
-function describe(err: unknown): string {
+function describe(wrapped: unknown): string {
+  const err = driverError(wrapped);
   const code = codeOf(err);
   const message = (err as Error | null)?.message || String(err);
   return code && !message.includes(code) ? `${code}: ${message}` : message;
@@ -132,9 +149,17 @@ export function pgCommitFault(err: unknown, url: string): EnvironmentError {
   );
 }
 
-/** What to throw for `err`: its EnvironmentError when it is a fault of the environment, else `err` unchanged. */
+/**
+ * What to throw for `err`: its EnvironmentError when it is a fault of the environment; for any other error the
+ * server reported (a trigger's refusal, a unique violation), node-postgres's own error, whose message is the
+ * server's — for a trigger, the same text as SQLite's — rather than drizzle's "Failed query: …" wrapper, which
+ * would also show the statement's values; anything else unchanged.
+ */
 export function pgFault(err: unknown, url: string): unknown {
-  return pgEnvironmentFault(err, url) ?? err;
+  const fault = pgEnvironmentFault(err, url);
+  if (fault) return fault;
+  const inner = driverError(err);
+  return sqlStateOf(inner) !== undefined ? inner : err;
 }
 
 /** Run `work`, rethrowing PostgreSQL's environment faults as EnvironmentErrors; other errors pass unchanged. */
@@ -148,7 +173,7 @@ export async function translatePgFaults<T>(url: string, work: () => Promise<T>):
 
 /** A refusal raised by one of the registry's triggers (nkledger_refuse, the audit chain check): SQLSTATE 23000. */
 export function isPgTriggerRefusal(err: unknown): boolean {
-  return sqlStateOf(err) === '23000' && /^nkledger: /.test((err as Error).message);
+  return sqlStateOf(err) === '23000' && /^nkledger: /.test((driverError(err) as Error).message);
 }
 
 /** A unique index or constraint refused a duplicate (SQLSTATE 23505); `constraint` names it. */

@@ -30,7 +30,7 @@ import { drizzle, type NodePgDatabase } from 'drizzle-orm/node-postgres';
 import { migrate } from 'drizzle-orm/node-postgres/migrator';
 import pg from 'pg';
 import { EnvironmentError, InputError } from '../errors.ts';
-import { pgCommitFault, pgConnectFault, pgEnvironmentFault } from './postgres-faults.ts';
+import { driverError, pgCommitFault, pgConnectFault, pgEnvironmentFault, pgFault } from './postgres-faults.ts';
 import * as schemaPg from './schema-pg.ts';
 
 /** The PostgreSQL migrations folder of this package (not of the current directory). */
@@ -276,7 +276,7 @@ const commitCounters = new WeakMap<PgRegistry, () => void>();
 const RETRYABLE = new Set(['40001', '40P01']);
 
 const sqlState = (err: unknown): string | undefined => {
-  const code = (err as { code?: unknown } | null)?.code;
+  const code = (driverError(err) as { code?: unknown } | null)?.code;
   return typeof code === 'string' ? code : undefined;
 };
 
@@ -338,7 +338,7 @@ async function attempt<T>(handle: PgRegistry, begin: string, setup: string[], re
 /** A fault of the connection itself (class 08, the server shutting down, a socket error), not of a statement. */
 function isConnectionError(err: unknown): boolean {
   const code = sqlState(err) ?? '';
-  return /^(08|57P0)/.test(code) || /^E[A-Z]+$/.test(code) || /Connection terminated/.test((err as Error | null)?.message ?? '');
+  return /^(08|57P0)/.test(code) || /^E[A-Z]+$/.test(code) || /Connection terminated/.test((driverError(err) as Error | null)?.message ?? '');
 }
 
 async function run<T>(handle: PgRegistry, begin: string, setup: string[], readOnly: boolean, body: () => Promise<T>): Promise<T> {
@@ -351,7 +351,7 @@ async function run<T>(handle: PgRegistry, begin: string, setup: string[], readOn
         await new Promise((resolve) => setTimeout(resolve, (tries + 1) * 5 + Math.random() * 10));
         continue;
       }
-      throw pgEnvironmentFault(err, handle.url) ?? err;
+      throw pgFault(err, handle.url);
     }
   }
 }
