@@ -9,7 +9,7 @@
 import type { PoolClient, QueryConfig } from 'pg';
 import type { ActiveToken } from './hot-reads.ts';
 import type { PgRegistry } from './postgres.ts';
-import { inPgTransaction } from './postgres.ts';
+import { checkout, inPgTransaction } from './postgres.ts';
 import type { VersionStatus } from './types.ts';
 
 interface Queryable {
@@ -54,8 +54,9 @@ export async function pgNoteTokenUse(handle: PgRegistry, tokenId: string, at: st
   const pool = handle.pool;
   if (pool.idleCount === 0 && pool.totalCount >= (pool.options.max ?? 10)) return false;
   let client: PoolClient;
+  let release: (broken?: boolean) => void;
   try {
-    client = await pool.connect();
+    ({ client, release } = await checkout(pool));
   } catch {
     return false; // unreachable: skipped
   }
@@ -79,6 +80,6 @@ export async function pgNoteTokenUse(handle: PgRegistry, tokenId: string, at: st
     });
     return false;
   } finally {
-    client.release(broken);
+    release(broken);
   }
 }

@@ -149,6 +149,27 @@ async function applyMigrations(client: pg.PoolClient): Promise<number> {
   }
 }
 
+/**
+ * A client out of the pool with a listener for its 'error' event: a checked-out client whose connection the server
+ * ends (restart, pg_terminate_backend) emits one, and without a listener the process would stop. The query in
+ * flight fails on its own; `release` hands the client back, or destroys it when its connection is broken.
+ */
+export async function checkout(pool: pg.Pool): Promise<{ client: pg.PoolClient; release: (broken?: boolean) => void }> {
+  const client = await pool.connect();
+  let failed = false;
+  const onError = () => {
+    failed = true;
+  };
+  client.on('error', onError);
+  return {
+    client,
+    release: (broken = false) => {
+      client.off('error', onError);
+      client.release(broken || failed);
+    },
+  };
+}
+
 /** What is bound to a transaction: its handle, client, drizzle and savepoint count. */
 interface TxScope {
   handle: PgRegistry;
@@ -209,8 +230,9 @@ export async function openPostgres(url: string, options: PgOpenOptions = {}): Pr
   // the next query opens another. Without a listener the process would stop on the 'error' event.
   pool.on('error', () => {});
   let client: pg.PoolClient;
+  let release: (broken?: boolean) => void;
   try {
-    client = await pool.connect();
+    ({ client, release } = await checkout(pool));
   } catch (err) {
     await pool.end().catch(() => {});
     throw pgConnectFault(err, shown);
@@ -228,9 +250,9 @@ export async function openPostgres(url: string, options: PgOpenOptions = {}): Pr
       );
     }
     if (options.migrate !== false) migrationsApplied = await applyMigrations(client);
-    client.release();
+    release();
   } catch (err) {
-    client.release(true);
+    release(true);
     await pool.end().catch(() => {});
     throw pgEnvironmentFault(err, shown) ?? err;
   }
@@ -296,8 +318,9 @@ async function savepoint<T>(current: TxScope, body: () => Promise<T>): Promise<T
 /** One attempt: check out, BEGIN, `setup`, body, COMMIT/ROLLBACK, release. */
 async function attempt<T>(handle: PgRegistry, begin: string, setup: string[], readOnly: boolean, body: () => Promise<T>): Promise<T> {
   let client: pg.PoolClient;
+  let release: (broken?: boolean) => void;
   try {
-    client = await handle.pool.connect();
+    ({ client, release } = await checkout(handle.pool));
   } catch (err) {
     throw pgConnectFault(err, handle.url);
   }
@@ -331,7 +354,7 @@ async function attempt<T>(handle: PgRegistry, begin: string, setup: string[], re
     if (isConnectionError(err)) broken = true;
     throw err;
   } finally {
-    client.release(broken);
+    release(broken);
   }
 }
 
