@@ -1,5 +1,5 @@
 /**
- * PostgreSQL's reports of a failing environment turned into EnvironmentErrors (CLI exit 4, HTTP 503/507), the
+ * PostgreSQL's reports of a failing environment turned into EnvironmentErrors (CLI exit 4; the API answers 503, 507 for `registry-disk-full`, by src/http-status.ts), the
  * twin of faults.ts for SQLite: a server that cannot be reached, refuses the user or the password, has no such
  * database, is shutting down, out of disk or connections, read-only (a standby, default_transaction_read_only),
  * or held the write lock past the wait. The message names the registry by its URL with the password masked
@@ -15,41 +15,41 @@
  * skipped a check or the lock — an internal fault (exit 1, HTTP 500) on both backends, with the same message.
  * `isPgTriggerRefusal` and `isPgUniqueViolation` tell them apart for code that wants to.
  */
+import { DrizzleQueryError } from 'drizzle-orm';
 import { EnvironmentError } from '../errors.ts';
 
 interface Fault {
   rule: string;
-  status: number;
   what: string;
 }
 
-const UNREACHABLE: Fault = { rule: 'registry-unreachable', status: 503, what: 'the PostgreSQL server cannot be reached' };
-const AUTH: Fault = { rule: 'registry-auth-failed', status: 503, what: 'the PostgreSQL server refused the user or the password' };
+const UNREACHABLE: Fault = { rule: 'registry-unreachable', what: 'the PostgreSQL server cannot be reached' };
+const AUTH: Fault = { rule: 'registry-auth-failed', what: 'the PostgreSQL server refused the user or the password' };
 
 /** SQLSTATEs (postgresql.org/docs/current/errcodes-appendix.html): exact codes first, then classes by prefix. */
 const BY_CODE: Record<string, Fault> = {
   '28P01': AUTH,
   '28000': AUTH,
-  '3D000': { rule: 'registry-database-missing', status: 503, what: 'the server has no such database (create it first)' },
-  '53100': { rule: 'registry-disk-full', status: 507, what: "the server's disk is full" },
-  '53200': { rule: 'registry-server-overloaded', status: 503, what: 'the server is out of memory' },
-  '53300': { rule: 'registry-server-overloaded', status: 503, what: 'the server has no free connection slot' },
-  '53400': { rule: 'registry-server-overloaded', status: 503, what: 'the server hit one of its configured limits' },
-  '25006': { rule: 'registry-read-only', status: 503, what: 'the database is read-only (a standby, or default_transaction_read_only)' },
-  '55P03': { rule: 'registry-busy', status: 503, what: 'another writer held the registry locked for too long' },
-  '57014': { rule: 'registry-busy', status: 503, what: 'a statement ran past the server’s statement_timeout' },
-  '57P01': { rule: 'registry-server-shutdown', status: 503, what: 'the server ended the connection (an administrator, or a shutdown)' },
-  '57P02': { rule: 'registry-server-shutdown', status: 503, what: 'the server is restarting after a crash' },
-  '57P03': { rule: 'registry-server-shutdown', status: 503, what: 'the server is starting up or shutting down and takes no connections' },
-  '42501': { rule: 'registry-permission-denied', status: 503, what: 'the database user lacks a privilege the registry needs' },
-  XX001: { rule: 'registry-corrupt', status: 503, what: 'the server reports corrupt data (restore from a backup)' },
-  XX002: { rule: 'registry-corrupt', status: 503, what: 'the server reports a corrupt index (REINDEX it)' },
+  '3D000': { rule: 'registry-database-missing', what: 'the server has no such database (create it first)' },
+  '53100': { rule: 'registry-disk-full', what: "the server's disk is full" },
+  '53200': { rule: 'registry-server-overloaded', what: 'the server is out of memory' },
+  '53300': { rule: 'registry-server-overloaded', what: 'the server has no free connection slot' },
+  '53400': { rule: 'registry-server-overloaded', what: 'the server hit one of its configured limits' },
+  '25006': { rule: 'registry-read-only', what: 'the database is read-only (a standby, or default_transaction_read_only)' },
+  '55P03': { rule: 'registry-busy', what: 'another writer held the registry locked for too long' },
+  '57014': { rule: 'registry-busy', what: 'a statement ran past the server’s statement_timeout' },
+  '57P01': { rule: 'registry-server-shutdown', what: 'the server ended the connection (an administrator, or a shutdown)' },
+  '57P02': { rule: 'registry-server-shutdown', what: 'the server is restarting after a crash' },
+  '57P03': { rule: 'registry-server-shutdown', what: 'the server is starting up or shutting down and takes no connections' },
+  '42501': { rule: 'registry-permission-denied', what: 'the database user lacks a privilege the registry needs' },
+  XX001: { rule: 'registry-corrupt', what: 'the server reports corrupt data (restore from a backup)' },
+  XX002: { rule: 'registry-corrupt', what: 'the server reports a corrupt index (REINDEX it)' },
 };
 
 const BY_CLASS: [prefix: string, fault: Fault][] = [
-  ['08', { rule: 'registry-unreachable', status: 503, what: 'the connection to the PostgreSQL server failed' }],
-  ['53', { rule: 'registry-server-overloaded', status: 503, what: 'the server is out of resources' }],
-  ['58', { rule: 'registry-io-error', status: 503, what: 'the server failed to read or write its files' }],
+  ['08', { rule: 'registry-unreachable', what: 'the connection to the PostgreSQL server failed' }],
+  ['53', { rule: 'registry-server-overloaded', what: 'the server is out of resources' }],
+  ['58', { rule: 'registry-io-error', what: 'the server failed to read or write its files' }],
 ];
 
 /** Node's socket and name-lookup errors while connecting. */
@@ -66,13 +66,7 @@ const NO_PASSWORD = /client password must be a string/;
  * <values>") whose `cause` is node-postgres's error with the SQLSTATE and the server's message.
  */
 export function driverError(err: unknown): unknown {
-  let e = err;
-  for (let depth = 0; depth < 4; depth++) {
-    const inner = (e as { name?: unknown; cause?: unknown } | null)?.cause;
-    if (inner === undefined || inner === null || typeof (e as { code?: unknown }).code === 'string') return e;
-    e = inner;
-  }
-  return e;
+  return err instanceof DrizzleQueryError && err.cause !== undefined ? err.cause : err;
 }
 
 function codeOf(wrapped: unknown): string | undefined {
@@ -121,7 +115,7 @@ export function pgEnvironmentFault(err: unknown, url: string): EnvironmentError 
   if (err instanceof EnvironmentError) return err;
   const fault = faultOf(err);
   if (!fault) return null;
-  return new EnvironmentError(fault.rule, `registry ${url}: ${fault.what} (${describe(err)}); nothing was written`, {}, fault.status);
+  return new EnvironmentError(fault.rule, `registry ${url}: ${fault.what} (${describe(err)}); nothing was written`);
 }
 
 /**
@@ -144,8 +138,6 @@ export function pgCommitFault(err: unknown, url: string): EnvironmentError {
   return new EnvironmentError(
     fault.rule,
     `registry ${url}: the connection was lost while committing (${describe(err)}); the write may or may not have been committed — look at the registry before repeating it`,
-    {},
-    fault.status,
   );
 }
 

@@ -200,17 +200,27 @@ export function inPgTransaction(handle: PgRegistry): boolean {
 export async function openPostgres(url: string, options: PgOpenOptions = {}): Promise<PgRegistry> {
   const shown = redactUrl(url);
   if (!isPostgresUrl(url)) {
-    throw new InputError('registry-url', `not a PostgreSQL URL: ${shown} (expected postgres://USER@HOST:PORT/DATABASE)`, {}, 400, {
-      option: 'db',
-      value: shown,
-    });
+    throw new InputError(
+      'registry-url',
+      `not a PostgreSQL URL: ${shown} (expected postgres://USER@HOST:PORT/DATABASE)`,
+      {},
+      {
+        option: 'db',
+        value: shown,
+      },
+    );
   }
   const poolSize = options.poolSize ?? DEFAULT_POOL_SIZE;
   if (!Number.isInteger(poolSize) || poolSize < 1) {
-    throw new InputError('registry-pool-size', `the pool size must be a whole number of 1 or more, not ${poolSize}`, {}, 400, {
-      option: 'pool_size',
-      value: String(poolSize),
-    });
+    throw new InputError(
+      'registry-pool-size',
+      `the pool size must be a whole number of 1 or more, not ${poolSize}`,
+      {},
+      {
+        option: 'pool_size',
+        value: String(poolSize),
+      },
+    );
   }
   let pool: pg.Pool;
   try {
@@ -221,10 +231,15 @@ export async function openPostgres(url: string, options: PgOpenOptions = {}): Pr
       application_name: options.applicationName ?? 'nkledger',
     });
   } catch (err) {
-    throw new InputError('registry-url', `cannot read the PostgreSQL URL ${shown}: ${(err as Error).message}`, {}, 400, {
-      option: 'db',
-      value: shown,
-    });
+    throw new InputError(
+      'registry-url',
+      `cannot read the PostgreSQL URL ${shown}: ${(err as Error).message}`,
+      {},
+      {
+        option: 'db',
+        value: shown,
+      },
+    );
   }
   // An idle connection the server ends (a restart, pg_terminate_backend) is reported here; the pool drops it and
   // the next query opens another. Without a listener the process would stop on the 'error' event.
