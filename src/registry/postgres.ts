@@ -60,7 +60,8 @@ export interface PgRegistry {
   readonly pool: pg.Pool;
   /**
    * Drizzle for queries: inside `pgWriteTransaction`/`pgReadSnapshot` of this handle, the one bound to the
-   * transaction's client; elsewhere the pool's (each query on any free connection, committed at once).
+   * transaction's client; elsewhere the pool's (each query on any free connection, committed at once). Read it
+   * where the query is made (`handle.db.select()…`), not into a variable kept across a transaction's edge.
    */
   readonly db: PgDb;
   /** The pool's drizzle, whatever transaction is running. */

@@ -2,7 +2,7 @@
  * Transactions on the PostgreSQL registry (src/registry/postgres.ts) and raw rows (postgres-sql.ts) on a real
  * server: a write commits or rolls back whole; inside it `handle.db` is the transaction's (its uncommitted row is
  * seen there and nowhere else); a nested write is a savepoint; the write lock makes writers on two pools (as on two
- * servers) run one at a time; a writer that waits too long is refused as `registry-busy`; a serialization failure
+ * servers) run one at a time and number versions without gaps; a writer that waits too long is refused as `registry-busy`; a serialization failure
  * is retried; a read snapshot sees one state and refuses writes; bigint columns come back as numbers.
  * Skipped with a plain message where PostgreSQL 15+ is not installed.
  */
@@ -11,7 +11,7 @@ import { afterAll, beforeAll, describe, expect, inject, it } from 'vitest';
 import { EnvironmentError } from '../../src/errors.ts';
 import { inPgTransaction, openPostgres, pgReadSnapshot, pgWriteTransaction, type PgRegistry } from '../../src/registry/postgres.ts';
 import { pgExecute, pgQueryRow, pgQueryRows } from '../../src/registry/postgres-sql.ts';
-import { registrySettings } from '../../src/registry/schema-pg.ts';
+import { materials, materialVersions, registrySettings } from '../../src/registry/schema-pg.ts';
 import { createDatabase } from '../helpers/postgres.ts';
 
 const server = inject('postgres');
@@ -187,6 +187,41 @@ describe.skipIf(!server.adminUrl)(`transactions on the PostgreSQL registry${serv
     ).catch((e: unknown) => e);
     expect(err).toBeInstanceOf(EnvironmentError);
     expect(err).toMatchObject({ rule: 'registry-read-only' });
+  });
+
+  it('writers through three handles (three servers) at once number versions 1..N without gaps or repeats', async () => {
+    const url = a.pool.options.connectionString as string;
+    const handles = [a, b, await openPostgres(url, { poolSize: 3, lockTimeoutMs: 30_000 })];
+    try {
+      await pgWriteTransaction(a, () =>
+        a.db.insert(materials).values({ slug: 'zno-sputter', name: 'Sputtered ZnO', createdBy: 'ada', createdAt: '2026-01-05T09:00:00.000Z' }),
+      );
+      const N = 30;
+      // What a service write does: read last_version through handle.db, pause (so the writers overlap), write number + 1.
+      const write = (handle: PgRegistry, i: number) =>
+        pgWriteTransaction(handle, async () => {
+          const [m] = await handle.db.select().from(materials).where(eq(materials.slug, 'zno-sputter'));
+          await sleep(1);
+          const number = m.lastVersion + 1;
+          await handle.db.insert(materialVersions).values({
+            materialId: m.id,
+            number,
+            content: `{"i":${i}}`,
+            sha256: `s${i}`,
+            createdBy: 'ada',
+            createdAt: '2026-01-05T09:00:00.000Z',
+          });
+          await handle.db.update(materials).set({ lastVersion: number }).where(eq(materials.id, m.id));
+          return number;
+        });
+      // b's short lock timeout is for the busy test: writers here go through a and the third handle.
+      const numbers = await Promise.all(Array.from({ length: N }, (_, i) => write(i % 2 === 0 ? a : handles[2], i)));
+      expect([...numbers].sort((x, y) => x - y)).toEqual(Array.from({ length: N }, (_, i) => i + 1));
+      const stored = await b.db.select({ number: materialVersions.number }).from(materialVersions).orderBy(materialVersions.number);
+      expect(stored.map((r) => r.number)).toEqual(Array.from({ length: N }, (_, i) => i + 1));
+    } finally {
+      await handles[2].close();
+    }
   });
 
   it('raw rows: count(*) and other bigint columns are numbers, as SQLite gives them; pgExecute returns the rows written', async () => {
