@@ -270,6 +270,16 @@ export async function openPostgres(url: string, options: PgOpenOptions = {}): Pr
   } catch (err) {
     release(true);
     await pool.end().catch(() => {});
+    const code = sqlState(err);
+    // A table, type or function of the same name made by something else: not a database to put the registry in.
+    if (code === '42P07' || code === '42710' || code === '42723') {
+      throw new InputError(
+        'registry-open',
+        `registry ${shown}: the database holds tables or functions nkledger did not make (${(driverError(err) as Error).message}); give an empty database or an nkledger registry`,
+        {},
+        { option: 'db', value: shown },
+      );
+    }
     throw pgEnvironmentFault(err, shown) ?? err;
   }
   const poolDb = drizzle(pool, { schema: schemaPg });

@@ -131,10 +131,13 @@ describe.skipIf(!server.adminUrl)(`change notices between servers on PostgreSQL$
     expect(await seenByB(() => pgWriteTransaction(a, () => pgExecute(a, sql`UPDATE materials SET name = 'ALD titanium dioxide'`)))).toBe(true);
   });
 
-  it('closing stops listening and reconnecting; closing the handle closes its counters', async () => {
+  it('before the first LISTEN every call is a change; closing the handle stops listening and reconnecting', async () => {
     const url = a.pool.options.connectionString as string;
     const c = await openPostgres(url, { poolSize: 1 });
     const counters = pgChangeCounters(c);
+    // Not listening yet: nothing may be trusted, every call is a change.
+    expect(counters.listening()).toBe(false);
+    expect(counters.other()).not.toBe(counters.other());
     await counters.whenListening();
     await c.close();
     expect(counters.listening()).toBe(false);

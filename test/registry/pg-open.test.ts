@@ -195,6 +195,23 @@ describe.skipIf(!server.adminUrl)(`opening the PostgreSQL registry${server.admin
     });
   });
 
+  it('a database that holds tables of something else is refused as registry-open (input), nothing of it changed', async () => {
+    const url = await createDatabase(adminUrl, 'nkledger_foreign');
+    const other = new pg.Client({ connectionString: url });
+    await other.connect();
+    try {
+      await other.query('CREATE TABLE materials (id integer, label text)');
+      const err = await openPostgres(url).catch((e: unknown) => e);
+      expect(err).toBeInstanceOf(InputError);
+      expect(err).toMatchObject({ rule: 'registry-open' });
+      expect((err as Error).message).toMatch(/relation "materials" already exists/);
+      const { rows } = await other.query("SELECT count(*)::int AS n FROM information_schema.tables WHERE table_schema = 'public'");
+      expect(rows[0].n).toBe(1); // the migration ran in one transaction, rolled back whole
+    } finally {
+      await other.end();
+    }
+  });
+
   it('a handle reads through drizzle with schema-pg.ts', async () => {
     const url = await createDatabase(adminUrl, 'nkledger_open_db');
     const handle: PgRegistry = await openPostgres(url);
