@@ -180,12 +180,20 @@ interface TxScope {
   readOnly: boolean;
 }
 
-const scope = new AsyncLocalStorage<TxScope>();
+/** The transactions running in this asynchronous context, one per handle (a transaction of one handle may run inside another's). */
+const scope = new AsyncLocalStorage<ReadonlyMap<PgRegistry, TxScope>>();
 
 /** The transaction of `handle` running in this asynchronous context, if any. */
 function currentScope(handle: PgRegistry): TxScope | undefined {
-  const s = scope.getStore();
-  return s?.handle === handle ? s : undefined;
+  return scope.getStore()?.get(handle);
+}
+
+/** Run `body` with `tx` bound to its handle, keeping the bindings of other handles' transactions around it. */
+function bound<T>(tx: TxScope, body: () => Promise<T>): Promise<T> {
+  const around = scope.getStore();
+  const next = new Map(around ?? []);
+  next.set(tx.handle, tx);
+  return scope.run(next, body);
 }
 
 /** True inside a transaction of `handle` (pgWriteTransaction or pgReadSnapshot). */
@@ -356,7 +364,7 @@ async function attempt<T>(handle: PgRegistry, begin: string, setup: string[], re
     try {
       for (const statement of setup) await client.query(statement);
       const db = drizzle(client, { schema: schemaPg });
-      const result = await scope.run({ handle, client, db, savepoints: 0, readOnly }, body);
+      const result = await bound({ handle, client, db, savepoints: 0, readOnly }, body);
       try {
         await client.query('COMMIT');
       } catch (err) {

@@ -106,6 +106,19 @@ describe.skipIf(!server.adminUrl)(`transactions on the PostgreSQL registry${serv
     expect(all).not.toContain('inner');
   });
 
+  it('a transaction of another handle inside one keeps both bound: each handle.db is its own transaction', async () => {
+    await pgWriteTransaction(a, async () => {
+      await a.db.insert(registrySettings).values(setting('outer_a', '1'));
+      await pgReadSnapshot(b, async () => {
+        expect(inPgTransaction(a)).toBe(true);
+        expect(inPgTransaction(b)).toBe(true);
+        expect(await keys(a)).toContain('outer_a'); // a's transaction, uncommitted
+        expect(await keys(b)).not.toContain('outer_a'); // b's snapshot
+      });
+      expect(inPgTransaction(b)).toBe(false);
+    });
+  });
+
   it('the write lock serializes writers on two pools: the second starts after the first commits', async () => {
     const events: string[] = [];
     let firstHasLock!: () => void;
