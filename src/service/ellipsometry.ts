@@ -508,6 +508,27 @@ export async function prepareEllipsometry(req: Omit<EllipsometryRequest, 'option
   return { sample, description, data, dataFile: req.data.file, dataSha256: createHash('sha256').update(req.data.bytes).digest('hex') };
 }
 
+/** How a front door runs the fit: here by default; the API passes its worker pool (with the request's abort signal). */
+export type EllipsometryCompute = (
+  sample: ResolvedSample,
+  data: PsiDeltaImport['data'],
+  options: EllipsometryOptions,
+) => Promise<EllipsometryReport> | EllipsometryReport;
+
+/**
+ * An ellipsometry fit from request to answer, for every front door (`nkledger ellipsometry fit`, POST
+ * /api/v1/ellipsometry/fit): read the Ψ/Δ data and the sample (registry reads), fit, and put the answer together.
+ * The prepared inputs and the report come back too, for the plot and for storing the film.
+ */
+export async function runEllipsometryRequest(
+  req: EllipsometryRequest,
+  compute: EllipsometryCompute = (sample, data, options) => fitEllipsometry(sample, data, options),
+): Promise<{ prepared: PreparedEllipsometry; report: EllipsometryReport; answer: EllipsometryAnswer }> {
+  const prepared = await prepareEllipsometry(req);
+  const report = await compute(prepared.sample, prepared.data.data, req.options);
+  return { prepared, report, answer: answerOf(prepared, report) };
+}
+
 export interface EllipsometryAnswer extends EllipsometryReport {
   data: { file: string; sha256: string; angles_deg: number[]; points: number; wavelength_range_nm: [number, number]; layout: 'long' | 'wide' };
   import_warnings: string[];

@@ -2,14 +2,14 @@
  * POST /api/v1/ellipsometry/fit: the answer of `nkledger ellipsometry fit --json`, from a multipart body with a
  * `data` file part (the Ψ/Δ file, read as the CLI reads it; import fields as for uploads) and a `sample` part (the
  * sample description JSON, as a file or a field); fields `starts` and `extrapolate`. File sources in the sample are
- * refused (the server's disk is not the client's). The fit, fitEllipsometry, runs on the server's compute pool,
+ * refused (the server's disk is not the client's). One service function, runEllipsometryRequest, reads, fits and answers; the fit runs on the server's compute pool,
  * never on the event loop; a full pool answers 503. Nothing is stored.
  */
 import type { Hono } from 'hono';
 import { z } from 'zod';
 import { InputError } from '../../errors.ts';
 import { parseOptionNumber } from '../../io/numbers.ts';
-import { answerOf, DEFAULT_STARTS, MAX_STARTS, prepareEllipsometry } from '../../service/ellipsometry.ts';
+import { DEFAULT_STARTS, MAX_STARTS, runEllipsometryRequest } from '../../service/ellipsometry.ts';
 import { renderEllipsometryPlot } from '../../service/ellipsometry-plot.ts';
 import type { ApiEnv } from '../auth.ts';
 import type { RouteContext } from '../context.ts';
@@ -98,25 +98,20 @@ export function registerEllipsometryRoute(app: Hono<ApiEnv>, ctx: RouteContext):
     const fields = parseInput(ELLIPSOMETRY_FIELDS, upload.fields, upload.fieldsIn, 400);
     const starts =
       fields.starts === undefined ? DEFAULT_STARTS : parseOptionNumber(fields.starts, 'starts', { integer: true, min: 1, max: MAX_STARTS });
-    const prepared = await prepareEllipsometry({
-      data: { bytes: upload.bytes, file: upload.file, importOptions: upload.importOptions },
-      sample: { text: fields.sample, file: SAMPLE },
-      resolve: { registry: ctx.registry, allowFiles: false },
-    });
-    const report = await ctx.compute.run(
+    const { prepared, report, answer } = await runEllipsometryRequest(
       {
-        kind: 'ellipsometry',
-        sample: prepared.sample,
-        data: prepared.data.data,
+        data: { bytes: upload.bytes, file: upload.file, importOptions: upload.importOptions },
+        sample: { text: fields.sample, file: SAMPLE },
+        resolve: { registry: ctx.registry, allowFiles: false },
         options: { starts, extrapolate: fields.extrapolate === 'true' },
       },
-      c.req.raw.signal,
+      (sample, data, options) => ctx.compute.run({ kind: 'ellipsometry', sample, data, options }, c.req.raw.signal),
     );
     c.header('cache-control', 'no-store');
     if (svg)
       return c.body(renderEllipsometryPlot(report, `${upload.file}: ${prepared.sample.design.name ?? 'sample'}`), 200, {
         'content-type': 'image/svg+xml',
       });
-    return c.json(answerOf(prepared, report));
+    return c.json(answer);
   });
 }

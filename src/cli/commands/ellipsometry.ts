@@ -7,16 +7,14 @@ import type { Command } from 'commander';
 import { importOptionsFrom, type ImportFlags } from '../../io/import-options.ts';
 import { parseOptionNumber } from '../../io/numbers.ts';
 import {
-  answerOf,
   DEFAULT_SIGMA_DELTA_DEG,
   DEFAULT_SIGMA_PSI_DEG,
   DEFAULT_STARTS,
   type EllipsometryAnswer,
   type EllipsometryProgress,
-  type EllipsometryReport,
   fitEllipsometry,
   MAX_STARTS,
-  prepareEllipsometry,
+  runEllipsometryRequest,
   storeFittedFilm,
 } from '../../service/ellipsometry.ts';
 import { renderEllipsometryPlot } from '../../service/ellipsometry-plot.ts';
@@ -83,21 +81,29 @@ export function register(program: Command): void {
             {},
             { option: 'store' },
           );
-        const prepared = await prepareEllipsometry({
-          data: { bytes: data.bytes, file: data.file, importOptions: importOptionsFrom(opts, cliOptionName) },
-          sample: { text: sampleText, file: sampleSource.file },
-          resolve: { db: opts.db, allowFiles: true, ...(server && { loadVersion: registryOps(opts).loadVersion }) },
-        });
-        const started = performance.now();
-        const progress = progressLine(started);
-        let report: EllipsometryReport;
+        // The fit's own time (reading the data and resolving the sample not included), and its progress line.
+        let started = 0;
+        let progress: ReturnType<typeof progressLine> = { update: undefined, clear: () => {} };
+        let run: Awaited<ReturnType<typeof runEllipsometryRequest>>;
         try {
-          report = fitEllipsometry(prepared.sample, prepared.data.data, { starts, extrapolate: opts.extrapolate ?? false }, progress.update);
+          run = await runEllipsometryRequest(
+            {
+              data: { bytes: data.bytes, file: data.file, importOptions: importOptionsFrom(opts, cliOptionName) },
+              sample: { text: sampleText, file: sampleSource.file },
+              resolve: { db: opts.db, allowFiles: true, ...(server && { loadVersion: registryOps(opts).loadVersion }) },
+              options: { starts, extrapolate: opts.extrapolate ?? false },
+            },
+            (sample, fitData, options) => {
+              started = performance.now();
+              progress = progressLine(started);
+              return fitEllipsometry(sample, fitData, options, progress.update);
+            },
+          );
         } finally {
           progress.clear();
         }
+        const { prepared, report, answer } = run;
         const seconds = (performance.now() - started) / 1000;
-        const answer = answerOf(prepared, report);
         printWarnings(answer.import_warnings);
         if (opts.plot)
           await writeFile(opts.plot, renderEllipsometryPlot(report, `${data.file}: ${prepared.sample.design.name ?? sampleSource.file}`));
