@@ -91,7 +91,7 @@ async function prepareRegistry(dbPath: string): Promise<{ token: string; editorT
       editorToken: (await createToken(registry, { user: 'bench-uploader', role: 'editor', createdBy: 'bench' })).token,
     };
   } finally {
-    registry.close();
+    await registry.close();
   }
 }
 

@@ -15,7 +15,7 @@ import { parseArgs } from 'node:util';
 import { createDatabase, startPostgres } from '../test/helpers/postgres.ts';
 import { activeToken, versionStatus } from '../src/registry/hot-reads.ts';
 import { pgActiveToken, pgVersionStatus } from '../src/registry/hot-reads-pg.ts';
-import { MIGRATIONS_FOLDER, type Registry } from '../src/registry/open.ts';
+import { MIGRATIONS_FOLDER, type Registry, sqliteRegistry } from '../src/registry/open.ts';
 import { openPostgres, pgWriteTransaction } from '../src/registry/postgres.ts';
 import { pgChangeCounters } from '../src/registry/postgres-changes.ts';
 import { pgExecute } from '../src/registry/postgres-sql.ts';
@@ -60,7 +60,7 @@ try {
   const db = drizzle(sqlite);
   migrate(db, { migrationsFolder: MIGRATIONS_FOLDER });
   for (const statement of ROWS) sqlite.exec(statement);
-  const registry: Registry = { path: ':memory:', db, sqlite, readonly: false, created: true, identity: null, close: () => sqlite.close() };
+  const registry: Registry = sqliteRegistry(sqlite, ':memory:', { readonly: false, created: true });
 
   const rows: [string, { median: number; p95: number }][] = [
     ['SQLite activeToken', await time(() => activeToken(registry, 'sha-ada'))],

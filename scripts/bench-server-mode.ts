@@ -52,7 +52,7 @@ await writeTransaction(registry, async () => {
     await appendAudit(registry, { actor: 'bench', action: 'material.create', materialId: row.id, material: slug, detail: { slug } });
   }
 });
-registry.close();
+await registry.close();
 
 const server = spawn(process.execPath, [BIN, 'serve', '--db', db, '--port', '0'], { stdio: ['ignore', 'pipe', 'inherit'] });
 try {

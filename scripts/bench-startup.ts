@@ -31,7 +31,7 @@ try {
   const db = join(dir, 'demo.db');
   const registry = await openRegistry(db);
   await buildDemoRegistry(registry, join(ROOT, 'data', 'marrowick'), join(dir, 'lock.json'));
-  registry.close();
+  await registry.close();
 
   const cases: { name: string; args: string[] }[] = [
     { name: '`node -e 0` (reference)', args: ['-e', '0'] },

@@ -85,6 +85,6 @@ try {
   }
   await compute.close();
 } finally {
-  registry.close();
+  await registry.close();
   rmSync(dir, { recursive: true, force: true });
 }

@@ -56,7 +56,7 @@ async function main(): Promise<void> {
   const setup = await openRegistry(db);
   const editor = (await createToken(setup, { user: 'soak-editor', role: 'editor', createdBy: 'soak' })).token;
   const approver = (await createToken(setup, { user: 'soak-approver', role: 'approver', createdBy: 'soak' })).token;
-  setup.close();
+  await setup.close();
 
   const server = spawn(process.execPath, [BIN, 'serve', '--db', db, '--host', '127.0.0.1', '--port', '0'], { stdio: ['ignore', 'pipe', 'pipe'] });
   let serverStderr = '';

@@ -20,6 +20,9 @@ const CHALLENGE = 'Bearer realm="nkledger"';
  * Who each presented token stands for is remembered until the registry changes (a revocation is a
  * change), so a design tool polling n,k does not pay a hash and an SQLite lookup per request. The
  * memo is keyed by the token as presented; it lives only in this process's memory, like the request.
+ * On PostgreSQL there is no memo: several servers share the database, and a token revoked through one must
+ * be refused by every other on its next request, which a change notice arriving a moment later cannot promise
+ * (src/registry/postgres-changes.ts); the lookup is one indexed read.
  */
 export function authenticate(registry: Registry, changes: RegistryChanges): MiddlewareHandler<ApiEnv> {
   const principals = new ChangeMemo<Principal | undefined>(changes);
@@ -36,7 +39,9 @@ export function authenticate(registry: Registry, changes: RegistryChanges): Midd
       });
     }
     const token = match[1];
-    const principal = await principals.get(token, () => authenticateToken(registry, token));
+    const principal = changes.memoizeTokens
+      ? await principals.get(token, () => authenticateToken(registry, token))
+      : await authenticateToken(registry, token);
     if (!principal) {
       throw new HttpProblem(401, 'auth-invalid-token', 'the bearer token is unknown or has been revoked', {
         'www-authenticate': `${CHALLENGE}, error="invalid_token"`,

@@ -14,6 +14,8 @@
  *   A commit by another process therefore shows from the next turn of the event loop on: when idle,
  *   at the next request; under load about 20 requests share a turn here, and a turn can last
  *   milliseconds (libuv reads more than 1024 ready sockets in one turn).
+ * On PostgreSQL both counters are plain numbers (src/registry/postgres-changes.ts: commits through this
+ * handle, and notices from a LISTEN connection), so both are read on every call.
  */
 import { changeCounters } from '../registry/hot-reads.ts';
 import type { Registry } from '../registry/open.ts';
@@ -23,6 +25,10 @@ export class RegistryChanges {
   private own = -1;
   private other = -1;
   private otherCheckedThisTurn = false;
+  /** Whether `other()` is cheap enough to read on every call (PostgreSQL's). */
+  private readonly otherEveryCall: boolean;
+  /** False on PostgreSQL: who a token stands for is asked of the database on every request (src/api/auth.ts). */
+  readonly memoizeTokens: boolean;
   private stamp = 0;
   private readonly endTurn = () => {
     this.otherCheckedThisTurn = false;
@@ -30,13 +36,16 @@ export class RegistryChanges {
 
   constructor(registry: Registry) {
     this.counters = changeCounters(registry);
+    this.otherEveryCall = registry.dialect === 'postgres';
+    this.memoizeTokens = registry.dialect !== 'postgres';
   }
 
   /** A number that is different from every earlier one as soon as a change is seen (see above). */
   current(): number {
     const own = this.counters.own();
     let other = this.other;
-    if (!this.otherCheckedThisTurn) {
+    if (this.otherEveryCall) other = this.counters.other();
+    else if (!this.otherCheckedThisTurn) {
       other = this.counters.other();
       this.otherCheckedThisTurn = true;
       setImmediate(this.endTurn);

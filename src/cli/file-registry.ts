@@ -25,7 +25,7 @@ export async function withRegistry<T>(opts: { db?: string }, use: (registry: Reg
   } catch (err) {
     throw environmentFault(err, registry.path) ?? err;
   } finally {
-    registry.close();
+    await registry.close();
   }
 }
 

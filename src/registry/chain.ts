@@ -17,7 +17,7 @@ import { sql } from 'drizzle-orm';
 import { canonicalJson, sha256Hex } from './canonical.ts';
 import type { Registry } from './open.ts';
 import { formatRef } from './refs.ts';
-import { execute, queryRow, queryRows } from './sql.ts';
+import { binaryCollate, execute, queryRow, queryRows } from './sql.ts';
 import { immediateTransaction } from './transaction.ts';
 
 export const GENESIS_TYPE = 'chain.genesis';
@@ -188,7 +188,7 @@ export async function storedVersionStates(registry: Registry): Promise<StoredVer
   return queryRows<StoredVersionState>(
     registry,
     sql`SELECT m.slug, v.number, v.sha256, v.status, v.created_by, v.approved_by, v.retired_by, v.withdrawn_by
-      FROM material_versions v JOIN materials m ON m.id = v.material_id ORDER BY m.slug, v.number`,
+      FROM material_versions v JOIN materials m ON m.id = v.material_id ORDER BY m.slug${binaryCollate(registry)}, v.number`,
   );
 }
 

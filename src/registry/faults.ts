@@ -4,6 +4,7 @@
  * is one transaction, so a failed write is rolled back whole; a failed read writes nothing anyway.
  */
 import { EnvironmentError } from '../errors.ts';
+import { pgEnvironmentFault } from './postgres-faults.ts';
 
 interface Fault {
   rule: string;
@@ -21,13 +22,16 @@ const FAULTS: [prefix: string, fault: Fault][] = [
   ['SQLITE_BUSY', { rule: 'registry-busy', what: 'another process held the registry locked for too long' }],
 ];
 
-/** The EnvironmentError for a SQLite fault of the environment, or null for anything else. */
+/**
+ * The EnvironmentError for a fault of the environment reported by SQLite, or by PostgreSQL or its connection
+ * (postgres-faults.ts: unreachable server, refused login, missing database, full disk …) when `file` is the
+ * registry's (redacted) postgres:// URL, or null for anything else.
+ */
 export function environmentFault(err: unknown, file: string): EnvironmentError | null {
   if (err instanceof EnvironmentError) return err;
   const code = (err as { code?: unknown } | null)?.code;
-  if (typeof code !== 'string') return null;
-  const found = FAULTS.find(([prefix]) => code === prefix || code.startsWith(`${prefix}_`));
-  if (!found) return null;
+  const found = typeof code === 'string' ? FAULTS.find(([prefix]) => code === prefix || code.startsWith(`${prefix}_`)) : undefined;
+  if (!found) return /^postgres(?:ql)?:\/\//i.test(file) ? pgEnvironmentFault(err, file) : null;
   const { rule, what } = found[1];
   return new EnvironmentError(rule, `registry ${file}: ${what} (${code}: ${(err as Error).message}); nothing was written`);
 }

@@ -1,4 +1,5 @@
 /**
+ * On PostgreSQL each goes to its twin in hot-reads-pg.ts (loaded only then).
  * Plain prepared statements on the better-sqlite3 handle for the API's hot read paths, where drizzle's result
  * mapping doubled the cost (9 µs → 22 µs measured for the status lookup). One statement per registry, prepared
  * on first use. Everything else reads through drizzle. Asynchronous like every registry read (the statements
@@ -29,6 +30,7 @@ const statusOf = preparedPer(
 
 /** Status of slug@number, or undefined when there is no such version. */
 export async function versionStatus(registry: Registry, slug: string, number: number): Promise<VersionStatus | undefined> {
+  if (registry.pg) return (await import('./hot-reads-pg.ts')).pgVersionStatus(registry.pg, slug, number);
   return statusOf(registry).get(slug, number)?.status;
 }
 
@@ -50,6 +52,7 @@ const tokenBy = preparedPer(
 
 /** The unrevoked token whose secret hashes to `sha256`, or undefined. */
 export async function activeToken(registry: Registry, sha256: string): Promise<ActiveToken | undefined> {
+  if (registry.pg) return (await import('./hot-reads-pg.ts')).pgActiveToken(registry.pg, sha256);
   return tokenBy(registry).get(sha256);
 }
 
@@ -59,6 +62,10 @@ export async function activeToken(registry: Registry, sha256: string): Promise<A
  * last use is a convenience, never a reason to refuse a request.
  */
 export async function noteTokenUse(registry: Registry, tokenId: string, at: string): Promise<void> {
+  if (registry.pg) {
+    await (await import('./hot-reads-pg.ts')).pgNoteTokenUse(registry.pg, tokenId, at);
+    return;
+  }
   const busyTimeout = registry.sqlite.pragma('busy_timeout', { simple: true }) as number;
   try {
     registry.sqlite.pragma('busy_timeout = 0');
@@ -74,10 +81,23 @@ export async function noteTokenUse(registry: Registry, tokenId: string, at: stri
  * Two counters that move when the registry changes: `own()`, commits on this connection (`SELECT
  * total_changes()`, no lock, about 0.1 µs); `other()`, commits by any other connection (`PRAGMA data_version`,
  * https://sqlite.org/pragma.html#pragma_data_version; a read transaction, about 5 µs under WAL).
- * SQLite only, and synchronous on purpose: it runs on every cached request (src/api/registry-changes.ts).
+ * Synchronous on purpose: it runs on every cached request (src/api/registry-changes.ts). On PostgreSQL, the
+ * counters of postgres-changes.ts (a LISTEN connection), made once per registry handle and closed with it.
  */
 export function changeCounters(registry: Registry): { own: () => number; other: () => number } {
+  if (registry.pg) {
+    const make = pgCounters.get(registry);
+    if (!make) throw new Error('changeCounters: the PostgreSQL registry was not opened through openRegistry');
+    return make();
+  }
   const own = registry.sqlite.prepare<[], number>('SELECT total_changes()').pluck();
   const other = registry.sqlite.prepare<[], number>('PRAGMA data_version').pluck();
   return { own: () => own.get() as number, other: () => other.get() as number };
+}
+
+/** How to make a PostgreSQL registry's change counters, set by open.ts (which loaded postgres-changes.ts). */
+const pgCounters = new WeakMap<Registry, () => { own: () => number; other: () => number }>();
+
+export function setPgCounters(registry: Registry, make: () => { own: () => number; other: () => number }): void {
+  pgCounters.set(registry, make);
 }

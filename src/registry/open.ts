@@ -11,6 +11,38 @@ import { fileURLToPath } from 'node:url';
 import { EnvironmentError, InputError } from '../errors.ts';
 import { ensureGenesis } from './chain.ts';
 import { environmentFault } from './faults.ts';
+import { setPgCounters } from './hot-reads.ts';
+import type { PgRegistry } from './postgres.ts';
+import * as sqliteSchema from './schema.ts';
+import * as sqliteAuthSchema from './schema-auth.ts';
+
+/**
+ * The registry's tables as the query builder needs them for the registry's dialect: schema.ts and
+ * schema-auth.ts on SQLite, schema-pg.ts on PostgreSQL. Typed as SQLite's; the PostgreSQL twins have the same
+ * JS keys and values (schema-pg.ts), so the same query code builds the right SQL for either.
+ */
+export interface RegistryTables {
+  materials: typeof sqliteSchema.materials;
+  materialVersions: typeof sqliteSchema.materialVersions;
+  auditLog: typeof sqliteSchema.auditLog;
+  registrySettings: typeof sqliteSchema.registrySettings;
+  apiTokens: typeof sqliteAuthSchema.apiTokens;
+  webSessions: typeof sqliteAuthSchema.webSessions;
+  webPendingUploads: typeof sqliteAuthSchema.webPendingUploads;
+}
+
+const SQLITE_TABLES: RegistryTables = {
+  materials: sqliteSchema.materials,
+  materialVersions: sqliteSchema.materialVersions,
+  auditLog: sqliteSchema.auditLog,
+  registrySettings: sqliteSchema.registrySettings,
+  apiTokens: sqliteAuthSchema.apiTokens,
+  webSessions: sqliteAuthSchema.webSessions,
+  webPendingUploads: sqliteAuthSchema.webPendingUploads,
+};
+
+/** Which database holds the registry. */
+export type Dialect = 'sqlite' | 'postgres';
 
 /** The migrations folder of this package (not of the current directory). */
 export const MIGRATIONS_FOLDER = fileURLToPath(new URL('../../drizzle', import.meta.url));
@@ -18,19 +50,35 @@ export const MIGRATIONS_FOLDER = fileURLToPath(new URL('../../drizzle', import.m
 /** How long a writer waits for another process's write lock before giving up, in ms. */
 export const BUSY_TIMEOUT_MS = 5000;
 
-/** An open registry: the drizzle handle for queries, the raw better-sqlite3 handle for transactions and backup. */
+/**
+ * An open registry: the drizzle handle for queries, the raw better-sqlite3 handle for transactions and backup
+ * (SQLite), or the PostgreSQL handle (postgres.ts). Query code reads `registry.db` and `registry.tables` and
+ * awaits query builders (never `.run()`/`.get()`/`.all()`, which only SQLite's drizzle has), so one text serves
+ * both dialects; raw SQL goes through sql.ts, which dispatches.
+ */
 export interface Registry {
-  /** Path of the database file as opened. */
+  readonly dialect: Dialect;
+  /** Path of the database file as opened; on PostgreSQL, the URL with its password masked. */
   readonly path: string;
+  /**
+   * Drizzle for queries. On PostgreSQL the node-postgres drizzle of `pg.db` (bound to the running transaction),
+   * typed as SQLite's so the same query code compiles: use only what both have.
+   */
   readonly db: BetterSQLite3Database;
+  /** The better-sqlite3 handle; reading it on a PostgreSQL registry throws (SQLite-only code reached). */
   readonly sqlite: Database.Database;
+  /** The PostgreSQL handle, or null on SQLite. */
+  readonly pg: PgRegistry | null;
+  /** The tables of this registry's dialect, for the query builder. */
+  readonly tables: RegistryTables;
   /** Opened read-only (asked for, or the file or its folder is not writable): reads work, writes are refused. */
   readonly readonly: boolean;
   /** True when this open created the database file. */
   readonly created: boolean;
-  /** Device and inode of the file when opened, to notice it being removed or replaced (null for :memory:). */
+  /** Device and inode of the file when opened, to notice it being removed or replaced (null for :memory: and PostgreSQL). */
   readonly identity: FileIdentity | null;
-  close(): void;
+  /** Close the database (SQLite: at once; PostgreSQL: the pool and its listeners, when the promise settles). */
+  close(): Promise<void>;
 }
 
 export interface FileIdentity {
@@ -80,6 +128,7 @@ function writable(file: string): boolean {
  */
 export async function openRegistry(path?: string, options: OpenOptions = {}): Promise<Registry> {
   const file = registryPath(path);
+  if (/^postgres(?:ql)?:\/\//i.test(file)) return openPostgresRegistry(file, options);
   const memory = file === ':memory:';
   const exists = memory || existsSync(file);
   const create = options.create ?? 'always';
@@ -116,7 +165,7 @@ export async function openRegistry(path?: string, options: OpenOptions = {}): Pr
       sqlite.pragma('journal_mode = WAL');
       applyMigrations(db, sqlite);
     }
-    const registry: Registry = { path: file, db, sqlite, readonly, created: !exists, identity: identityOf(file), close: () => sqlite.close() };
+    const registry = sqliteRegistry(sqlite, file, { readonly, created: !exists });
     if (!readonly) await ensureGenesis(registry);
     return registry;
   } catch (err) {
@@ -126,6 +175,77 @@ export async function openRegistry(path?: string, options: OpenOptions = {}): Pr
     }
     throw environmentFault(err, file) ?? err;
   }
+}
+
+/** A Registry over an open better-sqlite3 handle whose schema is current (openRegistry; tests and benchmarks on :memory:). */
+export function sqliteRegistry(sqlite: Database.Database, file: string, flags: { readonly: boolean; created: boolean }): Registry {
+  return {
+    dialect: 'sqlite',
+    path: file,
+    db: drizzle(sqlite),
+    sqlite,
+    pg: null,
+    tables: SQLITE_TABLES,
+    readonly: flags.readonly,
+    created: flags.created,
+    identity: identityOf(file),
+    close: async () => {
+      sqlite.close();
+    },
+  };
+}
+
+/**
+ * Open the registry on PostgreSQL (postgres.ts, loaded only now so that commands on SQLite files never load the
+ * driver). There is no file to create: `options.create` does not apply (the database must exist; the schema is
+ * created in it: a missing database is `registry-database-missing`, exit 4). With `readonly` the schema is still
+ * brought up to date but no genesis event is written, and writes are refused as on a read-only file.
+ */
+async function openPostgresRegistry(url: string, options: OpenOptions): Promise<Registry> {
+  const [{ openPostgres }, schemaPg, { pgChangeCounters }] = await Promise.all([
+    import('./postgres.ts'),
+    import('./schema-pg.ts'),
+    import('./postgres-changes.ts'),
+  ]);
+  const pg = await openPostgres(url);
+  const tables = {
+    materials: schemaPg.materials,
+    materialVersions: schemaPg.materialVersions,
+    auditLog: schemaPg.auditLog,
+    registrySettings: schemaPg.registrySettings,
+    apiTokens: schemaPg.apiTokens,
+    webSessions: schemaPg.webSessions,
+    webPendingUploads: schemaPg.webPendingUploads,
+  } as unknown as RegistryTables;
+  const registry: Registry = {
+    dialect: 'postgres',
+    path: pg.url,
+    get db() {
+      return pg.db as unknown as BetterSQLite3Database;
+    },
+    get sqlite(): Database.Database {
+      throw new Error('SQLite-only code reached on a PostgreSQL registry');
+    },
+    pg,
+    tables,
+    readonly: options.readonly === true,
+    created: pg.migrationsApplied > 0,
+    identity: null,
+    close: () => pg.close(),
+  };
+  // One LISTEN connection per handle, made when a server first asks (a CLI command never does); closed with the pool.
+  let counters: ReturnType<typeof pgChangeCounters> | undefined;
+  setPgCounters(registry, () => {
+    counters ??= pgChangeCounters(pg);
+    return counters;
+  });
+  try {
+    if (!registry.readonly) await ensureGenesis(registry);
+  } catch (err) {
+    await pg.close().catch(() => {});
+    throw err;
+  }
+  return registry;
 }
 
 /**
@@ -172,7 +292,7 @@ function openReadOnly(file: string): Database.Database {
  * One stat call.
  */
 export function stillSameFile(registry: Registry): boolean {
-  if (!registry.identity) return true;
+  if (registry.dialect === 'postgres' || !registry.identity) return true;
   try {
     const st = statSync(registry.path);
     return st.dev === registry.identity.dev && st.ino === registry.identity.ino;

@@ -12,11 +12,11 @@ import { first, queryRow, queryRows } from './sql.ts';
 import { immediateTransaction } from './transaction.ts';
 import { stillSameFile, type Registry } from './open.ts';
 import { formatRef } from './refs.ts';
-import { materials, materialVersions } from './schema.ts';
+import type * as tableTypes from './schema.ts';
 import type { MaterialRecord, Provenance, VersionContent, VersionRecord } from './types.ts';
 
-export type MaterialRow = typeof materials.$inferSelect;
-export type VersionRow = typeof materialVersions.$inferSelect;
+export type MaterialRow = typeof tableTypes.materials.$inferSelect;
+export type VersionRow = typeof tableTypes.materialVersions.$inferSelect;
 
 /**
  * The layout of what a version's SHA-256 covers (the document below). Changing what is hashed makes a new
@@ -103,6 +103,7 @@ export async function appendAudit(registry: Registry, entry: NewEvent): Promise<
 }
 
 export async function findMaterial(registry: Registry, slug: string): Promise<MaterialRow> {
+  const { materials } = registry.tables;
   const row = await first(registry.db.select().from(materials).where(eq(materials.slug, slug)).limit(1));
   if (!row)
     throw new NotFoundError(
@@ -113,6 +114,7 @@ export async function findMaterial(registry: Registry, slug: string): Promise<Ma
 }
 
 export async function findVersion(registry: Registry, material: MaterialRow, number: number): Promise<VersionRow> {
+  const { materialVersions } = registry.tables;
   const row = await first(
     registry.db
       .select()
@@ -220,6 +222,7 @@ export function versionRecord(slug: string, row: VersionRow, content: VersionCon
 
 /** Newest approved (not retired) version number of a material, or null. */
 export async function latestApprovedNumber(registry: Registry, materialId: number): Promise<number | null> {
+  const { materialVersions } = registry.tables;
   const row = await first(
     registry.db
       .select({ number: sql<number | null>`max(${materialVersions.number})` })
@@ -266,9 +269,11 @@ const CONTENT_SUMMARY = sql<string>`json_object(
 
 /** The version rows of a material, oldest first, with `content` cut down to CONTENT_SUMMARY (enough for versionRecord). */
 export async function versionSummaryRows(registry: Registry, materialId: number): Promise<VersionRow[]> {
+  const { materialVersions } = registry.tables;
   const { content: _content, ...columns } = getTableColumns(materialVersions);
+  const summary = registry.pg ? (await import('./content-summary-pg.ts')).CONTENT_SUMMARY_PG : CONTENT_SUMMARY;
   return registry.db
-    .select({ ...columns, content: CONTENT_SUMMARY })
+    .select({ ...columns, content: summary })
     .from(materialVersions)
     .where(eq(materialVersions.materialId, materialId))
     .orderBy(asc(materialVersions.number));

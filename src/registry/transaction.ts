@@ -13,6 +13,10 @@
  * one turn of the event loop, but a read from another promise chain that resumes between two of its
  * statements runs on the same connection and sees them before the commit. A read that needs a consistent
  * view of several statements uses `readTransaction`.
+ *
+ * On PostgreSQL (registry.pg) both go to postgres.ts: `immediateTransaction` is `pgWriteTransaction` (the
+ * write lock nkledger_write_lock() across servers, savepoints when nested) and `readTransaction` is
+ * `pgReadSnapshot` (REPEATABLE READ, READ ONLY); there is no queue, the pool serves transactions at once.
  */
 import { AsyncLocalStorage } from 'node:async_hooks';
 import type { Registry } from './open.ts';
@@ -87,11 +91,13 @@ async function transaction<T>(registry: Registry, begin: string, body: () => Pro
  * registry's earlier transactions; inside another transaction of this registry, a savepoint of it. No checks:
  * records.ts `writeTransaction` is the one every change goes through.
  */
-export function immediateTransaction<T>(registry: Registry, body: () => Promise<T>): Promise<T> {
+export async function immediateTransaction<T>(registry: Registry, body: () => Promise<T>): Promise<T> {
+  if (registry.pg) return (await import('./postgres.ts')).pgWriteTransaction(registry.pg, body);
   return transaction(registry, 'BEGIN IMMEDIATE', body);
 }
 
 /** `body` as one read transaction (a consistent snapshot across its statements), queued like a write. */
-export function readTransaction<T>(registry: Registry, body: () => Promise<T>): Promise<T> {
+export async function readTransaction<T>(registry: Registry, body: () => Promise<T>): Promise<T> {
+  if (registry.pg) return (await import('./postgres.ts')).pgReadSnapshot(registry.pg, body);
   return transaction(registry, 'BEGIN DEFERRED', body);
 }

@@ -8,7 +8,6 @@ import { ConflictError, InputError } from '../errors.ts';
 import type { Registry } from '../registry/open.ts';
 import { appendAudit, nowIso, verifiedContentOf, versionRecord, writeTransaction, type VersionRow } from '../registry/records.ts';
 import { formatRef } from '../registry/refs.ts';
-import { materialVersions } from '../registry/schema.ts';
 import type { VersionRecord, VersionStatus } from '../registry/types.ts';
 import { checkActor, sameUser } from './actor.ts';
 import { reviewOf, type ReviewSummary } from './review.ts';
@@ -29,6 +28,7 @@ async function lockedVersion(registry: Registry, ref: string, expected: VersionS
 }
 
 async function transition(registry: Registry, row: VersionRow, from: VersionStatus, set: Partial<VersionRow>): Promise<VersionRow> {
+  const { materialVersions } = registry.tables;
   const [updated] = await registry.db
     .update(materialVersions)
     .set(set)

@@ -17,7 +17,6 @@ import { chainHead, readAuditRows, walkChain } from '../registry/chain.ts';
 import type { Registry } from '../registry/open.ts';
 import { findMaterial } from '../registry/records.ts';
 import { formatRef, SLUG_PATTERN } from '../registry/refs.ts';
-import { materialVersions } from '../registry/schema.ts';
 import type { VersionStatus } from '../registry/types.ts';
 import { recomputedSha256 } from './registry-admin.ts';
 import { resolveRow } from './versions.ts';
@@ -277,6 +276,7 @@ export interface LockOutdatedEntry {
 
 /** For each entry, the approved versions newer than the one locked (only entries that have some). */
 export async function lockOutdated(registry: Registry, lock: Lockfile): Promise<LockOutdatedEntry[]> {
+  const { materialVersions } = registry.tables;
   const out: LockOutdatedEntry[] = [];
   for (const slug of Object.keys(lock.materials).sort()) {
     const locked = lock.materials[slug];

@@ -1,5 +1,6 @@
 /** Materials: create, list, and the history of one (its versions and audit log). */
 import { asc, count, eq } from 'drizzle-orm';
+import { binaryOrder } from '../registry/sql.ts';
 import { ConflictError, InputError } from '../errors.ts';
 import type { Registry } from '../registry/open.ts';
 import {
@@ -14,7 +15,6 @@ import {
 } from '../registry/records.ts';
 import { checkSlug, formatRef } from '../registry/refs.ts';
 import { first } from '../registry/sql.ts';
-import { auditLog, materials, materialVersions } from '../registry/schema.ts';
 import type { AuditEntry, MaterialRecord, VersionRecord, VersionStatus } from '../registry/types.ts';
 import { checkActor } from './actor.ts';
 import { hiddenLookAlike } from './look-alike.ts';
@@ -66,6 +66,7 @@ function checkTags(given: string[]): string[] {
  * "SiO2" entries cannot tell which one its designs pin. `except` is the material being renamed.
  */
 async function refuseLookAlikes(registry: Registry, slug: string | undefined, name: string | undefined, except?: string): Promise<void> {
+  const { materials } = registry.tables;
   const others = await registry.db.select({ slug: materials.slug, name: materials.name }).from(materials);
   for (const other of others) {
     if (other.slug === except) continue;
@@ -90,6 +91,7 @@ async function refuseLookAlikes(registry: Registry, slug: string | undefined, na
 
 /** Create a material (no versions yet). Refuses a taken slug with ConflictError, and a look-alike slug or name. */
 export async function createMaterial(registry: Registry, input: NewMaterial, actor: string): Promise<MaterialRecord> {
+  const { materials } = registry.tables;
   const who = checkActor(actor);
   const slug = checkSlug(input.slug);
   const name = checkName(input.name);
@@ -132,6 +134,7 @@ export async function editMaterial(
   edit: MaterialEdit,
   actor: string,
 ): Promise<MaterialRecord & { changed: string[] }> {
+  const { materials } = registry.tables;
   const who = checkActor(actor);
   const slug = checkSlug(slugText);
   if ([edit.name, edit.description, edit.tags, edit.addTags, edit.removeTags].every((v) => v === undefined)) {
@@ -181,7 +184,11 @@ export async function editMaterial(
 
 /** All materials, by slug; optionally only those carrying `tag`. */
 export async function listMaterials(registry: Registry, filter: { tag?: string } = {}): Promise<MaterialRecord[]> {
-  const rows = await registry.db.select().from(materials).orderBy(asc(materials.slug));
+  const { materials } = registry.tables;
+  const rows = await registry.db
+    .select()
+    .from(materials)
+    .orderBy(asc(binaryOrder(registry, materials.slug)));
   const latest = await latestApprovedNumbers(registry);
   const records = await Promise.all(rows.map((row) => materialRecord(registry, row, latest)));
   return records.filter((m) => filter.tag === undefined || m.tags.includes(filter.tag));
@@ -189,6 +196,7 @@ export async function listMaterials(registry: Registry, filter: { tag?: string }
 
 /** How many versions of each material are in each status (one query; materials without versions are absent). */
 export async function versionStatusCounts(registry: Registry): Promise<Map<string, Record<VersionStatus, number>>> {
+  const { materials, materialVersions } = registry.tables;
   const rows = await registry.db
     .select({ slug: materials.slug, status: materialVersions.status, count: count() })
     .from(materialVersions)
@@ -217,6 +225,7 @@ export async function history(
   registry: Registry,
   slug: string,
 ): Promise<{ material: MaterialRecord; versions: VersionRecord[]; audit: AuditEntry[] }> {
+  const { auditLog } = registry.tables;
   const row = await findMaterial(registry, checkSlug(slug));
   const rows = await versionSummaryRows(registry, row.id);
   const numberById = new Map(rows.map((v) => [v.id, v.number]));

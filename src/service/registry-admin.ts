@@ -1,6 +1,7 @@
 /** Whole-registry checks and copies: `verify` (hashes, audit chain, triggers, integrity) and `backup` (SQLite online backup). */
 import { existsSync, linkSync, rmSync } from 'node:fs';
 import { asc, eq } from 'drizzle-orm';
+import { binaryOrder } from '../registry/sql.ts';
 import { ConflictError, InputError } from '../errors.ts';
 import { readAuditRows, walkChain, type ChainedVersion, type ChainHead, type ChainWalk } from '../registry/chain.ts';
 import { environmentFault } from '../registry/faults.ts';
@@ -10,7 +11,6 @@ import { readTransaction } from '../registry/transaction.ts';
 
 import { provenanceOf, versionSha256, type VersionRow } from '../registry/records.ts';
 import { formatRef } from '../registry/refs.ts';
-import { materials, materialVersions } from '../registry/schema.ts';
 import type { VersionContent } from '../registry/types.ts';
 
 /** Triggers created by drizzle/0001_immutability.sql and 0007_audit_chain_append.sql (verify compares them all by their SQL). */
@@ -116,6 +116,7 @@ function crossCheck(ref: string, row: VersionRow, computed: string | null, chain
  * version's hash, status and lifecycle against the chain's events.
  */
 export async function verifyRegistry(registry: Registry): Promise<VerifyReport> {
+  const { materials, materialVersions } = registry.tables;
   const integrity = await integrityCheck(registry);
   const mismatches: HashMismatch[] = [];
   const missing: string[] = [];
@@ -125,7 +126,10 @@ export async function verifyRegistry(registry: Registry): Promise<VerifyReport> 
   const seen = new Set<string>();
   const read = async () => {
     walk = walkChain(await readAuditRows(registry));
-    for (const material of await registry.db.select().from(materials).orderBy(asc(materials.slug))) {
+    for (const material of await registry.db
+      .select()
+      .from(materials)
+      .orderBy(asc(binaryOrder(registry, materials.slug)))) {
       const rows = await registry.db
         .select()
         .from(materialVersions)

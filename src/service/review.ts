@@ -10,10 +10,10 @@ import type { KkReport } from '../kk/check.ts';
 import type { Registry } from '../registry/open.ts';
 import { verifiedContentOf, type MaterialRow, type VersionRow } from '../registry/records.ts';
 import { formatRef } from '../registry/refs.ts';
-import { materials, materialVersions } from '../registry/schema.ts';
 import type { TokenRole } from '../registry/schema-auth.ts';
 import type { VersionContent, VersionStatus } from '../registry/types.ts';
 import { eq } from 'drizzle-orm';
+import { binaryOrder } from '../registry/sql.ts';
 import { sameUser } from './actor.ts';
 import { readSettings } from './settings.ts';
 import { roleAllows } from './tokens.ts';
@@ -205,6 +205,7 @@ export interface ReviewQueue {
  * unless `allow_self_approval` is on) and only when their role allows approval.
  */
 export async function reviewQueue(registry: Registry, reviewer: Reviewer): Promise<ReviewQueue> {
+  const { materials, materialVersions } = registry.tables;
   if (reviewer.role !== null && !roleAllows(reviewer.role, 'approver')) {
     return {
       user: reviewer.user,
@@ -220,7 +221,10 @@ export async function reviewQueue(registry: Registry, reviewer: Reviewer): Promi
     .from(materialVersions)
     .innerJoin(materials, eq(materials.id, materialVersions.materialId))
     .where(eq(materialVersions.status, 'draft'))
-    .orderBy(materialVersions.createdAt, materials.slug, materialVersions.number)) as { material: MaterialRow; row: VersionRow }[];
+    .orderBy(materialVersions.createdAt, binaryOrder(registry, materials.slug), materialVersions.number)) as {
+    material: MaterialRow;
+    row: VersionRow;
+  }[];
 
   const drafts: ReviewQueueEntry[] = [];
   let own = 0;

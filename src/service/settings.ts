@@ -6,7 +6,6 @@
  */
 import { eq } from 'drizzle-orm';
 import { z } from 'zod';
-import { registrySettings } from '../registry/schema.ts';
 import { ConflictError, InputError } from '../errors.ts';
 import type { Registry } from '../registry/open.ts';
 import { appendAudit, isServerProcess, nowIso, writeTransaction } from '../registry/records.ts';
@@ -141,6 +140,7 @@ export function anonymousReadsAllowed(settings: Pick<Settings, 'anonymous_reads'
 
 /** All settings, stored values over defaults. */
 export async function readSettings(registry: Registry): Promise<Settings> {
+  const { registrySettings } = registry.tables;
   const settings = Object.fromEntries(SETTING_KEYS.map((k) => [k, SETTINGS[k].default])) as Record<string, unknown>;
   for (const row of await registry.db.select().from(registrySettings)) if (row.key in SETTINGS) settings[row.key] = JSON.parse(row.value);
   return settings as Settings;
@@ -148,6 +148,7 @@ export async function readSettings(registry: Registry): Promise<Settings> {
 
 /** Store a validated value (already typed, as the API receives it). */
 export async function writeSetting(registry: Registry, key: string, value: unknown, actor: string): Promise<Settings> {
+  const { registrySettings } = registry.tables;
   const updatedBy = checkActor(actor);
   const k = parseSettingKey(key);
   const json = JSON.stringify(validate(k, value));
@@ -171,6 +172,7 @@ export async function writeSettingText(registry: Registry, key: string, text: st
 
 /** Forget a stored value so the default applies again. */
 export async function resetSetting(registry: Registry, key: string, actor: string): Promise<Settings> {
+  const { registrySettings } = registry.tables;
   const updatedBy = checkActor(actor);
   const k = parseSettingKey(key);
   refuseDirectWritesChange(registry, k);

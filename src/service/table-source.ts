@@ -142,6 +142,6 @@ export async function withExistingRegistry<T>(source: string, db: string | undef
   try {
     return await use(registry);
   } finally {
-    registry.close();
+    await registry.close();
   }
 }

@@ -5,7 +5,9 @@
  */
 import { randomBytes } from 'node:crypto';
 import { eq, isNull } from 'drizzle-orm';
-import { apiTokens, TOKEN_ROLES, type TokenRole } from '../registry/schema-auth.ts';
+import { binaryOrder } from '../registry/sql.ts';
+import { TOKEN_ROLES, type TokenRole } from '../registry/schema-auth.ts';
+import type * as tableTypes from '../registry/schema-auth.ts';
 import type { Registry } from '../registry/open.ts';
 import { sha256Hex } from '../registry/canonical.ts';
 import { activeToken, noteTokenUse } from '../registry/hot-reads.ts';
@@ -60,7 +62,7 @@ export function roleAllows(role: TokenRole, required: TokenRole): boolean {
   return TOKEN_ROLES.indexOf(role) >= TOKEN_ROLES.indexOf(required);
 }
 
-function toInfo(row: typeof apiTokens.$inferSelect, now = Date.now()): TokenInfo {
+function toInfo(row: typeof tableTypes.apiTokens.$inferSelect, now = Date.now()): TokenInfo {
   return {
     id: row.id,
     user: row.user,
@@ -91,6 +93,7 @@ export async function createToken(
   registry: Registry,
   input: { user: string; role: string; createdBy: string; expires?: string },
 ): Promise<CreatedToken> {
+  const { apiTokens } = registry.tables;
   const user = checkActor(input.user);
   const createdBy = checkActor(input.createdBy);
   const role = parseRole(input.role);
@@ -118,11 +121,12 @@ export async function createToken(
 
 /** Every token, oldest first; revoked and expired ones included unless `activeOnly`. */
 export async function listTokens(registry: Registry, options: { activeOnly?: boolean } = {}): Promise<TokenInfo[]> {
+  const { apiTokens } = registry.tables;
   const rows = (await registry.db
     .select()
     .from(apiTokens)
     .where(options.activeOnly ? isNull(apiTokens.revokedAt) : undefined)
-    .orderBy(apiTokens.createdAt, apiTokens.id)) as (typeof apiTokens.$inferSelect)[];
+    .orderBy(apiTokens.createdAt, binaryOrder(registry, apiTokens.id))) as (typeof tableTypes.apiTokens.$inferSelect)[];
   const now = Date.now();
   const tokens = rows.map((row) => toInfo(row, now));
   return options.activeOnly ? tokens.filter((t) => !t.expired) : tokens;
@@ -130,8 +134,11 @@ export async function listTokens(registry: Registry, options: { activeOnly?: boo
 
 /** Revoke a token by id. Revoking twice is refused (409) so a typo'd id is noticed. */
 export async function revokeToken(registry: Registry, id: string, actor: string): Promise<TokenInfo> {
+  const { apiTokens } = registry.tables;
   const revokedBy = checkActor(actor);
-  const row = (await first(registry.db.select().from(apiTokens).where(eq(apiTokens.id, id)).limit(1))) as typeof apiTokens.$inferSelect | undefined;
+  const row = (await first(registry.db.select().from(apiTokens).where(eq(apiTokens.id, id)).limit(1))) as
+    | typeof tableTypes.apiTokens.$inferSelect
+    | undefined;
   if (!row) throw new NotFoundError(`no token with id "${id}" (see \`nkledger token list\`)`, 'token-not-found');
   if (row.revokedAt) throw new ConflictError(`token ${id} was already revoked at ${row.revokedAt} by ${row.revokedBy}`, 'token-revoked');
   const revokedAt = nowIso();

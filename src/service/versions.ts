@@ -24,7 +24,6 @@ import {
 import { formatRef, parseRef } from '../registry/refs.ts';
 import { first } from '../registry/sql.ts';
 
-import { materials, materialVersions } from '../registry/schema.ts';
 import type { StoredFitReport, StoredKkReport, VersionContent, VersionDetail, VersionRecord, VersionStatus } from '../registry/types.ts';
 import { checkActor } from './actor.ts';
 import { normalizeProvenance, type ProvenanceInput } from './provenance.ts';
@@ -96,6 +95,7 @@ function checkFit(fit: StoredFitReport): StoredFitReport {
  * version that is not withdrawn (ConflictError naming it).
  */
 export async function importVersion(registry: Registry, input: NewVersion, actor: string): Promise<ImportedVersion> {
+  const { materials, materialVersions } = registry.tables;
   const who = checkActor(actor);
   const slug = parseRef(input.slug).slug;
   const content: VersionContent = {
@@ -210,10 +210,11 @@ async function noApprovedVersion(registry: Registry, material: MaterialRow): Pro
 }
 
 async function byHashPrefix(registry: Registry, material: MaterialRow, prefix: string): Promise<VersionRow> {
+  const { materialVersions } = registry.tables;
   const rows = await registry.db
     .select()
     .from(materialVersions)
-    .where(and(eq(materialVersions.materialId, material.id), like(materialVersions.sha256, `${prefix}%`)))
+    .where(and(eq(materialVersions.materialId, material.id), like(materialVersions.sha256, `${prefix.toLowerCase()}%`)))
     .orderBy(desc(materialVersions.number));
   if (rows.length === 0) throw new NotFoundError(`${material.slug} has no version whose SHA-256 starts with ${prefix}`, 'version-unknown');
   const hashes = new Set(rows.map((r) => r.sha256));

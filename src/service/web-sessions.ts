@@ -13,7 +13,6 @@ import type { ImportOptions } from '../io/parse-table.ts';
 import { sha256Hex } from '../registry/canonical.ts';
 import type { Registry } from '../registry/open.ts';
 import { nowIso, writeTransaction } from '../registry/records.ts';
-import { apiTokens, webPendingUploads, webSessions } from '../registry/schema-auth.ts';
 import { authenticateToken, recordTokenUse, tokenExpired, type Principal } from './tokens.ts';
 
 /** How long a session lasts from sign-in: a working day and a bit, then the token is pasted again. */
@@ -34,6 +33,7 @@ export interface WebSession {
 
 /** Sign in: `token` must be a live API token. Returns the cookie secret (shown to the browser only) and the session. */
 export async function startSession(registry: Registry, token: string): Promise<{ secret: string; session: WebSession }> {
+  const { webSessions } = registry.tables;
   const principal = await authenticateToken(registry, token.trim());
   if (!principal) {
     throw new InputError(
@@ -72,6 +72,7 @@ export async function startSession(registry: Registry, token: string): Promise<{
 
 /** The live session a cookie secret stands for, or undefined (unknown, expired, signed out, token revoked or expired). */
 export async function findSession(registry: Registry, secret: string): Promise<WebSession | undefined> {
+  const { apiTokens, webSessions } = registry.tables;
   if (!/^[A-Za-z0-9_-]{43}$/.test(secret)) return undefined;
   const now = nowIso();
   const [row] = await registry.db
@@ -105,6 +106,7 @@ export async function findSession(registry: Registry, secret: string): Promise<W
 
 /** Sign out: the session row goes (and the uploads it held). */
 export async function endSession(registry: Registry, session: WebSession): Promise<void> {
+  const { webSessions } = registry.tables;
   await writeTransaction(registry, async () => {
     await registry.db.delete(webSessions).where(eq(webSessions.idSha256, session.key));
   });
@@ -135,6 +137,7 @@ export async function putPendingUpload(
   session: WebSession,
   upload: { slug: string; fileName: string; bytes: Uint8Array; importOptions: ImportOptions },
 ): Promise<PendingUpload> {
+  const { webPendingUploads } = registry.tables;
   const id = randomBytes(12).toString('base64url');
   const createdAt = nowIso();
   await writeTransaction(registry, async () => {
@@ -162,6 +165,7 @@ export async function putPendingUpload(
 
 /** A pending upload of this session; another session's, an expired or an unknown one is "not found". */
 export async function getPendingUpload(registry: Registry, session: WebSession, id: string): Promise<PendingUpload> {
+  const { webPendingUploads } = registry.tables;
   const [row] = await registry.db
     .select()
     .from(webPendingUploads)
@@ -185,6 +189,7 @@ export async function getPendingUpload(registry: Registry, session: WebSession, 
 
 /** Forget a pending upload of this session (after storing it, or when the person discards it). */
 export async function dropPendingUpload(registry: Registry, session: WebSession, id: string): Promise<void> {
+  const { webPendingUploads } = registry.tables;
   await writeTransaction(registry, async () => {
     await registry.db.delete(webPendingUploads).where(and(eq(webPendingUploads.id, id), eq(webPendingUploads.sessionSha256, session.key)));
   });

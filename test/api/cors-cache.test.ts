@@ -134,7 +134,7 @@ describe('graceful close', () => {
     expect(res.status).toBe(201);
     await closed;
     await expect(fetch(`${h.url}/api/v1/materials`)).rejects.toThrow();
-    h.registry.close();
+    await h.registry.close();
     rmSync(h.dir, { recursive: true, force: true });
   });
 });

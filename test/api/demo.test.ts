@@ -31,7 +31,7 @@ describe('demo registry', () => {
   });
   afterAll(async () => {
     await server.close();
-    registry.close();
+    await registry.close();
     rmSync(dir, { recursive: true, force: true });
   });
 

@@ -53,7 +53,7 @@ export async function startHarness(options: Partial<ServerOptions> = {}): Promis
     },
     async stop() {
       await server.close();
-      registry.close();
+      await registry.close();
       rmSync(dir, { recursive: true, force: true });
     },
   };

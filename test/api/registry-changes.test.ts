@@ -45,7 +45,7 @@ describe('RegistryChanges and ChangeMemo', () => {
     try {
       await createMaterial(other, { slug: 'other-connection', name: 'Written elsewhere' }, 'lab-editor');
     } finally {
-      other.close();
+      await other.close();
     }
     await nextTurn();
     expect(await value()).toBe(2);

@@ -162,7 +162,7 @@ describe('tokens that end', () => {
     try {
       await recordTokenUse(ro, (await authenticateToken(ro, t.token))!);
     } finally {
-      ro.close();
+      await ro.close();
     }
     expect((await listTokens(h.registry)).find((x) => x.id === t.id)!.last_used_at).toBeNull();
   });
@@ -186,7 +186,7 @@ describe('migration of a registry made before tokens could expire', () => {
         expect(await authenticateToken(registry, secret)).toMatchObject({ user: 'ada', role: 'approver', expiresAt: null });
         expect((await verifyRegistry(registry)).ok).toBe(true);
       } finally {
-        registry.close();
+        await registry.close();
       }
     } finally {
       rmSync(dir, { recursive: true, force: true });

@@ -35,7 +35,7 @@ describe('settings routes and command', { timeout: 120_000 }, () => {
 
   it('`nkledger settings` shows, sets and resets allow_self_approval; the old self-approval command is gone', async () => {
     const db = join(h.dir, 'cli.db');
-    (await openRegistry(db)).close(); // the CLI's settings command works on an existing registry only
+    await (await openRegistry(db)).close(); // the CLI's settings command works on an existing registry only
     const run = (...args: string[]) => runCli(args, { env: { NKLEDGER_USER: 'ada', NKLEDGER_DB: db } });
     const shown = await run('settings', 'show');
     expect(shown.code).toBe(0);

@@ -73,7 +73,7 @@ describe.skipIf(!HAVE_CHROMIUM)('the browser workspace in chromium', () => {
   afterAll(async () => {
     await browser?.close();
     await server?.close();
-    registry?.close();
+    await registry?.close();
     if (dir) rmSync(dir, { recursive: true, force: true });
     if (Object.keys(weights).length) console.log('first-load bytes transferred per page:', weights);
   });

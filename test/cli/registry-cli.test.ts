@@ -120,7 +120,7 @@ describe('registry CLI', { timeout: 240_000 }, () => {
       );
       expect((await verifyRegistry(registry)).ok).toBe(false);
     } finally {
-      registry.close();
+      await registry.close();
     }
     const v = await run(['verify']);
     expect(v.code).toBe(3);
@@ -180,7 +180,7 @@ describe('several processes importing into one database at once', { timeout: 240
       expect(audit.n).toBe(count);
       expect((await verifyRegistry(registry)).ok).toBe(true);
     } finally {
-      registry.close();
+      await registry.close();
     }
   });
 

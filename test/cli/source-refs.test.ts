@@ -44,7 +44,7 @@ beforeAll(async () => {
     const fit = fitTable(cauchyTable(), { model: 'cauchy' });
     await importVersion(registry, { slug: 'model-only', fit: fit as never }, 'ada');
   } finally {
-    registry.close();
+    await registry.close();
   }
 });
 afterAll(() => rmSync(dir, { recursive: true, force: true }));

@@ -42,7 +42,7 @@ export async function startLab(): Promise<Lab> {
   const start = await openRegistry(template);
   const tokens = {} as Record<Person, string>;
   for (const [user, role] of Object.entries(PEOPLE)) tokens[user as Person] = (await createToken(start, { user, role, createdBy: 'setup' })).token;
-  start.close();
+  await start.close();
   const fileDb = join(dir, 'file.db');
   const serverDb = join(dir, 'server.db');
   copyFileSync(template, fileDb);
@@ -63,7 +63,7 @@ export async function startLab(): Promise<Lab> {
         : { ...CLEAN_ENV, NKLEDGER_SERVER: server.url, NKLEDGER_TOKEN: tokens[person] },
     async stop() {
       await server.close(1000);
-      registry.close();
+      await registry.close();
       rmSync(dir, { recursive: true, force: true });
     },
   };

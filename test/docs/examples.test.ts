@@ -46,7 +46,7 @@ beforeAll(async () => {
   try {
     await buildDemoRegistry(registry, join(ROOT, 'data', 'marrowick'), join(sandbox, '.demo', 'design-lock.json'));
   } finally {
-    registry.close();
+    await registry.close();
   }
   const bin = join(sandbox, '.bin');
   mkdirSync(bin);

@@ -53,7 +53,7 @@ export async function projectPlots(): Promise<ProjectPlot[]> {
     }
     add('diff-sinx-pecvd', diffPlotSpec(await diffVersions(registry, 'sinx-pecvd@1', 'sinx-pecvd@2')));
   } finally {
-    registry.close();
+    await registry.close();
     rmSync(dir, { recursive: true, force: true });
   }
   return plots;

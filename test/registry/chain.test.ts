@@ -258,7 +258,7 @@ describe('a registry written before the chain existed', () => {
       expect(genesis.earlier_events).toBe(3);
       expect((await verifyRegistry(registry)).ok).toBe(true);
       // Opening again does not start a second chain.
-      (await openRegistry(path)).close();
+      await (await openRegistry(path)).close();
       expect((await readAuditRows(registry)).filter((r: AuditRow) => r.action === GENESIS_TYPE)).toHaveLength(1);
 
       registry.sqlite.exec('DROP TRIGGER audit_log_no_update');
@@ -267,7 +267,7 @@ describe('a registry written before the chain existed', () => {
         'the 3 audit rows written before the chain started no longer match the digest its genesis event recorded',
       ]);
     } finally {
-      registry.close();
+      await registry.close();
     }
   });
 });

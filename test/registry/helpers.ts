@@ -1,39 +1,105 @@
-/** Shared fixtures for registry tests: a registry in a fresh temp directory and a small n,k table. */
+/** Shared fixtures for registry tests: a registry in a fresh temp directory (or a fresh PostgreSQL database) and a small n,k table. */
 import Database from 'better-sqlite3';
 import { drizzle } from 'drizzle-orm/better-sqlite3';
 import { migrate } from 'drizzle-orm/better-sqlite3/migrator';
 import { cpSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
+import pg from 'pg';
+import { inject } from 'vitest';
 import { MIGRATIONS_FOLDER } from '../../src/registry/open.ts';
 import { createMaterial, importVersion, openRegistry, type Registry } from '../../src/service/registry.ts';
 import type { NkTable } from '../../src/table.ts';
+import { createDatabase } from '../helpers/postgres.ts';
 
 export interface TempRegistry {
   dir: string;
+  /** The file's path, or the database's postgres:// URL. */
   path: string;
   registry: Registry;
-  cleanup(): void;
+  cleanup(): Promise<void>;
 }
 
-export async function tempRegistry(): Promise<TempRegistry> {
+/**
+ * The backends the registry suites run on: SQLite always, PostgreSQL when the run's throw-away server is up
+ * (test/postgres-global-setup.ts). `describe.each(BACKENDS)` runs a suite on each.
+ */
+export type Backend = 'sqlite' | 'postgres';
+
+const provided = inject('postgres');
+export const BACKENDS: Backend[] = provided.adminUrl ? ['sqlite', 'postgres'] : ['sqlite'];
+/** Said once per file where PostgreSQL is missing, so the run shows why the registry suites ran on SQLite only. */
+export const POSTGRES_SKIPPED = provided.adminUrl ? null : `registry suites on PostgreSQL skipped: ${provided.missing}`;
+if (POSTGRES_SKIPPED) console.warn(POSTGRES_SKIPPED);
+
+let template: Promise<string> | undefined;
+
+/**
+ * A database migrated once per worker process, then closed: new databases are copied from it (CREATE DATABASE …
+ * TEMPLATE, a file copy on the server), which is much faster than migrating each. Truncating a registry is refused
+ * by its triggers, so a fresh database is the clean way to a fresh registry.
+ */
+function migratedTemplate(adminUrl: string): Promise<string> {
+  template ??= (async () => {
+    const url = await createDatabase(adminUrl, 'nkledger_template');
+    const registry = await openRegistry(url);
+    await registry.close();
+    return new URL(url).pathname.slice(1);
+  })();
+  return template;
+}
+
+let copies = 0;
+
+/** A fresh PostgreSQL database holding an empty, migrated registry; its URL. */
+export async function freshPostgresUrl(): Promise<string> {
+  const adminUrl = provided.adminUrl;
+  if (!adminUrl) throw new Error(provided.missing ?? 'no PostgreSQL server');
+  const from = await migratedTemplate(adminUrl);
+  const name = `nkledger_reg_${process.pid}_${copies++}`;
+  const client = new pg.Client({ connectionString: adminUrl });
+  await client.connect();
+  try {
+    await client.query(`CREATE DATABASE "${name}" TEMPLATE "${from}"`);
+  } finally {
+    await client.end();
+  }
+  const url = new URL(adminUrl);
+  url.pathname = `/${name}`;
+  return url.toString();
+}
+
+async function dropDatabase(url: string): Promise<void> {
+  const adminUrl = provided.adminUrl;
+  if (!adminUrl) return;
+  const client = new pg.Client({ connectionString: adminUrl });
+  await client.connect();
+  try {
+    await client.query(`DROP DATABASE IF EXISTS "${new URL(url).pathname.slice(1)}" WITH (FORCE)`);
+  } finally {
+    await client.end();
+  }
+}
+
+export async function tempRegistry(backend: Backend = 'sqlite'): Promise<TempRegistry> {
   const dir = mkdtempSync(join(tmpdir(), 'nkledger-reg-'));
-  const path = join(dir, 'test.db');
+  const path = backend === 'postgres' ? await freshPostgresUrl() : join(dir, 'test.db');
   const registry = await openRegistry(path);
   return {
     dir,
     path,
     registry,
-    cleanup() {
-      registry.close();
+    async cleanup() {
+      await registry.close();
+      if (backend === 'postgres') await dropDatabase(path);
       rmSync(dir, { recursive: true, force: true });
     },
   };
 }
 
 /** A temp registry holding material "film" with one draft version (cauchyTable), created by "ada". */
-export async function tempRegistryWithDraft(): Promise<TempRegistry> {
-  const t = await tempRegistry();
+export async function tempRegistryWithDraft(backend: Backend = 'sqlite'): Promise<TempRegistry> {
+  const t = await tempRegistry(backend);
   await createMaterial(t.registry, { slug: 'film', name: 'Film' }, 'ada');
   await importVersion(t.registry, { slug: 'film', table: cauchyTable() }, 'ada');
   return t;
@@ -67,4 +133,23 @@ export function databaseAtMigration(dir: string, name: string, lastIdx: number):
   const sqlite = new Database(join(dir, name));
   migrate(drizzle(sqlite), { migrationsFolder: folder });
   return sqlite;
+}
+
+/**
+ * Run raw SQL on the registry's own connection, bypassing the service (tests that plant rows or try to tamper):
+ * `?` placeholders on both backends. Rows as plain objects.
+ */
+export async function rawSql<T = Record<string, unknown>>(registry: Registry, text: string, params: unknown[] = []): Promise<T[]> {
+  if (registry.pg) {
+    let n = 0;
+    const { rows } = await registry.pg.pool.query(
+      text.replace(/\?/g, () => `$${++n}`),
+      params,
+    );
+    return rows as T[];
+  }
+  const statement = registry.sqlite.prepare(text);
+  if (statement.reader) return statement.all(...params) as T[];
+  statement.run(...params);
+  return [];
 }

@@ -12,7 +12,7 @@ import { migrate as migrateSqlite } from 'drizzle-orm/better-sqlite3/migrator';
 import { afterAll, beforeAll, describe, expect, inject, it } from 'vitest';
 import { activeToken, versionStatus } from '../../src/registry/hot-reads.ts';
 import { pgActiveToken, pgNoteTokenUse, pgVersionStatus } from '../../src/registry/hot-reads-pg.ts';
-import { MIGRATIONS_FOLDER, type Registry } from '../../src/registry/open.ts';
+import { MIGRATIONS_FOLDER, type Registry, sqliteRegistry } from '../../src/registry/open.ts';
 import { openPostgres, pgWriteTransaction, type PgRegistry } from '../../src/registry/postgres.ts';
 import { pgExecute, pgQueryRow } from '../../src/registry/postgres-sql.ts';
 import { createDatabase } from '../helpers/postgres.ts';
@@ -47,7 +47,7 @@ describe.skipIf(!server.adminUrl)(`hot reads on PostgreSQL${server.adminUrl ? ''
     migrateSqlite(db, { migrationsFolder: MIGRATIONS_FOLDER });
     for (const statement of ROWS) sqlite.exec(statement.replace('FALSE', '0'));
     // The hot reads of SQLite need only `sqlite` of a Registry.
-    onSqlite = { path: ':memory:', db, sqlite, readonly: false, created: true, identity: null, close: () => sqlite.close() };
+    onSqlite = sqliteRegistry(sqlite, ':memory:', { readonly: false, created: true });
   });
   afterAll(async () => {
     await a?.close();

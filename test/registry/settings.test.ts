@@ -129,7 +129,7 @@ describe('migration of a registry made before the settings were merged', () => {
       ]);
       expect(registry.sqlite.prepare("SELECT name FROM sqlite_master WHERE name = 'api_settings'").all()).toEqual([]);
     } finally {
-      registry.close();
+      await registry.close();
     }
   });
 });

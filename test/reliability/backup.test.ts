@@ -50,7 +50,7 @@ async function committedVersions(): Promise<Map<string, string>> {
       .all() as { ref: string; sha256: string }[];
     return new Map(rows.map((row) => [row.ref, row.sha256]));
   } finally {
-    r.close();
+    await r.close();
   }
 }
 
@@ -79,7 +79,7 @@ describe('backup while two processes keep writing', { timeout: 120_000 }, () => 
         try {
           await backup(live, file);
         } finally {
-          live.close();
+          await live.close();
         }
         sizes.push(await expectHolds(file, before));
       }
@@ -137,8 +137,8 @@ describe('backup while two processes keep writing', { timeout: 120_000 }, () => 
       expect(outcome).toBe('done');
       expect(await expectHolds(target, new Map())).toBeGreaterThanOrEqual(60);
     } finally {
-      source.close();
-      writer.close();
+      await source.close();
+      await writer.close();
     }
   });
 
@@ -153,7 +153,7 @@ describe('backup while two processes keep writing', { timeout: 120_000 }, () => 
       expect(v.ref).toBe('after-restore@1');
       expect((await verifyRegistry(r)).ok).toBe(true);
     } finally {
-      r.close();
+      await r.close();
     }
   });
 });

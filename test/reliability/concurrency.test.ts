@@ -33,7 +33,7 @@ describe('processes and HTTP clients on one registry at once', { timeout: 120_00
     for (const slug of MATERIALS) await createMaterial(setup, { slug, name: `Concurrency ${slug}` }, 'setup');
     const editor = (await createToken(setup, { user: 'http-editor', role: 'editor', createdBy: 'setup' })).token;
     const approver = (await createToken(setup, { user: 'http-approver', role: 'approver', createdBy: 'setup' })).token;
-    setup.close();
+    await setup.close();
     const server = await serve(db);
 
     /** Acknowledged writes: ref → sha256; and refs acknowledged as approved. */

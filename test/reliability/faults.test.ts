@@ -72,7 +72,7 @@ beforeAll(async () => {
   editor = { authorization: `Bearer ${(await createToken(registry, { user: 'eve', role: 'editor', createdBy: 'root' })).token}` };
   registry.sqlite.pragma('wal_checkpoint(TRUNCATE)');
   registry.sqlite.pragma('journal_mode = DELETE');
-  registry.close();
+  await registry.close();
 });
 afterAll(() => rmSync(dir, { recursive: true, force: true }));
 
@@ -102,7 +102,7 @@ describe('a full disk (SQLITE_FULL)', () => {
       expect(registry.sqlite.prepare('SELECT (SELECT count(*) FROM material_versions) v, (SELECT count(*) FROM audit_log) a').get()).toEqual(before);
       expect((await verifyRegistry(registry)).ok).toBe(true);
     } finally {
-      registry.close();
+      await registry.close();
     }
   });
 
@@ -135,7 +135,7 @@ describe('a full disk (SQLITE_FULL)', () => {
       expect(logged).toEqual([expect.stringMatching(/full.*\[registry-disk-full\]/)]);
     } finally {
       await server.close();
-      registry.close();
+      await registry.close();
     }
   });
 });
@@ -153,7 +153,7 @@ describe('a read-only registry file', () => {
       await expect(approve(registry, 'film@2', 'bob')).rejects.toThrow(/open read-only.*nothing was written/);
       await expect(approve(registry, 'film@2', 'bob')).rejects.toThrow(EnvironmentError);
     } finally {
-      registry.close();
+      await registry.close();
     }
     expect(readFileSync(path).equals(bytes)).toBe(true);
   });
@@ -232,7 +232,7 @@ describe('a read-only registry file', () => {
       expect(await res.json()).toMatchObject({ rule: 'registry-read-only', status: 503 });
     } finally {
       await server.close();
-      registry.close();
+      await registry.close();
     }
   });
 });
@@ -309,7 +309,7 @@ describe('a registry file removed or replaced under a running server', () => {
       expect((await withdraw(4)).status).toBe(503);
     } finally {
       await server.close();
-      registry.close();
+      await registry.close();
     }
   });
 
@@ -322,7 +322,7 @@ describe('a registry file removed or replaced under a running server', () => {
       renameSync(`${path}.moved`, path); // back under its name: the same file again, writes resume
       expect((await approve(registry, 'film@2', 'bob')).status).toBe('approved');
     } finally {
-      registry.close();
+      await registry.close();
     }
   });
 });

@@ -91,7 +91,7 @@ export async function checkRegistryFile(path: string): Promise<RegistryCheck> {
     }
     if (auditOf.size > 0) problems.push(`audit rows for versions that do not exist: ${[...auditOf.keys()].join(',')}`);
   } finally {
-    registry.close();
+    await registry.close();
   }
   return { problems, versions };
 }

@@ -82,7 +82,7 @@ beforeAll(async () => {
 
 afterAll(async () => {
   await server?.close();
-  registry?.close();
+  await registry?.close();
   rmSync(dir, { recursive: true, force: true });
 });
 

@@ -38,7 +38,7 @@ beforeAll(async () => {
     await importVersion(registry, { slug: 'oxide', table: cauchyTable(1.47) }, 'ada');
     await approve(registry, 'oxide@2', 'bob');
   } finally {
-    registry.close();
+    await registry.close();
   }
 });
 afterAll(() => rmSync(dir, { recursive: true, force: true }));

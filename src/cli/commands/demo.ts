@@ -57,7 +57,7 @@ async function buildDemo(paths: DemoPaths): Promise<string[]> {
       ...verdict,
     ];
   } finally {
-    registry.close();
+    await registry.close();
   }
   renameSync(temp, paths.db);
   return lines;

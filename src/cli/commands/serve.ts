@@ -36,7 +36,7 @@ export async function serveUntilSignal(
       extend: (app, shared) => app.all('*', forwardToPages(createWebPages({ registry, ...shared, settings: options.settings }))),
     });
   } catch (err) {
-    registry.close();
+    await registry.close();
     const code = (err as { code?: string }).code;
     if (code === 'EADDRINUSE') {
       // Under `npm start` the flag has to pass through npm: say so, or the advice does not work as typed.
@@ -59,10 +59,10 @@ export async function serveUntilSignal(
       cliIo().stderr.write(`nkledger serve: ${signal}: no new connections; open requests get ${grace} s to finish, then the registry closes\n`);
       process.off('SIGINT', stop);
       process.off('SIGTERM', stop);
-      void server.close(grace * 1000).then(() => {
-        registry.close();
-        resolve();
-      });
+      void server
+        .close(grace * 1000)
+        .then(() => registry.close())
+        .then(resolve, resolve);
     };
     process.on('SIGINT', stop);
     process.on('SIGTERM', stop);

@@ -1,0 +1,13 @@
+import { startPostgres, createDatabase } from '../test/helpers/postgres.ts';
+import { spawnSync } from 'node:child_process';
+const s = await startPostgres();
+if ('missing' in s) throw new Error(s.missing);
+const url = await createDatabase(s.adminUrl);
+const run = (...a: string[]) => { const r = spawnSync('node', ['bin/nkledger.js', ...a, '--db', url], { encoding: 'utf8' }); console.log('$', a.join(' '), '->', r.status, '\n', r.stdout.slice(0, 800), r.stderr.slice(0, 800)); };
+run('material', 'add', 'sio2-a', '--name', 'Oxide');
+run('list');
+run('verify');
+run('backup', '/tmp/x.db');
+run('history', 'sio2-a');
+run('list', '--db', url.replace(/:\d+\//, ':1/'));
+s.stop();
