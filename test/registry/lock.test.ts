@@ -120,7 +120,7 @@ describe('lockfiles', () => {
       expect(report.history).toMatchObject({ outcome: 'rewritten', failed: true });
       expect(report.ok).toBe(false);
     } finally {
-      other.cleanup();
+      await other.cleanup();
     }
   });
 

@@ -48,7 +48,7 @@ beforeAll(async () => {
 
 afterAll(async () => {
   await compute.close();
-  temp.cleanup();
+  await temp.cleanup();
 });
 
 const get = async (path: string, b?: Browser) => {
