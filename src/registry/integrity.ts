@@ -49,13 +49,25 @@ const sameSql = (a: string, b: string) => a.replace(/\s+/g, ' ').trim() === b.re
 
 export interface TriggerCheck {
   missing: string[];
+  /** Present but not firing (PostgreSQL: ALTER TABLE … DISABLE TRIGGER); always empty on SQLite, which cannot disable one. */
+  disabled: string[];
   /** Present under the expected name, with other SQL (e.g. a `WHEN 0` that never fires). */
   altered: string[];
   /** Triggers no migration created. */
   unexpected: string[];
 }
 
+/**
+ * The registry's triggers against those its migrations create. On PostgreSQL, from the catalogue (integrity-pg.ts:
+ * triggers by pg_get_triggerdef, their functions by body, disabled ones), on the registry's current connection
+ * (inside `readTransaction`, the snapshot's).
+ */
 export async function checkTriggers(registry: Registry): Promise<TriggerCheck> {
+  if (registry.pg) {
+    const { checkPgDefences } = await import('./integrity-pg.ts');
+    const client = (registry.pg.db as unknown as { $client: import('./integrity-pg.ts').PgQueryable }).$client;
+    return checkPgDefences(client);
+  }
   const triggers = await queryRows<{ name: string; sql: string | null }>(
     registry,
     sqlText`SELECT name, sql FROM sqlite_master WHERE type = 'trigger'`,
@@ -70,11 +82,12 @@ export async function checkTriggers(registry: Registry): Promise<TriggerCheck> {
     else if (!sameSql(have, sql)) altered.push(name);
   }
   const unexpected = [...actual.keys()].filter((name) => !want.has(name)).sort();
-  return { missing, altered, unexpected };
+  return { missing, altered, unexpected, disabled: [] };
 }
 
 /** SQLite's own structural check: an empty list when it says "ok", else its findings (at most 100). */
 export async function integrityCheck(registry: Registry): Promise<string[]> {
+  if (registry.pg) return []; // no equivalent check of a whole database from SQL: see verifyRegistry's not_applicable
   const rows = registry.sqlite.pragma('integrity_check(100)') as { integrity_check: string }[];
   const lines = rows.map((r) => r.integrity_check);
   return lines.length === 1 && lines[0] === 'ok' ? [] : lines;

@@ -105,6 +105,14 @@ export function registryPath(path?: string): string {
   return path ?? 'nkledger.db';
 }
 
+/**
+ * True when `path` names a PostgreSQL database (`postgres://` or `postgresql://`), not a file: the same test as
+ * postgres.ts `isPostgresUrl`, here so that callers need not load the driver to ask.
+ */
+export function isDatabaseUrl(path: string): boolean {
+  return /^postgres(?:ql)?:\/\//i.test(path);
+}
+
 function identityOf(file: string): FileIdentity | null {
   if (file === ':memory:' || file === '') return null;
   const st = statSync(file);
@@ -128,7 +136,7 @@ function writable(file: string): boolean {
  */
 export async function openRegistry(path?: string, options: OpenOptions = {}): Promise<Registry> {
   const file = registryPath(path);
-  if (/^postgres(?:ql)?:\/\//i.test(file)) return openPostgresRegistry(file, options);
+  if (isDatabaseUrl(file)) return openPostgresRegistry(file, options);
   const memory = file === ':memory:';
   const exists = memory || existsSync(file);
   const create = options.create ?? 'always';

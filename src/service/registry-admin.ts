@@ -5,7 +5,7 @@ import { binaryOrder } from '../registry/sql.ts';
 import { ConflictError, InputError } from '../errors.ts';
 import { readAuditRows, walkChain, type ChainedVersion, type ChainHead, type ChainWalk } from '../registry/chain.ts';
 import { environmentFault } from '../registry/faults.ts';
-import { checkTriggers, integrityCheck } from '../registry/integrity.ts';
+import { checkTriggers, integrityCheck, type TriggerCheck } from '../registry/integrity.ts';
 import { onlineBackup, type Registry } from '../registry/open.ts';
 import { readTransaction } from '../registry/transaction.ts';
 
@@ -40,9 +40,26 @@ export interface StateMismatch {
   problem: string;
 }
 
+/** Checks of `verify` that have no equivalent on PostgreSQL, and why (VerifyReport.not_applicable). */
+export const NOT_APPLICABLE_ON_POSTGRES: { check: string; reason: string }[] = [
+  {
+    check: 'integrity_check',
+    reason:
+      "SQLite's file integrity check does not apply on PostgreSQL: the server checks its own pages (data checksums, if the cluster has them); use the server's tools (pg_amcheck) for a structural check",
+  },
+  {
+    check: 'file_identity',
+    reason: 'there is no registry file whose replacement could be noticed: the database is reached through its URL',
+  },
+];
+
 export interface VerifyReport {
   /** True when every check below found nothing. */
   ok: boolean;
+  /** Which database holds the registry: the checks differ (not_applicable). */
+  backend: 'sqlite' | 'postgres';
+  /** Checks of the other backend that do not apply to this one, with the reason (empty on SQLite). */
+  not_applicable: { check: string; reason: string }[];
   checked_versions: number;
   /** Versions whose content no longer hashes to their stored SHA-256. */
   mismatches: HashMismatch[];
@@ -54,6 +71,8 @@ export interface VerifyReport {
   altered_triggers: string[];
   /** Triggers no migration created. */
   unexpected_triggers: string[];
+  /** Triggers present but switched off (PostgreSQL's ALTER TABLE … DISABLE TRIGGER); empty on SQLite. */
+  disabled_triggers: string[];
   /** The audit hash chain: its head (what a lockfile records) and every broken link or edited event. */
   chain: { head: ChainHead | null; problems: string[] };
   /** Versions whose content hash, status or approver disagree with the chain's events. */
@@ -124,7 +143,10 @@ export async function verifyRegistry(registry: Registry): Promise<VerifyReport> 
   let checked = 0;
   let walk: ChainWalk = { head: null, problems: [], versions: new Map(), hashes: [] };
   const seen = new Set<string>();
+  let triggers: TriggerCheck | undefined;
   const read = async () => {
+    // On PostgreSQL the catalogue is read in the same READ ONLY snapshot as the rows.
+    if (registry.pg) triggers = await checkTriggers(registry);
     walk = walkChain(await readAuditRows(registry));
     for (const material of await registry.db
       .select()
@@ -158,13 +180,15 @@ export async function verifyRegistry(registry: Registry): Promise<VerifyReport> 
   for (const ref of walk.versions.keys()) {
     if (!seen.has(ref) && !missing.includes(ref)) stateMismatches.push({ ref, problem: `${ref}: recorded in the audit chain but not stored` });
   }
-  const triggers = await checkTriggers(registry);
+  triggers ??= await checkTriggers(registry);
   return {
+    backend: registry.dialect,
+    not_applicable: registry.pg ? NOT_APPLICABLE_ON_POSTGRES : [],
     ok:
       integrity.length === 0 &&
       mismatches.length === 0 &&
       missing.length === 0 &&
-      triggers.missing.length + triggers.altered.length + triggers.unexpected.length === 0 &&
+      triggers.missing.length + triggers.altered.length + triggers.unexpected.length + triggers.disabled.length === 0 &&
       walk.problems.length === 0 &&
       stateMismatches.length === 0,
     checked_versions: checked,
@@ -173,6 +197,7 @@ export async function verifyRegistry(registry: Registry): Promise<VerifyReport> 
     missing_triggers: triggers.missing,
     altered_triggers: triggers.altered,
     unexpected_triggers: triggers.unexpected,
+    disabled_triggers: triggers.disabled,
     chain: { head: walk.head, problems: walk.problems },
     state_mismatches: stateMismatches,
     integrity,
@@ -194,6 +219,14 @@ const BACKUP_PAGES_PER_STEP = 0x7fffffff;
  * overwrite an existing file.
  */
 export async function backup(registry: Registry, destination: string): Promise<{ path: string; pages: number }> {
+  if (registry.pg) {
+    throw new InputError(
+      'backup-postgres',
+      `registry ${registry.path} is a PostgreSQL database: back it up with the database's own tools — pg_dump for a consistent logical copy, or a base backup (pg_basebackup) with WAL archiving for point-in-time recovery; nothing was written`,
+      {},
+      { extensions: { backend: 'postgres', tools: ['pg_dump', 'pg_basebackup'] } },
+    );
+  }
   if (destination.trim() === '') throw new InputError('backup-path', 'give the file to write the backup to');
   if (existsSync(destination)) throw new ConflictError(`${destination} already exists; choose a new file (backups never overwrite)`, 'backup-exists');
   const partial = `${destination}.partial-${process.pid}`;

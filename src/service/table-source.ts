@@ -6,7 +6,7 @@
 import { existsSync } from 'node:fs';
 import { InputError, NotFoundError } from '../errors.ts';
 import type { DetectedFormat, ImportOptions } from '../io/import-types.ts';
-import { openRegistry, registryPath, type Registry } from '../registry/open.ts';
+import { isDatabaseUrl, openRegistry, registryPath, type Registry } from '../registry/open.ts';
 import { provenanceOf, verifiedContentOf } from '../registry/records.ts';
 import { parseRef } from '../registry/refs.ts';
 import type { VersionContent, VersionStatus } from '../registry/types.ts';
@@ -132,7 +132,7 @@ export async function loadVersion(registry: Registry, source: string): Promise<L
 /** Open the registry only if its file exists: reading a version must never create an empty database. */
 export async function withExistingRegistry<T>(source: string, db: string | undefined, use: (registry: Registry) => Promise<T>): Promise<T> {
   const path = registryPath(db);
-  if (path !== ':memory:' && !existsSync(path)) {
+  if (path !== ':memory:' && !isDatabaseUrl(path) && !existsSync(path)) {
     throw new NotFoundError(
       `no file "${source}", and no registry database at ${path} to look it up as a version (give --db PATH or set NKLEDGER_DB)`,
       'source-not-found',

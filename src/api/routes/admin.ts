@@ -57,12 +57,17 @@ const settingKey = z.object({ key: z.enum(SETTING_KEYS) });
 const VERIFY_REPORT = z
   .object({
     ok: z.boolean(),
+    backend: z.enum(['sqlite', 'postgres']).describe('which database holds the registry: the checks differ'),
+    not_applicable: z
+      .array(z.object({ check: z.string(), reason: z.string() }))
+      .describe('checks of the other backend that do not apply to this one, and why (empty on SQLite)'),
     checked_versions: z.number().int(),
     mismatches: z.array(z.object({ ref: z.string(), stored_sha256: z.string(), computed_sha256: z.string().nullable(), reason: z.string() })),
     missing_versions: z.array(z.string()),
     missing_triggers: z.array(z.string()),
     altered_triggers: z.array(z.string()),
     unexpected_triggers: z.array(z.string()),
+    disabled_triggers: z.array(z.string()).describe('triggers present but switched off (PostgreSQL); empty on SQLite'),
     chain: z.object({ head: z.object({ hash: z.string(), sequence: z.number().int() }).nullable(), problems: z.array(z.string()) }),
     state_mismatches: z.array(z.object({ ref: z.string(), problem: z.string() })),
     integrity: z.array(z.string()),

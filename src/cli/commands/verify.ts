@@ -9,9 +9,12 @@ import { cliIo, setExitCode } from '../io.ts';
 export function register(program: Command): void {
   addRegistryOptions(program.command('verify'))
     .description(
-      `check the registry: SQLite's integrity check, every version's SHA-256 recomputed, numbering, the triggers by their SQL, the audit hash chain, and every version's status and approver against it (exit ${CHECK_FAILED_EXIT} on any problem, ${ENVIRONMENT_FAULT_EXIT} when the file cannot be read)`,
+      `check the registry: SQLite's integrity check, every version's SHA-256 recomputed, numbering, the triggers by their SQL (on PostgreSQL: by their definitions in the catalogue, and whether they are enabled), the audit hash chain, and every version's status and approver against it (exit ${CHECK_FAILED_EXIT} on any problem, ${ENVIRONMENT_FAULT_EXIT} when the database cannot be read)`,
     )
-    .option('--json', 'print {"ok", "checked_versions", "chain": {"head"}, "mismatches", "state_mismatches", ...} as JSON')
+    .option(
+      '--json',
+      'print {"ok", "backend", "checked_versions", "chain": {"head"}, "mismatches", "state_mismatches", "not_applicable", ...} as JSON',
+    )
     .addHelpText('after', '\nExample:\n  nkledger verify --db /srv/nkledger/lab.db')
     .action(
       guarded(async (opts: RegistryFlags & { json?: boolean }) => {
@@ -26,11 +29,13 @@ export function register(program: Command): void {
           ...report.missing_triggers.map((t) => `trigger ${t} is missing: the database no longer refuses edits by itself`),
           ...report.altered_triggers.map((t) => `trigger ${t} was replaced by one with other SQL: it may no longer refuse anything`),
           ...report.unexpected_triggers.map((t) => `trigger ${t} was not created by nkledger`),
+          ...report.disabled_triggers.map((t) => `trigger ${t} is disabled: it no longer refuses anything`),
           ...report.chain.problems.map((p) => `audit chain: ${p}`),
           ...report.state_mismatches.map((m) => m.problem),
           ...report.integrity.map((line) => `integrity_check: ${line}`),
         ];
         for (const p of problems) cliIo().stderr.write(`FAIL  ${p}\n`);
+        for (const n of report.not_applicable) cliIo().stderr.write(`n/a   ${n.check} does not apply on PostgreSQL: ${n.reason}\n`);
         const head = report.chain.head ? `; audit chain head ${report.chain.head.hash} (event ${report.chain.head.sequence})` : '';
         printLines([
           report.ok
