@@ -153,3 +153,19 @@ export async function rawSql<T = Record<string, unknown>>(registry: Registry, te
   statement.run(...params);
   return [];
 }
+
+/** Drop one of the registry's triggers, as someone with the database's own client could (PostgreSQL names its table). */
+export async function dropTrigger(registry: Registry, name: string): Promise<void> {
+  const table = /^(material_versions|materials|audit_log)_/.exec(name)?.[1];
+  await rawSql(registry, registry.pg ? `DROP TRIGGER ${name} ON ${table}` : `DROP TRIGGER ${name}`);
+}
+
+/** Run `text` with foreign keys not enforced (SQLite's pragma; PostgreSQL's replica role, in one round trip on one connection). */
+export async function withoutForeignKeys(registry: Registry, text: string): Promise<void> {
+  if (registry.pg) {
+    await registry.pg.pool.query(`SET session_replication_role = replica; ${text}; SET session_replication_role = origin`);
+    return;
+  }
+  registry.sqlite.pragma('foreign_keys = OFF');
+  registry.sqlite.exec(text);
+}

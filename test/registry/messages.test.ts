@@ -2,60 +2,62 @@
 import { join } from 'node:path';
 import { afterEach, beforeEach, describe, expect, it } from 'vitest';
 import { approve, createMaterial, importVersion, readLockfile, resolveRef, retire, showVersion, withdraw } from '../../src/service/registry.ts';
-import { cauchyTable, tempRegistry, type TempRegistry } from './helpers.ts';
+import { BACKENDS, cauchyTable, tempRegistry, type TempRegistry } from './helpers.ts';
 
-let t: TempRegistry;
-beforeEach(async () => {
-  t = await tempRegistry();
-  await createMaterial(t.registry, { slug: 'mgf2-evap', name: 'MgF2' }, 'ada');
-});
-afterEach(() => t.cleanup());
-
-describe('not-found and rule messages', () => {
-  it('a material without versions says so instead of "versions 1 to 0 exist"', async () => {
-    await expect(showVersion(t.registry, 'mgf2-evap@1')).rejects.toThrow(
-      'mgf2-evap has no version 1: it has no versions yet (add one with `nkledger import FILE --material mgf2-evap`)',
-    );
-    await expect(resolveRef(t.registry, 'mgf2-evap')).rejects.toThrow('mgf2-evap has no approved version: it has no versions yet');
+describe.each(BACKENDS)('messages on %s', (backend) => {
+  let t: TempRegistry;
+  beforeEach(async () => {
+    t = await tempRegistry(backend);
+    await createMaterial(t.registry, { slug: 'mgf2-evap', name: 'MgF2' }, 'ada');
   });
+  afterEach(() => t.cleanup());
 
-  it('names the versions that exist', async () => {
-    await importVersion(t.registry, { slug: 'mgf2-evap', table: cauchyTable() }, 'ada');
-    await expect(showVersion(t.registry, 'mgf2-evap@2')).rejects.toThrow('mgf2-evap has no version 2: only version 1 exists');
-    await importVersion(t.registry, { slug: 'mgf2-evap', table: cauchyTable(1.38) }, 'ada');
-    await expect(showVersion(t.registry, 'mgf2-evap@7')).rejects.toThrow('mgf2-evap has no version 7: versions 1 to 2 exist');
-  });
+  describe('not-found and rule messages', () => {
+    it('a material without versions says so instead of "versions 1 to 0 exist"', async () => {
+      await expect(showVersion(t.registry, 'mgf2-evap@1')).rejects.toThrow(
+        'mgf2-evap has no version 1: it has no versions yet (add one with `nkledger import FILE --material mgf2-evap`)',
+      );
+      await expect(resolveRef(t.registry, 'mgf2-evap')).rejects.toThrow('mgf2-evap has no approved version: it has no versions yet');
+    });
 
-  it('a bare slug with only a draft says the draft waits for approval and how to pin it', async () => {
-    await importVersion(t.registry, { slug: 'mgf2-evap', table: cauchyTable() }, 'ada');
-    await expect(resolveRef(t.registry, 'mgf2-evap')).rejects.toThrow(
-      'mgf2-evap has no approved version (its newest is mgf2-evap@1, draft, waiting for approval (`nkledger approve mgf2-evap@1` by someone other than its creator)); ' +
-        'a bare slug means the latest approved version, so name one explicitly, e.g. mgf2-evap@1',
-    );
-    await approve(t.registry, 'mgf2-evap@1', 'bob');
-    await retire(t.registry, 'mgf2-evap@1', 'wrong substrate', 'bob');
-    await expect(resolveRef(t.registry, 'mgf2-evap')).rejects.toThrow(/its newest is mgf2-evap@1, retired\); a bare slug means/);
-  });
+    it('names the versions that exist', async () => {
+      await importVersion(t.registry, { slug: 'mgf2-evap', table: cauchyTable() }, 'ada');
+      await expect(showVersion(t.registry, 'mgf2-evap@2')).rejects.toThrow('mgf2-evap has no version 2: only version 1 exists');
+      await importVersion(t.registry, { slug: 'mgf2-evap', table: cauchyTable(1.38) }, 'ada');
+      await expect(showVersion(t.registry, 'mgf2-evap@7')).rejects.toThrow('mgf2-evap has no version 7: versions 1 to 2 exist');
+    });
 
-  it('status conflicts read as English ("an approved version")', async () => {
-    await importVersion(t.registry, { slug: 'mgf2-evap', table: cauchyTable() }, 'ada');
-    await expect(retire(t.registry, 'mgf2-evap@1', 'why', 'bob')).rejects.toThrow(
-      'cannot retire mgf2-evap@1: it is draft, and only an approved version can be retired',
-    );
-    await approve(t.registry, 'mgf2-evap@1', 'bob');
-    await expect(withdraw(t.registry, 'mgf2-evap@1', 'bob')).rejects.toThrow(
-      'cannot withdraw mgf2-evap@1: it is approved, and only a draft version can be withdrawn',
-    );
-  });
+    it('a bare slug with only a draft says the draft waits for approval and how to pin it', async () => {
+      await importVersion(t.registry, { slug: 'mgf2-evap', table: cauchyTable() }, 'ada');
+      await expect(resolveRef(t.registry, 'mgf2-evap')).rejects.toThrow(
+        'mgf2-evap has no approved version (its newest is mgf2-evap@1, draft, waiting for approval (`nkledger approve mgf2-evap@1` by someone other than its creator)); ' +
+          'a bare slug means the latest approved version, so name one explicitly, e.g. mgf2-evap@1',
+      );
+      await approve(t.registry, 'mgf2-evap@1', 'bob');
+      await retire(t.registry, 'mgf2-evap@1', 'wrong substrate', 'bob');
+      await expect(resolveRef(t.registry, 'mgf2-evap')).rejects.toThrow(/its newest is mgf2-evap@1, retired\); a bare slug means/);
+    });
 
-  it('an unknown material says how to list and create materials', async () => {
-    await expect(resolveRef(t.registry, 'tio2@1')).rejects.toThrow(
-      'no material "tio2" in the registry (`nkledger list` lists them; `nkledger material add tio2 --name NAME` creates it)',
-    );
-  });
+    it('status conflicts read as English ("an approved version")', async () => {
+      await importVersion(t.registry, { slug: 'mgf2-evap', table: cauchyTable() }, 'ada');
+      await expect(retire(t.registry, 'mgf2-evap@1', 'why', 'bob')).rejects.toThrow(
+        'cannot retire mgf2-evap@1: it is draft, and only an approved version can be retired',
+      );
+      await approve(t.registry, 'mgf2-evap@1', 'bob');
+      await expect(withdraw(t.registry, 'mgf2-evap@1', 'bob')).rejects.toThrow(
+        'cannot withdraw mgf2-evap@1: it is approved, and only a draft version can be withdrawn',
+      );
+    });
 
-  it('a missing lockfile says how to start one', () => {
-    const path = join(t.dir, 'design.nklock.json');
-    expect(() => readLockfile(path)).toThrow(`no lockfile ${path} (start one with \`nkledger lock add REF --lock ${path}\`)`);
+    it('an unknown material says how to list and create materials', async () => {
+      await expect(resolveRef(t.registry, 'tio2@1')).rejects.toThrow(
+        'no material "tio2" in the registry (`nkledger list` lists them; `nkledger material add tio2 --name NAME` creates it)',
+      );
+    });
+
+    it('a missing lockfile says how to start one', () => {
+      const path = join(t.dir, 'design.nklock.json');
+      expect(() => readLockfile(path)).toThrow(`no lockfile ${path} (start one with \`nkledger lock add REF --lock ${path}\`)`);
+    });
   });
 });
