@@ -12,6 +12,7 @@ import { EnvironmentError, InputError } from '../errors.ts';
 import { ensureGenesis } from './chain.ts';
 import { environmentFault } from './faults.ts';
 import { setPgCounters } from './hot-reads.ts';
+import { usePostgresTransactions } from './transaction.ts';
 import type { PgRegistry } from './postgres.ts';
 import * as sqliteSchema from './schema.ts';
 import * as sqliteAuthSchema from './schema-auth.ts';
@@ -210,12 +211,13 @@ export function sqliteRegistry(sqlite: Database.Database, file: string, flags: {
  * brought up to date but no genesis event is written, and writes are refused as on a read-only file.
  */
 async function openPostgresRegistry(url: string, options: OpenOptions): Promise<Registry> {
-  const [{ openPostgres }, schemaPg, { pgChangeCounters }] = await Promise.all([
+  const [postgres, schemaPg, { pgChangeCounters }] = await Promise.all([
     import('./postgres.ts'),
     import('./schema-pg.ts'),
     import('./postgres-changes.ts'),
   ]);
-  const pg = await openPostgres(url);
+  usePostgresTransactions(postgres);
+  const pg = await postgres.openPostgres(url);
   const tables = {
     materials: schemaPg.materials,
     materialVersions: schemaPg.materialVersions,

@@ -20,6 +20,19 @@
  */
 import { AsyncLocalStorage } from 'node:async_hooks';
 import type { Registry } from './open.ts';
+import type * as Postgres from './postgres.ts';
+
+/** postgres.ts, handed over by open.ts when it opens a PostgreSQL registry (so this module never loads the driver itself). */
+let postgres: typeof Postgres | undefined;
+
+export function usePostgresTransactions(module: typeof Postgres): void {
+  postgres = module;
+}
+
+function pgModule(): typeof Postgres {
+  if (!postgres) throw new Error('a PostgreSQL registry must be opened through openRegistry');
+  return postgres;
+}
 
 interface Scope {
   registry: Registry;
@@ -45,6 +58,7 @@ function queued<T>(registry: Registry, task: () => Promise<T>): Promise<T> {
 
 /** True inside a transaction of `registry` (a write then joins it as a savepoint). */
 export function inTransaction(registry: Registry): boolean {
+  if (registry.pg) return pgModule().inPgTransaction(registry.pg);
   return scope.getStore()?.registry === registry;
 }
 
@@ -91,13 +105,13 @@ async function transaction<T>(registry: Registry, begin: string, body: () => Pro
  * registry's earlier transactions; inside another transaction of this registry, a savepoint of it. No checks:
  * records.ts `writeTransaction` is the one every change goes through.
  */
-export async function immediateTransaction<T>(registry: Registry, body: () => Promise<T>): Promise<T> {
-  if (registry.pg) return (await import('./postgres.ts')).pgWriteTransaction(registry.pg, body);
+export function immediateTransaction<T>(registry: Registry, body: () => Promise<T>): Promise<T> {
+  if (registry.pg) return pgModule().pgWriteTransaction(registry.pg, body);
   return transaction(registry, 'BEGIN IMMEDIATE', body);
 }
 
 /** `body` as one read transaction (a consistent snapshot across its statements), queued like a write. */
-export async function readTransaction<T>(registry: Registry, body: () => Promise<T>): Promise<T> {
-  if (registry.pg) return (await import('./postgres.ts')).pgReadSnapshot(registry.pg, body);
+export function readTransaction<T>(registry: Registry, body: () => Promise<T>): Promise<T> {
+  if (registry.pg) return pgModule().pgReadSnapshot(registry.pg, body);
   return transaction(registry, 'BEGIN DEFERRED', body);
 }

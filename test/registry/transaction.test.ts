@@ -10,72 +10,78 @@ import { writeTransaction } from '../../src/registry/records.ts';
 import { inTransaction } from '../../src/registry/transaction.ts';
 import { importMeasurements } from '../../src/service/import-measurement.ts';
 import { createMaterial, listMaterials } from '../../src/service/registry.ts';
-import { tempRegistry, type TempRegistry } from './helpers.ts';
+import { BACKENDS, rawSql, tempRegistry, type TempRegistry } from './helpers.ts';
 
-let t: TempRegistry;
-beforeEach(async () => {
-  t = await tempRegistry();
-});
-afterEach(() => t.cleanup());
-
-const slugs = async () => (await listMaterials(t.registry)).map((m) => m.slug);
-const auditRows = () => (t.registry.sqlite.prepare('SELECT count(*) AS n FROM audit_log').get() as { n: number }).n;
-
-describe('writeTransaction', () => {
-  it('runs concurrent writes one at a time, each whole', async () => {
-    const order: string[] = [];
-    const write = (name: string) =>
-      writeTransaction(t.registry, async () => {
-        order.push(`begin ${name}`);
-        await createMaterial(t.registry, { slug: name, name }, 'ada');
-        order.push(`end ${name}`);
-      });
-    await Promise.all([write('m-a'), write('m-b'), write('m-c')]);
-    expect(order).toEqual(['begin m-a', 'end m-a', 'begin m-b', 'end m-b', 'begin m-c', 'end m-c']);
-    expect(await slugs()).toEqual(['m-a', 'm-b', 'm-c']);
-    expect(t.registry.sqlite.inTransaction).toBe(false);
+describe.each(BACKENDS)('transactions on %s', (backend) => {
+  let t: TempRegistry;
+  beforeEach(async () => {
+    t = await tempRegistry(backend);
   });
+  afterEach(() => t.cleanup());
 
-  it('rolls back everything a failed transaction wrote, and the next one runs', async () => {
-    const before = auditRows();
-    await expect(
-      writeTransaction(t.registry, async () => {
-        await createMaterial(t.registry, { slug: 'lost', name: 'Lost' }, 'ada');
-        throw new Error('fails after writing');
-      }),
-    ).rejects.toThrow('fails after writing');
-    expect(await slugs()).toEqual([]);
-    expect(auditRows()).toBe(before);
-    await createMaterial(t.registry, { slug: 'kept', name: 'Kept' }, 'ada');
-    expect(await slugs()).toEqual(['kept']);
-  });
+  const slugs = async () => (await listMaterials(t.registry)).map((m) => m.slug);
+  const count = async (table: string) => Number((await rawSql<{ n: unknown }>(t.registry, `SELECT count(*) AS n FROM ${table}`))[0].n);
+  const auditRows = () => count('audit_log');
 
-  it('a write inside a write joins it as a savepoint: an inner failure caught outside undoes only the inner writes', async () => {
-    await writeTransaction(t.registry, async () => {
-      expect(inTransaction(t.registry)).toBe(true);
-      await createMaterial(t.registry, { slug: 'outer', name: 'Outer' }, 'ada');
-      await expect(createMaterial(t.registry, { slug: 'outer', name: 'Again' }, 'ada')).rejects.toThrow(ConflictError);
+  describe('writeTransaction', () => {
+    it('runs concurrent writes one at a time, each whole', async () => {
+      const order: string[] = [];
+      const write = (name: string) =>
+        writeTransaction(t.registry, async () => {
+          order.push(`begin ${name}`);
+          await createMaterial(t.registry, { slug: name, name }, 'ada');
+          order.push(`end ${name}`);
+        });
+      await Promise.all([write('m-a'), write('m-b'), write('m-c')]);
+      // One at a time: every begin is followed by its own end. SQLite's queue keeps the order they were asked in;
+      // PostgreSQL's writers queue on the write lock from separate connections, in whatever order they reach it.
+      for (let i = 0; i < order.length; i += 2) expect(order[i + 1]).toBe(order[i].replace('begin', 'end'));
+      if (backend === 'sqlite') expect(order).toEqual(['begin m-a', 'end m-a', 'begin m-b', 'end m-b', 'begin m-c', 'end m-c']);
+      expect(await slugs()).toEqual(['m-a', 'm-b', 'm-c']);
+      expect(inTransaction(t.registry)).toBe(false);
+    });
+
+    it('rolls back everything a failed transaction wrote, and the next one runs', async () => {
+      const before = await auditRows();
       await expect(
         writeTransaction(t.registry, async () => {
-          await createMaterial(t.registry, { slug: 'inner', name: 'Inner' }, 'ada');
-          throw new Error('inner fails');
+          await createMaterial(t.registry, { slug: 'lost', name: 'Lost' }, 'ada');
+          throw new Error('fails after writing');
         }),
-      ).rejects.toThrow('inner fails');
+      ).rejects.toThrow('fails after writing');
+      expect(await slugs()).toEqual([]);
+      expect(await auditRows()).toBe(before);
+      await createMaterial(t.registry, { slug: 'kept', name: 'Kept' }, 'ada');
+      expect(await slugs()).toEqual(['kept']);
     });
-    expect(inTransaction(t.registry)).toBe(false);
-    expect(await slugs()).toEqual(['outer']);
-  });
 
-  it('a batch import is all or none: a duplicate in it rolls back the files before it', async () => {
-    await createMaterial(t.registry, { slug: 'film', name: 'Film' }, 'ada');
-    const file = (a: number) => ({
-      slug: 'film',
-      file: `run-${a}.csv`,
-      kk: false,
-      bytes: new TextEncoder().encode(`wavelength_nm,n,k\n400,${a},0\n500,${a - 0.01},0\n600,${a - 0.02},0\n`),
+    it('a write inside a write joins it as a savepoint: an inner failure caught outside undoes only the inner writes', async () => {
+      await writeTransaction(t.registry, async () => {
+        expect(inTransaction(t.registry)).toBe(true);
+        await createMaterial(t.registry, { slug: 'outer', name: 'Outer' }, 'ada');
+        await expect(createMaterial(t.registry, { slug: 'outer', name: 'Again' }, 'ada')).rejects.toThrow(ConflictError);
+        await expect(
+          writeTransaction(t.registry, async () => {
+            await createMaterial(t.registry, { slug: 'inner', name: 'Inner' }, 'ada');
+            throw new Error('inner fails');
+          }),
+        ).rejects.toThrow('inner fails');
+      });
+      expect(inTransaction(t.registry)).toBe(false);
+      expect(await slugs()).toEqual(['outer']);
     });
-    await expect(importMeasurements(t.registry, [file(1.5), file(1.6), file(1.5)], 'ada')).rejects.toThrow(/already stored/);
-    expect(t.registry.sqlite.prepare('SELECT count(*) AS n FROM material_versions').get()).toEqual({ n: 0 });
-    expect((await importMeasurements(t.registry, [file(1.5), file(1.6)], 'ada')).map((v) => v.ref)).toEqual(['film@1', 'film@2']);
+
+    it('a batch import is all or none: a duplicate in it rolls back the files before it', async () => {
+      await createMaterial(t.registry, { slug: 'film', name: 'Film' }, 'ada');
+      const file = (a: number) => ({
+        slug: 'film',
+        file: `run-${a}.csv`,
+        kk: false,
+        bytes: new TextEncoder().encode(`wavelength_nm,n,k\n400,${a},0\n500,${a - 0.01},0\n600,${a - 0.02},0\n`),
+      });
+      await expect(importMeasurements(t.registry, [file(1.5), file(1.6), file(1.5)], 'ada')).rejects.toThrow(/already stored/);
+      expect(await count('material_versions')).toBe(0);
+      expect((await importMeasurements(t.registry, [file(1.5), file(1.6)], 'ada')).map((v) => v.ref)).toEqual(['film@1', 'film@2']);
+    });
   });
 });
