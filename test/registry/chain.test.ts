@@ -22,7 +22,7 @@ import {
   verifyRegistry,
   versionSha256,
 } from '../../src/service/registry.ts';
-import { cauchyTable, databaseAtMigration, tempRegistry, type TempRegistry } from './helpers.ts';
+import { BACKENDS, cauchyTable, databaseAtMigration, dropTrigger, rawSql, tempRegistry, type TempRegistry } from './helpers.ts';
 
 /** A version's provenance columns with nothing recorded, for rows written by raw SQL. */
 const NO_PROVENANCE = {
@@ -269,5 +269,57 @@ describe('a registry written before the chain existed', () => {
     } finally {
       await registry.close();
     }
+  });
+});
+
+// The same chain on PostgreSQL: its trigger twins (drizzle-pg/) refuse what SQLite's refuse, and verify finds what gets past them.
+describe.skipIf(!BACKENDS.includes('postgres'))('the audit chain on PostgreSQL', () => {
+  let p: TempRegistry;
+  beforeEach(async () => {
+    p = await tempRegistry('postgres');
+    await createMaterial(p.registry, { slug: 'film', name: 'Film' }, 'ada');
+    await importVersion(p.registry, { slug: 'film', table: cauchyTable(1.45) }, 'ada');
+    await importVersion(p.registry, { slug: 'film', table: cauchyTable(1.46) }, 'ada');
+    await approve(p.registry, 'film@1', 'bob');
+  });
+  afterEach(() => p.cleanup());
+
+  it('links every event to the one before it, with the same hashes of the same documents', async () => {
+    const rows = await readAuditRows(p.registry);
+    expect(rows.map((r) => r.action)).toEqual([GENESIS_TYPE, 'material.create', 'version.import', 'version.import', 'version.approve']);
+    for (let i = 1; i < rows.length; i++) expect(rows[i].prev_hash).toBe(rows[i - 1].hash);
+    for (const row of rows) expect(row.hash).toBe(sha256Hex(canonicalJson(eventDocument(row))));
+    expect(await chainHead(p.registry)).toEqual({ hash: rows[4].hash, sequence: 5 });
+    expect((await verifyRegistry(p.registry)).ok).toBe(true);
+  });
+
+  it('refuses, in PostgreSQL itself, an audit row that does not extend the chain, an edit, a delete and TRUNCATE', async () => {
+    await expect(
+      rawSql(p.registry, "INSERT INTO audit_log (at, actor, action, detail) VALUES ('2025-01-01T00:00:00.000Z', 'mallory', 'version.approve', '{}')"),
+    ).rejects.toThrow(/extend the chain/);
+    await expect(rawSql(p.registry, "UPDATE audit_log SET actor = 'carol'")).rejects.toThrow(/append-only/);
+    await expect(rawSql(p.registry, 'DELETE FROM audit_log')).rejects.toThrow(/append-only/);
+    await expect(rawSql(p.registry, 'TRUNCATE audit_log')).rejects.toThrow(/append-only|cannot truncate/);
+  });
+
+  it('verify finds a status changed without an audit row, an edited event and an emptied log', async () => {
+    await rawSql(
+      p.registry,
+      "UPDATE material_versions SET status = 'approved', approved_by = 'carol', approved_at = '2025-01-01T00:00:00.000Z', self_approved = false WHERE number = 2",
+    );
+    expect((await verifyRegistry(p.registry)).state_mismatches.map((m) => m.problem)).toEqual([
+      'film@2: it is approved, but the audit chain has it draft (status changed outside nkledger)',
+      'film@2: it says approved by carol, but the audit chain says nobody',
+    ]);
+    await dropTrigger(p.registry, 'audit_log_no_update');
+    await rawSql(p.registry, "UPDATE audit_log SET actor = 'carol' WHERE action = 'version.approve'");
+    const edited = await verifyRegistry(p.registry);
+    expect(edited.chain.problems).toEqual([
+      expect.stringMatching(/audit event 5 \(version\.approve, sequence 5\): its content no longer matches its hash/),
+    ]);
+    expect(edited.missing_triggers).toEqual(['audit_log_no_update']);
+    await dropTrigger(p.registry, 'audit_log_no_delete');
+    await rawSql(p.registry, 'DELETE FROM audit_log');
+    expect((await verifyRegistry(p.registry)).chain.problems).toEqual(['the audit log has no hash chain (no chain.genesis event)']);
   });
 });
