@@ -6,7 +6,9 @@ import { printJson, printLines } from '../output.ts';
 
 export function register(program: Command): void {
   addRegistryOptions(program.command('backup'))
-    .description('copy the registry to a new file while it stays in use (SQLite online backup; never overwrites)')
+    .description(
+      "copy the registry to a new file while it stays in use (SQLite online backup; never overwrites); a PostgreSQL registry is backed up with the database's own tools (pg_dump, base backups)",
+    )
     .argument('<file>', 'the backup file to create')
     .option('--json', 'print {"path", "pages"} as JSON')
     .addHelpText('after', '\nExample:\n  nkledger backup backups/nkledger-2024-05-01.db')
