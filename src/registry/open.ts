@@ -207,7 +207,8 @@ export function sqliteRegistry(sqlite: Database.Database, file: string, flags: {
 /**
  * Open the registry on PostgreSQL (postgres.ts, loaded only now so that commands on SQLite files never load the
  * driver). There is no file to create: `options.create` does not apply (the database must exist; the schema is
- * created in it: a missing database is `registry-database-missing`, exit 4). With `readonly` the schema is still
+ * created in it: a missing database is `registry-database-missing`, exit 4); `create: 'never'` refuses a database
+ * that holds no registry yet (`registry-missing`), the other modes create its tables. With `readonly` the schema is still
  * brought up to date but no genesis event is written, and writes are refused as on a read-only file.
  */
 async function openPostgresRegistry(url: string, options: OpenOptions): Promise<Registry> {
@@ -217,6 +218,25 @@ async function openPostgresRegistry(url: string, options: OpenOptions): Promise<
     import('./postgres-changes.ts'),
   ]);
   usePostgresTransactions(postgres);
+  if ((options.create ?? 'always') === 'never') {
+    // Read commands do not turn an empty database into a registry (a typo in the database name must not make
+    // `verify` print "ok" over nothing): look for the migration table first, without migrating.
+    const probe = await postgres.openPostgres(url, { migrate: false, poolSize: 1 });
+    let found: boolean;
+    try {
+      const { rows } = await probe.pool.query<{ found: boolean }>(`SELECT to_regclass('drizzle.__drizzle_migrations') IS NOT NULL AS found`);
+      found = rows[0].found;
+    } finally {
+      await probe.close();
+    }
+    if (!found) {
+      throw new InputError(
+        'registry-missing',
+        'no registry in this database (check --db or NKLEDGER_DB; `nkledger material add` or `nkledger import` creates one)',
+        { file: probe.url },
+      );
+    }
+  }
   const pg = await postgres.openPostgres(url);
   const tables = {
     materials: schemaPg.materials,

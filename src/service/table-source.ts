@@ -138,7 +138,7 @@ export async function withExistingRegistry<T>(source: string, db: string | undef
       'source-not-found',
     );
   }
-  const registry = await openRegistry(path);
+  const registry = await openRegistry(path, { create: 'never' });
   try {
     return await use(registry);
   } finally {

@@ -10,6 +10,7 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import pg from 'pg';
 import { afterAll, beforeAll, describe, expect, inject, it } from 'vitest';
+import { createDatabase } from '../helpers/postgres.ts';
 import { freshPostgresUrl } from '../registry/helpers.ts';
 import { runCli } from './run-cli.ts';
 
@@ -115,6 +116,17 @@ describe.skipIf(!server.adminUrl)(`registry CLI on PostgreSQL${server.adminUrl ?
     const dropped = await run(['verify', '--json']);
     expect(dropped.code).toBe(3);
     expect(JSON.parse(dropped.out).missing_triggers).toContain('materials_no_delete');
+  });
+
+  it('a read command refuses a database without a registry; material add creates one there', async () => {
+    const empty = await createDatabase(server.adminUrl as string);
+    const listed = await runCli(['list', '--db', empty], { env: { NKLEDGER_DB: '' } });
+    expect(listed.code).toBe(2);
+    expect(listed.stderr).toMatch(/no registry in this database.*\[registry-missing\]/);
+    const added = await runCli(['material', 'add', 'mgf2-film', '--name', 'MgF2', '--db', empty], { env: { NKLEDGER_DB: '', NKLEDGER_USER: 'ada' } });
+    expect(added.code).toBe(0);
+    expect(added.stderr).toMatch(/created a new registry at postgres:/);
+    expect((await runCli(['list', '--db', empty], { env: { NKLEDGER_DB: '' } })).code).toBe(0);
   });
 
   it('an unreachable server is an environment fault (exit 4) naming the URL without its password', async () => {
