@@ -91,7 +91,8 @@ export async function tempRegistry(backend: Backend = 'sqlite'): Promise<TempReg
     registry,
     async cleanup() {
       await registry.close();
-      if (backend === 'postgres') await dropDatabase(path);
+      // Not waited for: the next test does not need it gone, and the server is thrown away after the run anyway.
+      if (backend === 'postgres') void dropDatabase(path).catch(() => {});
       rmSync(dir, { recursive: true, force: true });
     },
   };
