@@ -45,7 +45,7 @@ export const NOT_APPLICABLE_ON_POSTGRES: { check: string; reason: string }[] = [
   {
     check: 'integrity_check',
     reason:
-      "SQLite's file integrity check does not apply on PostgreSQL: the server checks its own pages (data checksums, if the cluster has them); use the server's tools (pg_amcheck) for a structural check",
+      "SQLite's check of its file's pages; the server checks its own pages (data checksums, if the cluster has them), and its tools (pg_amcheck) make a structural check",
   },
   {
     check: 'file_identity',

@@ -35,7 +35,7 @@ export function register(program: Command): void {
           ...report.integrity.map((line) => `integrity_check: ${line}`),
         ];
         for (const p of problems) cliIo().stderr.write(`FAIL  ${p}\n`);
-        for (const n of report.not_applicable) cliIo().stderr.write(`n/a   ${n.check} does not apply on PostgreSQL: ${n.reason}\n`);
+        for (const n of report.not_applicable) cliIo().stderr.write(`n/a   ${n.check} (not on PostgreSQL): ${n.reason}\n`);
         const head = report.chain.head ? `; audit chain head ${report.chain.head.hash} (event ${report.chain.head.sequence})` : '';
         printLines([
           report.ok
