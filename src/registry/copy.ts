@@ -33,15 +33,20 @@
  * PostgreSQL's identity columns do not move past explicit ids by themselves: the copy sets each sequence past
  * the highest id it wrote (`setval`). SQLite's AUTOINCREMENT does (sqlite_sequence follows explicit ids).
  */
-import { getTableColumns, type SQL, sql } from 'drizzle-orm';
+import { asc, getTableColumns, type SQL, sql } from 'drizzle-orm';
 import type { SQLiteTable } from 'drizzle-orm/sqlite-core';
 import { ConflictError } from '../errors.ts';
 import { GENESIS_TYPE, type AuditRow } from './chain.ts';
 import { environmentFault } from './faults.ts';
+import { checkPgDefences, type PgDefenceCheck } from './integrity-pg.ts';
+import { materials as pgMaterials, materialVersions as pgVersions } from './schema-pg.ts';
 import type { Registry } from './open.ts';
+import { pgEnvironmentFault } from './postgres-faults.ts';
+import { pgExecute, pgQueryRow, pgQueryRows } from './postgres-sql.ts';
+import { isPostgresUrl, type PgRegistry, redactUrl } from './postgres.ts';
 import { apiTokens, webPendingUploads, webSessions } from './schema-auth.ts';
 import { auditLog, materials, materialVersions, registrySettings } from './schema.ts';
-import { execute, queryRow, queryRows } from './sql.ts';
+import { execute as sqliteExecute, queryRow as sqliteQueryRow, queryRows as sqliteQueryRows } from './sql.ts';
 
 /** The tables a copy carries, in the order they are written (foreign keys point only to earlier ones). */
 export const COPIED_TABLES = ['materials', 'material_versions', 'audit_log', 'registry_settings', 'api_tokens'] as const;
@@ -72,10 +77,32 @@ const BATCH = 100;
 
 export type Dialect = 'sqlite' | 'postgresql';
 
-/** The backend of an open registry. */
-export function dialectOf(registry: Registry): Dialect {
-  return (registry as { sqlite?: unknown }).sqlite ? 'sqlite' : 'postgresql';
+/**
+ * An open registry of either backend: a Registry (SQLite, open.ts) or a PgRegistry handle (postgres.ts). Raw SQL
+ * below goes through sql.ts or postgres-sql.ts by the handle's kind; inside the caller's transaction either way.
+ */
+export type CopyHandle = Registry | PgRegistry;
+
+function isPg(handle: CopyHandle): handle is PgRegistry {
+  return (handle as { dialect?: string }).dialect === 'postgres';
 }
+
+/** The backend of an open registry. */
+export function dialectOf(handle: CopyHandle): Dialect {
+  return isPg(handle) ? 'postgresql' : 'sqlite';
+}
+
+/** Where a handle points, fit to print (a URL's password masked). */
+export function locationOf(handle: CopyHandle): string {
+  return isPg(handle) ? handle.url : handle.path;
+}
+
+const queryRows = <T>(h: CopyHandle, q: SQL): Promise<T[]> => (isPg(h) ? pgQueryRows<T>(h, q) : sqliteQueryRows<T>(h, q));
+const queryRow = <T>(h: CopyHandle, q: SQL): Promise<T | undefined> => (isPg(h) ? pgQueryRow<T>(h, q) : sqliteQueryRow<T>(h, q));
+const execute = async (h: CopyHandle, q: SQL): Promise<void> => {
+  if (isPg(h)) await pgExecute(h, q);
+  else await sqliteExecute(h, q);
+};
 
 /** The column names of a copied table, as both schemas name them (test/registry/pg-schema.test.ts keeps them equal). */
 export function columnsOf(table: CopiedTable | NotCopiedTable): string[] {
@@ -93,13 +120,13 @@ export interface RegistrySnapshot {
   notCopied: Record<NotCopiedTable, number>;
 }
 
-async function countRows(registry: Registry, table: string): Promise<number> {
+async function countRows(registry: CopyHandle, table: string): Promise<number> {
   const row = await queryRow<{ n: number | string }>(registry, sql`SELECT count(*) AS n FROM ${ident(table)}`);
   return Number(row?.n ?? 0);
 }
 
 /** Row counts of every table a copy concerns. */
-export async function tableCounts(registry: Registry): Promise<Record<CopiedTable | NotCopiedTable, number>> {
+export async function tableCounts(registry: CopyHandle): Promise<Record<CopiedTable | NotCopiedTable, number>> {
   const out = {} as Record<CopiedTable | NotCopiedTable, number>;
   for (const table of [...COPIED_TABLES, ...NOT_COPIED_TABLES]) out[table] = await countRows(registry, table);
   return out;
@@ -109,7 +136,7 @@ export async function tableCounts(registry: Registry): Promise<Record<CopiedTabl
  * Read every copied row, oldest first by key. Call inside a read transaction of `registry` so the tables are one
  * consistent snapshot.
  */
-export async function readSnapshot(registry: Registry): Promise<RegistrySnapshot> {
+export async function readSnapshot(registry: CopyHandle): Promise<RegistrySnapshot> {
   const rows = {} as Record<CopiedTable, Row[]>;
   for (const table of COPIED_TABLES) {
     const columns = columnsOf(table);
@@ -134,7 +161,7 @@ function bindable(column: string, value: unknown, dialect: Dialect): unknown {
   return value;
 }
 
-async function insertRows(registry: Registry, table: CopiedTable, rows: Row[], dialect: Dialect): Promise<void> {
+async function insertRows(registry: CopyHandle, table: CopiedTable, rows: Row[], dialect: Dialect): Promise<void> {
   const columns = columnsOf(table);
   const head = sql`INSERT INTO ${ident(table)} (${sql.join(columns.map(ident), sql`, `)}) VALUES `;
   for (let start = 0; start < rows.length; start += BATCH) {
@@ -157,9 +184,9 @@ async function insertRows(registry: Registry, table: CopiedTable, rows: Row[], d
  * The driver's own error behind drizzle's "Failed to run the query …" wrapper (which quotes the whole statement,
  * content included): an environment fault as such (exit 4), anything else said with what was being written.
  */
-function refusal(err: unknown, registry: Registry, doing: string): Error {
+function refusal(err: unknown, registry: CopyHandle, doing: string): Error {
   const cause = err instanceof Error && err.cause instanceof Error ? err.cause : err;
-  const fault = environmentFault(cause, registry.path);
+  const fault = isPg(registry) ? pgEnvironmentFault(cause, registry.url) : environmentFault(cause, registry.path);
   if (fault) return fault;
   return new Error(`${doing} into the destination failed: ${cause instanceof Error ? cause.message : String(cause)}`, { cause });
 }
@@ -168,7 +195,13 @@ function refusal(err: unknown, registry: Registry, doing: string): Error {
  * Suspend one trigger of `table` for `body` (see the file header), inside the caller's transaction, and put it
  * back exactly as it was.
  */
-async function withTriggerSuspended(registry: Registry, dialect: Dialect, table: string, trigger: string, body: () => Promise<void>): Promise<void> {
+async function withTriggerSuspended(
+  registry: CopyHandle,
+  dialect: Dialect,
+  table: string,
+  trigger: string,
+  body: () => Promise<void>,
+): Promise<void> {
   if (dialect === 'postgresql') {
     await execute(registry, sql`ALTER TABLE ${ident(table)} DISABLE TRIGGER ${ident(trigger)}`);
     await body();
@@ -183,7 +216,7 @@ async function withTriggerSuspended(registry: Registry, dialect: Dialect, table:
 }
 
 /** Why a destination is not empty, or null when it holds only what opening a new registry writes. */
-export async function notEmptyBecause(registry: Registry): Promise<string | null> {
+export async function notEmptyBecause(registry: CopyHandle): Promise<string | null> {
   const counts = await tableCounts(registry);
   const holding = [...COPIED_TABLES, ...NOT_COPIED_TABLES].filter((t) => t !== 'audit_log' && counts[t] > 0).map((t) => `${counts[t]} ${t} rows`);
   if (holding.length > 0) return `it holds ${holding.join(', ')}`;
@@ -217,7 +250,7 @@ export interface WriteReport {
  * records.ts `writeTransaction`): it is all or nothing. Refuses (ConflictError copy-destination-not-empty) a
  * destination that holds anything but the genesis event of a new registry.
  */
-export async function writeSnapshot(registry: Registry, snapshot: RegistrySnapshot): Promise<WriteReport> {
+export async function writeSnapshot(registry: CopyHandle, snapshot: RegistrySnapshot): Promise<WriteReport> {
   const dialect = dialectOf(registry);
   const reason = await notEmptyBecause(registry);
   if (reason !== null) {
@@ -255,20 +288,36 @@ export async function writeSnapshot(registry: Registry, snapshot: RegistrySnapsh
   return { replacedGenesis: existing.length === 1, preChainRows: preChain };
 }
 
-/** A database location fit to print: a URL's password replaced by `***` (a file path as given). */
+/** A database location fit to print: a URL's password masked (postgres.ts `redactUrl`), a file path as given. */
 export function redactLocation(location: string): string {
-  if (!/^postgres(ql)?:\/\//i.test(location)) return location;
-  try {
-    const url = new URL(location);
-    if (url.password !== '') url.password = '***';
-    for (const key of [...url.searchParams.keys()]) if (/^pass(word)?$/i.test(key)) url.searchParams.set(key, '***');
-    return url.toString();
-  } catch {
-    return location.replace(/\/\/([^:/@]*):[^@/]*@/, '//$1:***@');
-  }
+  return isPostgresLocation(location) ? redactUrl(location) : location;
 }
 
 /** True when `location` names a PostgreSQL database (a postgres:// or postgresql:// URL) rather than a file. */
 export function isPostgresLocation(location: string): boolean {
-  return /^postgres(ql)?:/i.test(location);
+  return isPostgresUrl(location) || /^postgres(ql)?:/i.test(location);
+}
+
+/**
+ * What `verify` reads, from a PostgreSQL registry: the audit rows oldest first (as chain.ts `readAuditRows` on
+ * SQLite), and every material with its versions through schema-pg.ts (rows shaped as records.ts `VersionRow`).
+ * For the copy's checks on PostgreSQL until service/registry-admin.ts `verifyRegistry` takes a PostgreSQL
+ * registry; call inside a transaction of `handle` for one consistent view.
+ */
+export async function readPgForVerify(handle: PgRegistry): Promise<{
+  audit: AuditRow[];
+  materials: (typeof pgMaterials.$inferSelect)[];
+  versions: (typeof pgVersions.$inferSelect)[];
+}> {
+  const audit = await pgQueryRows<AuditRow>(handle, sql`SELECT * FROM audit_log ORDER BY id`);
+  const materials = await handle.db.select().from(pgMaterials).orderBy(asc(pgMaterials.slug));
+  const versions = await handle.db.select().from(pgVersions).orderBy(asc(pgVersions.materialId), asc(pgVersions.number));
+  return { audit, materials, versions };
+}
+
+/** The PostgreSQL registry's triggers and functions against the migrations' (integrity-pg.ts), on the transaction's connection. */
+export async function checkPgCatalogue(handle: PgRegistry): Promise<PgDefenceCheck> {
+  return checkPgDefences({
+    query: async <R extends object>(text: string) => ({ rows: await pgQueryRows<R>(handle, sql.raw(text)) }),
+  });
 }

@@ -17,25 +17,30 @@
 import { realpathSync, rmSync } from 'node:fs';
 import { resolve } from 'node:path';
 import { EnvironmentError, InputError } from '../errors.ts';
-import type { ChainHead } from '../registry/chain.ts';
+import { type ChainHead, walkChain } from '../registry/chain.ts';
 import {
+  checkPgCatalogue,
   COPIED_TABLES,
   type CopiedTable,
+  type CopyHandle,
   dialectOf,
   type Dialect,
   isPostgresLocation,
   NOT_COPIED_TABLES,
   type NotCopiedTable,
+  readPgForVerify,
   readSnapshot,
   redactLocation,
   type RegistrySnapshot,
   tableCounts,
   writeSnapshot,
 } from '../registry/copy.ts';
-import { openRegistry, type Registry } from '../registry/open.ts';
+import { openRegistry } from '../registry/open.ts';
+import { openPostgres, type PgRegistry, pgReadSnapshot, pgWriteTransaction } from '../registry/postgres.ts';
 import { writeTransaction } from '../registry/records.ts';
+import { formatRef } from '../registry/refs.ts';
 import { readTransaction } from '../registry/transaction.ts';
-import { verifyRegistry, type VerifyReport } from './registry-admin.ts';
+import { crossCheck, type HashMismatch, recomputedSha256, type StateMismatch, verifyRegistry, type VerifyReport } from './registry-admin.ts';
 
 /** A verification that failed on one side of a copy: nothing was written. The CLI exits 3. */
 export class CopyCheckError extends Error {
@@ -113,8 +118,16 @@ function identityOf(location: string): string {
   }
 }
 
-/** Open the source for reading: read-only, never created; one from an older nkledger is opened writable to bring its schema up to date. */
-async function openSource(location: string): Promise<Registry> {
+const isPg = (h: CopyHandle): h is PgRegistry => dialectOf(h) === 'postgresql';
+
+/**
+ * Open a registry of either backend. A postgres:// URL opens through postgres.ts `openPostgres` directly, until
+ * open.ts `openRegistry` takes URLs itself. The source is opened read-only where the backend allows (SQLite);
+ * one from an older nkledger is opened writable to bring its schema up to date.
+ */
+async function open(location: string, role: 'source' | 'destination'): Promise<CopyHandle> {
+  if (isPostgresLocation(location)) return openPostgres(location, { poolSize: 2 });
+  if (role === 'destination') return openRegistry(location, { create: 'if-folder-exists' });
   try {
     return await openRegistry(location, { create: 'never', readonly: true });
   } catch (err) {
@@ -123,9 +136,69 @@ async function openSource(location: string): Promise<Registry> {
   }
 }
 
-function removeCreated(registry: Registry): void {
-  if (!registry.created || dialectOf(registry) !== 'sqlite') return;
-  for (const suffix of ['', '-wal', '-shm', '-journal']) rmSync(`${registry.path}${suffix}`, { force: true });
+const readTx = <T>(h: CopyHandle, fn: () => Promise<T>): Promise<T> => (isPg(h) ? pgReadSnapshot(h, fn) : readTransaction(h, fn));
+const writeTx = <T>(h: CopyHandle, fn: () => Promise<T>): Promise<T> => (isPg(h) ? pgWriteTransaction(h, fn) : writeTransaction(h, fn));
+
+async function close(h: CopyHandle): Promise<void> {
+  await h.close();
+}
+
+/** `verify` of either backend: `verifyRegistry` on SQLite; on PostgreSQL its checks from the same pieces (below). */
+function verify(h: CopyHandle): Promise<VerifyReport> {
+  return isPg(h) ? verifyPg(h) : verifyRegistry(h);
+}
+
+/**
+ * verifyRegistry's checks on a PostgreSQL registry, made of the same pieces: every version's SHA-256 recomputed
+ * (`recomputedSha256`), numbering, the audit chain walked (`walkChain`), every version against the chain
+ * (`crossCheck`), and the triggers and functions against the migrations' from the catalogue (integrity-pg.ts; a
+ * disabled trigger counts as altered). Used until `verifyRegistry` takes a PostgreSQL registry itself; there is
+ * no PRAGMA integrity_check on PostgreSQL (`integrity` stays empty).
+ */
+async function verifyPg(h: PgRegistry): Promise<VerifyReport> {
+  const { audit, materials, versions } = await readPgForVerify(h);
+  const walk = walkChain(audit);
+  const mismatches: HashMismatch[] = [];
+  const missing: string[] = [];
+  const stateMismatches: StateMismatch[] = [];
+  const seen = new Set<string>();
+  for (const material of materials) {
+    const rows = versions.filter((v) => v.materialId === material.id);
+    const present = new Set(rows.map((r) => r.number));
+    for (let n = 1; n <= material.lastVersion; n++) if (!present.has(n)) missing.push(formatRef(material.slug, n));
+    for (const row of rows) {
+      const ref = formatRef(material.slug, row.number);
+      seen.add(ref);
+      const computed = recomputedSha256(row);
+      if (computed !== row.sha256)
+        mismatches.push({ ref, stored_sha256: row.sha256, computed_sha256: computed, reason: 'content or provenance no longer matches its SHA-256' });
+      for (const problem of crossCheck(ref, row, computed, walk.versions.get(ref))) stateMismatches.push({ ref, problem });
+    }
+  }
+  for (const ref of walk.versions.keys()) {
+    if (!seen.has(ref) && !missing.includes(ref)) stateMismatches.push({ ref, problem: `${ref}: recorded in the audit chain but not stored` });
+  }
+  const defences = await checkPgCatalogue(h);
+  const altered = [...defences.altered, ...defences.disabled.map((t) => `${t} (disabled)`)];
+  return {
+    ok:
+      mismatches.length + missing.length + walk.problems.length + stateMismatches.length === 0 &&
+      defences.missing.length + altered.length + defences.unexpected.length === 0,
+    checked_versions: versions.length,
+    mismatches,
+    missing_versions: missing,
+    missing_triggers: defences.missing,
+    altered_triggers: altered,
+    unexpected_triggers: defences.unexpected,
+    chain: { head: walk.head, problems: walk.problems },
+    state_mismatches: stateMismatches,
+    integrity: [],
+  };
+}
+
+function removeCreated(h: CopyHandle): void {
+  if (isPg(h) || !h.created) return;
+  for (const suffix of ['', '-wal', '-shm', '-journal']) rmSync(`${h.path}${suffix}`, { force: true });
 }
 
 /** Copy the registry at `from` into the new or empty registry at `to` (file paths or postgres:// URLs). */
@@ -140,33 +213,35 @@ export async function copyRegistry(from: string, to: string): Promise<CopyReport
       { option: 'to' },
     );
   }
-  const source = await openSource(from);
+  const source = await open(from, 'source');
   try {
     let sourceReport: VerifyReport | undefined;
     let snapshot: RegistrySnapshot | undefined;
-    await readTransaction(source, async () => {
-      sourceReport = await verifyRegistry(source);
+    await readTx(source, async () => {
+      sourceReport = await verify(source);
       if (!sourceReport.ok) throw new CopyCheckError('source', sourceReport);
       snapshot = await readSnapshot(source);
     });
     if (!sourceReport || !snapshot) throw new Error('the source was not read');
     return await copyInto(to, source, sourceReport, snapshot, from);
   } finally {
-    source.close();
+    await close(source);
   }
 }
 
-async function copyInto(to: string, source: Registry, sourceReport: VerifyReport, snapshot: RegistrySnapshot, from: string): Promise<CopyReport> {
-  const destination = await openRegistry(to, { create: 'if-folder-exists' });
+async function copyInto(to: string, source: CopyHandle, sourceReport: VerifyReport, snapshot: RegistrySnapshot, from: string): Promise<CopyReport> {
+  const destination = await open(to, 'destination');
   let ok = false;
   try {
-    if (destination.readonly) {
+    if (!isPg(destination) && destination.readonly) {
       throw new EnvironmentError(
         'registry-read-only',
         `registry ${redactLocation(to)} cannot be written (the file or its folder is read-only); nothing was written`,
       );
     }
     if (
+      !isPg(source) &&
+      !isPg(destination) &&
       source.identity &&
       destination.identity &&
       source.identity.dev === destination.identity.dev &&
@@ -174,9 +249,9 @@ async function copyInto(to: string, source: Registry, sourceReport: VerifyReport
     ) {
       throw new InputError('copy-same-registry', `${from} and ${to} are the same file; copy into a new one`, {}, { option: 'to' });
     }
-    const result = await writeTransaction(destination, async () => {
+    const result = await writeTx(destination, async () => {
       const written = await writeSnapshot(destination, snapshot);
-      const report = await verifyRegistry(destination);
+      const report = await verify(destination);
       if (!report.ok) throw new CopyCheckError('destination', report);
       const problems: string[] = [];
       const sourceHead = sourceReport.chain.head;
@@ -212,7 +287,7 @@ async function copyInto(to: string, source: Registry, sourceReport: VerifyReport
       destination_verified: { ok: true, checked_versions: result.report.checked_versions, chain_head_matches: true, counts_match: true },
     };
   } finally {
-    destination.close();
+    await close(destination);
     if (!ok) removeCreated(destination);
   }
 }
