@@ -6,7 +6,7 @@
  * `openPostgres`. The reference for "the same" is the first SQLite registry. Skipped with a plain message where
  * PostgreSQL 15+ is not installed.
  */
-import { mkdtempSync, rmSync } from 'node:fs';
+import { existsSync, mkdtempSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import pg from 'pg';
@@ -14,7 +14,7 @@ import { afterEach, beforeEach, describe, expect, inject, it } from 'vitest';
 import { ConflictError } from '../../src/errors.ts';
 import { checkPgCatalogue, readSnapshot } from '../../src/registry/copy.ts';
 import { openPostgres } from '../../src/registry/postgres.ts';
-import { CopyCheckError, copyRegistry } from '../../src/service/registry-copy.ts';
+import { copyRegistry } from '../../src/service/registry-copy.ts';
 import { exportVersion, history, verifyRegistry } from '../../src/service/registry.ts';
 import { runCli } from '../cli/run-cli.ts';
 import { createDatabase } from '../helpers/postgres.ts';
@@ -114,6 +114,7 @@ describe.skipIf(!server.adminUrl)(`registry copy through PostgreSQL${server.admi
       'trigger material_versions_content_immutable (disabled) was replaced by one with other SQL: it may no longer refuse anything',
     );
     expect(body.problems.some((p: string) => p.startsWith('film@2: content or provenance no longer matches'))).toBe(true);
+    expect(existsSync(target)).toBe(false);
   });
 
   it('exit 4 when the PostgreSQL server cannot be reached; the password never printed', async () => {
