@@ -18,6 +18,7 @@ export function register(program: Command): void {
 
   registry
     .command('copy')
+    .summary('copy a whole registry into an empty one (SQLite or PostgreSQL, either way), re-verifying every hash')
     .description(
       'copy every material, version (same ids, numbers, statuses, content text and SHA-256), audit event (the hash chain as it is), ' +
         'setting and token (hashes only) into a new or empty registry of either backend, in one transaction; the source is verified ' +
