@@ -92,11 +92,6 @@ export function dialectOf(handle: CopyHandle): Dialect {
   return isPg(handle) ? 'postgresql' : 'sqlite';
 }
 
-/** Where a handle points, fit to print (a URL's password masked). */
-export function locationOf(handle: CopyHandle): string {
-  return isPg(handle) ? handle.url : handle.path;
-}
-
 const queryRows = <T>(h: CopyHandle, q: SQL): Promise<T[]> => (isPg(h) ? pgQueryRows<T>(h, q) : sqliteQueryRows<T>(h, q));
 const queryRow = <T>(h: CopyHandle, q: SQL): Promise<T | undefined> => (isPg(h) ? pgQueryRow<T>(h, q) : sqliteQueryRow<T>(h, q));
 const execute = async (h: CopyHandle, q: SQL): Promise<void> => {
@@ -132,8 +127,14 @@ export async function tableCounts(registry: CopyHandle): Promise<Record<CopiedTa
   return out;
 }
 
+/** A table's key for ORDER BY: text keys in byte order on both backends (PostgreSQL sorts text by locale otherwise). */
+function orderKey(handle: CopyHandle, table: CopiedTable): SQL {
+  const key = ident(TABLES[table].key);
+  return isPg(handle) && !SEQUENCED.includes(table) ? sql`${key} COLLATE "C"` : key;
+}
+
 /**
- * Read every copied row, oldest first by key. Call inside a read transaction of `registry` so the tables are one
+ * Read every copied row, oldest first by key (text keys in byte order). Call inside a read transaction of `registry` so the tables are one
  * consistent snapshot.
  */
 export async function readSnapshot(registry: CopyHandle): Promise<RegistrySnapshot> {
@@ -142,7 +143,7 @@ export async function readSnapshot(registry: CopyHandle): Promise<RegistrySnapsh
     const columns = columnsOf(table);
     const read = await queryRows<Row>(
       registry,
-      sql`SELECT ${sql.join(columns.map(ident), sql`, `)} FROM ${ident(table)} ORDER BY ${ident(TABLES[table].key)}`,
+      sql`SELECT ${sql.join(columns.map(ident), sql`, `)} FROM ${ident(table)} ORDER BY ${orderKey(registry, table)}`,
     );
     rows[table] = read.map((row) => {
       for (const column of BOOLEAN_COLUMNS) if (column in row && row[column] !== null) row[column] = Boolean(row[column]);
