@@ -12,13 +12,14 @@ import { join } from 'node:path';
 import pg from 'pg';
 import { afterEach, beforeEach, describe, expect, inject, it } from 'vitest';
 import { ConflictError } from '../../src/errors.ts';
+import { type AuditRow, earlierEventsSha256, eventHash, GENESIS_TYPE, SYSTEM_ACTOR } from '../../src/registry/chain.ts';
 import { checkPgCatalogue, readSnapshot } from '../../src/registry/copy.ts';
 import { openPostgres } from '../../src/registry/postgres.ts';
 import { copyRegistry } from '../../src/service/registry-copy.ts';
 import { exportVersion, history, verifyRegistry } from '../../src/service/registry.ts';
 import { runCli } from '../cli/run-cli.ts';
 import { createDatabase } from '../helpers/postgres.ts';
-import { fillForCopy, REFS, withOpen } from './copy-fixture.ts';
+import { fillForCopy, REFS, registryFromBeforeTheChain, withOpen } from './copy-fixture.ts';
 
 const server = inject('postgres');
 if (!server.adminUrl) console.warn(server.missing);
@@ -115,6 +116,66 @@ describe.skipIf(!server.adminUrl)(`registry copy through PostgreSQL${server.admi
     );
     expect(body.problems.some((p: string) => p.startsWith('film@2: content or provenance no longer matches'))).toBe(true);
     expect(existsSync(target)).toBe(false);
+  });
+
+  it('through PostgreSQL, a registry upgraded from before the chain: its hash-less rows pass the suspended trigger, which is back on after', async () => {
+    const old = await registryFromBeforeTheChain(dir);
+    const url = await newDatabase();
+    expect(await copyRegistry(old, url)).toMatchObject({ pre_chain_audit_rows: 2, tables: { audit_log: 3 } });
+    const back = join(dir, 'old-back.db');
+    await copyRegistry(url, back);
+    expect((await withOpen(back, readSnapshot)).rows).toEqual((await withOpen(old, readSnapshot)).rows);
+    const handle = await openPostgres(url, { poolSize: 1 });
+    try {
+      expect(await checkPgCatalogue(handle)).toEqual({ missing: [], altered: [], unexpected: [], disabled: [] });
+    } finally {
+      await handle.close();
+    }
+  });
+
+  it('replaces the genesis event a new PostgreSQL registry starts with (audit_log_no_delete suspended for that one row, then on again)', async () => {
+    const url = await newDatabase();
+    // The genesis event opening a new registry appends (chain.ts ensureGenesis), written here as it would be.
+    const none: AuditRow[] = [];
+    const genesis: AuditRow = {
+      id: 0,
+      at: '2026-01-01T00:00:00.000Z',
+      actor: SYSTEM_ACTOR,
+      action: GENESIS_TYPE,
+      material_id: null,
+      version_id: null,
+      detail: JSON.stringify({ versions: [], earlier_events: 0, earlier_events_sha256: earlierEventsSha256(none) }),
+      material: null,
+      version_number: null,
+      content_sha256: null,
+      status_from: null,
+      status_to: null,
+      prev_hash: null,
+      hash: null,
+    };
+    genesis.hash = eventHash(genesis);
+    const client = new pg.Client({ connectionString: url });
+    await (await openPostgres(url, { poolSize: 1 })).close(); // migrate
+    await client.connect();
+    try {
+      await client.query('INSERT INTO audit_log (at, actor, action, detail, prev_hash, hash) VALUES ($1, $2, $3, $4, NULL, $5)', [
+        genesis.at,
+        genesis.actor,
+        genesis.action,
+        genesis.detail,
+        genesis.hash,
+      ]);
+      expect(await copyRegistry(source, url)).toMatchObject({ replaced_genesis: true, tables: { audit_log: 16 } });
+      const first = await client.query<{ hash: string }>('SELECT hash FROM audit_log ORDER BY id LIMIT 1');
+      expect(first.rows[0].hash).not.toBe(genesis.hash);
+      const triggers = await client.query<{ tgname: string; tgenabled: string }>(
+        `SELECT tgname, tgenabled FROM pg_trigger WHERE tgrelid = 'audit_log'::regclass AND NOT tgisinternal AND tgenabled <> 'O'`,
+      );
+      expect(triggers.rows).toEqual([]);
+      await expect(client.query('DELETE FROM audit_log WHERE id = 1')).rejects.toMatchObject({ code: '23000' });
+    } finally {
+      await client.end();
+    }
   });
 
   it('exit 4 when the PostgreSQL server cannot be reached; the password never printed', async () => {

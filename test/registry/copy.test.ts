@@ -17,19 +17,10 @@ import { readSnapshot, redactLocation, writeSnapshot } from '../../src/registry/
 import { writeTransaction } from '../../src/registry/records.ts';
 import { queryRows } from '../../src/registry/sql.ts';
 import { copyRegistry, CopyCheckError } from '../../src/service/registry-copy.ts';
-import {
-  canonicalJson,
-  createMaterial,
-  exportVersion,
-  history,
-  importVersion,
-  openRegistry,
-  verifyRegistry,
-  versionSha256,
-} from '../../src/service/registry.ts';
+import { createMaterial, exportVersion, history, importVersion, openRegistry, verifyRegistry } from '../../src/service/registry.ts';
 import { runCli } from '../cli/run-cli.ts';
-import { fillForCopy as fill, REFS, withOpen } from './copy-fixture.ts';
-import { cauchyTable, databaseAtMigration } from './helpers.ts';
+import { fillForCopy as fill, REFS, registryFromBeforeTheChain, withOpen } from './copy-fixture.ts';
+import { cauchyTable } from './helpers.ts';
 
 let dir: string;
 let source: string;
@@ -93,33 +84,7 @@ describe('registry copy, SQLite to SQLite', () => {
   });
 
   it('copies a registry upgraded from before the chain: the rows older than the genesis go in as they are', async () => {
-    const old = join(dir, 'old.db');
-    const db = databaseAtMigration(dir, 'old.db', 5);
-    const content = { table: cauchyTable(1.5), fit: null, kk: null };
-    const provenance = {
-      sample: null,
-      substrate: null,
-      process: null,
-      instrument: null,
-      method: null,
-      angles_deg: null,
-      measured_on: null,
-      operator: null,
-      source_file: null,
-      source_sha256: null,
-      notes: null,
-    };
-    const at = '2025-03-01T10:00:00.000Z';
-    db.prepare("INSERT INTO materials (slug, name, created_by, created_at, last_version) VALUES ('old-film', 'Old', 'ada', ?, 1)").run(at);
-    db.prepare(
-      "INSERT INTO material_versions (material_id, number, status, content, sha256, created_by, created_at, approved_by, approved_at, self_approved) VALUES (1, 1, 'approved', ?, ?, 'ada', ?, 'bob', ?, 0)",
-    ).run(canonicalJson(content), versionSha256(content, provenance), at, at);
-    db.prepare("INSERT INTO audit_log (at, actor, action, material_id, version_id, detail) VALUES (?, 'ada', 'material.create', 1, NULL, '{}')").run(
-      at,
-    );
-    db.prepare("INSERT INTO audit_log (at, actor, action, material_id, version_id, detail) VALUES (?, 'bob', 'version.approve', 1, 1, '{}')").run(at);
-    db.close();
-    await withOpen(old, async () => {}); // brings the schema up to date and starts the chain
+    const old = await registryFromBeforeTheChain(dir);
     const target = join(dir, 'old-copy.db');
     const report = await copyRegistry(old, target);
     expect(report.pre_chain_audit_rows).toBe(2);
