@@ -58,7 +58,7 @@ try {
       if (v % 2 === 0) await approve(r, `${slug}@${v + 1}`, 'bob');
     }
   }
-  r.close();
+  await r.close();
   console.log(`registry: ${materials} materials × ${versions} versions of ${points} points; median of ${rounds} runs`);
 
   const open = async () => openRegistry(source, { create: 'never', readonly: true });
@@ -67,7 +67,7 @@ try {
     try {
       await verifyRegistry(s);
     } finally {
-      s.close();
+      await s.close();
     }
   });
   const backupMs = await median(async () => {
@@ -75,7 +75,7 @@ try {
     try {
       await backup(s, fresh());
     } finally {
-      s.close();
+      await s.close();
     }
   });
   const copyMs = await median(() => copyRegistry(source, fresh()));

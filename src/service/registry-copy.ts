@@ -40,7 +40,15 @@ import { openPostgres, type PgRegistry, pgReadSnapshot, pgWriteTransaction } fro
 import { writeTransaction } from '../registry/records.ts';
 import { formatRef } from '../registry/refs.ts';
 import { readTransaction } from '../registry/transaction.ts';
-import { crossCheck, type HashMismatch, recomputedSha256, type StateMismatch, verifyRegistry, type VerifyReport } from './registry-admin.ts';
+import {
+  crossCheck,
+  NOT_APPLICABLE_ON_POSTGRES,
+  type HashMismatch,
+  recomputedSha256,
+  type StateMismatch,
+  verifyRegistry,
+  type VerifyReport,
+} from './registry-admin.ts';
 
 /** A verification that failed on one side of a copy: nothing was written. The CLI exits 3. */
 export class CopyCheckError extends Error {
@@ -179,17 +187,20 @@ async function verifyPg(h: PgRegistry): Promise<VerifyReport> {
     if (!seen.has(ref) && !missing.includes(ref)) stateMismatches.push({ ref, problem: `${ref}: recorded in the audit chain but not stored` });
   }
   const defences = await checkPgCatalogue(h);
-  const altered = [...defences.altered, ...defences.disabled.map((t) => `${t} (disabled)`)];
+  const altered = defences.altered;
   return {
     ok:
       mismatches.length + missing.length + walk.problems.length + stateMismatches.length === 0 &&
-      defences.missing.length + altered.length + defences.unexpected.length === 0,
+      defences.missing.length + altered.length + defences.unexpected.length + defences.disabled.length === 0,
+    backend: 'postgres',
+    not_applicable: NOT_APPLICABLE_ON_POSTGRES,
     checked_versions: versions.length,
     mismatches,
     missing_versions: missing,
     missing_triggers: defences.missing,
     altered_triggers: altered,
     unexpected_triggers: defences.unexpected,
+    disabled_triggers: defences.disabled,
     chain: { head: walk.head, problems: walk.problems },
     state_mismatches: stateMismatches,
     integrity: [],

@@ -32,7 +32,7 @@ export async function fillForCopy(path: string): Promise<void> {
     await revokeToken(r, other.id, 'admin');
     await startSession(r, token.token);
   } finally {
-    r.close();
+    await r.close();
   }
 }
 
@@ -41,7 +41,7 @@ export async function withOpen<T>(path: string, use: (r: Registry) => Promise<T>
   try {
     return await use(r);
   } finally {
-    r.close();
+    await r.close();
   }
 }
 

@@ -67,7 +67,7 @@ describe('registry copy, SQLite to SQLite', () => {
     const target = join(dir, 'copy.db');
     await copyRegistry(source, target);
     await withOpen(target, async (r) => {
-      expect(await checkTriggers(r)).toEqual({ missing: [], altered: [], unexpected: [] });
+      expect(await checkTriggers(r)).toEqual({ missing: [], disabled: [], altered: [], unexpected: [] });
       expect(() => r.sqlite.prepare("UPDATE material_versions SET content = '{}' WHERE id = 1").run()).toThrow(/immutable/);
       expect(() => r.sqlite.prepare('DELETE FROM audit_log').run()).toThrow(/append-only/);
       expect(() =>
@@ -95,7 +95,7 @@ describe('registry copy, SQLite to SQLite', () => {
       rows: (await readSnapshot(r)).rows,
     }));
     expect(copied.verify.ok).toBe(true);
-    expect(copied.triggers).toEqual({ missing: [], altered: [], unexpected: [] });
+    expect(copied.triggers).toEqual({ missing: [], disabled: [], altered: [], unexpected: [] });
     expect(copied.rows).toEqual((await withOpen(old, readSnapshot)).rows);
   });
 
@@ -103,7 +103,7 @@ describe('registry copy, SQLite to SQLite', () => {
     const target = join(dir, 'busy.db');
     const busy = await openRegistry(target);
     await createMaterial(busy, { slug: 'kept', name: 'Kept' }, 'ada');
-    busy.close();
+    await busy.close();
     const before = await withOpen(target, readSnapshot);
     const err = await copyRegistry(source, target).catch((e: unknown) => e);
     expect(err).toBeInstanceOf(ConflictError);
@@ -148,13 +148,13 @@ describe('registry copy, SQLite to SQLite', () => {
     // the materials and versions went in.
     const broken = structuredClone(snapshot);
     broken.rows.audit_log[5].prev_hash = 'f'.repeat(64);
-    (await openRegistry(target)).close();
+    await (await openRegistry(target)).close();
     await withOpen(target, async (r) => {
       const before = await readSnapshot(r);
       await expect(writeTransaction(r, () => writeSnapshot(r, broken))).rejects.toThrow(/extend the chain at its head/);
       expect(await readSnapshot(r)).toEqual(before);
       expect(before.rows.audit_log).toHaveLength(1);
-      expect(await checkTriggers(r)).toEqual({ missing: [], altered: [], unexpected: [] });
+      expect(await checkTriggers(r)).toEqual({ missing: [], disabled: [], altered: [], unexpected: [] });
       expect((await verifyRegistry(r)).ok).toBe(true);
     });
   });
