@@ -16,9 +16,10 @@ import { type AuditRow, earlierEventsSha256, eventHash, GENESIS_TYPE, SYSTEM_ACT
 import { checkPgCatalogue, readSnapshot } from '../../src/registry/copy.ts';
 import { openPostgres } from '../../src/registry/postgres.ts';
 import { copyRegistry } from '../../src/service/registry-copy.ts';
-import { exportVersion, history, verifyRegistry } from '../../src/service/registry.ts';
+import { exportVersion, history, importVersion, openRegistry, verifyRegistry } from '../../src/service/registry.ts';
 import { runCli } from '../cli/run-cli.ts';
 import { createDatabase } from '../helpers/postgres.ts';
+import { cauchyTable } from './helpers.ts';
 import { fillForCopy, REFS, registryFromBeforeTheChain, withOpen } from './copy-fixture.ts';
 
 const server = inject('postgres');
@@ -88,6 +89,26 @@ describe.skipIf(!server.adminUrl)(`registry copy through PostgreSQL${server.admi
       expect(version.rows[0].id).toBe(6);
     } finally {
       await client.end();
+    }
+  });
+
+  it('the copy on PostgreSQL opened as a Registry (--db postgres://…): verify passes, the next import gets the next number', async () => {
+    const url = await newDatabase();
+    await (await openRegistry(url)).close(); // a new registry, as `--db postgres://…` makes one: migrated, its genesis written
+    const copied = await copyRegistry(source, url);
+    expect(copied.replaced_genesis).toBe(true);
+    const r = await openRegistry(url);
+    try {
+      const before = await verifyRegistry(r);
+      expect(before).toMatchObject({ ok: true, backend: 'postgres', checked_versions: 5 });
+      expect(before.chain.head).toEqual(copied.chain_head);
+      const next = await importVersion(r, { slug: 'film', table: cauchyTable(1.5) }, 'ada');
+      expect(next.ref).toBe('film@5');
+      const after = await verifyRegistry(r);
+      expect(after.ok).toBe(true);
+      expect(after.chain.head?.sequence).toBe(17);
+    } finally {
+      await r.close();
     }
   });
 
