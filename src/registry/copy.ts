@@ -302,8 +302,7 @@ export function isPostgresLocation(location: string): boolean {
 /**
  * What `verify` reads, from a PostgreSQL registry: the audit rows oldest first (as chain.ts `readAuditRows` on
  * SQLite), and every material with its versions through schema-pg.ts (rows shaped as records.ts `VersionRow`).
- * For the copy's checks on PostgreSQL until service/registry-admin.ts `verifyRegistry` takes a PostgreSQL
- * registry; call inside a transaction of `handle` for one consistent view.
+ * For the copy's checks on a raw PostgreSQL handle (service/registry-copy.ts); call inside a transaction of `handle` for one consistent view.
  */
 export async function readPgForVerify(handle: PgRegistry): Promise<{
   audit: AuditRow[];

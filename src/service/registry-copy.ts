@@ -129,8 +129,8 @@ function identityOf(location: string): string {
 const isPg = (h: CopyHandle): h is PgRegistry => dialectOf(h) === 'postgresql';
 
 /**
- * Open a registry of either backend. A postgres:// URL opens through postgres.ts `openPostgres` directly, until
- * open.ts `openRegistry` takes URLs itself. The source is opened read-only where the backend allows (SQLite);
+ * Open a registry of either backend. A postgres:// URL opens through postgres.ts `openPostgres` directly (the
+ * handle open.ts `openRegistry` wraps), which raw SQL and the catalogue check take. The source is opened read-only where the backend allows (SQLite);
  * one from an older nkledger is opened writable to bring its schema up to date.
  */
 async function open(location: string, role: 'source' | 'destination'): Promise<CopyHandle> {
@@ -160,8 +160,8 @@ function verify(h: CopyHandle): Promise<VerifyReport> {
  * verifyRegistry's checks on a PostgreSQL registry, made of the same pieces: every version's SHA-256 recomputed
  * (`recomputedSha256`), numbering, the audit chain walked (`walkChain`), every version against the chain
  * (`crossCheck`), and the triggers and functions against the migrations' from the catalogue (integrity-pg.ts; a
- * disabled trigger counts as altered). Used until `verifyRegistry` takes a PostgreSQL registry itself; there is
- * no PRAGMA integrity_check on PostgreSQL (`integrity` stays empty).
+ * disabled trigger is reported as such) on the raw handle; test/registry/copy-pg.test.ts checks that
+ * `verifyRegistry` on the Registry opened from the same URL agrees. No PRAGMA integrity_check on PostgreSQL.
  */
 async function verifyPg(h: PgRegistry): Promise<VerifyReport> {
   const { audit, materials, versions } = await readPgForVerify(h);
