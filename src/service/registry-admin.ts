@@ -108,7 +108,7 @@ const LIFECYCLE_ACTORS = [
 ] as const;
 
 /** Compare one stored version with the chain's account of it. */
-function crossCheck(ref: string, row: VersionRow, computed: string | null, chained: ChainedVersion | undefined): string[] {
+export function crossCheck(ref: string, row: VersionRow, computed: string | null, chained: ChainedVersion | undefined): string[] {
   if (!chained) return [`${ref}: the audit chain never recorded this version (inserted outside nkledger)`];
   const problems: string[] = [];
   if (computed !== null && computed !== chained.sha256) {

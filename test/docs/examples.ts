@@ -14,6 +14,7 @@ export const MARKERS = {
   '(needs a running server)': 'talks to a running nkledger server (curl against the HTTP API)',
   '(placeholder)': 'names something the reader replaces: their own file, token id, path or host',
   '(takes minutes)': 'runs for minutes: the test suite, a soak, a long benchmark',
+  '(needs PostgreSQL)': 'names a PostgreSQL server the reader has (the doc test starts none for the documents)',
 } as const;
 export type Marker = keyof typeof MARKERS;
 

@@ -53,6 +53,11 @@ export const COMMANDS: CommandEntry[] = [
   { name: 'lock', summary: "a design's lockfile: pin, verify and check for newer versions", load: () => import('./lock.ts') },
   { name: 'verify', summary: 'recompute every hash and check the registry (exit 3 on any problem)', load: () => import('./verify.ts') },
   { name: 'backup', summary: 'copy the registry to a new file while it stays in use', load: () => import('./backup.ts') },
+  {
+    name: 'registry',
+    summary: 'copy a whole registry into an empty one, SQLite or PostgreSQL, re-verifying every hash',
+    load: () => import('./registry.ts'),
+  },
   { name: 'diff', summary: 'compare two versions: parameters, largest |Δn| and |Δk|, provenance', load: () => import('./diff.ts') },
   { name: 'export', summary: 'export a version as CSV or JSON', load: () => import('./export.ts') },
   {

@@ -5,6 +5,7 @@ import { ENVIRONMENT_FAULT_EXIT, guarded } from '../failure.ts';
 import { printJson, printLines } from '../output.ts';
 import { CHECK_FAILED_EXIT } from './lock.ts';
 import { cliIo, setExitCode } from '../io.ts';
+import { verifyProblems } from '../verify-output.ts';
 
 export function register(program: Command): void {
   addRegistryOptions(program.command('verify'))
@@ -21,19 +22,7 @@ export function register(program: Command): void {
         const report = await registryOps(opts).verify();
         if (!report.ok) setExitCode(CHECK_FAILED_EXIT);
         if (opts.json) return printJson(report);
-        const problems = [
-          ...report.mismatches.map(
-            (m) => `${m.ref}: ${m.reason} (stored ${m.stored_sha256.slice(0, 12)}…, computed ${m.computed_sha256?.slice(0, 12) ?? 'none'}…)`,
-          ),
-          ...report.missing_versions.map((ref) => `${ref}: the version was assigned but its row is gone`),
-          ...report.missing_triggers.map((t) => `trigger ${t} is missing: the database no longer refuses edits by itself`),
-          ...report.altered_triggers.map((t) => `trigger ${t} was replaced by one with other SQL: it may no longer refuse anything`),
-          ...report.unexpected_triggers.map((t) => `trigger ${t} was not created by nkledger`),
-          ...report.disabled_triggers.map((t) => `trigger ${t} is disabled: it no longer refuses anything`),
-          ...report.chain.problems.map((p) => `audit chain: ${p}`),
-          ...report.state_mismatches.map((m) => m.problem),
-          ...report.integrity.map((line) => `integrity_check: ${line}`),
-        ];
+        const problems = verifyProblems(report);
         for (const p of problems) cliIo().stderr.write(`FAIL  ${p}\n`);
         for (const n of report.not_applicable) cliIo().stderr.write(`n/a   ${n.check} (not on PostgreSQL): ${n.reason}\n`);
         const head = report.chain.head ? `; audit chain head ${report.chain.head.hash} (event ${report.chain.head.sequence})` : '';
