@@ -33,20 +33,16 @@
  * PostgreSQL's identity columns do not move past explicit ids by themselves: the copy sets each sequence past
  * the highest id it wrote (`setval`). SQLite's AUTOINCREMENT does (sqlite_sequence follows explicit ids).
  */
-import { asc, getTableColumns, type SQL, sql } from 'drizzle-orm';
+import { getTableColumns, type SQL, sql } from 'drizzle-orm';
 import type { SQLiteTable } from 'drizzle-orm/sqlite-core';
 import { ConflictError } from '../errors.ts';
 import { GENESIS_TYPE, type AuditRow } from './chain.ts';
 import { environmentFault } from './faults.ts';
-import { checkPgDefences, type PgDefenceCheck } from './integrity-pg.ts';
-import { materials as pgMaterials, materialVersions as pgVersions } from './schema-pg.ts';
 import type { Registry } from './open.ts';
-import { pgEnvironmentFault } from './postgres-faults.ts';
-import { pgExecute, pgQueryRow, pgQueryRows } from './postgres-sql.ts';
-import { isPostgresUrl, type PgRegistry, redactUrl } from './postgres.ts';
+import { isPostgresUrl, redactUrl } from './postgres.ts';
 import { apiTokens, webPendingUploads, webSessions } from './schema-auth.ts';
 import { auditLog, materials, materialVersions, registrySettings } from './schema.ts';
-import { execute as sqliteExecute, queryRow as sqliteQueryRow, queryRows as sqliteQueryRows } from './sql.ts';
+import { execute, queryRow, queryRows } from './sql.ts';
 
 /** The tables a copy carries, in the order they are written (foreign keys point only to earlier ones). */
 export const COPIED_TABLES = ['materials', 'material_versions', 'audit_log', 'registry_settings', 'api_tokens'] as const;
@@ -78,26 +74,17 @@ const BATCH = 100;
 export type Dialect = 'sqlite' | 'postgresql';
 
 /**
- * An open registry of either backend: a Registry (SQLite, open.ts) or a PgRegistry handle (postgres.ts). Raw SQL
- * below goes through sql.ts or postgres-sql.ts by the handle's kind; inside the caller's transaction either way.
+ * An open registry of either backend (open.ts `openRegistry`). Raw SQL below goes through sql.ts, which
+ * dispatches by dialect; inside the caller's transaction either way.
  */
-export type CopyHandle = Registry | PgRegistry;
+export type CopyHandle = Registry;
 
-function isPg(handle: CopyHandle): handle is PgRegistry {
-  return (handle as { dialect?: string }).dialect === 'postgres';
-}
+const isPg = (handle: CopyHandle): boolean => handle.pg !== null;
 
 /** The backend of an open registry. */
 export function dialectOf(handle: CopyHandle): Dialect {
   return isPg(handle) ? 'postgresql' : 'sqlite';
 }
-
-const queryRows = <T>(h: CopyHandle, q: SQL): Promise<T[]> => (isPg(h) ? pgQueryRows<T>(h, q) : sqliteQueryRows<T>(h, q));
-const queryRow = <T>(h: CopyHandle, q: SQL): Promise<T | undefined> => (isPg(h) ? pgQueryRow<T>(h, q) : sqliteQueryRow<T>(h, q));
-const execute = async (h: CopyHandle, q: SQL): Promise<void> => {
-  if (isPg(h)) await pgExecute(h, q);
-  else await sqliteExecute(h, q);
-};
 
 /** The column names of a copied table, as both schemas name them (test/registry/pg-schema.test.ts keeps them equal). */
 export function columnsOf(table: CopiedTable | NotCopiedTable): string[] {
@@ -187,7 +174,7 @@ async function insertRows(registry: CopyHandle, table: CopiedTable, rows: Row[],
  */
 function refusal(err: unknown, registry: CopyHandle, doing: string): Error {
   const cause = err instanceof Error && err.cause instanceof Error ? err.cause : err;
-  const fault = isPg(registry) ? pgEnvironmentFault(cause, registry.url) : environmentFault(cause, registry.path);
+  const fault = environmentFault(cause, registry.path);
   if (fault) return fault;
   return new Error(`${doing} into the destination failed: ${cause instanceof Error ? cause.message : String(cause)}`, { cause });
 }
@@ -297,27 +284,4 @@ export function redactLocation(location: string): string {
 /** True when `location` names a PostgreSQL database (a postgres:// or postgresql:// URL) rather than a file. */
 export function isPostgresLocation(location: string): boolean {
   return isPostgresUrl(location) || /^postgres(ql)?:/i.test(location);
-}
-
-/**
- * What `verify` reads, from a PostgreSQL registry: the audit rows oldest first (as chain.ts `readAuditRows` on
- * SQLite), and every material with its versions through schema-pg.ts (rows shaped as records.ts `VersionRow`).
- * For the copy's checks on a raw PostgreSQL handle (service/registry-copy.ts); call inside a transaction of `handle` for one consistent view.
- */
-export async function readPgForVerify(handle: PgRegistry): Promise<{
-  audit: AuditRow[];
-  materials: (typeof pgMaterials.$inferSelect)[];
-  versions: (typeof pgVersions.$inferSelect)[];
-}> {
-  const audit = await pgQueryRows<AuditRow>(handle, sql`SELECT * FROM audit_log ORDER BY id`);
-  const materials = await handle.db.select().from(pgMaterials).orderBy(asc(pgMaterials.slug));
-  const versions = await handle.db.select().from(pgVersions).orderBy(asc(pgVersions.materialId), asc(pgVersions.number));
-  return { audit, materials, versions };
-}
-
-/** The PostgreSQL registry's triggers and functions against the migrations' (integrity-pg.ts), on the transaction's connection. */
-export async function checkPgCatalogue(handle: PgRegistry): Promise<PgDefenceCheck> {
-  return checkPgDefences({
-    query: async <R extends object>(text: string) => ({ rows: await pgQueryRows<R>(handle, sql.raw(text)) }),
-  });
 }

@@ -17,9 +17,8 @@
 import { realpathSync, rmSync } from 'node:fs';
 import { resolve } from 'node:path';
 import { EnvironmentError, InputError } from '../errors.ts';
-import { type ChainHead, walkChain } from '../registry/chain.ts';
+import { type ChainHead } from '../registry/chain.ts';
 import {
-  checkPgCatalogue,
   COPIED_TABLES,
   type CopiedTable,
   type CopyHandle,
@@ -28,7 +27,6 @@ import {
   isPostgresLocation,
   NOT_COPIED_TABLES,
   type NotCopiedTable,
-  readPgForVerify,
   readSnapshot,
   redactLocation,
   type RegistrySnapshot,
@@ -36,19 +34,9 @@ import {
   writeSnapshot,
 } from '../registry/copy.ts';
 import { openRegistry } from '../registry/open.ts';
-import { openPostgres, type PgRegistry, pgReadSnapshot, pgWriteTransaction } from '../registry/postgres.ts';
 import { writeTransaction } from '../registry/records.ts';
-import { formatRef } from '../registry/refs.ts';
 import { readTransaction } from '../registry/transaction.ts';
-import {
-  crossCheck,
-  NOT_APPLICABLE_ON_POSTGRES,
-  type HashMismatch,
-  recomputedSha256,
-  type StateMismatch,
-  verifyRegistry,
-  type VerifyReport,
-} from './registry-admin.ts';
+import { verifyRegistry, type VerifyReport } from './registry-admin.ts';
 
 /** A verification that failed on one side of a copy: nothing was written. The CLI exits 3. */
 export class CopyCheckError extends Error {
@@ -126,15 +114,14 @@ function identityOf(location: string): string {
   }
 }
 
-const isPg = (h: CopyHandle): h is PgRegistry => dialectOf(h) === 'postgresql';
+const isPg = (h: CopyHandle): boolean => h.pg !== null;
 
 /**
- * Open a registry of either backend. A postgres:// URL opens through postgres.ts `openPostgres` directly (the
- * handle open.ts `openRegistry` wraps), which raw SQL and the catalogue check take. The source is opened read-only where the backend allows (SQLite);
- * one from an older nkledger is opened writable to bring its schema up to date.
+ * Open a registry of either backend (open.ts `openRegistry` takes paths and postgres:// URLs). The source is
+ * opened read-only where the backend allows (SQLite); one from an older nkledger is opened writable to bring its
+ * schema up to date. A PostgreSQL source must already hold a registry.
  */
 async function open(location: string, role: 'source' | 'destination'): Promise<CopyHandle> {
-  if (isPostgresLocation(location)) return openPostgres(location, { poolSize: 2 });
   if (role === 'destination') return openRegistry(location, { create: 'if-folder-exists' });
   try {
     return await openRegistry(location, { create: 'never', readonly: true });
@@ -142,69 +129,6 @@ async function open(location: string, role: 'source' | 'destination'): Promise<C
     if (!(err instanceof EnvironmentError && err.rule === 'registry-needs-upgrade')) throw err;
     return openRegistry(location, { create: 'never' });
   }
-}
-
-const readTx = <T>(h: CopyHandle, fn: () => Promise<T>): Promise<T> => (isPg(h) ? pgReadSnapshot(h, fn) : readTransaction(h, fn));
-const writeTx = <T>(h: CopyHandle, fn: () => Promise<T>): Promise<T> => (isPg(h) ? pgWriteTransaction(h, fn) : writeTransaction(h, fn));
-
-async function close(h: CopyHandle): Promise<void> {
-  await h.close();
-}
-
-/** `verify` of either backend: `verifyRegistry` on SQLite; on PostgreSQL its checks from the same pieces (below). */
-function verify(h: CopyHandle): Promise<VerifyReport> {
-  return isPg(h) ? verifyPg(h) : verifyRegistry(h);
-}
-
-/**
- * verifyRegistry's checks on a PostgreSQL registry, made of the same pieces: every version's SHA-256 recomputed
- * (`recomputedSha256`), numbering, the audit chain walked (`walkChain`), every version against the chain
- * (`crossCheck`), and the triggers and functions against the migrations' from the catalogue (integrity-pg.ts; a
- * disabled trigger is reported as such) on the raw handle; test/registry/copy-pg.test.ts checks that
- * `verifyRegistry` on the Registry opened from the same URL agrees. No PRAGMA integrity_check on PostgreSQL.
- */
-async function verifyPg(h: PgRegistry): Promise<VerifyReport> {
-  const { audit, materials, versions } = await readPgForVerify(h);
-  const walk = walkChain(audit);
-  const mismatches: HashMismatch[] = [];
-  const missing: string[] = [];
-  const stateMismatches: StateMismatch[] = [];
-  const seen = new Set<string>();
-  for (const material of materials) {
-    const rows = versions.filter((v) => v.materialId === material.id);
-    const present = new Set(rows.map((r) => r.number));
-    for (let n = 1; n <= material.lastVersion; n++) if (!present.has(n)) missing.push(formatRef(material.slug, n));
-    for (const row of rows) {
-      const ref = formatRef(material.slug, row.number);
-      seen.add(ref);
-      const computed = recomputedSha256(row);
-      if (computed !== row.sha256)
-        mismatches.push({ ref, stored_sha256: row.sha256, computed_sha256: computed, reason: 'content or provenance no longer matches its SHA-256' });
-      for (const problem of crossCheck(ref, row, computed, walk.versions.get(ref))) stateMismatches.push({ ref, problem });
-    }
-  }
-  for (const ref of walk.versions.keys()) {
-    if (!seen.has(ref) && !missing.includes(ref)) stateMismatches.push({ ref, problem: `${ref}: recorded in the audit chain but not stored` });
-  }
-  const defences = await checkPgCatalogue(h);
-  const altered = defences.altered;
-  return {
-    ok:
-      mismatches.length + missing.length + walk.problems.length + stateMismatches.length === 0 &&
-      defences.missing.length + altered.length + defences.unexpected.length + defences.disabled.length === 0,
-    backend: 'postgres',
-    not_applicable: NOT_APPLICABLE_ON_POSTGRES,
-    checked_versions: versions.length,
-    mismatches,
-    missing_versions: missing,
-    missing_triggers: defences.missing,
-    altered_triggers: altered,
-    unexpected_triggers: defences.unexpected,
-    disabled_triggers: defences.disabled,
-    chain: { head: walk.head, problems: walk.problems },
-    state_mismatches: stateMismatches,
-    integrity: [],
-  };
 }
 
 function removeCreated(h: CopyHandle): void {
@@ -228,15 +152,15 @@ export async function copyRegistry(from: string, to: string): Promise<CopyReport
   try {
     let sourceReport: VerifyReport | undefined;
     let snapshot: RegistrySnapshot | undefined;
-    await readTx(source, async () => {
-      sourceReport = await verify(source);
+    await readTransaction(source, async () => {
+      sourceReport = await verifyRegistry(source);
       if (!sourceReport.ok) throw new CopyCheckError('source', sourceReport);
       snapshot = await readSnapshot(source);
     });
     if (!sourceReport || !snapshot) throw new Error('the source was not read');
     return await copyInto(to, source, sourceReport, snapshot, from);
   } finally {
-    await close(source);
+    await source.close();
   }
 }
 
@@ -260,9 +184,9 @@ async function copyInto(to: string, source: CopyHandle, sourceReport: VerifyRepo
     ) {
       throw new InputError('copy-same-registry', `${from} and ${to} are the same file; copy into a new one`, {}, { option: 'to' });
     }
-    const result = await writeTx(destination, async () => {
+    const result = await writeTransaction(destination, async () => {
       const written = await writeSnapshot(destination, snapshot);
-      const report = await verify(destination);
+      const report = await verifyRegistry(destination);
       if (!report.ok) throw new CopyCheckError('destination', report);
       const problems: string[] = [];
       const sourceHead = sourceReport.chain.head;
@@ -298,7 +222,7 @@ async function copyInto(to: string, source: CopyHandle, sourceReport: VerifyRepo
       destination_verified: { ok: true, checked_versions: result.report.checked_versions, chain_head_matches: true, counts_match: true },
     };
   } finally {
-    await close(destination);
+    await destination.close();
     if (!ok) removeCreated(destination);
   }
 }

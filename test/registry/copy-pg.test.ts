@@ -2,8 +2,8 @@
  * `registry copy` through PostgreSQL (src/registry/copy.ts, src/service/registry-copy.ts) on the throw-away server
  * of the run (test/postgres-global-setup.ts): SQLite → PostgreSQL → SQLite gives back the very rows and hashes;
  * on PostgreSQL the copy verifies, its triggers are all enabled and refuse an edit of copied content, and the
- * identity sequences continue past the copied ids. The PostgreSQL side is opened with postgres.ts
- * `openPostgres`. The reference for "the same" is the first SQLite registry. Skipped with a plain message where
+ * identity sequences continue past the copied ids. The PostgreSQL side is opened with openRegistry, as
+ * every command opens it. The reference for "the same" is the first SQLite registry. Skipped with a plain message where
  * PostgreSQL 15+ is not installed.
  */
 import { existsSync, mkdtempSync, rmSync } from 'node:fs';
@@ -13,10 +13,10 @@ import pg from 'pg';
 import { afterEach, beforeEach, describe, expect, inject, it } from 'vitest';
 import { ConflictError } from '../../src/errors.ts';
 import { type AuditRow, earlierEventsSha256, eventHash, GENESIS_TYPE, SYSTEM_ACTOR } from '../../src/registry/chain.ts';
-import { checkPgCatalogue, readSnapshot } from '../../src/registry/copy.ts';
+import { readSnapshot } from '../../src/registry/copy.ts';
 import { openPostgres } from '../../src/registry/postgres.ts';
 import { copyRegistry } from '../../src/service/registry-copy.ts';
-import { exportVersion, history, importVersion, openRegistry, verifyRegistry } from '../../src/service/registry.ts';
+import { exportVersion, history, importVersion, openRegistry, type Registry, verifyRegistry } from '../../src/service/registry.ts';
 import { runCli } from '../cli/run-cli.ts';
 import { createDatabase } from '../helpers/postgres.ts';
 import { cauchyTable } from './helpers.ts';
@@ -62,9 +62,9 @@ describe.skipIf(!server.adminUrl)(`registry copy through PostgreSQL${server.admi
   it('on PostgreSQL: every trigger enabled and refusing, the sequences past the copied ids', async () => {
     const url = await newDatabase();
     await copyRegistry(source, url);
-    const handle = await openPostgres(url, { poolSize: 1 });
+    const handle = await openRegistry(url);
     try {
-      expect(await checkPgCatalogue(handle)).toEqual({ missing: [], altered: [], unexpected: [], disabled: [] });
+      expect(await triggersOf(handle)).toEqual({ ok: true, missing: [], altered: [], unexpected: [], disabled: [] });
       expect((await readSnapshot(handle)).rows).toEqual((await withOpen(source, readSnapshot)).rows);
     } finally {
       await handle.close();
@@ -144,9 +144,9 @@ describe.skipIf(!server.adminUrl)(`registry copy through PostgreSQL${server.admi
     const back = join(dir, 'old-back.db');
     await copyRegistry(url, back);
     expect((await withOpen(back, readSnapshot)).rows).toEqual((await withOpen(old, readSnapshot)).rows);
-    const handle = await openPostgres(url, { poolSize: 1 });
+    const handle = await openRegistry(url);
     try {
-      expect(await checkPgCatalogue(handle)).toEqual({ missing: [], altered: [], unexpected: [], disabled: [] });
+      expect(await triggersOf(handle)).toEqual({ ok: true, missing: [], altered: [], unexpected: [], disabled: [] });
     } finally {
       await handle.close();
     }
@@ -204,3 +204,9 @@ describe.skipIf(!server.adminUrl)(`registry copy through PostgreSQL${server.admi
     expect(r.stderr).not.toMatch(/s3cret/);
   });
 });
+
+/** verify's findings about the triggers and functions (compared with the migrations' from the catalogue), and its verdict. */
+async function triggersOf(registry: Registry) {
+  const r = await verifyRegistry(registry);
+  return { ok: r.ok, missing: r.missing_triggers, altered: r.altered_triggers, unexpected: r.unexpected_triggers, disabled: r.disabled_triggers };
+}
