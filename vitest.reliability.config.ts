@@ -1,11 +1,14 @@
 import { defineConfig } from 'vitest/config';
 
-/** `npm run test:reliability`: fuzzing, SIGKILL crash safety, concurrency, backup under load, tampering (2–3 min). */
+/**
+ * `npm run test:reliability`: fuzzing, SIGKILL crash safety, concurrency, backup under load, tampering, and two
+ * servers on one PostgreSQL (2–3 min). One throw-away PostgreSQL server for the run, as in vitest.config.ts.
+ */
 export default defineConfig({
   test: {
     setupFiles: ['test/fast-check-seed.ts'],
     include: ['test/reliability/**/*.test.ts'],
-    globalSetup: ['test/build-before-tests.ts'],
+    globalSetup: ['test/build-before-tests.ts', 'test/postgres-global-setup.ts'],
     testTimeout: 60_000,
     hookTimeout: 60_000,
   },

@@ -1,6 +1,7 @@
 /**
- * A real server for API tests: a registry in a fresh temp directory, the app listening on an
- * ephemeral 127.0.0.1 port, one token per role, and fetch helpers. Nothing here mocks HTTP.
+ * A real server for API tests: a registry in a fresh temp directory (or, with `postgres`, a fresh database on the
+ * run's throw-away PostgreSQL server, test/helpers/postgres.ts), the app listening on an ephemeral 127.0.0.1
+ * port, one token per role, and fetch helpers. Nothing here mocks HTTP.
  */
 import { mkdtempSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
@@ -13,6 +14,16 @@ import { createMaterial } from '../../src/service/materials.ts';
 import { importVersion } from '../../src/service/versions.ts';
 import { approve } from '../../src/service/lifecycle.ts';
 import { cauchyTable } from '../registry/helpers.ts';
+import pg from 'pg';
+import { createDatabase } from '../helpers/postgres.ts';
+
+/** The tables a write could touch (a refused request must leave each one's row count as it was). */
+export const WRITE_TABLES = ['materials', 'material_versions', 'audit_log', 'api_tokens', 'registry_settings'] as const;
+
+export interface HarnessOptions extends Partial<ServerOptions> {
+  /** Superuser URL of a PostgreSQL server: the registry is then a fresh database there instead of an SQLite file. */
+  postgres?: string;
+}
 
 export interface ApiHarness {
   /** Temp directory holding the database (removed by stop). */
@@ -24,18 +35,31 @@ export interface ApiHarness {
   tokens: Record<TokenRole, string>;
   /** fetch against the server; `as` adds "Authorization: Bearer <token of that role>". */
   request(path: string, init?: RequestInit & { as?: TokenRole; token?: string }): Promise<Response>;
-  /** Row count of a table, to prove a refused request wrote nothing. */
+  /** Which database holds the registry. */
+  backend: 'sqlite' | 'postgres';
+  /** Row count of a table, to prove a refused request wrote nothing (SQLite only: synchronous). */
   count(table: string): number;
+  /** Row count of a table on either backend, read on a connection of its own. */
+  countRows(table: string): Promise<number>;
   stop(): Promise<void>;
 }
 
-export async function startHarness(options: Partial<ServerOptions> = {}): Promise<ApiHarness> {
+export async function startHarness(options: HarnessOptions = {}): Promise<ApiHarness> {
+  const { postgres, ...serverOptions } = options;
   const dir = mkdtempSync(join(tmpdir(), 'nkledger-api-'));
-  const registry = await openRegistry(join(dir, 'api.db'));
+  const dbUrl = postgres ? await createDatabase(postgres, 'nkledger_api') : null;
+  const registry = await openRegistry(dbUrl ?? join(dir, 'api.db'));
+  // The tests' own connection for counting rows: not the registry's pool, so a count never waits behind its writes.
+  const counter = dbUrl ? new pg.Pool({ connectionString: dbUrl, max: 1 }) : null;
   const tokens = {} as Record<TokenRole, string>;
   for (const role of TOKEN_ROLES) tokens[role] = (await createToken(registry, { user: role, role, createdBy: 'test-setup' })).token;
-  const server = await startServer({ registry, host: '127.0.0.1', port: 0, ...options });
+  const server = await startServer({ registry, host: '127.0.0.1', port: 0, ...serverOptions });
+  const count = (table: string): number => {
+    if (counter) throw new Error('count() reads SQLite only: use countRows() on PostgreSQL');
+    return (registry.sqlite.prepare(`SELECT COUNT(*) AS n FROM ${table}`).get() as { n: number }).n;
+  };
   return {
+    backend: counter ? 'postgres' : 'sqlite',
     dir,
     registry,
     server,
@@ -48,12 +72,16 @@ export async function startHarness(options: Partial<ServerOptions> = {}): Promis
       if (bearer !== undefined) headers.set('authorization', `Bearer ${bearer}`);
       return fetch(`${server.url}${path}`, { ...rest, headers });
     },
-    count(table) {
-      return (registry.sqlite.prepare(`SELECT COUNT(*) AS n FROM ${table}`).get() as { n: number }).n;
+    count,
+    async countRows(table) {
+      if (!counter) return count(table);
+      const { rows } = await counter.query<{ n: string }>(`SELECT count(*) AS n FROM ${table}`);
+      return Number(rows[0].n);
     },
     async stop() {
       await server.close();
       await registry.close();
+      await counter?.end();
       rmSync(dir, { recursive: true, force: true });
     },
   };
@@ -67,9 +95,16 @@ export async function approvedGlass(h: ApiHarness, slug = 'glass'): Promise<stri
   return `${slug}@1`;
 }
 
-/** Counts of every table a write could touch. */
+/** Counts of every table a write could touch (SQLite). */
 export function snapshotCounts(h: ApiHarness): Record<string, number> {
-  return Object.fromEntries(['materials', 'material_versions', 'audit_log', 'api_tokens', 'registry_settings'].map((t) => [t, h.count(t)]));
+  return Object.fromEntries(WRITE_TABLES.map((t) => [t, h.count(t)]));
+}
+
+/** Counts of every table a write could touch, on either backend. */
+export async function tableCounts(h: ApiHarness): Promise<Record<string, number>> {
+  const counts: Record<string, number> = {};
+  for (const t of WRITE_TABLES) counts[t] = await h.countRows(t);
+  return counts;
 }
 
 export const json = (body: unknown): RequestInit => ({
