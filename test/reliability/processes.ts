@@ -85,4 +85,8 @@ export function servedVersionVerifies(v: { content: unknown; provenance: unknown
   return versionSha256(v.content as never, v.provenance as never) === v.sha256;
 }
 
-export const LOCKED = /database is locked|SQLITE_BUSY/i;
+/**
+ * A writer that gave up waiting for another: SQLite's busy error, or PostgreSQL's lock timeout (55P03, "canceling
+ * statement due to lock timeout" / "could not obtain lock"), an unresolved deadlock or serialization failure.
+ */
+export const LOCKED = /database is locked|SQLITE_BUSY|lock timeout|could not obtain lock|deadlock detected|could not serialize access/i;
