@@ -19,7 +19,7 @@ import { createMaterial } from '../../src/service/materials.ts';
 import { createToken } from '../../src/service/tokens.ts';
 import { createDatabase } from '../helpers/postgres.ts';
 import { checkPostgresRegistry, checkRegistryFile, type RegistryCheck } from './invariants.ts';
-import { cli, LOCKED, serve, servedVersionVerifies, tableCsv, writeTableFile } from './processes.ts';
+import { cli, LOCKED, type ServeProcess, serve, servedVersionVerifies, tableCsv, writeTableFile } from './processes.ts';
 
 const SQLITE_DURATION_MS = 10_000;
 const POSTGRES_DURATION_MS = 4_000;
@@ -29,7 +29,12 @@ const HTTP_READERS = 3;
 const MATERIALS = ['conc-1', 'conc-2', 'conc-3'];
 
 const dir = mkdtempSync(join(tmpdir(), 'nkledger-conc-'));
-afterAll(() => rmSync(dir, { recursive: true, force: true }));
+/** Servers still running when a test failed half-way: stopped here. */
+const running = new Set<ServeProcess>();
+afterAll(async () => {
+  for (const server of running) await server.stop();
+  rmSync(dir, { recursive: true, force: true });
+});
 
 const postgres = inject('postgres');
 if (!postgres.adminUrl) console.warn(postgres.missing);
@@ -64,6 +69,7 @@ for (const { label, skip, durationMs: DURATION_MS, database, check } of BACKENDS
       const approver = (await createToken(setup, { user: 'http-approver', role: 'approver', createdBy: 'setup' })).token;
       await setup.close();
       const server = await serve(db);
+      running.add(server);
 
       /** Acknowledged writes: ref → sha256; and refs acknowledged as approved. */
       const imported = new Map<string, string>();
@@ -179,6 +185,7 @@ for (const { label, skip, durationMs: DURATION_MS, database, check } of BACKENDS
         ...Array.from({ length: HTTP_WRITERS }, (_, i) => httpWriter(i)),
         ...Array.from({ length: HTTP_READERS }, (_, i) => httpReader(i)),
       ]);
+      running.delete(server);
       expect(await server.stop()).toBe(0);
       expect(server.stderr()).not.toMatch(LOCKED);
       expect(server.stderr()).not.toMatch(/internal error/);
