@@ -3,7 +3,8 @@
  * run (the issue: outgrow one machine). Two loads, each on every set-up in interleaved rounds:
  * - n,k reads: GET …/versions/1/nk?wavelengths_nm=450,550,650 of 50 approved versions (autocannon, `--connections`
  *   in all). With two servers there is no proxy: the load generator splits its connections over both ports
- *   (two autocannon runs at once); requests/s is their sum, p50 the mean of their p50s, p99 the larger p99.
+ *   (two autocannon runs at once); requests/s is their sum, mean and p50 latency the means of theirs, p99 the
+ *   larger p99 (autocannon's percentiles are whole milliseconds; the mean is finer).
  * - uploads: 8 clients, each uploading a new table after the other (POST …/versions?kk=false, so the figure is
  *   the write path, not the KK check) to 8 shared materials; with two servers, 4 clients on each. Afterwards each
  *   material's numbers are checked 1..N with no gap or duplicate, and N against the uploads acknowledged.
@@ -35,7 +36,7 @@ import { createDatabase, startPostgres } from '../test/helpers/postgres.ts';
 /** The part of autocannon's result used here (autocannon ships no type declarations). */
 interface LoadResult {
   requests: { average: number; total: number };
-  latency: { p50: number; p99: number };
+  latency: { average: number; p50: number; p99: number };
   duration: number;
   errors: number;
   non2xx: number;
@@ -97,13 +98,21 @@ interface Served {
   child: ChildProcess;
 }
 
+/** Set when the run is over and this script stops the servers. */
+let stopping = false;
+
 function serve(db: string): Promise<Served> {
   const child = spawn(process.execPath, [BIN, 'serve', '--db', db, '--host', '127.0.0.1', '--port', '0'], {
-    stdio: ['ignore', 'pipe', 'inherit'],
+    stdio: ['ignore', 'pipe', 'pipe'],
     env: { ...process.env, NKLEDGER_DB: '' },
   });
   return new Promise((resolve, reject) => {
     let text = '';
+    // Its stderr is shown only if it stops on its own (its shutdown notice at the end is not news).
+    child.stderr?.on('data', (d) => (text += d));
+    child.once('exit', (code, signal) => {
+      if (!stopping) console.error(`serve --db ${db} stopped (${code ?? signal}):\n${text}`);
+    });
     child.stdout?.on('data', (d) => {
       text += d;
       const m = /at (http:\/\/127\.0\.0\.1:\d+)\//.exec(text);
@@ -115,6 +124,8 @@ function serve(db: string): Promise<Served> {
 
 interface Figures {
   rate: number;
+  /** Mean latency, ms (autocannon's percentiles are whole milliseconds). */
+  mean: number;
   p50: number;
   p99: number;
   errors: number;
@@ -126,6 +137,7 @@ async function reads(servers: Served[]): Promise<Figures> {
   const results = await Promise.all(servers.map((s) => autocannon({ url: s.url, duration: DURATION, connections: share, requests: NK_PATHS })));
   return {
     rate: results.reduce((sum, r) => sum + r.requests.total / (r.duration || DURATION), 0),
+    mean: results.reduce((sum, r) => sum + r.latency.average, 0) / results.length,
     p50: results.reduce((sum, r) => sum + r.latency.p50, 0) / results.length,
     p99: Math.max(...results.map((r) => r.latency.p99)),
     errors: results.reduce((sum, r) => sum + r.errors + r.non2xx + r.timeouts, 0),
@@ -164,6 +176,7 @@ async function uploads(servers: Served[], token: string): Promise<Figures & { ac
   const total = [...acknowledged.values()].reduce((s, n) => s + n, 0);
   return {
     rate: total / seconds,
+    mean: latencies.reduce((s, x) => s + x, 0) / Math.max(1, latencies.length),
     p50: latencies[Math.floor(latencies.length / 2)] ?? 0,
     p99: latencies[Math.floor(latencies.length * 0.99)] ?? 0,
     errors,
@@ -206,7 +219,12 @@ function numberingProblems(rows: Numbering[], acknowledged: Map<string, number>)
   return problems;
 }
 
-const median = (v: number[]) => [...v].sort((a, b) => a - b)[Math.floor(v.length / 2)];
+/** The median (the mean of the middle two for an even count). */
+function median(v: number[]): number {
+  const sorted = [...v].sort((a, b) => a - b);
+  const mid = Math.floor(sorted.length / 2);
+  return sorted.length % 2 === 1 ? sorted[mid] : (sorted[mid - 1] + sorted[mid]) / 2;
+}
 
 if (!existsSync(join(ROOT, 'dist', 'nkledger.js'))) {
   console.error('no build: run `npm run build` first');
@@ -262,9 +280,9 @@ try {
   const row = (kind: string, name: string, f: Figures[], unit: string) => {
     const rate = median(f.map((x) => x.rate));
     const errors = f.reduce((s, x) => s + x.errors, 0);
-    return `| ${kind} | ${name} | ${rate.toFixed(0)} ${unit} | ${median(f.map((x) => x.p50)).toFixed(1)} | ${median(f.map((x) => x.p99)).toFixed(1)} | ${errors} |`;
+    return `| ${kind} | ${name} | ${rate.toFixed(0)} ${unit} | ${median(f.map((x) => x.mean)).toFixed(2)} | ${median(f.map((x) => x.p50)).toFixed(1)} | ${median(f.map((x) => x.p99)).toFixed(1)} | ${errors} |`;
   };
-  console.log('| load | set-up | rate (median of rounds) | p50 ms | p99 ms | errors |\n| --- | --- | ---: | ---: | ---: | ---: |');
+  console.log('| load | set-up | rate (median of rounds) | mean ms | p50 ms | p99 ms | errors |\n| --- | --- | ---: | ---: | ---: | ---: | ---: |');
   setups.forEach((s, i) => console.log(row('n,k reads', s.name, readFigures[i], 'req/s')));
   setups.forEach((s, i) => console.log(row(`uploads, ${UPLOADERS} clients`, s.name, uploadFigures[i], 'uploads/s')));
   const ratio = (f: Figures[][], top: number, bottom: number) => median(f[top].map((x, r) => x.rate / f[bottom][r].rate)).toFixed(2);
@@ -282,6 +300,7 @@ try {
   );
   if (problems.length > 0) process.exitCode = 3;
 } finally {
+  stopping = true;
   await Promise.all(
     children.map(
       (child) =>
