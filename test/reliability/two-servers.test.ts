@@ -42,7 +42,7 @@ const REPEATS = 8;
  * the commit reaches that server's listening connection (src/registry/postgres-changes.ts), normally well under a
  * millisecond on loopback — but asynchronously, so a request the test sends right after the writer's answer can
  * still overtake the notice on a loaded machine (on 2 cores a few setting changes in a hundred showed only on a
-later request, within about 15 ms; approvals did not). A revoked token does not wait for a notice
+ * later request, within about 15 ms; approvals did not). A revoked token does not wait for a notice
  * (looked up on every request) and is checked on the very next request.
  */
 const NOTICE_WAIT_MS = 2_000;
