@@ -6,8 +6,8 @@
  *   the versions (test/reliability/invariants.ts), `nkledger verify` exits 0 and both servers list every version;
  * - a token revoked through one server (admin API, or `nkledger token revoke` in a third process) is refused with
  *   401 by the other on its very next request;
- * - a version approved through one server shows as approved in the other's cached reads of it (the version and
- *   its n,k answer, which that server remembers by status: src/api/routes/nk.ts), and a setting changed through
+ * - a version approved, then retired, through one server shows so in the other's cached reads of it (the version
+ *   and its n,k answer, which that server remembers by status: src/api/routes/nk.ts), and a setting changed through
  *   one server (or the CLI) is in force in the other — the change notices of src/registry/postgres-changes.ts
  *   clearing the other server's memo — as soon as the notice arrives (NOTICE_WAIT_MS below says why not
  *   necessarily on the very next request); how many showed on the very next request is printed.
@@ -41,8 +41,8 @@ const REPEATS = 8;
  * How long a status or setting change may take to show on the other server. It shows when PostgreSQL's notice of
  * the commit reaches that server's listening connection (src/registry/postgres-changes.ts), normally well under a
  * millisecond on loopback — but asynchronously, so a request the test sends right after the writer's answer can
- * still overtake the notice on a loaded machine (on 2 cores a few setting changes in a hundred showed only on a
- * later request, within about 15 ms; approvals did not). A revoked token does not wait for a notice
+ * still overtake the notice on a loaded machine (on 2 cores a few changes in a hundred — approvals, retirements,
+ * settings — showed only on a later request, within some tens of ms; the test prints how many). A revoked token does not wait for a notice
  * (looked up on every request) and is checked on the very next request.
  */
 const NOTICE_WAIT_MS = 2_000;
@@ -247,7 +247,7 @@ describe.skipIf(!postgres.adminUrl)(
       return line;
     };
 
-    it('a version approved through one server is approved in the other one’s cached reads (version and n,k)', async () => {
+    it('a version approved, then retired, through one server shows so in the other one’s cached reads (version and n,k)', async () => {
       for (let i = 0; i < REPEATS; i++) {
         const [through, other] = i % 2 === 0 ? [a, b] : [b, a];
         const up = await upload(through, 'duo-status');
@@ -267,8 +267,17 @@ describe.skipIf(!postgres.adminUrl)(
         await seen(nkStatus, 'approved', `approval ${i}: the other server's n,k answer`);
         const version = await http(other, base);
         expect((await version.json()).status).toBe('approved');
+        // Retired through the first server: the other's n,k answer of the approved version, rendered once and
+        // kept (src/api/routes/nk.ts), must not outlive the status.
+        for (let k = 0; k < 3; k++) expect(await nkStatus()).toBe('approved');
+        const retired = await http(through, `${base}/retire`, {
+          ...jsonBody('POST', { reason: 'superseded in the two-server test' }),
+          token: tokens.approver,
+        });
+        expect(retired.status, await retired.clone().text()).toBe(200);
+        await seen(nkStatus, 'retired', `retirement ${i}: the other server's n,k answer`);
       }
-      console.log(`two servers, approvals: ${lagSummary()}`);
+      console.log(`two servers, approvals and retirements: ${lagSummary()}`);
     });
 
     it('a setting changed through one server (or the CLI) is in force in the other', async () => {
