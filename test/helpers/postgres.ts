@@ -166,3 +166,24 @@ export async function createDatabase(adminUrl: string, prefix = 'nkledger_test')
   url.pathname = `/${name}`;
   return url.toString();
 }
+
+/**
+ * A transaction held open: `start` gets the body to run inside it (e.g. `(body) => pgWriteTransaction(h, body)`);
+ * resolves once the body runs (the lock is held), with `release()` to let it finish and `done` settling after.
+ */
+export async function heldOpen(start: (body: () => Promise<void>) => Promise<unknown>): Promise<{ release: () => void; done: Promise<unknown> }> {
+  let release!: () => void;
+  const released = new Promise<void>((resolve) => {
+    release = resolve;
+  });
+  let entered!: () => void;
+  const inside = new Promise<void>((resolve) => {
+    entered = resolve;
+  });
+  const done = start(async () => {
+    entered();
+    await released;
+  });
+  await Promise.race([inside, done]);
+  return { release, done };
+}

@@ -22,22 +22,7 @@ import {
   verifyRegistry,
   versionSha256,
 } from '../../src/service/registry.ts';
-import { BACKENDS, cauchyTable, databaseAtMigration, dropTrigger, rawSql, tempRegistry, type TempRegistry } from './helpers.ts';
-
-/** A version's provenance columns with nothing recorded, for rows written by raw SQL. */
-const NO_PROVENANCE = {
-  sample: null,
-  substrate: null,
-  process: null,
-  instrument: null,
-  method: null,
-  angles_deg: null,
-  measured_on: null,
-  operator: null,
-  source_file: null,
-  source_sha256: null,
-  notes: null,
-};
+import { BACKENDS, cauchyTable, databaseAtMigration, dropTrigger, NO_PROVENANCE, rawSql, tempRegistry, type TempRegistry } from './helpers.ts';
 
 let t: TempRegistry;
 beforeEach(async () => {

@@ -5,7 +5,7 @@ import { createToken, revokeToken } from '../../src/service/tokens.ts';
 import { startSession } from '../../src/service/web-sessions.ts';
 import { join } from 'node:path';
 import { canonicalJson, versionSha256 } from '../../src/service/registry.ts';
-import { cauchyTable, databaseAtMigration } from './helpers.ts';
+import { cauchyTable, databaseAtMigration, NO_PROVENANCE } from './helpers.ts';
 
 /** Every version the fixture holds. */
 export const REFS = ['film@1', 'film@2', 'film@3', 'film@4', 'oxide@1'];
@@ -54,19 +54,7 @@ export async function registryFromBeforeTheChain(dir: string): Promise<string> {
   const old = join(dir, 'old.db');
   const db = databaseAtMigration(dir, 'old.db', 5);
   const content = { table: cauchyTable(1.5), fit: null, kk: null };
-  const provenance = {
-    sample: null,
-    substrate: null,
-    process: null,
-    instrument: null,
-    method: null,
-    angles_deg: null,
-    measured_on: null,
-    operator: null,
-    source_file: null,
-    source_sha256: null,
-    notes: null,
-  };
+  const provenance = { ...NO_PROVENANCE };
   const at = '2025-03-01T10:00:00.000Z';
   db.prepare("INSERT INTO materials (slug, name, created_by, created_at, last_version) VALUES ('old-film', 'Old', 'ada', ?, 1)").run(at);
   db.prepare(

@@ -26,7 +26,11 @@ export interface TempRegistry {
  */
 export type Backend = 'sqlite' | 'postgres';
 
-const provided = inject('postgres');
+// A vitest config without the PostgreSQL global setup provides nothing: the suites then run on SQLite alone.
+const provided = inject('postgres') ?? {
+  adminUrl: null,
+  missing: 'this vitest config starts no PostgreSQL server (it lacks test/postgres-global-setup.ts)',
+};
 export const BACKENDS: Backend[] = provided.adminUrl ? ['sqlite', 'postgres'] : ['sqlite'];
 /** Said once per file where PostgreSQL is missing, so the run shows why the registry suites ran on SQLite only. */
 export const POSTGRES_SKIPPED = provided.adminUrl ? null : `registry suites on PostgreSQL skipped: ${provided.missing}`;
@@ -118,6 +122,21 @@ export function cauchyTable(a = 1.45, b = 0.0036, kAt = 0): NkTable {
     k: wavelengthNm.map(() => kAt),
   };
 }
+
+/** A version's provenance columns with nothing recorded, for rows written by raw SQL. */
+export const NO_PROVENANCE = {
+  sample: null,
+  substrate: null,
+  process: null,
+  instrument: null,
+  method: null,
+  angles_deg: null,
+  measured_on: null,
+  operator: null,
+  source_file: null,
+  source_sha256: null,
+  notes: null,
+};
 
 /**
  * A new database file `dir/name` at the schema of an older nkledger: only the migrations up to index

@@ -15,7 +15,7 @@ import { pgActiveToken, pgNoteTokenUse, pgVersionStatus } from '../../src/regist
 import { MIGRATIONS_FOLDER, type Registry, sqliteRegistry } from '../../src/registry/open.ts';
 import { openPostgres, pgWriteTransaction, type PgRegistry } from '../../src/registry/postgres.ts';
 import { pgExecute, pgQueryRow } from '../../src/registry/postgres-sql.ts';
-import { createDatabase } from '../helpers/postgres.ts';
+import { createDatabase, heldOpen } from '../helpers/postgres.ts';
 
 const server = inject('postgres');
 if (!server.adminUrl) console.warn(server.missing);
@@ -85,26 +85,14 @@ describe.skipIf(!server.adminUrl)(`hot reads on PostgreSQL${server.adminUrl ? ''
   });
 
   it('pgNoteTokenUse writes last use, and does not wait while another server holds the write lock', async () => {
-    let release!: () => void;
-    const held = new Promise<void>((resolve) => {
-      release = resolve;
-    });
-    let locked!: () => void;
-    const hasLock = new Promise<void>((resolve) => {
-      locked = resolve;
-    });
-    const writer = pgWriteTransaction(b, async () => {
-      locked();
-      await held;
-    });
-    await hasLock;
+    const writer = await heldOpen((body) => pgWriteTransaction(b, body));
     try {
       const started = performance.now();
       expect(await pgNoteTokenUse(a, 'tok-ada', '2026-02-01T08:00:00.000Z')).toBe(true);
       expect(performance.now() - started).toBeLessThan(1000);
     } finally {
-      release();
-      await writer;
+      writer.release();
+      await writer.done;
     }
     expect((await pgActiveToken(a, 'sha-ada'))?.lastUsedAt).toBe('2026-02-01T08:00:00.000Z');
   });

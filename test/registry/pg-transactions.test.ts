@@ -12,7 +12,7 @@ import { EnvironmentError } from '../../src/errors.ts';
 import { inPgTransaction, openPostgres, pgReadSnapshot, pgWriteTransaction, type PgRegistry } from '../../src/registry/postgres.ts';
 import { pgExecute, pgQueryRow, pgQueryRows } from '../../src/registry/postgres-sql.ts';
 import { materials, materialVersions, registrySettings } from '../../src/registry/schema-pg.ts';
-import { createDatabase } from '../helpers/postgres.ts';
+import { createDatabase, heldOpen } from '../helpers/postgres.ts';
 
 const server = inject('postgres');
 if (!server.adminUrl) console.warn(server.missing);
@@ -144,24 +144,12 @@ describe.skipIf(!server.adminUrl)(`transactions on the PostgreSQL registry${serv
   });
 
   it('a writer that waits for the lock longer than lockTimeoutMs is refused as registry-busy (exit 4), nothing written', async () => {
-    let release!: () => void;
-    const held = new Promise<void>((resolve) => {
-      release = resolve;
-    });
-    let locked!: () => void;
-    const hasLock = new Promise<void>((resolve) => {
-      locked = resolve;
-    });
-    const holder = pgWriteTransaction(a, async () => {
-      locked();
-      await held;
-    });
-    await hasLock;
+    const holder = await heldOpen((body) => pgWriteTransaction(a, body));
     const err = await pgWriteTransaction(b, async () => {
       await b.db.insert(registrySettings).values(setting('never', '1'));
     }).catch((e: unknown) => e);
-    release();
-    await holder;
+    holder.release();
+    await holder.done;
     expect(err).toBeInstanceOf(EnvironmentError);
     expect(err).toMatchObject({ rule: 'registry-busy' });
     expect((err as Error).message).toContain('55P03');
