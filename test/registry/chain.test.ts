@@ -22,7 +22,7 @@ import {
   verifyRegistry,
   versionSha256,
 } from '../../src/service/registry.ts';
-import { BACKENDS, cauchyTable, databaseAtMigration, dropTrigger, NO_PROVENANCE, rawSql, tempRegistry, type TempRegistry } from './helpers.ts';
+import { BACKENDS, cauchyTable, dropTrigger, NO_PROVENANCE, rawSql, registryFileBeforeTheChain, tempRegistry, type TempRegistry } from './helpers.ts';
 
 let t: TempRegistry;
 beforeEach(async () => {
@@ -191,30 +191,11 @@ describe('a registry written before the chain existed', () => {
 
   /** A registry file at the schema of migration 0005 (before the chain), with one approved version and its log. */
   function oldRegistry(): string {
-    const path = join(dir, 'old.db');
-    const db = databaseAtMigration(dir, 'old.db', 5);
-    const content = { table: cauchyTable(1.5), fit: null, kk: null };
-    const provenance = { ...NO_PROVENANCE };
-    const at = '2025-03-01T10:00:00.000Z';
-    db.prepare("INSERT INTO materials (slug, name, created_by, created_at, last_version) VALUES ('old-film', 'Old', 'ada', ?, 1)").run(at);
-    db.prepare(
-      "INSERT INTO material_versions (material_id, number, status, content, sha256, created_by, created_at, approved_by, approved_at, self_approved) VALUES (1, 1, 'approved', ?, ?, 'ada', ?, 'bob', ?, 0)",
-    ).run(canonicalJson(content), versionSha256(content, provenance), at, at);
-    for (const [actor, action, versionId] of [
+    return registryFileBeforeTheChain(dir, [
       ['ada', 'material.create', null],
       ['ada', 'version.import', 1],
       ['bob', 'version.approve', 1],
-    ] as const) {
-      db.prepare('INSERT INTO audit_log (at, actor, action, material_id, version_id, detail) VALUES (?, ?, ?, 1, ?, ?)').run(
-        at,
-        actor,
-        action,
-        versionId,
-        '{}',
-      );
-    }
-    db.close();
-    return path;
+    ]);
   }
 
   it('gets a genesis event over every stored hash and the earlier log, and verifies; later edits of either are caught', async () => {

@@ -3,9 +3,7 @@ import { createMaterial, importVersion, openRegistry, type Registry, approve, re
 import { writeSetting } from '../../src/service/settings.ts';
 import { createToken, revokeToken } from '../../src/service/tokens.ts';
 import { startSession } from '../../src/service/web-sessions.ts';
-import { join } from 'node:path';
-import { canonicalJson, versionSha256 } from '../../src/service/registry.ts';
-import { cauchyTable, databaseAtMigration, NO_PROVENANCE } from './helpers.ts';
+import { cauchyTable, registryFileBeforeTheChain } from './helpers.ts';
 
 /** Every version the fixture holds. */
 export const REFS = ['film@1', 'film@2', 'film@3', 'film@4', 'oxide@1'];
@@ -51,20 +49,10 @@ export async function withOpen<T>(path: string, use: (r: Registry) => Promise<T>
  * that covers those rows by a digest. Returns its path (`dir/old.db`).
  */
 export async function registryFromBeforeTheChain(dir: string): Promise<string> {
-  const old = join(dir, 'old.db');
-  const db = databaseAtMigration(dir, 'old.db', 5);
-  const content = { table: cauchyTable(1.5), fit: null, kk: null };
-  const provenance = { ...NO_PROVENANCE };
-  const at = '2025-03-01T10:00:00.000Z';
-  db.prepare("INSERT INTO materials (slug, name, created_by, created_at, last_version) VALUES ('old-film', 'Old', 'ada', ?, 1)").run(at);
-  db.prepare(
-    "INSERT INTO material_versions (material_id, number, status, content, sha256, created_by, created_at, approved_by, approved_at, self_approved) VALUES (1, 1, 'approved', ?, ?, 'ada', ?, 'bob', ?, 0)",
-  ).run(canonicalJson(content), versionSha256(content, provenance), at, at);
-  db.prepare("INSERT INTO audit_log (at, actor, action, material_id, version_id, detail) VALUES (?, 'ada', 'material.create', 1, NULL, '{}')").run(
-    at,
-  );
-  db.prepare("INSERT INTO audit_log (at, actor, action, material_id, version_id, detail) VALUES (?, 'bob', 'version.approve', 1, 1, '{}')").run(at);
-  db.close();
+  const old = registryFileBeforeTheChain(dir, [
+    ['ada', 'material.create', null],
+    ['bob', 'version.approve', 1],
+  ]);
   await withOpen(old, async () => {}); // brings the schema up to date and starts the chain
   return old;
 }

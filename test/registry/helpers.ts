@@ -8,7 +8,7 @@ import { join } from 'node:path';
 import pg from 'pg';
 import { inject } from 'vitest';
 import { MIGRATIONS_FOLDER } from '../../src/registry/open.ts';
-import { createMaterial, importVersion, openRegistry, type Registry } from '../../src/service/registry.ts';
+import { canonicalJson, createMaterial, importVersion, openRegistry, type Registry, versionSha256 } from '../../src/service/registry.ts';
 import type { NkTable } from '../../src/table.ts';
 import { createDatabase } from '../helpers/postgres.ts';
 
@@ -137,6 +137,33 @@ export const NO_PROVENANCE = {
   source_sha256: null,
   notes: null,
 };
+
+/**
+ * A registry file `dir/old.db` at the schema of migration 0005 (before the audit chain), never opened by this
+ * nkledger: material old-film with one approved version, and `events` (actor, action, version id) as audit rows
+ * without hashes. Returns its path.
+ */
+export function registryFileBeforeTheChain(dir: string, events: readonly (readonly [string, string, number | null])[]): string {
+  const db = databaseAtMigration(dir, 'old.db', 5);
+  const content = { table: cauchyTable(1.5), fit: null, kk: null };
+  const provenance = { ...NO_PROVENANCE };
+  const at = '2025-03-01T10:00:00.000Z';
+  db.prepare("INSERT INTO materials (slug, name, created_by, created_at, last_version) VALUES ('old-film', 'Old', 'ada', ?, 1)").run(at);
+  db.prepare(
+    "INSERT INTO material_versions (material_id, number, status, content, sha256, created_by, created_at, approved_by, approved_at, self_approved) VALUES (1, 1, 'approved', ?, ?, 'ada', ?, 'bob', ?, 0)",
+  ).run(canonicalJson(content), versionSha256(content, provenance), at, at);
+  for (const [actor, action, versionId] of events) {
+    db.prepare('INSERT INTO audit_log (at, actor, action, material_id, version_id, detail) VALUES (?, ?, ?, 1, ?, ?)').run(
+      at,
+      actor,
+      action,
+      versionId,
+      '{}',
+    );
+  }
+  db.close();
+  return join(dir, 'old.db');
+}
 
 /**
  * A new database file `dir/name` at the schema of an older nkledger: only the migrations up to index
