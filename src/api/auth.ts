@@ -56,7 +56,6 @@ export function authenticate(registry: Registry, changes: RegistryChanges): Midd
       );
     }
     await recordTokenUse(registry, principal);
-
     c.set('principal', principal);
     return next();
   };

@@ -218,26 +218,8 @@ async function openPostgresRegistry(url: string, options: OpenOptions): Promise<
     import('./postgres-changes.ts'),
   ]);
   usePostgresTransactions(postgres);
-  if ((options.create ?? 'always') === 'never') {
-    // Read commands do not turn an empty database into a registry (a typo in the database name must not make
-    // `verify` print "ok" over nothing): look for the migration table first, without migrating.
-    const probe = await postgres.openPostgres(url, { migrate: false, poolSize: 1 });
-    let found: boolean;
-    try {
-      const { rows } = await probe.pool.query<{ found: boolean }>(`SELECT to_regclass('drizzle.__drizzle_migrations') IS NOT NULL AS found`);
-      found = rows[0].found;
-    } finally {
-      await probe.close();
-    }
-    if (!found) {
-      throw new InputError(
-        'registry-missing',
-        'no registry in this database (check --db or NKLEDGER_DB; `nkledger material add` or `nkledger import` creates one)',
-        { file: probe.url },
-      );
-    }
-  }
-  const pg = await postgres.openPostgres(url);
+  // Read commands do not turn an empty database into a registry (create 'never': registry-missing).
+  const pg = await postgres.openPostgres(url, { existingOnly: (options.create ?? 'always') === 'never' });
   const tables = {
     materials: schemaPg.materials,
     materialVersions: schemaPg.materialVersions,

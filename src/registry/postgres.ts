@@ -87,6 +87,11 @@ export interface PgOpenOptions {
   lockTimeoutMs?: number;
   /** Apply the migrations (default true); false only checks the server. */
   migrate?: boolean;
+  /**
+   * Refuse a database that holds no registry yet (InputError `registry-missing`), before migrating anything: read
+   * commands must not turn an empty database into a registry (a typo in its name must not make `verify` say "ok").
+   */
+  existingOnly?: boolean;
   /** application_name of the connections, shown in pg_stat_activity (default "nkledger"). */
   applicationName?: string;
 }
@@ -271,6 +276,13 @@ export async function openPostgres(url: string, options: PgOpenOptions = {}): Pr
       throw new EnvironmentError(
         'registry-server-too-old',
         `registry ${shown}: the server runs PostgreSQL ${shownVersion[0].v}; nkledger needs PostgreSQL 15 or later (nothing was written)`,
+      );
+    }
+    if (options.existingOnly && !(await hasMigrationTable(client))) {
+      throw new InputError(
+        'registry-missing',
+        'no registry in this database (check --db or NKLEDGER_DB; `nkledger material add` or `nkledger import` creates one)',
+        { file: shown },
       );
     }
     if (options.migrate !== false) migrationsApplied = await applyMigrations(client);
