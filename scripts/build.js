@@ -6,8 +6,9 @@
  *   - nkledger.js, the process (bin/nkledger.js imports it): reads the command's name and imports only
  *     cmd-<module>.js, one self-contained file per command of src/cli/commands/index.ts (cmd-none.js for
  *     `--help`, `--version` and unknown words). Node 20's ESM loader costs a few milliseconds per file, so
- *     one file per command starts faster than shared chunks; the commands of SPLIT_COMMANDS (eval) keep their
- *     dynamic imports in chunks of their own (cmd-eval-*.js), loaded only when a run calls them.
+ *     one file per command starts faster than shared chunks. The commands of CACHED_COMMANDS (eval, which has
+ *     a start-up target) are one CommonJS file each, cmd-<module>.cjs, run with V8's code cache made at build
+ *     time (src/cli/code-cache.ts): compiling the bundle was most of their start-up.
  *   - run.js: `run(argv, io)` with every command, split by esbuild into chunks (each command's loaded only when
  *     it runs), for programs that drive the CLI in-process; the worker-thread entries.
  *
@@ -18,6 +19,7 @@
  * and before the tests (vitest globalSetup), so the bin never runs older code than the sources under test.
  * Plain JavaScript so it needs nothing but esbuild; a few seconds.
  */
+import { spawn } from 'node:child_process';
 import { createHash } from 'node:crypto';
 import { existsSync, readdirSync, readFileSync, renameSync, rmSync, writeFileSync } from 'node:fs';
 import { dirname, join, relative, resolve } from 'node:path';
@@ -28,8 +30,9 @@ const SRC = join(ROOT, 'src');
 const OUT = join(ROOT, 'dist');
 const RUN = join(SRC, 'cli', 'run.ts');
 const COMMAND_INDEX = join(SRC, 'cli', 'commands', 'index.ts');
-/** Commands whose bundle keeps its dynamic imports as chunks of its own (see build()): those with a start-up target. */
-const SPLIT_COMMANDS = ['eval'];
+/** Commands built as CommonJS and run with V8's code cache (see build()): those with a start-up target. */
+const CACHED_COMMANDS = ['eval'];
+const CODE_CACHE = join(SRC, 'cli', 'code-cache.ts');
 const URL_REF = /new URL\((['"])(\.\.?\/[^'"]*)\1,\s*import\.meta\.url\)/g;
 
 function sources(dir) {
@@ -114,18 +117,84 @@ function commandEntries(commands) {
 }
 
 /**
+ * esbuild plugin for the code-cached bundles (start-up, see build()): better-sqlite3's JavaScript is bundled, so
+ * its fourteen files are not resolved, read and compiled one by one at each start, and its native addon is
+ * required from the package's own build folder. The `bindings` package that better-sqlite3 calls to find the
+ * addon locates the package from the caller's stack, which a bundle would mislead, so it is called only when
+ * that folder has no addon, and then with the package's folder named. Commander loads `child_process` (and
+ * with it net and dgram) for subcommands run as programs, which nkledger has none of: it is loaded on first use.
+ */
+function startupShortcuts() {
+  const CALL = "require('bindings')('better_sqlite3.node')";
+  const ADDON =
+    "(() => { try { return require(require.resolve('better-sqlite3/build/Release/better_sqlite3.node')); } catch (e) { " +
+    "if (e.code !== 'MODULE_NOT_FOUND') throw e; return require('bindings')({ bindings: 'better_sqlite3.node', " +
+    "module_root: require('node:path').dirname(require.resolve('better-sqlite3/package.json')) }); } })()";
+  return {
+    name: 'startup-shortcuts',
+    setup(build) {
+      build.onLoad({ filter: /better-sqlite3[\\/]lib[\\/]database\.js$/ }, (args) => {
+        const text = readFileSync(args.path, 'utf8');
+        if (!text.includes(CALL)) throw new Error(`build: ${args.path} no longer loads its addon with ${CALL}; revisit startupShortcuts()`);
+        return { contents: text.replace(CALL, ADDON), loader: 'js' };
+      });
+      build.onResolve({ filter: /^(node:)?child_process$/ }, (args) =>
+        /[\\/]commander[\\/]/.test(args.importer) ? { path: 'child_process', namespace: 'lazy-builtin' } : undefined,
+      );
+      build.onLoad({ filter: /.*/, namespace: 'lazy-builtin' }, (args) => ({
+        contents: `module.exports = new Proxy({}, { get: (_, key) => require('node:${args.path}')[key] });`,
+        loader: 'js',
+      }));
+    },
+  };
+}
+
+/**
  * dist/nkledger.js, the process: it reads the command's name with run.ts's own rule (command-name.ts) and
  * imports only that command's bundle (or the one without any command, for `--help`, `--version` and
- * unknown words), so a command loads one file instead of a few dozen chunks.
+ * unknown words), so a command loads one file instead of a few dozen chunks. A command of CACHED_COMMANDS is
+ * compiled with its code cache (`caches`: command name → cache file).
  */
-function dispatcher(commands) {
-  const bundles = Object.fromEntries(commands.map((c) => [c.name, `./cmd-${c.module}.js`]));
-  return `import { commandName } from './command-name.ts';
+function dispatcher(commands, caches) {
+  const bundles = Object.fromEntries(
+    commands.map((c) => [c.name, CACHED_COMMANDS.includes(c.module) ? `./cmd-${c.module}.cjs` : `./cmd-${c.module}.js`]),
+  );
+  return `import { fileURLToPath } from 'node:url';
+import { runCachedBundle } from './code-cache.ts';
+import { commandName } from './command-name.ts';
 import { runProcess } from './process-main.ts';
 const BUNDLES = ${JSON.stringify(bundles)};
-const bundle = new URL(BUNDLES[commandName(process.argv.slice(2))] ?? './cmd-none.js', import.meta.url).href;
-await runProcess(async (argv) => (await import(bundle)).run(argv));
+const CACHES = ${JSON.stringify(caches)};
+const name = commandName(process.argv.slice(2));
+const bundle = new URL(BUNDLES[name] ?? './cmd-none.js', import.meta.url);
+const cache = Object.hasOwn(CACHES, name) ? new URL(CACHES[name], import.meta.url) : undefined;
+await runProcess(async (argv) =>
+  (cache ? runCachedBundle(fileURLToPath(bundle), fileURLToPath(cache)) : await import(bundle.href)).run(argv),
+);
 `;
+}
+
+/**
+ * Warm up the fresh bundle `cmd-<module>.cjs` in `dir` and write V8's code cache beside it (scripts/make-code-cache.js),
+ * named after the bundle's content hash; resolves to the cache's file name. The code is compiled under the bundle's
+ * name in dist/, the one stack traces show (V8 keeps the name a cache was made under). A child process with Node's
+ * default flags, so that the cache matches how `nkledger` runs (V8 ignores a cache made under other flags),
+ * whatever process runs the build.
+ */
+async function makeCodeCache(dir, command) {
+  const bundle = join(dir, `cmd-${command.module}.cjs`);
+  const hash = createHash('sha256').update(readFileSync(bundle)).digest('hex').slice(0, 16);
+  const cacheName = `cmd-${command.module}-${hash}.v8cache`;
+  const args = [join(ROOT, 'scripts', 'make-code-cache.js'), dir, command.name, command.module, cacheName, join(OUT, `cmd-${command.module}.cjs`)];
+  const { code, stderr } = await new Promise((done, fail) => {
+    const child = spawn(process.execPath, args, { cwd: ROOT, stdio: ['ignore', 'ignore', 'pipe'] });
+    let text = '';
+    child.stderr.on('data', (d) => (text += d));
+    child.on('error', fail);
+    child.on('close', (status) => done({ code: status, stderr: text }));
+  });
+  if (code !== 0) throw new Error(`making the code cache of ${bundle} failed (exit ${code}):\n${stderr}`);
+  return cacheName;
 }
 
 /** The inputs of a build: every file under src/, this script, the package manifests (bundled dependency versions) and tsconfig.json (read by esbuild). */
@@ -134,6 +203,8 @@ function inputsDigest() {
   const files = [
     ...filesUnder(SRC),
     fileURLToPath(import.meta.url),
+    join(ROOT, 'scripts', 'make-code-cache.js'),
+    join(ROOT, 'data', 'marrowick', 'sio2-thermal.csv'),
     ...['package.json', 'package-lock.json', 'tsconfig.json'].map((f) => join(ROOT, f)),
   ];
   for (const file of files.sort()) {
@@ -195,7 +266,7 @@ export async function build({ quiet = false, ifChanged = false } = {}) {
       // entries. Split, so that run.js loads each command's code only when it runs.
       esbuild.build({
         ...common,
-        entryPoints: { run: RUN, ...Object.fromEntries(urlEntries().map((f) => [entryName(f), f])) },
+        entryPoints: { run: RUN, 'cli-code-cache': CODE_CACHE, ...Object.fromEntries(urlEntries().map((f) => [entryName(f), f])) },
         splitting: true,
         chunkNames: '[name]-[hash]',
         plugins: [rebaseUrls()],
@@ -206,34 +277,47 @@ export async function build({ quiet = false, ifChanged = false } = {}) {
       esbuild.build({
         ...common,
         entryPoints: Object.fromEntries(
-          [...commands.map((c) => c.module).filter((m) => !SPLIT_COMMANDS.includes(m)), 'none'].map((m) => [`cmd-${m}`, `nk-command:${m}`]),
+          [...commands.map((c) => c.module).filter((m) => !CACHED_COMMANDS.includes(m)), 'none'].map((m) => [`cmd-${m}`, `nk-command:${m}`]),
         ),
         plugins: [commandEntries(commands), rebaseUrls()],
         // No source maps: 23 maps of a bundle each tripled the build time; the bundles are not minified and
         // name each source file in a comment, and run.js (the same code, split) keeps its maps.
         sourcemap: false,
       }),
-      // The commands with a start-up target, each built on its own with its dynamic imports (file mode's
-      // operations, the service modules behind them, their zod schemas) in chunks of that command
-      // (cmd-<module>-*.js), read and compiled only when a run calls them: compiling the whole one-file bundle was
-      // most of `eval`'s start-up. A build of its own per command costs build time, so only these.
-      ...SPLIT_COMMANDS.map((m) =>
+      // The commands with a start-up target: one CommonJS file each (V8 caches code for a script, not for an ES
+      // module, in Node 20), whitespace and syntax minified (names kept, for stack traces) since reading the text
+      // is part of the start-up. Their dynamic imports are inlined and run only when called.
+      ...CACHED_COMMANDS.map((m) =>
         esbuild.build({
           ...common,
-          entryPoints: { [`cmd-${m}`]: `nk-command:${m}` },
-          splitting: true,
-          chunkNames: `cmd-${m}-[name]-[hash]`,
-          plugins: [commandEntries(commands), rebaseUrls()],
+          entryPoints: [`nk-command:${m}`],
+          outdir: undefined,
+          outfile: join(temp, `cmd-${m}.cjs`),
+          format: 'cjs',
+          minifyWhitespace: true,
+          minifySyntax: true,
+          // ES modules are strict; so is this file. import.meta.url becomes the file's own URL.
+          banner: { js: "'use strict';const __nkMetaUrl=require('node:url').pathToFileURL(__filename).href;" },
+          define: { 'import.meta.url': '__nkMetaUrl' },
+          external: ['piscina', 'bindings', 'better-sqlite3/package.json', 'better-sqlite3/build/*'],
+          plugins: [commandEntries(commands), rebaseUrls(), startupShortcuts()],
           sourcemap: false,
         }),
       ),
-      esbuild.build({
-        ...common,
-        stdin: { contents: dispatcher(commands), resolveDir: join(SRC, 'cli'), sourcefile: 'nkledger.ts', loader: 'ts' },
-        outfile: join(temp, 'nkledger.js'),
-        outdir: undefined,
-      }),
     ]);
+    const cached = commands.filter((c) => CACHED_COMMANDS.includes(c.module));
+    const cacheNames = await Promise.all(cached.map((c) => makeCodeCache(temp, c)));
+    await esbuild.build({
+      ...common,
+      stdin: {
+        contents: dispatcher(commands, Object.fromEntries(cached.map((c, i) => [c.name, `./${cacheNames[i]}`]))),
+        resolveDir: join(SRC, 'cli'),
+        sourcefile: 'nkledger.ts',
+        loader: 'ts',
+      },
+      outfile: join(temp, 'nkledger.js'),
+      outdir: undefined,
+    });
   } catch (err) {
     rmSync(temp, { recursive: true, force: true });
     throw err;
