@@ -68,8 +68,8 @@ describe('nkledger stack', { timeout: 120_000 }, () => {
   });
 
   it('--sweep with --plot writes the colour strip: one swatch per thickness, the JSON colours scaled to a brightest Y of 100', async () => {
-    const svg = join(dir, 'soap.svg');
-    const r = await run(['stack', 'data/marrowick/soap-film.stack.json', '--at', '550', '--sweep', '1=0:600:10', '--plot', svg, '--json']);
+    const svg = join(dir, 'film.svg');
+    const r = await run(['stack', 'data/marrowick/water-film.stack.json', '--at', '550', '--sweep', '1=0:600:10', '--plot', svg, '--json']);
     expect(r.code, r.err).toBe(0);
     const rows = JSON.parse(r.out).results[0].sweep.rows;
     expect(rows).toHaveLength(61);
@@ -116,10 +116,10 @@ describe('nkledger stack', { timeout: 120_000 }, () => {
     expect(range.err).toMatch(
       /layer 1 \(mgf2-evaporated\.csv\) is a measured table over 250–1724\.\d+ nm; 200 nm is outside it.*\[stack-out-of-range\]/,
     );
-    const layer = await run(['stack', 'data/marrowick/soap-film.stack.json', '--at', '550', '--sweep', '3=0:100:10']);
+    const layer = await run(['stack', 'data/marrowick/water-film.stack.json', '--at', '550', '--sweep', '3=0:100:10']);
     expect(layer.code).toBe(2);
     expect(layer.err).toMatch(/sweep layer 3: the design has 1 layer/);
-    const angle = await run(['stack', 'data/marrowick/soap-film.stack.json', '--at', '550', '--angle', '95']);
+    const angle = await run(['stack', 'data/marrowick/water-film.stack.json', '--at', '550', '--angle', '95']);
     expect(angle.code).toBe(2);
     expect(angle.err).toMatch(/--angle 95: expected/);
     expect(`${range.err}${layer.err}${angle.err}`).not.toMatch(/\n\s+at /);

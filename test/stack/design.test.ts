@@ -18,7 +18,7 @@ describe('design file format', () => {
   });
 
   it('the example designs in data/marrowick parse', () => {
-    for (const f of ['ar-coating', 'soap-film', 'v-coat']) {
+    for (const f of ['ar-coating', 'water-film', 'v-coat']) {
       const text = readFileSync(new URL(`../../data/marrowick/${f}.stack.json`, import.meta.url), 'utf8');
       expect(parseStackDesign(text, `${f}.stack.json`).substrate).toBeDefined();
     }

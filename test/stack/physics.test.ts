@@ -144,7 +144,7 @@ describe('facts of the trade (common practice, no source)', () => {
     expect(back.rsRe[0]).toBeCloseTo((1.52 - 1) / (1.52 + 1), 14);
   });
 
-  it('a ~10 nm free-standing film of n ≈ 1.33 reflects almost no visible light (black soap film), ~100 nm several percent', () => {
+  it('a ~10 nm free-standing film of n ≈ 1.33 reflects almost no visible light (it looks black), ~100 nm several percent', () => {
     const wl = [...COLOUR_GRID_NM];
     const film = (d: number) =>
       solveStack(
@@ -165,7 +165,7 @@ describe('facts of the trade (common practice, no source)', () => {
       n = 1.33;
     const R = (d: number) => solveStack({ wavelengthNm: [lambda], ambient: air, layers: [layer(n, d)], substrate: constant(1.46) }, 0).Rs[0];
     for (const d of [37, 120, 333]) expect(R(d + lambda / (2 * n))).toBeCloseTo(R(d), 12);
-    // and the colour chart of a soap film goes through several cycles of hue between 0 and 1500 nm
+    // and the colour chart of a free-standing water film goes through several cycles of hue between 0 and 1500 nm
     const wl = [...COLOUR_GRID_NM];
     const cie = cieTables();
     const hues: number[] = [];

@@ -47,7 +47,7 @@ export function register(program: Command): void {
         'computed on 380–780 nm at 5 nm whatever --at says. Ψ, Δ: Azzam & Bashara convention, N = n − ik, Δ in [0, 360).\n\n' +
         'Examples:\n  nkledger stack data/marrowick/ar-coating.stack.json --at 400:800:10\n' +
         '  nkledger stack data/marrowick/ar-coating.stack.json --at 550 --angle 0,45,70 --json\n' +
-        '  nkledger stack data/marrowick/soap-film.stack.json --at 550 --sweep 1=0:1000:5 --plot soap-colours.svg',
+        '  nkledger stack data/marrowick/water-film.stack.json --at 550 --sweep 1=0:1000:5 --plot film-colours.svg',
     )
     .action(
       guarded(async (designPath: string, opts: StackFlags) => {
