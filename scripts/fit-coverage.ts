@@ -4,7 +4,7 @@
  * parameter the share of draws whose 1σ interval value ± stderr covers the generating value (ideal 68.3 %
  * for a Gaussian estimate; with 200 draws the binomial standard deviation of that share is 3.3 %).
  * Run: npx tsx scripts/fit-coverage.ts [draws] [seed]   (test/fit/coverage.test.ts runs it with 200 draws)
- * Model: Tauc-Lorentz (Jellison & Modine 1996, published); parameters those of test/reference/fit-tauc-lorentz.json
+ * Model: Tauc-Lorentz (Jellison & Modine 1996); parameters those of test/reference/fit-tauc-lorentz.json
  * (scripts/make-fit-reference.py).
  */
 import { pathToFileURL } from 'node:url';

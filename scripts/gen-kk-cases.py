@@ -17,7 +17,7 @@ import numpy as np
 import scipy
 from scipy.integrate import quad
 
-HC_EV_NM = 1239.841984  # CODATA 2018 (published)
+HC_EV_NM = 1239.841984  # CODATA 2018
 ROOT = os.path.join(os.path.dirname(os.path.abspath(__file__)), "..")
 FIXTURES = os.path.join(ROOT, "test", "fixtures", "kk")
 REFERENCE = os.path.join(ROOT, "test", "reference")
@@ -39,7 +39,7 @@ def lorentz_eps(energy_ev, eps_inf, oscillators):
 
 
 def tauc_lorentz_eps2(e, amp, e0, c, eg):
-    """Jellison & Modine, Appl. Phys. Lett. 69, 371 (1996) (published): eps2 for E > Eg, else 0."""
+    """Jellison & Modine, Appl. Phys. Lett. 69, 371 (1996): eps2 for E > Eg, else 0."""
     if e <= eg:
         return 0.0
     return amp * e0 * c * (e - eg) ** 2 / (((e * e - e0 * e0) ** 2 + c * c * e * e) * e)

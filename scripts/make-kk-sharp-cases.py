@@ -17,7 +17,7 @@ import numpy as np
 import scipy
 from scipy.special import erf  # noqa: F401  (scipy is the named reference library of the suite)
 
-HC_EV_NM = 1239.841984  # CODATA 2018 (published)
+HC_EV_NM = 1239.841984  # CODATA 2018
 ROOT = os.path.join(os.path.dirname(os.path.abspath(__file__)), "..")
 
 

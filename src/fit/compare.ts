@@ -40,7 +40,7 @@ export interface ComparisonReport {
 
 /**
  * BIC differences below this are "not worth more than a bare mention" (R. E. Kass and A. E. Raftery, J. Am.
- * Stat. Assoc. 90, 773 (1995), published): best_bic then names the candidate with the fewest free parameters.
+ * Stat. Assoc. 90, 773 (1995)): best_bic then names the candidate with the fewest free parameters.
  */
 export const BIC_INDIFFERENCE = 2;
 

@@ -53,7 +53,7 @@ interface Point {
  * The least-squares problem at one point in QR-reduced form. With the Householder factorization
  * J = Q·[R; 0] of the N×p whitened Jacobian and c = Qᵀr, the p + 1 rows (R, c₁…c_p) and (0, ‖c_{p+1…N}‖)
  * have exactly the JᵀJ = RᵀR, Jᵀr = Rᵀc₁…p and ‖r‖² of the N rows (Q is orthogonal; G. H. Golub and
- * C. F. Van Loan, Matrix Computations, §5.3, published). Levenberg-Marquardt only ever uses those three
+ * C. F. Van Loan, Matrix Computations, §5.3). Levenberg-Marquardt only ever uses those three
  * quantities, so the library takes the same steps on these rows as on the full ones.
  */
 interface Reduced {
@@ -394,7 +394,7 @@ export function minimize(
 /**
  * Minimize with simple bounds by an active set around minimize() (the bound-constrained least-squares
  * strategy of Lawson–Hanson / Stark–Parker BVLS, P. B. Stark and R. L. Parker, Comput. Stat. 10, 129
- * (1995), published). The library only clamps each step to the box, which leaves the other parameters'
+ * (1995)). The library only clamps each step to the box, which leaves the other parameters'
  * step computed as if the clamped one could still move: the fit then stalls 1–30 % above the bounded
  * optimum. Here a parameter that ends on a bound with the gradient pushing it outward is held exactly
  * there and the rest are minimized again; a held parameter whose gradient turns inward is released

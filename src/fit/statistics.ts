@@ -1,9 +1,9 @@
 /**
  * Uncertainty and goodness of fit at the optimum.
- * - Covariance cov = s²(JᵀWJ)⁻¹ with s² = χ²/(N − p) (W. H. Press et al., Numerical Recipes, ch. 15,
- *   published): J is taken on whitened residuals, so JᵀJ here is JᵀWJ.
- * - AIC = N·ln(χ²/N) + 2p (H. Akaike, IEEE Trans. Autom. Control 19, 716 (1974), published) and
- *   BIC = N·ln(χ²/N) + p·ln N (G. Schwarz, Ann. Stat. 6, 461 (1978), published): the Gaussian
+ * - Covariance cov = s²(JᵀWJ)⁻¹ with s² = χ²/(N − p) (W. H. Press et al., Numerical Recipes, ch. 15):
+ *   J is taken on whitened residuals, so JᵀJ here is JᵀWJ.
+ * - AIC = N·ln(χ²/N) + 2p (H. Akaike, IEEE Trans. Autom. Control 19, 716 (1974)) and
+ *   BIC = N·ln(χ²/N) + p·ln N (G. Schwarz, Ann. Stat. 6, 461 (1978)): the Gaussian
  *   log-likelihood with the (weighted) residual variance estimated from the fit, constants dropped;
  *   only differences between models fitted to the same points mean anything.
  */

@@ -3,13 +3,13 @@
  * warnings.
  * - χ² survival probability Q(ν/2, χ²/2), the regularized upper incomplete gamma function: the probability
  *   that a correct model with correct sigmas gives a χ² this large with ν degrees of freedom (the χ²
- *   distribution; W. H. Press et al., Numerical Recipes, 3rd ed., §6.2 and §15.1, published; series and
+ *   distribution; W. H. Press et al., Numerical Recipes, 3rd ed., §6.2 and §15.1; series and
  *   Lentz continued fraction as given there).
  * - Wald–Wolfowitz runs test on the signs of the residuals in spectral order (A. Wald and J. Wolfowitz,
- *   Ann. Math. Stat. 11, 147 (1940), published): a model that describes the data leaves signs that change at
+ *   Ann. Math. Stat. 11, 147 (1940)): a model that describes the data leaves signs that change at
  *   random; too few runs means the residuals follow a structure the model misses.
  * - Breusch–Pagan test in Koenker's studentized form (T. S. Breusch and A. R. Pagan, Econometrica 47, 1287
- *   (1979); R. Koenker, J. Econometrics 17, 107 (1981), published): regress the squared residuals on the
+ *   (1979); R. Koenker, J. Econometrics 17, 107 (1981)): regress the squared residuals on the
  *   magnitude of the fitted value; N·R² follows χ² with 1 degree of freedom when the noise does not grow
  *   with the value.
  */

@@ -1,6 +1,6 @@
 /**
  * The Kramers-Kronig-consistent basis the check fits (after B. Johs and J. S. Hale,
- * phys. stat. sol. (a) 205, 715 (2008), published): ε2 as a sum of unit triangles (linear B-splines) on
+ * phys. stat. sol. (a) 205, 715 (2008)): ε2 as a sum of unit triangles (linear B-splines) on
  * knots that extend past the measured window, plus two loss-free poles for absorption far outside it,
  * plus a constant ε∞ in ε1. Every term is an exact KK pair, so any non-negative combination is a
  * causal ε and the misfit to measured data measures inconsistency.

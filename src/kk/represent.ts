@@ -1,6 +1,6 @@
 /**
  * Fit the KK-consistent basis of basis.ts jointly to measured ε1 and ε2 (after B. Johs and J. S. Hale,
- * phys. stat. sol. (a) 205, 715 (2008), published) by weighted non-negative least squares:
+ * phys. stat. sol. (a) 205, 715 (2008)) by weighted non-negative least squares:
  *   minimise Σ w1ᵢ²(ε1ᵢ − Σ cⱼφ1ⱼ(Eᵢ))² + w2ᵢ²(ε2ᵢ − Σ cⱼφ2ⱼ(Eᵢ))² + λ Σ (Δ²c)²,  cⱼ ≥ 0 except ε∞.
  * The normal equations are accumulated point by point (cost ∝ points × basis²), scaled to unit diagonal
  * (NNLS is invariant to positive column scaling) and solved by nnls.ts.

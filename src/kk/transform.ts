@@ -2,7 +2,7 @@
  * Analytic Kramers-Kronig transform of a piecewise-linear ε2(E).
  *
  * For a causal medium (Lucarini, Saarinen, Peiponen & Vartiainen, "Kramers-Kronig Relations in Optical
- * Materials Research", Springer 2005, eq. 4.1; published):
+ * Materials Research", Springer 2005, eq. 4.1):
  *   ε1(E) − ε∞ = (2/π) P∫₀^∞ ξ ε2(ξ) / (ξ² − E²) dξ = (1/π) [H(E) + H(−E)],
  * with H(y) = P∫₀^∞ ε2(ξ) / (ξ − y) dξ, because 2ξ/(ξ² − E²) = 1/(ξ − E) + 1/(ξ + E).
  *
@@ -14,7 +14,7 @@
  * For a triangle a < b < c of unit height (s = 1/(b−a), −1/(b−a) − 1/(c−b), 1/(c−b); no jumps) this is
  *   H(y) = −[g(y−a)/(b−a) − g(y−b)·(c−a)/((b−a)(c−b)) + g(y−c)/(c−b)],
  * the closed form used by B-spline/piecewise-linear KK-consistent ε2 representations (B. Johs and
- * J. S. Hale, phys. stat. sol. (a) 205, 715 (2008); published). Derived here; verified against scipy's
+ * J. S. Hale, phys. stat. sol. (a) 205, 715 (2008)). Derived here; verified against scipy's
  * principal-value quadrature in test/kk/transform.test.ts.
  * A jump (ε2 not falling to zero at an end) gives the logarithmic singularity of a truncated spectrum.
  */

@@ -2,7 +2,7 @@
  * Interpolation of tabulated values on an ascending grid.
  * - linear: piecewise-linear between neighbouring points.
  * - monotone cubic: piecewise cubic Hermite with Fritsch–Carlson slopes (F. N. Fritsch and
- *   R. E. Carlson, SIAM J. Numer. Anal. 17, 238 (1980), published), which never overshoots the data.
+ *   R. E. Carlson, SIAM J. Numer. Anal. 17, 238 (1980)), which never overshoots the data.
  * Callers guarantee x is strictly increasing and the query lies in [x[0], x[last]].
  */
 
@@ -30,7 +30,7 @@ export function interpolateLinear(x: ArrayLike<number>, y: ArrayLike<number>, xq
  * Fritsch–Carlson slopes at every node (steps 1–5 of the 1980 paper, with the α²+β² ≤ 9 limiter).
  * Initial slopes are the three-point (second-order) differences, weighted for uneven spacing, and zero at
  * local extrema; the end slopes use the one-sided three-point formula with the shape-preserving guards of
- * C. Moler's pchip (Numerical Computing with MATLAB, 2004, §3.4, published). With plain secants at the ends
+ * C. Moler's pchip (Numerical Computing with MATLAB, 2004, §3.4). With plain secants at the ends
  * the first and last intervals would be only as accurate as linear interpolation.
  */
 export function monotoneSlopes(x: ArrayLike<number>, y: ArrayLike<number>): number[] {

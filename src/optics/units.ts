@@ -2,7 +2,7 @@
  * Conversions between the spectral coordinates used for optical constants.
  * Internally wavelengths are in nm; models defined in energy use eV.
  *
- * hc/e = 1239.841984 eV·nm follows from the exact SI values of h, c and e (CODATA 2018, published).
+ * hc/e = 1239.841984 eV·nm follows from the exact SI values of h, c and e (CODATA 2018).
  */
 
 /** hc/e in eV·nm (CODATA 2018: h = 6.62607015e-34 J·s, c = 299792458 m/s, e = 1.602176634e-19 C). */

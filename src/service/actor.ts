@@ -4,7 +4,7 @@
  * are one person. Names that only look like another are refused outright: control and invisible format
  * characters (zero-width space, joiners, bidi controls), and letters mixing scripts ("Аda" with a Cyrillic А).
  * (Unicode TR 15 for NFKC, TR 39 "Unicode Security Mechanisms" for the mixed-script and invisible-character
- * cases — published.)
+ * cases.)
  */
 import { InputError } from '../errors.ts';
 

@@ -10,7 +10,7 @@ import { MODEL_CATALOGUE, buildModel, type DispersionModel } from '../../src/mod
 
 /**
  * One parameter set per catalogue model, inside its bounds (invented values except Sellmeier: fused silica,
- * I. H. Malitson, J. Opt. Soc. Am. 55, 1205 (1965), published; Tauc-Lorentz: the set used to check its closed form against scipy).
+ * I. H. Malitson, J. Opt. Soc. Am. 55, 1205 (1965); Tauc-Lorentz: the set used to check its closed form against scipy).
  */
 const CASES: Record<string, { options?: { terms?: number }; p: Record<string, number> }> = {
   cauchy: { p: { A: 1.6, B: 0.008, C: 0.0002 } },

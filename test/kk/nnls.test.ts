@@ -28,7 +28,7 @@ describe('Lawson–Hanson NNLS on the normal equations', () => {
     });
   });
 
-  it('satisfies the Karush-Kuhn-Tucker conditions on random problems (Lawson & Hanson 1974, ch. 23: published)', () => {
+  it('satisfies the Karush-Kuhn-Tucker conditions on random problems (Lawson & Hanson 1974, ch. 23)', () => {
     const matrix = fc.array(fc.array(fc.double({ min: -5, max: 5, noNaN: true }), { minLength: 4, maxLength: 4 }), { minLength: 6, maxLength: 12 });
     fc.assert(
       fc.property(matrix, fc.array(fc.double({ min: -5, max: 5, noNaN: true }), { minLength: 12, maxLength: 12 }), (a, bAll) => {

@@ -2,7 +2,7 @@ import { describe, expect, it } from 'vitest';
 import { buildModel } from '../../src/models/catalogue.ts';
 import reference from '../reference/tauc-lorentz-kk.json' with { type: 'json' };
 
-describe('Tauc-Lorentz closed-form ε1 (Jellison & Modine, APL 69, 371 (1996), published)', () => {
+describe('Tauc-Lorentz closed-form ε1 (Jellison & Modine, APL 69, 371 (1996))', () => {
   const model = buildModel('tauc-lorentz');
   for (const [index, c] of reference.cases.entries()) {
     it(`equals the principal-value KK integral of ε2 from scipy.integrate.quad (reference library, ${reference.source.match(/scipy [\d.]+/)?.[0]}), case ${index + 1}`, () => {

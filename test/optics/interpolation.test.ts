@@ -28,7 +28,7 @@ function maxSecondDerivativeN(): number {
 }
 
 describe('tabulated evaluation', () => {
-  it('linear interpolation error stays within the textbook bound h²·max|f″|/8 (published: standard interpolation error bound)', () => {
+  it('linear interpolation error stays within the textbook bound h²·max|f″|/8 (standard interpolation error bound)', () => {
     const h = 20;
     const err = maxError(sampled(h), 'linear', nAnalytic, 'n');
     expect(err).toBeLessThanOrEqual((h * h * maxSecondDerivativeN()) / 8);

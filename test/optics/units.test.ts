@@ -11,13 +11,13 @@ import {
   wavenumberCm1FromWavelengthNm,
 } from '../../src/optics/units.ts';
 
-// CODATA 2018 exact SI defining constants (published: BIPM SI Brochure, 9th ed. 2019; NIST CODATA 2018).
+// CODATA 2018 exact SI defining constants (BIPM SI Brochure, 9th ed. 2019; NIST CODATA 2018).
 const H_J_S = 6.62607015e-34;
 const C_M_S = 299792458;
 const E_C = 1.602176634e-19;
 
 describe('spectral units (CODATA 2018)', () => {
-  it('hc/e equals h·c/e from the exact CODATA 2018 constants to 10 significant digits (published)', () => {
+  it('hc/e equals h·c/e from the exact CODATA 2018 constants to 10 significant digits', () => {
     const hcEvNm = ((H_J_S * C_M_S) / E_C) * 1e9; // 1239.8419843320…
     expect(Math.abs(HC_EV_NM - hcEvNm) / hcEvNm).toBeLessThan(5e-10);
   });

@@ -13,7 +13,7 @@ describe('canonical JSON and its SHA-256', () => {
     expect(canonicalSha256(value)).toBe(sha256);
   });
 
-  // published: ECMA-262 Number::toString (shortest round-trip digits; exponent form below 1e-6 and from 1e21),
+  // ECMA-262 Number::toString (shortest round-trip digits; exponent form below 1e-6 and from 1e21),
   // which RFC 8785 (JSON Canonicalization Scheme) section 3.2.2.3 adopts for numbers.
   it('writes numbers in the shortest round-trip form of ECMA-262', () => {
     expect(canonicalJson([1e-7, 0.000001, 1e21, 1e20, 0.1 + 0.2, -0, 5e-324, 1.7976931348623157e308])).toBe(

@@ -3,7 +3,7 @@
  * raw SQL on the file, as another program would, and must make verify fail with the version named:
  * content and hash rewritten together, a status set to approved with another approver and no audit row,
  * an immutability trigger replaced by a same-named no-op, and edits of the audit log itself.
- * (Hash chaining of log entries: S. Haber and W. S. Stornetta, J. Cryptology 3, 99 (1991) — published.)
+ * (Hash chaining of log entries: S. Haber and W. S. Stornetta, J. Cryptology 3, 99 (1991).)
  */
 import Database from 'better-sqlite3';
 import { mkdtempSync, rmSync } from 'node:fs';

@@ -1,7 +1,7 @@
 /**
  * The two-person rule on normalised user names: a creator's name in capitals, full-width, with a letter
  * swapped for its Cyrillic look-alike, or with a zero-width space appended must not count as someone else.
- * Names are compared by NFKC + case folding (Unicode TR 15, and full case folding's ß → ss — published);
+ * Names are compared by NFKC + case folding (Unicode TR 15, and full case folding's ß → ss);
  * look-alike and invisible names are refused where tokens are made and wherever a name acts (TR 39).
  */
 import { afterEach, beforeEach, describe, expect, it } from 'vitest';

@@ -4,7 +4,7 @@
  * the service function. Each backup must open, pass verify (hashes, numbering, triggers), pass the same
  * invariants as after a crash, and hold every version committed before the backup began, with the same
  * hash. Restore is "copy the backup file to the database path": checked by restoring and writing on.
- * (SQLite online backup API: sqlite.org/backup.html, published.)
+ * (SQLite online backup API: sqlite.org/backup.html.)
  */
 import { spawn } from 'node:child_process';
 import { copyFileSync, mkdtempSync, rmSync } from 'node:fs';

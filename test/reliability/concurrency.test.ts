@@ -5,7 +5,7 @@
  * hash, no version number is duplicated or missing, no "database is locked" reached any user (CLI stderr,
  * problem documents, server stderr), no 5xx, and every version any reader saw hashes to its SHA-256
  * (a reader never sees a half-written version). SQLite WAL: one writer, readers see committed snapshots
- * (sqlite.org/wal.html, published).
+ * (sqlite.org/wal.html).
  * The same run on PostgreSQL (a fresh database on the run's throw-away server, test/postgres-global-setup.ts),
  * shorter: there every writer serialises on the registry's write lock (src/registry/postgres.ts), and the check
  * afterwards is the same but for SQLite's own integrity check. Skipped with a plain message where PostgreSQL is missing.

@@ -4,7 +4,7 @@
  * land while it opens the registry (the first one while it migrates a brand-new file). After every kill:
  * `PRAGMA integrity_check` is ok, no version is partial, numbers have no holes or duplicates, every hash
  * verifies, the audit log matches the versions, and every write the writer acknowledged is there.
- * (Atomic commit of SQLite transactions under process death: sqlite.org/atomiccommit.html, published.)
+ * (Atomic commit of SQLite transactions under process death: sqlite.org/atomiccommit.html.)
  */
 import { spawn, type ChildProcessWithoutNullStreams } from 'node:child_process';
 import { mkdtempSync, rmSync } from 'node:fs';

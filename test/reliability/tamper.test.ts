@@ -3,7 +3,7 @@
  * its provenance, its stored hash and (worse) its JSON are edited by raw SQL. `verify` must name each, and
  * every read path — service, HTTP API, CLI show/eval/export/diff — must refuse to serve a version whose
  * content no longer matches its SHA-256, while untouched versions are still served. (Content addressing
- * by SHA-256, FIPS 180-4 — published; refuse-on-mismatch is common practice for content-addressed stores.)
+ * by SHA-256, FIPS 180-4; refuse-on-mismatch is common practice for content-addressed stores.)
  * Also: API tokens are stored only as hashes (the plaintext is nowhere in the file or its WAL).
  */
 import Database from 'better-sqlite3';

@@ -13,7 +13,7 @@ const layer = (n: number, thicknessNm: number, k = 0, count = 1): StackLayer => 
 const air = constant(1);
 const deg = (rad: number) => (rad * 180) / Math.PI;
 
-describe('closed forms (published)', () => {
+describe('closed forms', () => {
   it('bare glass n = 1.52 at normal incidence: R = ((1 − 1.52)/(1 + 1.52))² ≈ 4.26 % (Fresnel equations; Hecht, Optics, ch. 4)', () => {
     const r = solveStack({ wavelengthNm: [550], ambient: air, layers: [], substrate: constant(1.52) }, 0);
     const expected = ((1 - 1.52) / (1 + 1.52)) ** 2;
