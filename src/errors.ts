@@ -19,7 +19,7 @@ export interface InputLocation {
 /**
  * An option the user can set to get past a refusal, named neutrally (snake_case, as the API's fields):
  * `{ option: 'input_unit', value: 'um' }`. Each front door words it: the CLI as `--input-unit um`, the API
- * as `input_unit=um`. The core never writes a flag into a message.
+ * as `input_unit=um`. The core never writes a flag into a message: it names an option with `optionRef`.
  */
 export interface Remedy {
   option: string;
@@ -27,18 +27,43 @@ export interface Remedy {
   value?: string | false;
 }
 
-/** How a front door spells a remedy. */
-export type RemedyWording = (remedy: Remedy) => string;
+/**
+ * An option named inside a message: its neutral name (the API's field) in backticks, "`fix`". The core words
+ * every option this way; each front door spells it when it words the refusal (`InputError.describe`): the command
+ * line as its flag, `--fix`, the API as the field in backticks, a page as its form field.
+ */
+export const optionRef = (name: string): string => `\`${name}\``;
+const OPTION_REF = /`([a-z][a-z0-9_]*)`/g;
 
-/** The API's (and the default) wording: `input_unit=um`, `allow_any_range=true`, `kk=false`. */
-export const FIELD_WORDING: RemedyWording = (r) => `${r.option}=${r.value === undefined ? 'true' : r.value === false ? 'false' : r.value}`;
+/**
+ * How a front door words a refusal: its remedies, the options named inside its message, and what to do next in
+ * that front door's own terms (the command line names its commands and flags; the core names neither).
+ */
+export interface Wording {
+  remedy(remedy: Remedy): string;
+  option(name: string): string;
+  /** A next step for this refusal, shown in parentheses after the message; none when undefined. */
+  hint?(refusal: InputError): string | undefined;
+}
 
-/** The command line's wording: `--input-unit um`, `--allow-any-range`, `--no-kk`. */
-export const FLAG_WORDING: RemedyWording = (r) => {
-  const flag = r.option.replace(/_/g, '-');
-  if (r.value === false) return `--no-${flag}`;
-  return r.value === undefined ? `--${flag}` : `--${flag} ${/\s/.test(r.value) ? JSON.stringify(r.value) : r.value}`;
+/** The API's (and the default) wording: `input_unit=um`, `allow_any_range=true`, `kk=false`; options in backticks. */
+export const FIELD_WORDING: Wording = {
+  remedy: (r) => `${r.option}=${r.value === undefined ? 'true' : r.value === false ? 'false' : r.value}`,
+  option: optionRef,
 };
+
+/** The command line's wording: `--input-unit um`, `--allow-any-range`, `--no-kk`; options as flags, `--fix`. */
+export const FLAG_WORDING: Wording = {
+  remedy: (r) => {
+    const flag = r.option.replace(/_/g, '-');
+    if (r.value === false) return `--no-${flag}`;
+    return r.value === undefined ? `--${flag}` : `--${flag} ${/\s/.test(r.value) ? JSON.stringify(r.value) : r.value}`;
+  },
+  option: (name) => `--${name.replace(/_/g, '-')}`,
+};
+
+/** A message with the options it names (`optionRef`) spelled by `wording`. */
+export const wordOptions = (message: string, wording: Wording): string => message.replace(OPTION_REF, (_all, name: string) => wording.option(name));
 
 /** Structured fields of a refusal besides its place: the option or field at fault, its value, the remedies. */
 export interface InputErrorFields {
@@ -74,11 +99,13 @@ export class InputError extends Error {
 
   /**
    * "file:line:col: message: use R1 or R2 [rule]", the form compilers use so editors can jump to it; the
-   * remedies are worded by the front door (flags by default for the CLI, `FIELD_WORDING` for the API).
+   * remedies and the options the message names are worded by the front door (flags by default for the CLI,
+   * `FIELD_WORDING` for the API).
    */
-  describe(wording: RemedyWording = FLAG_WORDING): string {
-    const remedies = this.remedies.length ? `: use ${this.remedies.map(wording).join(' or ')}` : '';
-    return `${formatLocation(this.location)}${this.message}${remedies} [${this.rule}]`;
+  describe(wording: Wording = FLAG_WORDING): string {
+    const remedies = this.remedies.length ? `: use ${this.remedies.map(wording.remedy).join(' or ')}` : '';
+    const hint = wording.hint?.(this);
+    return `${formatLocation(this.location)}${wordOptions(this.message, wording)}${hint ? ` (${hint})` : ''}${remedies} [${this.rule}]`;
   }
 
   /** The same refusal (same class, rule and fields) with another message and place, e.g. prefixed with where it arose. */

@@ -310,7 +310,8 @@ interface ProblemFields {
 
 /**
  * The message inside a problem's `detail`, which the server wrote as `describe(FIELD_WORDING)`: the place in
- * front, the remedies worded as API fields and ` [rule]` behind. The client words remedies as flags again.
+ * front, the remedies worded as API fields and ` [rule]` behind. The client words remedies as flags again; the
+ * options named in the message stay in backticks (`optionRef`), which the command line spells as flags.
  */
 export function messageOf(p: Pick<ProblemFields, 'detail' | 'rule' | 'file' | 'line' | 'column' | 'remedies'>): string {
   let text = p.detail;
@@ -318,7 +319,7 @@ export function messageOf(p: Pick<ProblemFields, 'detail' | 'rule' | 'file' | 'l
   if (prefix && text.startsWith(prefix)) text = text.slice(prefix.length);
   const suffix = ` [${p.rule}]`;
   if (text.endsWith(suffix)) text = text.slice(0, -suffix.length);
-  const remedies = p.remedies?.length ? `: use ${p.remedies.map(FIELD_WORDING).join(' or ')}` : '';
+  const remedies = p.remedies?.length ? `: use ${p.remedies.map(FIELD_WORDING.remedy).join(' or ')}` : '';
   if (remedies && text.endsWith(remedies)) text = text.slice(0, -remedies.length);
   return text;
 }

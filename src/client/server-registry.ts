@@ -61,10 +61,7 @@ export function serverRegistry(client: ServerClient, options: ServerRegistryOpti
       } catch (err) {
         // A bare word that is neither a file nor a material is most likely a mistyped file name: say both, as file mode does.
         if (err instanceof InputError && err.rule === 'material-unknown' && parseRef(ref).kind === 'latest')
-          throw new NotFoundError(
-            `no file "${ref}" and no material "${ref}" in the registry ${client.url} (see \`nkledger list\`)`,
-            'source-not-found',
-          );
+          throw new NotFoundError(`no file "${ref}" and no material "${ref}" in the registry ${client.url}`, 'source-not-found');
         throw err;
       }
       // What is computed on here must be the content the hash names: recomputed, as the server's own reads do.

@@ -3,7 +3,7 @@
  * quantities with the same weights, then ranked by AIC (Akaike 1974) and BIC (Schwarz 1978).
  * The physics caveats travel with the numbers, because a lower AIC does not make a model physical.
  */
-import { InputError, NumericalError } from '../errors.ts';
+import { InputError, NumericalError, optionRef } from '../errors.ts';
 import { buildModel } from '../models/catalogue.ts';
 import type { NkTable } from '../table.ts';
 import { fitTable } from './fit.ts';
@@ -75,11 +75,12 @@ function criteriaOnAllRows(table: NkTable, report: FitReport, options: Omit<FitO
 
 /** Fit every spec in `specs` with the shared options (model-specific flags apply where a model accepts them). */
 export function compareModels(table: NkTable, specs: string[], options: Omit<FitOptions, 'model'> = {}): ComparisonReport {
-  if (specs.length < 2) throw new InputError('compare-needs-two', `--compare needs at least two models, got ${specs.join(',') || 'none'}`);
+  if (specs.length < 2)
+    throw new InputError('compare-needs-two', `${optionRef('compare')} needs at least two models, got ${specs.join(',') || 'none'}`);
   if (options.fix || options.init || options.bounds || options.free) {
     throw new InputError(
       'compare-no-parameter-flags',
-      '--fix, --init, --bounds and --free name parameters of one model; they cannot be used with --compare',
+      `${['fix', 'init', 'bounds', 'free'].map(optionRef).join(', ')} name parameters of one model; they cannot be used with ${optionRef('compare')}`,
     );
   }
   const models: ComparedModel[] = specs.map((spec) => {

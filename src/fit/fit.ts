@@ -3,7 +3,7 @@
  * Levenberg-Marquardt (lm.ts), standard errors and correlations (statistics.ts), a plain-JSON report.
  * Pure: no I/O.
  */
-import { InputError, NumericalError } from '../errors.ts';
+import { InputError, NumericalError, optionRef } from '../errors.ts';
 import { buildModel, type DispersionModel } from '../models/catalogue.ts';
 import type { NkTable } from '../table.ts';
 import { minimizeWithBounds, nonFiniteMessage, tableResiduals, type LmResult } from './lm.ts';
@@ -21,13 +21,15 @@ export const DEFAULT_MAX_ITERATIONS = 300;
 /** Two starts reached the same minimum when their χ² agree to this relative tolerance. */
 const SAME_MINIMUM = 1e-6;
 
-function refuseUnknown(model: DispersionModel, names: string[], flag: string): void {
+function refuseUnknown(model: DispersionModel, names: string[], option: string): void {
   const valid = model.parameters.map((p) => p.name);
   for (const name of names) {
     if (!valid.includes(name)) {
       throw new InputError(
         'unknown-parameter',
-        `${flag} ${name}: model ${model.spec} has no parameter "${name}"; its parameters: ${valid.join(', ')}`,
+        `${optionRef(option)} ${name}: model ${model.spec} has no parameter "${name}"; its parameters: ${valid.join(', ')}`,
+        {},
+        { option, value: name },
       );
     }
   }
@@ -37,7 +39,8 @@ function refuseUnknown(model: DispersionModel, names: string[], flag: string): v
 function resolveBounds(model: DispersionModel, options: FitOptions): [number, number][] {
   return model.parameters.map((p) => {
     const b = options.bounds?.[p.name] ?? p.bounds;
-    if (!(b[0] < b[1])) throw new InputError('bad-bounds', `--bounds ${p.name}=${b[0]}:${b[1]}: the lower bound must be below the upper`);
+    if (!(b[0] < b[1]))
+      throw new InputError('bad-bounds', `${optionRef('bounds')} ${p.name}=${b[0]}:${b[1]}: the lower bound must be below the upper`);
     return b;
   });
 }
@@ -115,10 +118,10 @@ export function fitTable(table: NkTable, options: FitOptions): FitReport {
 
 export function prepareFit(table: NkTable, options: FitOptions): PreparedFit {
   const model = buildModel(options.model, { terms: options.terms, urbach: options.urbach });
-  refuseUnknown(model, Object.keys(options.fix ?? {}), '--fix');
-  refuseUnknown(model, Object.keys(options.init ?? {}), '--init');
-  refuseUnknown(model, Object.keys(options.bounds ?? {}), '--bounds');
-  refuseUnknown(model, options.free ?? [], '--free');
+  refuseUnknown(model, Object.keys(options.fix ?? {}), 'fix');
+  refuseUnknown(model, Object.keys(options.init ?? {}), 'init');
+  refuseUnknown(model, Object.keys(options.bounds ?? {}), 'bounds');
+  refuseUnknown(model, options.free ?? [], 'free');
   const target = options.target ?? 'nk';
   const problem = buildProblem(table, target, { rangeNm: options.rangeNm, absorbing: model.absorbing, weights: options.weights });
   const bounds = resolveBounds(model, options);
@@ -132,7 +135,7 @@ export function prepareFit(table: NkTable, options: FitOptions): PreparedFit {
       if (init < bounds[i][0] || init > bounds[i][1])
         throw new InputError(
           'init-out-of-bounds',
-          `--init ${p.name}=${init} lies outside its bounds ${bounds[i][0]}:${bounds[i][1]} (${p.unit}); widen them with --bounds`,
+          `${optionRef('init')} ${p.name}=${init} lies outside its bounds ${bounds[i][0]}:${bounds[i][1]} (${p.unit}); widen them with ${optionRef('bounds')}`,
         );
       given.set(i, init);
     }

@@ -19,7 +19,7 @@
  *   O(N·p) while every step, damping decision and best point stays what it would be on the full rows.
  */
 import { levenbergMarquardt } from 'ml-levenberg-marquardt';
-import { NumericalError } from '../errors.ts';
+import { NumericalError, optionRef } from '../errors.ts';
 import type { DispersionModel } from '../models/catalogue.ts';
 import { whitenedModel, type FitProblem } from './problem.ts';
 
@@ -181,7 +181,7 @@ function reduce(jacobian: Float64Array[], r: Float64Array, work: Float64Array): 
 
 export function nonFiniteMessage(model: DispersionModel, values: Float64Array, where: string): string {
   const list = model.parameters.map((p, i) => `${p.name}=${values[i]}`).join(', ');
-  return `the ${model.spec} model is not finite ${where} (${list}); check --init/--fix/--bounds against the parameter meanings in 'nkledger fit --help'`;
+  return `the ${model.spec} model is not finite ${where} (${list}); check ${optionRef('init')}, ${optionRef('fix')} and ${optionRef('bounds')} against the meanings of its parameters`;
 }
 
 /**
@@ -266,7 +266,7 @@ export function minimize(
   const p = Float64Array.from(start);
   let { r, jacobian } = residuals(p, free, true);
   let chi2 = sumSquares(r);
-  if (!Number.isFinite(chi2)) throw new NumericalError(nonFinite(p));
+  if (!Number.isFinite(chi2)) throw new NumericalError(nonFinite(p), 'model-not-finite');
   const chi2Start = chi2;
   const tolerance = Math.max(1e-28 * chi2, 1e-300);
   // the library's data: the p + 1 rows of the QR-reduced problem (reduce()), y = 0 so its residual is c

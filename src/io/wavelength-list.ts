@@ -1,11 +1,11 @@
-/** Parsing `--at` lists of wavelengths in nm: "400,500,632.8", or a grid "400:800:50" (start:stop:step), or both mixed. */
-import { InputError } from '../errors.ts';
+/** Parsing lists of wavelengths in nm (the `at` option): "400,500,632.8", or a grid "400:800:50" (start:stop:step), or both mixed. */
+import { InputError, optionRef } from '../errors.ts';
 import { parseOptionNumber } from './numbers.ts';
 
 /** Refuse grids bigger than this: a typo like 400:800:0.0001 should not allocate millions of points. */
 const MAX_POINTS = 100_000;
 
-export function parseWavelengthList(text: string, flag = '--at'): number[] {
+export function parseWavelengthList(text: string, flag = optionRef('at')): number[] {
   const out: number[] = [];
   for (const item of text.split(',')) {
     const parts = item.split(':');

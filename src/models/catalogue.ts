@@ -4,7 +4,7 @@
  * one eps_inf; in a sum every parameter is prefixed by its term ("tauc-lorentz.A", "drude.Ep").
  * Fitter, CLI help and API enumerate MODEL_CATALOGUE; nothing outside src/models switches on model names.
  */
-import { InputError } from '../errors.ts';
+import { InputError, optionRef } from '../errors.ts';
 import { HC_EV_NM } from '../optics/units.ts';
 import { cauchy } from './cauchy.ts';
 import { drude } from './drude.ts';
@@ -113,7 +113,7 @@ export function buildModel(spec: string, options: ModelOptions = {}): Dispersion
   const names = spec.split('+').map((s) => s.trim().toLowerCase());
   const terms = names.map(findTerm);
   if (new Set(names).size !== names.length) {
-    throw new InputError('duplicate-model-term', `model "${spec}" repeats a term; use --terms N for several oscillators of one kind`);
+    throw new InputError('duplicate-model-term', `model "${spec}" repeats a term; use ${optionRef('terms')} N for several oscillators of one kind`);
   }
   if (terms.length > 1) {
     const lone = terms.find((t) => !t.summable);
@@ -128,7 +128,7 @@ export function buildModel(spec: string, options: ModelOptions = {}): Dispersion
     if (termCapable.length === 0 && options.terms !== 1)
       throw new InputError(
         'terms-not-supported',
-        `--terms does not apply to "${spec}"; it applies to ${MODEL_CATALOGUE.filter((t) => t.terms)
+        `${optionRef('terms')} does not apply to "${spec}"; it applies to ${MODEL_CATALOGUE.filter((t) => t.terms)
           .map((t) => t.name)
           .join(', ')}`,
       );
@@ -137,7 +137,7 @@ export function buildModel(spec: string, options: ModelOptions = {}): Dispersion
       if (!Number.isInteger(options.terms) || options.terms < range.min || options.terms > range.max) {
         throw new InputError(
           'terms-out-of-range',
-          `--terms for ${t.name} must be an integer ${range.min}–${range.max} (${range.meaning}), got ${options.terms}`,
+          `${optionRef('terms')} for ${t.name} must be an integer ${range.min}–${range.max} (${range.meaning}), got ${options.terms}`,
         );
       }
     }
@@ -145,7 +145,7 @@ export function buildModel(spec: string, options: ModelOptions = {}): Dispersion
   if (options.urbach && !terms.some((t) => t.urbach)) {
     throw new InputError(
       'urbach-not-supported',
-      `--urbach applies to ${MODEL_CATALOGUE.filter((t) => t.urbach)
+      `${optionRef('urbach')} applies to ${MODEL_CATALOGUE.filter((t) => t.urbach)
         .map((t) => t.name)
         .join(', ')} only`,
     );

@@ -13,7 +13,7 @@ const A_SPEC: ParameterSpec = {
   unit: '1',
   meaning: 'constant term of n² (1 = vacuum background)',
   bounds: [0.5, 20],
-  guessRule: '1 (held fixed unless freed with --free A)',
+  guessRule: '1 (held fixed unless the fit is asked to free A)',
   fixedByDefault: true,
   defaultValue: 1,
 };

@@ -197,7 +197,7 @@ async function withTriggerSuspended(
     return;
   }
   const stored = await queryRow<{ sql: string }>(registry, sql`SELECT sql FROM sqlite_master WHERE type = 'trigger' AND name = ${trigger}`);
-  if (!stored) throw new Error(`the destination has no trigger ${trigger} (run \`nkledger verify\` on it)`);
+  if (!stored) throw new Error(`the destination has no trigger ${trigger} (verify it)`);
   await execute(registry, sql`DROP TRIGGER ${ident(trigger)}`);
   await body();
   await execute(registry, sql.raw(stored.sql));

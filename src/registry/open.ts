@@ -142,11 +142,7 @@ export async function openRegistry(path?: string, options: OpenOptions = {}): Pr
   const exists = memory || existsSync(file);
   const create = options.create ?? 'always';
   if (!exists && create === 'never') {
-    throw new InputError(
-      'registry-missing',
-      'no registry database at this path (check --db or NKLEDGER_DB; `nkledger material add` or `nkledger import` creates one)',
-      { file },
-    );
+    throw new InputError('registry-missing', 'no registry database at this path', { file });
   }
   if (!exists && create === 'if-folder-exists' && !existsSync(dirname(resolve(file)))) {
     throw new InputError(

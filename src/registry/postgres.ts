@@ -279,11 +279,7 @@ export async function openPostgres(url: string, options: PgOpenOptions = {}): Pr
       );
     }
     if (options.existingOnly && !(await hasMigrationTable(client))) {
-      throw new InputError(
-        'registry-missing',
-        'no registry in this database (check --db or NKLEDGER_DB; `nkledger material add` or `nkledger import` creates one)',
-        { file: shown },
-      );
+      throw new InputError('registry-missing', 'no registry in this database', { file: shown });
     }
     if (options.migrate !== false) migrationsApplied = await applyMigrations(client);
     release();

@@ -61,7 +61,7 @@ async function refuseDirectWrite(registry: Registry): Promise<void> {
   const row = await queryRow<{ value: string }>(registry, sql`SELECT value FROM registry_settings WHERE key = 'writes'`);
   if (row && JSON.parse(row.value) === 'server-only')
     throw new ConflictError(
-      `registry ${registry.path} takes writes only through its server (setting writes=server-only), so who acts comes from a token; give --server URL (or set NKLEDGER_SERVER) and log in; nothing was written`,
+      `registry ${registry.path} takes writes only through its server (setting writes=server-only), so who acts comes from a token; nothing was written`,
       'writes-server-only',
     );
 }
@@ -105,11 +105,7 @@ export async function appendAudit(registry: Registry, entry: NewEvent): Promise<
 export async function findMaterial(registry: Registry, slug: string): Promise<MaterialRow> {
   const { materials } = registry.tables;
   const row = await first(registry.db.select().from(materials).where(eq(materials.slug, slug)).limit(1));
-  if (!row)
-    throw new NotFoundError(
-      `no material "${slug}" in the registry (\`nkledger list\` lists them; \`nkledger material add ${slug} --name NAME\` creates it)`,
-      'material-unknown',
-    );
+  if (!row) throw new NotFoundError(`no material "${slug}" in the registry`, 'material-unknown', {}, { value: slug });
   return row;
 }
 
@@ -129,7 +125,7 @@ export async function findVersion(registry: Registry, material: MaterialRow, num
 /** Which version numbers a material has, for not-found messages: "it has no versions yet (add one: ...)". */
 export function existingVersions(material: MaterialRow): string {
   const last = material.lastVersion;
-  if (last === 0) return `it has no versions yet (add one with \`nkledger import FILE --material ${material.slug}\`)`;
+  if (last === 0) return 'it has no versions yet (importing a measurement adds one)';
   return last === 1 ? 'only version 1 exists' : `versions 1 to ${last} exist`;
 }
 
@@ -181,7 +177,7 @@ export function verifiedContentOf(row: VersionRow, ref: string): VersionContent 
   if (computed === null || computed !== row.sha256) {
     throw new IntegrityError(
       `${ref}: the stored content or provenance no longer matches its SHA-256 ${row.sha256.slice(0, 12)}…; the database was changed outside nkledger. ` +
-        'It is not served. Run `nkledger verify` and restore the registry from a backup',
+        'It is not served: verify the registry and restore it from a backup',
     );
   }
   return content!;

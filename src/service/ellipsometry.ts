@@ -6,7 +6,7 @@
  * src/fit/ellipsometry.ts); its input and output are plain data, so it runs on the server's compute threads.
  */
 import { createHash } from 'node:crypto';
-import { InputError } from '../errors.ts';
+import { InputError, optionRef } from '../errors.ts';
 import { fitPsiDelta, screenStarts, type PsiDeltaParameter, type PsiDeltaWarning } from '../fit/ellipsometry.ts';
 import { parsePsiDelta, type PsiDeltaData, type PsiDeltaImport, type PsiDeltaOptions } from '../io/parse-psi-delta.ts';
 import type { Registry } from '../registry/open.ts';
@@ -574,7 +574,7 @@ export async function storeFittedFilm(
   if (!film.model) {
     throw new InputError(
       'ellipsometry-store-film',
-      `layer ${filmIndex + 1}'s material is not a {"model": …} source, so there is no fitted model to store; --store keeps a film whose model parameters were fitted`,
+      `layer ${filmIndex + 1}'s material is not a {"model": …} source, so there is no fitted model to store; ${optionRef('store')} keeps a film whose model parameters were fitted`,
       { field: `layers.${filmIndex}.material` },
     );
   }

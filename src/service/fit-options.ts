@@ -2,7 +2,7 @@
  * Fit options as people type them — `nkledger fit` and `nkledger import --fit` flags, and the HTTP API's fit fields —
  * turned into the fitter's FitOptions. One parser, so every front door accepts and refuses the same things.
  */
-import { InputError } from '../errors.ts';
+import { InputError, optionRef } from '../errors.ts';
 import { parseOptionNumber } from '../io/numbers.ts';
 import type { FitOptions, FitTarget } from '../fit/types.ts';
 import type { OptionSpec } from '../io/option-spec.ts';
@@ -66,7 +66,7 @@ export const FIT_OPTION_NAMES: readonly FitOptionName[] = FIT_OPTIONS.map((o) =>
 
 /** How a front door names an option in messages: `--fix` on the command line, `fix` or `range_nm` in the API. */
 export type OptionLabel = (name: FitOptionName) => string;
-const cliLabel: OptionLabel = (name) => `--${name}`;
+const neutralLabel: OptionLabel = optionRef;
 
 const number = (text: string, what: string) => parseOptionNumber(text, what);
 const integer = (text: string, what: string, min: number, max: number) => parseOptionNumber(text, what, { integer: true, min, max });
@@ -92,7 +92,7 @@ function numberMap<T>(items: string[], what: string, value: (text: string, what:
 }
 
 /** Turn the text of the fit options into FitOptions (without the model); refusals name the option as `label` spells it. */
-export function parseFitOptions(text: FitOptionText, label: OptionLabel = cliLabel): Omit<FitOptions, 'model'> {
+export function parseFitOptions(text: FitOptionText, label: OptionLabel = neutralLabel): Omit<FitOptions, 'model'> {
   const out: Omit<FitOptions, 'model'> = {};
   if (text.terms !== undefined) out.terms = integer(text.terms, label('terms'), 1, 100);
   if (text.urbach) out.urbach = true;

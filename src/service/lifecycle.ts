@@ -69,7 +69,7 @@ export async function approve(registry: Registry, ref: string, actor: string, op
     const self = sameUser(row.createdBy, who);
     if (self && !(await readSettings(registry)).allow_self_approval) {
       throw new ConflictError(
-        `${who === row.createdBy ? who : `${who} (the same user as ${row.createdBy})`} created ${material.slug}@${row.number} and cannot also approve it: someone else must (a one-person lab can allow self-approval with "nkledger settings set allow_self_approval on")`,
+        `${who === row.createdBy ? who : `${who} (the same user as ${row.createdBy})`} created ${material.slug}@${row.number} and cannot also approve it: someone else must (a one-person lab may allow self-approval: setting allow_self_approval)`,
         'two-person-rule',
       );
     }

@@ -93,7 +93,7 @@ export function readLockfile(path: string, options: { allowMissing?: boolean } =
   } catch (err) {
     if ((err as NodeJS.ErrnoException).code === 'ENOENT') {
       if (options.allowMissing) return emptyLockfile();
-      throw new InputError('lock-missing', `no lockfile ${path} (start one with \`nkledger lock add REF --lock ${path}\`)`, { file: path });
+      throw new InputError('lock-missing', `no lockfile ${path}`, { file: path });
     }
     throw new InputError('lock-read', `cannot read the lockfile: ${(err as Error).message}`, { file: path });
   }
@@ -189,7 +189,7 @@ async function checkHistory(registry: Registry, locked: LockedHead | undefined):
       ...base,
       outcome: 'broken',
       failed: true,
-      message: `the registry's audit chain is broken (${walk.problems[0]}${walk.problems.length > 1 ? `, and ${walk.problems.length - 1} more` : ''}); run \`nkledger verify\``,
+      message: `the registry's audit chain is broken (${walk.problems[0]}${walk.problems.length > 1 ? `, and ${walk.problems.length - 1} more` : ''}); verify the registry`,
     };
   }
   if (!locked) {
@@ -197,7 +197,7 @@ async function checkHistory(registry: Registry, locked: LockedHead | undefined):
       ...base,
       outcome: 'not-recorded',
       failed: false,
-      message: 'the lockfile records no registry head (format 1): history not checked; the next `nkledger lock add` records one',
+      message: 'the lockfile records no registry head (format 1): history not checked; the next version pinned in it records one',
     };
   }
   if (walk.hashes[locked.sequence - 1] !== locked.hash) {

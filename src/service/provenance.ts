@@ -2,7 +2,7 @@
  * Checking provenance given by a person (`--meta key=value`, API form fields) and turning it into the
  * stored, normalized Provenance (every field present, null when unknown).
  */
-import { InputError } from '../errors.ts';
+import { InputError, optionRef } from '../errors.ts';
 import { MEASUREMENT_METHODS, type MeasurementMethod } from '../registry/schema.ts';
 import { FILE_PROVENANCE_FIELDS, PROVENANCE_FIELDS, type Provenance } from '../registry/types.ts';
 
@@ -139,21 +139,22 @@ const META_ALIASES: Record<string, keyof Provenance> = {
   note: 'notes',
 };
 
-/** Parse `key=value` pairs (the CLI's repeated --meta flag) into provenance input. */
+/** Parse `key=value` pairs (the command line's repeated `meta` option) into provenance input. */
 export function parseMetaPairs(pairs: string[]): ProvenanceInput {
   const out: ProvenanceInput = {};
   for (const pair of pairs) {
     const eqAt = pair.indexOf('=');
-    if (eqAt <= 0) throw new InputError('meta-syntax', `--meta "${pair}": write key=value, e.g. --meta instrument="MO-SE 640"`);
+    if (eqAt <= 0)
+      throw new InputError('meta-syntax', `${optionRef('meta')} "${pair}": write key=value, e.g. ${optionRef('meta')} instrument="MO-SE 640"`);
     const rawKey = pair.slice(0, eqAt).trim().toLowerCase().replace(/-/g, '_');
     const key = META_ALIASES[rawKey] ?? rawKey;
     if (!(PROVENANCE_FIELDS as readonly string[]).includes(key)) {
       throw new InputError(
         'provenance-unknown-field',
-        `--meta "${pair}": unknown field "${rawKey}": known fields are ${PROVENANCE_FIELDS.join(', ')} (also ${Object.keys(META_ALIASES).join(', ')})`,
+        `${optionRef('meta')} "${pair}": unknown field "${rawKey}": known fields are ${PROVENANCE_FIELDS.join(', ')} (also ${Object.keys(META_ALIASES).join(', ')})`,
       );
     }
-    if (key in out) throw new InputError('meta-repeated', `--meta gives "${key}" twice`);
+    if (key in out) throw new InputError('meta-repeated', `${optionRef('meta')} gives "${key}" twice`);
     out[key as keyof Provenance] = pair.slice(eqAt + 1);
   }
   return out;

@@ -98,7 +98,7 @@ export const SETTINGS = {
   writes: {
     schema: z.enum(['any', 'server-only']),
     default: 'any',
-    meaning: 'who writes the registry file: "any" process, or "server-only" (only `nkledger serve`; people use --server and their own token)',
+    meaning: 'who writes the registry file: "any" process, or "server-only" (only the server, where each person acts through their own token)',
     parseText: (t: string) => t,
   } satisfies SettingDefinition<'any' | 'server-only'>,
 };
@@ -115,10 +115,7 @@ export function parseSettingKey(key: string): SettingKey {
 /** `writes` decides who may write at all, so it is changed only through the server, where a token says who is asking. */
 function refuseDirectWritesChange(registry: Registry, key: SettingKey): void {
   if (key === 'writes' && !isServerProcess(registry))
-    throw new ConflictError(
-      'the setting "writes" is changed only through the server, by an admin: nkledger settings set writes VALUE --server URL',
-      'writes-setting-server',
-    );
+    throw new ConflictError('the setting "writes" is changed only through the server, by an admin', 'writes-setting-server');
 }
 
 function validate(key: SettingKey, value: unknown): unknown {

@@ -31,13 +31,13 @@ const constantSource = z
 const modelSource = z
   .strictObject({
     model: z.string().min(1).describe('catalogue model spec, e.g. "sellmeier", "cauchy", "tauc-lorentz+drude"'),
-    parameters: z.record(z.string(), z.number()).describe('parameter values by name, in the units of `nkledger fit --help`'),
+    parameters: z.record(z.string(), z.number()).describe('parameter values by name, in the units of the model catalogue'),
     terms: z.number().int().min(1).optional().describe('number of terms/oscillators (default: inferred from the parameter names)'),
     urbach: z.boolean().optional().describe('Cauchy with the Urbach tail (default: inferred from the parameter names)'),
     range_nm: z
       .tuple([z.number().positive(), z.number().positive()])
       .optional()
-      .describe('validity range [min, max] in nm; outside it the model is refused unless --extrapolate'),
+      .describe('validity range [min, max] in nm; outside it the model is refused unless extrapolation is asked for'),
   })
   .describe('a dispersion model of the catalogue with given parameters');
 

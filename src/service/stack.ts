@@ -6,7 +6,7 @@
  */
 import { createHash } from 'node:crypto';
 import { dirname, resolve as resolvePath } from 'node:path';
-import { InputError, NotFoundError, type InputLocation } from '../errors.ts';
+import { InputError, NotFoundError, optionRef, type InputLocation } from '../errors.ts';
 import { evaluateFitReport } from '../fit/evaluate.ts';
 import type { FitReport } from '../fit/types.ts';
 import { parseNkTable } from '../io/parse-table.ts';
@@ -64,16 +64,20 @@ export interface StackOptionText {
 export function parseStackOptions(
   text: StackOptionText,
   wavelengthNm: number[],
-  names: { angle: string; polarization: string; sweep: string } = { angle: '--angle', polarization: '--polarization', sweep: '--sweep' },
+  names: { angle: string; polarization: string; sweep: string } = {
+    angle: optionRef('angle'),
+    polarization: optionRef('polarization'),
+    sweep: optionRef('sweep'),
+  },
 ): StackOptions {
   const anglesDeg = (text.angle ?? '0')
     .split(',')
     .map((a) => parseOptionNumber(a.trim(), names.angle, { min: 0, max: 89.999999, hint: 'degrees of incidence in the ambient, 0 ≤ θ < 90' }));
-  if (anglesDeg.length > MAX_ANGLES) throw new InputError('bad-option', `${names.angle}: at most ${MAX_ANGLES} angles`, { field: names.angle });
+  if (anglesDeg.length > MAX_ANGLES) throw new InputError('bad-option', `${names.angle}: at most ${MAX_ANGLES} angles`, { field: 'angle' });
   const polarization = (text.polarization ?? 'unpolarized') as StackPolarization;
   if (!STACK_POLARIZATIONS.includes(polarization)) {
     throw new InputError('bad-option', `${names.polarization}: "${text.polarization}" is not one of ${STACK_POLARIZATIONS.join(', ')}`, {
-      field: names.polarization,
+      field: 'polarization',
     });
   }
   if (wavelengthNm.some((w) => !(w > 0))) throw new InputError('bad-option', 'wavelengths must be positive (nm)', { field: 'at' });
@@ -90,14 +94,14 @@ function parseSweep(text: string, name: string): StackSweep {
   const m = /^\s*(\d+)\s*=\s*([^:]+):([^:]+):([^:]+)\s*$/.exec(text);
   if (!m)
     throw new InputError('bad-option', `${name}: "${text}" is not LAYER=START:STOP:STEP (layer number from 1, thickness in nm), e.g. 1=0:600:5`, {
-      field: name,
+      field: 'sweep',
     });
   const layer = parseOptionNumber(m[1], `${name} layer`, { integer: true, min: 1 });
   const startNm = parseOptionNumber(m[2], `${name} start`, { min: 0 });
   const stopNm = parseOptionNumber(m[3], `${name} stop`, { min: startNm, hint: 'stop ≥ start' });
   const stepNm = parseOptionNumber(m[4], `${name} step`, { above: 0 });
   if (sweepThicknesses({ layer, startNm, stopNm, stepNm }).length > MAX_SWEEP_STEPS) {
-    throw new InputError('bad-option', `${name}: more than ${MAX_SWEEP_STEPS} thickness steps`, { field: name });
+    throw new InputError('bad-option', `${name}: more than ${MAX_SWEEP_STEPS} thickness steps`, { field: 'sweep' });
   }
   return { layer, startNm, stopNm, stepNm };
 }
@@ -302,7 +306,7 @@ export async function resolveStackDesign(design: StackDesign, ctx: ResolveContex
       } catch (err) {
         if (!(err instanceof NotFoundError && err.rule === 'source-not-found')) throw err;
         throw new NotFoundError(
-          `the design names registry versions (${refs}) but there is no registry database to look them up in (give --db PATH or set NKLEDGER_DB)`,
+          `the design names registry versions (${refs}) but there is no registry database to look them up in`,
           'registry-missing',
         );
       }
@@ -313,7 +317,7 @@ export async function resolveStackDesign(design: StackDesign, ctx: ResolveContex
       if (lockedSha && origin.sha256 !== lockedSha) {
         throw new InputError(
           'stack-lock-mismatch',
-          `${slot.role}: ${origin.ref} in the registry has sha256 ${origin.sha256.slice(0, 12)}…, the lockfile ${ctx.lock!.file} pins ${lockedSha.slice(0, 12)}… (run \`nkledger lock verify --lock ${ctx.lock!.file}\`)`,
+          `${slot.role}: ${origin.ref} in the registry has sha256 ${origin.sha256.slice(0, 12)}…, the lockfile ${ctx.lock!.file} pins ${lockedSha.slice(0, 12)}… (the lockfile no longer matches the registry)`,
           at,
         );
       }
@@ -426,11 +430,7 @@ function throughLock(
   const parsed = parseRef(text);
   const entry = lock.lockfile.materials[parsed.slug];
   if (!entry) {
-    throw new InputError(
-      'stack-lock-missing',
-      `${role}: ${parsed.slug} is not in the lockfile ${lock.file} (pin it with \`nkledger lock add ${text} --lock ${lock.file}\`)`,
-      at,
-    );
+    throw new InputError('stack-lock-missing', `${role}: ${parsed.slug} is not in the lockfile ${lock.file}; pin it there first`, at);
   }
   const pinned = formatRef(parsed.slug, entry.version);
   const disagree =
@@ -481,7 +481,7 @@ function resolveModelSource(
   if (first?.error && !first.names.length) throw new InputError(first.error.rule, `${role}: ${first.error.message}`, at);
   throw new InputError(
     'stack-model-parameters',
-    `${role}: the parameters ${given.join(', ') || '(none)'} do not fit model ${src.model}${src.terms ? ` with ${src.terms} terms` : ''}; it takes ${first?.names.join(', ')} (more terms: B2, C2, …; see \`nkledger fit --help\`)`,
+    `${role}: the parameters ${given.join(', ') || '(none)'} do not fit model ${src.model}${src.terms ? ` with ${src.terms} terms` : ''}; it takes ${first?.names.join(', ')} (more terms: B2, C2, …)`,
     at,
   );
 }
@@ -569,10 +569,10 @@ export function materialNk(
     n = new Array(size).fill(m.constant.n);
     k = new Array(size).fill(m.constant.k);
   } else if (m.model) {
-    if (m.model.range_nm && !extrapolate) refuse(m.model.range_nm, 'has a model valid over', '; --extrapolate evaluates it outside');
+    if (m.model.range_nm && !extrapolate) refuse(m.model.range_nm, 'has a model valid over', `; ${optionRef('extrapolate')} evaluates it outside`);
     ({ n, k } = buildModel(m.model.spec, { terms: m.model.terms, urbach: m.model.urbach }).nk(wl, m.model.parameters));
   } else if (m.content?.fit) {
-    if (!extrapolate) refuse(usableRangeNm(m.content), 'has a model fitted over', '; --extrapolate evaluates it outside');
+    if (!extrapolate) refuse(usableRangeNm(m.content), 'has a model fitted over', `; ${optionRef('extrapolate')} evaluates it outside`);
     ({ n, k } = evaluateFitReport(m.content.fit as unknown as FitReport, wl));
   } else {
     const table = (m.table ?? m.content!.table)!;
@@ -690,7 +690,7 @@ export function computeStack(design: ResolvedDesign, options: StackOptions, cie:
   if (options.sweep && options.sweep.layer > design.layers.length) {
     throw new InputError(
       'bad-option',
-      `sweep layer ${options.sweep.layer}: the design has ${design.layers.length} layer${design.layers.length === 1 ? '' : 's'} (numbered from 1 on the ambient side)`,
+      `${optionRef('sweep')} layer ${options.sweep.layer}: the design has ${design.layers.length} layer${design.layers.length === 1 ? '' : 's'} (numbered from 1 on the ambient side)`,
       { field: 'sweep' },
     );
   }
@@ -701,7 +701,8 @@ export function computeStack(design: ResolvedDesign, options: StackOptions, cie:
     colourMedia = mediaOn(design, colourGrid, options.extrapolate, 'colour needs 380–780 nm');
   } catch (err) {
     if (!(err instanceof OutOfRange)) throw err;
-    if (options.sweep) throw new InputError('stack-sweep-colour', `--sweep computes colours, which need 380–780 nm: ${err.message}`, err.location);
+    if (options.sweep)
+      throw new InputError('stack-sweep-colour', `${optionRef('sweep')} computes colours, which need 380–780 nm: ${err.message}`, err.location);
     warnings.push(`colour is null: ${err.message}`);
   }
   if (design.substrate.incoherent) {
@@ -789,7 +790,12 @@ export interface StackRequest {
  * design and the options, cap the work, resolve the materials (through the lockfile if given), compute.
  */
 export async function runStackRequest(request: StackRequest): Promise<StackReport> {
-  const names = request.names ?? { at: '--at', angle: '--angle', polarization: '--polarization', sweep: '--sweep' };
+  const names = request.names ?? {
+    at: optionRef('at'),
+    angle: optionRef('angle'),
+    polarization: optionRef('polarization'),
+    sweep: optionRef('sweep'),
+  };
   const designText = typeof request.design === 'string' ? request.design : null;
   const design = parseStackDesign(request.design, request.designFile);
   const options = parseStackOptions(request.options, parseWavelengthList(request.at, names.at), names);

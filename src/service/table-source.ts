@@ -90,8 +90,9 @@ export function requireTable(loaded: LoadedSource, purpose: string): NkTable {
   const origin = loaded.detected as StoredVersionOrigin;
   throw new InputError(
     'version-without-table',
-    `${origin.ref} holds only a fitted ${origin.model} model, no measured table, so there is nothing to ${purpose}; ` +
-      `evaluate the model with \`nkledger eval ${origin.ref} --at ...\` or see it with \`nkledger show ${origin.ref}\``,
+    `${origin.ref} holds only a fitted ${origin.model} model, no measured table, so there is nothing to ${purpose}; evaluate or show the model instead`,
+    {},
+    { value: origin.ref },
   );
 }
 
@@ -103,10 +104,7 @@ export async function loadVersion(registry: Registry, source: string): Promise<L
   } catch (err) {
     // A bare word that is neither a file nor a material is most likely a mistyped file name: say both.
     if (err instanceof NotFoundError && err.rule === 'material-unknown' && parseRef(source).kind === 'latest') {
-      throw new NotFoundError(
-        `no file "${source}" and no material "${source}" in the registry ${registry.path} (see \`nkledger list\`)`,
-        'source-not-found',
-      );
+      throw new NotFoundError(`no file "${source}" and no material "${source}" in the registry ${registry.path}`, 'source-not-found');
     }
     throw err;
   }
@@ -133,10 +131,7 @@ export async function loadVersion(registry: Registry, source: string): Promise<L
 export async function withExistingRegistry<T>(source: string, db: string | undefined, use: (registry: Registry) => Promise<T>): Promise<T> {
   const path = registryPath(db);
   if (path !== ':memory:' && !isDatabaseUrl(path) && !existsSync(path)) {
-    throw new NotFoundError(
-      `no file "${source}", and no registry database at ${path} to look it up as a version (give --db PATH or set NKLEDGER_DB)`,
-      'source-not-found',
-    );
+    throw new NotFoundError(`no file "${source}", and no registry database at ${path} to look it up as a version`, 'source-not-found');
   }
   const registry = await openRegistry(path, { create: 'never' });
   try {

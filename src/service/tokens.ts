@@ -139,7 +139,7 @@ export async function revokeToken(registry: Registry, id: string, actor: string)
   const row = (await first(registry.db.select().from(apiTokens).where(eq(apiTokens.id, id)).limit(1))) as
     | typeof tableTypes.apiTokens.$inferSelect
     | undefined;
-  if (!row) throw new NotFoundError(`no token with id "${id}" (see \`nkledger token list\`)`, 'token-not-found');
+  if (!row) throw new NotFoundError(`no token with id "${id}"`, 'token-not-found');
   if (row.revokedAt) throw new ConflictError(`token ${id} was already revoked at ${row.revokedAt} by ${row.revokedBy}`, 'token-revoked');
   const revokedAt = nowIso();
   await writeTransaction(registry, async () => {

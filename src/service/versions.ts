@@ -205,7 +205,7 @@ async function noApprovedVersion(registry: Registry, material: MaterialRow): Pro
   if (material.lastVersion === 0) return `${material.slug} has no approved version: ${existingVersions(material)}`;
   const newest = await findVersion(registry, material, material.lastVersion);
   const pin = formatRef(material.slug, newest.number);
-  const next = newest.status === 'draft' ? `, waiting for approval (\`nkledger approve ${pin}\` by someone other than its creator)` : '';
+  const next = newest.status === 'draft' ? `, waiting for approval by someone other than its creator` : '';
   return `${material.slug} has no approved version (its newest is ${pin}, ${newest.status}${next}); a bare slug means the latest approved version, so name one explicitly, e.g. ${pin}`;
 }
 

@@ -5,7 +5,7 @@
  */
 import type { Child } from 'hono/jsx';
 import { raw } from 'hono/html';
-import type { RemedyWording } from '../errors.ts';
+import type { Wording } from '../errors.ts';
 import type { VersionStatus } from '../registry/types.ts';
 import { roleAllows } from '../service/tokens.ts';
 import type { WebSession } from '../service/web-sessions.ts';
@@ -85,9 +85,11 @@ export function Layout({ title, session, current, children }: LayoutProps) {
   );
 }
 
-/** How a refusal's remedies read on a page: the form field and the value to put in it. */
-export const PAGE_WORDING: RemedyWording = (r) =>
-  r.value === undefined ? `the “${r.option}” field` : `the “${r.option}” field set to ${String(r.value)}`;
+/** How a refusal's remedies and options read on a page: the form field, and the value to put in it. */
+export const PAGE_WORDING: Wording = {
+  remedy: (r) => (r.value === undefined ? `the “${r.option}” field` : `the “${r.option}” field set to ${String(r.value)}`),
+  option: (name) => `the “${name}” field`,
+};
 
 /** A page as the HTML text the server sends. */
 export function page(props: LayoutProps): string {

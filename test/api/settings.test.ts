@@ -21,7 +21,7 @@ describe('settings routes and command', { timeout: 120_000 }, () => {
     expect((await h.request('/api/v1/materials/mgf2-evap/versions?kk=false', { ...csv(csvTable()), as: 'approver' })).status).toBe(201);
     const refused = await h.request('/api/v1/materials/mgf2-evap/versions/1/approve', { method: 'POST', as: 'approver' });
     expect(refused.status).toBe(409);
-    expect((await refused.json()).detail).toMatch(/nkledger settings set allow_self_approval on/);
+    expect((await refused.json()).detail).toMatch(/may allow self-approval: setting allow_self_approval/);
     const bad = await h.request('/api/v1/settings/allow_self_approval', { ...json({ value: 'on' }), method: 'PUT', as: 'admin' });
     expect(bad.status).toBe(422); // JSON takes a boolean
     const set = await h.request('/api/v1/settings/allow_self_approval', { ...json({ value: true }), method: 'PUT', as: 'admin' });

@@ -67,7 +67,7 @@ describe('fit flags of import --fit', { timeout: 120_000 }, () => {
       urbach: true,
     });
     expect(() => parseFitOptions({ range: '5' }, (n) => (n === 'range' ? 'range_nm' : n))).toThrow('range_nm 5: expected MIN:MAX');
-    expect(() => parseFitOptions({ starts: '0' })).toThrow('--starts 0: expected a whole number 1–1000');
-    expect(() => parseFitOptions({ target: 'r' })).toThrow('--target r: expected one of nk, n, k, eps');
+    expect(() => parseFitOptions({ starts: '0' })).toThrow('`starts` 0: expected a whole number 1–1000');
+    expect(() => parseFitOptions({ target: 'r' })).toThrow('`target` r: expected one of nk, n, k, eps');
   });
 });

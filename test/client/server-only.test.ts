@@ -20,7 +20,7 @@ describe('writes=server-only', () => {
     const r = await runCli(['settings', 'set', 'writes', 'server-only'], { env: direct('ada') });
     expect(r.code).toBe(2);
     expect(r.stderr).toBe(
-      'nkledger: the setting "writes" is changed only through the server, by an admin: nkledger settings set writes VALUE --server URL [writes-setting-server]\n',
+      'nkledger: the setting "writes" is changed only through the server, by an admin (nkledger settings set writes VALUE --server URL) [writes-setting-server]\n',
     );
     const notAdmin = await runCli(['settings', 'set', 'writes', 'server-only'], { env: lab.env('server', 'alice') });
     expect(notAdmin.stderr).toContain('[auth-forbidden]');

@@ -43,7 +43,7 @@ describe('model catalogue', () => {
     expect(() => buildModel('forouhi')).toThrow(/valid models: cauchy, sellmeier, tauc-lorentz, lorentz, drude/);
     expect(() => buildModel('cauchy+drude')).toThrow(InputError);
     expect(() => buildModel('sellmeier', { terms: 5 })).toThrow(/1–4/);
-    expect(() => buildModel('drude', { terms: 2 })).toThrow(/--terms does not apply/);
+    expect(() => buildModel('drude', { terms: 2 })).toThrow(/`terms` does not apply/);
   });
 
   it('Drude + Lorentz sum equals the sum of the parts minus one eps_inf (sums are in ε)', () => {

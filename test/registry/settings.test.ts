@@ -59,7 +59,7 @@ describe.each(BACKENDS)('settings on %s', (backend) => {
     it('allow_self_approval set through the catalogue governs approval; set and reset are audited', async () => {
       await createMaterial(t.registry, { slug: 'sio2-thermal', name: 'Thermal oxide' }, 'ada');
       await importVersion(t.registry, { slug: 'sio2-thermal', table: cauchyTable() }, 'ada');
-      await expect(approve(t.registry, 'sio2-thermal@1', 'ada')).rejects.toThrow(/nkledger settings set allow_self_approval on/);
+      await expect(approve(t.registry, 'sio2-thermal@1', 'ada')).rejects.toThrow(/may allow self-approval: setting allow_self_approval/);
       expect((await writeSettingText(t.registry, 'allow_self_approval', 'on', 'ada')).allow_self_approval).toBe(true);
       expect(await approve(t.registry, 'sio2-thermal@1', 'ada')).toMatchObject({ self_approved: true });
       expect((await resetSetting(t.registry, 'allow_self_approval', 'ada')).allow_self_approval).toBe(false);

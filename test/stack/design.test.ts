@@ -83,7 +83,7 @@ describe('sources', () => {
     const resolved = await resolveStackDesign(ranged, ctx);
     const out = refusal(() => computeStack(resolved, at([350])));
     expect(out.rule).toBe('stack-out-of-range');
-    expect(out.message).toMatch(/substrate \(cauchy model\).*400–1000 nm; 350 nm is outside it.*--extrapolate/);
+    expect(out.message).toMatch(/substrate \(cauchy model\).*400–1000 nm; 350 nm is outside it.*`extrapolate`/);
     expect(computeStack(resolved, parseStackOptions({ extrapolate: true }, [350])).results[0].R[0]).toBeGreaterThan(0.04);
   });
 
