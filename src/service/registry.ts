@@ -1,6 +1,6 @@
 /**
- * The registry's service layer in one import, for the CLI and the HTTP API alike:
- * `import { openRegistry, importVersion, ... } from '../service/registry.ts'`.
+ * The registry's service layer in one import, for tests and scripts (the front doors import each module directly,
+ * so a command loads only what it uses): `import { openRegistry, importVersion, ... } from '../service/registry.ts'`.
  * Every function takes the open Registry first; writes take the acting user's name last.
  */
 export { openRegistry, registryPath, type Registry } from '../registry/open.ts';
