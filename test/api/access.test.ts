@@ -3,10 +3,10 @@
  * token are 401; each role against each write route is 403 below the route's role and succeeds at or
  * above it (reader < editor < approver < admin); every refused request leaves every table's row count
  * unchanged. Role rules from the issue (common practice for bearer APIs: RFC 6750 status codes).
- * The same matrix runs on both backends: an SQLite file, and a fresh database on the run's throw-away
- * PostgreSQL server (test/postgres-global-setup.ts; skipped with a plain message where PostgreSQL is missing).
+ * The same matrix runs on each backend of test/registry/helpers.ts's BACKENDS: an SQLite file (`npm test`), and a
+ * fresh database on the run's throw-away PostgreSQL server (`npm run test:postgres`).
  */
-import { afterAll, beforeAll, describe, expect, inject, it } from 'vitest';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { createMaterial } from '../../src/service/materials.ts';
 import { importVersion } from '../../src/service/versions.ts';
 import { approve } from '../../src/service/lifecycle.ts';
@@ -14,7 +14,7 @@ import { createToken, revokeToken } from '../../src/service/tokens.ts';
 import { TOKEN_ROLES, type TokenRole } from '../../src/registry/schema-auth.ts';
 import { createApp } from '../../src/api/app.ts';
 import { csv, csvTable, json, startHarness, tableCounts, type ApiHarness, type HarnessOptions } from './harness.ts';
-import { cauchyTable } from '../registry/helpers.ts';
+import { BACKENDS, cauchyTable, POSTGRES_SERVER } from '../registry/helpers.ts';
 
 interface WriteCase {
   name: string;
@@ -119,20 +119,12 @@ const WRITES: WriteCase[] = [
   { name: 'reset setting', role: 'admin', success: 200, prepare: () => ({ path: '/api/v1/settings/max_nk_points', init: { method: 'DELETE' } }) },
 ];
 
-const postgres = inject('postgres');
-if (!postgres.adminUrl) console.warn(postgres.missing);
+const MATRICES: { label: string; options: HarnessOptions }[] = BACKENDS.map((backend) =>
+  backend === 'sqlite' ? { label: 'SQLite', options: {} } : { label: 'PostgreSQL', options: { postgres: POSTGRES_SERVER.adminUrl ?? undefined } },
+);
 
-const BACKENDS: { label: string; options: HarnessOptions; skip: boolean }[] = [
-  { label: 'SQLite', options: {}, skip: false },
-  {
-    label: postgres.adminUrl ? 'PostgreSQL' : `PostgreSQL: ${postgres.missing}`,
-    options: { postgres: postgres.adminUrl ?? undefined },
-    skip: !postgres.adminUrl,
-  },
-];
-
-for (const { label, options, skip } of BACKENDS) {
-  describe.skipIf(skip)(`access matrix (real HTTP, ${label})`, () => {
+for (const { label, options } of MATRICES) {
+  describe(`access matrix (real HTTP, ${label})`, () => {
     let h: ApiHarness;
     let revoked: string;
     beforeAll(async () => {
@@ -215,7 +207,7 @@ for (const { label, options, skip } of BACKENDS) {
     });
   });
 
-  describe.skipIf(skip)(`anonymous reads setting (${label})`, () => {
+  describe(`anonymous reads setting (${label})`, () => {
     it('"off" refuses reads without a token even on loopback', async () => {
       const h = await startHarness({ ...options, settings: { anonymous_reads: 'off' } });
       try {

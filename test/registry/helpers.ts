@@ -21,19 +21,32 @@ export interface TempRegistry {
 }
 
 /**
- * The backends the registry suites run on: SQLite always, PostgreSQL when the run's throw-away server is up
- * (test/postgres-global-setup.ts). `describe.each(BACKENDS)` runs a suite on each.
+ * The backends the registry suites run on: those the vitest config asks for (`provide: { registryBackends }`;
+ * `npm test` asks for SQLite, `npm run test:postgres` for PostgreSQL, a config that says nothing for both), of
+ * which PostgreSQL only when the run's throw-away server is up (test/postgres-global-setup.ts); SQLite when no
+ * asked backend is there, so a file always has its suites. `describe.each(BACKENDS)` runs a suite on each.
  */
 export type Backend = 'sqlite' | 'postgres';
 
-// A vitest config without the PostgreSQL global setup provides nothing: the suites then run on SQLite alone.
+declare module 'vitest' {
+  export interface ProvidedContext {
+    registryBackends: Backend[];
+  }
+}
+
+// A vitest config without the PostgreSQL global setup provides no server.
 const provided = inject('postgres') ?? {
   adminUrl: null,
   missing: 'this vitest config starts no PostgreSQL server (it lacks test/postgres-global-setup.ts)',
 };
-export const BACKENDS: Backend[] = provided.adminUrl ? ['sqlite', 'postgres'] : ['sqlite'];
-/** Said once per file where PostgreSQL is missing, so the run shows why the registry suites ran on SQLite only. */
-export const POSTGRES_SKIPPED = provided.adminUrl ? null : `registry suites on PostgreSQL skipped: ${provided.missing}`;
+const asked: Backend[] = inject('registryBackends') ?? ['sqlite', 'postgres'];
+const available = asked.filter((b) => b === 'sqlite' || provided.adminUrl);
+export const BACKENDS: Backend[] = available.length ? available : ['sqlite'];
+/** The run's PostgreSQL server when the config asks for PostgreSQL and it is up (else null), and why not. */
+export const POSTGRES_SERVER = { adminUrl: BACKENDS.includes('postgres') ? provided.adminUrl : null, missing: provided.missing };
+/** Said once per file where PostgreSQL is asked for but missing, so the run shows why it ran on SQLite only. */
+export const POSTGRES_SKIPPED =
+  asked.includes('postgres') && !provided.adminUrl ? `registry suites on PostgreSQL skipped: ${provided.missing}` : null;
 if (POSTGRES_SKIPPED) console.warn(POSTGRES_SKIPPED);
 
 let template: Promise<string> | undefined;
