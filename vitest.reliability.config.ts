@@ -2,7 +2,7 @@ import { defineConfig } from 'vitest/config';
 
 /**
  * `npm run test:reliability`: fuzzing, SIGKILL crash safety, concurrency, backup under load, tampering, and two
- * servers on one PostgreSQL (2–3 min). One throw-away PostgreSQL server for the run, as in vitest.config.ts.
+ * servers on one PostgreSQL (about 3 min on 2 cores). One throw-away PostgreSQL server for the run, as in vitest.config.ts.
  */
 export default defineConfig({
   test: {

@@ -8,6 +8,9 @@
  * Then the sharp case: 20,000 points over 1–5 eV of the exact Lorentz sum of scripts/make-kk-sharp-cases.py
  * with Γ = 0.03 eV peaks (goal ≤ 1.2 s on the development machine).
  * `npx tsx scripts/bench-kk.ts sharp` runs the sharp case only.
+ * `npx tsx scripts/bench-kk.ts rounded` times 100,000 and 300,000 points of the two-Lorentz table exact and with n
+ * and k rounded to 7 decimals, as measured tables are written (every rounding step is a small local maximum of
+ * ε2): the time per point should not grow with N in either.
  */
 import { checkKramersKronig } from '../src/kk/check.ts';
 import { nkFromEps } from '../src/optics/permittivity.ts';
@@ -88,8 +91,37 @@ function sharpCase(): void {
   );
 }
 
+/** The table with n and k rounded to `decimals` decimals. */
+function rounded(table: NkTable, decimals: number): NkTable {
+  const round = (v: number) => Math.round(v * 10 ** decimals) / 10 ** decimals;
+  return { wavelengthNm: table.wavelengthNm, n: table.n.map(round), k: (table.k ?? []).map(round) };
+}
+
+function roundedCase(): void {
+  console.log('| points | exact: median ms | µs per point | rounded to 7 decimals: median ms | µs per point |');
+  console.log('| ---: | ---: | ---: | ---: | ---: |');
+  for (const size of [100_000, 300_000]) {
+    const exact = lorentzTable(size);
+    const cells = [exact, rounded(exact, 7)].map((table) => {
+      const times: number[] = [];
+      for (let r = 0; r < REPEATS; r++) {
+        const start = performance.now();
+        checkKramersKronig(table);
+        times.push(performance.now() - start);
+      }
+      return median(times);
+    });
+    console.log(`| ${size} | ${cells.map((ms) => `${ms.toFixed(0)} | ${((1000 * ms) / size).toFixed(1)}`).join(' | ')} |`);
+  }
+}
+
 if (process.argv[2] === 'sharp') {
   sharpCase();
+  process.exit(0);
+}
+if (process.argv[2] === 'rounded') {
+  checkKramersKronig(lorentzTable(500));
+  roundedCase();
   process.exit(0);
 }
 checkKramersKronig(lorentzTable(500));

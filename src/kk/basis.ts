@@ -38,13 +38,17 @@ export function sharpPeakColumns(
   const order = Array.from({ length: energyEv.length }, (_, i) => i).sort((a, b) => energyEv[a] - energyEv[b]);
   const e = order.map((i) => energyEv[i]);
   const y = order.map((i) => eps2[i]);
+  // Where the rising run through each point starts and the falling run ends, found once (O(n)): walking them
+  // from every local maximum took O(n²) on measured tables, whose rounding makes a staircase of small maxima.
+  const runStart = new Int32Array(y.length);
+  for (let i = 1; i < y.length; i++) runStart[i] = y[i - 1] <= y[i] ? runStart[i - 1] : i;
+  const runEnd = new Int32Array(y.length).fill(y.length - 1);
+  for (let i = y.length - 2; i >= 0; i--) runEnd[i] = y[i + 1] <= y[i] ? runEnd[i + 1] : i;
   const peaks: { e0: number; fwhm: number; prominence: number }[] = [];
   for (let i = 1; i < y.length - 1; i++) {
     if (!(y[i] > y[i - 1] && y[i] >= y[i + 1])) continue;
-    let l = i;
-    while (l > 0 && y[l - 1] <= y[l]) l--;
-    let r = i;
-    while (r < y.length - 1 && y[r + 1] <= y[r]) r++;
+    const l = runStart[i];
+    const r = runEnd[i];
     const base = Math.max(y[l], y[r]);
     const prominence = y[i] - base;
     if (!(prominence > minProminence)) continue;

@@ -5,7 +5,9 @@
  * overflowed the stack. The table is invented: Cauchy n = 1.45 + 0.004/λ²(µm), k = 0.
  * The CLI path runs once, on the same file, through `import --max-size 64 --fit cauchy --no-kk` and
  * `eval` (the KK check, the slowest step at about basis² × rows multiply-adds, runs once, above).
- * Slow by nature (tens of seconds on two shared cores): it is in test/reliability.
+ * Slow by nature (about a minute on two shared cores): it is in test/reliability. The table is written to 7
+ * decimals, as measured tables are: every rounding step of k is a small local maximum of ε2, which the KK check's
+ * peak search once walked in O(n²) (minutes here); test/kk/sharp.test.ts checks the O(n) search against the walk.
  */
 import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
