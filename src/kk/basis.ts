@@ -22,6 +22,20 @@ const WIDTH_FACTORS = [0.7, 1, 1.4];
 const MAX_SHARP_PEAKS = 6;
 
 /**
+ * For each point i of y: where the run of non-decreasing values that ends at i starts (`start[i]`, the lowest l
+ * with y[l] ≤ … ≤ y[i]) and where the run of non-increasing values from i ends (`end[i]`). Found once, O(n):
+ * walking them from every local maximum took O(n²) on measured tables, whose rounding makes a staircase of small
+ * maxima.
+ */
+export function flankingRuns(y: ArrayLike<number>): { start: Int32Array; end: Int32Array } {
+  const start = new Int32Array(y.length);
+  for (let i = 1; i < y.length; i++) start[i] = y[i - 1] <= y[i] ? start[i - 1] : i;
+  const end = new Int32Array(y.length).fill(y.length - 1);
+  for (let i = y.length - 2; i >= 0; i--) end[i] = y[i + 1] <= y[i] ? end[i + 1] : i;
+  return { start, end };
+}
+
+/**
  * Narrow ε2 peaks of the data → oscillator columns. A peak is a local maximum whose prominence above the
  * higher of its two flanking minima exceeds `minProminence` (10× the ε2 noise), with a full width at half
  * that prominence narrower than SHARP_SPACINGS knot spacings but at least 3 sample spacings (a narrower
@@ -38,12 +52,7 @@ export function sharpPeakColumns(
   const order = Array.from({ length: energyEv.length }, (_, i) => i).sort((a, b) => energyEv[a] - energyEv[b]);
   const e = order.map((i) => energyEv[i]);
   const y = order.map((i) => eps2[i]);
-  // Where the rising run through each point starts and the falling run ends, found once (O(n)): walking them
-  // from every local maximum took O(n²) on measured tables, whose rounding makes a staircase of small maxima.
-  const runStart = new Int32Array(y.length);
-  for (let i = 1; i < y.length; i++) runStart[i] = y[i - 1] <= y[i] ? runStart[i - 1] : i;
-  const runEnd = new Int32Array(y.length).fill(y.length - 1);
-  for (let i = y.length - 2; i >= 0; i--) runEnd[i] = y[i + 1] <= y[i] ? runEnd[i + 1] : i;
+  const { start: runStart, end: runEnd } = flankingRuns(y);
   const peaks: { e0: number; fwhm: number; prominence: number }[] = [];
   for (let i = 1; i < y.length - 1; i++) {
     if (!(y[i] > y[i - 1] && y[i] >= y[i + 1])) continue;
