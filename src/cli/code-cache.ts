@@ -14,9 +14,11 @@ import { readFileSync, writeFileSync } from 'node:fs';
 import Module, { createRequire } from 'node:module';
 import { dirname } from 'node:path';
 import { Script } from 'node:vm';
+import type { CliIo } from './io.ts';
 
+/** What a command bundle exports: run.ts's `run`. */
 export interface CommandBundle {
-  run(argv: string[], io?: { stdout?: { write(text: string): unknown }; stderr?: { write(text: string): unknown } }): Promise<number>;
+  run(argv: string[], io?: Partial<CliIo>): Promise<number>;
 }
 
 interface Compiled {

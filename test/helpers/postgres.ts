@@ -169,9 +169,13 @@ export async function createDatabase(adminUrl: string, prefix = 'nkledger_test')
 
 /**
  * A transaction held open: `start` gets the body to run inside it (e.g. `(body) => pgWriteTransaction(h, body)`);
- * resolves once the body runs (the lock is held), with `release()` to let it finish and `done` settling after.
+ * the body first runs `first` (e.g. a write whose row lock is to be held), then waits. Resolves once `first` is done
+ * inside the transaction, with `release()` to let it finish and `done` settling after.
  */
-export async function heldOpen(start: (body: () => Promise<void>) => Promise<unknown>): Promise<{ release: () => void; done: Promise<unknown> }> {
+export async function heldOpen(
+  start: (body: () => Promise<void>) => Promise<unknown>,
+  first: () => Promise<unknown> = async () => {},
+): Promise<{ release: () => void; done: Promise<unknown> }> {
   let release!: () => void;
   const released = new Promise<void>((resolve) => {
     release = resolve;
@@ -181,6 +185,7 @@ export async function heldOpen(start: (body: () => Promise<void>) => Promise<unk
     entered = resolve;
   });
   const done = start(async () => {
+    await first();
     entered();
     await released;
   });

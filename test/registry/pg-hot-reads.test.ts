@@ -98,20 +98,10 @@ describe.skipIf(!server.adminUrl)(`hot reads on PostgreSQL${server.adminUrl ? ''
   });
 
   it('pgNoteTokenUse skips, without waiting, a token row that a writer is changing, and never throws', async () => {
-    let release!: () => void;
-    const held = new Promise<void>((resolve) => {
-      release = resolve;
-    });
-    let updated!: () => void;
-    const rowLocked = new Promise<void>((resolve) => {
-      updated = resolve;
-    });
-    const writer = pgWriteTransaction(b, async () => {
-      await pgExecute(b, sql`UPDATE api_tokens SET expires_at = '2028-01-01T00:00:00.000Z' WHERE id = 'tok-ada'`);
-      updated();
-      await held;
-    });
-    await rowLocked;
+    const { release, done: writer } = await heldOpen(
+      (body) => pgWriteTransaction(b, body),
+      () => pgExecute(b, sql`UPDATE api_tokens SET expires_at = '2028-01-01T00:00:00.000Z' WHERE id = 'tok-ada'`),
+    );
     try {
       const started = performance.now();
       expect(await pgNoteTokenUse(a, 'tok-ada', '2026-03-01T08:00:00.000Z')).toBe(false);

@@ -47,23 +47,15 @@ describe.skipIf(!server.adminUrl)(`transactions on the PostgreSQL registry${serv
   });
 
   it('inside fn, handle.db sees the uncommitted row; outside (the pool, another handle) nothing, until the commit', async () => {
-    let release!: () => void;
-    const held = new Promise<void>((resolve) => {
-      release = resolve;
-    });
-    let inserted!: () => void;
-    const wasInserted = new Promise<void>((resolve) => {
-      inserted = resolve;
-    });
     const seenInside: string[][] = [];
-    const write = pgWriteTransaction(a, async () => {
-      expect(inPgTransaction(a)).toBe(true);
-      await a.db.insert(registrySettings).values(setting('uncommitted', '1'));
-      seenInside.push(await keys(a));
-      inserted();
-      await held;
-    });
-    await wasInserted;
+    const { release, done: write } = await heldOpen(
+      (body) => pgWriteTransaction(a, body),
+      async () => {
+        expect(inPgTransaction(a)).toBe(true);
+        await a.db.insert(registrySettings).values(setting('uncommitted', '1'));
+        seenInside.push(await keys(a));
+      },
+    );
     // This code runs outside fn's asynchronous context: a.db is the pool's here.
     expect(inPgTransaction(a)).toBe(false);
     expect(seenInside[0]).toContain('uncommitted');
